@@ -1,0 +1,5 @@
+"""``python -m cvfit``."""
+
+from .cli import main
+
+raise SystemExit(main())
