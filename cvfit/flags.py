@@ -1,0 +1,36 @@
+"""Flags: expected analysis failures and warnings as values with stable codes."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+__all__ = ["Flag"]
+
+
+@dataclass(frozen=True)
+class Flag:
+    """A finding about a voltammogram, a fit or a series.
+
+    Attributes
+    ----------
+    code : str
+        Stable upper-case identifier (``"NO_REVERSE_PEAK"``); tests and users key on it.
+    message : str
+        One sentence in words, with the numbers behind it and their units.
+    severity : {"info", "warning", "error"}
+        ``error`` means the quantity concerned could not be determined.
+    """
+
+    code: str
+    message: str
+    severity: Literal["info", "warning", "error"] = "warning"
+
+    def __post_init__(self) -> None:
+        if not self.code or not self.code.replace("_", "").isalnum() or not self.code.isupper():
+            raise ValueError(f"flag code must be UPPER_SNAKE_CASE, got {self.code!r}")
+        if self.severity not in ("info", "warning", "error"):
+            raise ValueError(f"unknown flag severity {self.severity!r}")
+
+    def to_dict(self) -> dict[str, str]:
+        return {"code": self.code, "message": self.message, "severity": self.severity}
