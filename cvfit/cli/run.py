@@ -1,0 +1,67 @@
+"""``cvfit run MANIFEST [--out DIR]``: analyse one titration series."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from ..errors import InputError
+from ..io import load_manifest
+from ..pipeline import analyse_series
+from ..report import OUTPUT_NAMES, format_summary, write_outputs
+
+
+def register(sub: argparse._SubParsersAction) -> None:
+    p = sub.add_parser(
+        "run",
+        help="analyse a titration series described by a TOML manifest",
+        description="Analyse a titration series: peaks, reversibility screen, Lingane fit.",
+    )
+    p.add_argument("manifest", help="the series manifest (TOML)")
+    p.add_argument(
+        "--out",
+        metavar="DIR",
+        help="output folder (default: MANIFEST-STEM_cvfit beside the manifest)",
+    )
+    p.add_argument("--quiet", action="store_true", help="print only where results went")
+    p.set_defaults(handler=handle)
+
+
+def default_out_dir(manifest_path: Path) -> Path:
+    return manifest_path.parent / f"{manifest_path.stem}_cvfit"
+
+
+def check_outputs_spare_inputs(out_dir: Path, inputs: list[Path], manifest: Path) -> None:
+    """Refuse an output folder where an output would replace an input file."""
+    protected = {p.resolve() for p in inputs}
+    for name in OUTPUT_NAMES.values():
+        target = (out_dir / name).resolve()
+        if target in protected:
+            raise InputError(
+                f"writing {name} into {out_dir} would overwrite the input file {target}; "
+                "choose another --out folder",
+                source=str(manifest),
+                key="--out",
+            )
+
+
+def run_manifest(manifest_path: Path, out: Path | None, *, quiet: bool = False) -> int:
+    manifest = load_manifest(manifest_path)
+    out_dir = out if out is not None else default_out_dir(manifest.path)
+    if out_dir.exists() and not out_dir.is_dir():
+        raise InputError(f"--out {out_dir} exists and is not a folder", source="<command line>")
+    check_outputs_spare_inputs(
+        out_dir, [manifest.path, *(e.file for e in manifest.voltammograms)], manifest.path
+    )
+    result = analyse_series(manifest)
+    written = write_outputs(result, out_dir)
+    if not quiet:
+        sys.stdout.write(format_summary(result) + "\n\n")
+    sys.stdout.write(f"results written to {out_dir}/ ({', '.join(p.name for p in written.values())})\n")
+    return 0
+
+
+def handle(args: argparse.Namespace) -> int:
+    return run_manifest(Path(args.manifest), Path(args.out) if args.out else None,
+                        quiet=args.quiet)

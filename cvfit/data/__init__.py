@@ -1,0 +1,1 @@
+"""Packaged data (the demo series)."""

@@ -1,0 +1,1 @@
+"""The bundled demo titration series (invented scenario, simulated by cvfit)."""

@@ -1,0 +1,270 @@
+"""Manifest → results: composition of the layers, no mathematics of its own.
+
+``analyse_series`` imports every voltammogram, finds its peaks, screens it for
+reversibility, takes the reference E½(s) from the ligand-free files (or the manifest),
+and fits the titration model to the usable points.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from pathlib import Path
+
+import numpy as np
+
+from . import __version__
+from .diagnostics import screen_reversibility
+from .errors import InputError
+from .flags import Flag
+from .io import Manifest, VoltammogramEntry, load_manifest, read_voltammogram
+from .peaks import analyse_peaks
+from .results import FileResult, ReferenceHalfWave, SeriesResult
+from .titration import TitrationPoint, fit_lingane
+
+__all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_EXCESS_MIN"]
+
+#: Fewest titration points (besides the reference) for a line with an interval.
+MIN_FIT_POINTS = 3
+#: Ligand excess over metal below which the free-ligand assumption is doubtful
+#: (common practice: keep the ligand in >= 10-fold excess).
+LIGAND_EXCESS_MIN = 10.0
+
+
+def analyse_manifest_file(path: str | Path) -> SeriesResult:
+    """Load a manifest and analyse its series."""
+    return analyse_series(load_manifest(path))
+
+
+def _analyse_file(entry: VoltammogramEntry, manifest: Manifest) -> FileResult:
+    series = manifest.series
+    v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
+    peaks = analyse_peaks(
+        v,
+        cycle=entry.import_options.cycle,
+        electrons=series.electrons,
+        temperature_K=series.temperature_K,
+    )
+    screen = screen_reversibility(
+        peaks,
+        electrons=series.electrons,
+        temperature_K=series.temperature_K,
+        criteria=manifest.reversibility,
+    )
+    flags = list(peaks.flags) + list(screen.flags)
+    metal = series.metal_total_M
+    if metal is not None and entry.ligand_M > 0 and entry.ligand_M < LIGAND_EXCESS_MIN * metal:
+        flags.append(
+            Flag(
+                "LOW_LIGAND_EXCESS",
+                f"ligand is only {entry.ligand_M / metal:.1f}-fold in excess over the metal "
+                f"({entry.ligand_M:.3g} M vs {metal:.3g} M); total ligand was used as free "
+                "ligand, which overstates [L] (keep >= 10-fold excess, common practice)",
+            )
+        )
+    return FileResult(
+        file=entry.name,
+        ligand_M=entry.ligand_M,
+        free_ligand_M=entry.ligand_M,
+        scan_rate_V_s=v.effective_scan_rate_V_s(),
+        peaks=peaks,
+        screen=screen,
+        used_in_fit=False,
+        flags=tuple(flags),
+        voltammogram=v,
+        label=entry.label,
+    )
+
+
+def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
+    """E½(s): mean of the usable ligand-free files, else the manifest value."""
+    free = [f for f in files if f.ligand_M == 0.0]
+    usable = [f for f in free if f.peaks.E_half_V is not None]
+    if usable:
+        values = np.array([f.peaks.E_half_V for f in usable], dtype=float)
+        errs = np.array(
+            [np.nan if f.peaks.E_half_stderr_V is None else f.peaks.E_half_stderr_V for f in usable]
+        )
+        mean = float(values.mean())
+        # Standard error of the mean: from the files' own errors, or from their scatter
+        # when several files disagree by more than those errors say.
+        from_errors = float(np.sqrt(np.nansum(errs**2))) / len(values)
+        if np.any(~np.isfinite(errs)):
+            from_errors = math.nan
+        from_scatter = (
+            float(values.std(ddof=1) / math.sqrt(len(values))) if len(values) > 1 else math.nan
+        )
+        candidates = [x for x in (from_errors, from_scatter) if math.isfinite(x)]
+        stderr = max(candidates) if candidates else None
+        return ReferenceHalfWave(mean, stderr, "file", tuple(f.file for f in usable))
+    if manifest.series.E_half_free_V is not None:
+        return ReferenceHalfWave(
+            manifest.series.E_half_free_V,
+            manifest.series.E_half_free_stderr_V,
+            "manifest",
+        )
+    if free:
+        return ReferenceHalfWave(None, None, "file", tuple(f.file for f in free))
+    raise InputError(
+        "no ligand-free voltammogram (ligand_M = 0) and no E_half_free_V in [series]; "
+        "add one of them so the shift of E½ can be measured",
+        source=str(manifest.path),
+        key="series.E_half_free_V",
+    )
+
+
+def analyse_series(manifest: Manifest) -> SeriesResult:
+    """Analyse one titration series described by a loaded manifest.
+
+    Parameters
+    ----------
+    manifest : Manifest
+        As returned by :func:`cvfit.io.load_manifest`.
+
+    Returns
+    -------
+    SeriesResult
+        Per-file peak data, the reversibility verdicts, the reference E½ and the fit
+        (``None`` with a series flag when fewer than three usable points remain).
+    """
+    series = manifest.series
+    if manifest.fit.model != "lingane":
+        raise InputError(
+            f"model {manifest.fit.model!r} is not available in this version of cvfit; "
+            'use model = "lingane"',
+            source=str(manifest.path),
+            key="fit.model",
+        )
+    titrating = [e for e in manifest.voltammograms if e.ligand_M > 0]
+    if len(titrating) < MIN_FIT_POINTS:
+        raise InputError(
+            f"the manifest lists {len(titrating)} voltammogram(s) with ligand_M > 0; a "
+            f"titration fit needs at least {MIN_FIT_POINTS} — add more [[voltammogram]] tables",
+            source=str(manifest.path),
+            key="voltammogram",
+        )
+    files = [_analyse_file(e, manifest) for e in manifest.voltammograms]
+    reference = _reference(files, manifest)
+    exclude = manifest.fit.exclude_non_nernstian
+    series_flags: list[Flag] = []
+
+    final: list[FileResult] = []
+    points: list[TitrationPoint] = []
+    excluded: list[str] = []
+    for f in files:
+        usable = f.ligand_M > 0 and f.peaks.E_half_V is not None
+        flags = list(f.flags)
+        if usable and exclude and f.reversible is not True:
+            usable = False
+            excluded.append(f.file)
+            flags.append(
+                Flag(
+                    "EXCLUDED_NON_NERNSTIAN",
+                    "left out of the fit because it failed the reversibility screen "
+                    "(set exclude_non_nernstian = false in [fit] to include it)",
+                    "info",
+                )
+            )
+        if usable:
+            points.append(
+                TitrationPoint(f.file, f.free_ligand_M, f.peaks.E_half_V, f.peaks.E_half_stderr_V)
+            )
+        final.append(
+            FileResult(
+                f.file, f.ligand_M, f.free_ligand_M, f.scan_rate_V_s, f.peaks, f.screen,
+                usable, tuple(flags), f.voltammogram, f.label,
+            )
+        )
+
+    nernstian = all(f.reversible is True for f in final)
+    if excluded:
+        series_flags.append(
+            Flag(
+                "FILES_EXCLUDED",
+                f"{len(excluded)} voltammogram(s) failed the reversibility screen and were "
+                f"not fitted: {', '.join(excluded)}",
+            )
+        )
+    if not exclude and not nernstian:
+        bad = [f.file for f in final if f.reversible is not True]
+        series_flags.append(
+            Flag(
+                "FIT_USES_FLAGGED_DATA",
+                "exclude_non_nernstian = false: the constants rest on voltammograms that "
+                f"failed the reversibility screen ({', '.join(bad)}); treat them with caution",
+            )
+        )
+    ref_ok = reference.E_half_V is not None
+    if not ref_ok:
+        series_flags.append(
+            Flag(
+                "NO_REFERENCE_E_HALF",
+                "E½ of the ligand-free couple could not be measured "
+                f"({', '.join(reference.files)}); give E_half_free_V in [series]",
+                "error",
+            )
+        )
+    elif reference.source == "file" and exclude and any(
+        f.reversible is not True for f in final if f.file in reference.files
+    ):
+        series_flags.append(
+            Flag(
+                "REFERENCE_NOT_NERNSTIAN",
+                "the ligand-free voltammogram failed the reversibility screen; its E½ is "
+                "used as E½(s) all the same, which may bias every shift",
+            )
+        )
+    if ref_ok and reference.stderr_V is None:
+        series_flags.append(
+            Flag(
+                "REFERENCE_UNCERTAINTY_UNKNOWN",
+                "no standard error for E½(s) (give E_half_free_stderr_V); the intercept's "
+                "interval leaves the reference uncertainty out",
+            )
+        )
+
+    fit = None
+    if ref_ok and len(points) >= MIN_FIT_POINTS:
+        fit = fit_lingane(
+            points,
+            electrons=series.electrons,
+            temperature_K=series.temperature_K,
+            reference_E_half_V=reference.E_half_V,
+            reference_stderr_V=reference.stderr_V,
+        )
+    elif ref_ok:
+        series_flags.append(
+            Flag(
+                "TOO_FEW_POINTS",
+                f"only {len(points)} usable titration point(s) (ligand_M > 0, peaks found"
+                f"{', Nernstian' if exclude else ''}); at least {MIN_FIT_POINTS} are needed "
+                "for a fit with an interval — no constants reported",
+                "error",
+            )
+        )
+
+    return SeriesResult(
+        cvfit_version=__version__,
+        manifest=str(manifest.path),
+        series={
+            "title": series.title,
+            "electrons": series.electrons,
+            "temperature_K": series.temperature_K,
+            "temperature_C": series.temperature_C,
+            "metal_total_M": series.metal_total_M,
+            "E_half_free_V": series.E_half_free_V,
+            "reference_electrode": series.reference_electrode,
+            "model": manifest.fit.model,
+        },
+        files=tuple(final),
+        reference=reference,
+        fit=fit,
+        nernstian=nernstian,
+        exclude_non_nernstian=exclude,
+        criteria={
+            "n_delta_Ep_margin_V": manifest.reversibility.n_delta_Ep_margin_V,
+            "n_peak_width_margin_V": manifest.reversibility.n_peak_width_margin_V,
+            "current_ratio_margin": manifest.reversibility.current_ratio_margin,
+        },
+        flags=tuple(series_flags),
+    )

@@ -1,0 +1,45 @@
+"""Outputs of a series analysis: results.json, the per-file table, figures, summary."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from ..results import SeriesResult
+from .json_out import results_to_json, write_results_json
+from .summary import format_summary
+from .table import write_file_table
+
+__all__ = [
+    "OUTPUT_NAMES",
+    "write_outputs",
+    "write_results_json",
+    "results_to_json",
+    "write_file_table",
+    "format_summary",
+]
+
+#: File names written into the output folder.
+OUTPUT_NAMES = {
+    "results": "results.json",
+    "table": "voltammograms.csv",
+    "voltammograms_figure": "voltammograms.png",
+    "lingane_figure": "half_wave_shift.png",
+}
+
+
+def write_outputs(result: SeriesResult, out_dir: str | Path) -> dict[str, Path]:
+    """Write every output of *result* into *out_dir* (created if needed)."""
+    from .figures import plot_lingane, plot_voltammograms
+
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    written = {
+        "table": write_file_table(result, out / OUTPUT_NAMES["table"]),
+        "voltammograms_figure": plot_voltammograms(
+            result, out / OUTPUT_NAMES["voltammograms_figure"]
+        ),
+        "lingane_figure": plot_lingane(result, out / OUTPUT_NAMES["lingane_figure"]),
+    }
+    # results.json last: its presence means the run finished.
+    written["results"] = write_results_json(result, out / OUTPUT_NAMES["results"])
+    return written

@@ -1,0 +1,134 @@
+"""Figures of a series: overlaid voltammograms and the E½ shift against log10[L].
+
+Style of our own: a perceptually uniform colour map (cividis, readable with the common
+colour-vision deficiencies), open markers for points left out of the fit, and curves
+thinned to at most ``MAX_POINTS_DRAWN`` points (thousands of points do not show more).
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+import numpy as np  # noqa: E402
+from matplotlib import colors as mcolors  # noqa: E402
+from scipy import stats  # noqa: E402
+
+from ..results import SeriesResult  # noqa: E402
+from ._atomic import atomic_path  # noqa: E402
+
+__all__ = ["plot_voltammograms", "plot_lingane", "MAX_POINTS_DRAWN", "COLOUR_MAP"]
+
+MAX_POINTS_DRAWN = 1500
+COLOUR_MAP = "cividis"
+_STYLE = {
+    "font.size": 9,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "axes.grid": True,
+    "grid.alpha": 0.25,
+    "figure.dpi": 110,
+}
+
+
+def _thin(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    step = max(1, math.ceil(x.size / MAX_POINTS_DRAWN))
+    return x[::step], y[::step]
+
+
+def _save(fig: plt.Figure, path: Path) -> Path:
+    with atomic_path(path) as tmp:
+        fig.savefig(tmp, format=path.suffix.lstrip(".") or "png", bbox_inches="tight")
+    plt.close(fig)
+    return path
+
+
+def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
+    """Overlay the analysed cycle of every file, coloured by ligand concentration."""
+    path = Path(path)
+    with plt.rc_context(_STYLE):
+        fig, ax = plt.subplots(figsize=(6.4, 4.4))
+        positive = [f.ligand_M for f in result.files if f.ligand_M > 0]
+        cmap = plt.get_cmap(COLOUR_MAP)
+        norm = None
+        if positive:
+            lo, hi = min(positive), max(positive)
+            if hi <= lo:
+                lo, hi = lo / 2, hi * 2
+            norm = mcolors.LogNorm(vmin=lo, vmax=hi)
+        for f in result.files:
+            v = f.voltammogram
+            cyc = v.cycle(f.peaks.cycle_number) if f.peaks.cycle_number else v.cycle()
+            stop = cyc.reverse.stop if cyc.reverse is not None else cyc.forward.stop
+            E = v.potential_V[cyc.forward.start : stop + 1]
+            i = v.current_A[cyc.forward.start : stop + 1]
+            E, i = _thin(E, i)
+            if f.ligand_M > 0 and norm is not None:
+                kw = {"color": cmap(norm(f.ligand_M)), "lw": 1.1}
+            else:
+                kw = {"color": "0.15", "lw": 1.1, "ls": "--"}
+            if f.reversible is not True:
+                kw["alpha"] = 0.55
+            ax.plot(E, i * 1e6, **kw, label="no ligand" if f.ligand_M == 0 else None)
+        ax.set_xlabel("E / V" + (f" vs {result.series['reference_electrode']}"
+                                 if result.series.get("reference_electrode") else ""))
+        ax.set_ylabel("i / µA  (anodic positive)")
+        if norm is not None:
+            sm = plt.cm.ScalarMappable(norm=norm, cmap=cmap)
+            cb = fig.colorbar(sm, ax=ax, pad=0.02)
+            cb.set_label("total ligand [L] / mol L$^{-1}$")
+        if any(f.ligand_M == 0 for f in result.files):
+            ax.legend(loc="best", frameon=False)
+        ax.set_title(result.series.get("title") or "voltammograms", fontsize=9)
+        return _save(fig, path)
+
+
+def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
+    """E½(c) − E½(s) against log10[L] with the fitted line, its 95 % band and residuals."""
+    path = Path(path)
+    ref = result.reference.E_half_V
+    with plt.rc_context(_STYLE):
+        fig, (ax, axr) = plt.subplots(
+            2, 1, figsize=(6.0, 5.2), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
+        )
+        pts = [f for f in result.files if f.ligand_M > 0 and f.peaks.E_half_V is not None]
+        if ref is None or not pts:
+            ax.text(0.5, 0.5, "no E½ shift could be measured", ha="center",
+                    transform=ax.transAxes)
+            return _save(fig, path)
+        x = np.log10([f.free_ligand_M for f in pts])
+        y = np.array([(f.peaks.E_half_V - ref) * 1e3 for f in pts])
+        yerr = np.array([(f.peaks.E_half_stderr_V or 0.0) * 1e3 for f in pts])
+        used = np.array([f.used_in_fit for f in pts])
+        ax.errorbar(x[used], y[used], yerr=yerr[used], fmt="o", color="#1f4e79", ms=5,
+                    capsize=2, label="used in fit")
+        if np.any(~used):
+            ax.errorbar(x[~used], y[~used], yerr=yerr[~used], fmt="o", mfc="none",
+                        color="#b35900", ms=6, capsize=2, label="flagged, not fitted")
+        fit = result.fit
+        if fit is not None:
+            xs = np.linspace(x.min() - 0.1, x.max() + 0.1, 200)
+            b, a = fit.slope_V_per_decade.value, fit.intercept_V.value
+            cov = np.asarray(fit.covariance, dtype=float)
+            line = (a + b * xs) * 1e3
+            var = cov[1, 1] + xs**2 * cov[0, 0] + 2 * xs * cov[0, 1]
+            tq = stats.t.ppf(0.975, fit.dof) if fit.dof > 0 else float("nan")
+            half = tq * np.sqrt(np.clip(var, 0, None)) * 1e3
+            ax.plot(xs, line, color="#1f4e79", lw=1.2,
+                    label=f"Lingane line, slope {b * 1e3:.1f} mV/decade")
+            ax.fill_between(xs, line - half, line + half, color="#1f4e79", alpha=0.15,
+                            lw=0, label="95 % band of the line")
+            res = np.asarray(fit.residuals_V) * 1e3
+            axr.axhline(0, color="0.4", lw=0.8)
+            axr.errorbar(x[used], res, yerr=yerr[used], fmt="o", color="#1f4e79", ms=4,
+                         capsize=2)
+        axr.set_ylabel("residual / mV")
+        axr.set_xlabel("log10([L] / mol L$^{-1}$)")
+        ax.set_ylabel("E½(c) − E½(s) / mV")
+        ax.legend(loc="best", frameon=False, fontsize=8)
+        ax.set_title(result.series.get("title") or "half-wave shift", fontsize=9)
+        return _save(fig, path)

@@ -1,0 +1,37 @@
+"""Number formatting for people: value ± uncertainty with matching digits."""
+
+from __future__ import annotations
+
+import math
+
+__all__ = ["format_pm", "format_value"]
+
+
+def _digits_for(stderr: float) -> int:
+    """Decimals that show two significant digits of *stderr*."""
+    if not (math.isfinite(stderr) and stderr > 0):
+        return 3
+    return max(0, 1 - int(math.floor(math.log10(stderr))))
+
+
+def format_pm(value: float | None, stderr: float | None, *, scale: float = 1.0,
+              unit: str = "") -> str:
+    """``"5.412 ± 0.018 unit"``; ``"n/d"`` when the value is missing."""
+    if value is None or not math.isfinite(value):
+        return "n/d"
+    v = value * scale
+    tail = f" {unit}" if unit else ""
+    if stderr is None or not math.isfinite(stderr):
+        return f"{v:.4g}{tail} (uncertainty unknown)"
+    s = stderr * scale
+    d = _digits_for(s)
+    return f"{v:.{d}f} ± {s:.{d}f}{tail}"
+
+
+def format_value(value: float | None, *, scale: float = 1.0, digits: int = 1,
+                 unit: str = "") -> str:
+    """Fixed-decimal value with unit; ``"n/d"`` when missing."""
+    if value is None or not math.isfinite(value):
+        return "n/d"
+    tail = f" {unit}" if unit else ""
+    return f"{value * scale:.{digits}f}{tail}"

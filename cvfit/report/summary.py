@@ -1,0 +1,85 @@
+"""Readable terminal summary of a series analysis (returned as text; cli prints it)."""
+
+from __future__ import annotations
+
+from ..quantity import Quantity
+from ..results import SeriesResult
+from .formatting import format_pm, format_value
+
+__all__ = ["format_summary"]
+
+
+def _q(q: Quantity, *, scale: float = 1.0, unit: str = "", digits: int | None = None) -> str:
+    text = format_pm(q.value, q.stderr, scale=scale, unit=unit)
+    lo, hi = q.ci95
+    if text == "n/d":
+        return text
+    if digits is None:
+        digits = max(0, len(text.split(" ± ")[0].split(".")[-1])) if "." in text else 0
+    return f"{text}   95 % CI [{lo * scale:.{digits}f}, {hi * scale:.{digits}f}]"
+
+
+def format_summary(result: SeriesResult) -> str:
+    """A few dozen lines: conditions, per-file table, constants with intervals, flags."""
+    s = result.series
+    lines = []
+    title = s.get("title") or "(untitled series)"
+    lines.append(f"cvfit {result.cvfit_version} — {title}")
+    cond = f"n = {s['electrons']}, T = {s['temperature_K']:.2f} K"
+    if s.get("reference_electrode"):
+        cond += f", potentials vs {s['reference_electrode']}"
+    lines.append(cond)
+    ref = result.reference
+    lines.append(
+        "E½(s), ligand-free: "
+        + format_pm(ref.E_half_V, ref.stderr_V, scale=1e3, unit="mV")
+        + f"  (from {ref.source}{': ' + ', '.join(ref.files) if ref.files else ''})"
+    )
+    lines.append("")
+    header = (
+        f"{'file':<22} {'[L]/M':>9} {'E½/mV':>16} {'ΔEp/mV':>7} {'Nernst':>7} "
+        f"{'ipa/ipc':>7} {'rev':>4} {'fit':>4}"
+    )
+    lines.append(header)
+    lines.append("-" * len(header))
+    for f in result.files:
+        p = f.peaks
+        e_half = format_pm(p.E_half_V, p.E_half_stderr_V, scale=1e3)
+        rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
+        name = f.file if len(f.file) <= 22 else "…" + f.file[-21:]
+        lines.append(
+            f"{name:<22} {f.ligand_M:>9.3g} {e_half:>16} "
+            f"{format_value(p.delta_Ep_V, scale=1e3):>7} "
+            f"{format_value(f.screen.expected_delta_Ep_V, scale=1e3):>7} "
+            f"{format_value(p.current_ratio, digits=2):>7} {rev:>4} "
+            f"{'yes' if f.used_in_fit else '-':>4}"
+        )
+    lines.append("")
+    fit = result.fit
+    if fit is None:
+        lines.append("No constants: see the series flags below.")
+    else:
+        lines.append(f"Lingane fit on {fit.n_points} points ({fit.dof} degrees of freedom, "
+                     f"{'weighted by per-file E½ errors' if fit.weighted else 'unweighted'}):")
+        lines.append("  slope                 " + _q(fit.slope_V_per_decade, scale=1e3,
+                                                      unit="mV/decade"))
+        lines.append("  p − q                 " + _q(fit.delta_ligands))
+        lines.append("  log10(β_ox/β_red)     " + _q(fit.log10_beta_ratio))
+        lines.append(
+            f"  with p − q = {fit.delta_ligands_integer}:       "
+            + _q(fit.log10_beta_ratio_at_integer)
+        )
+        lines.append("  (β_ox/β_red in (mol/L)^-(p−q); [L] in mol/L)")
+    lines.append("")
+    lines.append(
+        "Nernstian throughout: " + ("yes" if result.nernstian else "NO — see flags")
+    )
+    flagged = [(f.file, fl) for f in result.files for fl in f.flags if fl.severity != "info"]
+    series_flags = list(result.flags) + (list(fit.flags) if fit is not None else [])
+    if flagged or series_flags:
+        lines.append("Flags:")
+        for fl in series_flags:
+            lines.append(f"  [series] {fl.code}: {fl.message}")
+        for name, fl in flagged:
+            lines.append(f"  [{name}] {fl.code}: {fl.message}")
+    return "\n".join(lines)

@@ -1,0 +1,58 @@
+"""Per-file CSV table of peak data and verdicts."""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+from typing import IO
+
+from ..results import SeriesResult
+from ._atomic import atomic_write_with
+
+__all__ = ["TABLE_COLUMNS", "write_file_table"]
+
+#: Columns of the per-file table, with units in the names.
+TABLE_COLUMNS = (
+    "file",
+    "ligand_M",
+    "free_ligand_M",
+    "scan_rate_V_s",
+    "Epc_V",
+    "Epa_V",
+    "E_half_V",
+    "E_half_stderr_V",
+    "delta_Ep_V",
+    "expected_delta_Ep_V",
+    "ipc_A",
+    "ipa_A",
+    "current_ratio",
+    "reversible",
+    "used_in_fit",
+    "flags",
+)
+
+
+def _cell(value: object) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, float):
+        return f"{value:.10g}"
+    return str(value)
+
+
+def write_file_table(result: SeriesResult, path: str | Path) -> Path:
+    """Write one row per voltammogram (empty cell = not determined)."""
+    path = Path(path)
+
+    def writer(fh: IO[str]) -> None:
+        w = csv.writer(fh, lineterminator="\n")
+        w.writerow(TABLE_COLUMNS)
+        for f in result.files:
+            d = f.to_dict()
+            d["flags"] = " ".join(fl["code"] for fl in d["flags"])
+            w.writerow([_cell(d.get(c)) for c in TABLE_COLUMNS])
+
+    atomic_write_with(path, writer)
+    return path

@@ -1,0 +1,185 @@
+"""Plain result records of a series analysis and their results.json form.
+
+The records are frozen and carry everything the reports need; ``to_dict`` gives the
+results.json contract of DESIGN.md (NaN and missing values become ``null``).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any
+
+from .flags import Flag
+
+if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
+    from .diagnostics import ReversibilityScreen
+    from .peaks import PeakAnalysis
+    from .titration import LinganeFit
+    from .voltammogram import Voltammogram
+
+__all__ = ["FileResult", "ReferenceHalfWave", "SeriesResult", "clean_number"]
+
+
+def clean_number(x: float | None) -> float | None:
+    """A float for JSON: ``None`` for missing, NaN or infinite values."""
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+@dataclass(frozen=True)
+class FileResult:
+    """Everything found for one voltammogram of the series.
+
+    Attributes
+    ----------
+    file : str
+        The file name as written in the manifest.
+    ligand_M : float
+        Total ligand concentration, mol/L.
+    free_ligand_M : float
+        Free ligand concentration used in the fit, mol/L.
+    scan_rate_V_s : float or None
+        Scan rate, V/s (manifest, else from the time column).
+    peaks : PeakAnalysis
+        Peak positions and heights.
+    screen : ReversibilityScreen
+        Outcome of the reversibility screen.
+    used_in_fit : bool
+        Whether the point entered the titration fit.
+    flags : tuple of Flag
+        Findings of the peak analysis, the screen and the pipeline.
+    voltammogram : Voltammogram
+        The imported record (for figures; not written to results.json).
+    label : str or None
+        Optional label from the manifest.
+    """
+
+    file: str
+    ligand_M: float
+    free_ligand_M: float
+    scan_rate_V_s: float | None
+    peaks: PeakAnalysis
+    screen: ReversibilityScreen
+    used_in_fit: bool
+    flags: tuple[Flag, ...]
+    voltammogram: Voltammogram = field(repr=False, compare=False)
+    label: str | None = None
+
+    @property
+    def reversible(self) -> bool | None:
+        return self.screen.reversible
+
+    def to_dict(self) -> dict[str, Any]:
+        p = self.peaks
+        return {
+            "file": self.file,
+            "label": self.label,
+            "ligand_M": clean_number(self.ligand_M),
+            "free_ligand_M": clean_number(self.free_ligand_M),
+            "scan_rate_V_s": clean_number(self.scan_rate_V_s),
+            "cycle": p.cycle_number,
+            "first_sweep": p.first_sweep,
+            "switching_potential_V": clean_number(p.switching_potential_V),
+            "Epc_V": clean_number(p.Epc_V),
+            "Epa_V": clean_number(p.Epa_V),
+            "E_half_V": clean_number(p.E_half_V),
+            "E_half_stderr_V": clean_number(p.E_half_stderr_V),
+            "delta_Ep_V": clean_number(p.delta_Ep_V),
+            "expected_delta_Ep_V": clean_number(self.screen.expected_delta_Ep_V),
+            "Ep_half_c_V": clean_number(p.Ep_half_c_V),
+            "Ep_half_a_V": clean_number(p.Ep_half_a_V),
+            "ipc_A": clean_number(p.ipc_A),
+            "ipa_A": clean_number(p.ipa_A),
+            "current_ratio": clean_number(p.current_ratio),
+            "noise_A": clean_number(p.noise_A),
+            "reversible": self.screen.reversible,
+            "used_in_fit": self.used_in_fit,
+            "flags": [f.to_dict() for f in self.flags],
+        }
+
+
+@dataclass(frozen=True)
+class ReferenceHalfWave:
+    """E½ of the uncomplexed couple, E½(s), and where it came from.
+
+    Attributes
+    ----------
+    E_half_V : float or None
+        Reference half-wave potential, V (None when it could not be measured).
+    stderr_V : float or None
+        Its standard error, V (None when unknown).
+    source : str
+        ``"file"`` (mean of the ligand-free voltammograms) or ``"manifest"``.
+    files : tuple of str
+        The ligand-free files it was taken from.
+    """
+
+    E_half_V: float | None
+    stderr_V: float | None
+    source: str
+    files: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "E_half_V": clean_number(self.E_half_V),
+            "stderr_V": clean_number(self.stderr_V),
+            "source": self.source,
+            "files": list(self.files),
+        }
+
+
+@dataclass(frozen=True)
+class SeriesResult:
+    """The analysis of one titration series.
+
+    Attributes
+    ----------
+    cvfit_version : str
+    manifest : str
+        Path of the manifest analysed.
+    series : dict
+        Conditions of the series (title, electrons, temperature_K, ...), JSON-ready.
+    files : tuple of FileResult
+        One per voltammogram, in manifest order.
+    reference : ReferenceHalfWave
+    fit : LinganeFit or None
+        None when no fit could be made (see ``flags``).
+    nernstian : bool
+        False when any voltammogram failed (or could not pass) the reversibility screen.
+    exclude_non_nernstian : bool
+        Whether flagged voltammograms were kept out of the fit.
+    criteria : dict
+        The reversibility margins applied, JSON-ready.
+    flags : tuple of Flag
+        Series-level findings.
+    """
+
+    cvfit_version: str
+    manifest: str
+    series: dict[str, Any]
+    files: tuple[FileResult, ...]
+    reference: ReferenceHalfWave
+    fit: LinganeFit | None
+    nernstian: bool
+    exclude_non_nernstian: bool
+    criteria: dict[str, float]
+    flags: tuple[Flag, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        fit: dict[str, Any] | None
+        fit = None if self.fit is None else self.fit.to_dict()
+        return {
+            "cvfit_version": self.cvfit_version,
+            "manifest": self.manifest,
+            "series": dict(self.series),
+            "nernstian": self.nernstian,
+            "exclude_non_nernstian": self.exclude_non_nernstian,
+            "reversibility_criteria": dict(self.criteria),
+            "reference": self.reference.to_dict(),
+            "voltammograms": [f.to_dict() for f in self.files],
+            "fit": fit,
+            "flags": [f.to_dict() for f in self.flags],
+        }
