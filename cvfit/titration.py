@@ -463,5 +463,5 @@ def fit_lingane(
         reduced_chi_square=redchi_w,
         flags=tuple(flags),
         nernst_slope_V_per_decade=slope_nernst,
-        intercept_dof=intercept_dof,
+        intercept_dof=float(intercept_dof),
     )
