@@ -1,0 +1,23 @@
+"""Reading instrument exports and series manifests.
+
+``read_voltammogram`` turns a delimited text export into a :class:`cvfit.Voltammogram`
+(V, A, s, anodic current positive); ``load_manifest`` reads the TOML manifest of a series.
+"""
+
+from __future__ import annotations
+
+from .manifest import FitSettings, Manifest, SeriesSettings, VoltammogramEntry, load_manifest
+from .options import ImportOptions
+from .reader import parse_voltammogram_bytes, parse_voltammogram_text, read_voltammogram
+
+__all__ = [
+    "ImportOptions",
+    "read_voltammogram",
+    "parse_voltammogram_text",
+    "parse_voltammogram_bytes",
+    "load_manifest",
+    "Manifest",
+    "SeriesSettings",
+    "FitSettings",
+    "VoltammogramEntry",
+]

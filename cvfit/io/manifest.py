@@ -1,0 +1,469 @@
+"""The TOML manifest of a titration series (see DESIGN.md, "Manifest").
+
+:func:`load_manifest` reads it with :mod:`tomllib`, rejects unknown keys by name (with the
+closest valid spelling), checks every value and returns frozen records. Error messages
+name the manifest, the line of the offending key where it can be found, and the key path
+(``series.electrons``, ``voltammogram[3].file``).
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import os
+import re
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Literal
+
+from ..criteria import ReversibilityCriteria
+from ..errors import InputError
+from ..units import celsius_to_kelvin
+from .options import IMPORT_KEYS, ImportOptions
+from .text import split_lines
+
+__all__ = ["Manifest", "SeriesSettings", "FitSettings", "VoltammogramEntry", "load_manifest"]
+
+SERIES_KEYS = (
+    "title",
+    "temperature_C",
+    "electrons",
+    "metal_total_M",
+    "E_half_free_V",
+    "E_half_free_stderr_V",
+    "reference_electrode",
+)
+FIT_KEYS = ("model", "max_complexes", "exclude_non_nernstian")
+REVERSIBILITY_KEYS = ("n_delta_Ep_margin_V", "n_peak_width_margin_V", "current_ratio_margin")
+ENTRY_KEYS = ("file", "ligand_M", "scan_rate_V_s", "label", *IMPORT_KEYS)
+TABLES = ("series", "import", "fit", "reversibility", "voltammogram")
+MAX_COMPLEXES_LIMIT = 8
+
+
+def _is_number(value: object) -> bool:
+    return isinstance(value, int | float) and not isinstance(value, bool)
+
+
+def _need_number(value: object, key: str, *, optional: bool = True) -> float | None:
+    if value is None and optional:
+        return None
+    if not _is_number(value) or not math.isfinite(float(value)):
+        raise InputError(f"{key} must be a finite number, got {value!r}", key=key)
+    return float(value)
+
+
+def _need_text(value: object, key: str) -> None:
+    if value is not None and not isinstance(value, str):
+        raise InputError(f"{key} must be a text string, got {value!r}", key=key)
+
+
+@dataclass(frozen=True, kw_only=True)
+class SeriesSettings:
+    """The ``[series]`` table.
+
+    Attributes
+    ----------
+    title : str
+        Free text (default: the manifest's file name without extension).
+    temperature_C : float
+        Cell temperature, °C, 0–100 (default 25).
+    electrons : int
+        n of the couple, a positive whole number.
+    metal_total_M : float or None
+        Analytical metal concentration, mol/L (> 0), for the free-ligand correction.
+    E_half_free_V, E_half_free_stderr_V : float or None
+        E½ of the uncomplexed couple, V, and its standard error, V (>= 0), used when the
+        series has no ligand-free file.
+    reference_electrode : str or None
+        Free text, echoed in reports.
+    """
+
+    title: str = ""
+    temperature_C: float = 25.0
+    electrons: int
+    metal_total_M: float | None = None
+    E_half_free_V: float | None = None
+    E_half_free_stderr_V: float | None = None
+    reference_electrode: str | None = None
+
+    def __post_init__(self) -> None:
+        _need_text(self.title, "title")
+        _need_text(self.reference_electrode, "reference_electrode")
+        e = self.electrons
+        if isinstance(e, bool) or not isinstance(e, int) or e < 1:
+            raise InputError(
+                f"electrons must be a positive whole number, got {e!r}", key="electrons"
+            )
+        t = _need_number(self.temperature_C, "temperature_C", optional=False)
+        if not 0.0 <= t <= 100.0:
+            raise InputError(
+                f"temperature_C must lie within 0–100 °C, got {t:g}", key="temperature_C"
+            )
+        object.__setattr__(self, "temperature_C", t)
+        m = _need_number(self.metal_total_M, "metal_total_M")
+        if m is not None and m <= 0:
+            raise InputError(
+                f"metal_total_M must be positive (mol/L), got {m:g}", key="metal_total_M"
+            )
+        object.__setattr__(self, "metal_total_M", m)
+        object.__setattr__(
+            self, "E_half_free_V", _need_number(self.E_half_free_V, "E_half_free_V")
+        )
+        s = _need_number(self.E_half_free_stderr_V, "E_half_free_stderr_V")
+        if s is not None and s < 0:
+            raise InputError(
+                f"E_half_free_stderr_V must be >= 0 V, got {s:g}", key="E_half_free_stderr_V"
+            )
+        if s is not None and self.E_half_free_V is None:
+            raise InputError(
+                "E_half_free_stderr_V is given without E_half_free_V; add "
+                "E_half_free_V or remove the standard error",
+                key="E_half_free_stderr_V",
+            )
+        object.__setattr__(self, "E_half_free_stderr_V", s)
+
+    @property
+    def temperature_K(self) -> float:
+        """Temperature, K."""
+        return celsius_to_kelvin(self.temperature_C)
+
+
+@dataclass(frozen=True, kw_only=True)
+class FitSettings:
+    """The ``[fit]`` table.
+
+    Attributes
+    ----------
+    model : {"lingane", "stepwise"}
+        Titration model (default lingane).
+    max_complexes : int
+        Highest j tried by the stepwise model, 1–8 (default 4).
+    exclude_non_nernstian : bool
+        Flagged voltammograms are reported but not fitted (default true).
+    """
+
+    model: Literal["lingane", "stepwise"] = "lingane"
+    max_complexes: int = 4
+    exclude_non_nernstian: bool = True
+
+    def __post_init__(self) -> None:
+        if self.model not in ("lingane", "stepwise"):
+            raise InputError(
+                f"model must be 'lingane' or 'stepwise', got {self.model!r}", key="model"
+            )
+        j = self.max_complexes
+        if isinstance(j, bool) or not isinstance(j, int) or not 1 <= j <= MAX_COMPLEXES_LIMIT:
+            raise InputError(
+                f"max_complexes must be a whole number 1–{MAX_COMPLEXES_LIMIT}, got {j!r}",
+                key="max_complexes",
+            )
+        if not isinstance(self.exclude_non_nernstian, bool):
+            raise InputError(
+                f"exclude_non_nernstian must be true or false, got {self.exclude_non_nernstian!r}",
+                key="exclude_non_nernstian",
+            )
+
+
+@dataclass(frozen=True, kw_only=True)
+class VoltammogramEntry:
+    """One ``[[voltammogram]]`` table.
+
+    Attributes
+    ----------
+    file : Path
+        Absolute path, resolved against the manifest's folder.
+    name : str
+        The file name as written in the manifest.
+    ligand_M : float
+        Total ligand concentration, mol/L (>= 0).
+    scan_rate_V_s : float or None
+        Scan rate, V/s (> 0), else taken from a time column.
+    import_options : ImportOptions
+        Series-wide ``[import]`` merged with this table's own import keys.
+    label : str or None
+        Free text for legends.
+    """
+
+    file: Path
+    name: str
+    ligand_M: float
+    scan_rate_V_s: float | None = None
+    import_options: ImportOptions = ImportOptions()
+    label: str | None = None
+
+    def __post_init__(self) -> None:
+        _need_text(self.label, "label")
+        if not isinstance(self.name, str) or not self.name.strip():
+            raise InputError(
+                f"file must be a non-empty text string, got {self.name!r}", key="file"
+            )
+        c = _need_number(self.ligand_M, "ligand_M", optional=False)
+        if c < 0:
+            raise InputError(f"ligand_M must be >= 0 mol/L, got {c:g}", key="ligand_M")
+        object.__setattr__(self, "ligand_M", c)
+        v = _need_number(self.scan_rate_V_s, "scan_rate_V_s")
+        if v is not None and v <= 0:
+            raise InputError(
+                f"scan_rate_V_s must be positive (V/s), got {v:g}", key="scan_rate_V_s"
+            )
+        object.__setattr__(self, "scan_rate_V_s", v)
+        object.__setattr__(self, "file", Path(self.file))
+
+
+@dataclass(frozen=True, kw_only=True)
+class Manifest:
+    """A loaded series manifest."""
+
+    path: Path
+    folder: Path
+    series: SeriesSettings
+    import_options: ImportOptions
+    fit: FitSettings
+    reversibility: ReversibilityCriteria
+    voltammograms: tuple[VoltammogramEntry, ...]
+
+
+class _Locator:
+    """Line numbers of tables and keys in the raw TOML text (best effort)."""
+
+    def __init__(self, text: str) -> None:
+        self.lines = split_lines(text)
+
+    def _table_start(self, table: str, index: int | None) -> int | None:
+        pattern = (
+            re.compile(rf"^\s*\[\[\s*{table}\s*\]\]")
+            if index is not None
+            else re.compile(rf"^\s*\[\s*{table}\s*\]")
+        )
+        seen = 0
+        for k, line in enumerate(self.lines):
+            if pattern.match(line):
+                seen += 1
+                if index is None or seen == index:
+                    return k
+        return None
+
+    def line(self, table: str | None, key: str | None = None, index: int | None = None):
+        start = -1 if table is None else self._table_start(table, index)
+        if start is None:
+            return None
+        if key is None:
+            return start + 1
+        key_re = re.compile(rf"^\s*[\"']?{re.escape(key)}[\"']?\s*=")
+        for k in range(start + 1, len(self.lines)):
+            if k > start + 1 and table is not None and re.match(r"^\s*\[", self.lines[k]):
+                break
+            if table is None and re.match(r"^\s*\[", self.lines[k]):
+                break
+            if key_re.match(self.lines[k]):
+                return k + 1
+        return start + 1 if table is not None else None
+
+
+class _Loader:
+    def __init__(self, path: Path, text: str) -> None:
+        self.path = path
+        self.source = str(path)
+        self.where = _Locator(text)
+
+    def fail(self, message: str, keypath: str, line: int | None) -> InputError:
+        return InputError(f"{keypath}: {message}", source=self.source, line=line, key=keypath)
+
+    def check_keys(self, table: dict, valid: tuple[str, ...], name: str, index: int | None):
+        for key in table:
+            if key in valid:
+                continue
+            close = difflib.get_close_matches(key, valid, n=1, cutoff=0.6)
+            hint = f"did you mean {close[0]!r}?" if close else "valid keys: " + ", ".join(valid)
+            label = f"[[{name}]] #{index}" if index is not None else f"[{name}]"
+            if name == "":
+                label = "top level"
+            raise self.fail(
+                f"unknown key {key!r} in {label}; {hint}",
+                self.keypath(name, key, index),
+                self.where.line(name or None, key, index),
+            )
+
+    @staticmethod
+    def keypath(table: str, key: str | None, index: int | None) -> str:
+        base = f"{table}[{index}]" if index is not None else table
+        if not base:
+            return key or ""
+        return f"{base}.{key}" if key else base
+
+    def table(self, data: dict, name: str) -> dict:
+        value = data.get(name, {})
+        if not isinstance(value, dict):
+            raise self.fail(
+                f"must be a table ([{name}]), got {value!r}", name, self.where.line(None, name)
+            )
+        return value
+
+    def build(self, cls, values: dict, table: str, index: int | None = None):
+        try:
+            return cls(**values)
+        except InputError as exc:
+            key = exc.key
+            raise self.fail(
+                exc.message, self.keypath(table, key, index), self.where.line(table, key, index)
+            ) from None
+        except ValueError as exc:
+            raise self.fail(
+                str(exc), self.keypath(table, None, index), self.where.line(table, None, index)
+            ) from None
+
+    def require(self, values: dict, key: str, table: str, index: int | None = None) -> None:
+        if key not in values:
+            raise self.fail(
+                "required key is missing; add it to the table",
+                self.keypath(table, key, index),
+                self.where.line(table, None, index),
+            )
+
+
+def _read(path: Path) -> tuple[str, dict[str, Any]]:
+    source = str(path)
+    if not path.exists():
+        raise InputError("manifest not found; check the path", source=source)
+    if path.is_dir():
+        raise InputError("this is a folder; name the manifest .toml file", source=source)
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise InputError(
+            f"cannot read the manifest ({exc.strerror or exc})", source=source
+        ) from None
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise InputError(
+            f"the manifest is not UTF-8 text (byte {exc.start}); save it as UTF-8",
+            source=source,
+            line=raw.count(b"\n", 0, exc.start) + 1,
+        ) from None
+    try:
+        return text, tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        msg = str(exc)
+        m = re.search(r"\(at line (\d+), column (\d+)\)", msg)
+        line = int(m.group(1)) if m else None
+        what = msg[: m.start()].strip() if m else msg
+        col = f" (column {m.group(2)})" if m else ""
+        raise InputError(
+            f"TOML syntax error{col}: {what}; fix the manifest", source=source, line=line
+        ) from None
+
+
+def load_manifest(path: str | os.PathLike[str]) -> Manifest:
+    """Read and check a series manifest.
+
+    Parameters
+    ----------
+    path : path-like
+        The TOML file. Voltammogram files are resolved against its folder.
+
+    Returns
+    -------
+    Manifest
+
+    Raises
+    ------
+    InputError
+        Missing or unreadable manifest, TOML syntax error, unknown key (with the closest
+        valid key), missing required key, wrong type or range, a listed file that does not
+        exist, the same file listed twice, or no voltammogram at all.
+    """
+    p = Path(path)
+    text, data = _read(p)
+    ld = _Loader(p, text)
+    folder = p.resolve().parent
+    ld.check_keys(data, TABLES, "", None)
+    series = ld.table(data, "series")
+    if "series" not in data:
+        raise ld.fail(
+            "the manifest needs a [series] table with at least electrons = n", "series", None
+        )
+    ld.check_keys(series, SERIES_KEYS, "series", None)
+    ld.require(series, "electrons", "series")
+    series_settings = ld.build(SeriesSettings, {"title": p.stem, **series}, "series")
+    imp = ld.table(data, "import")
+    ld.check_keys(imp, IMPORT_KEYS, "import", None)
+    import_options = ld.build(ImportOptions, imp, "import")
+    fit = ld.table(data, "fit")
+    ld.check_keys(fit, FIT_KEYS, "fit", None)
+    fit_settings = ld.build(FitSettings, fit, "fit")
+    rev = ld.table(data, "reversibility")
+    ld.check_keys(rev, REVERSIBILITY_KEYS, "reversibility", None)
+    for key, value in rev.items():
+        if not _is_number(value):
+            raise ld.fail(
+                f"must be a number, got {value!r}",
+                f"reversibility.{key}",
+                ld.where.line("reversibility", key),
+            )
+    criteria = ld.build(ReversibilityCriteria, rev, "reversibility")
+    entries_raw = data.get("voltammogram")
+    if entries_raw is None or entries_raw == []:
+        raise ld.fail("no [[voltammogram]] tables; list at least one file", "voltammogram", None)
+    if not isinstance(entries_raw, list) or not all(isinstance(e, dict) for e in entries_raw):
+        raise ld.fail(
+            "write one [[voltammogram]] table (double brackets) per file",
+            "voltammogram",
+            ld.where.line("voltammogram"),
+        )
+    entries = []
+    seen: dict[Path, int] = {}
+    for index, raw in enumerate(entries_raw, start=1):
+        ld.check_keys(raw, ENTRY_KEYS, "voltammogram", index)
+        ld.require(raw, "file", "voltammogram", index)
+        ld.require(raw, "ligand_M", "voltammogram", index)
+        per_file = {k: raw[k] for k in IMPORT_KEYS if k in raw}
+        options = ld.build(ImportOptions, {**imp, **per_file}, "voltammogram", index)
+        name = raw["file"]
+        if not isinstance(name, str) or not name.strip():
+            raise ld.fail(
+                f"must be a non-empty text string, got {name!r}",
+                f"voltammogram[{index}].file",
+                ld.where.line("voltammogram", "file", index),
+            )
+        resolved = (folder / name).resolve()
+        entry = ld.build(
+            VoltammogramEntry,
+            {
+                "file": resolved,
+                "name": name,
+                "ligand_M": raw["ligand_M"],
+                "scan_rate_V_s": raw.get("scan_rate_V_s"),
+                "import_options": options,
+                "label": raw.get("label"),
+            },
+            "voltammogram",
+            index,
+        )
+        file_line = ld.where.line("voltammogram", "file", index)
+        if not resolved.is_file():
+            raise ld.fail(
+                f"file {name!r} not found (looked for {resolved}); check the name, paths are "
+                "relative to the manifest's folder",
+                f"voltammogram[{index}].file",
+                file_line,
+            )
+        if resolved in seen:
+            raise ld.fail(
+                f"file {name!r} is listed twice (also voltammogram[{seen[resolved]}]); list "
+                "each file once",
+                f"voltammogram[{index}].file",
+                file_line,
+            )
+        seen[resolved] = index
+        entries.append(entry)
+    return Manifest(
+        path=p.resolve(),
+        folder=folder,
+        series=series_settings,
+        import_options=import_options,
+        fit=fit_settings,
+        reversibility=criteria,
+        voltammograms=tuple(entries),
+    )

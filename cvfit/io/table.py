@@ -1,0 +1,275 @@
+"""Delimited text to a numeric table: preamble, header row, delimiter and decimal mark.
+
+The happy path is vectorised: the numeric block is handed to :func:`pandas.read_csv` in one
+call. Only when that fails are the lines scanned one by one to name the bad cell.
+"""
+
+from __future__ import annotations
+
+import io
+import re
+import warnings
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError
+
+__all__ = ["NumericTable", "read_table"]
+
+_SPECIAL = re.compile(r"(?i)\b(?:nan|[+-]?inf(?:inity)?)\b")
+_NUMERIC_LINE = re.compile(r"^[\d\s.,;+\-eE\"']*$")
+_KEY_VALUE = re.compile(r"^\s*(?P<key>[^:=]*[^:=\s])\s*[:=]\s*(?P<value>.*?)\s*$")
+_CELL_DOT = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
+_CELL_COMMA = re.compile(r"^[+-]?(?:\d+,?\d*|,\d+)(?:[eE][+-]?\d+)?$")
+_CELL_SPECIAL = re.compile(r"(?i)^[+-]?(?:nan|inf|infinity)$")
+_SAMPLE = 200
+_NAMES = {",": "comma", ";": "semicolon", "\t": "tab", "whitespace": "whitespace"}
+
+
+@dataclass(frozen=True)
+class NumericTable:
+    """The numeric block of a text export.
+
+    Attributes
+    ----------
+    values : ndarray, shape (rows, columns)
+        The numbers, NaN where a cell was empty or NaN.
+    line_numbers : ndarray of int
+        1-based line of each row as an editor numbers it.
+    header : tuple of str or None
+        Header labels, one per column, or None when the file has no header row.
+    header_line : int or None
+        1-based line of the header row.
+    metadata : dict
+        ``key: value`` and ``key = value`` lines above the header.
+    delimiter, decimal : str
+        What separated the columns (``","``, ``";"``, ``"\\t"`` or ``"whitespace"``) and
+        the decimal mark.
+    notes : dict
+        Remarks on how the table was read, for the voltammogram's metadata.
+    """
+
+    values: np.ndarray
+    line_numbers: np.ndarray
+    header: tuple[str, ...] | None
+    header_line: int | None
+    metadata: dict[str, str]
+    delimiter: str
+    decimal: str
+    notes: dict[str, str] = field(default_factory=dict)
+
+
+def _is_numeric_line(line: str) -> bool:
+    stripped = _SPECIAL.sub("0", line)
+    return bool(_NUMERIC_LINE.match(stripped)) and any(ch.isdigit() for ch in stripped)
+
+
+def _find_data_start(lines: list[str]) -> int | None:
+    """Index of the first numeric line that two more numeric lines follow (or end the file)."""
+    first = None
+    for k, line in enumerate(lines):
+        if not line.strip() or not _is_numeric_line(line):
+            continue
+        if first is None:
+            first = k
+        following = [ln for ln in lines[k + 1 : k + 20] if ln.strip()][:2]
+        if all(_is_numeric_line(ln) for ln in following):
+            return k
+    return first
+
+
+def _split(line: str, delimiter: str) -> list[str]:
+    if delimiter == "whitespace":
+        return line.split()
+    return [cell.strip() for cell in line.strip().split(delimiter)]
+
+
+def _sniff_delimiter(sample: list[str]) -> str:
+    need = 0.9 * len(sample)
+    for d in ("\t", ";"):
+        if sum(d in ln for ln in sample) >= need:
+            return d
+    if sum("," in ln for ln in sample) >= need:
+        # "1,5 2,3" is whitespace-separated decimal-comma numbers; "1.5,2.3" is CSV.
+        decimal_comma_ws = all(
+            len(cells) >= 2 and all(_CELL_COMMA.match(c.strip("\"'")) for c in cells)
+            for cells in (ln.split() for ln in sample)
+        )
+        return "whitespace" if decimal_comma_ws else ","
+    return "whitespace"
+
+
+def _sniff_decimal(sample: list[str], delimiter: str) -> str:
+    if delimiter == ",":
+        return "."
+    text = "\n".join(sample)
+    return "," if text.count(",") > text.count(".") else "."
+
+
+def _split_header(line: str, delimiter: str, ncols: int) -> list[str]:
+    """Header labels; for whitespace files, re-join unit groups split at blanks."""
+    if delimiter != "whitespace":
+        return _split(line, delimiter)
+    wide = [c.strip() for c in re.split(r"\t|\s{2,}", line.strip()) if c.strip()]
+    if len(wide) == ncols:
+        return wide
+    labels: list[str] = []
+    for token in line.split():
+        if labels and (token[0] in "([/" or labels[-1].endswith("/") or token.lower() == "vs"):
+            labels[-1] = f"{labels[-1]} {token}"
+        else:
+            labels.append(token)
+    return labels
+
+
+def _metadata(lines: list[str]) -> dict[str, str]:
+    out: dict[str, str] = {}
+    for line in lines:
+        m = _KEY_VALUE.match(line)
+        if m and m["key"].strip():
+            out[m["key"].strip().strip("\"'")] = m["value"].strip().strip("\"'")
+    return out
+
+
+def _locate_bad_cell(
+    rows: list[tuple[int, str]],
+    delimiter: str,
+    decimal: str,
+    ncols: int,
+    header: tuple[str, ...] | None,
+    source: str,
+) -> InputError | None:
+    """Failure path: the first line whose cell count or content is wrong."""
+    cell_re = _CELL_COMMA if decimal == "," else _CELL_DOT
+    for lineno, line in rows:
+        cells = _split(line, delimiter)
+        if len(cells) > ncols:
+            return InputError(
+                f"this line has {len(cells)} {_NAMES[delimiter]}-separated columns but the "
+                f"data rows above have {ncols}; fix or delete the line",
+                source=source,
+                line=lineno,
+            )
+        for col, cell in enumerate(cells):
+            value = cell.strip().strip("\"'").strip()
+            if value and not (cell_re.match(value) or _CELL_SPECIAL.match(value)):
+                label = f" ({header[col]!r})" if header and col < len(header) else ""
+                return InputError(
+                    f"column {col + 1}{label}: {value[:40]!r} is not a number "
+                    f"(decimal mark {decimal!r}); fix or delete the line, or set decimal/"
+                    "delimiter in [import]",
+                    source=source,
+                    line=lineno,
+                    key=header[col] if header and col < len(header) else None,
+                )
+    return None
+
+
+def read_table(
+    lines: list[str],
+    *,
+    source: str,
+    delimiter: str | None = None,
+    decimal: str | None = None,
+) -> NumericTable:
+    """Find and parse the numeric block of a delimited text export.
+
+    Parameters
+    ----------
+    lines : list of str
+        The file's lines (``lines[k]`` is line ``k + 1``).
+    source : str
+        File name for messages.
+    delimiter, decimal : str, optional
+        Override the sniffed column separator and decimal mark.
+
+    Raises
+    ------
+    InputError
+        No numeric rows, or a cell in the numeric block that is not a number (the message
+        names its line and column).
+    """
+    start = _find_data_start(lines)
+    if start is None:
+        raise InputError(
+            "no rows of numbers found; the file needs columns of numbers (potential and "
+            "current) below an optional header row",
+            source=source,
+        )
+    # Header: the nearest non-blank line above the data.
+    above = [k for k in range(start) if lines[k].strip()]
+    header_idx = above[-1] if above else None
+    header_text = lines[header_idx] if header_idx is not None else None
+    header_key = header_text.strip() if header_text is not None else None
+    rows = [
+        (k + 1, ln.strip())
+        for k, ln in enumerate(lines[start:], start=start)
+        if ln.strip() and ln.strip() != header_key
+    ]
+    sample = [text for _, text in rows[:_SAMPLE]]
+    delim = delimiter or _sniff_delimiter(sample)
+    dec = decimal or _sniff_decimal(sample, delim)
+    if delim == "," and dec == ",":
+        raise InputError(
+            "the decimal mark and the delimiter are both ','; set delimiter in [import]",
+            source=source,
+            key="delimiter",
+        )
+    block = "\n".join(text for _, text in rows)
+    sep = r"\s+" if delim == "whitespace" else delim
+    first_cells = _split(rows[0][1], delim)
+    ncols = len(first_cells)
+    header: tuple[str, ...] | None = None
+    if header_text is not None:
+        labels = _split_header(header_text, delim, ncols)
+        if len(labels) >= ncols and all(not lab for lab in labels[ncols:]):
+            labels = labels[:ncols]
+        if len(labels) == ncols and not _is_numeric_line(header_text):
+            header = tuple(lab.strip().strip("\"'").strip() for lab in labels)
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("error")
+            frame = pd.read_csv(
+                io.StringIO(block),
+                sep=sep,
+                header=None,
+                names=range(ncols),
+                decimal=dec,
+                dtype=np.float64,
+                engine="c",
+                skipinitialspace=True,
+                skip_blank_lines=False,
+                quotechar='"',
+            )
+        values = frame.to_numpy(dtype=float, copy=True)
+        if values.shape[0] != len(rows):
+            raise ValueError("row count changed while parsing")
+    except (ValueError, TypeError, OverflowError, pd.errors.ParserError, Warning) as exc:
+        found = _locate_bad_cell(rows, delim, dec, ncols, header, source)
+        if found is not None:
+            raise found from None
+        first_line = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        raise InputError(
+            f"could not read the numbers from line {rows[0][0]} on ({first_line}); check the "
+            "delimiter and decimal mark",
+            source=source,
+            line=rows[0][0],
+        ) from None
+    meta_lines = lines[:header_idx] if header is not None else lines[:start]
+    notes = {"import.delimiter": _NAMES[delim], "import.decimal": dec}
+    if header is None and header_text is not None:
+        notes["import.header"] = (
+            f"line {header_idx + 1} was not read as a header (its columns do not match the data)"
+        )
+    return NumericTable(
+        values=values,
+        line_numbers=np.array([n for n, _ in rows], dtype=int),
+        header=header,
+        header_line=header_idx + 1 if header is not None else None,
+        metadata=_metadata(meta_lines),
+        delimiter=delim,
+        decimal=dec,
+        notes=notes,
+    )

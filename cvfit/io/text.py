@@ -1,0 +1,115 @@
+"""Bytes to text: encoding detection, binary-file refusal, line splitting.
+
+Line numbers reported to the user count lines as an editor does: ``\\r\\n``, ``\\n`` and a
+lone ``\\r`` each end one line, and the first line is 1.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+from ..errors import InputError
+
+__all__ = ["DecodedText", "decode_bytes", "split_lines"]
+
+_BOMS: tuple[tuple[bytes, str], ...] = (
+    (b"\xef\xbb\xbf", "utf-8-sig"),
+    (b"\xff\xfe\x00\x00", "utf-32-le"),
+    (b"\x00\x00\xfe\xff", "utf-32-be"),
+    (b"\xff\xfe", "utf-16-le"),
+    (b"\xfe\xff", "utf-16-be"),
+)
+# C0 control characters other than tab, line feed, vertical tab, form feed and carriage
+# return, DEL and the C1 controls: a text export never contains them.
+_CONTROL = re.compile("[\x00-\x08\x0e-\x1f\x7f-\x9f]")
+_LINE_BREAK = re.compile(r"\r\n|\r|\n")
+
+
+@dataclass(frozen=True)
+class DecodedText:
+    """Decoded file content and the encoding that was used."""
+
+    text: str
+    encoding: str
+
+
+def _utf16_without_bom(data: bytes) -> str | None:
+    """``utf-16-le``/``-be`` when every other byte is NUL, as in BOM-less UTF-16 text."""
+    sample = data[:4096]
+    if len(sample) < 4 or len(sample) % 2:
+        return None
+    even, odd = sample[0::2], sample[1::2]
+    if odd.count(0) > 0.9 * len(odd) and even.count(0) < 0.1 * len(even):
+        return "utf-16-le"
+    if even.count(0) > 0.9 * len(even) and odd.count(0) < 0.1 * len(odd):
+        return "utf-16-be"
+    return None
+
+
+def _line_of(text: str, index: int) -> int:
+    return len(_LINE_BREAK.findall(text, 0, index)) + 1
+
+
+def decode_bytes(data: bytes, *, source: str) -> DecodedText:
+    """Decode a text export: BOM (UTF-8/16/32), then UTF-8, then Windows-1252/Latin-1.
+
+    Raises
+    ------
+    InputError
+        Empty content, or content that is not text (NUL bytes, control characters,
+        undecodable under a declared encoding).
+    """
+    if not data.strip():
+        raise InputError(
+            "the file is empty; export the voltammogram as delimited text", source=source
+        )
+    encoding = next((enc for bom, enc in _BOMS if data.startswith(bom)), None)
+    if encoding is None:
+        encoding = _utf16_without_bom(data)
+    if encoding is not None:
+        try:
+            text = data.decode(encoding)
+        except UnicodeDecodeError as exc:
+            raise InputError(
+                f"the file starts like {encoding} text but byte {exc.start} cannot be "
+                "decoded; re-export it as UTF-8 text",
+                source=source,
+            ) from None
+        text = text.lstrip("\ufeff")
+    else:
+        if b"\x00" in data:
+            at = data.index(b"\x00")
+            raise InputError(
+                f"this is a binary file (NUL byte at offset {at}), not a text export; "
+                "export the data as CSV or plain text",
+                source=source,
+                line=data.count(b"\n", 0, at) + 1,
+            )
+        for encoding in ("utf-8", "cp1252", "latin-1"):
+            try:
+                text = data.decode(encoding)
+                break
+            except UnicodeDecodeError:
+                continue
+    bad = _CONTROL.search(text)
+    if bad is not None:
+        raise InputError(
+            f"control character 0x{ord(bad.group()):02x} found; this does not look like a "
+            "text export; export the data as CSV or plain text",
+            source=source,
+            line=_line_of(text, bad.start()),
+        )
+    if not text.strip():
+        raise InputError(
+            "the file is empty; export the voltammogram as delimited text", source=source
+        )
+    return DecodedText(text=text, encoding=encoding)
+
+
+def split_lines(text: str) -> list[str]:
+    """Lines as an editor numbers them (``lines[k]`` is line ``k + 1``)."""
+    lines = _LINE_BREAK.split(text)
+    if lines and lines[-1] == "":
+        lines.pop()
+    return lines
