@@ -1,0 +1,407 @@
+"""Time-marching kernel of the voltammogram simulator (private).
+
+Planar semi-infinite diffusion of O and R on an exponentially expanding space grid,
+second-order backward differentiation in time (BDF2, started by one backward-Euler
+step), a three-point second-order surface gradient and a Nernstian or Butler–Volmer
+electrode boundary. Both the interior solve and the boundary are linear in the surface
+concentrations, so each step costs O(grid): one backward elimination sweep per species
+that leaves the surface gradient as ``A·c(0) + B``, a scalar solve of the boundary
+condition (and, with uncompensated resistance, of the iR drop), and one forward
+substitution sweep.
+
+Two interchangeable back ends give the same numbers to rounding:
+
+* ``numba`` — the Thomas sweeps in compiled loops (used when numba is importable);
+* ``numpy`` — the interior inverse precomputed once as a dense matrix, one matrix-vector
+  product per species and step; independent of numba, slower for long runs.
+
+References
+----------
+Nicholson, R. S.; Shain, I. Anal. Chem. 1964, 36, 706 (the boundary-value problem).
+Britz, D.; Strutwolf, J. Digital Simulation in Electrochemistry, 4th ed.; Springer, 2016,
+chapters 3, 7 and 8 (BDF start-up, expanding grids, multi-point surface gradients).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+try:  # optional accelerator; behaviour never depends on it
+    import numba as _numba
+except ImportError:  # pragma: no cover - exercised where numba is absent
+    _numba = None
+
+HAVE_NUMBA = _numba is not None
+
+
+def _identity(func):
+    return func
+
+
+# compiled with cache=True so the one-off compile cost is paid once per installation
+_jit = _numba.njit(cache=True) if HAVE_NUMBA else _identity
+
+# exponent clip for exp() in the boundary conditions: far beyond any physical overpotential,
+# well inside float range even when multiplied by a large k0
+_EXP_CLIP = 500.0
+
+
+@_jit
+def _flux(E, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha):
+    """Anodic flux j (mol cm⁻² s⁻¹) at true potential E for surface gradients A·c + B."""
+    eta = nf * (E - E0)
+    if k0 <= 0.0:
+        # Nernst: c_O(0)/c_R(0) = exp(eta), written with the logistic for any eta
+        if eta >= 0.0:
+            z = math.exp(-min(eta, _EXP_CLIP))
+            s = 1.0 / (1.0 + z)
+            sc = z / (1.0 + z)
+        else:
+            z = math.exp(max(eta, -_EXP_CLIP))
+            s = z / (1.0 + z)
+            sc = 1.0 / (1.0 + z)
+        return (s * BR / AR - sc * BO / AO) / (sc / (DO * AO) + s / (DR * AR))
+    ea = k0 * math.exp(min(max((1.0 - alpha) * eta, -_EXP_CLIP), _EXP_CLIP))
+    ec = k0 * math.exp(min(max(-alpha * eta, -_EXP_CLIP), _EXP_CLIP))
+    return (ec * BO / AO - ea * BR / AR) / (1.0 - ea / (DR * AR) - ec / (DO * AO))
+
+
+@_jit
+def _surface_solve(E_app, rhsE, kap, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha, Ru, Cdl, nFA):
+    """True potential, anodic flux and charging current of one time step.
+
+    With ``Ru > 0`` solves ``E + Ru·(nFA·j(E) + Cdl·(kap·E − rhsE)) = E_app``; the left
+    side increases strictly with E, so a bracketed Illinois iteration converges.
+    """
+    if Ru <= 0.0:
+        j = _flux(E_app, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha)
+        return E_app, j, Cdl * (kap * E_app - rhsE)
+    j0 = _flux(E_app, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha)
+    i0 = nFA * j0 + Cdl * (kap * E_app - rhsE)
+    if i0 == 0.0:
+        return E_app, j0, Cdl * (kap * E_app - rhsE)
+    a = E_app
+    b = E_app - Ru * i0
+    ga = Ru * i0
+    jb = _flux(b, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha)
+    gb = b - E_app + Ru * (nFA * jb + Cdl * (kap * b - rhsE))
+    if gb == 0.0:
+        return b, jb, Cdl * (kap * b - rhsE)
+    side = 0
+    x = a
+    for _ in range(200):
+        x = (a * gb - b * ga) / (gb - ga)
+        jx = _flux(x, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha)
+        gx = x - E_app + Ru * (nFA * jx + Cdl * (kap * x - rhsE))
+        if gx == 0.0 or abs(b - a) < 1e-14:
+            break
+        if (gx > 0.0) == (gb > 0.0):
+            b = x
+            gb = gx
+            if side == -1:
+                ga *= 0.5
+            side = -1
+        else:
+            a = x
+            ga = gx
+            if side == 1:
+                gb *= 0.5
+            side = 1
+        if abs(b - a) < 1e-14:
+            break
+    jx = _flux(x, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha)
+    return x, jx, Cdl * (kap * x - rhsE)
+
+
+@dataclass(frozen=True)
+class Grid:
+    """Expanding space grid ``x_0 = 0 < x_1 < … < x_N`` (cm) with trapezoid weights."""
+
+    x_cm: np.ndarray
+    weights_cm: np.ndarray
+
+    @classmethod
+    def expanding(cls, first_cm: float, ratio: float, length_cm: float) -> Grid:
+        n = int(math.ceil(math.log1p(length_cm * (ratio - 1.0) / first_cm) / math.log(ratio)))
+        n = max(n, 4)
+        h = first_cm * ratio ** np.arange(n)
+        x = np.concatenate(([0.0], np.cumsum(h)))
+        w = np.zeros_like(x)
+        w[:-1] += 0.5 * h
+        w[1:] += 0.5 * h
+        x.setflags(write=False)
+        w.setflags(write=False)
+        return cls(x, w)
+
+
+def _surface_weights(x: np.ndarray) -> tuple[float, float, float]:
+    """Second-order one-sided first derivative at x_0 from x_0, x_1, x_2."""
+    h1 = x[1] - x[0]
+    h2 = x[2] - x[1]
+    s0 = -(2.0 * h1 + h2) / (h1 * (h1 + h2))
+    s1 = (h1 + h2) / (h1 * h2)
+    s2 = -h1 / (h2 * (h1 + h2))
+    return s0, s1, s2
+
+
+@dataclass(frozen=True)
+class SpeciesOperator:
+    """Precomputed elimination of one species for the two step kinds (0: BE, 1: BDF2).
+
+    Row ``k`` of each array belongs to step kind ``k``; index ``i`` to grid node ``i``.
+    """
+
+    e: np.ndarray  # c_i = e_i c_{i-1} + f_i
+    inv_den: np.ndarray
+    upper: np.ndarray  # G_i, coefficient of c_{i+1}
+    A_surf: np.ndarray  # surface gradient = A_surf·c_0 + B
+    dense_K: np.ndarray  # numpy path: interior = K @ rhs + k_bulk*c_bulk + p*c_0
+    dense_kb: np.ndarray
+    dense_p: np.ndarray
+    dense_b: np.ndarray  # B = b @ rhs + b_bulk * c_bulk
+    dense_bb: np.ndarray
+
+
+def species_operator(grid: Grid, D_cm2_s: float, dt_s: float) -> SpeciesOperator:
+    """Build the per-species elimination coefficients for backward Euler and BDF2."""
+    x = grid.x_cm
+    N = x.size - 1
+    hm = x[1:N] - x[0 : N - 1]
+    hp = x[2 : N + 1] - x[1:N]
+    lo = -D_cm2_s * 2.0 / (hm * (hm + hp))
+    up = -D_cm2_s * 2.0 / (hp * (hm + hp))
+    diag_lap = D_cm2_s * 2.0 / (hm * hp)
+    s0, s1, s2 = _surface_weights(x)
+    e = np.zeros((2, N + 1))
+    inv_den = np.zeros((2, N + 1))
+    upper = np.zeros((2, N + 1))
+    A_surf = np.zeros(2)
+    K = np.zeros((2, N - 1, N - 1))
+    kb = np.zeros((2, N - 1))
+    p = np.zeros((2, N - 1))
+    bvec = np.zeros((2, N - 1))
+    bb = np.zeros(2)
+    for kind, kap in enumerate((1.0 / dt_s, 1.5 / dt_s)):
+        diag = kap + diag_lap
+        upper[kind, 1:N] = up
+        # backward elimination from the bulk node towards the surface
+        for i in range(N - 1, 0, -1):
+            den = diag[i - 1] + (up[i - 1] * e[kind, i + 1] if i < N - 1 else 0.0)
+            inv_den[kind, i] = 1.0 / den
+            e[kind, i] = -lo[i - 1] / den
+        A_surf[kind] = s0 + s1 * e[kind, 1] + s2 * e[kind, 2] * e[kind, 1]
+        T = np.diag(diag) + np.diag(up[:-1], 1) + np.diag(lo[1:], -1)
+        Tinv = np.linalg.inv(T)
+        K[kind] = Tinv
+        p[kind] = -lo[0] * Tinv[:, 0]
+        kb[kind] = -up[-1] * Tinv[:, -1]
+        bvec[kind] = s1 * Tinv[0] + s2 * Tinv[1]
+        bb[kind] = s1 * kb[kind, 0] + s2 * kb[kind, 1]
+    for arr in (e, inv_den, upper, A_surf, K, kb, p, bvec, bb):
+        arr.setflags(write=False)
+    return SpeciesOperator(e, inv_den, upper, A_surf, K, kb, p, bvec, bb)
+
+
+@_jit
+def _march_thomas(
+    E_app, dt, cO, cR, cO_bulk, cR_bulk, eO, idO, GO, AOs, eR, idR, GR, ARs, s1, s2, DO, DR,
+    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, i_far, i_cap, E_true, amt_O, amt_R,
+):  # fmt: skip
+    """March all steps with Thomas sweeps; fills cO, cR and the output arrays in place."""
+    M = E_app.size
+    N = cO.size - 1
+    fO = np.zeros(N + 1)
+    fR = np.zeros(N + 1)
+    prevO = cO.copy()
+    prevR = cR.copy()
+    E_prev = E_app[0]
+    E_prev2 = E_app[0]
+    E_true[0] = E_app[0]
+    i_far[0] = 0.0
+    i_cap[0] = 0.0
+    if track:
+        amt_O[0] = np.sum(weights * cO)
+        amt_R[0] = np.sum(weights * cR)
+    for m in range(1, M):
+        kind = 0 if m == 1 else 1
+        kap = 1.0 / dt if kind == 0 else 1.5 / dt
+        fO[N] = cO_bulk
+        fR[N] = cR_bulk
+        for i in range(N - 1, 0, -1):
+            if kind == 0:
+                rO = cO[i] / dt
+                rR = cR[i] / dt
+            else:
+                rO = (4.0 * cO[i] - prevO[i]) / (2.0 * dt)
+                rR = (4.0 * cR[i] - prevR[i]) / (2.0 * dt)
+            fO[i] = (rO - GO[kind, i] * fO[i + 1]) * idO[kind, i]
+            fR[i] = (rR - GR[kind, i] * fR[i + 1]) * idR[kind, i]
+        BO = s1 * fO[1] + s2 * (eO[kind, 2] * fO[1] + fO[2])
+        BR = s1 * fR[1] + s2 * (eR[kind, 2] * fR[1] + fR[2])
+        if kind == 0:
+            rhsE = E_prev / dt
+        else:
+            rhsE = (4.0 * E_prev - E_prev2) / (2.0 * dt)
+        AO = AOs[kind]
+        AR = ARs[kind]
+        Et, j, ic = _surface_solve(
+            E_app[m], rhsE, kap, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha, Ru, Cdl, nFA
+        )
+        for i in range(N + 1):
+            prevO[i] = cO[i]
+            prevR[i] = cR[i]
+        cO[0] = -(j / DO + BO) / AO
+        cR[0] = (j / DR - BR) / AR
+        for i in range(1, N):
+            cO[i] = eO[kind, i] * cO[i - 1] + fO[i]
+            cR[i] = eR[kind, i] * cR[i - 1] + fR[i]
+        E_prev2 = E_prev
+        E_prev = Et
+        E_true[m] = Et
+        i_far[m] = nFA * j
+        i_cap[m] = ic
+        if track:
+            amt_O[m] = np.sum(weights * cO)
+            amt_R[m] = np.sum(weights * cR)
+
+
+def _march_dense(
+    E_app, dt, cO, cR, cO_bulk, cR_bulk, opO, opR, DO, DR,
+    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, i_far, i_cap, E_true, amt_O, amt_R,
+):  # fmt: skip
+    """Same marching as :func:`_march_thomas` with precomputed dense interior inverses."""
+    M = E_app.size
+    prevO = cO.copy()
+    prevR = cR.copy()
+    E_prev = E_prev2 = float(E_app[0])
+    E_true[0] = E_app[0]
+    i_far[0] = 0.0
+    i_cap[0] = 0.0
+    if track:
+        amt_O[0] = weights @ cO
+        amt_R[0] = weights @ cR
+    for m in range(1, M):
+        kind = 0 if m == 1 else 1
+        if kind == 0:
+            kap = 1.0 / dt
+            rO = cO[1:-1] / dt
+            rR = cR[1:-1] / dt
+            rhsE = E_prev / dt
+        else:
+            kap = 1.5 / dt
+            rO = (4.0 * cO[1:-1] - prevO[1:-1]) / (2.0 * dt)
+            rR = (4.0 * cR[1:-1] - prevR[1:-1]) / (2.0 * dt)
+            rhsE = (4.0 * E_prev - E_prev2) / (2.0 * dt)
+        BO = float(opO.dense_b[kind] @ rO + opO.dense_bb[kind] * cO_bulk)
+        BR = float(opR.dense_b[kind] @ rR + opR.dense_bb[kind] * cR_bulk)
+        AO = float(opO.A_surf[kind])
+        AR = float(opR.A_surf[kind])
+        Et, j, ic = _surface_solve(
+            float(E_app[m]), rhsE, kap, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha, Ru, Cdl, nFA
+        )
+        prevO = cO.copy()
+        prevR = cR.copy()
+        cO0 = -(j / DO + BO) / AO
+        cR0 = (j / DR - BR) / AR
+        cO[0] = cO0
+        cR[0] = cR0
+        cO[1:-1] = opO.dense_K[kind] @ rO + opO.dense_kb[kind] * cO_bulk + opO.dense_p[kind] * cO0
+        cR[1:-1] = opR.dense_K[kind] @ rR + opR.dense_kb[kind] * cR_bulk + opR.dense_p[kind] * cR0
+        E_prev2 = E_prev
+        E_prev = Et
+        E_true[m] = Et
+        i_far[m] = nFA * j
+        i_cap[m] = ic
+        if track:
+            amt_O[m] = weights @ cO
+            amt_R[m] = weights @ cR
+
+
+@dataclass(frozen=True)
+class MarchResult:
+    """Raw output of :func:`march` (SI units, IUPAC sign)."""
+
+    E_true_V: np.ndarray
+    faradaic_A: np.ndarray
+    charging_A: np.ndarray
+    grid: Grid
+    final_O_mol_cm3: np.ndarray
+    final_R_mol_cm3: np.ndarray
+    amount_O_mol_cm2: np.ndarray | None  # ∫ c_O dx per step (None unless tracked)
+    amount_R_mol_cm2: np.ndarray | None
+
+
+def march(
+    E_app_V: np.ndarray,
+    dt_s: float,
+    *,
+    grid: Grid,
+    D_ox_cm2_s: float,
+    D_red_cm2_s: float,
+    bulk_ox_mol_cm3: float,
+    bulk_red_mol_cm3: float,
+    E_formal_V: float,
+    nf_per_V: float,
+    k0_cm_s: float,
+    alpha: float,
+    resistance_ohm: float,
+    double_layer_F: float,
+    nFA_C_per_mol: float,
+    backend: str = "auto",
+    track_amounts: bool = False,
+) -> MarchResult:
+    """Integrate the diffusion problem over the sampled applied potential ``E_app_V``.
+
+    ``k0_cm_s <= 0`` selects the Nernstian boundary. ``backend`` is ``"auto"`` (numba when
+    available), ``"numba"`` or ``"numpy"``.
+    """
+    if backend == "auto":
+        backend = "numba" if HAVE_NUMBA else "numpy"
+    if backend == "numba" and not HAVE_NUMBA:
+        raise ValueError("backend 'numba' asked for but numba is not installed")
+    if backend not in ("numba", "numpy"):
+        raise ValueError(f"unknown backend {backend!r}")
+    E_app = np.ascontiguousarray(E_app_V, dtype=float)
+    M = E_app.size
+    x = grid.x_cm
+    cO = np.full(x.size, float(bulk_ox_mol_cm3))
+    cR = np.full(x.size, float(bulk_red_mol_cm3))
+    opO = species_operator(grid, D_ox_cm2_s, dt_s)
+    opR = opO if D_red_cm2_s == D_ox_cm2_s else species_operator(grid, D_red_cm2_s, dt_s)
+    i_far = np.zeros(M)
+    i_cap = np.zeros(M)
+    E_true = np.zeros(M)
+    amt_O = np.zeros(M if track_amounts else 1)
+    amt_R = np.zeros(M if track_amounts else 1)
+    w = np.ascontiguousarray(grid.weights_cm)
+    scalars = (
+        float(D_ox_cm2_s), float(D_red_cm2_s), float(E_formal_V), float(nf_per_V),
+        float(k0_cm_s), float(alpha), float(resistance_ohm), float(double_layer_F),
+        float(nFA_C_per_mol),
+    )  # fmt: skip
+    if backend == "numba":
+        _, s1, s2 = _surface_weights(x)
+        _march_thomas(
+            E_app, float(dt_s), cO, cR, float(bulk_ox_mol_cm3), float(bulk_red_mol_cm3),
+            opO.e, opO.inv_den, opO.upper, opO.A_surf, opR.e, opR.inv_den, opR.upper,
+            opR.A_surf, s1, s2, *scalars, w, bool(track_amounts), i_far, i_cap, E_true,
+            amt_O, amt_R,
+        )  # fmt: skip
+    else:
+        _march_dense(
+            E_app, float(dt_s), cO, cR, float(bulk_ox_mol_cm3), float(bulk_red_mol_cm3),
+            opO, opR, *scalars, w, bool(track_amounts), i_far, i_cap, E_true, amt_O, amt_R,
+        )  # fmt: skip
+    return MarchResult(
+        E_true_V=E_true,
+        faradaic_A=i_far,
+        charging_A=i_cap,
+        grid=grid,
+        final_O_mol_cm3=cO,
+        final_R_mol_cm3=cR,
+        amount_O_mol_cm2=amt_O if track_amounts else None,
+        amount_R_mol_cm2=amt_R if track_amounts else None,
+    )
