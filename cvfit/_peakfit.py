@@ -1,0 +1,303 @@
+"""Array-level helpers of the peak analysis: noise, baselines, vertices, crossings.
+
+Everything here takes and returns plain arrays or small tuples; nothing knows about
+voltammograms, flags or files. :mod:`cvfit.peaks` composes these pieces.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import NamedTuple
+
+import numpy as np
+
+__all__ = [
+    "noise_sd",
+    "LineFit",
+    "fit_line",
+    "fit_foot",
+    "foot_window",
+    "switch_step",
+    "Vertex",
+    "peak_vertex",
+    "rising_crossing",
+]
+
+#: Consistency constant that turns a median absolute deviation into a normal SD.
+_MAD_TO_SD = 1.482602218505602
+
+
+def noise_sd(*currents: np.ndarray) -> float:
+    """Noise SD of the current from its second differences.
+
+    For white noise of SD σ, the second difference has SD σ·√6 while the smooth signal
+    contributes almost nothing at the sampling step of a voltammogram; the median absolute
+    deviation makes the estimate insensitive to the few large second differences at the
+    switching potential and at the start. Each array is differenced separately.
+
+    Returns
+    -------
+    float
+        Estimated SD, same unit as the input (0.0 for a noise-free record).
+    """
+    d2 = [np.diff(np.asarray(c, dtype=float), 2) for c in currents if np.size(c) >= 3]
+    if not d2:
+        return 0.0
+    d = np.concatenate(d2)
+    mad = float(np.median(np.abs(d - np.median(d))))
+    return _MAD_TO_SD * mad / math.sqrt(6.0)
+
+
+class LineFit(NamedTuple):
+    """Least-squares line ``i = a + b·(E − E0)`` with its parameter covariance."""
+
+    E0_V: float
+    coef: np.ndarray  # (a, b)
+    cov: np.ndarray  # 2×2, from the supplied noise SD
+
+    def __call__(self, E: np.ndarray) -> np.ndarray:
+        return self.coef[0] + self.coef[1] * (np.asarray(E, dtype=float) - self.E0_V)
+
+    def design(self, E: np.ndarray) -> np.ndarray:
+        """Rows ``(1, E − E0)``: the derivative of the line with respect to (a, b)."""
+        x = np.asarray(E, dtype=float) - self.E0_V
+        return np.column_stack([np.ones_like(x), x])
+
+
+def fit_line(E: np.ndarray, i: np.ndarray, sigma: float) -> LineFit:
+    """Ordinary least-squares line through (E, i); covariance σ²(XᵀX)⁻¹."""
+    E0 = float(np.mean(E))
+    X = np.column_stack([np.ones(E.size), E - E0])
+    coef, *_ = np.linalg.lstsq(X, i, rcond=None)
+    cov = sigma**2 * np.linalg.inv(X.T @ X)
+    return LineFit(E0, coef, cov)
+
+
+def _moving_mean(y: np.ndarray, width: int) -> np.ndarray:
+    if width <= 1:
+        return y
+    kernel = np.full(width, 1.0 / width)
+    return np.convolve(y, kernel, mode="same")
+
+
+def fit_foot(E: np.ndarray, i: np.ndarray, sign: int, kappa_per_V: float, sigma: float) -> LineFit:
+    """Line plus the exponential foot of a Nernstian wave.
+
+    The model is ``a + b·(E − E0) + c·exp(sign·κ·(E − E_end))``.
+
+    The exponential (κ = nF/RT) is the leading term of the reversible current far ahead
+    of E½ (the semi-derivative of 1/(1 + θ) ≈ 1/θ), so the foot window can extend to a few
+    per cent of the peak height without bending the line; only the line is returned, as
+    the baseline to extrapolate. When the fitted foot amplitude has the wrong sign (no
+    rising wave in the window) the plain line is returned.
+    """
+    E0 = float(np.mean(E))
+    u = np.clip(sign * kappa_per_V * (E - E[-1]), -700.0, 0.0)
+    X = np.column_stack([np.ones(E.size), E - E0, np.exp(u)])
+    coef, *_ = np.linalg.lstsq(X, i, rcond=None)
+    if sign * coef[2] <= 0:
+        return fit_line(E, i, sigma)
+    cov = sigma**2 * np.linalg.inv(X.T @ X)
+    return LineFit(E0, coef[:2], cov[:2, :2])
+
+
+def foot_window(
+    E: np.ndarray,
+    i: np.ndarray,
+    sign: int,
+    sigma: float,
+    *,
+    kappa_per_V: float,
+    skip: int,
+    min_points: int,
+    foot_fraction: float,
+    iterations: int = 5,
+    span_thermal: tuple[float, float] = (2.5, 3.0),
+) -> tuple[int, int, LineFit]:
+    """Foot of the wave ``[lo, hi)`` and the baseline line fitted to it.
+
+    Starts from the first tenth of the sweep, then repeats: fit the foot model
+    (:func:`fit_foot`), find the peak of the corrected current ``sign·(i − line)``, and end
+    the window at the last point before the peak where the lightly smoothed corrected
+    current is still below ``foot_fraction`` of the peak height (or two noise SDs of the
+    smoothed current, whichever is larger). This finds where the current departs from the
+    trend of charging current, background and foot without assuming where the wave is.
+
+    The end found that way is then kept between ``span_thermal`` = (2.5, 3.0) thermal
+    voltages RT/nF (1/κ) before the half-peak potential of the wave — where a Nernstian
+    wave carries about 6 % and 3.5 % of its peak current — so that a noisy first line
+    can neither collapse the window to a few points nor let it run into the wave.
+    """
+    n = E.size
+    lo = min(skip, max(n - min_points, 0))
+    hi = min(n, max(lo + min_points, lo + (n - lo) // 10))
+    width = 5
+    line = fit_foot(E[lo:hi], i[lo:hi], sign, kappa_per_V, sigma)
+    prev_hi = hi
+    for _ in range(iterations):
+        r = sign * (i - line(E))
+        kp = int(np.argmax(r))
+        if kp <= lo + min_points:
+            break
+        level = max(foot_fraction * r[kp], 2.0 * sigma / math.sqrt(width))
+        smooth = _moving_mean(r[lo:kp], width)
+        below = np.nonzero(smooth <= level)[0]
+        new_hi = lo + int(below[-1]) + 1 if below.size else lo + min_points
+        hi = _clamp_to_wave(E, r, kp, new_hi, lo + min_points, sign, kappa_per_V, span_thermal)
+        if hi == prev_hi:
+            break
+        prev_hi = hi
+        line = fit_foot(E[lo:hi], i[lo:hi], sign, kappa_per_V, sigma)
+    return lo, hi, line
+
+
+def _clamp_to_wave(
+    E: np.ndarray,
+    r: np.ndarray,
+    kp: int,
+    hi: int,
+    floor: int,
+    sign: int,
+    kappa_per_V: float,
+    span_thermal: tuple[float, float],
+) -> int:
+    """Keep the foot end ``hi`` between the two potentials set by ``span_thermal``."""
+    below = np.nonzero(r[:kp] < 0.5 * r[kp])[0]
+    if below.size == 0:
+        return max(hi, floor)
+    E_half_peak = E[int(below[-1])]
+    ahead = sign * (E_half_peak - E) * kappa_per_V  # thermal voltages before Ep/2
+    near, far = span_thermal
+    first_near = np.nonzero(ahead[:kp] <= near)[0]
+    last_far = np.nonzero(ahead[:kp] >= far)[0]
+    upper = int(first_near[0]) if first_near.size else hi
+    lower = int(last_far[-1]) + 1 if last_far.size else floor
+    return max(min(hi, upper), lower, floor)
+
+
+def switch_step(
+    E_forward: np.ndarray,
+    i_forward: np.ndarray,
+    E_reverse: np.ndarray,
+    i_reverse: np.ndarray,
+    E_switch: float,
+    *,
+    points: int,
+    gap: int = 3,
+) -> tuple[float, float, float]:
+    """Jump of the current at the switching potential and the forward current there.
+
+    The faradaic current is continuous in time through the switch, while the charging
+    current C·dE/dt changes sign, so the jump measures twice the charging current. With
+    τ the time from the switch (here the potential distance |E − Eλ|, signed negative
+    before the switch), both sides are fitted jointly: a smooth part ``c0 + c1·τ + c2·τ²``
+    common to both sides, plus, after the switch only, the jump and the half-integer
+    powers ``√τ`` and ``τ^3/2``. Those are what the kink of E(t) adds to the faradaic
+    current: the semi-derivative of a slope (or curvature) discontinuity of the surface
+    concentration. Sharing the smooth part makes the jump much better determined than two
+    separate extrapolations. The ``gap`` points nearest the switch on each side are left
+    out: instruments (and finite-difference charging currents) put a transient there that
+    belongs to neither sweep.
+
+    Returns
+    -------
+    jump_A, forward_at_switch_A, jump_sd_unit
+        The jump (reverse minus forward, at the switch), the forward current extrapolated
+        to the switch, and the SD of the jump per unit noise SD.
+    """
+    f_sl = slice(-points - gap, -gap)
+    r_sl = slice(gap, points + gap)
+    tf = -np.abs(E_forward[f_sl] - E_switch)
+    tr = np.abs(E_reverse[r_sl] - E_switch)
+    scale = float(max(np.max(tr), np.max(-tf)))
+    t = np.concatenate([tf, tr]) / scale
+    after = np.concatenate([np.zeros(tf.size), np.ones(tr.size)])
+    root = np.sqrt(np.clip(t, 0.0, None))
+    X = np.column_stack([np.ones_like(t), t, t * t, after, after * root, after * root**3])
+    y = np.concatenate([i_forward[f_sl], i_reverse[r_sl]])
+    coef, *_ = np.linalg.lstsq(X, y, rcond=None)
+    var = np.linalg.inv(X.T @ X)[3, 3]
+    return float(coef[3]), float(coef[0]), math.sqrt(var)
+
+
+class Vertex(NamedTuple):
+    """Vertex of a parabola fitted near a peak, with the linear sensitivities of its position."""
+
+    E_V: float
+    height: float
+    grad_y: np.ndarray  # ∂E_vertex/∂y for the points in the window
+    index: np.ndarray  # indices of those points in the sweep
+
+
+def _cubic_stationary(b: np.ndarray) -> float | None:
+    """Root of p'(x) = b1 + 2 b2 x + 3 b3 x² nearest 0 at which p''(x) < 0 (a maximum)."""
+    _, b1, b2, b3 = (float(c) for c in b)
+    qa, qb, qc = 3.0 * b3, 2.0 * b2, b1
+    if abs(qa) * max(abs(qc), 1e-300) < 1e-12 * qb * qb:
+        roots = [-qc / qb] if qb != 0 else []
+    else:
+        disc = qb * qb - 4.0 * qa * qc
+        if disc < 0:
+            return None
+        q = -0.5 * (qb + math.copysign(math.sqrt(disc), qb))
+        roots = [r for r in ((q / qa) if qa else math.inf, (qc / q) if q else math.inf)]
+    best = None
+    for r in roots:
+        if (
+            math.isfinite(r)
+            and 2.0 * b2 + 6.0 * b3 * r < 0
+            and (best is None or abs(r) < abs(best))
+        ):
+            best = r
+    return best
+
+
+def _vertex_fit(E: np.ndarray, y: np.ndarray, centre: float, half_width_V: float) -> Vertex | None:
+    idx = np.nonzero(np.abs(E - centre) <= half_width_V)[0]
+    if idx.size < 7:
+        return None
+    x = (E[idx] - centre) / half_width_V  # scaled for a well-conditioned design
+    X = np.column_stack([np.ones_like(x), x, x * x, x * x * x])
+    pinv = np.linalg.pinv(X)
+    b = pinv @ y[idx]
+    xv = _cubic_stationary(b)
+    if xv is None or abs(xv) > 1.0:
+        return None
+    # implicit differentiation of p'(xv) = 0: d(xv)/db = -(0, 1, 2 xv, 3 xv^2) / p''(xv)
+    curvature = 2.0 * b[2] + 6.0 * b[3] * xv
+    dvdb = -np.array([0.0, 1.0, 2.0 * xv, 3.0 * xv * xv]) / curvature
+    height = float(b[0] + b[1] * xv + b[2] * xv**2 + b[3] * xv**3)
+    return Vertex(centre + half_width_V * xv, height, half_width_V * (dvdb @ pinv), idx)
+
+
+def peak_vertex(E: np.ndarray, y: np.ndarray, k: int, half_width_V: float) -> Vertex | None:
+    """Vertex of a low-order polynomial fitted to the points within ``half_width_V``.
+
+    A cubic is used rather than a parabola because a voltammetric peak is skewed: over
+    ±0.35·|Ep − Ep/2| a parabola puts the peak of a reversible wave ~1 mV (n = 1) off and
+    a cubic 0.03 mV; over ±0.6·|Ep − Ep/2|, which halves the noise of the position, the
+    cubic is 0.3 mV off (the skew of the forward and reverse peaks then largely cancels
+    in E½). The first fit is centred on the sampled extremum ``E[k]`` and
+    repeated once centred on its vertex, so the window is symmetric about the peak.
+    Returns None when the window holds fewer than seven points, there is no maximum, or
+    the vertex falls outside the window (no guess is made).
+    """
+    first = _vertex_fit(E, y, float(E[k]), half_width_V)
+    if first is None:
+        return None
+    second = _vertex_fit(E, y, first.E_V, half_width_V)
+    return second if second is not None else first
+
+
+def rising_crossing(E: np.ndarray, y: np.ndarray, k: int, level: float) -> float | None:
+    """Potential where ``y`` last rises through ``level`` before index ``k`` (interpolated)."""
+    below = np.nonzero(y[:k] < level)[0]
+    if below.size == 0:
+        return None
+    j = int(below[-1])
+    if j + 1 > k:
+        return None
+    y0, y1 = y[j], y[j + 1]
+    if y1 == y0:
+        return float(E[j])
+    return float(E[j] + (level - y0) * (E[j + 1] - E[j]) / (y1 - y0))

@@ -1,0 +1,393 @@
+"""Peak analysis of one cyclic voltammogram: Epc, Epa, ipc, ipa, Ep/2, E½ ± σ, ipa/ipc.
+
+Method
+------
+*Forward peak.* The current before the wave rises is charging current plus a sloping
+background: a straight line, extrapolated under the wave as the baseline of the forward
+peak. It is fitted to the foot of the wave (window found by
+:func:`cvfit._peakfit.foot_window`, from the start of the sweep to where a Nernstian wave
+carries ~5 % of its peak) together with the exponential foot of the wave, exp(nF|E − E½|/RT)
+— the leading term of the reversible current far ahead of E½ — because the scan often
+starts only 150–200 mV before E½, and a window free of faradaic current would then be too
+short for a stable slope. A foot shorter than 2.5 RT/nF is flagged ``SHORT_BASELINE``.
+
+*Reverse peak.* On the reverse sweep the charging current C·dE/dt changes sign, so the
+level of zero faradaic current is the forward baseline shifted by the current step at the
+switching potential (twice the charging current, measured by extrapolating both sweeps
+to the switch, :func:`cvfit._peakfit.switch_step`); the sloping background, a function of
+potential, is common to both sweeps. Against that level the reverse peak (ipa)0 and the
+forward current at the switch (isp)0 are read, and the reverse/forward ratio follows from
+Nicholson's relation, which accounts for the still-decaying forward current under the
+reverse peak. The reverse peak height is reported as ratio × forward height — that is,
+against the decaying forward current as Nicholson's relation defines it. Nicholson's
+relation is used rather than a t^-1/2 extrapolation of the forward current because the
+latter needs an effective time origin that is not defined for a sweep, and fails when the
+switch lies less than ~100 mV beyond the peak, whereas the relation was derived from the
+reversible solution for every switching potential.
+
+*Positions.* A cubic is fitted to the baseline-corrected current within ±0.6·|Ep −
+Ep/2| of the sampled extremum (recentred once); its stationary point is the peak
+potential (a parabola would be biased by the skew of the peak). The
+standard error of E½ propagates the current noise (from second differences) through both
+vertices and through the forward-baseline slope, which tilts both peaks.
+
+References
+----------
+Nicholson, R. S.; Shain, I. Anal. Chem. 36 (1964) 706 (reversible peak shape, Ep/2).
+Nicholson, R. S. Anal. Chem. 38 (1966) 1406 (ipa/ipc = (ipa)0/ipc + 0.485 (isp)0/ipc + 0.086).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, fields
+from typing import Literal
+
+import numpy as np
+
+from . import _peakfit as pf
+from .flags import Flag
+from .units import thermal_voltage
+from .voltammogram import Sweep, Voltammogram
+
+__all__ = ["analyse_peaks", "PeakAnalysis"]
+
+#: Minimum peak height in noise SDs for a peak to count as found.
+MIN_HEIGHT_SNR = 5.0
+#: Fraction of the peak height at which the foot of the wave is taken to end.
+FOOT_FRACTION = 0.05
+#: Half-width of the vertex window as a fraction of |Ep - Ep/2|.
+VERTEX_WINDOW_FRACTION = 0.6
+#: Foot windows shorter than this many thermal voltages RT/nF give a warning.
+SHORT_FOOT_THERMAL = 2.5
+#: Nicholson (1966) coefficients of the current-ratio relation.
+_NICHOLSON_ISP = 0.485
+_NICHOLSON_CONST = 0.086
+
+_OPTIONAL = (
+    "Epc_V",
+    "Epa_V",
+    "ipc_A",
+    "ipa_A",
+    "Ep_half_c_V",
+    "Ep_half_a_V",
+    "E_half_V",
+    "E_half_stderr_V",
+    "delta_Ep_V",
+    "current_ratio",
+)
+
+
+@dataclass(frozen=True)
+class PeakAnalysis:
+    """Peak data of one cycle of one voltammogram (SI units, IUPAC sign).
+
+    Peak currents are heights as positive magnitudes, each against its proper baseline.
+    Values that could not be measured are None and a flag says why.
+    """
+
+    source: str
+    cycle_number: int
+    first_sweep: Literal["reduction", "oxidation"]
+    switching_potential_V: float
+    Epc_V: float | None
+    Epa_V: float | None
+    ipc_A: float | None
+    ipa_A: float | None
+    Ep_half_c_V: float | None
+    Ep_half_a_V: float | None
+    E_half_V: float | None
+    E_half_stderr_V: float | None
+    delta_Ep_V: float | None
+    current_ratio: float | None
+    noise_A: float
+    flags: tuple[Flag, ...] = ()
+
+    def __post_init__(self) -> None:
+        if self.first_sweep not in ("reduction", "oxidation"):
+            raise ValueError(
+                f"first_sweep must be 'reduction' or 'oxidation', got {self.first_sweep!r}"
+            )
+        if isinstance(self.cycle_number, bool) or int(self.cycle_number) < 1:
+            raise ValueError(f"cycle_number must be >= 1, got {self.cycle_number!r}")
+        for name in ("switching_potential_V", "noise_A"):
+            value = float(getattr(self, name))
+            if not math.isfinite(value):
+                raise ValueError(f"{name} must be finite, got {value}")
+            object.__setattr__(self, name, value)
+        if self.noise_A < 0:
+            raise ValueError(f"noise_A must be >= 0, got {self.noise_A}")
+        for name in _OPTIONAL:
+            value = getattr(self, name)
+            if value is not None:
+                value = float(value)
+                if not math.isfinite(value):
+                    raise ValueError(f"{name} must be finite or None, got {value}")
+                object.__setattr__(self, name, value)
+        for name in ("ipc_A", "ipa_A", "E_half_stderr_V"):
+            value = getattr(self, name)
+            if value is not None and value < 0:
+                raise ValueError(f"{name} must be >= 0, got {value}")
+        flags = tuple(self.flags)
+        if not all(isinstance(f, Flag) for f in flags):
+            raise TypeError("flags must be Flag instances")
+        object.__setattr__(self, "flags", flags)
+
+    def to_dict(self) -> dict:
+        """JSON-ready mapping; missing values are None, flags are dicts."""
+        out = {f.name: getattr(self, f.name) for f in fields(self) if f.name != "flags"}
+        out["flags"] = [f.to_dict() for f in self.flags]
+        return out
+
+
+@dataclass(frozen=True)
+class _Peak:
+    E_V: float
+    height_A: float
+    E_half_peak_V: float | None
+    grad_y: np.ndarray
+    index: np.ndarray
+
+
+def _mV(x: float) -> str:
+    return f"{1e3 * x:.1f} mV"
+
+
+def _locate(
+    E: np.ndarray,
+    y: np.ndarray,
+    sigma: float,
+    which: str,
+    *,
+    edge: int,
+    half_width_V: float | None,
+) -> tuple[_Peak | None, str]:
+    """Find the peak of the oriented, baseline-corrected current ``y``; None with a reason."""
+    n = E.size
+    k = int(np.argmax(y))
+    if k < edge or k > n - 1 - edge:
+        where = "start" if k < edge else "end"
+        return None, (
+            f"the largest {which} current lies at the {where} of the sweep "
+            f"(E = {E[k]:.4f} V), so no peak is inside the sweep"
+        )
+    floor = float(np.min(y[:k]))
+    prominence = float(y[k] - floor)
+    if not prominence > MIN_HEIGHT_SNR * sigma or not y[k] > 0:
+        return None, (
+            f"the {which} peak rises only {prominence:.3g} A above the current before it, "
+            f"less than {MIN_HEIGHT_SNR:g} times the noise SD {sigma:.3g} A"
+        )
+    E_half_peak = pf.rising_crossing(E, y, k, 0.5 * y[k])
+    if half_width_V is None:
+        if E_half_peak is None:
+            return None, f"the {which} wave has no rising side below half its height"
+        half_width_V = VERTEX_WINDOW_FRACTION * abs(E[k] - E_half_peak)
+    step = float(np.median(np.abs(np.diff(E))))
+    half_width_V = max(half_width_V, 3.5 * step)
+    vertex = pf.peak_vertex(E, y, k, half_width_V)
+    if vertex is None:
+        return None, f"no cubic with a maximum fits the {which} peak near E = {E[k]:.4f} V"
+    return _Peak(vertex.E_V, vertex.height, E_half_peak, vertex.grad_y, vertex.index), ""
+
+
+def _arrays(sweep: Sweep) -> tuple[np.ndarray, np.ndarray]:
+    return np.asarray(sweep.potential_V), np.asarray(sweep.current_A)
+
+
+def analyse_peaks(
+    voltammogram: Voltammogram,
+    *,
+    cycle: int | Literal["last"] = "last",
+    electrons: int = 1,
+    temperature_K: float = 298.15,
+) -> PeakAnalysis:
+    """Measure the peaks of one cycle of a cyclic voltammogram.
+
+    Parameters
+    ----------
+    voltammogram : Voltammogram
+        The record (SI units, IUPAC sign); it is not modified.
+    cycle : int or "last"
+        1-based cycle number, or the last complete cycle.
+    electrons : int
+        n of the couple; only sets the scale of the foot-length warning.
+    temperature_K : float
+        Temperature, K; only sets the scale of the foot-length warning.
+
+    Returns
+    -------
+    PeakAnalysis
+        Peak potentials and heights; None with a flag for anything not found.
+
+    Raises
+    ------
+    InputError
+        If the requested cycle does not exist (from :meth:`Voltammogram.cycle`).
+
+    References
+    ----------
+    Nicholson, R. S.; Shain, I. Anal. Chem. 36 (1964) 706.
+    Nicholson, R. S. Anal. Chem. 38 (1966) 1406.
+    """
+    if isinstance(electrons, bool) or int(electrons) != electrons or electrons < 1:
+        raise ValueError(f"electrons must be a whole number >= 1, got {electrons!r}")
+    if not (math.isfinite(temperature_K) and temperature_K > 0):
+        raise ValueError(f"temperature_K must be positive, got {temperature_K}")
+    cyc = voltammogram.cycle(cycle)
+    fwd, rev = cyc.forward, cyc.reverse
+    s = int(fwd.direction)  # +1: forward sweep is an oxidation (anodic peak up)
+    first: Literal["reduction", "oxidation"] = "oxidation" if s > 0 else "reduction"
+    E_f, i_f = _arrays(fwd)
+    E_lam = cyc.switching_potential_V
+    flags: list[Flag] = []
+    result = dict.fromkeys(_OPTIONAL)
+    fwd_name, rev_name = ("anodic", "cathodic") if s > 0 else ("cathodic", "anodic")
+
+    arrays = [i_f] if rev is None else [i_f, np.asarray(rev.current_A)]
+    sigma = pf.noise_sd(*arrays)
+
+    def finish() -> PeakAnalysis:
+        return PeakAnalysis(
+            source=voltammogram.source,
+            cycle_number=cyc.number,
+            first_sweep=first,
+            switching_potential_V=E_lam,
+            noise_A=sigma,
+            flags=tuple(flags),
+            **result,
+        )
+
+    min_points = 8
+    if E_f.size < 4 * min_points:
+        flags.append(
+            Flag(
+                "NO_FORWARD_PEAK",
+                f"the forward sweep has only {E_f.size} points; at least {4 * min_points} "
+                "are needed to fit a baseline and locate a peak",
+                "error",
+            )
+        )
+        return finish()
+
+    # forward peak against the extrapolated foot baseline
+    kappa = 1.0 / thermal_voltage(temperature_K, electrons)
+    lo, hi, base = pf.foot_window(
+        E_f,
+        i_f,
+        s,
+        sigma,
+        kappa_per_V=kappa,
+        skip=2,
+        min_points=min_points,
+        foot_fraction=FOOT_FRACTION,
+    )
+    y_f = s * (i_f - base(E_f))
+    peak_f, why = _locate(E_f, y_f, sigma, fwd_name, edge=min_points, half_width_V=None)
+    if peak_f is None:
+        flags.append(Flag("NO_FORWARD_PEAK", why, "error"))
+        if rev is not None:
+            flags.append(
+                Flag(
+                    "NO_REVERSE_PEAK",
+                    "the reverse peak is not measured because the forward peak, whose "
+                    "baseline it needs, was not found",
+                    "error",
+                )
+            )
+        return finish()
+    foot_V = abs(E_f[hi - 1] - E_f[lo])
+    if foot_V < SHORT_FOOT_THERMAL * thermal_voltage(temperature_K, electrons):
+        flags.append(
+            Flag(
+                "SHORT_BASELINE",
+                f"the foot of the forward wave used for the baseline spans only {_mV(foot_V)} "
+                f"(less than {SHORT_FOOT_THERMAL:g} RT/nF) before the current rises, so the "
+                "extrapolated baseline and the peak heights may be off by several per cent; "
+                "start the scan further from the wave",
+                "warning",
+            )
+        )
+    if peak_f.E_half_peak_V is None:
+        flags.append(
+            Flag("NO_HALF_PEAK", "the forward wave has no rising side below half its height")
+        )
+    half_width = VERTEX_WINDOW_FRACTION * (
+        abs(peak_f.E_V - peak_f.E_half_peak_V) if peak_f.E_half_peak_V is not None else 0.02
+    )
+    X_f = base.design(E_f[peak_f.index])
+    # sensitivity of the forward vertex to the baseline (a, b): y = s (i - base)
+    g_base_f = -s * (peak_f.grad_y @ X_f)
+    var_f_noise = sigma**2 * float(peak_f.grad_y @ peak_f.grad_y)
+
+    if s > 0:
+        result.update(Epa_V=peak_f.E_V, ipa_A=peak_f.height_A, Ep_half_a_V=peak_f.E_half_peak_V)
+    else:
+        result.update(Epc_V=peak_f.E_V, ipc_A=peak_f.height_A, Ep_half_c_V=peak_f.E_half_peak_V)
+
+    if rev is None:
+        flags.append(
+            Flag(
+                "NO_REVERSE_PEAK",
+                f"cycle {cyc.number} has no reverse sweep, so no {rev_name} peak",
+                "error",
+            )
+        )
+        return finish()
+
+    E_r, i_r = _arrays(rev)
+    pts = max(10, min(E_f.size, E_r.size) // 15)
+    if E_r.size < 4 * min_points:
+        flags.append(
+            Flag(
+                "NO_REVERSE_PEAK",
+                f"the reverse sweep has only {E_r.size} points, too few to locate a peak",
+                "error",
+            )
+        )
+        return finish()
+    jump, i_switch, _ = pf.switch_step(E_f, i_f, E_r, i_r, E_lam, points=pts)
+    isp0 = s * (i_switch - float(base(np.array([E_lam]))[0]))
+    # zero-faradaic level of the reverse sweep: forward baseline + charging step
+    y_r = -s * (i_r - (base(E_r) + jump))
+    peak_r, why = _locate(E_r, y_r, sigma, rev_name, edge=min_points, half_width_V=half_width)
+    if peak_r is None:
+        flags.append(Flag("NO_REVERSE_PEAK", why, "error"))
+        return finish()
+    i_fwd = peak_f.height_A
+    ratio = peak_r.height_A / i_fwd + _NICHOLSON_ISP * isp0 / i_fwd + _NICHOLSON_CONST
+    i_rev = ratio * i_fwd
+    if not i_rev > MIN_HEIGHT_SNR * sigma:
+        flags.append(
+            Flag(
+                "NO_REVERSE_PEAK",
+                f"the {rev_name} peak height against the decaying forward current is "
+                f"{i_rev:.3g} A, less than {MIN_HEIGHT_SNR:g} times the noise SD {sigma:.3g} A",
+                "error",
+            )
+        )
+        return finish()
+    # half-peak potential of the reverse wave: half the Nicholson height below its top,
+    # taking the decaying forward current as level across the rising part of the wave
+    E_half_peak_r = pf.rising_crossing(
+        E_r, y_r, int(np.argmax(y_r)), peak_r.height_A - 0.5 * i_rev
+    )
+    X_r = base.design(E_r[peak_r.index])
+    g_base_r = s * (peak_r.grad_y @ X_r)
+    var_r_noise = sigma**2 * float(peak_r.grad_y @ peak_r.grad_y)
+    g_base = 0.5 * (g_base_f + g_base_r)
+    var_half = 0.25 * (var_f_noise + var_r_noise) + float(g_base @ base.cov @ g_base)
+
+    if s > 0:
+        result.update(Epc_V=peak_r.E_V, ipc_A=i_rev, Ep_half_c_V=E_half_peak_r)
+        E_ox, E_red = peak_f.E_V, peak_r.E_V
+    else:
+        result.update(Epa_V=peak_r.E_V, ipa_A=i_rev, Ep_half_a_V=E_half_peak_r)
+        E_ox, E_red = peak_r.E_V, peak_f.E_V
+    result.update(
+        E_half_V=0.5 * (E_ox + E_red),
+        E_half_stderr_V=math.sqrt(max(var_half, 0.0)),
+        delta_Ep_V=E_ox - E_red,
+        current_ratio=ratio,
+    )
+    return finish()
