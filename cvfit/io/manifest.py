@@ -309,8 +309,10 @@ class _Loader:
                 exc.message, self.keypath(table, key, index), self.where.line(table, key, index)
             ) from None
         except ValueError as exc:
+            # A record outside cvfit.io (ReversibilityCriteria) names the field in words.
+            key = next((k for k in values if str(exc).startswith(k)), None)
             raise self.fail(
-                str(exc), self.keypath(table, None, index), self.where.line(table, None, index)
+                str(exc), self.keypath(table, key, index), self.where.line(table, key, index)
             ) from None
 
     def require(self, values: dict, key: str, table: str, index: int | None = None) -> None:

@@ -9,9 +9,18 @@ from dataclasses import dataclass, fields, replace
 from typing import Literal
 
 from ..errors import InputError
-from ..units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
 
-__all__ = ["ImportOptions", "IMPORT_KEYS", "DELIMITERS"]
+__all__ = [
+    "ImportOptions",
+    "IMPORT_KEYS",
+    "DELIMITERS",
+    "POTENTIAL_UNIT_NAMES",
+    "CURRENT_UNIT_NAMES",
+]
+
+#: Unit spellings accepted for ``potential_unit`` and ``current_unit`` (as in the schema).
+POTENTIAL_UNIT_NAMES: tuple[str, ...] = ("V", "mV")
+CURRENT_UNIT_NAMES: tuple[str, ...] = ("A", "mA", "uA", "\u00b5A", "\u03bcA", "nA", "pA")
 
 #: Accepted spellings of a delimiter and the canonical value each one means.
 DELIMITERS: dict[str, str] = {
@@ -72,14 +81,14 @@ class ImportOptions:
     def __post_init__(self) -> None:
         for name in ("potential_column", "current_column", "time_column"):
             _check_column(name, getattr(self, name))
-        for name, table in (("potential_unit", POTENTIAL_UNITS), ("current_unit", CURRENT_UNITS)):
+        for name, allowed in (
+            ("potential_unit", POTENTIAL_UNIT_NAMES),
+            ("current_unit", CURRENT_UNIT_NAMES),
+        ):
             unit = getattr(self, name)
-            if unit is None:
-                continue
-            if not isinstance(unit, str) or normalise_unit(unit) not in table:
+            if unit is not None and unit not in allowed:
                 raise InputError(
-                    f"{name} {unit!r} is not known; use one of {', '.join(sorted(table))}",
-                    key=name,
+                    f"{name} {unit!r} is not known; use one of {', '.join(allowed)}", key=name
                 )
         if self.anodic_current not in (None, "positive", "negative"):
             raise InputError(
