@@ -1,0 +1,148 @@
+"""`cvfit simulate` and the titration-series writer: files, round trips, bad input."""
+
+from __future__ import annotations
+
+import argparse
+import tomllib
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from cvfit.cli import simulate as cli_simulate
+from cvfit.complexation import complexed_half_wave_V
+from cvfit.errors import InputError, SimulationError
+from cvfit.simulate import simulate_cv, simulate_series
+
+
+def run(argv: list[str]) -> int:
+    parser = argparse.ArgumentParser(prog="cvfit")
+    sub = parser.add_subparsers(dest="command")
+    cli_simulate.register(sub)
+    args = parser.parse_args(["simulate", *argv])
+    return args.handler(args)
+
+
+def midpoint(E, i):
+    turn = int(np.argmin(E))
+    return 0.5 * (E[:turn][np.argmin(i[:turn])] + E[turn:][np.argmax(i[turn:])])
+
+
+def test_cli_writes_csv_that_round_trips(tmp_path, capsys):
+    out = tmp_path / "cv.csv"
+    argv = ["--e-half", "0.1", "--start", "0.5", "--switch", "-0.3", "--scan-rate", "0.05",
+            "--concentration", "2", "--k0", "0.05", "--noise", "0.002", "--seed", "3",
+            "--out", str(out)]  # fmt: skip
+    assert run(argv) == 0
+    printed = capsys.readouterr().out
+    assert printed.count("\n") == 1 and str(out) in printed
+    table = pd.read_csv(out)
+    assert list(table.columns) == ["time_s", "potential_V", "current_A"]
+    ref = simulate_cv(
+        E_half_V=0.1, start_V=0.5, switch_V=-0.3, scan_rate_V_s=0.05, concentration_M=2e-3,
+        k0_cm_s=0.05, noise_fraction=0.002, seed=3,
+    )  # fmt: skip
+    np.testing.assert_array_equal(table["current_A"].to_numpy(), ref.current_A)
+    np.testing.assert_array_equal(table["potential_V"].to_numpy(), ref.potential_V)
+    np.testing.assert_array_equal(table["time_s"].to_numpy(), ref.time_s)
+
+
+def test_cli_refuses_to_overwrite_without_force(tmp_path, capsys):
+    out = tmp_path / "cv.csv"
+    out.write_text("keep me\n")
+    with pytest.raises(InputError) as err:
+        run(["--e-half", "0", "--out", str(out)])
+    assert err.value.key == "--out" and out.read_text() == "keep me\n"
+    assert run(["--e-half", "0", "--out", str(out), "--force"]) == 0
+    assert out.read_text().startswith("time_s,potential_V,current_A\n")
+
+
+def test_cli_several_vertices_by_repeat_and_comma(tmp_path):
+    a, b = tmp_path / "a.csv", tmp_path / "b.csv"
+    common = ["--e-half", "0", "--start", "0.2", "--step", "0.002"]
+    assert run([*common, "--switch", "-0.3", "--switch", "0.4", "--out", str(a)]) == 0
+    # a list that starts with a minus sign needs the "=" form for argparse
+    assert run([*common, "--switch=-0.3,0.4", "--out", str(b)]) == 0
+    Ea = np.loadtxt(a, delimiter=",", skiprows=1)[:, 1]
+    np.testing.assert_array_equal(Ea, np.loadtxt(b, delimiter=",", skiprows=1)[:, 1])
+    assert Ea.min() == pytest.approx(-0.3) and Ea.max() == pytest.approx(0.4)
+
+
+@pytest.mark.parametrize(
+    ("argv", "key"),
+    [(["--scan-rate", "fast"], "--scan-rate"), (["--scan-rate", "-1"], "--scan-rate"),
+     (["--electrons", "1.5"], "--electrons"), (["--alpha", "1.2"], "--alpha"),
+     (["--k0", "0"], "--k0"), (["--concentration", "nan"], "--concentration"),
+     (["--switch", "0.1,x"], "--switch"), (["--noise", "-0.1"], "--noise"),
+     (["--diffusion", "0"], "--diffusion"), (["--seed", "-4"], "--seed")],
+)  # fmt: skip
+def test_cli_bad_values_raise_input_error(tmp_path, argv, key):
+    with pytest.raises(InputError) as err:
+        run(["--e-half", "0", "--out", str(tmp_path / "x.csv"), *argv])
+    assert err.value.key == key and err.value.source == "<command line>"
+    assert not (tmp_path / "x.csv").exists()
+
+
+def test_cli_missing_required_and_simulator_refusal(tmp_path):
+    with pytest.raises(InputError) as err:
+        run(["--out", str(tmp_path / "x.csv")])
+    assert err.value.key == "--e-half"
+    with pytest.raises(InputError) as err:
+        run(["--e-half", "0"])
+    assert err.value.key == "--out"
+    with pytest.raises(InputError) as err:  # switch equal to start: the path has no sweep
+        run(["--e-half", "0", "--start", "0.2", "--switch", "0.2", "--out", str(tmp_path / "x")])
+    assert err.value.source == "<command line>"
+
+
+def test_series_writes_manifest_and_files_following_the_constants(tmp_path):
+    ligands = [0.0, 1e-3, 1e-2, 1e-1]
+    beta_ox, beta_red = [3.0, 5.5], [1.0]
+    manifest = simulate_series(
+        tmp_path / "s", ligand_M=ligands, E_half_free_V=0.05, log10_beta_ox=beta_ox,
+        log10_beta_red=beta_red, title='say "hi"\\ok', noise_fraction=1e-3, seed=11,
+        start_V=0.35, switch_V=-0.45, step_V=0.002, temperature_K=303.15,
+    )  # fmt: skip
+    data = tomllib.loads(manifest.read_text(encoding="utf-8"))
+    assert set(data) == {"series", "voltammogram"}
+    assert data["series"] == {"title": 'say "hi"\\ok', "temperature_C": pytest.approx(30.0),
+                              "electrons": 1}  # fmt: skip
+    entries = data["voltammogram"]
+    assert [e["ligand_M"] for e in entries] == ligands
+    expected = complexed_half_wave_V(0.05, ligand_M=np.array(ligands), log10_beta_ox=beta_ox,
+                                     log10_beta_red=beta_red, temperature_K=303.15)  # fmt: skip
+    noises = []
+    for entry, E_half in zip(entries, expected, strict=True):
+        assert (
+            set(entry) == {"file", "ligand_M", "scan_rate_V_s"} and entry["scan_rate_V_s"] == 0.1
+        )
+        table = np.loadtxt(manifest.parent / entry["file"], delimiter=",", skiprows=1)
+        # reversible midpoint (Epa + Epc)/2 sits within a few tenths of a mV of E1/2
+        assert midpoint(table[:, 1], table[:, 2]) == pytest.approx(E_half, abs=1.5e-3)
+        noises.append(table[:20, 2])  # flat region: noise only
+    assert not np.allclose(noises[0], noises[1])  # each file has its own seed
+    with pytest.raises(SimulationError):  # never overwrite silently
+        simulate_series(tmp_path / "s", ligand_M=ligands, E_half_free_V=0.05,
+                        log10_beta_ox=beta_ox, log10_beta_red=beta_red, start_V=0.35,
+                        switch_V=-0.45)  # fmt: skip
+
+
+def test_cli_series_form(tmp_path, capsys):
+    out = tmp_path / "series"
+    argv = ["--series", "--e-half", "-0.2", "--electrons", "2", "--ligand-M", "0.001,0.01,0.1",
+            "--log-beta-ox", "6", "--step", "0.001", "--out", str(out)]  # fmt: skip
+    assert run(argv) == 0
+    assert "3 voltammograms" in capsys.readouterr().out
+    data = tomllib.loads((out / "series.toml").read_text(encoding="utf-8"))
+    assert data["series"]["electrons"] == 2
+    assert data["series"]["E_half_free_V"] == -0.2  # no ligand-free file in this series
+    E = [pd.read_csv(out / e["file"])["potential_V"] for e in data["voltammogram"]]
+    assert all(list(pd.read_csv(out / e["file"]).columns)[1] == "potential_V"
+               for e in data["voltammogram"])  # fmt: skip
+    assert max(e.max() for e in E) > -0.2 and len(E) == 3
+    with pytest.raises(InputError):
+        run(argv)  # exists: refused
+    assert run([*argv, "--force"]) == 0
+    with pytest.raises(InputError) as err:
+        run(["--series", "--e-half", "0", "--out", str(tmp_path / "t")])
+    assert err.value.key == "--ligand-M"
