@@ -53,6 +53,13 @@ def _need_number(value: object, key: str, *, optional: bool = True) -> float | N
     return float(value)
 
 
+def _whole(value: object) -> object:
+    """An integral float (``2.0``) as an int, as JSON Schema's "integer" treats it."""
+    if isinstance(value, float) and value.is_integer():
+        return int(value)
+    return value
+
+
 def _need_text(value: object, key: str) -> None:
     if value is not None and not isinstance(value, str):
         raise InputError(f"{key} must be a text string, got {value!r}", key=key)
@@ -90,7 +97,8 @@ class SeriesSettings:
     def __post_init__(self) -> None:
         _need_text(self.title, "title")
         _need_text(self.reference_electrode, "reference_electrode")
-        e = self.electrons
+        e = _whole(self.electrons)
+        object.__setattr__(self, "electrons", e)
         if isinstance(e, bool) or not isinstance(e, int) or e < 1:
             raise InputError(
                 f"electrons must be a positive whole number, got {e!r}", key="electrons"
@@ -152,7 +160,8 @@ class FitSettings:
             raise InputError(
                 f"model must be 'lingane' or 'stepwise', got {self.model!r}", key="model"
             )
-        j = self.max_complexes
+        j = _whole(self.max_complexes)
+        object.__setattr__(self, "max_complexes", j)
         if isinstance(j, bool) or not isinstance(j, int) or not 1 <= j <= MAX_COMPLEXES_LIMIT:
             raise InputError(
                 f"max_complexes must be a whole number 1–{MAX_COMPLEXES_LIMIT}, got {j!r}",
@@ -324,6 +333,11 @@ class _Loader:
             )
 
 
+def _whole_import(table: dict) -> dict:
+    keys = ("potential_column", "current_column", "time_column", "cycle")
+    return {k: _whole(v) if k in keys else v for k, v in table.items()}
+
+
 def _read(path: Path) -> tuple[str, dict[str, Any]]:
     source = str(path)
     if not path.exists():
@@ -391,6 +405,7 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
     series_settings = ld.build(SeriesSettings, {"title": p.stem, **series}, "series")
     imp = ld.table(data, "import")
     ld.check_keys(imp, IMPORT_KEYS, "import", None)
+    imp = _whole_import(imp)
     import_options = ld.build(ImportOptions, imp, "import")
     fit = ld.table(data, "fit")
     ld.check_keys(fit, FIT_KEYS, "fit", None)
@@ -420,7 +435,7 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
         ld.check_keys(raw, ENTRY_KEYS, "voltammogram", index)
         ld.require(raw, "file", "voltammogram", index)
         ld.require(raw, "ligand_M", "voltammogram", index)
-        per_file = {k: raw[k] for k in IMPORT_KEYS if k in raw}
+        per_file = _whole_import({k: raw[k] for k in IMPORT_KEYS if k in raw})
         options = ld.build(ImportOptions, {**imp, **per_file}, "voltammogram", index)
         name = raw["file"]
         if not isinstance(name, str) or not name.strip():

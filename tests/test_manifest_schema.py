@@ -1,0 +1,180 @@
+"""schemas/series.schema.json and load_manifest accept and reject the same manifests."""
+
+from __future__ import annotations
+
+import json
+import tomllib
+from pathlib import Path
+
+import jsonschema
+import pytest
+
+from cvfit.errors import InputError
+from cvfit.io import load_manifest
+from cvfit.io.manifest import ENTRY_KEYS, FIT_KEYS, REVERSIBILITY_KEYS, SERIES_KEYS, TABLES
+from cvfit.io.options import IMPORT_KEYS
+
+SCHEMA_PATH = Path(__file__).resolve().parents[1] / "schemas" / "series.schema.json"
+SCHEMA = json.loads(SCHEMA_PATH.read_text(encoding="utf-8"))
+VALIDATOR = jsonschema.Draft202012Validator(SCHEMA)
+
+BASE = '[series]\nelectrons = 1\n\n[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.0\n'
+
+GOOD = {
+    "minimal": BASE,
+    "full": """
+[series]
+title = "t"
+temperature_C = 37
+electrons = 2
+metal_total_M = 5e-4
+E_half_free_V = -0.41
+E_half_free_stderr_V = 0.0005
+reference_electrode = "SCE"
+[import]
+potential_column = "E/V"
+current_column = 1
+time_column = "t/s"
+potential_unit = "mV"
+current_unit = "µA"
+anodic_current = "negative"
+delimiter = "\\t"
+decimal = ","
+cycle = "last"
+[fit]
+model = "lingane"
+max_complexes = 8
+exclude_non_nernstian = false
+[reversibility]
+n_delta_Ep_margin_V = 0.02
+n_peak_width_margin_V = 0.015
+current_ratio_margin = 0.1
+[[voltammogram]]
+file = "a.csv"
+ligand_M = 0
+scan_rate_V_s = 0.2
+label = "free"
+cycle = 3
+delimiter = "whitespace"
+[[voltammogram]]
+file = "b.csv"
+ligand_M = 1e-3
+current_unit = "nA"
+potential_column = 0
+""",
+    "temperature_edges": BASE.replace("electrons = 1", "electrons = 1\ntemperature_C = 0"),
+    "tab_word": BASE + 'delimiter = "tab"\n',
+    # JSON Schema counts 2.0 as an integer; so does the loader.
+    "integral_floats": BASE.replace("electrons = 1", "electrons = 2.0") + "cycle = 2.0\n",
+}
+
+BAD = {
+    "no_series": '[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.0\n',
+    "no_voltammogram": "[series]\nelectrons = 1\n",
+    "empty_voltammogram_list": "voltammogram = []\n[series]\nelectrons = 1\n",
+    "unknown_top": BASE + "[extra]\nx = 1\n",
+    "unknown_series_key": BASE.replace("electrons = 1", "electrons = 1\nelectrode = 'x'"),
+    "unknown_entry_key": BASE + "ligand_mM = 1\n",
+    "unknown_import_key": BASE + "[import]\nsep = ','\n",
+    "unknown_fit_key": BASE + "[fit]\nmodels = 'lingane'\n",
+    "unknown_rev_key": BASE + "[reversibility]\nratio = 0.1\n",
+    "electrons_zero": BASE.replace("electrons = 1", "electrons = 0"),
+    "electrons_float": BASE.replace("electrons = 1", "electrons = 1.5"),
+    "electrons_string": BASE.replace("electrons = 1", 'electrons = "1"'),
+    "electrons_missing": BASE.replace("electrons = 1", "title = 'x'"),
+    "hot": BASE.replace("electrons = 1", "electrons = 1\ntemperature_C = 100.5"),
+    "negative_ligand": BASE.replace("ligand_M = 0.0", "ligand_M = -1e-6"),
+    "ligand_string": BASE.replace("ligand_M = 0.0", "ligand_M = '0'"),
+    "ligand_missing": BASE.replace("ligand_M = 0.0", ""),
+    "file_missing": BASE.replace('file = "a.csv"', ""),
+    "file_empty": BASE.replace('"a.csv"', '""'),
+    "scan_rate_zero": BASE + "scan_rate_V_s = 0\n",
+    "metal_zero": BASE.replace("electrons = 1", "electrons = 1\nmetal_total_M = 0"),
+    "stderr_negative": BASE.replace(
+        "electrons = 1", "electrons = 1\nE_half_free_V = 0.1\nE_half_free_stderr_V = -1"
+    ),
+    "stderr_alone": BASE.replace("electrons = 1", "electrons = 1\nE_half_free_stderr_V = 0.1"),
+    "bad_model": BASE + "[fit]\nmodel = 'cubic'\n",
+    "max_complexes_9": BASE + "[fit]\nmax_complexes = 9\n",
+    "exclude_string": BASE + "[fit]\nexclude_non_nernstian = 'yes'\n",
+    "margin_zero": BASE + "[reversibility]\ncurrent_ratio_margin = 0\n",
+    "bad_unit": BASE + "current_unit = 'amp'\n",
+    "bad_potential_unit": BASE + "[import]\npotential_unit = 'uV'\n",
+    "bad_sign": BASE + "anodic_current = 'cathodic'\n",
+    "bad_delimiter": BASE + "delimiter = '|'\n",
+    "bad_decimal": BASE + "[import]\ndecimal = ';'\n",
+    "cycle_zero": BASE + "cycle = 0\n",
+    "cycle_word": BASE + "cycle = 'first'\n",
+    "column_negative": BASE + "potential_column = -1\n",
+    "column_empty": BASE + "current_column = ''\n",
+    "label_number": BASE + "label = 3\n",
+    "title_number": BASE.replace("electrons = 1", "electrons = 1\ntitle = 3"),
+}
+
+
+def _write(tmp_path, text: str) -> Path:
+    for name in ("a.csv", "b.csv"):
+        (tmp_path / name).write_text("E/V,I/A\n", encoding="utf-8")
+    p = tmp_path / "m.toml"
+    p.write_text(text, encoding="utf-8")
+    return p
+
+
+def _schema_ok(text: str) -> bool:
+    return VALIDATOR.is_valid(tomllib.loads(text))
+
+
+def _loader_ok(path: Path) -> bool:
+    try:
+        load_manifest(path)
+    except InputError:
+        return False
+    return True
+
+
+def test_schema_is_valid_2020_12():
+    jsonschema.Draft202012Validator.check_schema(SCHEMA)
+    assert SCHEMA["$schema"].endswith("2020-12/schema")
+
+
+@pytest.mark.parametrize("name", sorted(GOOD))
+def test_good_manifests_agree(tmp_path, name):
+    assert _schema_ok(GOOD[name])
+    assert _loader_ok(_write(tmp_path, GOOD[name]))
+
+
+@pytest.mark.parametrize("name", sorted(BAD))
+def test_bad_manifests_agree(tmp_path, name):
+    assert not _schema_ok(BAD[name]), name
+    assert not _loader_ok(_write(tmp_path, BAD[name])), name
+
+
+def _objects(node):
+    if isinstance(node, dict):
+        if node.get("type") == "object":
+            yield node
+        for value in node.values():
+            yield from _objects(value)
+    elif isinstance(node, list):
+        for value in node:
+            yield from _objects(value)
+
+
+def test_every_object_is_closed_and_documented():
+    objects = list(_objects(SCHEMA))
+    assert len(objects) == 6
+    for obj in objects:
+        assert obj["additionalProperties"] is False
+        assert "description" in obj or obj is SCHEMA["properties"]["voltammogram"]["items"]
+    for key, prop in SCHEMA["$defs"].items():
+        assert prop["description"], key
+
+
+def test_schema_keys_match_loader_keys():
+    props = SCHEMA["properties"]
+    assert set(props) == set(TABLES)
+    assert set(props["series"]["properties"]) == set(SERIES_KEYS)
+    assert set(props["import"]["properties"]) == set(IMPORT_KEYS)
+    assert set(props["fit"]["properties"]) == set(FIT_KEYS)
+    assert set(props["reversibility"]["properties"]) == set(REVERSIBILITY_KEYS)
+    assert set(props["voltammogram"]["items"]["properties"]) == set(ENTRY_KEYS)
