@@ -7,6 +7,8 @@ points) so these checks do not depend on the project's peak module.
 from __future__ import annotations
 
 import math
+import subprocess
+import sys
 
 import numpy as np
 import pytest
@@ -302,3 +304,18 @@ def test_invalid_settings_raise(bad):
     kw.update(bad)
     with pytest.raises(SimulationError):
         simulate_cv(**kw)
+
+
+def test_runs_without_numba():
+    # The pure-NumPy path must work where numba is not installed (blocked in a subprocess).
+    code = (
+        "import sys; sys.modules['numba'] = None\n"
+        "from cvfit import _sim_kernel\n"
+        "from cvfit.simulate import simulate_cv\n"
+        "assert not _sim_kernel.HAVE_NUMBA\n"
+        "vg = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=-0.3, step_V=0.004)\n"
+        "print(repr(float(vg.current_A.min())))\n"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    compiled = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=-0.3, step_V=0.004)
+    assert float(done.stdout) == pytest.approx(float(compiled.current_A.min()), rel=1e-10)
