@@ -161,8 +161,14 @@ def _locate(
     *,
     edge: int,
     half_width_V: float | None,
+    against_baseline: bool,
 ) -> tuple[_Peak | None, str]:
-    """Find the peak of the oriented, baseline-corrected current ``y``; None with a reason."""
+    """Find the peak of the oriented, baseline-corrected current ``y``; None with a reason.
+
+    With ``against_baseline`` the peak must stand ``MIN_HEIGHT_SNR`` noise SDs above zero
+    (the forward peak over its baseline); otherwise above the lowest current before it (the
+    reverse peak, whose zero-faradaic level lies below the still-decaying forward current).
+    """
     n = E.size
     k = int(np.argmax(y))
     if k < edge or k > n - 1 - edge:
@@ -171,12 +177,14 @@ def _locate(
             f"the largest {which} current lies at the {where} of the sweep "
             f"(E = {E[k]:.4f} V), so no peak is inside the sweep"
         )
-    floor = float(np.min(y[:k]))
-    prominence = float(y[k] - floor)
-    if not prominence > MIN_HEIGHT_SNR * sigma or not y[k] > 0:
+    if against_baseline:
+        rise, what = float(y[k]), "above its baseline"
+    else:
+        rise, what = float(y[k] - np.min(y[:k])), "above the current before it"
+    if not rise > MIN_HEIGHT_SNR * sigma:
         return None, (
-            f"the {which} peak rises only {prominence:.3g} A above the current before it, "
-            f"less than {MIN_HEIGHT_SNR:g} times the noise SD {sigma:.3g} A"
+            f"the {which} peak rises only {rise:.3g} A {what}, "
+            f"not more than {MIN_HEIGHT_SNR:g} times the noise SD {sigma:.3g} A"
         )
     E_half_peak = pf.rising_crossing(E, y, k, 0.5 * y[k])
     if half_width_V is None:
@@ -283,7 +291,9 @@ def analyse_peaks(
         foot_fraction=FOOT_FRACTION,
     )
     y_f = s * (i_f - base(E_f))
-    peak_f, why = _locate(E_f, y_f, sigma, fwd_name, edge=min_points, half_width_V=None)
+    peak_f, why = _locate(
+        E_f, y_f, sigma, fwd_name, edge=min_points, half_width_V=None, against_baseline=True
+    )
     if peak_f is None:
         flags.append(Flag("NO_FORWARD_PEAK", why, "error"))
         if rev is not None:
@@ -350,7 +360,9 @@ def analyse_peaks(
     isp0 = s * (i_switch - float(base(np.array([E_lam]))[0]))
     # zero-faradaic level of the reverse sweep: forward baseline + charging step
     y_r = -s * (i_r - (base(E_r) + jump))
-    peak_r, why = _locate(E_r, y_r, sigma, rev_name, edge=min_points, half_width_V=half_width)
+    peak_r, why = _locate(
+        E_r, y_r, sigma, rev_name, edge=min_points, half_width_V=half_width, against_baseline=False
+    )
     if peak_r is None:
         flags.append(Flag("NO_REVERSE_PEAK", why, "error"))
         return finish()

@@ -1,0 +1,237 @@
+"""Peak analysis on simulated voltammograms with known answers.
+
+Reference values:
+- Randles–Ševčík peak current, ip = 0.4463 nFAC (nFvD/RT)^1/2 (Nicholson & Shain, Anal. Chem.
+  36 (1964) 706), computed by cvfit.simulate.randles_sevcik_peak_current_A.
+- Reversible E½ is the midpoint of Epa and Epc; the midpoint moves by (ΔEp − 57.0/n mV)/2
+  with the switching potential (Nicholson & Shain 1964, from memory), ≤ 0.3 mV for the
+  switches used here.
+- Nicholson, Anal. Chem. 38 (1966) 1406: ipa/ipc = (ipa)0/ipc + 0.485 (isp)0/ipc + 0.086
+  gives 1.00 ± 0.02 on reversible CVs (from memory).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pytest
+
+from cvfit.peaks import PeakAnalysis, analyse_peaks
+from cvfit.simulate import randles_sevcik_peak_current_A, simulate_cv
+from cvfit.voltammogram import Voltammogram
+
+E_HALF = 0.105  # V, arbitrary
+C_DL = 20e-6  # F, with A = 0.0707 cm² and v = 0.1 V/s: ~2 µA of charging current
+SLOPE = 6e-6  # A/V sloping background
+OFFSET = 0.4e-6  # A
+
+
+def _rs(n: int) -> float:
+    return randles_sevcik_peak_current_A(
+        electrons=n, concentration_M=1e-3, area_cm2=0.0707, D_cm2_s=1e-5, scan_rate_V_s=0.1
+    )
+
+
+def _sim(n, first, start_off, switch_off, *, noise=0.005, seed=0, **kw):
+    """Reversible CV; offsets are |E − E½| of start and switch, V."""
+    d = -1.0 if first == "reduction" else 1.0
+    return simulate_cv(
+        E_half_V=E_HALF,
+        start_V=E_HALF - d * start_off,
+        switch_V=E_HALF + d * switch_off,
+        electrons=n,
+        initial_species="ox" if first == "reduction" else "red",
+        double_layer_F=C_DL,
+        background_slope_A_per_V=SLOPE,
+        background_offset_A=OFFSET,
+        noise_fraction=noise,
+        seed=seed,
+        **kw,
+    )
+
+
+# start 200 mV (n = 1) / 150 mV (n = 2) before E½; switch n·|Eλ − E½| = 500 / 400 mV
+GEOMETRY = {1: (0.20, 0.50), 2: (0.15, 0.20)}
+CASES = [(n, first) for n in (1, 2) for first in ("reduction", "oxidation")]
+
+
+@pytest.fixture(scope="module")
+def accuracy_runs():
+    out = {}
+    for n, first in CASES:
+        start, switch = GEOMETRY[n]
+        out[n, first] = [
+            analyse_peaks(_sim(n, first, start, switch, seed=s), electrons=n) for s in range(3)
+        ]
+    return out
+
+
+@pytest.mark.parametrize(("n", "first"), CASES)
+def test_E_half_within_half_mV(accuracy_runs, n, first):
+    # requirement: E½ within 0.5 mV of truth at 0.5 % noise, charging current and slope present
+    for p in accuracy_runs[n, first]:
+        assert p.first_sweep == first
+        assert p.flags == ()
+        assert abs(p.E_half_V - E_HALF) < 0.5e-3, p.E_half_V - E_HALF
+
+
+@pytest.mark.parametrize(("n", "first"), CASES)
+def test_forward_peak_height_against_randles_sevcik(accuracy_runs, n, first):
+    # Randles–Ševčík (Nicholson & Shain 1964): 0.4463 nFAC(nFvD/RT)^1/2, within 2 %
+    ip = _rs(n)
+    for p in accuracy_runs[n, first]:
+        height = p.ipc_A if first == "reduction" else p.ipa_A
+        assert height == pytest.approx(ip, rel=0.02)
+
+
+@pytest.mark.parametrize(("n", "first"), CASES)
+def test_peak_potentials_and_separation(accuracy_runs, n, first):
+    # Nicholson & Shain 1964 (from memory): Ep − E½ = ∓1.109 RT/nF = ∓28.5/n mV; n·ΔEp lies
+    # between 57.8 mV (n·|Eλ − E½| = 271.5 mV) and 57.0 mV (∞) for these switches (Bard &
+    # Faulkner Table 6.2.1, from memory); |Ep − Ep/2| = 2.20 RT/nF = 56.5/n mV
+    for p in accuracy_runs[n, first]:
+        assert p.Epc_V - E_HALF == pytest.approx(-0.0285 / n, abs=1.0e-3)
+        # Epa moves outwards by up to 0.8/n mV for these switches (same table)
+        assert p.Epa_V - E_HALF == pytest.approx(0.0285 / n, abs=1.5e-3)
+        assert 0.0565 < n * p.delta_Ep_V < 0.0593
+        forward_width = (
+            abs(p.Epc_V - p.Ep_half_c_V) if first == "reduction" else abs(p.Epa_V - p.Ep_half_a_V)
+        )
+        assert n * forward_width == pytest.approx(0.0565, abs=1.5e-3)
+
+
+def test_noise_estimate_matches_simulated_noise(accuracy_runs):
+    # simulate_cv noise SD = noise_fraction × Randles–Ševčík current
+    for n, first in CASES:
+        for p in accuracy_runs[n, first]:
+            assert p.noise_A == pytest.approx(0.005 * _rs(n), rel=0.12)
+
+
+@pytest.mark.parametrize("n", [1, 2])
+@pytest.mark.parametrize("n_offset_V", [0.15, 0.2, 0.3])
+def test_current_ratio_is_one_for_reversible(n, n_offset_V):
+    # Nicholson 1966 (from memory): 1.00 ± 0.02 on reversible CVs for various switches
+    first = "reduction" if n_offset_V != 0.2 else "oxidation"
+    v = _sim(n, first, 0.25 / n, n_offset_V / n, noise=0.002, seed=11)
+    p = analyse_peaks(v, electrons=n)
+    assert p.current_ratio == pytest.approx(1.0, abs=0.02)
+    reverse = p.ipa_A if first == "reduction" else p.ipc_A
+    assert reverse == pytest.approx(p.current_ratio * (p.ipc_A + p.ipa_A - reverse))
+
+
+def test_charging_current_does_not_bias_ratio():
+    # the zero-faradaic level of the reverse sweep includes the charging step 2·C·v
+    clean = analyse_peaks(_sim(1, "reduction", 0.25, 0.3, noise=0.0))
+    bare = analyse_peaks(
+        simulate_cv(E_half_V=E_HALF, start_V=E_HALF + 0.25, switch_V=E_HALF - 0.3)
+    )
+    assert clean.current_ratio == pytest.approx(bare.current_ratio, abs=0.005)
+    assert clean.ipc_A == pytest.approx(bare.ipc_A, rel=0.005)
+
+
+def test_E_half_stderr_is_honest():
+    # Monte-Carlo over 50 seeds: the reported standard error matches the scatter (factor 1.5)
+    runs = [
+        analyse_peaks(_sim(1, "reduction", 0.2, 0.35, noise=0.01, seed=100 + s)) for s in range(50)
+    ]
+    E = np.array([p.E_half_V for p in runs])
+    se = np.array([p.E_half_stderr_V for p in runs])
+    scatter = float(np.std(E, ddof=1))
+    ratio = float(np.sqrt(np.mean(se**2))) / scatter
+    assert 1 / 1.5 < ratio < 1.5, (scatter, ratio)
+
+
+def test_switch_at_the_foot_gives_flags_and_nulls():
+    # the sweep turns before the wave has peaked: no forward and no reverse peak, no guess
+    v = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=0.02, noise_fraction=0.005, seed=3)
+    p = analyse_peaks(v)
+    codes = {f.code for f in p.flags}
+    assert {"NO_FORWARD_PEAK", "NO_REVERSE_PEAK"} <= codes
+    assert p.Epc_V is None and p.Epa_V is None and p.E_half_V is None
+    assert p.current_ratio is None and p.E_half_stderr_V is None
+    assert all(f.severity == "error" for f in p.flags if f.code.startswith("NO_"))
+
+
+def test_reverse_peak_missing_when_product_is_gone():
+    # replace the reverse sweep by a pure continuation of the forward decay: no reverse wave
+    v = simulate_cv(E_half_V=0.0, start_V=0.25, switch_V=-0.3, noise_fraction=0.002, seed=4)
+    cyc = v.cycle()
+    i = np.array(v.current_A)
+    i_switch = i[cyc.forward.stop]
+    t = np.arange(1, cyc.reverse.stop - cyc.reverse.start + 1)
+    decay = i_switch * np.sqrt(0.5 * cyc.forward.stop / (0.5 * cyc.forward.stop + t))
+    i[cyc.reverse.start + 1 : cyc.reverse.stop + 1] = decay + 0.002 * _rs(
+        1
+    ) * np.random.default_rng(4).normal(size=t.size)
+    p = analyse_peaks(Voltammogram(v.potential_V, i, scan_rate_V_s=0.1, source="ec.csv"))
+    codes = [f.code for f in p.flags]
+    assert "NO_REVERSE_PEAK" in codes and "NO_FORWARD_PEAK" not in codes
+    assert p.Epc_V is not None and p.ipc_A is not None
+    assert p.Epa_V is None and p.ipa_A is None and p.E_half_V is None and p.delta_Ep_V is None
+    message = next(f.message for f in p.flags if f.code == "NO_REVERSE_PEAK")
+    assert "V" in message
+
+
+@pytest.mark.parametrize("kind", ["noise", "flat"])
+def test_record_without_wave_gives_flags_not_exceptions(kind):
+    E = np.concatenate([np.linspace(0.3, -0.3, 601), np.linspace(-0.3, 0.3, 601)[1:]])
+    rng = np.random.default_rng(7)
+    i = rng.normal(0.0, 1e-7, E.size) if kind == "noise" else np.zeros(E.size)
+    p = analyse_peaks(Voltammogram(E, i, source=f"{kind}.csv"))
+    assert p.source == f"{kind}.csv"
+    assert "NO_FORWARD_PEAK" in {f.code for f in p.flags}
+    assert p.E_half_V is None and p.ipc_A is None and p.Epc_V is None
+    assert p.noise_A == pytest.approx(1e-7 if kind == "noise" else 0.0, rel=0.1, abs=1e-12)
+
+
+def test_to_dict_is_json_ready_with_nulls():
+    v = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=0.02)
+    d = analyse_peaks(v).to_dict()
+    text = json.dumps(d)
+    assert '"E_half_V": null' in text
+    assert d["first_sweep"] == "reduction" and d["cycle_number"] == 1
+    assert all({"code", "message", "severity"} <= set(f) for f in d["flags"])
+
+
+def test_input_is_not_modified_and_cycle_choice():
+    v = simulate_cv(E_half_V=0.0, start_V=0.25, switch_V=-0.3, cycles=2)
+    before = v.current_A.copy()
+    last = analyse_peaks(v)
+    first = analyse_peaks(v, cycle=1)
+    np.testing.assert_array_equal(v.current_A, before)
+    assert last.cycle_number == 2 and first.cycle_number == 1
+    assert math.isclose(first.switching_potential_V, -0.3, abs_tol=2e-3)
+    # the second cycle starts from a depleted layer: smaller forward peak, same E½
+    assert last.ipc_A < first.ipc_A
+    assert last.E_half_V == pytest.approx(first.E_half_V, abs=1e-3)
+
+
+def test_peak_analysis_validates_itself():
+    good = dict(
+        source="x",
+        cycle_number=1,
+        first_sweep="reduction",
+        switching_potential_V=-0.3,
+        Epc_V=None,
+        Epa_V=None,
+        ipc_A=None,
+        ipa_A=None,
+        Ep_half_c_V=None,
+        Ep_half_a_V=None,
+        E_half_V=None,
+        E_half_stderr_V=None,
+        delta_Ep_V=None,
+        current_ratio=None,
+        noise_A=0.0,
+    )
+    PeakAnalysis(**good)
+    for bad in (
+        {"first_sweep": "up"},
+        {"cycle_number": 0},
+        {"ipc_A": -1.0},
+        {"E_half_V": math.nan},
+    ):
+        with pytest.raises(ValueError):
+            PeakAnalysis(**{**good, **bad})
