@@ -38,11 +38,11 @@ from ._lingane_flags import (
     weighting_flag,
 )
 from ._lingane_stats import (
+    combined_interval,
     curvature_p_value,
     fit_fixed_slope,
     fit_line,
     weights_credible,
-    welch_satterthwaite_dof,
 )
 from .errors import FitError, InputError
 from .flags import Flag
@@ -157,8 +157,9 @@ class LinganeFit:
     nernst_slope_V_per_decade : float
         ``ln10·RT/nF`` used for the conversion, V.
     intercept_dof : float
-        Degrees of freedom behind the intercept's interval (Welch–Satterthwaite; ``inf``
-        means a normal quantile).
+        Degrees of freedom behind the intercept's interval: N − 2, or with a known
+        reference stderr in an unweighted fit the equivalent dof of the combined interval
+        (``inf`` means a normal quantile).
     """
 
     slope_V_per_decade: Quantity
@@ -280,15 +281,50 @@ def check_points(points: Sequence[TitrationPoint]) -> tuple[Flag, ...]:
     return point_flags([p.ligand_M for p in pts], MIN_POINTS)
 
 
-def _q(value: float, stderr: float, dof: float, what: str = "") -> Quantity:
+def _q(value: float, stderr: float, dof: float) -> Quantity:
     lo, hi = t_interval(value, stderr, dof)
-    if math.isinf(dof):
-        how = "normal"
-    elif float(dof).is_integer():
-        how = f"student-t, dof={int(dof)}"
-    else:
-        how = f"student-t, Welch-Satterthwaite dof={dof:.1f}"
-    return Quantity(value, stderr, (lo, hi), how + what)
+    how = "normal" if math.isinf(dof) else f"student-t, dof={int(dof)}"
+    return Quantity(value, stderr, (lo, hi), how)
+
+
+def _scaled(q: Quantity, factor: float, note: str = "") -> Quantity:
+    """``factor · q`` (a linear change of unit, e.g. V → log10 units)."""
+    lo, hi = sorted((q.ci95[0] * factor, q.ci95[1] * factor))
+    return Quantity(q.value * factor, q.stderr * abs(factor), (lo, hi), q.method + note)
+
+
+def _with_reference(
+    value: float,
+    fit_variance: float,
+    dof: int,
+    scale: float,
+    reference_stderr: float | None,
+    typical_variance: float | None,
+) -> tuple[Quantity, float, float]:
+    """Intercept of the shift with the reference E½(s) uncertainty folded in.
+
+    ``typical_variance`` is the median σᵢ² of a weighted fit (``None``: unweighted).
+    Weighted: the reference stderr came from the same peak analysis as the σᵢ, so it takes
+    the same scale factor (reduced χ²) and the interval is exact Student-t on ``dof``.
+    Unweighted with a given reference stderr: that stderr is known and is combined with
+    the fitted variance by :func:`combined_interval`. Reference stderr unknown: the
+    reference scatters like one more point (variance ``scale · typical``), Student-t.
+
+    Returns the Quantity, the reference variance used and the (equivalent) dof.
+    """
+    if typical_variance is not None or reference_stderr is None:
+        base = typical_variance if reference_stderr is None else reference_stderr**2
+        ref_var = scale * (1.0 if base is None else base)
+        q = _q(value, math.sqrt(fit_variance + ref_var), dof)
+        if reference_stderr is not None:
+            q = Quantity(q.value, q.stderr, q.ci95, q.method + ", reference scaled with the fit")
+        return q, ref_var, float(dof)
+    ref_var = reference_stderr**2
+    lo, hi, nu = combined_interval(value, fit_variance, dof, ref_var)
+    how = f"student-t (dof={dof}) and normal reference in quadrature" + (
+        "" if math.isinf(nu) else f", equivalent dof={nu:.1f}"
+    )
+    return Quantity(value, math.sqrt(fit_variance + ref_var), (lo, hi), how), ref_var, nu
 
 
 def fit_lingane(
@@ -314,10 +350,9 @@ def fit_lingane(
     reference_E_half_V : float
         E½(s) of the ligand-free couple, V.
     reference_stderr_V : float or None
-        Its standard error, V. Treated as known (infinite dof) and added in quadrature to
-        the intercept only; the effective dof of the intercept's interval follows
-        Welch–Satterthwaite. ``None``: the reference is taken to scatter like one more
-        titration point (variance = the fit's per-point variance) and a flag says so.
+        Its standard error, V; it adds in quadrature to the intercept only (a common
+        offset of every point cannot change the slope). ``None``: the reference is taken
+        to scatter like one more titration point and a flag says so. See Notes.
     weighting : {"auto", "none", "stderr"}
         ``"none"``: ordinary least squares. ``"stderr"``: weights 1/σᵢ² (every point needs
         a standard error > 0). ``"auto"``: weights when every point has one and the
@@ -337,13 +372,22 @@ def fit_lingane(
     In every mode the fit covariance is scaled by the observed reduced χ² and intervals
     use Student's t on N − 2 dof: this is exact when the per-file errors are right up to a
     common factor (and, unweighted, when the scatter is homogeneous), and it lets the
-    observed scatter dominate whenever it exceeds what the file noise predicts. Monte-Carlo
-    coverage of the 95 % intervals is checked in the tests.
+    observed scatter dominate whenever it exceeds what the file noise predicts.
+
+    The reference term: in a weighted fit σ_s comes from the same peak analysis as the
+    σᵢ, so it takes the same scale factor and the intercept's interval is Student-t on
+    N − 2 dof (exact under that model). In an unweighted fit σ_s is taken as known (its
+    file has hundreds of samples) and is combined with the fitted variance by adding
+    t(N − 2) and normal half-widths in quadrature (:func:`cvfit._lingane_stats.
+    combined_interval`) — conservative at very small N, where Welch–Satterthwaite
+    under-covers. The fixed-integer refit follows the same rules on N − 1 dof.
+    Monte-Carlo coverage of the 95 % intervals is checked in the tests (93–97 %).
 
     References
     ----------
     Lingane, Chem. Rev. 29 (1941) 1 (half-wave shift on complexation).
-    Satterthwaite, Biometrics Bulletin 2 (1946) 110 (effective degrees of freedom).
+    JCGM 100:2008, Evaluation of measurement data (GUM), annex G (combining a Type A and a
+    Type B uncertainty).
     """
     pts = tuple(points)
     pre = check_points(pts)
@@ -387,50 +431,34 @@ def fit_lingane(
     dof = line.dof
     scale = line.reduced_chi_square
     cov = line.covariance * scale
-    if s_ref is not None:
-        ref_var = s_ref**2
-        intercept_dof = welch_satterthwaite_dof(cov[1, 1], dof, ref_var)
-    else:
-        typical = 1.0 if w_sigma is None else float(np.median(w_sigma**2))
-        ref_var = scale * typical
-        intercept_dof = float(dof)
+    if s_ref is None:
         flags.append(
             Flag(
                 "REFERENCE_STDERR_FROM_SCATTER",
                 "no standard error for E½(s): the reference is assumed to scatter like one "
-                f"more titration point ({math.sqrt(ref_var) * 1e3:.2g} mV)",
+                "more titration point",
                 "info",
             )
         )
+    typical = None if w_sigma is None else float(np.median(w_sigma**2))
+    slope = line.slope
+    slope_se = math.sqrt(cov[0, 0])
+    slope_q = _q(slope, slope_se, dof)
+    delta_q = _scaled(slope_q, -1.0 / slope_nernst)
+    intercept_q, ref_var, intercept_dof = _with_reference(
+        line.intercept - e_ref, cov[1, 1], dof, scale, s_ref, typical
+    )
+    ratio_q = _scaled(intercept_q, -1.0 / slope_nernst)
     cov_total = cov.copy()
     cov_total[1, 1] += ref_var
-
-    slope = line.slope
-    intercept = line.intercept - e_ref
-    slope_se = math.sqrt(cov[0, 0])
-    intercept_se = math.sqrt(cov_total[1, 1])
-    slope_q = _q(slope, slope_se, dof)
-    intercept_q = _q(intercept, intercept_se, intercept_dof, ", incl. reference")
-    delta_q = _q(-slope / slope_nernst, slope_se / slope_nernst, dof)
-    ratio_q = _q(-intercept / slope_nernst, intercept_se / slope_nernst, intercept_dof)
 
     k = int(round(delta_q.value))
     a_fix, var_fix_u, chi_fix = fit_fixed_slope(x, y, -k * slope_nernst, w_sigma)
     scale_fix = chi_fix / (n - 1)
-    var_fix = var_fix_u * scale_fix
-    if s_ref is not None:
-        fix_var = var_fix + ref_var
-        fix_dof = welch_satterthwaite_dof(var_fix, n - 1, ref_var)
-    else:
-        typical = 1.0 if w_sigma is None else float(np.median(w_sigma**2))
-        fix_var = var_fix + scale_fix * typical
-        fix_dof = float(n - 1)
-    ratio_int_q = _q(
-        -(a_fix - e_ref) / slope_nernst,
-        math.sqrt(fix_var) / slope_nernst,
-        fix_dof,
-        f", p - q fixed at {k}",
+    fixed_q, _, _ = _with_reference(
+        a_fix - e_ref, var_fix_u * scale_fix, n - 1, scale_fix, s_ref, typical
     )
+    ratio_int_q = _scaled(fixed_q, -1.0 / slope_nernst, f", p - q fixed at {k}")
     flags.extend(delta_ligand_flags(delta_q, k))
 
     p_curv = curvature_p_value(x, y, line, w_sigma)

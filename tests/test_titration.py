@@ -149,16 +149,31 @@ def test_reference_uncertainty_enters_intercept_only():
     pts = simulated_series(
         rng, electrons=1, noise_V=0.5e-3, n_points=7, decades=2.0, delta=1, log10_ratio=3.0
     )
+    for weighting in ("none", "auto"):
+        a = fit(pts, ref_sd=0.0, weighting=weighting)
+        b = fit(pts, ref_sd=2e-3, weighting=weighting)
+        assert b.slope_V_per_decade.stderr == pytest.approx(a.slope_V_per_decade.stderr)
+        assert b.delta_ligands.ci95 == pytest.approx(a.delta_ligands.ci95, rel=1e-12)
+        assert b.covariance[0][1] == pytest.approx(a.covariance[0][1], rel=1e-12)
+        assert b.covariance[1][1] == pytest.approx(b.intercept_V.stderr**2, rel=1e-12)
+    # Unweighted: var(intercept) = var(a') + σ_s², σ_s known (independent measurement);
+    # the interval adds t(N − 2) and normal half-widths in quadrature (GUM-style).
+    a = fit(pts, ref_sd=0.0, weighting="none")
+    b = fit(pts, ref_sd=2e-3, weighting="none")
+    assert b.intercept_V.stderr**2 == pytest.approx(a.intercept_V.stderr**2 + 4e-6, rel=1e-9)
+    half_a = np.diff(a.intercept_V.ci95)[0] / 2
+    half_b = np.diff(b.intercept_V.ci95)[0] / 2
+    assert half_b == pytest.approx(math.hypot(half_a, 1.959964 * 2e-3), rel=1e-6)
+    assert a.dof < b.intercept_dof < math.inf
+    assert "quadrature" in b.log10_beta_ratio.method
+    # Weighted: the reference stderr takes the fit's scale factor (reduced χ²), t(N − 2).
     a = fit(pts, ref_sd=0.0)
     b = fit(pts, ref_sd=2e-3)
-    assert b.slope_V_per_decade.stderr == pytest.approx(a.slope_V_per_decade.stderr, rel=1e-12)
-    assert b.delta_ligands.ci95 == pytest.approx(a.delta_ligands.ci95, rel=1e-12)
-    # var(intercept) = var(a') + σ_s² (independent reference measurement)
-    assert b.intercept_V.stderr**2 == pytest.approx(a.intercept_V.stderr**2 + 4e-6, rel=1e-9)
-    assert b.covariance[1][1] == pytest.approx(b.intercept_V.stderr**2, rel=1e-12)
-    assert b.covariance[0][1] == pytest.approx(a.covariance[0][1], rel=1e-12)
-    assert b.intercept_dof > a.intercept_dof == a.dof  # Welch–Satterthwaite
-    assert "Welch-Satterthwaite" in b.log10_beta_ratio.method
+    assert a.weighted and b.weighted
+    expected = a.intercept_V.stderr**2 + b.reduced_chi_square * 4e-6
+    assert b.intercept_V.stderr**2 == pytest.approx(expected, rel=1e-9)
+    assert b.intercept_dof == b.dof == 5
+    assert b.log10_beta_ratio.method.startswith("student-t, dof=5")
 
 
 def test_covariance_matches_closed_form_ols():

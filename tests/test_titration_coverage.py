@@ -80,3 +80,21 @@ def test_ci95_coverage(weighting, electrons, delta, ref_sd, noise, hetero):
     # The fixed-integer interval is exact only while the integer is right (it is here,
     # p − q is resolved to ±0.03), so the same band applies.
     assert BAND[0] <= at_integer <= BAND[1], cov
+
+
+@pytest.mark.parametrize("weighting", ["none", "auto"])
+def test_ci95_coverage_four_points_not_below_nominal(weighting):
+    # With dof = 2 the reference term (known σ_s) is combined conservatively, so the
+    # slope-free ratio may over-cover a little but must not under-cover (binomial 2.9 σ).
+    cov = coverage(
+        77,
+        weighting=weighting,
+        electrons=1,
+        delta=1,
+        ref_sd=0.5e-3,
+        noise_V=0.5e-3,
+        hetero=False,
+        n_points=4,
+    )
+    assert cov.min() >= 0.93, cov
+    assert cov.max() <= 0.99, cov
