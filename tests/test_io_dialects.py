@@ -215,3 +215,21 @@ def test_large_file_parses(tmp_path):
     vg = read_voltammogram(path)
     assert vg.n_points == E.size
     _close(vg.current_A, i)
+
+
+def test_unrecognised_header_falls_back_to_position():
+    E, i, _ = triangle_wave(points_per_sweep=40)
+    rows = "\n".join(f"{e!r};{c!r}" for e, c in zip(E.tolist(), i.tolist(), strict=True))
+    vg = parse_voltammogram_text("ch1;ch2\n" + rows, source="x")
+    _close(vg.potential_V, E)
+    assert vg.metadata["import.assumed_columns"].startswith("header labels not recognised")
+
+
+def test_units_row_below_names():
+    E, i, _ = triangle_wave(points_per_sweep=40)
+    rows = "\n".join(
+        f"{e * 1e3!r},{c * 1e6!r}" for e, c in zip(E.tolist(), i.tolist(), strict=True)
+    )
+    vg = parse_voltammogram_text("Potential,Current\nmV,µA\n" + rows, source="x")
+    _close(vg.potential_V, E)
+    _close(vg.current_A, i)
