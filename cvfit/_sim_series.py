@@ -9,7 +9,7 @@ from typing import Any
 
 import numpy as np
 
-from .complexation import complexed_half_wave_V
+from .complexation import complexed_half_wave_V, effective_diffusion_cm2_s
 from .errors import SimulationError
 from .units import ZERO_CELSIUS_K
 from .voltammogram import Voltammogram
@@ -68,6 +68,8 @@ def simulate_series(
     seed: int | None = None,
     file_stem: str = "titr",
     overwrite: bool = False,
+    D_ox_complexed_cm2_s: float | None = None,
+    D_red_complexed_cm2_s: float | None = None,
     **cv_settings: Any,
 ) -> Path:
     """Simulate a voltammetric titration and write it with its manifest.
@@ -93,6 +95,10 @@ def simulate_series(
         CSV files are named ``{file_stem}_{k:02d}.csv``.
     overwrite : bool
         Replace existing files; by default an existing target raises SimulationError.
+    D_ox_complexed_cm2_s, D_red_complexed_cm2_s : float, optional
+        Diffusion coefficient of the complexes of each form, cm²/s. When given, each
+        voltammogram uses the mole-fraction mean D of that form and its E½ includes
+        Lingane's diffusion term (the free D come from ``D_ox_cm2_s``/``D_red_cm2_s``).
     **cv_settings
         Further keyword arguments of :func:`cvfit.simulate.simulate_cv` (``start_V``,
         ``switch_V``, ``scan_rate_V_s``, ``temperature_K``, ...).
@@ -125,14 +131,32 @@ def simulate_series(
         for target in [manifest, *(out / nm for nm in names)]:
             if target.exists():
                 raise SimulationError(f"{target} exists; choose another folder or overwrite")
+    D_ox_free = float(cv_settings.pop("D_ox_cm2_s", 1e-5))
+    D_red_free = cv_settings.pop("D_red_cm2_s", None)
+    D_red_free = D_ox_free if D_red_free is None else float(D_red_free)
+    L = np.asarray(ligands)
     E_halves = complexed_half_wave_V(
         E_half_free_V,
-        ligand_M=np.asarray(ligands),
+        ligand_M=L,
         log10_beta_ox=log10_beta_ox,
         log10_beta_red=log10_beta_red,
         electrons=electrons,
         temperature_K=temperature_K,
+        D_ox_cm2_s=D_ox_free,
+        D_ox_complexed_cm2_s=D_ox_complexed_cm2_s,
+        D_red_cm2_s=D_red_free,
+        D_red_complexed_cm2_s=D_red_complexed_cm2_s,
     )
+    D_ox = np.full(L.shape, D_ox_free)
+    D_red = np.full(L.shape, D_red_free)
+    if D_ox_complexed_cm2_s is not None:
+        D_ox = effective_diffusion_cm2_s(
+            L, log10_beta_ox, D_free_cm2_s=D_ox_free, D_complexed_cm2_s=D_ox_complexed_cm2_s
+        )
+    if D_red_complexed_cm2_s is not None:
+        D_red = effective_diffusion_cm2_s(
+            L, log10_beta_red, D_free_cm2_s=D_red_free, D_complexed_cm2_s=D_red_complexed_cm2_s
+        )
     if seed is None:
         seeds: list[int | None] = [None] * len(ligands)
     else:
@@ -145,9 +169,13 @@ def simulate_series(
             noise_fraction=noise_fraction,
             seed=s,
             source=name,
+            D_ox_cm2_s=float(Do),
+            D_red_cm2_s=float(Dr),
             **cv_settings,
         )
-        for E_half, s, name in zip(np.atleast_1d(E_halves), seeds, names, strict=True)
+        for E_half, s, name, Do, Dr in zip(
+            np.atleast_1d(E_halves), seeds, names, D_ox, D_red, strict=True
+        )
     ]
     out.mkdir(parents=True, exist_ok=True)
     for vg, name in zip(records, names, strict=True):

@@ -29,7 +29,7 @@ import numpy as np
 from .errors import InputError
 from .units import FARADAY, GAS_CONSTANT
 
-__all__ = ["leden_F0", "log_leden_F0", "complexed_half_wave_V"]
+__all__ = ["leden_F0", "log_leden_F0", "effective_diffusion_cm2_s", "complexed_half_wave_V"]
 
 _SOURCE = "<complexation>"
 
@@ -95,6 +95,33 @@ def log_leden_F0(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarray:
     return out
 
 
+def effective_diffusion_cm2_s(
+    ligand_M: object,
+    log10_beta: Sequence[float],
+    *,
+    D_free_cm2_s: float,
+    D_complexed_cm2_s: float,
+) -> np.ndarray:
+    """Diffusion coefficient of one oxidation state averaged over its labile complexes.
+
+    With fast exchange the free form (fraction 1/F0) and the complexes (fraction
+    (F0 − 1)/F0, all given one D) diffuse as one species with the mole-fraction mean
+    D = (D_free + D_complexed·(F0 − 1))/F0.
+
+    References
+    ----------
+    DeFord, D. D.; Hume, D. N. J. Am. Chem. Soc. 1951, 73, 5321 (the current ratio
+    I_s/I_c that carries the change of D into the half-wave shift).
+    """
+    D_free = float(D_free_cm2_s)
+    D_cplx = float(D_complexed_cm2_s)
+    for key, value in (("D_free_cm2_s", D_free), ("D_complexed_cm2_s", D_cplx)):
+        if not (math.isfinite(value) and value > 0):
+            raise InputError(f"{key} must be positive", source=_SOURCE, key=key)
+    free_fraction = np.exp(-log_leden_F0(ligand_M, log10_beta))
+    return D_cplx + (D_free - D_cplx) * free_fraction
+
+
 def complexed_half_wave_V(
     E_half_free_V: float,
     *,
@@ -103,10 +130,19 @@ def complexed_half_wave_V(
     log10_beta_red: Sequence[float] = (),
     electrons: int = 1,
     temperature_K: float = 298.15,
+    D_ox_cm2_s: float | None = None,
+    D_ox_complexed_cm2_s: float | None = None,
+    D_red_cm2_s: float | None = None,
+    D_red_complexed_cm2_s: float | None = None,
 ) -> float | np.ndarray:
     """Reversible half-wave potential at free ligand concentration ``ligand_M``.
 
-    E½(c) = E½(s) − (RT/nF)·ln(F0_ox([L]) / F0_red([L])).
+    E½(c) = E½(s) − (RT/nF)·ln(F0_ox([L]) / F0_red([L]))
+            + (RT/2nF)·ln[(D_O,s·D_R,c)/(D_R,s·D_O,c)],
+
+    the last term only when complexed diffusion coefficients are given (D_O,c and D_R,c
+    from :func:`effective_diffusion_cm2_s`; a form whose complexed D is not given keeps its
+    free D).
 
     Parameters
     ----------
@@ -117,6 +153,10 @@ def complexed_half_wave_V(
     log10_beta_ox, log10_beta_red : sequence of float
         log10 overall constants β_1 … β_N of the oxidised and of the reduced form; empty
         when that form is not complexed.
+    D_ox_cm2_s, D_red_cm2_s : float, optional
+        Diffusion coefficients of the free forms, cm²/s (needed with the complexed ones).
+    D_ox_complexed_cm2_s, D_red_complexed_cm2_s : float, optional
+        Diffusion coefficient shared by the complexes of each form, cm²/s.
     electrons : int
         n of the couple.
     temperature_K : float
@@ -150,4 +190,20 @@ def complexed_half_wave_V(
     E = E0 - slope * (
         log_leden_F0(ligand_M, log10_beta_ox) - log_leden_F0(ligand_M, log10_beta_red)
     )
+    for D_free, D_cplx, betas, sign, name in (
+        (D_ox_cm2_s, D_ox_complexed_cm2_s, log10_beta_ox, -1.0, "D_ox_cm2_s"),
+        (D_red_cm2_s, D_red_complexed_cm2_s, log10_beta_red, 1.0, "D_red_cm2_s"),
+    ):
+        if D_cplx is None:
+            continue
+        if D_free is None:
+            raise InputError(
+                f"{name} (free form) is needed with its complexed diffusion coefficient",
+                source=_SOURCE,
+                key=name,
+            )
+        D_eff = effective_diffusion_cm2_s(
+            ligand_M, betas, D_free_cm2_s=D_free, D_complexed_cm2_s=D_cplx
+        )
+        E = E + sign * 0.5 * slope * np.log(D_eff / float(D_free))
     return float(E) if np.ndim(E) == 0 else E

@@ -7,7 +7,12 @@ import math
 import numpy as np
 import pytest
 
-from cvfit.complexation import complexed_half_wave_V, leden_F0, log_leden_F0
+from cvfit.complexation import (
+    complexed_half_wave_V,
+    effective_diffusion_cm2_s,
+    leden_F0,
+    log_leden_F0,
+)
 from cvfit.errors import InputError
 from cvfit.units import FARADAY, GAS_CONSTANT
 
@@ -73,3 +78,22 @@ def test_bad_input_raises_input_error(kw):
     args.update(kw)
     with pytest.raises(InputError):
         complexed_half_wave_V(0.0, **args)
+
+
+def test_diffusion_term_of_lingane_equation():
+    # Lingane, Chem. Rev. 29 (1941) 1 (from memory; derivation checked in REFERENCES.md):
+    # E1/2(c) - E1/2(s) = -(RT/nF) ln(b_ox/b_red) - (p - q)(RT/nF) ln[L]
+    #                     + (RT/2nF) ln[(D_O,s D_R,c)/(D_R,s D_O,c)]
+    n, L = 2, np.array([0.05, 0.5])
+    Dos, Doc, Drs, Drc = 1.0e-5, 0.6e-5, 0.8e-5, 0.7e-5
+    E = complexed_half_wave_V(0.0, ligand_M=L, log10_beta_ox=[0.0, 0.0, 18.0],
+                              log10_beta_red=[9.0], electrons=n, D_ox_cm2_s=Dos,
+                              D_ox_complexed_cm2_s=Doc, D_red_cm2_s=Drs,
+                              D_red_complexed_cm2_s=Drc)  # fmt: skip
+    rt_nf = GAS_CONSTANT * 298.15 / (n * FARADAY)
+    lingane = (-rt_nf * math.log(10.0) * (18.0 - 9.0) - (3 - 1) * rt_nf * np.log(L)
+               + 0.5 * rt_nf * math.log(Dos * Drc / (Drs * Doc)))  # fmt: skip
+    np.testing.assert_allclose(E, lingane, atol=1e-9)
+    assert effective_diffusion_cm2_s(0.0, [5.0], D_free_cm2_s=Dos, D_complexed_cm2_s=Doc) == Dos
+    with pytest.raises(InputError):
+        complexed_half_wave_V(0.0, ligand_M=L, log10_beta_ox=[3.0], D_ox_complexed_cm2_s=Doc)

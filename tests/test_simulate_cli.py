@@ -146,3 +146,32 @@ def test_cli_series_form(tmp_path, capsys):
     with pytest.raises(InputError) as err:
         run(["--series", "--e-half", "0", "--out", str(tmp_path / "t")])
     assert err.value.key == "--ligand-M"
+
+
+def test_series_with_complexed_diffusion_coefficients(tmp_path):
+    ligands = [0.0, 0.1]
+    manifest = simulate_series(
+        tmp_path, ligand_M=ligands, E_half_free_V=0.0, log10_beta_ox=[4.0], log10_beta_red=[],
+        D_ox_cm2_s=1e-5, D_ox_complexed_cm2_s=0.5e-5, start_V=0.2, switch_V=-0.6,
+    )  # fmt: skip
+    entries = tomllib.loads(manifest.read_text(encoding="utf-8"))["voltammogram"]
+    tables = [np.loadtxt(tmp_path / e["file"], delimiter=",", skiprows=1) for e in entries]
+    ipc = [-t[:, 2].min() for t in tables]
+    D_eff = (1e-5 + 0.5e-5 * 1e3) / (1 + 1e3)  # mole-fraction mean at beta[L] = 1000
+    # Randles-Sevcik: ip proportional to D_O^1/2 (Nicholson & Shain 1964)
+    assert ipc[1] / ipc[0] == pytest.approx(np.sqrt(D_eff / 1e-5), rel=2e-3)
+    E_half = complexed_half_wave_V(0.0, ligand_M=0.1, log10_beta_ox=[4.0], D_ox_cm2_s=1e-5,
+                                   D_ox_complexed_cm2_s=0.5e-5)  # fmt: skip
+    assert midpoint(tables[1][:, 1], tables[1][:, 2]) == pytest.approx(E_half, abs=1.5e-3)
+
+
+def test_cli_series_complexed_diffusion_flag(tmp_path):
+    base = ["--series", "--e-half", "0", "--ligand-M", "0,0.1", "--log-beta-ox", "4",
+            "--step", "0.002"]  # fmt: skip
+    with pytest.raises(InputError) as err:
+        run([*base, "--diffusion-ox-complexed", "-1", "--out", str(tmp_path / "a")])
+    assert err.value.key == "--diffusion-ox-complexed"
+    assert run([*base, "--diffusion-ox-complexed", "5e-6", "--out", str(tmp_path / "b")]) == 0
+    tables = [pd.read_csv(tmp_path / "b" / f"titr_0{k}.csv") for k in (0, 1)]
+    ratio = tables[1]["current_A"].min() / tables[0]["current_A"].min()
+    assert ratio == pytest.approx(np.sqrt((1e-5 + 5e-6 * 1e3) / 1001 / 1e-5), rel=3e-3)

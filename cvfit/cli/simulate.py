@@ -69,6 +69,8 @@ def register(sub: argparse._SubParsersAction) -> None:
     a("--ligand-M", metavar="LIST", help="series: ligand concentrations, mol/L, comma list")
     a("--log-beta-ox", metavar="LIST", default="", help="series: log10 β_j of the ox. form")
     a("--log-beta-red", metavar="LIST", default="", help="series: log10 β_j of the red. form")
+    a("--diffusion-ox-complexed", metavar="cm2/s", help="series: D of the ox. complexes")
+    a("--diffusion-red-complexed", metavar="cm2/s", help="series: D of the red. complexes")
     a("--title", default="simulated titration", help="series: title for the manifest")
     a("--out", metavar="FILE|DIR", help="output CSV file (series: output folder)")
     a("--force", action="store_true", help="replace existing output files")
@@ -86,6 +88,10 @@ def _number(text: object, flag: str, *, minimum: float | None = None, strict: bo
         rel = ">" if strict else ">="
         raise InputError(f"{flag} must be {rel} {minimum:g}, got {text!r}", source=_CMD, key=flag)
     return x
+
+
+def _optional_positive(text: object, flag: str) -> float | None:
+    return None if text is None else _number(text, flag, minimum=0.0, strict=True)
 
 
 def _whole(text: object, flag: str) -> int:
@@ -239,6 +245,12 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
             noise_fraction=noise,
             seed=seed,
             overwrite=bool(args.force),
+            D_ox_complexed_cm2_s=_optional_positive(
+                args.diffusion_ox_complexed, "--diffusion-ox-complexed"
+            ),
+            D_red_complexed_cm2_s=_optional_positive(
+                args.diffusion_red_complexed, "--diffusion-red-complexed"
+            ),
             start_V=start,
             switch_V=switch if len(switch) > 1 else switch[0],
             **settings,
