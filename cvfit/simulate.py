@@ -338,6 +338,13 @@ def simulate_cv(
     Nicholson, R. S.; Shain, I. Anal. Chem. 1964, 36, 706 (reversible, irreversible).
     Nicholson, R. S. Anal. Chem. 1965, 37, 1351 (quasi-reversible).
     """
+    slope = _finite("background_slope_A_per_V", background_slope_A_per_V)
+    offset = _finite("background_offset_A", background_offset_A)
+    noise = _positive("noise_fraction", noise_fraction, allow_zero=True)
+    if seed is not None and (
+        isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0
+    ):
+        raise SimulationError(f"seed must be None or a whole number >= 0, got {seed!r}")
     wave, raw, settings = _simulate_raw(
         E_half_V=E_half_V,
         start_V=start_V,
@@ -357,9 +364,6 @@ def simulate_cv(
         double_layer_F=double_layer_F,
         resistance_ohm=resistance_ohm,
     )
-    slope = _finite("background_slope_A_per_V", background_slope_A_per_V)
-    offset = _finite("background_offset_A", background_offset_A)
-    noise = _positive("noise_fraction", noise_fraction, allow_zero=True)
     current = raw.faradaic_A + raw.charging_A + offset + slope * wave.potential_V
     if noise > 0.0:
         D_present = float(settings["D_ox_cm2_s" if initial_species == "ox" else "D_red_cm2_s"])

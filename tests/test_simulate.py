@@ -297,7 +297,8 @@ def test_background_and_seeded_noise():
     "bad",
     [dict(scan_rate_V_s=0.0), dict(step_V=-1e-3), dict(alpha=1.0), dict(electrons=0),
      dict(k0_cm_s=0.0), dict(initial_species="both"), dict(switch_V=0.4), dict(cycles=1.5),
-     dict(D_ox_cm2_s=float("nan")), dict(switch_V=[])],
+     dict(D_ox_cm2_s=float("nan")), dict(switch_V=[]), dict(seed=-1), dict(noise_fraction=-0.1),
+     dict(background_offset_A=float("inf"))],
 )  # fmt: skip
 def test_invalid_settings_raise(bad):
     kw = dict(E_half_V=0.0, start_V=0.4, switch_V=-0.4)
