@@ -225,11 +225,22 @@ def test_unrecognised_header_falls_back_to_position():
     assert vg.metadata["import.assumed_columns"].startswith("header labels not recognised")
 
 
-def test_units_row_below_names():
+def test_working_electrode_preferred_over_counter_and_aux():
     E, i, _ = triangle_wave(points_per_sweep=40)
     rows = "\n".join(
-        f"{e * 1e3!r},{c * 1e6!r}" for e, c in zip(E.tolist(), i.tolist(), strict=True)
+        f"{e + 0.3!r}\t{e!r}\t{c * 1e3!r}\t{2 * e!r}"
+        for e, c in zip(E.tolist(), i.tolist(), strict=True)
     )
-    vg = parse_voltammogram_text("Potential,Current\nmV,µA\n" + rows, source="x")
+    vg = parse_voltammogram_text("Ece/V\tEwe/V\t<I>/mA\tAnalog IN 1/V\n" + rows, source="x")
+    assert vg.metadata["import.potential_column"] == "Ewe/V"
+    _close(vg.potential_V, E)
+
+
+@pytest.mark.parametrize(("units", "fe", "fi"), [("µA,mV", 1e3, 1e6), ("A,V", 1.0, 1.0)])
+def test_units_row_below_names(units, fe, fi):
+    E, i, _ = triangle_wave(points_per_sweep=40)
+    rows = "\n".join(f"{c * fi!r},{e * fe!r}" for e, c in zip(E.tolist(), i.tolist(), strict=True))
+    vg = parse_voltammogram_text(f"Current,Potential\n{units}\n{rows}", source="x")
+    assert vg.metadata["import.potential_column"] == f"Potential ({units.split(',')[1]})"
     _close(vg.potential_V, E)
     _close(vg.current_A, i)

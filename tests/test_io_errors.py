@@ -236,10 +236,10 @@ def test_label_parsing(label, role, unit):
 
 
 def test_label_ranks_prefer_plain_potential():
-    ranks = [
-        parse_label(s).rank for s in ("E/V", "Potential applied (V)", "Potential measured (V)")
-    ]
-    assert ranks == [0, 1, 2]
+    labels = ("E/V", "Working electrode (V)", "Potential applied (V)", "Ece/V", "Analog IN/V")
+    ranks = [parse_label(s).rank for s in labels]
+    assert ranks[0] == 0 and ranks[0] < ranks[1] < ranks[2] < ranks[3] <= ranks[4]
+    assert all(parse_label(s).role == "potential" for s in labels)
 
 
 @pytest.mark.parametrize(

@@ -14,7 +14,7 @@ from typing import Literal
 
 from ..units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
 
-__all__ = ["ColumnLabel", "Role", "TIME_UNITS", "parse_label", "time_scale"]
+__all__ = ["ColumnLabel", "Role", "TIME_UNITS", "parse_label", "time_scale", "is_unit"]
 
 Role = Literal["potential", "current", "time", "cycle", "other"]
 
@@ -63,7 +63,20 @@ _CYCLE_WORDS = {
 _NOT_DATA_WORDS = {"range", "gain", "rate", "control", "mode", "flag", "status", "ox", "red"}
 # Qualifiers that make a potential/current column a second choice.
 _SECOND_CHOICE = {"applied", "set", "setpoint", "program", "programmed", "nominal"}
-_THIRD_CHOICE = {"measured", "meas", "density", "ref", "reference", "counter", "ce", "filtered"}
+_THIRD_CHOICE = {
+    "measured",
+    "meas",
+    "density",
+    "ref",
+    "reference",
+    "counter",
+    "ce",
+    "ece",
+    "filtered",
+    "analog",
+    "aux",
+    "auxiliary",
+}
 
 _REFERENCE_PART = re.compile(r"\bvs\.?\s*[^()\[\]]*?\s*(?=[()\[\]]|$)", re.IGNORECASE)
 _BRACKETED = re.compile(r"^(?P<name>.*?)\s*(?:\((?P<p>[^()]*)\)|\[(?P<b>[^\[\]]*)\])\s*$")
@@ -164,12 +177,16 @@ def parse_label(label: str) -> ColumnLabel:
         role = by_unit[0]
     else:
         role = "other"
-    rank = 0
-    if words & _SECOND_CHOICE:
-        rank = 1
-    if words & _THIRD_CHOICE:
-        rank = 2
+    # Qualified labels rank below plain ones; a label whose words do not name the
+    # quantity (only its unit does) ranks below one that names it.
+    level = 2 if words & _THIRD_CHOICE else 1 if words & _SECOND_CHOICE else 0
+    rank = 2 * level + (0 if by_name == role else 1)
     return ColumnLabel(text=text, role=role, unit=unit, unit_text=unit_text, rank=rank)
+
+
+def is_unit(text: str) -> bool:
+    """True when *text* is a unit of potential, current or time (``V``, ``µA``, ``ms``)."""
+    return _unit_role(text) is not None and len(text.split()) == 1
 
 
 def time_scale(unit: str) -> float:

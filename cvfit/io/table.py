@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError
+from .columns import is_unit
 
 __all__ = ["NumericTable", "read_table"]
 
@@ -124,6 +125,24 @@ def _split_header(line: str, delimiter: str, ncols: int) -> list[str]:
     return labels
 
 
+def _join_units_row(
+    header: tuple[str, ...], lines: list[str], header_idx: int, delimiter: str
+) -> tuple[str, ...]:
+    """``Potential,Current`` above ``V,mA`` becomes ``Potential (V)``, ``Current (mA)``."""
+    if not all(not lab or is_unit(lab) for lab in header) or not any(header):
+        return header
+    above = [k for k in range(header_idx) if lines[k].strip()]
+    if not above:
+        return header
+    names = [
+        n.strip().strip("\"'").strip()
+        for n in _split_header(lines[above[-1]], delimiter, len(header))
+    ]
+    if len(names) != len(header) or any(is_unit(n) for n in names if n):
+        return header
+    return tuple(f"{n} ({u})" if n and u else n or u for n, u in zip(names, header, strict=True))
+
+
 def _metadata(lines: list[str]) -> dict[str, str]:
     out: dict[str, str] = {}
     for line in lines:
@@ -228,6 +247,8 @@ def read_table(
             labels = labels[:ncols]
         if len(labels) == ncols and not _is_numeric_line(header_text):
             header = tuple(lab.strip().strip("\"'").strip() for lab in labels)
+    if header is not None and header_idx is not None:
+        header = _join_units_row(header, lines, header_idx, delim)
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("error")
