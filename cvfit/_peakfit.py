@@ -69,7 +69,7 @@ def fit_line(E: np.ndarray, i: np.ndarray, sigma: float) -> LineFit:
     E0 = float(np.mean(E))
     X = np.column_stack([np.ones(E.size), E - E0])
     coef, *_ = np.linalg.lstsq(X, i, rcond=None)
-    cov = sigma**2 * np.linalg.inv(X.T @ X)
+    cov = sigma**2 * np.linalg.pinv(X.T @ X)
     return LineFit(E0, coef, cov)
 
 
@@ -97,7 +97,7 @@ def fit_foot(E: np.ndarray, i: np.ndarray, sign: int, kappa_per_V: float, sigma:
     coef, *_ = np.linalg.lstsq(X, i, rcond=None)
     if sign * coef[2] <= 0:
         return fit_line(E, i, sigma)
-    cov = sigma**2 * np.linalg.inv(X.T @ X)
+    cov = sigma**2 * np.linalg.pinv(X.T @ X)
     return LineFit(E0, coef[:2], cov[:2, :2])
 
 
@@ -216,7 +216,7 @@ def switch_step(
     X = np.column_stack([np.ones_like(t), t, t * t, after, after * root, after * root**3])
     y = np.concatenate([i_forward[f_sl], i_reverse[r_sl]])
     coef, *_ = np.linalg.lstsq(X, y, rcond=None)
-    var = np.linalg.inv(X.T @ X)[3, 3]
+    var = np.linalg.pinv(X.T @ X)[3, 3]
     return float(coef[3]), float(coef[0]), math.sqrt(var)
 
 
@@ -253,6 +253,8 @@ def _cubic_stationary(b: np.ndarray) -> float | None:
 
 
 def _vertex_fit(E: np.ndarray, y: np.ndarray, centre: float, half_width_V: float) -> Vertex | None:
+    if not half_width_V > 0:
+        return None
     idx = np.nonzero(np.abs(E - centre) <= half_width_V)[0]
     if idx.size < 7:
         return None

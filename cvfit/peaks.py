@@ -191,7 +191,9 @@ def _locate(
         if E_half_peak is None:
             return None, f"the {which} wave has no rising side below half its height"
         half_width_V = VERTEX_WINDOW_FRACTION * abs(E[k] - E_half_peak)
-    step = float(np.median(np.abs(np.diff(E))))
+    moves = np.abs(np.diff(E))
+    moves = moves[moves > 0]
+    step = float(np.median(moves)) if moves.size else 0.0
     half_width_V = max(half_width_V, 3.5 * step)
     vertex = pf.peak_vertex(E, y, k, half_width_V)
     if vertex is None:
