@@ -77,7 +77,7 @@ def weighting_flag(
         return None
     dof = 0 if weighted_line is None else weighted_line.dof
     action = (
-        "the line is fitted unweighted"
+        "the line is fitted unweighted and E½(s) is given the points' scatter"
         if weighting == "auto"
         else "weights used as requested, covariance scaled by the scatter"
     )

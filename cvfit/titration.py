@@ -431,7 +431,11 @@ def fit_lingane(
     dof = line.dof
     scale = line.reduced_chi_square
     cov = line.covariance * scale
-    if s_ref is None:
+    if weighting == "auto" and have_sigma and not credible:
+        # The reference stderr comes from the same per-file analysis whose errors were
+        # just shown to understate the scatter: let it scatter like the points instead.
+        s_ref = None
+    elif s_ref is None:
         flags.append(
             Flag(
                 "REFERENCE_STDERR_FROM_SCATTER",

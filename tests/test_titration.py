@@ -283,6 +283,10 @@ def test_weights_not_credible_falls_back_to_unweighted():
     assert not r.weighted
     assert "WEIGHTS_NOT_CREDIBLE" in codes(r)
     assert r.reduced_chi_square > 20
+    # E½(s) came from the same analysis as the understated errors: it gets the scatter.
+    plain = fit(pts, ref_sd=None, weighting="none")
+    assert r.intercept_V.stderr == pytest.approx(plain.intercept_V.stderr, rel=1e-9)
+    assert r.log10_beta_ratio.ci95 == pytest.approx(plain.log10_beta_ratio.ci95, rel=1e-9)
     forced = fit(pts, ref_sd=0.2e-3, weighting="stderr")
     assert forced.weighted and "WEIGHTS_NOT_CREDIBLE" in codes(forced)
 
