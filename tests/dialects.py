@@ -155,6 +155,14 @@ def _spec(name: str, E, i, t):
             ".",
             [],
         )
+    if name == "hash_comment_header":
+        return (
+            ["#"] + (["t/s"] if has_t else []) + ["E/mV", "I/uA"],
+            ([t] if has_t else []) + [E * 1e3, i * 1e6],
+            " ",
+            ".",
+            ["# Created by a script"],
+        )
     raise ValueError(f"unknown dialect {name!r}")
 
 
@@ -180,6 +188,7 @@ DIALECTS: tuple[str, ...] = (
     "multi_cycle_with_cycle_column",
     "applied_and_measured",
     "current_first",
+    "hash_comment_header",
 )
 
 #: ``[import]`` keys a manifest must give for the dialect (everything else is detected).
@@ -208,7 +217,9 @@ def write_dialect(
     width = 16 if delimiter == " " else 0
     lines = list(preamble)
     if labels is not None:
-        lines.append(delimiter.join(lab.rjust(width) for lab in labels))
+        prefix = "# " if labels[0] == "#" else ""
+        names = labels[1:] if prefix else labels
+        lines.append(prefix + delimiter.join(lab.rjust(width) for lab in names))
     lines.extend(_rows(columns, delimiter, decimal, width))
     encoding, newline = _ENCODING.get(dialect, ("utf-8", "\n"))
     p = Path(path)

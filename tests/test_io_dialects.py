@@ -244,3 +244,10 @@ def test_units_row_below_names(units, fe, fi):
     assert vg.metadata["import.potential_column"] == f"Potential ({units.split(',')[1]})"
     _close(vg.potential_V, E)
     _close(vg.current_A, i)
+
+
+def test_typographic_minus():
+    E, i, _ = triangle_wave(points_per_sweep=40)
+    rows = "\n".join(f"{e!r};{c!r}" for e, c in zip(E.tolist(), i.tolist(), strict=True))
+    vg = parse_voltammogram_text("E/V;I/A\n" + rows.replace("-", "\u2212"), source="x")
+    _close(vg.current_A, i)

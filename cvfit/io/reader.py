@@ -321,8 +321,12 @@ def parse_voltammogram_text(
         raise InputError(
             "the file is empty; export the voltammogram as delimited text", source=source
         )
+    # A typographic minus (U+2212) appears in some localised exports.
     table = read_table(
-        split_lines(text), source=source, delimiter=opts.delimiter, decimal=opts.decimal
+        split_lines(text.replace("\u2212", "-")),
+        source=source,
+        delimiter=opts.delimiter,
+        decimal=opts.decimal,
     )
     return _build(table, opts, source, scan_rate_V_s)
 

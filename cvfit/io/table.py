@@ -25,6 +25,7 @@ _KEY_VALUE = re.compile(r"^\s*(?P<key>[^:=]*[^:=\s])\s*[:=]\s*(?P<value>.*?)\s*$
 _CELL_DOT = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
 _CELL_COMMA = re.compile(r"^[+-]?(?:\d+,?\d*|,\d+)(?:[eE][+-]?\d+)?$")
 _CELL_SPECIAL = re.compile(r"(?i)^[+-]?(?:nan|inf|infinity)$")
+_COMMENT_MARK = re.compile(r"^\s*(?:#+|%+|//)\s*")  # "# E/V  I/A" style header rows
 _SAMPLE = 200
 _NAMES = {",": "comma", ";": "semicolon", "\t": "tab", "whitespace": "whitespace"}
 
@@ -242,7 +243,7 @@ def read_table(
     ncols = len(first_cells)
     header: tuple[str, ...] | None = None
     if header_text is not None:
-        labels = _split_header(header_text, delim, ncols)
+        labels = _split_header(_COMMENT_MARK.sub("", header_text), delim, ncols)
         if len(labels) >= ncols and all(not lab for lab in labels[ncols:]):
             labels = labels[:ncols]
         if len(labels) == ncols and not _is_numeric_line(header_text):
