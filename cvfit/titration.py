@@ -37,8 +37,8 @@ from ._lingane_flags import (
     point_flags,
     weighting_flag,
 )
+from ._lingane_intervals import scaled, t_quantity, with_reference
 from ._lingane_stats import (
-    combined_interval,
     curvature_p_value,
     fit_fixed_slope,
     fit_line,
@@ -46,7 +46,7 @@ from ._lingane_stats import (
 )
 from .errors import FitError, InputError
 from .flags import Flag
-from .quantity import Quantity, t_interval
+from .quantity import Quantity
 from .units import nernst_slope_V_per_decade
 
 __all__ = [
@@ -281,52 +281,6 @@ def check_points(points: Sequence[TitrationPoint]) -> tuple[Flag, ...]:
     return point_flags([p.ligand_M for p in pts], MIN_POINTS)
 
 
-def _q(value: float, stderr: float, dof: float) -> Quantity:
-    lo, hi = t_interval(value, stderr, dof)
-    how = "normal" if math.isinf(dof) else f"student-t, dof={int(dof)}"
-    return Quantity(value, stderr, (lo, hi), how)
-
-
-def _scaled(q: Quantity, factor: float, note: str = "") -> Quantity:
-    """``factor · q`` (a linear change of unit, e.g. V → log10 units)."""
-    lo, hi = sorted((q.ci95[0] * factor, q.ci95[1] * factor))
-    return Quantity(q.value * factor, q.stderr * abs(factor), (lo, hi), q.method + note)
-
-
-def _with_reference(
-    value: float,
-    fit_variance: float,
-    dof: int,
-    scale: float,
-    reference_stderr: float | None,
-    typical_variance: float | None,
-) -> tuple[Quantity, float, float]:
-    """Intercept of the shift with the reference E½(s) uncertainty folded in.
-
-    ``typical_variance`` is the median σᵢ² of a weighted fit (``None``: unweighted).
-    Weighted: the reference stderr came from the same peak analysis as the σᵢ, so it takes
-    the same scale factor (reduced χ²) and the interval is exact Student-t on ``dof``.
-    Unweighted with a given reference stderr: that stderr is known and is combined with
-    the fitted variance by :func:`combined_interval`. Reference stderr unknown: the
-    reference scatters like one more point (variance ``scale · typical``), Student-t.
-
-    Returns the Quantity, the reference variance used and the (equivalent) dof.
-    """
-    if typical_variance is not None or reference_stderr is None:
-        base = typical_variance if reference_stderr is None else reference_stderr**2
-        ref_var = scale * (1.0 if base is None else base)
-        q = _q(value, math.sqrt(fit_variance + ref_var), dof)
-        if reference_stderr is not None:
-            q = Quantity(q.value, q.stderr, q.ci95, q.method + ", reference scaled with the fit")
-        return q, ref_var, float(dof)
-    ref_var = reference_stderr**2
-    lo, hi, nu = combined_interval(value, fit_variance, dof, ref_var)
-    how = f"student-t (dof={dof}) and normal reference in quadrature" + (
-        "" if math.isinf(nu) else f", equivalent dof={nu:.1f}"
-    )
-    return Quantity(value, math.sqrt(fit_variance + ref_var), (lo, hi), how), ref_var, nu
-
-
 def fit_lingane(
     points: Sequence[TitrationPoint],
     *,
@@ -447,22 +401,22 @@ def fit_lingane(
     typical = None if w_sigma is None else float(np.median(w_sigma**2))
     slope = line.slope
     slope_se = math.sqrt(cov[0, 0])
-    slope_q = _q(slope, slope_se, dof)
-    delta_q = _scaled(slope_q, -1.0 / slope_nernst)
-    intercept_q, ref_var, intercept_dof = _with_reference(
+    slope_q = t_quantity(slope, slope_se, dof)
+    delta_q = scaled(slope_q, -1.0 / slope_nernst)
+    intercept_q, ref_var, intercept_dof = with_reference(
         line.intercept - e_ref, cov[1, 1], dof, scale, s_ref, typical
     )
-    ratio_q = _scaled(intercept_q, -1.0 / slope_nernst)
+    ratio_q = scaled(intercept_q, -1.0 / slope_nernst)
     cov_total = cov.copy()
     cov_total[1, 1] += ref_var
 
     k = int(round(delta_q.value))
     a_fix, var_fix_u, chi_fix = fit_fixed_slope(x, y, -k * slope_nernst, w_sigma)
     scale_fix = chi_fix / (n - 1)
-    fixed_q, _, _ = _with_reference(
+    fixed_q, _, _ = with_reference(
         a_fix - e_ref, var_fix_u * scale_fix, n - 1, scale_fix, s_ref, typical
     )
-    ratio_int_q = _scaled(fixed_q, -1.0 / slope_nernst, f", p - q fixed at {k}")
+    ratio_int_q = scaled(fixed_q, -1.0 / slope_nernst, f", p - q fixed at {k}")
     flags.extend(delta_ligand_flags(delta_q, k))
 
     p_curv = curvature_p_value(x, y, line, w_sigma)
