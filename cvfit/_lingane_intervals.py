@@ -11,6 +11,7 @@ __all__ = ["t_quantity", "scaled", "with_reference"]
 
 
 def t_quantity(value: float, stderr: float, dof: float) -> Quantity:
+    """Quantity with a Student-t interval on *dof* (normal when infinite)."""
     lo, hi = t_interval(value, stderr, dof)
     how = "normal" if math.isinf(dof) else f"student-t, dof={int(dof)}"
     return Quantity(value, stderr, (lo, hi), how)
