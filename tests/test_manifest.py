@@ -130,6 +130,13 @@ def test_toml_syntax_error_names_line(tmp_path):
     assert "TOML syntax error" in err.message and err.line == _line_of(text, "electrons")
 
 
+def test_toml_error_at_end_of_document(tmp_path):
+    text = GOOD + "ligand_M = [1\n"
+    err = _fails(tmp_path, text)
+    assert "at the end of the file" in err.message
+    assert err.line == len(text.splitlines())
+
+
 def test_not_utf8(tmp_path):
     p = tmp_path / "s.toml"
     p.write_bytes(b'[series]\ntitle = "\xff"\n')

@@ -232,6 +232,12 @@ class Manifest:
     reversibility: ReversibilityCriteria
     voltammograms: tuple[VoltammogramEntry, ...]
 
+    def __post_init__(self) -> None:
+        entries = tuple(self.voltammograms)
+        if not entries:
+            raise InputError("a series needs at least one voltammogram", source=str(self.path))
+        object.__setattr__(self, "voltammograms", entries)
+
 
 class _Locator:
     """Line numbers of tables and keys in the raw TOML text (best effort)."""
@@ -365,6 +371,9 @@ def _read(path: Path) -> tuple[str, dict[str, Any]]:
         m = re.search(r"\(at line (\d+), column (\d+)\)", msg)
         line = int(m.group(1)) if m else None
         what = msg[: m.start()].strip() if m else msg
+        if m is None and "(at end of document)" in msg:
+            line = max(len(split_lines(text)), 1)
+            what = msg.replace("(at end of document)", "at the end of the file").strip()
         col = f" (column {m.group(2)})" if m else ""
         raise InputError(
             f"TOML syntax error{col}: {what}; fix the manifest", source=source, line=line
