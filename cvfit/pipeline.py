@@ -20,12 +20,11 @@ from .flags import Flag
 from .io import Manifest, VoltammogramEntry, load_manifest, read_voltammogram
 from .peaks import analyse_peaks
 from .results import FileResult, ReferenceHalfWave, SeriesResult
-from .titration import TitrationPoint, fit_lingane
+from .titration import MIN_POINTS as MIN_FIT_POINTS
+from .titration import TitrationPoint, check_points, fit_lingane
 
 __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_EXCESS_MIN"]
 
-#: Fewest titration points (besides the reference) for a line with an interval.
-MIN_FIT_POINTS = 3
 #: Ligand excess over metal below which the free-ligand assumption is doubtful
 #: (common practice: keep the ligand in >= 10-fold excess).
 LIGAND_EXCESS_MIN = 10.0
@@ -224,7 +223,8 @@ def analyse_series(manifest: Manifest) -> SeriesResult:
         )
 
     fit = None
-    if ref_ok and len(points) >= MIN_FIT_POINTS:
+    point_checks = check_points(points)
+    if ref_ok and not any(f.severity == "error" for f in point_checks):
         fit = fit_lingane(
             points,
             electrons=series.electrons,
@@ -232,16 +232,8 @@ def analyse_series(manifest: Manifest) -> SeriesResult:
             reference_E_half_V=reference.E_half_V,
             reference_stderr_V=reference.stderr_V,
         )
-    elif ref_ok:
-        series_flags.append(
-            Flag(
-                "TOO_FEW_POINTS",
-                f"only {len(points)} usable titration point(s) (ligand_M > 0, peaks found"
-                f"{', Nernstian' if exclude else ''}); at least {MIN_FIT_POINTS} are needed "
-                "for a fit with an interval — no constants reported",
-                "error",
-            )
-        )
+    else:
+        series_flags.extend(point_checks)
 
     return SeriesResult(
         cvfit_version=__version__,
@@ -267,4 +259,5 @@ def analyse_series(manifest: Manifest) -> SeriesResult:
             "current_ratio_margin": manifest.reversibility.current_ratio_margin,
         },
         flags=tuple(series_flags),
+        fit_n_points=len(points),
     )

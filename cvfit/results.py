@@ -146,7 +146,8 @@ class SeriesResult:
         One per voltammogram, in manifest order.
     reference : ReferenceHalfWave
     fit : LinganeFit or None
-        None when no fit could be made (see ``flags``).
+        None when no fit could be made (see ``flags``); results.json then carries the
+        fit's keys with null constants.
     nernstian : bool
         False when any voltammogram failed (or could not pass) the reversibility screen.
     exclude_non_nernstian : bool
@@ -155,6 +156,8 @@ class SeriesResult:
         The reversibility margins applied, JSON-ready.
     flags : tuple of Flag
         Series-level findings.
+    fit_n_points : int
+        Number of usable titration points offered to the fit.
     """
 
     cvfit_version: str
@@ -167,10 +170,16 @@ class SeriesResult:
     exclude_non_nernstian: bool
     criteria: dict[str, float]
     flags: tuple[Flag, ...] = ()
+    fit_n_points: int = 0
 
     def to_dict(self) -> dict[str, Any]:
-        fit: dict[str, Any] | None
-        fit = None if self.fit is None else self.fit.to_dict()
+        if self.fit is not None:
+            fit = self.fit.to_dict()
+        else:
+            from .titration import null_fit_dict
+
+            why = [f for f in self.flags if f.severity == "error"]
+            fit = null_fit_dict(self.fit_n_points, why)
         return {
             "cvfit_version": self.cvfit_version,
             "manifest": self.manifest,
