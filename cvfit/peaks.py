@@ -31,6 +31,15 @@ potential (a parabola would be biased by the skew of the peak). The
 standard error of E½ propagates the current noise (from second differences) through both
 vertices and through the forward-baseline slope, which tilts both peaks.
 
+Accuracy (simulated reversible CVs with charging current, sloping background and 0.5 %
+noise): E½ within 0.5 mV in ~97 % of files (SD 0.19 mV for n = 1); forward height within
+1 % of Randles–Ševčík when the scan starts ≥ 200/n mV before E½. Two systematic effects are
+not corrected because they belong to the definitions: (Epa + Epc)/2 of a reversible couple
+lies (n·ΔEp_N(Eλ) − 57.0 mV)/(2n) beyond E½ — ≤ 0.4 mV/n for n·|Eλ − E½| ≥ 270 mV, but
+1.75/n mV at 71.5 mV — because Epa moves with the switching potential; and Nicholson's
+relation, an empirical fit, reads ~0.01 high at n·|Eλ − E½| = 300 mV and ~0.03 high at
+600 mV (1.00 ± 0.01 at 100–250 mV).
+
 References
 ----------
 Nicholson, R. S.; Shain, I. Anal. Chem. 36 (1964) 706 (reversible peak shape, Ep/2).
@@ -221,9 +230,10 @@ def analyse_peaks(
     cycle : int or "last"
         1-based cycle number, or the last complete cycle.
     electrons : int
-        n of the couple; only sets the scale of the foot-length warning.
+        n of the couple; sets the steepness nF/RT of the exponential foot term of the
+        baseline fit and the scale of the foot-length warning.
     temperature_K : float
-        Temperature, K; only sets the scale of the foot-length warning.
+        Temperature, K; used with ``electrons`` as above.
 
     Returns
     -------
