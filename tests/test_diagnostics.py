@@ -217,3 +217,25 @@ def test_screen_record_validates_and_serialises():
         ReversibilityScreen(reversible="yes", expected_delta_Ep_V=None, expected_peak_width_V=0.05)
     with pytest.raises(ValueError):
         screen_reversibility(_peaks(), electrons=0, temperature_K=298.15)
+
+
+@pytest.mark.parametrize(("n", "T"), [(1, 278.15), (2, 330.0)])
+def test_reversible_simulation_passes_at_other_temperatures(n, T):
+    # Nernstian n·ΔEp scales with T/298.15 K (57–58 mV at 25 °C, Nicholson & Shain 1964, from
+    # memory): a reversible couple at 5 °C or 57 °C must pass with the scaled criteria
+    v = simulate_cv(
+        E_half_V=0.1,
+        start_V=0.32,
+        switch_V=0.1 - 0.3 / n,
+        electrons=n,
+        temperature_K=T,
+        double_layer_F=20e-6,
+        background_slope_A_per_V=5e-6,
+        noise_fraction=0.005,
+        seed=9,
+    )
+    peaks = analyse_peaks(v, electrons=n, temperature_K=T)
+    screen = screen_reversibility(peaks, electrons=n, temperature_K=T)
+    assert screen.reversible is True, [f.message for f in screen.flags]
+    assert n * peaks.delta_Ep_V == pytest.approx(0.0575 * T / 298.15, abs=1.5e-3)
+    assert abs(peaks.E_half_V - 0.1) < 0.5e-3
