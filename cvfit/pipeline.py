@@ -151,7 +151,7 @@ def analyse_series(manifest: Manifest) -> SeriesResult:
     points: list[TitrationPoint] = []
     excluded: list[str] = []
     for f in files:
-        usable = f.ligand_M > 0 and f.peaks.E_half_V is not None
+        usable = f.free_ligand_M > 0 and f.peaks.E_half_V is not None
         flags = list(f.flags)
         if usable and exclude and f.reversible is not True:
             usable = False
@@ -217,8 +217,9 @@ def analyse_series(manifest: Manifest) -> SeriesResult:
         series_flags.append(
             Flag(
                 "REFERENCE_UNCERTAINTY_UNKNOWN",
-                "no standard error for E½(s) (give E_half_free_stderr_V); the intercept's "
-                "interval leaves the reference uncertainty out",
+                "no standard error for E½(s) (give E_half_free_stderr_V); the fit gives the "
+                "reference the scatter of the titration points instead",
+                "info",
             )
         )
 

@@ -1,0 +1,187 @@
+"""End to end: simulated titration series on disk → manifest → results.
+
+Truth (tests/seriesfactory.py): p − q = 1 and log10(β_ox/β_red) = 6.0 in Lingane's
+relation E½(c) − E½(s) = −(RT/nF) ln(β_ox/β_red) − (p − q)(RT/nF) ln[L]
+(Lingane, Chem. Rev. 29 (1941) 1). Tolerances from the issue: 0.03 in log10, 0.05 in p − q.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import tomllib
+from pathlib import Path
+
+import jsonschema
+import pytest
+
+from cvfit.cli import main
+from cvfit.io import load_manifest
+from cvfit.pipeline import analyse_series
+from cvfit.report import results_to_json
+from dialects import DIALECT_IMPORT, DIALECTS, write_dialect
+from seriesfactory import (
+    LIGAND_M,
+    TRUE_DELTA_LIGANDS,
+    TRUE_LOG10_RATIO,
+    simulate_point,
+    write_manifest,
+    write_plain_csv,
+)
+
+SCHEMAS = Path(__file__).resolve().parents[1] / "schemas"
+
+
+def validate(instance: dict, schema_name: str) -> None:
+    schema = json.loads((SCHEMAS / schema_name).read_text(encoding="utf-8"))
+    jsonschema.Draft202012Validator(schema).validate(instance)
+
+
+def write_series(folder: Path, *, dialects=("plain_csv",), electrons=1, seed=0,
+                 slow_at=(), fit=None, series_extra=None) -> Path:
+    entries = []
+    for k, ligand in enumerate(LIGAND_M):
+        dialect = dialects[k % len(dialects)]
+        v = simulate_point(ligand, seed=seed + k, electrons=electrons,
+                           k0_cm_s=0.002 if ligand in slow_at else None)
+        name = f"{dialect}_{k:02d}.csv"
+        write_dialect(folder / name, potential_V=v.potential_V, current_A=v.current_A,
+                      time_s=v.time_s, dialect=dialect)
+        entry = {"file": name, "ligand_M": ligand, "scan_rate_V_s": 0.1}
+        entry.update(DIALECT_IMPORT[dialect])
+        entries.append(entry)
+    series = {"electrons": electrons, "title": f"simulated n={electrons}"}
+    series.update(series_extra or {})
+    return write_manifest(folder / "series.toml", entries, series=series, fit=fit)
+
+
+@pytest.fixture(scope="module")
+def dialect_series(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("dialects")
+    manifest = write_series(folder, dialects=DIALECTS, seed=11)
+    return manifest, analyse_series(load_manifest(manifest))
+
+
+def test_round_trip_through_many_dialects(dialect_series):
+    manifest, result = dialect_series
+    assert result.nernstian
+    fit = result.fit
+    assert fit is not None and fit.n_points == len(LIGAND_M) - 1
+    assert abs(fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) < 0.03
+    assert abs(fit.delta_ligands.value - TRUE_DELTA_LIGANDS) < 0.05
+    assert fit.delta_ligands_integer == TRUE_DELTA_LIGANDS
+    assert abs(fit.log10_beta_ratio_at_integer.value - TRUE_LOG10_RATIO) < 0.03
+
+
+def test_results_json_and_manifest_follow_their_schemas(dialect_series):
+    manifest, result = dialect_series
+    data = json.loads(results_to_json(result))
+    validate(data, "results.schema.json")
+    with open(manifest, "rb") as fh:
+        validate(tomllib.load(fh), "series.schema.json")
+    # contract keys of DESIGN.md
+    v0 = data["voltammograms"][1]
+    for key in ("file", "ligand_M", "free_ligand_M", "Epc_V", "Epa_V", "E_half_V",
+                "E_half_stderr_V", "delta_Ep_V", "ipc_A", "ipa_A", "current_ratio",
+                "reversible", "used_in_fit", "flags"):
+        assert key in v0
+    for key in ("slope_V_per_decade", "intercept_V", "delta_ligands", "log10_beta_ratio",
+                "log10_beta_ratio_at_integer"):
+        q = data["fit"][key]
+        assert q["ci95"][0] <= q["value"] <= q["ci95"][1] and q["stderr"] > 0
+
+
+def test_two_electron_series(tmp_path):
+    manifest = write_series(tmp_path, electrons=2, seed=40,
+                            dialects=("tab_mV_uA", "semicolon_decimal_comma"))
+    result = analyse_series(load_manifest(manifest))
+    # slope -59.16 (p - q)/n mV/decade (REFERENCES.md [calc]) is recovered as p - q = 1
+    assert abs(result.fit.delta_ligands.value - 1) < 0.05
+    assert abs(result.fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) < 0.03
+
+
+def test_slow_high_ligand_file_is_flagged_and_left_out(tmp_path):
+    manifest = write_series(tmp_path, seed=70, slow_at=(0.3,))
+    result = analyse_series(load_manifest(manifest))
+    last = result.files[-1]
+    assert last.reversible is False and not last.used_in_fit
+    codes = {f.code for f in last.flags}
+    assert "DELTA_EP_TOO_LARGE" in codes and "EXCLUDED_NON_NERNSTIAN" in codes
+    assert all(f.reversible for f in result.files[:-1])
+    assert not result.nernstian
+    assert "FILES_EXCLUDED" in {f.code for f in result.flags}
+    assert result.fit.n_points == len(LIGAND_M) - 2
+    assert abs(result.fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) < 0.03
+
+
+def test_including_flagged_data_says_so(tmp_path):
+    manifest = write_series(tmp_path, seed=70, slow_at=(0.3,),
+                            fit={"exclude_non_nernstian": False})
+    result = analyse_series(load_manifest(manifest))
+    assert result.files[-1].used_in_fit
+    assert "FIT_USES_FLAGGED_DATA" in {f.code for f in result.flags}
+
+
+def test_too_few_usable_points_gives_null_constants_and_exit_0(tmp_path, capsys):
+    manifest = write_series(tmp_path, seed=90, slow_at=(0.02, 0.04, 0.08, 0.15))
+    out = tmp_path / "out"
+    assert main(["run", str(manifest), "--out", str(out), "--quiet"]) == 0
+    data = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    validate(data, "results.schema.json")
+    assert data["fit"]["log10_beta_ratio"]["value"] is None
+    assert data["fit"]["delta_ligands_integer"] is None
+    assert "TOO_FEW_POINTS" in {f["code"] for f in data["flags"]}
+
+
+def _digests(folder: Path) -> dict[str, str]:
+    return {p.name: hashlib.sha256(p.read_bytes()).hexdigest()
+            for p in folder.iterdir() if p.is_file()}
+
+
+def test_run_into_input_folder_keeps_inputs_and_is_deterministic(tmp_path, capsys):
+    folder = tmp_path / "data"
+    folder.mkdir()
+    entries = []
+    for k, ligand in enumerate(LIGAND_M[:5]):
+        write_plain_csv(folder / f"f{k}.csv", simulate_point(ligand, seed=5 + k))
+        entries.append({"file": f"f{k}.csv", "ligand_M": ligand})
+    manifest = write_manifest(folder / "series.toml", entries)
+    before = _digests(folder)
+    assert main(["run", str(manifest), "--out", str(folder), "--quiet"]) == 0
+    first = json.loads((folder / "results.json").read_text(encoding="utf-8"))
+    after = _digests(folder)
+    assert {k: after[k] for k in before} == before
+    assert main(["run", str(manifest), "--out", str(folder), "--quiet"]) == 0
+    second = json.loads((folder / "results.json").read_text(encoding="utf-8"))
+    first.pop("manifest"), second.pop("manifest")
+    assert first == second
+
+
+def test_output_never_replaces_an_input(tmp_path, capsys):
+    folder = tmp_path / "data"
+    folder.mkdir()
+    entries = []
+    for k, ligand in enumerate(LIGAND_M[:4]):
+        name = "results.json" if k == 1 else f"f{k}.csv"
+        write_plain_csv(folder / name, simulate_point(ligand, seed=k))
+        entries.append({"file": name, "ligand_M": ligand})
+    manifest = write_manifest(folder / "series.toml", entries)
+    before = _digests(folder)
+    assert main(["run", str(manifest), "--out", str(folder)]) == 2
+    assert "would overwrite the input file" in capsys.readouterr().err
+    assert _digests(folder) == before
+
+
+def test_demo_runs_from_package_data(tmp_path, capsys):
+    assert main(["demo", "--out", str(tmp_path / "demo")]) == 0
+    text = capsys.readouterr().out
+    assert "log10(β_ox/β_red)" in text and "±" in text
+    data = json.loads((tmp_path / "demo" / "results" / "results.json").read_text("utf-8"))
+    validate(data, "results.schema.json")
+    # invented demo scenario (example_runs/make_demo.py): log10 ratio 5.4, p - q = 1, and
+    # the slow highest-ligand file is flagged
+    assert abs(data["fit"]["log10_beta_ratio_at_integer"]["value"] - 5.4) < 0.05
+    assert data["fit"]["delta_ligands_integer"] == 1
+    assert data["voltammograms"][-1]["reversible"] is False
+    for name in ("voltammograms.csv", "voltammograms.png", "half_wave_shift.png"):
+        assert (tmp_path / "demo" / "results" / name).stat().st_size > 0
