@@ -1,4 +1,4 @@
-"""Rebuild the bundled demo series (cvfit/data/demo/) and its outputs (example_runs/demo/).
+"""Rebuild the bundled demo series (cvfit/data/demo/) and its outputs (example_runs/demo/results/).
 
 Invented scenario, for demonstration only: a hypothetical one-electron M(III)/M(II) couple
 titrated with a hypothetical neutral ligand "tazine" (L) in 0.1 M supporting electrolyte at
@@ -89,9 +89,10 @@ def main() -> int:
         write_export(DATA / name, v, ligand_M=ligand)
         files.append((name, ligand))
     (DATA / "series.toml").write_text(manifest_text(files), encoding="utf-8")
-    if OUT.exists():
-        shutil.rmtree(OUT)
-    return cvfit_main(["demo", "--out", str(OUT)])
+    results = OUT / "results"
+    if results.exists():
+        shutil.rmtree(results)
+    return cvfit_main(["run", str(DATA / "series.toml"), "--out", str(results)])
 
 
 if __name__ == "__main__":
