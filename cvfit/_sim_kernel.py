@@ -2,11 +2,13 @@
 
 Planar semi-infinite diffusion of O and R on an exponentially expanding space grid,
 second-order backward differentiation in time (BDF2, started by one backward-Euler
-step), a three-point second-order surface gradient and a Nernstian or Butler–Volmer
-electrode boundary. Both the interior solve and the boundary are linear in the surface
-concentrations, so each step costs O(grid): one backward elimination sweep per species
-that leaves the surface gradient as ``A·c(0) + B``, a scalar solve of the boundary
-condition (and, with uncompensated resistance, of the iR drop), and one forward
+step; the double-layer charging derivative is backward Euler, exact for the
+piecewise-linear applied potential, unless R_u·C_dl resolves the RC response, see
+:func:`charging_restarts`), a three-point second-order surface gradient and a Nernstian
+or Butler–Volmer electrode boundary. Both the interior solve and the boundary are linear
+in the surface concentrations, so each step costs O(grid): one backward elimination sweep
+per species that leaves the surface gradient as ``A·c(0) + B``, a scalar solve of the
+boundary condition (and, with uncompensated resistance, of the iR drop), and one forward
 substitution sweep.
 
 Two interchangeable back ends give the same numbers to rounding:
@@ -208,7 +210,7 @@ def species_operator(grid: Grid, D_cm2_s: float, dt_s: float) -> SpeciesOperator
 @_jit
 def _march_thomas(
     E_app, dt, cO, cR, cO_bulk, cR_bulk, eO, idO, GO, AOs, eR, idR, GR, ARs, s1, s2, DO, DR,
-    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, i_far, i_cap, E_true, amt_O, amt_R,
+    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, kink, i_far, i_cap, E_true, amt_O, amt_R,
 ):  # fmt: skip
     """March all steps with Thomas sweeps; fills cO, cR and the output arrays in place."""
     M = E_app.size
@@ -241,14 +243,16 @@ def _march_thomas(
             fR[i] = (rR - GR[kind, i] * fR[i + 1]) * idR[kind, i]
         BO = s1 * fO[1] + s2 * (eO[kind, 2] * fO[1] + fO[2])
         BR = s1 * fR[1] + s2 * (eR[kind, 2] * fR[1] + fR[2])
-        if kind == 0:
+        if kind == 0 or kink[m]:
+            kapE = 1.0 / dt
             rhsE = E_prev / dt
         else:
+            kapE = kap
             rhsE = (4.0 * E_prev - E_prev2) / (2.0 * dt)
         AO = AOs[kind]
         AR = ARs[kind]
         Et, j, ic = _surface_solve(
-            E_app[m], rhsE, kap, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha, Ru, Cdl, nFA
+            E_app[m], rhsE, kapE, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha, Ru, Cdl, nFA
         )
         for i in range(N + 1):
             prevO[i] = cO[i]
@@ -270,7 +274,7 @@ def _march_thomas(
 
 def _march_dense(
     E_app, dt, cO, cR, cO_bulk, cR_bulk, opO, opR, DO, DR,
-    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, i_far, i_cap, E_true, amt_O, amt_R,
+    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, kink, i_far, i_cap, E_true, amt_O, amt_R,
 ):  # fmt: skip
     """Same marching as :func:`_march_thomas` with precomputed dense interior inverses."""
     M = E_app.size
@@ -295,12 +299,16 @@ def _march_dense(
             rO = (4.0 * cO[1:-1] - prevO[1:-1]) / (2.0 * dt)
             rR = (4.0 * cR[1:-1] - prevR[1:-1]) / (2.0 * dt)
             rhsE = (4.0 * E_prev - E_prev2) / (2.0 * dt)
+        kapE = kap
+        if kink[m]:
+            kapE = 1.0 / dt
+            rhsE = E_prev / dt
         BO = float(opO.dense_b[kind] @ rO + opO.dense_bb[kind] * cO_bulk)
         BR = float(opR.dense_b[kind] @ rR + opR.dense_bb[kind] * cR_bulk)
         AO = float(opO.A_surf[kind])
         AR = float(opR.A_surf[kind])
         Et, j, ic = _surface_solve(
-            float(E_app[m]), rhsE, kap, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha, Ru, Cdl, nFA
+            float(E_app[m]), rhsE, kapE, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha, Ru, Cdl, nFA
         )
         prevO = cO.copy()
         prevR = cR.copy()
@@ -318,6 +326,29 @@ def _march_dense(
         if track:
             amt_O[m] = weights @ cO
             amt_R[m] = weights @ cR
+
+
+def charging_restarts(E_app_V: np.ndarray, rc_s: float, dt_s: float) -> np.ndarray:
+    """Steps whose charging derivative dE/dt is taken by backward Euler instead of BDF2.
+
+    BDF2 reaches back two steps, so across a vertex of a piecewise-linear potential it
+    gives dE/dt = 2v (or 0) on the first point after the switch instead of the step from
+    −v to +v. Without R_u, or with R_u·C_dl shorter than the time step (the double layer
+    then follows the applied potential within one step), the electrode potential has that
+    kink; backward Euler on every step is exact on each linear piece of the applied
+    potential, so the charging current is exactly C·v on both sides of each vertex, and
+    with a short R_u·C_dl it relaxes monotonically (L-stable; BDF2 would overshoot after
+    the kink). With a resolved time constant (R_u·C_dl ≥ Δt) the electrode potential is
+    continuously differentiable through the vertex — its slope is i/C_dl and the current
+    through R_u is continuous — so BDF2 on the self-consistent true potential stays second
+    order there and is used after the backward-Euler first step.
+    """
+    n = np.asarray(E_app_V).size
+    if rc_s < dt_s:
+        return np.ones(n, dtype=np.bool_)
+    kink = np.zeros(n, dtype=np.bool_)
+    kink[: min(n, 2)] = True
+    return kink
 
 
 @dataclass(frozen=True)
@@ -377,6 +408,7 @@ def march(
     amt_O = np.zeros(M if track_amounts else 1)
     amt_R = np.zeros(M if track_amounts else 1)
     w = np.ascontiguousarray(grid.weights_cm)
+    kink = charging_restarts(E_app, float(resistance_ohm) * float(double_layer_F), dt_s)
     scalars = (
         float(D_ox_cm2_s), float(D_red_cm2_s), float(E_formal_V), float(nf_per_V),
         float(k0_cm_s), float(alpha), float(resistance_ohm), float(double_layer_F),
@@ -387,13 +419,14 @@ def march(
         _march_thomas(
             E_app, float(dt_s), cO, cR, float(bulk_ox_mol_cm3), float(bulk_red_mol_cm3),
             opO.e, opO.inv_den, opO.upper, opO.A_surf, opR.e, opR.inv_den, opR.upper,
-            opR.A_surf, s1, s2, *scalars, w, bool(track_amounts), i_far, i_cap, E_true,
-            amt_O, amt_R,
+            opR.A_surf, s1, s2, *scalars, w, bool(track_amounts), kink, i_far, i_cap,
+            E_true, amt_O, amt_R,
         )  # fmt: skip
     else:
         _march_dense(
             E_app, float(dt_s), cO, cR, float(bulk_ox_mol_cm3), float(bulk_red_mol_cm3),
-            opO, opR, *scalars, w, bool(track_amounts), i_far, i_cap, E_true, amt_O, amt_R,
+            opO, opR, *scalars, w, bool(track_amounts), kink, i_far, i_cap, E_true, amt_O,
+            amt_R,
         )  # fmt: skip
     return MarchResult(
         E_true_V=E_true,
