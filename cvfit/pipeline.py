@@ -8,7 +8,8 @@ and fits the titration model to the usable points.
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -17,11 +18,13 @@ from . import __version__
 from .diagnostics import screen_reversibility
 from .errors import InputError
 from .flags import Flag
+from .halfwave import corrected_half_wave_V
 from .io import Manifest, VoltammogramEntry, load_manifest, read_voltammogram
 from .peaks import analyse_peaks
 from .results import FileResult, ReferenceHalfWave, SeriesResult
 from .titration import MIN_POINTS as MIN_FIT_POINTS
 from .titration import TitrationPoint, check_points, fit_lingane
+from .voltammogram import Voltammogram
 
 __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_EXCESS_MIN"]
 
@@ -35,9 +38,13 @@ def analyse_manifest_file(path: str | Path) -> SeriesResult:
     return analyse_series(load_manifest(path))
 
 
-def _analyse_file(entry: VoltammogramEntry, manifest: Manifest) -> FileResult:
+def _analyse_file(
+    entry: VoltammogramEntry, manifest: Manifest, record: Voltammogram | None = None
+) -> FileResult:
     series = manifest.series
-    v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
+    v = record
+    if v is None:
+        v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
     peaks = analyse_peaks(
         v,
         cycle=entry.import_options.cycle,
@@ -50,7 +57,14 @@ def _analyse_file(entry: VoltammogramEntry, manifest: Manifest) -> FileResult:
         temperature_K=series.temperature_K,
         criteria=manifest.reversibility,
     )
-    flags = list(peaks.flags) + list(screen.flags)
+    flags = list(peaks.flags)
+    flags += [f for f in screen.flags if f.code not in {g.code for g in flags}]
+    if screen.reversible is True:
+        e_half, correction = corrected_half_wave_V(
+            peaks, electrons=series.electrons, temperature_K=series.temperature_K
+        )
+    else:
+        e_half, correction = peaks.E_half_V, 0.0
     metal = series.metal_total_M
     if metal is not None and entry.ligand_M > 0 and entry.ligand_M < LIGAND_EXCESS_MIN * metal:
         flags.append(
@@ -72,15 +86,17 @@ def _analyse_file(entry: VoltammogramEntry, manifest: Manifest) -> FileResult:
         flags=tuple(flags),
         voltammogram=v,
         label=entry.label,
+        E_half_V=e_half,
+        switching_correction_V=correction,
     )
 
 
 def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
     """E½(s): mean of the usable ligand-free files, else the manifest value."""
     free = [f for f in files if f.ligand_M == 0.0]
-    usable = [f for f in free if f.peaks.E_half_V is not None]
+    usable = [f for f in free if f.E_half_V is not None]
     if usable:
-        values = np.array([f.peaks.E_half_V for f in usable], dtype=float)
+        values = np.array([f.E_half_V for f in usable], dtype=float)
         errs = np.array(
             [np.nan if f.peaks.E_half_stderr_V is None else f.peaks.E_half_stderr_V for f in usable]
         )
@@ -112,13 +128,18 @@ def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalf
     )
 
 
-def analyse_series(manifest: Manifest) -> SeriesResult:
+def analyse_series(
+    manifest: Manifest, *, records: Mapping[str, Voltammogram] | None = None
+) -> SeriesResult:
     """Analyse one titration series described by a loaded manifest.
 
     Parameters
     ----------
     manifest : Manifest
-        As returned by :func:`cvfit.io.load_manifest`.
+        As returned by :func:`cvfit.io.load_manifest` (or built in memory).
+    records : mapping of str to Voltammogram, optional
+        Voltammograms already in memory, keyed by the entries' ``name``; entries not in
+        it are read from their files.
 
     Returns
     -------
@@ -142,7 +163,8 @@ def analyse_series(manifest: Manifest) -> SeriesResult:
             source=str(manifest.path),
             key="voltammogram",
         )
-    files = [_analyse_file(e, manifest) for e in manifest.voltammograms]
+    records = records or {}
+    files = [_analyse_file(e, manifest, records.get(e.name)) for e in manifest.voltammograms]
     reference = _reference(files, manifest)
     exclude = manifest.fit.exclude_non_nernstian
     series_flags: list[Flag] = []
@@ -151,7 +173,7 @@ def analyse_series(manifest: Manifest) -> SeriesResult:
     points: list[TitrationPoint] = []
     excluded: list[str] = []
     for f in files:
-        usable = f.free_ligand_M > 0 and f.peaks.E_half_V is not None
+        usable = f.free_ligand_M > 0 and f.E_half_V is not None
         flags = list(f.flags)
         if usable and exclude and f.reversible is not True:
             usable = False
@@ -166,14 +188,9 @@ def analyse_series(manifest: Manifest) -> SeriesResult:
             )
         if usable:
             points.append(
-                TitrationPoint(f.file, f.free_ligand_M, f.peaks.E_half_V, f.peaks.E_half_stderr_V)
+                TitrationPoint(f.file, f.free_ligand_M, f.E_half_V, f.peaks.E_half_stderr_V)
             )
-        final.append(
-            FileResult(
-                f.file, f.ligand_M, f.free_ligand_M, f.scan_rate_V_s, f.peaks, f.screen,
-                usable, tuple(flags), f.voltammogram, f.label,
-            )
-        )
+        final.append(replace(f, used_in_fit=usable, flags=tuple(flags)))
 
     nernstian = all(f.reversible is True for f in final)
     if excluded:

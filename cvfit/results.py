@@ -55,6 +55,11 @@ class FileResult:
         The imported record (for figures; not written to results.json).
     label : str or None
         Optional label from the manifest.
+    E_half_V : float or None
+        E½ used downstream, V: the peak midpoint less the switching correction for a
+        voltammogram that passed the screen (see :mod:`cvfit.halfwave`), else the midpoint.
+    switching_correction_V : float
+        The correction applied, V (0 when none).
     """
 
     file: str
@@ -67,6 +72,8 @@ class FileResult:
     flags: tuple[Flag, ...]
     voltammogram: Voltammogram = field(repr=False, compare=False)
     label: str | None = None
+    E_half_V: float | None = None
+    switching_correction_V: float = 0.0
 
     @property
     def reversible(self) -> bool | None:
@@ -85,8 +92,10 @@ class FileResult:
             "switching_potential_V": clean_number(p.switching_potential_V),
             "Epc_V": clean_number(p.Epc_V),
             "Epa_V": clean_number(p.Epa_V),
-            "E_half_V": clean_number(p.E_half_V),
+            "E_half_V": clean_number(self.E_half_V),
             "E_half_stderr_V": clean_number(p.E_half_stderr_V),
+            "E_half_midpoint_V": clean_number(p.E_half_V),
+            "switching_correction_V": clean_number(self.switching_correction_V),
             "delta_Ep_V": clean_number(p.delta_Ep_V),
             "expected_delta_Ep_V": clean_number(self.screen.expected_delta_Ep_V),
             "Ep_half_c_V": clean_number(p.Ep_half_c_V),

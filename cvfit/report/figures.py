@@ -95,13 +95,13 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         fig, (ax, axr) = plt.subplots(
             2, 1, figsize=(6.0, 5.2), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
         )
-        pts = [f for f in result.files if f.ligand_M > 0 and f.peaks.E_half_V is not None]
+        pts = [f for f in result.files if f.ligand_M > 0 and f.E_half_V is not None]
         if ref is None or not pts:
             ax.text(0.5, 0.5, "no E½ shift could be measured", ha="center",
                     transform=ax.transAxes)
             return _save(fig, path)
         x = np.log10([f.free_ligand_M for f in pts])
-        y = np.array([(f.peaks.E_half_V - ref) * 1e3 for f in pts])
+        y = np.array([(f.E_half_V - ref) * 1e3 for f in pts])
         yerr = np.array([(f.peaks.E_half_stderr_V or 0.0) * 1e3 for f in pts])
         used = np.array([f.used_in_fit for f in pts])
         ax.errorbar(x[used], y[used], yerr=yerr[used], fmt="o", color="#1f4e79", ms=5,

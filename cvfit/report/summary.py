@@ -44,7 +44,7 @@ def format_summary(result: SeriesResult) -> str:
     lines.append("-" * len(header))
     for f in result.files:
         p = f.peaks
-        e_half = format_pm(p.E_half_V, p.E_half_stderr_V, scale=1e3)
+        e_half = format_pm(f.E_half_V, p.E_half_stderr_V, scale=1e3)
         rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
         name = f.file if len(f.file) <= 22 else "…" + f.file[-21:]
         lines.append(
