@@ -1,10 +1,18 @@
-"""cvfit: stability constants from cyclic-voltammetry titrations."""
+"""cvfit: stability constants from cyclic-voltammetry titrations.
+
+The public API, imported lazily so that ``import cvfit`` stays cheap::
+
+    from cvfit import load_manifest, analyse_series, read_voltammogram, simulate_cv
+"""
 
 from __future__ import annotations
 
+import importlib
 from importlib.metadata import PackageNotFoundError, version
+from typing import Any
 
 from .errors import CvfitError, FitError, InputError, SimulationError
+from .flags import Flag
 from .quantity import Quantity
 from .voltammogram import Cycle, Sweep, Voltammogram
 
@@ -13,14 +21,47 @@ try:
 except PackageNotFoundError:  # running from a source tree that is not installed
     __version__ = "0.0.0+unknown"
 
+_LAZY = {
+    "read_voltammogram": "cvfit.io",
+    "parse_voltammogram_text": "cvfit.io",
+    "load_manifest": "cvfit.io",
+    "ImportOptions": "cvfit.io",
+    "analyse_series": "cvfit.pipeline",
+    "analyse_manifest_file": "cvfit.pipeline",
+    "analyse_peaks": "cvfit.peaks",
+    "screen_reversibility": "cvfit.diagnostics",
+    "fit_lingane": "cvfit.titration",
+    "TitrationPoint": "cvfit.titration",
+    "simulate_cv": "cvfit.simulate",
+    "simulate_series": "cvfit.simulate",
+    "randles_sevcik_peak_current_A": "cvfit.simulate",
+    "complexed_half_wave_V": "cvfit.complexation",
+    "write_outputs": "cvfit.report",
+}
+
 __all__ = [
     "__version__",
     "CvfitError",
     "InputError",
     "FitError",
     "SimulationError",
+    "Flag",
     "Quantity",
     "Voltammogram",
     "Sweep",
     "Cycle",
+    *_LAZY,
 ]
+
+
+def __getattr__(name: str) -> Any:
+    module = _LAZY.get(name)
+    if module is None:
+        raise AttributeError(f"module 'cvfit' has no attribute {name!r}")
+    value = getattr(importlib.import_module(module), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(__all__)
