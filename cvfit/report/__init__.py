@@ -24,6 +24,7 @@ OUTPUT_NAMES = {
     "table": "voltammograms.csv",
     "voltammograms_figure": "voltammograms.png",
     "lingane_figure": "half_wave_shift.png",
+    "html_report": "report.html",
 }
 
 
@@ -40,6 +41,13 @@ def write_outputs(result: SeriesResult, out_dir: str | Path) -> dict[str, Path]:
         ),
         "lingane_figure": plot_lingane(result, out / OUTPUT_NAMES["lingane_figure"]),
     }
+    # The HTML page embeds every figure written above; keep it after them.
+    from .html import write_html_report
+
+    figures = [p for p in written.values() if p.suffix.lower() == ".png"]
+    written["html_report"] = write_html_report(
+        result, out / OUTPUT_NAMES["html_report"], figures=figures
+    )
     # results.json last: its presence means the run finished.
     written["results"] = write_results_json(result, out / OUTPUT_NAMES["results"])
     return written

@@ -20,6 +20,10 @@ def atomic_path(path: str | Path, suffix: str = "") -> Iterator[Path]:
                                dir=target.parent)
     os.close(fd)
     tmp_path = Path(tmp)
+    # mkstemp makes the file private (0600); give the result the mode a plain open() would.
+    mask = os.umask(0)
+    os.umask(mask)
+    os.chmod(tmp_path, 0o666 & ~mask)
     try:
         yield tmp_path
         os.replace(tmp_path, target)

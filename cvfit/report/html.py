@@ -1,0 +1,420 @@
+"""A self-contained HTML report of a series: one file to hand on, readable in any browser.
+
+The page is built from the same mapping that becomes results.json (``SeriesResult.to_dict``),
+so its numbers are the file's numbers; figures are embedded as base64 PNG data URIs and the
+style sheet is inline — the page loads nothing from anywhere. Every string that came from a
+user or a file (title, file names, labels, flag messages) is HTML-escaped.
+
+Each constant's cell carries the exact results.json value in ``data-value`` (and
+``data-stderr``, ``data-ci-low``, ``data-ci-high``) so that the page can be checked against
+the file by a program.
+"""
+
+from __future__ import annotations
+
+import base64
+import json
+import math
+from collections.abc import Mapping, Sequence
+from html import escape
+from pathlib import Path
+from typing import Any
+
+from ..results import SeriesResult
+from ._atomic import atomic_write_text
+from .formatting import format_pm, format_value
+from .methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
+
+__all__ = ["render_html", "write_html_report", "FIGURE_CAPTIONS"]
+
+#: Captions of the figures cvfit writes, by file name; other figures get their file stem.
+FIGURE_CAPTIONS = {
+    "voltammograms.png": "The analysed cycle of every voltammogram, coloured by total ligand "
+    "concentration (dashed: no ligand; faded: failed the reversibility screen).",
+    "half_wave_shift.png": "E½(c) − E½(s) against log10[L] with the fitted Lingane line, its "
+    "95 % band, and the residuals (open markers: flagged, not fitted).",
+    "diagnostics.png": "Reversibility diagnostics of every voltammogram.",
+}
+
+# key -> (label, scale, unit) for the constants of the fit
+_Q_LABELS = {
+    "slope_V_per_decade": ("slope of E½ against log10[L]", 1e3, "mV/decade"),
+    "intercept_V": ("intercept (E½ shift at [L] = 1 mol/L)", 1e3, "mV"),
+    "delta_ligands": ("p − q, ligands released on reduction", 1.0, ""),
+    "log10_beta_ratio": ("log10(βox/βred)", 1.0, ""),
+    "log10_beta_ratio_at_integer": ("log10(βox/βred), p − q fixed at {integer}", 1.0, ""),
+}
+
+_CSS = """
+:root{--ink:#1d232b;--soft:#5b6675;--line:#d5dae1;--band:#f3f5f8;--accent:#2b4c7e;
+--warn:#8a4b00;--warnbg:#fff4e5;--ok:#1f5f3a;--okbg:#eaf6ee}
+*{box-sizing:border-box}
+body{margin:0;font:15px/1.5 system-ui,-apple-system,"Segoe UI",Roboto,sans-serif;
+color:var(--ink);background:#fff}
+main{max-width:1040px;margin:0 auto;padding:28px 22px 60px}
+header{border-bottom:3px solid var(--accent);padding-bottom:10px;margin-bottom:18px}
+h1{font-size:1.55em;margin:0 0 4px;overflow-wrap:anywhere}
+h2{font-size:1.15em;color:var(--accent);margin:30px 0 8px;border-bottom:1px solid var(--line);
+padding-bottom:3px}
+h3{font-size:1em;margin:16px 0 4px}
+.sub{color:var(--soft);font-size:.9em;overflow-wrap:anywhere}
+.verdict{padding:10px 14px;border-radius:6px;margin:14px 0;font-weight:600}
+.verdict.ok{background:var(--okbg);color:var(--ok)}
+.verdict.warn{background:var(--warnbg);color:var(--warn)}
+table{border-collapse:collapse;width:100%;margin:6px 0 4px;font-size:.92em}
+th,td{padding:5px 8px;border-bottom:1px solid var(--line);text-align:left;vertical-align:top}
+thead th{background:var(--band);font-weight:600;white-space:nowrap}
+td.num{font-variant-numeric:tabular-nums;white-space:nowrap}
+dl.cond{display:grid;grid-template-columns:max-content 1fr;gap:3px 18px;margin:6px 0}
+dl.cond dt{color:var(--soft)}dl.cond dd{margin:0;overflow-wrap:anywhere}
+.constants td.num:first-of-type{font-weight:600}
+.flag{margin:2px 0}.code{font-family:ui-monospace,Menlo,Consolas,monospace;font-size:.88em;
+background:var(--band);padding:0 4px;border-radius:3px}
+.sev-warning .code,.sev-error .code{background:var(--warnbg);color:var(--warn)}
+.scroll{overflow-x:auto}
+table.files tr.has-flags td{border-bottom:none}
+table.files tr.flags td{padding:0 8px 7px 22px;font-size:.92em;color:var(--soft)}
+figure{margin:16px 0;padding:10px;border:1px solid var(--line);border-radius:6px}
+figure img{max-width:100%;height:auto;display:block;margin:0 auto}
+figcaption{color:var(--soft);font-size:.9em;margin-top:6px}
+.refs{color:var(--soft);font-size:.9em;margin:2px 0 0}
+footer{margin-top:36px;color:var(--soft);font-size:.85em;border-top:1px solid var(--line);
+padding-top:8px}
+@media print{main{max-width:none;padding:0}figure{break-inside:avoid}}
+"""
+
+
+def _e(value: object) -> str:
+    """HTML-escaped text of any value (quotes too, so it is safe in attributes)."""
+    return escape("" if value is None else str(value), quote=True)
+
+
+def _is_quantity(x: object) -> bool:
+    return isinstance(x, Mapping) and {"value", "stderr", "ci95"} <= set(x)
+
+
+def _json_attr(x: object) -> str:
+    return _e(json.dumps(x, allow_nan=False))
+
+
+def _digits(text: str) -> int:
+    head = text.split(" ± ")[0].split(" ")[0]
+    return len(head.split(".")[1]) if "." in head else 0
+
+
+def _quantity_row(
+    key: str, label: str, q: Mapping[str, Any], scale: float, unit: str, method: str | None
+) -> str:
+    value, stderr = q.get("value"), q.get("stderr")
+    ci = q.get("ci95") or [None, None]
+    shown = format_pm(value, stderr, scale=scale, unit=unit)
+    if shown != "n/d" and ci[0] is not None and ci[1] is not None:
+        d = _digits(shown)
+        interval = f"[{ci[0] * scale:.{d}f}, {ci[1] * scale:.{d}f}]" + (f" {unit}" if unit else "")
+    else:
+        interval = "n/d"
+    attrs = (
+        f'data-value="{_json_attr(value)}" data-stderr="{_json_attr(stderr)}" '
+        f'data-ci-low="{_json_attr(ci[0])}" data-ci-high="{_json_attr(ci[1])}"'
+    )
+    return (
+        f'<tr data-key="{_e(key)}"><th scope="row">{_e(label)}</th>'
+        f'<td class="num" {attrs}>{_e(shown)}</td><td class="num">{_e(interval)}</td>'
+        f"<td>{_e(method or '')}</td></tr>"
+    )
+
+
+def _constants(fit: Mapping[str, Any]) -> str:
+    methods = fit.get("interval_methods") or {}
+    rows = []
+    for key, q in fit.items():
+        if _is_quantity(q):
+            label, scale, unit = _Q_LABELS.get(key, (key, 1.0, ""))
+            label = label.format(integer=fit.get("delta_ligands_integer", "n/d"))
+            rows.append(_quantity_row(key, label, q, scale, unit, methods.get(key)))
+    for k, q in enumerate(fit.get("log10_beta") or []):
+        if _is_quantity(q):
+            j = q.get("j", k + 1)
+            rows.append(
+                _quantity_row(
+                    f"log10_beta[{k}]", f"log10 β{j} (overall)", q, 1.0, "", q.get("method")
+                )
+            )
+    if not rows:
+        return "<p>No constants were fitted; the series flags below say why.</p>"
+    n, dof = fit.get("n_points"), fit.get("dof")
+    weighted = fit.get("weighted")
+    how = "weighted by the per-file E½ errors" if weighted else "unweighted"
+    if weighted is None:
+        how = ""
+    head = (
+        f"<p>Model <b>{_e(fit.get('model', ''))}</b>, fitted to {_e(n)} points "
+        f"({_e(dof)} degrees of freedom{', ' + how if how else ''}). β in (mol/L)^−(p−q), "
+        "[L] in mol/L.</p>"
+    )
+    return (
+        head + '<div class="scroll"><table class="constants"><thead><tr><th>constant</th>'
+        "<th>value ± standard error</th><th>95 % interval</th><th>interval from</th></tr>"
+        "</thead><tbody>" + "".join(rows) + "</tbody></table></div>"
+    )
+
+
+def _flag_list(flags: Sequence[Mapping[str, Any]], *, prefix: str = "") -> str:
+    items = []
+    for f in flags:
+        sev = str(f.get("severity", "warning"))
+        items.append(
+            f'<div class="flag sev-{_e(sev)}">{_e(prefix)}<span class="code">'
+            f"{_e(f.get('code'))}</span> {_e(f.get('message'))}</div>"
+        )
+    return "".join(items)
+
+
+def _conditions(data: Mapping[str, Any]) -> str:
+    s = data.get("series", {})
+    ref = data.get("reference", {})
+    crit = data.get("reversibility_criteria", {})
+    rows: list[tuple[str, str]] = [
+        ("electrons, n", _e(s.get("electrons"))),
+        (
+            "temperature",
+            _e(format_value(s.get("temperature_K"), digits=2, unit="K"))
+            + (
+                f" ({_e(s.get('temperature_C'))} °C)" if s.get("temperature_C") is not None else ""
+            ),
+        ),
+    ]
+    if s.get("reference_electrode"):
+        rows.append(("potentials vs", _e(s["reference_electrode"])))
+    if s.get("metal_total_M") is not None:
+        rows.append(("total metal", _e(f"{s['metal_total_M']:.4g} mol/L")))
+    src = ref.get("source")
+    files = ", ".join(str(f) for f in ref.get("files") or [])
+    rows.append(
+        (
+            "E½(s), ligand-free",
+            _e(format_pm(ref.get("E_half_V"), ref.get("stderr_V"), scale=1e3, unit="mV"))
+            + _e(f" (from {src}{': ' + files if files else ''})"),
+        )
+    )
+    rows.append(("model", _e(s.get("model", data.get("fit", {}).get("model")))))
+    rows.append(
+        (
+            "flagged files",
+            "left out of the fit" if data.get("exclude_non_nernstian") else "kept in the fit",
+        )
+    )
+    if crit:
+        rows.append(("screen margins", _e(", ".join(f"{k} = {v}" for k, v in crit.items()))))
+    rows.append(("manifest", _e(data.get("manifest"))))
+    return '<dl class="cond">' + "".join(f"<dt>{k}</dt><dd>{v}</dd>" for k, v in rows) + "</dl>"
+
+
+_FILE_COLUMNS = (
+    "file",
+    "label",
+    "ligand_M",
+    "free_ligand_M",
+    "scan_rate_V_s",
+    "E_half_V",
+    "E_half_stderr_V",
+    "delta_Ep_V",
+    "expected_delta_Ep_V",
+    "current_ratio",
+    "reversible",
+    "used_in_fit",
+    "flags",
+)
+_NOT_SHOWN = {
+    "cycle",
+    "first_sweep",
+    "switching_potential_V",
+    "Epc_V",
+    "Epa_V",
+    "Ep_half_c_V",
+    "Ep_half_a_V",
+    "ipc_A",
+    "ipa_A",
+    "noise_A",
+}
+
+
+def _yes_no(x: object) -> str:
+    return {True: "yes", False: "no", None: "n/d"}.get(x, _e(x))  # type: ignore[arg-type]
+
+
+def _extra_cell(key: str, x: object) -> str:
+    if isinstance(x, float):
+        if not math.isfinite(x):
+            return "n/d"
+        return _e(f"{x * 1e3:.2f}") if key.endswith("_V") else _e(f"{x:.4g}")
+    if x is None:
+        return "n/d"
+    return _yes_no(x) if isinstance(x, bool) else _e(x)
+
+
+def _extra_head(key: str) -> str:
+    return _e(f"{key[:-2]} / mV") if key.endswith("_V") else _e(key)
+
+
+def _number(x: object) -> str:
+    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
+        return "n/d"
+    return "0" if x == 0 else _e(f"{x:.4g}")
+
+
+def _file_table(files: Sequence[Mapping[str, Any]]) -> str:
+    extra: list[str] = []
+    for f in files:
+        for k, v in f.items():
+            scalar = v is None or isinstance(v, (str, int, float, bool))
+            if k not in _FILE_COLUMNS and k not in _NOT_SHOWN and scalar and k not in extra:
+                extra.append(k)
+    heads = [
+        "file",
+        "[L] / mol L⁻¹",
+        "free [L] / mol L⁻¹",
+        "v / V s⁻¹",
+        "E½ / mV",
+        "ΔEp / mV",
+        "Nernstian ΔEp / mV",
+        "ipa/ipc",
+        "Nernstian",
+        "in fit",
+    ]
+    head = "".join(f"<th>{h}</th>" for h in heads)
+    head += "".join(f"<th>{_extra_head(k)}</th>" for k in extra)
+    width = len(heads) + len(extra)
+    rows = []
+    for f in files:
+        name = _e(f.get("file"))
+        if f.get("label"):
+            name += f'<br><span class="sub">{_e(f["label"])}</span>'
+        cells = [
+            name,
+            _number(f.get("ligand_M")),
+            _number(f.get("free_ligand_M")),
+            _number(f.get("scan_rate_V_s")),
+            _e(format_pm(f.get("E_half_V"), f.get("E_half_stderr_V"), scale=1e3)),
+            _e(format_value(f.get("delta_Ep_V"), scale=1e3)),
+            _e(format_value(f.get("expected_delta_Ep_V"), scale=1e3)),
+            _e(format_value(f.get("current_ratio"), digits=2)),
+            _yes_no(f.get("reversible")),
+            _yes_no(f.get("used_in_fit")),
+        ]
+        cells += [_extra_cell(k, f.get(k)) for k in extra]
+        tds = "".join(
+            f'<td class="num">{c}</td>' if i else f"<td>{c}</td>" for i, c in enumerate(cells)
+        )
+        flags = _flag_list(f.get("flags") or [])
+        cls = ' class="has-flags"' if flags else ""
+        rows.append(f"<tr{cls}>{tds}</tr>")
+        if flags:
+            rows.append(f'<tr class="flags"><td colspan="{width}">{flags}</td></tr>')
+    return (
+        '<div class="scroll"><table class="files"><thead><tr>'
+        + head
+        + "</tr></thead><tbody>"
+        + "".join(rows)
+        + "</tbody></table></div>"
+    )
+
+
+def _figures(figures: Sequence[Path]) -> str:
+    parts = []
+    for path in figures:
+        p = Path(path)
+        if p.suffix.lower() != ".png" or not p.is_file():
+            continue
+        b64 = base64.b64encode(p.read_bytes()).decode("ascii")
+        caption = FIGURE_CAPTIONS.get(p.name, p.stem.replace("_", " "))
+        parts.append(
+            f'<figure><img alt="{_e(caption)}" src="data:image/png;base64,{b64}">'
+            f'<figcaption>{_e(caption)} <span class="code">{_e(p.name)}</span>'
+            "</figcaption></figure>"
+        )
+    return "".join(parts) or "<p>No figures were written.</p>"
+
+
+def _method(fit: Mapping[str, Any]) -> str:
+    steps = list(METHOD_STEPS)
+    if fit.get("log10_beta") or fit.get("model") == "stepwise":
+        steps.append(STEPWISE_STEP)
+    out = []
+    for heading, text, refs in steps:
+        out.append(f"<h3>{_e(heading)}</h3><p>{_e(text)}</p>")
+        if refs:
+            out.append('<p class="refs">Source: ' + _e("; ".join(refs)) + ".</p>")
+    out.append(
+        "<h3>Assumptions cvfit cannot check for you</h3><ul>"
+        + "".join(f"<li>{_e(a)}</li>" for a in ASSUMPTIONS)
+        + "</ul>"
+    )
+    return "".join(out)
+
+
+def render_html(data: Mapping[str, Any], figures: Sequence[str | Path] = ()) -> str:
+    """The report page for a results mapping (the results.json content).
+
+    Parameters
+    ----------
+    data : mapping
+        ``SeriesResult.to_dict()`` — the same mapping written to results.json.
+    figures : sequence of path
+        PNG files to embed, in order (other suffixes and missing files are skipped).
+
+    Returns
+    -------
+    str
+        A complete HTML5 document with no external resources.
+    """
+    s = data.get("series", {})
+    title = s.get("title") or "untitled series"
+    fit = data.get("fit") or {}
+    nernstian = bool(data.get("nernstian"))
+    verdict = (
+        '<div class="verdict ok">Every voltammogram passed the reversibility screen.</div>'
+        if nernstian
+        else '<div class="verdict warn">Not every voltammogram passed the reversibility '
+        "screen — see the flags in the table.</div>"
+    )
+    series_flags = list(data.get("flags") or []) + list(fit.get("flags") or [])
+    flags_html = _flag_list(series_flags) or "<p>None.</p>"
+    body = (
+        f'<header><h1>{_e(title)}</h1><div class="sub">Voltammetric titration analysed by '
+        f"cvfit {_e(data.get('cvfit_version'))}</div></header>"
+        f"{verdict}"
+        f"<section><h2>Conditions</h2>{_conditions(data)}</section>"
+        f"<section><h2>Constants</h2>{_constants(fit)}</section>"
+        f"<section><h2>Series findings</h2>{flags_html}</section>"
+        f"<section><h2>Voltammograms</h2>{_file_table(data.get('voltammograms') or [])}"
+        "</section>"
+        f"<section><h2>Figures</h2>{_figures([Path(p) for p in figures])}</section>"
+        f"<section><h2>Method and sources</h2>{_method(fit)}</section>"
+        "<section><h2>Laboratory cautions</h2><ul>"
+        + "".join(f"<li>{_e(c)}</li>" for c in CAUTIONS)
+        + "</ul></section>"
+        "<footer>The numbers on this page are those of results.json in the same folder. "
+        "Uncertainties are standard errors; intervals are 95 %.</footer>"
+    )
+    return (
+        '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
+        '<meta name="viewport" content="width=device-width, initial-scale=1">'
+        '<meta http-equiv="Content-Security-Policy" content="default-src \'none\'; '
+        "img-src data:; style-src 'unsafe-inline'\">"
+        f"<title>{_e(title)} — cvfit report</title><style>{_CSS}</style></head>"
+        f"<body><main>{body}</main></body></html>\n"
+    )
+
+
+def write_html_report(
+    result: SeriesResult | Mapping[str, Any],
+    path: str | Path,
+    *,
+    figures: Sequence[str | Path] = (),
+) -> Path:
+    """Write the report page atomically; returns the path."""
+    path = Path(path)
+    data = result.to_dict() if isinstance(result, SeriesResult) else result
+    atomic_write_text(path, render_html(data, figures))
+    return path

@@ -1,0 +1,95 @@
+"""The method, its published sources, its assumptions and the laboratory cautions, as text.
+
+One place for the words the HTML report prints (plain text; the report escapes it). The
+README's *Methods and their sources* and *Laboratory cautions* sections say the same at more
+length; change both together.
+"""
+
+from __future__ import annotations
+
+__all__ = ["METHOD_STEPS", "STEPWISE_STEP", "ASSUMPTIONS", "CAUTIONS"]
+
+#: (heading, what cvfit does, published sources) for each step of the analysis.
+METHOD_STEPS: tuple[tuple[str, str, tuple[str, ...]], ...] = (
+    (
+        "Import",
+        "Units are read from the column labels and converted to V, A and s; currents are "
+        "brought to the IUPAC sign (anodic positive). The record is split into sweeps at its "
+        "switching potentials and into cycles; the last complete cycle is analysed unless the "
+        "manifest asks for another.",
+        (),
+    ),
+    (
+        "Peaks",
+        "Each peak is measured against a straight baseline fitted to the foot of its wave and "
+        "extrapolated; the reverse-to-forward current ratio follows Nicholson's method. Peak "
+        "potentials are located below the sampling step by a local polynomial; "
+        "E½ = (Epa + Epc)/2 with a standard error from the noise of that file.",
+        ("R. S. Nicholson, Anal. Chem. 38 (1966) 1406",),
+    ),
+    (
+        "Reversibility screen",
+        "ΔEp is compared with the Nernstian value for the actual switching potential, "
+        "|Ep − Ep/2| with 2.20 RT/nF and ipa/ipc with 1. The margins are settings of the "
+        "manifest (the defaults are common practice, not a standard) and scale with n and T. "
+        "By default a voltammogram that fails is reported but left out of the fit.",
+        ("R. S. Nicholson, I. Shain, Anal. Chem. 36 (1964) 706",),
+    ),
+    (
+        "Lingane fit",
+        "For O·Lp + ne⁻ ⇌ R·Lq + (p − q)L with fast, labile equilibria and ligand in excess, "
+        "E½(c) − E½(s) = −(RT/nF) ln(βox/βred) − (p − q)(RT/nF) ln[L]. The straight line "
+        "against log10[L] is fitted by (weighted) least squares: the slope gives p − q, the "
+        "intercept log10(βox/βred). Standard errors come from the covariance matrix, 95 % "
+        "intervals from Student's t with the fit's degrees of freedom, and the uncertainty of "
+        "E½(s) is carried into the intercept. The fit is repeated with p − q fixed at the "
+        "nearest whole number; a curvature test warns when stepwise complexes would describe "
+        "the data better.",
+        ("J. J. Lingane, Chem. Rev. 29 (1941) 1",),
+    ),
+    (
+        "Constants",
+        "F and R are taken from scipy.constants (CODATA 2018).",
+        (),
+    ),
+)
+
+#: Shown when the results carry stepwise overall constants (a ``log10_beta`` list).
+STEPWISE_STEP: tuple[str, str, tuple[str, ...]] = (
+    "Stepwise complexes",
+    "When the reduced form is not complexed, F0([L]) = exp{(nF/RT)[E½(s) − E½(c)]} = "
+    "Σ βj [L]^j (β0 = 1) is fitted directly by weighted least squares to give the overall "
+    "constants βj with their standard errors; Leden's graphical functions F1, F2, … serve "
+    "only as a check.",
+    (
+        "D. D. DeFord, D. N. Hume, J. Am. Chem. Soc. 73 (1951) 5321",
+        "I. Leden, Z. phys. Chem. A188 (1941) 160",
+    ),
+)
+
+#: What the method assumes and cvfit cannot check from the data.
+ASSUMPTIONS: tuple[str, ...] = (
+    "The ligand is in large excess over the metal, so free ≈ total ligand (keep at least "
+    "10-fold excess — common practice).",
+    "Ionic strength and temperature are constant along the series.",
+    "The same reference electrode is used throughout.",
+    "Complexes of both oxidation states diffuse alike (the diffusion term of Lingane's "
+    "equation is neglected).",
+    "The couple is Nernstian at every point used; the screen above checks this per file.",
+)
+
+#: Laboratory cautions printed with every report.
+CAUTIONS: tuple[str, ...] = (
+    "cvfit analyses data; it does not make an experiment safe.",
+    "Many metal salts used in such titrations (cadmium, lead, thallium, nickel, "
+    "chromium(VI) and others) are toxic or carcinogenic; many ligands are toxic, corrosive "
+    "or sensitising.",
+    "Cyanide ligands release hydrogen cyanide with acid: never acidify cyanide solutions, "
+    "work in a fume hood and have a cyanide antidote procedure in place.",
+    "Perchlorate electrolytes and metal perchlorates can explode when heated, dried or mixed "
+    "with organic material.",
+    "Mercury electrodes and amalgams need spill kits, ventilation and proper mercury waste "
+    "handling.",
+    "Wear the protective equipment your risk assessment prescribes; local regulations and "
+    "your institution's safety rules take precedence over anything written here.",
+)

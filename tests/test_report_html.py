@@ -1,0 +1,237 @@
+"""The HTML report: self-contained, escapes hostile text, shows the numbers of results.json.
+
+Checked twice: with Python's html.parser (always) and, where Debian's chromium is
+installed, in a real browser engine (headless, ``--dump-dom``).
+"""
+
+from __future__ import annotations
+
+import base64
+import json
+import subprocess
+import tempfile
+from html.parser import HTMLParser
+from pathlib import Path
+
+import pytest
+from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_csv
+
+from cvfit.cli import main
+from cvfit.report import OUTPUT_NAMES
+from cvfit.report.html import render_html
+
+HOSTILE_TITLE = "<script>alert(1)</script> & \"quoted\" 'series'"
+HOSTILE_FILE = "f<img src=x onerror=alert(2)>&'q\".csv"
+HOSTILE_LABEL = "</td></tr><b>bold</b>"
+CHROMIUM = Path("/usr/bin/chromium")
+
+
+class _Page(HTMLParser):
+    """Collects tags, attributes and text of a page."""
+
+    def __init__(self) -> None:
+        super().__init__(convert_charrefs=True)
+        self.tags: list[tuple[str, dict[str, str | None]]] = []
+        self.text: list[str] = []
+        self._stack: list[str] = []
+        self.h1 = ""
+        self.title = ""
+
+    def handle_starttag(self, tag, attrs):
+        self.tags.append((tag, dict(attrs)))
+        self._stack.append(tag)
+
+    def handle_endtag(self, tag):
+        if self._stack and self._stack[-1] == tag:
+            self._stack.pop()
+
+    def handle_data(self, data):
+        self.text.append(data)
+        if "h1" in self._stack:
+            self.h1 += data
+        if self._stack and self._stack[-1] == "title":
+            self.title += data
+
+
+def parse(text: str) -> _Page:
+    page = _Page()
+    page.feed(text)
+    page.close()
+    return page
+
+
+@pytest.fixture(scope="module")
+def run_folder(tmp_path_factory) -> Path:
+    folder = tmp_path_factory.mktemp("html")
+    entries = []
+    for k, ligand in enumerate(LIGAND_M[:5]):
+        name = HOSTILE_FILE if k == 2 else f"h{k}.csv"
+        write_plain_csv(folder / name, simulate_point(ligand, seed=300 + k, step_V=0.002))
+        entry = {"file": name, "ligand_M": ligand}
+        if k == 3:
+            entry["label"] = HOSTILE_LABEL
+        entries.append(entry)
+    manifest = write_manifest(
+        folder / "series.toml",
+        entries,
+        series={
+            "electrons": 1,
+            "title": HOSTILE_TITLE,
+            "reference_electrode": "Ag/AgCl <3 M KCl>",
+        },
+    )
+    out = folder / "out"
+    assert main(["run", str(manifest), "--out", str(out), "--quiet"]) == 0
+    return out
+
+
+def test_report_is_written_beside_results(run_folder):
+    assert OUTPUT_NAMES["html_report"] == "report.html"
+    assert (run_folder / "report.html").stat().st_size > 0
+
+
+def test_page_parses_and_loads_nothing_from_outside(run_folder):
+    text = (run_folder / "report.html").read_text(encoding="utf-8")
+    assert text.startswith("<!DOCTYPE html>")
+    page = parse(text)
+    names = [t for t, _ in page.tags]
+    assert "script" not in names and "link" not in names and "iframe" not in names
+    for tag, attrs in page.tags:
+        assert not any(k.startswith("on") for k in attrs), (tag, attrs)
+        for key in ("src", "href"):
+            if key in attrs:
+                assert attrs[key].startswith("data:image/png;base64,"), (tag, attrs)
+    assert "http://" not in text and "https://" not in text and "@import" not in text
+
+
+def test_hostile_text_is_escaped(run_folder):
+    text = (run_folder / "report.html").read_text(encoding="utf-8")
+    assert "<script>" not in text and "<img src=x" not in text and "<b>bold" not in text
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in text
+    page = parse(text)
+    # the parser gives the text back exactly as written: shown, not interpreted
+    assert page.h1 == HOSTILE_TITLE
+    assert page.title.startswith(HOSTILE_TITLE)
+    joined = "".join(page.text)
+    assert HOSTILE_FILE in joined and HOSTILE_LABEL in joined and "Ag/AgCl <3 M KCl>" in joined
+    imgs = [a for t, a in page.tags if t == "img"]
+    assert all(set(a) == {"alt", "src"} for a in imgs)
+
+
+def test_constants_are_those_of_results_json(run_folder):
+    data = json.loads((run_folder / "results.json").read_text(encoding="utf-8"))
+    page = parse((run_folder / "report.html").read_text(encoding="utf-8"))
+    cells = {}
+    rows = {}
+    current = None
+    for tag, attrs in page.tags:
+        if tag == "tr" and "data-key" in attrs:
+            current = attrs["data-key"]
+        if tag == "td" and "data-value" in attrs and current is not None:
+            cells[current] = attrs
+            rows[current] = True
+            current = None
+    fit = data["fit"]
+    quantities = [k for k, v in fit.items() if isinstance(v, dict) and "ci95" in v]
+    assert "log10_beta_ratio" in quantities and "delta_ligands" in quantities
+    assert sorted(cells) == sorted(quantities)
+    for key in quantities:
+        q, a = fit[key], cells[key]
+        assert json.loads(a["data-value"]) == q["value"]
+        assert json.loads(a["data-stderr"]) == q["stderr"]
+        assert [json.loads(a["data-ci-low"]), json.loads(a["data-ci-high"])] == q["ci95"]
+    shown = "".join(page.text)
+    q = fit["log10_beta_ratio"]
+    assert abs(q["value"] - 6.0) < 0.05  # seriesfactory truth: log10 ratio 6.0
+    assert f"{q['value']:.3f}" in shown
+
+
+def test_every_written_figure_is_embedded(run_folder):
+    page = parse((run_folder / "report.html").read_text(encoding="utf-8"))
+    embedded = [base64.b64decode(a["src"].split(",", 1)[1]) for t, a in page.tags if t == "img"]
+    pngs = sorted(run_folder.glob("*.png"))
+    assert len(pngs) >= 2 and len(embedded) == len(pngs)
+    assert sorted(embedded) == sorted(p.read_bytes() for p in pngs)
+
+
+def test_stepwise_constants_appear_when_present():
+    """A ``log10_beta`` list (stepwise model) gets its own rows, with escaped extras."""
+    data = {
+        "cvfit_version": "x",
+        "manifest": "m.toml",
+        "series": {"title": "t", "electrons": 2, "temperature_K": 298.15},
+        "nernstian": False,
+        "voltammograms": [{"file": "a&b.csv", "ligand_M": 0.0, "flags": [], "class": "<quasi>"}],
+        "fit": {
+            "model": "stepwise",
+            "n_points": 6,
+            "dof": 4,
+            "log10_beta": [
+                {"j": 1, "value": 3.25, "stderr": 0.04, "ci95": [3.1, 3.4]},
+                {"j": 2, "value": 5.5, "stderr": 0.1, "ci95": [5.2, 5.8]},
+            ],
+        },
+        "flags": [{"code": "SOME_FLAG", "message": "file <x>.csv", "severity": "warning"}],
+    }
+    text = render_html(data)
+    page = parse(text)
+    values = [json.loads(a["data-value"]) for t, a in page.tags if "data-value" in a]
+    assert values == [3.25, 5.5]
+    joined = "".join(page.text)
+    assert "log10 β2 (overall)" in joined and "DeFord" in joined
+    assert "<quasi>" in joined and "file <x>.csv" in joined and "a&b.csv" in joined
+    assert "<quasi>" not in text and "<x>" not in text
+
+
+def test_null_constants_are_shown_as_not_determined():
+    data = {
+        "series": {"title": "t", "electrons": 1, "temperature_K": 298.15},
+        "fit": {
+            "model": "lingane",
+            "log10_beta_ratio": {"value": None, "stderr": None, "ci95": [None, None]},
+        },
+        "voltammograms": [],
+        "flags": [],
+    }
+    page = parse(render_html(data))
+    cell = [a for t, a in page.tags if "data-value" in a]
+    assert cell and cell[0]["data-value"] == "null"
+    assert "n/d" in "".join(page.text)
+
+
+def test_in_a_browser_engine(run_folder):
+    if not CHROMIUM.exists():
+        pytest.skip("/usr/bin/chromium is not installed (apt-get install chromium)")
+    page = run_folder / "report.html"
+    with tempfile.TemporaryDirectory() as profile:
+        proc = subprocess.run(
+            [
+                str(CHROMIUM),
+                "--headless",
+                "--no-sandbox",
+                "--disable-gpu",
+                "--disable-quic",
+                "--no-first-run",
+                "--disable-background-networking",
+                "--disable-component-update",
+                "--disable-sync",
+                f"--user-data-dir={profile}",
+                "--dump-dom",
+                page.as_uri(),
+            ],
+            capture_output=True,
+            text=True,
+            timeout=60,
+        )
+    dom = proc.stdout
+    assert proc.returncode == 0 and "</html>" in dom, proc.stderr[-2000:]
+    parsed = parse(dom)
+    # the engine built the page as written: no script or hostile image element, text intact
+    assert "script" not in [t for t, _ in parsed.tags]
+    assert parsed.h1 == HOSTILE_TITLE
+    imgs = [a for t, a in parsed.tags if t == "img"]
+    assert len(imgs) == len(list(run_folder.glob("*.png")))
+    assert all(a["src"].startswith("data:image/png;base64,") for a in imgs)
+    data = json.loads((run_folder / "results.json").read_text(encoding="utf-8"))
+    shown = {json.loads(a["data-value"]) for t, a in parsed.tags if "data-value" in a}
+    assert data["fit"]["log10_beta_ratio"]["value"] in shown
