@@ -9,7 +9,8 @@ on n-scaled values and with every mV margin scaled by T/298.15 K:
 * the reverse/forward peak-current ratio (Nicholson 1966) against 1.
 
 The margins live in :class:`cvfit.criteria.ReversibilityCriteria` (defaults 10 mV, 10 mV
-and 0.15, common practice). Kinetic classification and k0 come later.
+and 0.15, common practice). :mod:`cvfit.classification` turns the screen into a class of
+electron transfer; ψ and k0 are in :mod:`cvfit.kinetics`.
 
 References
 ----------
@@ -328,3 +329,4 @@ def screen_reversibility(
 
     reversible: bool | None = False if failed else (None if missing else True)
     return ReversibilityScreen(reversible, expected_delta, width_expected, tuple(flags))
+
