@@ -1,0 +1,123 @@
+"""Solution chemistry: Leden functions, fractions, n̄, protonation, mass balance, Davies."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+from cvfit.activity import davies_log10_gamma, thermodynamic_log10_beta
+from cvfit.complexation import complexed_half_wave_V, leden_F0
+from cvfit.speciation import (
+    absolute_log10_beta,
+    conditional_log10_beta,
+    fraction_peak_ligand_M,
+    free_ligand_M,
+    leden_F_functions,
+    ligand_fraction_unprotonated,
+    mean_ligand_number,
+    species_fractions,
+)
+from cvfit.stepwise import complex_standard_potential_V
+from cvfit.units import thermal_voltage
+
+BETA = (2.0, 3.7, 4.9)
+L = np.logspace(-3, 0, 12)
+
+
+def test_leden_functions_follow_the_published_recursion():
+    # Leden, Z. Phys. Chem. A188 (1941) 160 (from memory): F1 = (F0 - 1)/[L] = β1 + β2[L] + β3[L]²,
+    # F2 = (F1 - β1)/[L] = β2 + β3[L], F3 = β3.
+    b = 10.0 ** np.array(BETA)
+    F0, F1, F2, F3 = leden_F_functions(L, leden_F0(L, BETA), BETA, order=3)
+    np.testing.assert_allclose(F1, b[0] + b[1] * L + b[2] * L**2, rtol=1e-10)
+    np.testing.assert_allclose(F2, b[1] + b[2] * L, rtol=1e-8)
+    np.testing.assert_allclose(F3, b[2], rtol=1e-6)
+
+
+def test_deford_hume_F0_from_shift_and_current_ratio():
+    # DeFord & Hume, J. Am. Chem. Soc. 73 (1951) 5321 (from memory):
+    # F0 = exp{(nF/RT)[E½(s) - E½(c)] + ln(Is/Ic)}, with I ∝ D^½ of the complexed form.
+    D_s, D_c = 1.0e-5, 0.6e-5
+    Ec = complexed_half_wave_V(
+        0.1, ligand_M=L, log10_beta_ox=BETA, D_ox_cm2_s=D_s, D_ox_complexed_cm2_s=D_c
+    )
+    F0 = leden_F0(L, BETA)
+    D_eff = (D_s + D_c * (F0 - 1)) / F0
+    ln_Is_Ic = 0.5 * np.log(D_s / D_eff)
+    F0_measured = np.exp((0.1 - Ec) / thermal_voltage(298.15, 1) + ln_Is_Ic)
+    np.testing.assert_allclose(F0_measured, F0, rtol=1e-9)
+
+
+def test_fractions_sum_to_one_and_mean_ligand_number_is_dlnF0_dlnL():
+    # Bjerrum (1941); DeFord & Hume (1951): n̄ = d ln F0 / d ln[L] (from memory).
+    a = species_fractions(L, BETA)
+    np.testing.assert_allclose(a.sum(axis=0), 1.0, rtol=1e-12)
+    h = 1e-5
+    num = (np.log(leden_F0(L * math.exp(h), BETA)) - np.log(leden_F0(L * math.exp(-h), BETA))) / (
+        2 * h
+    )
+    np.testing.assert_allclose(mean_ligand_number(L, BETA), num, rtol=1e-6)
+
+
+def test_fraction_of_an_intermediate_complex_peaks_where_nbar_equals_j():
+    Lp = fraction_peak_ligand_M(BETA, 2)
+    grid = np.geomspace(Lp / 3, Lp * 3, 2001)
+    a2 = species_fractions(grid, BETA)[2]
+    assert grid[np.argmax(a2)] == pytest.approx(Lp, rel=0.01)
+    assert float(mean_ligand_number(Lp, BETA)) == pytest.approx(2.0, abs=1e-8)
+
+
+def test_silver_ammine_standard_potential():
+    # CRC Handbook electrochemical series / Smith & Martell, Critical Stability Constants
+    # (from memory): E°(Ag+/Ag) = 0.7996 V, log β2(Ag(NH3)2+) = 7.21 → E° = 0.373 V.
+    E = complex_standard_potential_V(0.7996, log10_beta_ox=7.21, electrons=1)
+    assert E == pytest.approx(0.373, abs=0.002)
+    # The same through the Leden function at unit ligand concentration (β1 negligible here).
+    E_leden = complexed_half_wave_V(0.7996, ligand_M=1.0, log10_beta_ox=(-10.0, 7.21))
+    assert E_leden == pytest.approx(0.373, abs=0.002)
+
+
+def test_fraction_unprotonated_against_explicit_acid_constants():
+    # Ringbom, Complexation in Analytical Chemistry (1963): α_L = Ka1Ka2/([H]² + Ka1[H] + Ka1Ka2)
+    # for H2L with pKa1 < pKa2 (dissociation constants, from memory).
+    pKa = (9.2, 6.1)
+    for pH in (4.0, 6.1, 7.0, 9.2, 12.0):
+        H = 10.0**-pH
+        Ka1, Ka2 = 10.0**-6.1, 10.0**-9.2
+        expected = Ka1 * Ka2 / (H**2 + Ka1 * H + Ka1 * Ka2)
+        assert float(ligand_fraction_unprotonated(pH, pKa)) == pytest.approx(expected, rel=1e-10)
+    assert float(ligand_fraction_unprotonated(9.2, [9.2])) == pytest.approx(0.5)
+
+
+def test_conditional_and_absolute_constants_are_inverse():
+    cond = conditional_log10_beta(BETA, -1.5)
+    assert cond == pytest.approx([0.5, 0.7, 0.4])
+    assert absolute_log10_beta(cond, -1.5) == pytest.approx(list(BETA))
+
+
+def test_mass_balance_closes():
+    MT, LT, aL = 1e-3, 4e-3, 0.3
+    L_free = free_ligand_M(LT, MT, BETA, alpha_L=aL)
+    bound = MT * float(mean_ligand_number(L_free, BETA))
+    assert L_free / aL + bound == pytest.approx(LT, rel=1e-10)
+    assert free_ligand_M(0.0, MT, BETA) == 0.0
+
+
+def test_davies_check_values():
+    # Davies, Ion Association (1962) p. 41, A = 0.509 (REFERENCES.md, calculated):
+    # I = 0.1 M → γ(1) = 0.7816, γ(2) = 0.3732, γ(3) = 0.1089.
+    for z, g in ((1, 0.7816), (2, 0.3732), (3, 0.1089)):
+        assert 10.0 ** davies_log10_gamma(z, 0.1) == pytest.approx(g, abs=5e-5)
+    assert davies_log10_gamma(2, 0.0) == 0.0
+
+
+def test_thermodynamic_constant_of_a_neutral_ligand_complex():
+    # M²⁺ + 2 L (neutral) → ML2²⁺: charges unchanged, no Davies correction.
+    assert thermodynamic_log10_beta(
+        [3.0, 5.0], metal_charge=2, ligand_charge=0, ionic_strength_M=0.1
+    ) == pytest.approx([3.0, 5.0])
+    # M²⁺ + L⁻ → ML⁺: log β° = log β + log γ(1) - log γ(2) - log γ(1) = log β - log γ(2).
+    t = thermodynamic_log10_beta([3.0], metal_charge=2, ligand_charge=-1, ionic_strength_M=0.1)
+    assert t[0] == pytest.approx(3.0 - math.log10(0.3732), abs=1e-4)

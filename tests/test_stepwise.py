@@ -1,0 +1,208 @@
+"""Stepwise (DeFord–Hume) fit: round trips, model choice, coverage, undetermined constants.
+
+Simulated E½ values come from cvfit.complexation.complexed_half_wave_V, the labile-limit
+relation E½(c) = E½(s) − (RT/nF) ln(F0,ox/F0,red) (DeFord & Hume, J. Am. Chem. Soc. 73
+(1951) 5321; Lingane, Chem. Rev. 29 (1941) 1). Noise 0.2 mV per E½ is about the SD the
+peak analysis measures for reversible simulated files (cvfit.peaks docstring).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from cvfit._stepwise_core import StepwiseData
+from cvfit._stepwise_select import choose_candidate, fit_all_candidates
+from cvfit.complexation import complexed_half_wave_V
+from cvfit.speciation import free_ligand_M, ligand_fraction_unprotonated
+from cvfit.stepwise import (
+    SolutionConditions,
+    StepwisePoint,
+    complex_standard_potential_V,
+    fit_stepwise,
+)
+from cvfit.units import thermal_voltage
+
+SIGMA_V = 0.2e-3
+THREE = (2.0, 3.7, 4.9)
+L3 = np.logspace(-3.5, 0.0, 14)
+FOUR = (2.5, 4.6, 6.2, 7.1)
+L4 = np.logspace(-4.0, 0.0, 16)
+
+
+def _points(L, E, sigma=SIGMA_V, pH=None):
+    return [
+        StepwisePoint(f"p{i:02d}", float(l), float(e), sigma, pH=pH)
+        for i, (l, e) in enumerate(zip(L, E, strict=True))
+    ]
+
+
+def _series(truth, L, rng, *, red=(), E0=0.0):
+    E = complexed_half_wave_V(E0, ligand_M=L, log10_beta_ox=truth, log10_beta_red=red)
+    return E + rng.normal(0.0, SIGMA_V, L.size), E0 + rng.normal(0.0, SIGMA_V)
+
+
+def _fit(points, ref, **kw):
+    return fit_stepwise(
+        points,
+        electrons=1,
+        temperature_K=298.15,
+        reference_E_half_V=ref,
+        reference_stderr_V=SIGMA_V,
+        **kw,
+    )
+
+
+@pytest.mark.parametrize(("truth", "L"), [(THREE, L3), (FOUR, L4)])
+def test_round_trip_recovers_every_constant(truth, L):
+    rng = np.random.default_rng(11)
+    E, ref = _series(truth, L, rng)
+    fit = _fit(_points(L, E), ref, max_complexes=len(truth) + 1)
+    assert fit.n_complexes == len(truth)
+    got = np.array(fit.log10_beta_values)
+    weakest = int(np.argmin([fit.max_fraction[j] for j in range(len(truth))]))
+    tol = np.full(len(truth), 0.05)
+    tol[weakest] = 0.15
+    assert np.all(np.abs(got - truth) < tol), (got, truth)
+    assert all(fit.determined)
+    cov = np.array(fit.covariance)
+    assert cov.shape == (len(truth), len(truth))
+    # Adjacent overall constants are strongly correlated (negatively) in this fit.
+    corr = cov[0, 1] / np.sqrt(cov[0, 0] * cov[1, 1])
+    assert corr < -0.3
+    for q in fit.log10_beta:
+        assert q.ci95[0] < q.value < q.ci95[1]
+
+
+def test_number_of_complexes_chosen_right_in_200_noisy_series():
+    rng = np.random.default_rng(2024)
+    k = thermal_voltage(298.15, 1)
+    E_true = complexed_half_wave_V(0.0, ligand_M=L3, log10_beta_ox=THREE)
+    right = 0
+    for _ in range(200):
+        y = E_true + rng.normal(0.0, SIGMA_V, L3.size)
+        data = StepwiseData(
+            L3,
+            y,
+            np.full(L3.size, SIGMA_V),
+            rng.normal(0.0, SIGMA_V),
+            SIGMA_V,
+            k,
+            1.0,
+            np.zeros(L3.size),
+        )
+        right += choose_candidate(fit_all_candidates(data, 4)).N == 3
+    assert right >= 190  # issue 5: right in >= 95 % of 200 series
+
+
+def test_profile_intervals_cover_the_truth_at_about_the_nominal_rate():
+    rng = np.random.default_rng(7)
+    hits = total = 0
+    for _ in range(60):
+        E, ref = _series(THREE, L3, rng)
+        fit = _fit(_points(L3, E), ref, max_complexes=3)
+        for q, t in zip(fit.log10_beta, THREE, strict=True):
+            hits += q.ci95[0] <= t <= q.ci95[1]
+            total += 1
+    # 95 % nominal; 180 intervals → binomial SD ~1.6 %.
+    assert 0.89 <= hits / total <= 0.995
+
+
+def test_range_that_cannot_determine_beta3_says_so():
+    rng = np.random.default_rng(5)
+    L = np.logspace(-3.5, -2.2, 10)  # ML3 below 1 % of the metal throughout
+    E, ref = _series(THREE, L, rng)
+    fit = _fit(_points(L, E), ref, max_complexes=4)
+    beta3 = [q for j, q in enumerate(fit.log10_beta, start=1) if j == 3]
+    if beta3:  # if kept at all, it must not look determined
+        assert not fit.determined[2]
+    else:
+        und = {u.j: u for u in fit.undetermined}
+        assert 3 in und
+        u = und[3]
+        assert u.upper_limit_95 is None or u.upper_limit_95 > THREE[2]
+        assert u.suggested_ligand_M is None or u.suggested_ligand_M > L.max()
+    assert any(f.code == "BETA_UNDETERMINED" for f in fit.flags)
+
+
+def test_two_pH_values_give_the_same_absolute_constants():
+    pKa = (9.2, 6.1)
+    rng = np.random.default_rng(3)
+    LT = np.logspace(-3.0, 0.5, 14)
+    fits = []
+    for pH in (7.0, 8.0):
+        aL = float(ligand_fraction_unprotonated(pH, pKa))
+        truth = (4.0, 7.4, 9.9)  # absolute; at these pH the conditional ones fall in range
+        E = complexed_half_wave_V(0.0, ligand_M=aL * LT, log10_beta_ox=truth)
+        E = E + rng.normal(0.0, SIGMA_V, LT.size)
+        cond = SolutionConditions(ligand_pKa=pKa, pH=pH)
+        fits.append(_fit(_points(LT, E), 0.0, max_complexes=3, conditions=cond))
+    a, b = fits
+    assert a.n_complexes == b.n_complexes == 3
+    for qa, qb, t in zip(a.log10_beta, b.log10_beta, truth, strict=True):
+        assert abs(qa.value - t) < 0.05 and abs(qb.value - t) < 0.05
+    # Conditional constants differ by j·Δlog10 α_L between the two pH values.
+    d = b.conditional[0].log10_alpha_L - a.conditional[0].log10_alpha_L
+    assert d > 0.5
+    cond_a = a.conditional[0].log10_beta[2].value
+    assert cond_a == pytest.approx(a.log10_beta[2].value + 3 * a.conditional[0].log10_alpha_L)
+
+
+def test_fixed_reduced_constants_give_the_oxidised_ones():
+    rng = np.random.default_rng(9)
+    red = (4.2,)
+    E, ref = _series(THREE, L3, rng, red=red)
+    fit = _fit(_points(L3, E), ref, max_complexes=4, fixed_log10_beta_red=red)
+    assert fit.fitted_state == "ox" and fit.n_complexes == 3
+    assert np.all(np.abs(np.array(fit.log10_beta_values) - THREE) < 0.1)
+    # And the other way round: oxidised constants known, the reduced one fitted.
+    fit_red = _fit(_points(L3, E), ref, max_complexes=2, fixed_log10_beta_ox=THREE)
+    assert fit_red.fitted_state == "red" and fit_red.n_complexes == 1
+    assert fit_red.log10_beta[0].value == pytest.approx(4.2, abs=0.05)
+
+
+def test_free_ligand_self_consistent_with_low_excess():
+    rng = np.random.default_rng(4)
+    MT = 1e-3
+    LT = np.logspace(-2.4, 0.0, 14)  # from 4-fold excess upwards
+    L_true = np.array([free_ligand_M(x, MT, THREE) for x in LT])
+    E = complexed_half_wave_V(0.0, ligand_M=L_true, log10_beta_ox=THREE)
+    E = E + rng.normal(0.0, SIGMA_V, LT.size)
+    fit = _fit(
+        _points(LT, E), 0.0, max_complexes=4, conditions=SolutionConditions(metal_total_M=MT)
+    )
+    assert fit.n_complexes == 3
+    assert np.all(np.abs(np.array(fit.log10_beta_values) - THREE) < 0.1)
+    np.testing.assert_allclose(fit.free_ligand_M, L_true, rtol=0.02)
+    assert fit.free_ligand_iterations > 1
+    assert any(f.code == "LOW_LIGAND_EXCESS" for f in fit.flags)
+    # Taking total for free ligand biases β1 (the check that the correction matters).
+    naive = _fit(_points(LT, E), 0.0, max_complexes=4)
+    assert abs(naive.log10_beta_values[0] - THREE[0]) > abs(fit.log10_beta_values[0] - THREE[0])
+
+
+def test_silver_ammine_from_a_fitted_series():
+    # Smith & Martell, Critical Stability Constants (from memory): Ag+–NH3 log β1 ≈ 3.31,
+    # log β2 ≈ 7.21; CRC Handbook (from memory): E°(Ag+/Ag) = 0.7996 V,
+    # E°(Ag(NH3)2+/Ag) = 0.373 V. Silver deposition: reduced form not complexed.
+    rng = np.random.default_rng(1)
+    L = np.logspace(-4.5, -1.0, 12)
+    E, ref = _series((3.31, 7.21), L, rng, E0=0.7996)
+    fit = _fit(_points(L, E), ref, max_complexes=3)
+    assert fit.n_complexes == 2
+    E_complex = complex_standard_potential_V(
+        fit.E_half_free.value, log10_beta_ox=fit.log10_beta[1].value, electrons=1
+    )
+    assert E_complex == pytest.approx(0.373, abs=0.002)
+
+
+def test_davies_thermodynamic_constants_reported_when_charges_given():
+    rng = np.random.default_rng(8)
+    E, ref = _series(THREE, L3, rng)
+    cond = SolutionConditions(ionic_strength_M=0.1, metal_charge=2, ligand_charge=-1)
+    fit = _fit(_points(L3, E), ref, max_complexes=3, conditions=cond)
+    t = fit.thermodynamic_log10_beta
+    assert t is not None and len(t) == 3
+    assert t[0].value != pytest.approx(fit.log10_beta[0].value)
+    d = fit.to_dict()
+    assert d["ionic_strength_M"] == 0.1 and len(d["thermodynamic_log10_beta"]) == 3
