@@ -1,4 +1,4 @@
-"""``cvfit run MANIFEST [--out DIR]``: analyse one titration series."""
+"""``cvfit run MANIFEST... [--out DIR] [--jobs N]``: analyse one titration series or a batch."""
 
 from __future__ import annotations
 
@@ -18,11 +18,23 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="analyse a titration series described by a TOML manifest",
         description="Analyse a titration series: peaks, reversibility screen, Lingane fit.",
     )
-    p.add_argument("manifest", help="the series manifest (TOML)")
+    p.add_argument(
+        "manifest",
+        nargs="+",
+        help="the series manifest (TOML); several manifests, or folders of them, run as a "
+        "batch",
+    )
     p.add_argument(
         "--out",
         metavar="DIR",
-        help="output folder (default: MANIFEST-STEM_cvfit beside the manifest)",
+        help="output folder (default: MANIFEST-STEM_cvfit beside the manifest); with "
+        "several manifests each series goes to DIR/MANIFEST-STEM",
+    )
+    p.add_argument(
+        "--jobs",
+        metavar="N",
+        type=int,
+        help="worker processes for a batch (default: one per CPU core, at most one per series)",
     )
     p.add_argument("--quiet", action="store_true", help="print only where results went")
     p.set_defaults(handler=handle)
@@ -63,5 +75,12 @@ def run_manifest(manifest_path: Path, out: Path | None, *, quiet: bool = False) 
 
 
 def handle(args: argparse.Namespace) -> int:
-    return run_manifest(Path(args.manifest), Path(args.out) if args.out else None,
-                        quiet=args.quiet)
+    out = Path(args.out) if args.out else None
+    if len(args.manifest) == 1 and not Path(args.manifest[0]).is_dir():
+        return run_manifest(Path(args.manifest[0]), out, quiet=args.quiet)
+    from .batch import expand_manifests, handle_batch
+
+    manifests = expand_manifests(args.manifest)
+    if len(manifests) == 1:
+        return run_manifest(manifests[0], out, quiet=args.quiet)
+    return handle_batch(manifests, out, jobs=args.jobs)

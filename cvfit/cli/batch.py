@@ -1,0 +1,273 @@
+"""Several series at once: ``cvfit run A.toml B.toml FOLDER/ [--jobs N] [--out DIR]``.
+
+Each series runs in a worker process of a pool, into its own output folder; a series that
+fails is reported with its one-line error and does not stop the others.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from collections.abc import Sequence
+from concurrent.futures import ProcessPoolExecutor, as_completed
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..errors import InputError
+
+__all__ = [
+    "SeriesOutcome",
+    "expand_manifests",
+    "batch_out_dirs",
+    "run_series",
+    "run_batch",
+    "format_batch_summary",
+]
+
+STATUS_OK = "ok"
+STATUS_INPUT = "bad input"
+STATUS_INTERNAL = "internal error"
+
+
+@dataclass(frozen=True)
+class SeriesOutcome:
+    """What became of one series of a batch (plain data, sent back from a worker).
+
+    ``log10_ratio`` and ``delta_ligands`` (p − q) with their standard errors are ``None``
+    when the series failed or gave no constants; ``error`` is the one-line message of a
+    failed series.
+    """
+
+    manifest: str
+    out_dir: str
+    status: str
+    title: str | None = None
+    log10_ratio: float | None = None
+    log10_ratio_stderr: float | None = None
+    delta_ligands: float | None = None
+    delta_ligands_stderr: float | None = None
+    n_points: int | None = None
+    error: str | None = None
+
+    def __post_init__(self) -> None:
+        if self.status not in (STATUS_OK, STATUS_INPUT, STATUS_INTERNAL):
+            raise ValueError(f"unknown series status {self.status!r}")
+
+
+def expand_manifests(arguments: Sequence[str | Path]) -> list[Path]:
+    """Manifest paths from the command line: files as given, folders → their ``*.toml``.
+
+    A path given twice (or found twice) is kept once. A folder without a ``.toml`` file is
+    an :class:`InputError`; a missing file is left for its series to report.
+    """
+    found: list[Path] = []
+    seen: set[Path] = set()
+    for arg in arguments:
+        p = Path(arg)
+        if p.is_dir():
+            inside = sorted(q for q in p.glob("*.toml") if q.is_file())
+            if not inside:
+                raise InputError(
+                    "this folder holds no .toml manifest; name the manifests or "
+                    "a folder that has them",
+                    source=str(p),
+                )
+        else:
+            inside = [p]
+        for q in inside:
+            key = q.resolve()
+            if key not in seen:
+                seen.add(key)
+                found.append(q)
+    return found
+
+
+def batch_out_dirs(manifests: Sequence[Path], out: Path | None) -> list[Path]:
+    """One output folder per manifest: beside it by default, else ``out/<stem>``.
+
+    Stems that collide under *out* get ``-2``, ``-3`` … in command-line order.
+    """
+    from .run import default_out_dir
+
+    if out is None:
+        return [default_out_dir(m) for m in manifests]
+    dirs: list[Path] = []
+    used: set[str] = set()
+    for m in manifests:
+        name, k = m.stem, 1
+        while name.casefold() in used:
+            k += 1
+            name = f"{m.stem}-{k}"
+        used.add(name.casefold())
+        dirs.append(out / name)
+    return dirs
+
+
+def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
+    """Analyse one series into *out_dir*; never raises (failures become the outcome)."""
+    from ..io import load_manifest
+    from ..pipeline import analyse_series
+    from ..report import write_outputs
+    from .run import check_outputs_spare_inputs
+
+    manifest_path, out_dir = Path(manifest_path), Path(out_dir)
+    title = None
+    try:
+        manifest = load_manifest(manifest_path)
+        title = manifest.series.title
+        if out_dir.exists() and not out_dir.is_dir():
+            raise InputError(
+                f"output folder {out_dir} exists and is not a folder", source="<command line>"
+            )
+        check_outputs_spare_inputs(
+            out_dir, [manifest.path, *(e.file for e in manifest.voltammograms)], manifest.path
+        )
+        result = analyse_series(manifest)
+        write_outputs(result, out_dir)
+    except InputError as exc:
+        return SeriesOutcome(
+            str(manifest_path), str(out_dir), STATUS_INPUT, title, error=exc.one_line()
+        )
+    except Exception as exc:  # noqa: BLE001 - one broken series must not stop the batch
+        first = str(exc).splitlines()[0] if str(exc) else ""
+        return SeriesOutcome(
+            str(manifest_path),
+            str(out_dir),
+            STATUS_INTERNAL,
+            title,
+            error=f"{manifest_path}: {type(exc).__name__}: {first}",
+        )
+    fit = result.fit
+    if fit is None:
+        return SeriesOutcome(
+            str(manifest_path), str(out_dir), STATUS_OK, title, n_points=result.fit_n_points
+        )
+    return SeriesOutcome(
+        str(manifest_path),
+        str(out_dir),
+        STATUS_OK,
+        title,
+        log10_ratio=fit.log10_beta_ratio.value,
+        log10_ratio_stderr=fit.log10_beta_ratio.stderr,
+        delta_ligands=fit.delta_ligands.value,
+        delta_ligands_stderr=fit.delta_ligands.stderr,
+        n_points=fit.n_points,
+    )
+
+
+def default_jobs(n_series: int) -> int:
+    return max(1, min(os.cpu_count() or 1, n_series))
+
+
+def run_batch(
+    manifests: Sequence[Path],
+    out_dirs: Sequence[Path],
+    *,
+    jobs: int | None = None,
+    progress: bool = True,
+) -> list[SeriesOutcome]:
+    """Run every series; outcomes in the order of *manifests*.
+
+    With ``jobs == 1`` the series run one after the other in this process; otherwise in a
+    pool of ``jobs`` worker processes. The progress bar (tqdm, on stderr) shows only when
+    stderr is a terminal.
+    """
+    from tqdm import tqdm
+
+    n = len(manifests)
+    jobs = default_jobs(n) if jobs is None else max(1, min(jobs, n))
+    outcomes: list[SeriesOutcome | None] = [None] * n
+    bar_kw = {
+        "total": n,
+        "unit": "series",
+        "file": sys.stderr,
+        "leave": False,
+        "disable": None if progress else True,
+        "desc": "cvfit",
+    }
+    if jobs == 1:
+        with tqdm(**bar_kw) as bar:
+            for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True)):
+                outcomes[k] = run_series(m, o)
+                bar.update()
+    else:
+        with ProcessPoolExecutor(max_workers=jobs) as pool:
+            futures = {
+                pool.submit(run_series, m, o): k
+                for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True))
+            }
+            with tqdm(**bar_kw) as bar:
+                for fut in as_completed(futures):
+                    outcomes[futures[fut]] = fut.result()
+                    bar.update()
+    return [o for o in outcomes if o is not None]
+
+
+def _pm(value: float | None, stderr: float | None) -> str:
+    from ..report.formatting import format_pm
+
+    return format_pm(value, stderr) if value is not None else "n/d"
+
+
+def _clip(text: str, width: int) -> str:
+    return text if len(text) <= width else text[: width - 1] + "…"
+
+
+def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
+    """A table of every series, then the errors of the failed ones, then the tally."""
+    head = ("series", "status", "log10(β_ox/β_red)", "p − q", "n", "output folder")
+    rows = []
+    for o in outcomes:
+        rows.append(
+            (
+                _clip(o.title or Path(o.manifest).stem, 36),
+                o.status,
+                _pm(o.log10_ratio, o.log10_ratio_stderr),
+                _pm(o.delta_ligands, o.delta_ligands_stderr),
+                "" if o.n_points is None else str(o.n_points),
+                o.out_dir if o.status == STATUS_OK else "-",
+            )
+        )
+    widths = [max(len(h), *(len(r[k]) for r in rows)) for k, h in enumerate(head)]
+    fmt = "  ".join(f"{{:<{w}}}" for w in widths[:-1]) + "  {}"
+    lines = [fmt.format(*head), "  ".join("-" * w for w in widths)]
+    lines += [fmt.format(*r) for r in rows]
+    failed = [o for o in outcomes if o.status != STATUS_OK]
+    if failed:
+        lines.append("")
+        lines.append("Failed series:")
+        for o in failed:
+            error = o.error or ""
+            lines.append(f"  {error}" if o.manifest in error else f"  {o.manifest} → {error}")
+    n_ok = len(outcomes) - len(failed)
+    n_input = sum(o.status == STATUS_INPUT for o in failed)
+    n_internal = len(failed) - n_input
+    tally = f"{n_ok} of {len(outcomes)} series analysed"
+    if n_input:
+        tally += f"; {n_input} failed on bad input"
+    if n_internal:
+        tally += f"; {n_internal} failed on an internal error"
+    status = batch_exit_status(outcomes)
+    lines.append("")
+    lines.append(f"{tally} (exit status {status}).")
+    return "\n".join(lines)
+
+
+def batch_exit_status(outcomes: Sequence[SeriesOutcome]) -> int:
+    """0 all succeeded; 2 any failed on bad input; else 1 when any failed internally."""
+    if any(o.status == STATUS_INPUT for o in outcomes):
+        return 2
+    if any(o.status == STATUS_INTERNAL for o in outcomes):
+        return 1
+    return 0
+
+
+def handle_batch(manifests: Sequence[Path], out: Path | None, *, jobs: int | None) -> int:
+    if out is not None and out.exists() and not out.is_dir():
+        raise InputError(f"--out {out} exists and is not a folder", source="<command line>")
+    if jobs is not None and jobs < 1:
+        raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
+    dirs = batch_out_dirs(manifests, out)
+    outcomes = run_batch(manifests, dirs, jobs=jobs)
+    sys.stdout.write(format_batch_summary(outcomes) + "\n")
+    return batch_exit_status(outcomes)
