@@ -18,6 +18,7 @@ __all__ = [
     "fit_foot",
     "foot_window",
     "switch_step",
+    "decay_tail",
     "Vertex",
     "peak_vertex",
     "rising_crossing",
@@ -49,25 +50,38 @@ def noise_sd(*currents: np.ndarray) -> float:
 
 
 class LineFit(NamedTuple):
-    """Least-squares line ``i = a + b·(E − E0)`` with its parameter covariance."""
+    """Least-squares baseline ``i = a + b·(E − E0) [+ c·tail]`` with its covariance.
+
+    ``coef`` is ``(a, b)`` for a line, or ``(a, b, c)`` when the baseline also carries a
+    decaying tail term whose values (one per point, e.g. ``(τ − τ0)^−1/2``) are passed as
+    ``tail`` wherever the baseline is evaluated.
+    """
 
     E0_V: float
-    coef: np.ndarray  # (a, b)
-    cov: np.ndarray  # 2×2, from the supplied noise SD
+    coef: np.ndarray  # (a, b) or (a, b, c)
+    cov: np.ndarray  # 2×2 or 3×3, from the supplied noise SD
 
-    def __call__(self, E: np.ndarray) -> np.ndarray:
-        return self.coef[0] + self.coef[1] * (np.asarray(E, dtype=float) - self.E0_V)
+    def __call__(self, E: np.ndarray, tail: np.ndarray | None = None) -> np.ndarray:
+        return self.design(E, tail) @ self.coef
 
-    def design(self, E: np.ndarray) -> np.ndarray:
-        """Rows ``(1, E − E0)``: the derivative of the line with respect to (a, b)."""
-        x = np.asarray(E, dtype=float) - self.E0_V
-        return np.column_stack([np.ones_like(x), x])
+    def design(self, E: np.ndarray, tail: np.ndarray | None = None) -> np.ndarray:
+        """Rows ``(1, E − E0[, tail])``: the derivative of the baseline by its coefficients."""
+        x = np.atleast_1d(np.asarray(E, dtype=float)) - self.E0_V
+        cols = [np.ones_like(x), x]
+        if self.coef.size == 3:
+            if tail is None:
+                raise ValueError("this baseline has a tail term; pass its values")
+            cols.append(np.broadcast_to(np.asarray(tail, dtype=float), x.shape))
+        return np.column_stack(cols)
 
 
-def fit_line(E: np.ndarray, i: np.ndarray, sigma: float) -> LineFit:
-    """Ordinary least-squares line through (E, i); covariance σ²(XᵀX)⁻¹."""
+def fit_line(
+    E: np.ndarray, i: np.ndarray, sigma: float, tail: np.ndarray | None = None
+) -> LineFit:
+    """Ordinary least-squares line (plus optional tail term) through (E, i); cov σ²(XᵀX)⁻¹."""
     E0 = float(np.mean(E))
-    X = np.column_stack([np.ones(E.size), E - E0])
+    cols = [np.ones(E.size), E - E0] + ([] if tail is None else [tail])
+    X = np.column_stack(cols)
     coef, *_ = np.linalg.lstsq(X, i, rcond=None)
     cov = sigma**2 * np.linalg.pinv(X.T @ X)
     return LineFit(E0, coef, cov)
@@ -80,25 +94,52 @@ def _moving_mean(y: np.ndarray, width: int) -> np.ndarray:
     return np.convolve(y, kernel, mode="same")
 
 
-def fit_foot(E: np.ndarray, i: np.ndarray, sign: int, kappa_per_V: float, sigma: float) -> LineFit:
-    """Line plus the exponential foot of a Nernstian wave.
+def fit_foot(
+    E: np.ndarray,
+    i: np.ndarray,
+    sign: int,
+    kappa_per_V: float,
+    sigma: float,
+    tail: np.ndarray | None = None,
+    extra: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
+) -> LineFit:
+    """Line plus the exponential foot of a Nernstian wave (plus an optional tail term).
 
-    The model is ``a + b·(E − E0) + c·exp(sign·κ·(E − E_end))``.
+    The model is ``a + b·(E − E0) + c·exp(sign·κ·(E − E_end)) [+ d·tail]``.
 
     The exponential (κ = nF/RT) is the leading term of the reversible current far ahead
     of E½ (the semi-derivative of 1/(1 + θ) ≈ 1/θ), so the foot window can extend to a few
-    per cent of the peak height without bending the line; only the line is returned, as
-    the baseline to extrapolate. When the fitted foot amplitude has the wrong sign (no
-    rising wave in the window) the plain line is returned.
+    per cent of the peak height without bending the line; only the line (and the tail
+    term, which continues under the wave) is returned, as the baseline to extrapolate.
+    When the fitted foot amplitude has the wrong sign (no rising wave in the window) the
+    model without the exponential is returned.
+
+    ``extra = (E_x, i_x, tail_x)`` adds points of another sweep that share the slope ``b``
+    and the tail amplitude ``d`` but have their own offset (the charging current changes
+    sign between sweeps) and no foot term; they lengthen the lever arm of ``d``.
     """
     E0 = float(np.mean(E))
     u = np.clip(sign * kappa_per_V * (E - E[-1]), -700.0, 0.0)
-    X = np.column_stack([np.ones(E.size), E - E0, np.exp(u)])
-    coef, *_ = np.linalg.lstsq(X, i, rcond=None)
+    cols = [np.ones(E.size), E - E0, np.exp(u)] + ([] if tail is None else [tail])
+    X = np.column_stack(cols)
+    y = i
+    if tail is not None and extra is not None:
+        E_x, i_x, t_x = extra
+        z = np.zeros(E_x.size)
+        X = np.column_stack([np.vstack([X, np.column_stack([z, E_x - E0, z, t_x])]),
+                             np.concatenate([np.zeros(E.size), np.ones(E_x.size)])])  # fmt: skip
+        y = np.concatenate([i, i_x])
+    coef, *_ = np.linalg.lstsq(X, y, rcond=None)
+    keep = [0, 1] if tail is None else [0, 1, 3]
     if sign * coef[2] <= 0:
-        return fit_line(E, i, sigma)
-    cov = sigma**2 * np.linalg.pinv(X.T @ X)
-    return LineFit(E0, coef[:2], cov[:2, :2])
+        drop = [k for k in range(X.shape[1]) if k != 2]
+        X = X[:, drop]
+        coef, *_ = np.linalg.lstsq(X, y, rcond=None)
+        coef = np.insert(coef, 2, 0.0)
+        cov = np.insert(np.insert(sigma**2 * np.linalg.pinv(X.T @ X), 2, 0.0, 0), 2, 0.0, 1)
+    else:
+        cov = sigma**2 * np.linalg.pinv(X.T @ X)
+    return LineFit(E0, coef[keep], cov[np.ix_(keep, keep)])
 
 
 def foot_window(
@@ -113,6 +154,8 @@ def foot_window(
     foot_fraction: float,
     iterations: int = 5,
     span_thermal: tuple[float, float] = (2.5, 3.0),
+    tail: np.ndarray | None = None,
+    extra: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
 ) -> tuple[int, int, LineFit]:
     """Foot of the wave ``[lo, hi)`` and the baseline line fitted to it.
 
@@ -127,15 +170,24 @@ def foot_window(
     voltages RT/nF (1/κ) before the half-peak potential of the wave — where a Nernstian
     wave carries about 6 % and 3.5 % of its peak current — so that a noisy first line
     can neither collapse the window to a few points nor let it run into the wave.
+
+    ``tail`` (one value per point, or None) adds a decaying term to the baseline model,
+    fitted on the foot and extrapolated under the wave with the line; ``extra`` are
+    points of another sweep fitted jointly (see :func:`fit_foot`).
     """
     n = E.size
     lo = min(skip, max(n - min_points, 0))
     hi = min(n, max(lo + min_points, lo + (n - lo) // 10))
     width = 5
-    line = fit_foot(E[lo:hi], i[lo:hi], sign, kappa_per_V, sigma)
+
+    def fit(lo: int, hi: int) -> LineFit:
+        t = None if tail is None else tail[lo:hi]
+        return fit_foot(E[lo:hi], i[lo:hi], sign, kappa_per_V, sigma, t, extra)
+
+    line = fit(lo, hi)
     prev_hi = hi
     for _ in range(iterations):
-        r = sign * (i - line(E))
+        r = sign * (i - line(E, tail))
         kp = int(np.argmax(r))
         if kp <= lo + min_points:
             break
@@ -147,7 +199,7 @@ def foot_window(
         if hi == prev_hi:
             break
         prev_hi = hi
-        line = fit_foot(E[lo:hi], i[lo:hi], sign, kappa_per_V, sigma)
+        line = fit(lo, hi)
     return lo, hi, line
 
 
@@ -218,6 +270,41 @@ def switch_step(
     coef, *_ = np.linalg.lstsq(X, y, rcond=None)
     var = np.linalg.pinv(X.T @ X)[3, 3]
     return float(coef[3]), float(coef[0]), math.sqrt(var)
+
+
+def decay_tail(
+    E: np.ndarray,
+    i: np.ndarray,
+    previous: tuple[int, int, int],
+    span: tuple[int, int],
+    *,
+    origin_V: float,
+    fit_start_V: float,
+    gap: int = 3,
+) -> tuple[np.ndarray, tuple[np.ndarray, np.ndarray, np.ndarray]] | None:
+    """Cottrell-type tail ``(τ − τ0)^−1/2`` of the sweep ``previous`` over ``span``.
+
+    ``previous = (start, stop, direction)`` indexes the sweep before ``span = (start,
+    stop)`` in the record (E, i). τ is the distance travelled along the potential axis,
+    V; τ0 lies ``origin_V`` before the peak of the previous sweep (its largest current in
+    its own direction, away from its ends). Returns the tail over ``span`` and ``(E, i,
+    tail)`` of the previous sweep from ``fit_start_V`` past its peak to ``gap`` points
+    before its end, or None when that part is shorter than ten points.
+    """
+    p0, p1, direction = previous
+    tau = np.concatenate(([0.0], np.cumsum(np.abs(np.diff(E)))))
+    y = direction * i[p0 : p1 + 1]
+    edge = max(gap, y.size // 20)
+    if y.size <= 4 * edge:
+        return None
+    k = p0 + edge + int(np.argmax(y[edge:-edge]))
+    tau0 = tau[k] - origin_V
+    beyond = np.nonzero(tau[k : p1 + 1] - tau[k] >= fit_start_V)[0]
+    if beyond.size == 0 or p1 - gap - (k + int(beyond[0])) < 10:
+        return None
+    seg = slice(k + int(beyond[0]), p1 - gap + 1)
+    tail = 1.0 / np.sqrt(tau[span[0] : span[1] + 1] - tau0)
+    return tail, (E[seg], i[seg], 1.0 / np.sqrt(tau[seg] - tau0))
 
 
 class Vertex(NamedTuple):
