@@ -4,12 +4,12 @@ Planar semi-infinite diffusion of O and R on an exponentially expanding space gr
 second-order backward differentiation in time (BDF2, started by one backward-Euler
 step; the double-layer charging derivative is backward Euler, exact for the
 piecewise-linear applied potential, unless R_u·C_dl resolves the RC response, see
-:func:`charging_restarts`), a three-point second-order surface gradient and a Nernstian
-or Butler–Volmer electrode boundary. Both the interior solve and the boundary are linear
-in the surface concentrations, so each step costs O(grid): one backward elimination sweep
-per species that leaves the surface gradient as ``A·c(0) + B``, a scalar solve of the
-boundary condition (and, with uncompensated resistance, of the iR drop), and one forward
-substitution sweep.
+:func:`backward_euler_charging_steps`), a three-point second-order surface gradient and
+a Nernstian or Butler–Volmer electrode boundary. Both the interior solve and the boundary
+are linear in the surface concentrations, so each step costs O(grid): one backward
+elimination sweep per species that leaves the surface gradient as ``A·c(0) + B``, a
+scalar solve of the boundary condition (and, with uncompensated resistance, of the iR
+drop), and one forward substitution sweep.
 
 Two interchangeable back ends give the same numbers to rounding:
 
@@ -210,7 +210,8 @@ def species_operator(grid: Grid, D_cm2_s: float, dt_s: float) -> SpeciesOperator
 @_jit
 def _march_thomas(
     E_app, dt, cO, cR, cO_bulk, cR_bulk, eO, idO, GO, AOs, eR, idR, GR, ARs, s1, s2, DO, DR,
-    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, kink, i_far, i_cap, E_true, amt_O, amt_R,
+    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, be_charge, i_far, i_cap, E_true, amt_O,
+    amt_R,
 ):  # fmt: skip
     """March all steps with Thomas sweeps; fills cO, cR and the output arrays in place."""
     M = E_app.size
@@ -243,7 +244,7 @@ def _march_thomas(
             fR[i] = (rR - GR[kind, i] * fR[i + 1]) * idR[kind, i]
         BO = s1 * fO[1] + s2 * (eO[kind, 2] * fO[1] + fO[2])
         BR = s1 * fR[1] + s2 * (eR[kind, 2] * fR[1] + fR[2])
-        if kind == 0 or kink[m]:
+        if kind == 0 or be_charge[m]:
             kapE = 1.0 / dt
             rhsE = E_prev / dt
         else:
@@ -274,7 +275,8 @@ def _march_thomas(
 
 def _march_dense(
     E_app, dt, cO, cR, cO_bulk, cR_bulk, opO, opR, DO, DR,
-    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, kink, i_far, i_cap, E_true, amt_O, amt_R,
+    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, be_charge, i_far, i_cap, E_true, amt_O,
+    amt_R,
 ):  # fmt: skip
     """Same marching as :func:`_march_thomas` with precomputed dense interior inverses."""
     M = E_app.size
@@ -300,7 +302,7 @@ def _march_dense(
             rR = (4.0 * cR[1:-1] - prevR[1:-1]) / (2.0 * dt)
             rhsE = (4.0 * E_prev - E_prev2) / (2.0 * dt)
         kapE = kap
-        if kink[m]:
+        if be_charge[m]:
             kapE = 1.0 / dt
             rhsE = E_prev / dt
         BO = float(opO.dense_b[kind] @ rO + opO.dense_bb[kind] * cO_bulk)
@@ -328,7 +330,7 @@ def _march_dense(
             amt_R[m] = weights @ cR
 
 
-def charging_restarts(E_app_V: np.ndarray, rc_s: float, dt_s: float) -> np.ndarray:
+def backward_euler_charging_steps(E_app_V: np.ndarray, rc_s: float, dt_s: float) -> np.ndarray:
     """Steps whose charging derivative dE/dt is taken by backward Euler instead of BDF2.
 
     BDF2 reaches back two steps, so across a vertex of a piecewise-linear potential it
@@ -346,9 +348,9 @@ def charging_restarts(E_app_V: np.ndarray, rc_s: float, dt_s: float) -> np.ndarr
     n = np.asarray(E_app_V).size
     if rc_s < dt_s:
         return np.ones(n, dtype=np.bool_)
-    kink = np.zeros(n, dtype=np.bool_)
-    kink[: min(n, 2)] = True
-    return kink
+    be_charge = np.zeros(n, dtype=np.bool_)
+    be_charge[: min(n, 2)] = True
+    return be_charge
 
 
 @dataclass(frozen=True)
@@ -408,7 +410,8 @@ def march(
     amt_O = np.zeros(M if track_amounts else 1)
     amt_R = np.zeros(M if track_amounts else 1)
     w = np.ascontiguousarray(grid.weights_cm)
-    kink = charging_restarts(E_app, float(resistance_ohm) * float(double_layer_F), dt_s)
+    rc_s = float(resistance_ohm) * float(double_layer_F)
+    be_charge = backward_euler_charging_steps(E_app, rc_s, float(dt_s))
     scalars = (
         float(D_ox_cm2_s), float(D_red_cm2_s), float(E_formal_V), float(nf_per_V),
         float(k0_cm_s), float(alpha), float(resistance_ohm), float(double_layer_F),
@@ -419,13 +422,13 @@ def march(
         _march_thomas(
             E_app, float(dt_s), cO, cR, float(bulk_ox_mol_cm3), float(bulk_red_mol_cm3),
             opO.e, opO.inv_den, opO.upper, opO.A_surf, opR.e, opR.inv_den, opR.upper,
-            opR.A_surf, s1, s2, *scalars, w, bool(track_amounts), kink, i_far, i_cap,
+            opR.A_surf, s1, s2, *scalars, w, bool(track_amounts), be_charge, i_far, i_cap,
             E_true, amt_O, amt_R,
         )  # fmt: skip
     else:
         _march_dense(
             E_app, float(dt_s), cO, cR, float(bulk_ox_mol_cm3), float(bulk_red_mol_cm3),
-            opO, opR, *scalars, w, bool(track_amounts), kink, i_far, i_cap, E_true, amt_O,
+            opO, opR, *scalars, w, bool(track_amounts), be_charge, i_far, i_cap, E_true, amt_O,
             amt_R,
         )  # fmt: skip
     return MarchResult(
