@@ -14,7 +14,13 @@ from .flags import Flag
 from .quantity import Quantity
 from .speciation import fraction_peak_ligand_M, species_fractions
 
-__all__ = ["StepwiseFit", "UndeterminedConstant", "ConditionalConstants", "verdicts"]
+__all__ = [
+    "StepwiseFit",
+    "UndeterminedConstant",
+    "ConditionalConstants",
+    "verdicts",
+    "null_stepwise_dict",
+]
 
 #: A complex whose largest fraction over the measured range stays below this is flagged.
 MIN_MAX_FRACTION = 0.05
@@ -252,3 +258,27 @@ def verdicts(
             )
         )
     return determined, max_frac, undetermined, flags
+
+
+def null_stepwise_dict(n_points: int, flags) -> dict[str, Any]:
+    """The ``fit`` record of a stepwise series that could not be fitted (flags say why)."""
+    return {
+        "model": "stepwise",
+        "fitted_state": None,
+        "fixed_log10_beta": [],
+        "n_complexes": None,
+        "log10_beta": [],
+        "covariance": None,
+        "E_half_free_V": {"value": None, "stderr": None, "ci95": [None, None]},
+        "selection": {"criterion": "extra-sum-of-squares F-test", "alpha": None, "candidates": []},
+        "undetermined": [],
+        "points": [],
+        "conditional": [],
+        "thermodynamic_log10_beta": None,
+        "ionic_strength_M": None,
+        "free_ligand_iterations": 0,
+        "n_points": int(n_points),
+        "dof": None,
+        "weighted": False,
+        "flags": [f.to_dict() for f in flags],
+    }

@@ -66,7 +66,8 @@ def _analyse_file(
     else:
         e_half, correction = peaks.E_half_V, 0.0
     metal = series.metal_total_M
-    if metal is not None and entry.ligand_M > 0 and entry.ligand_M < LIGAND_EXCESS_MIN * metal:
+    lingane = manifest.fit.model == "lingane"  # the stepwise model corrects [L] itself
+    if lingane and metal is not None and 0 < entry.ligand_M < LIGAND_EXCESS_MIN * metal:
         flags.append(
             Flag(
                 "LOW_LIGAND_EXCESS",
@@ -148,13 +149,6 @@ def analyse_series(
         (``None`` with a series flag when fewer than three usable points remain).
     """
     series = manifest.series
-    if manifest.fit.model != "lingane":
-        raise InputError(
-            f"model {manifest.fit.model!r} is not available in this version of cvfit; "
-            'use model = "lingane"',
-            source=str(manifest.path),
-            key="fit.model",
-        )
     titrating = [e for e in manifest.voltammograms if e.ligand_M > 0]
     if len(titrating) < MIN_FIT_POINTS:
         raise InputError(
@@ -242,7 +236,13 @@ def analyse_series(
 
     fit = None
     point_checks = check_points(points)
-    if ref_ok and not any(f.severity == "error" for f in point_checks):
+    if ref_ok and manifest.fit.model == "stepwise" and not any(
+        f.severity == "error" for f in point_checks
+    ):
+        from ._pipeline_stepwise import run_stepwise
+
+        fit, final = run_stepwise(final, manifest, reference)
+    elif ref_ok and not any(f.severity == "error" for f in point_checks):
         fit = fit_lingane(
             points,
             electrons=series.electrons,

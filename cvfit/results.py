@@ -188,6 +188,8 @@ class SeriesResult:
             from .titration import null_fit_dict
 
             why = [f for f in self.flags if f.severity == "error"]
+            if self.series.get("model") == "stepwise":
+                from ._stepwise_result import null_stepwise_dict as null_fit_dict
             fit = null_fit_dict(self.fit_n_points, why)
         return {
             "cvfit_version": self.cvfit_version,

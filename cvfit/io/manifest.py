@@ -20,6 +20,7 @@ from typing import Any, Literal
 from ..criteria import ReversibilityCriteria
 from ..errors import InputError
 from ..units import celsius_to_kelvin
+from . import _chemistry_keys as _chem
 from .options import IMPORT_KEYS, ImportOptions
 from .text import split_lines
 
@@ -33,10 +34,11 @@ SERIES_KEYS = (
     "E_half_free_V",
     "E_half_free_stderr_V",
     "reference_electrode",
+    *_chem.SERIES_CHEMISTRY_KEYS,
 )
-FIT_KEYS = ("model", "max_complexes", "exclude_non_nernstian")
+FIT_KEYS = ("model", "max_complexes", "exclude_non_nernstian", *_chem.FIT_STEPWISE_KEYS)
 REVERSIBILITY_KEYS = ("n_delta_Ep_margin_V", "n_peak_width_margin_V", "current_ratio_margin")
-ENTRY_KEYS = ("file", "ligand_M", "scan_rate_V_s", "label", *IMPORT_KEYS)
+ENTRY_KEYS = ("file", "ligand_M", "scan_rate_V_s", "label", "pH", *IMPORT_KEYS)
 TABLES = ("series", "import", "fit", "reversibility", "voltammogram")
 MAX_COMPLEXES_LIMIT = 8
 
@@ -84,6 +86,8 @@ class SeriesSettings:
         series has no ligand-free file.
     reference_electrode : str or None
         Free text, echoed in reports.
+    ligand_pKa, pH, ionic_strength_M, metal_charge, ligand_charge, bound_ligand_number
+        Solution chemistry for the stepwise model (see cvfit.stepwise.SolutionConditions).
     """
 
     title: str = ""
@@ -93,8 +97,15 @@ class SeriesSettings:
     E_half_free_V: float | None = None
     E_half_free_stderr_V: float | None = None
     reference_electrode: str | None = None
+    ligand_pKa: tuple[float, ...] | None = None
+    pH: float | None = None
+    ionic_strength_M: float | None = None
+    metal_charge: int | None = None
+    ligand_charge: int | None = None
+    bound_ligand_number: float | None = None
 
     def __post_init__(self) -> None:
+        _chem.clean_series(self)
         _need_text(self.title, "title")
         _need_text(self.reference_electrode, "reference_electrode")
         e = _whole(self.electrons)
@@ -149,13 +160,21 @@ class FitSettings:
         Highest j tried by the stepwise model, 1–8 (default 4).
     exclude_non_nernstian : bool
         Flagged voltammograms are reported but not fitted (default true).
+    fixed_log10_beta_ox, fixed_log10_beta_red : tuple of float or None
+        Stepwise model: known constants of one oxidation state; the other's are fitted.
+    current_ratio_correction : bool
+        Stepwise model: add DeFord–Hume's ln(Is/Ic) from the peak currents (default true).
     """
 
     model: Literal["lingane", "stepwise"] = "lingane"
     max_complexes: int = 4
     exclude_non_nernstian: bool = True
+    fixed_log10_beta_ox: tuple[float, ...] | None = None
+    fixed_log10_beta_red: tuple[float, ...] | None = None
+    current_ratio_correction: bool = True
 
     def __post_init__(self) -> None:
+        _chem.clean_fit(self)
         if self.model not in ("lingane", "stepwise"):
             raise InputError(
                 f"model must be 'lingane' or 'stepwise', got {self.model!r}", key="model"
@@ -192,6 +211,8 @@ class VoltammogramEntry:
         Series-wide ``[import]`` merged with this table's own import keys.
     label : str or None
         Free text for legends.
+    pH : float or None
+        pH of this solution (stepwise model with ligand_pKa), else the series value.
     """
 
     file: Path
@@ -200,8 +221,10 @@ class VoltammogramEntry:
     scan_rate_V_s: float | None = None
     import_options: ImportOptions = ImportOptions()
     label: str | None = None
+    pH: float | None = None
 
     def __post_init__(self) -> None:
+        object.__setattr__(self, "pH", _chem.optional_pH(self.pH))
         _need_text(self.label, "label")
         if not isinstance(self.name, str) or not self.name.strip():
             raise InputError(
@@ -463,6 +486,7 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
                 "scan_rate_V_s": raw.get("scan_rate_V_s"),
                 "import_options": options,
                 "label": raw.get("label"),
+                "pH": raw.get("pH"),
             },
             "voltammogram",
             index,

@@ -39,8 +39,13 @@ def write_outputs(result: SeriesResult, out_dir: str | Path) -> dict[str, Path]:
         "voltammograms_figure": plot_voltammograms(
             result, out / OUTPUT_NAMES["voltammograms_figure"]
         ),
-        "lingane_figure": plot_lingane(result, out / OUTPUT_NAMES["lingane_figure"]),
     }
+    if result.series.get("model") == "stepwise":
+        from .figures_stepwise import write_stepwise_figures
+
+        written.update(write_stepwise_figures(result, out))
+    else:
+        written["lingane_figure"] = plot_lingane(result, out / OUTPUT_NAMES["lingane_figure"])
     # The HTML page embeds every figure written above; keep it after them.
     from .html import write_html_report
 

@@ -58,6 +58,10 @@ def format_summary(result: SeriesResult) -> str:
     fit = result.fit
     if fit is None:
         lines.append("No constants: see the series flags below.")
+    elif getattr(fit, "model", "lingane") == "stepwise":
+        from .summary_stepwise import stepwise_lines
+
+        lines.extend(stepwise_lines(fit))
     else:
         lines.append(f"Lingane fit on {fit.n_points} points ({fit.dof} degrees of freedom, "
                      f"{'weighted by per-file E½ errors' if fit.weighted else 'unweighted'}):")
