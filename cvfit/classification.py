@@ -172,13 +172,16 @@ def classify_voltammogram(
             f"{why}{'; ' + width_txt if width_txt else ''}: a following chemical reaction "
             "or a switch too close to the wave, not slow electron transfer",
         )
+    ratio_txt = (
+        "current ratio not measured"
+        if peaks.current_ratio is None
+        else f"current ratio {peaks.current_ratio:.3f}"
+    )
     numbers = f"n·ΔEp = {_mV(nd)}" + (
         "" if exp_nd is None else f" against the Nernstian {_mV(exp_nd)} for this switch"
     )
     if screen.reversible is True:
-        return done(
-            "reversible", f"{numbers}; {width_txt}; current ratio {peaks.current_ratio:.3f}"
-        )
+        return done("reversible", f"{numbers}; {width_txt}; {ratio_txt}")
     if codes & set(_KINETIC_CODES) or (wide and "DELTA_EP_TOO_SMALL" not in codes):
         E_half = peaks.E_half_V
         dEp = switch_corrected_delta_Ep_V(
@@ -209,8 +212,8 @@ def classify_voltammogram(
     failed = ", ".join(sorted(codes - {"SWITCHING_TOO_CLOSE"})) or "the screen"
     return done(
         "not determinable",
-        f"fails {failed}, which is not a kinetic signature ({numbers}; current ratio "
-        f"{peaks.current_ratio:.3f}): a coupled chemical reaction, adsorption, or wrong n",
+        f"fails {failed}, which is not a kinetic signature ({numbers}; {ratio_txt}): a "
+        "coupled chemical reaction, adsorption, or wrong n",
     )
 
 

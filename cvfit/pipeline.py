@@ -15,6 +15,12 @@ from pathlib import Path
 import numpy as np
 
 from . import __version__
+from ._series_diagnostics import (
+    correct_for_resistance,
+    diagnose_files,
+    ohmic_flags,
+    resistance_for,
+)
 from .diagnostics import screen_reversibility
 from .errors import InputError
 from .flags import Flag
@@ -45,6 +51,8 @@ def _analyse_file(
     v = record
     if v is None:
         v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
+    resistance = resistance_for(entry, series)
+    v = correct_for_resistance(v, resistance)  # a new record; the input is not changed
     peaks = analyse_peaks(
         v,
         cycle=entry.import_options.cycle,
@@ -59,6 +67,7 @@ def _analyse_file(
     )
     flags = list(peaks.flags)
     flags += [f for f in screen.flags if f.code not in {g.code for g in flags}]
+    flags += ohmic_flags(peaks, resistance)
     if screen.reversible is True:
         e_half, correction = corrected_half_wave_V(
             peaks, electrons=series.electrons, temperature_K=series.temperature_K
@@ -89,6 +98,7 @@ def _analyse_file(
         label=entry.label,
         E_half_V=e_half,
         switching_correction_V=correction,
+        resistance_ohm=resistance or None,
     )
 
 
@@ -159,9 +169,10 @@ def analyse_series(
         )
     records = records or {}
     files = [_analyse_file(e, manifest, records.get(e.name)) for e in manifest.voltammograms]
+    files, studies, study_flags = diagnose_files(files, manifest)
     reference = _reference(files, manifest)
     exclude = manifest.fit.exclude_non_nernstian
-    series_flags: list[Flag] = []
+    series_flags: list[Flag] = list(study_flags)
 
     final: list[FileResult] = []
     points: list[TitrationPoint] = []
@@ -278,4 +289,5 @@ def analyse_series(
         },
         flags=tuple(series_flags),
         fit_n_points=len(points),
+        scan_rate_studies=studies,
     )

@@ -13,8 +13,11 @@ from typing import TYPE_CHECKING, Any
 from .flags import Flag
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
+    from .classification import Classification
     from .diagnostics import ReversibilityScreen
+    from .kinetics import KineticsResult
     from .peaks import PeakAnalysis
+    from .scanrate import ScanRateStudy
     from .titration import LinganeFit
     from .voltammogram import Voltammogram
 
@@ -60,6 +63,12 @@ class FileResult:
         voltammogram that passed the screen (see :mod:`cvfit.halfwave`), else the midpoint.
     switching_correction_V : float
         The correction applied, V (0 when none).
+    classification : Classification or None
+        Class of the electron transfer (reversible, quasi-reversible, ...) and why.
+    kinetics : KineticsResult or None
+        Nicholson's ψ and k0, or why they are not determinable.
+    resistance_ohm : float or None
+        R_u the potentials were corrected with, Ω.
     """
 
     file: str
@@ -74,6 +83,9 @@ class FileResult:
     label: str | None = None
     E_half_V: float | None = None
     switching_correction_V: float = 0.0
+    classification: Classification | None = None
+    kinetics: KineticsResult | None = None
+    resistance_ohm: float | None = None
 
     @property
     def reversible(self) -> bool | None:
@@ -106,6 +118,11 @@ class FileResult:
             "noise_A": clean_number(p.noise_A),
             "reversible": self.screen.reversible,
             "used_in_fit": self.used_in_fit,
+            "classification": None
+            if self.classification is None
+            else self.classification.to_dict(),
+            "kinetics": None if self.kinetics is None else self.kinetics.to_dict(),
+            "resistance_ohm": clean_number(self.resistance_ohm),
             "flags": [f.to_dict() for f in self.flags],
         }
 
@@ -167,6 +184,8 @@ class SeriesResult:
         Series-level findings.
     fit_n_points : int
         Number of usable titration points offered to the fit.
+    scan_rate_studies : tuple of ScanRateStudy
+        One per ligand concentration measured at three or more scan rates.
     """
 
     cvfit_version: str
@@ -180,6 +199,7 @@ class SeriesResult:
     criteria: dict[str, float]
     flags: tuple[Flag, ...] = ()
     fit_n_points: int = 0
+    scan_rate_studies: tuple[ScanRateStudy, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         if self.fit is not None:
@@ -201,5 +221,6 @@ class SeriesResult:
             "reference": self.reference.to_dict(),
             "voltammograms": [f.to_dict() for f in self.files],
             "fit": fit,
+            "scan_rate_studies": [st.to_dict() for st in self.scan_rate_studies],
             "flags": [f.to_dict() for f in self.flags],
         }

@@ -21,6 +21,7 @@ from ..criteria import ReversibilityCriteria
 from ..errors import InputError
 from ..units import celsius_to_kelvin
 from . import _chemistry_keys as _chem
+from . import _electrode_keys as _electrode
 from .options import IMPORT_KEYS, ImportOptions
 from .text import split_lines
 
@@ -35,10 +36,14 @@ SERIES_KEYS = (
     "E_half_free_stderr_V",
     "reference_electrode",
     *_chem.SERIES_CHEMISTRY_KEYS,
+    *_electrode.SERIES_ELECTRODE_KEYS,
 )
 FIT_KEYS = ("model", "max_complexes", "exclude_non_nernstian", *_chem.FIT_STEPWISE_KEYS)
 REVERSIBILITY_KEYS = ("n_delta_Ep_margin_V", "n_peak_width_margin_V", "current_ratio_margin")
-ENTRY_KEYS = ("file", "ligand_M", "scan_rate_V_s", "label", "pH", *IMPORT_KEYS)
+ENTRY_KEYS = (
+    "file", "ligand_M", "scan_rate_V_s", "label", "pH", *_electrode.ENTRY_ELECTRODE_KEYS,
+    *IMPORT_KEYS,
+)
 TABLES = ("series", "import", "fit", "reversibility", "voltammogram")
 MAX_COMPLEXES_LIMIT = 8
 
@@ -88,6 +93,16 @@ class SeriesSettings:
         Free text, echoed in reports.
     ligand_pKa, pH, ionic_strength_M, metal_charge, ligand_charge, bound_ligand_number
         Solution chemistry for the stepwise model (see cvfit.stepwise.SolutionConditions).
+    electrode_area_cm2, analyte_M : float or None
+        Electrode area, cm², and bulk concentration of the electroactive species, mol/L
+        (D from Randles–Ševčík peak currents).
+    diffusion_cm2_s, diffusion_stderr_cm2_s : float or None
+        A known diffusion coefficient of the species in solution and its standard error,
+        cm²/s (for k0).
+    alpha : float
+        Transfer coefficient assumed, 0 < α < 1 (default 0.5).
+    resistance_ohm : float or None
+        Uncompensated resistance R_u, Ω (>= 0); potentials are corrected by i·R_u.
     """
 
     title: str = ""
@@ -103,9 +118,16 @@ class SeriesSettings:
     metal_charge: int | None = None
     ligand_charge: int | None = None
     bound_ligand_number: float | None = None
+    electrode_area_cm2: float | None = None
+    analyte_M: float | None = None
+    diffusion_cm2_s: float | None = None
+    diffusion_stderr_cm2_s: float | None = None
+    alpha: float = 0.5
+    resistance_ohm: float | None = None
 
     def __post_init__(self) -> None:
         _chem.clean_series(self)
+        _electrode.clean_series(self)
         _need_text(self.title, "title")
         _need_text(self.reference_electrode, "reference_electrode")
         e = _whole(self.electrons)
@@ -213,6 +235,8 @@ class VoltammogramEntry:
         Free text for legends.
     pH : float or None
         pH of this solution (stepwise model with ligand_pKa), else the series value.
+    resistance_ohm : float or None
+        Uncompensated resistance for this file, Ω, else the series value.
     """
 
     file: Path
@@ -222,9 +246,15 @@ class VoltammogramEntry:
     import_options: ImportOptions = ImportOptions()
     label: str | None = None
     pH: float | None = None
+    resistance_ohm: float | None = None
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "pH", _chem.optional_pH(self.pH))
+        object.__setattr__(
+            self,
+            "resistance_ohm",
+            _electrode.positive(self.resistance_ohm, "resistance_ohm", "Ω", allow_zero=True),
+        )
         _need_text(self.label, "label")
         if not isinstance(self.name, str) or not self.name.strip():
             raise InputError(
@@ -487,6 +517,7 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
                 "import_options": options,
                 "label": raw.get("label"),
                 "pH": raw.get("pH"),
+                "resistance_ohm": raw.get("resistance_ohm"),
             },
             "voltammogram",
             index,
