@@ -167,3 +167,27 @@ def test_summary_and_exit_status():
     )
     with pytest.raises(ValueError, match="status"):
         SeriesOutcome("a", "b", "fine")
+
+
+def test_parallel_import_of_one_series_matches_serial(tmp_path, csvs, capsys):
+    from cvfit.io import load_manifest
+    from cvfit.io.parallel import read_series_records
+
+    m = make_series(tmp_path / "p", csvs, title="parallel")
+    manifest = load_manifest(m)
+    serial = read_series_records(manifest, jobs=1)
+    parallel = read_series_records(manifest, jobs=2)
+    assert list(serial) == list(parallel) == [e.name for e in manifest.voltammograms]
+    for name in serial:
+        assert (serial[name].current_A == parallel[name].current_A).all()
+    assert main(["run", str(m), "--out", str(tmp_path / "o1"), "--quiet"]) == 0
+    assert main(["run", str(m), "--out", str(tmp_path / "o2"), "--quiet", "--jobs", "2"]) == 0
+    one, two = ((tmp_path / o / "results.json").read_text("utf-8") for o in ("o1", "o2"))
+    assert one == two
+    broken = make_series(tmp_path / "q", csvs, title="broken", broken=True)
+    with pytest.raises(InputError) as serial_err:
+        read_series_records(load_manifest(broken), jobs=1)
+    with pytest.raises(InputError) as parallel_err:
+        read_series_records(load_manifest(broken), jobs=2)
+    assert str(parallel_err.value) == str(serial_err.value)
+    assert "b2.csv" in str(serial_err.value)

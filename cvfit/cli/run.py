@@ -34,7 +34,9 @@ def register(sub: argparse._SubParsersAction) -> None:
         "--jobs",
         metavar="N",
         type=int,
-        help="worker processes for a batch (default: one per CPU core, at most one per series)",
+        help="worker processes: for a batch, series run in parallel (default: one per CPU "
+        "core, at most one per series); for one series, files are imported in parallel "
+        "(default: 1)",
     )
     p.add_argument("--quiet", action="store_true", help="print only where results went")
     p.set_defaults(handler=handle)
@@ -58,7 +60,8 @@ def check_outputs_spare_inputs(out_dir: Path, inputs: list[Path], manifest: Path
             )
 
 
-def run_manifest(manifest_path: Path, out: Path | None, *, quiet: bool = False) -> int:
+def run_manifest(manifest_path: Path, out: Path | None, *, quiet: bool = False,
+                 jobs: int | None = None) -> int:
     manifest = load_manifest(manifest_path)
     out_dir = out if out is not None else default_out_dir(manifest.path)
     if out_dir.exists() and not out_dir.is_dir():
@@ -66,7 +69,12 @@ def run_manifest(manifest_path: Path, out: Path | None, *, quiet: bool = False) 
     check_outputs_spare_inputs(
         out_dir, [manifest.path, *(e.file for e in manifest.voltammograms)], manifest.path
     )
-    result = analyse_series(manifest)
+    records = None
+    if jobs is not None:  # import the files in worker processes
+        from ..io.parallel import read_series_records
+
+        records = read_series_records(manifest, jobs=jobs)
+    result = analyse_series(manifest, records=records)
     written = write_outputs(result, out_dir)
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
@@ -77,10 +85,10 @@ def run_manifest(manifest_path: Path, out: Path | None, *, quiet: bool = False) 
 def handle(args: argparse.Namespace) -> int:
     out = Path(args.out) if args.out else None
     if len(args.manifest) == 1 and not Path(args.manifest[0]).is_dir():
-        return run_manifest(Path(args.manifest[0]), out, quiet=args.quiet)
+        return run_manifest(Path(args.manifest[0]), out, quiet=args.quiet, jobs=args.jobs)
     from .batch import expand_manifests, handle_batch
 
     manifests = expand_manifests(args.manifest)
     if len(manifests) == 1:
-        return run_manifest(manifests[0], out, quiet=args.quiet)
+        return run_manifest(manifests[0], out, quiet=args.quiet, jobs=args.jobs)
     return handle_batch(manifests, out, jobs=args.jobs)

@@ -223,12 +223,16 @@ def read_table(
     header_idx = above[-1] if above else None
     header_text = lines[header_idx] if header_idx is not None else None
     header_key = header_text.strip() if header_text is not None else None
-    rows = [
-        (k + 1, ln.strip())
-        for k, ln in enumerate(lines[start:], start=start)
-        if ln.strip() and ln.strip() != header_key
-    ]
-    sample = [text for _, text in rows[:_SAMPLE]]
+    # One strip per line; blank lines and repeated header rows are dropped (rare, so the
+    # common case keeps every line and numbers them by position).
+    texts = [ln.strip() for ln in lines[start:]]
+    if "" in texts or (header_key is not None and header_key in texts):
+        keep = [k for k, t in enumerate(texts) if t and t != header_key]
+        texts = [texts[k] for k in keep]
+        numbers = np.asarray(keep, dtype=int) + start + 1
+    else:
+        numbers = np.arange(start + 1, start + 1 + len(texts), dtype=int)
+    sample = texts[:_SAMPLE]
     delim = delimiter or _sniff_delimiter(sample)
     dec = decimal or _sniff_decimal(sample, delim)
     if delim == "," and dec == ",":
@@ -237,9 +241,9 @@ def read_table(
             source=source,
             key="delimiter",
         )
-    block = "\n".join(text for _, text in rows)
+    block = "\n".join(texts)
     sep = r"\s+" if delim == "whitespace" else delim
-    first_cells = _split(rows[0][1], delim)
+    first_cells = _split(texts[0], delim)
     ncols = len(first_cells)
     header: tuple[str, ...] | None = None
     if header_text is not None:
@@ -262,22 +266,24 @@ def read_table(
                 dtype=np.float64,
                 engine="c",
                 skipinitialspace=True,
-                skip_blank_lines=False,
+                # no blank line is left in the block (dropped above); pandas' own blank-line
+                # handling is off the slow path this way
                 quotechar='"',
             )
         values = frame.to_numpy(dtype=float, copy=True)
-        if values.shape[0] != len(rows):
+        if values.shape[0] != len(texts):
             raise ValueError("row count changed while parsing")
     except (ValueError, TypeError, OverflowError, pd.errors.ParserError, Warning) as exc:
+        rows = list(zip(numbers.tolist(), texts, strict=True))
         found = _locate_bad_cell(rows, delim, dec, ncols, header, source)
         if found is not None:
             raise found from None
         first_line = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise InputError(
-            f"could not read the numbers from line {rows[0][0]} on ({first_line}); check the "
+            f"could not read the numbers from line {numbers[0]} on ({first_line}); check the "
             "delimiter and decimal mark",
             source=source,
-            line=rows[0][0],
+            line=int(numbers[0]),
         ) from None
     meta_lines = lines[:header_idx] if header is not None else lines[:start]
     notes = {"import.delimiter": _NAMES[delim], "import.decimal": dec}
@@ -287,7 +293,7 @@ def read_table(
         )
     return NumericTable(
         values=values,
-        line_numbers=np.array([n for n, _ in rows], dtype=int),
+        line_numbers=numbers,
         header=header,
         header_line=header_idx + 1 if header is not None else None,
         metadata=_metadata(meta_lines),

@@ -24,6 +24,10 @@ from ._atomic import atomic_path  # noqa: E402
 __all__ = ["plot_voltammograms", "plot_lingane", "MAX_POINTS_DRAWN", "COLOUR_MAP"]
 
 MAX_POINTS_DRAWN = 1500
+#: Points drawn in one figure at most: a large series draws each curve more thinly
+#: (200 overlaid curves do not show 1500 points each), never below ``MIN_POINTS_DRAWN``.
+MAX_POINTS_PER_FIGURE = 150_000
+MIN_POINTS_DRAWN = 300
 COLOUR_MAP = "cividis"
 _STYLE = {
     "font.size": 9,
@@ -35,8 +39,9 @@ _STYLE = {
 }
 
 
-def _thin(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    step = max(1, math.ceil(x.size / MAX_POINTS_DRAWN))
+def _thin(x: np.ndarray, y: np.ndarray, max_points: int = MAX_POINTS_DRAWN
+          ) -> tuple[np.ndarray, np.ndarray]:
+    step = max(1, math.ceil(x.size / max_points))
     return x[::step], y[::step]
 
 
@@ -60,13 +65,15 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             if hi <= lo:
                 lo, hi = lo / 2, hi * 2
             norm = mcolors.LogNorm(vmin=lo, vmax=hi)
+        per_curve = max(MIN_POINTS_DRAWN, min(MAX_POINTS_DRAWN,
+                                              MAX_POINTS_PER_FIGURE // max(1, len(result.files))))
         for f in result.files:
             v = f.voltammogram
             cyc = v.cycle(f.peaks.cycle_number) if f.peaks.cycle_number else v.cycle()
             stop = cyc.reverse.stop if cyc.reverse is not None else cyc.forward.stop
             E = v.potential_V[cyc.forward.start : stop + 1]
             i = v.current_A[cyc.forward.start : stop + 1]
-            E, i = _thin(E, i)
+            E, i = _thin(E, i, per_curve)
             if f.ligand_M > 0 and norm is not None:
                 kw = {"color": cmap(norm(f.ligand_M)), "lw": 1.1}
             else:
