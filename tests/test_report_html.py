@@ -169,6 +169,7 @@ def test_stepwise_constants_appear_when_present():
             "log10_beta": [
                 {"j": 1, "value": 3.25, "stderr": 0.04, "ci95": [3.1, 3.4]},
                 {"j": 2, "value": 5.5, "stderr": 0.1, "ci95": [5.2, 5.8]},
+                {"j": 3, "value": None, "stderr": None, "ci95": [None, None], "determined": False},
             ],
         },
         "flags": [{"code": "SOME_FLAG", "message": "file <x>.csv", "severity": "warning"}],
@@ -176,9 +177,11 @@ def test_stepwise_constants_appear_when_present():
     text = render_html(data)
     page = parse(text)
     values = [json.loads(a["data-value"]) for t, a in page.tags if "data-value" in a]
-    assert values == [3.25, 5.5]
+    assert values == [3.25, 5.5, None]
     joined = "".join(page.text)
     assert "log10 β2 (overall)" in joined and "DeFord" in joined
+    assert "log10 β3 (overall) — not determined by these data" in joined
+    assert "βj in (mol/L)^−j" in joined
     assert "<quasi>" in joined and "file <x>.csv" in joined and "a&b.csv" in joined
     assert "<quasi>" not in text and "<x>" not in text
 

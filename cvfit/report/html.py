@@ -43,6 +43,7 @@ _Q_LABELS = {
     "delta_ligands": ("p − q, ligands released on reduction", 1.0, ""),
     "log10_beta_ratio": ("log10(βox/βred)", 1.0, ""),
     "log10_beta_ratio_at_integer": ("log10(βox/βred), p − q fixed at {integer}", 1.0, ""),
+    "E_half_free_V": ("E½(s) of the uncomplexed couple", 1e3, "mV"),
 }
 
 _CSS = """
@@ -135,11 +136,10 @@ def _constants(fit: Mapping[str, Any]) -> str:
     for k, q in enumerate(fit.get("log10_beta") or []):
         if _is_quantity(q):
             j = q.get("j", k + 1)
-            rows.append(
-                _quantity_row(
-                    f"log10_beta[{k}]", f"log10 β{j} (overall)", q, 1.0, "", q.get("method")
-                )
-            )
+            label = f"log10 β{j} (overall)"
+            if q.get("determined") is False:
+                label += " — not determined by these data"
+            rows.append(_quantity_row(f"log10_beta[{k}]", label, q, 1.0, "", q.get("method")))
     if not rows:
         return "<p>No constants were fitted; the series flags below say why.</p>"
     n, dof = fit.get("n_points"), fit.get("dof")
@@ -147,10 +147,14 @@ def _constants(fit: Mapping[str, Any]) -> str:
     how = "weighted by the per-file E½ errors" if weighted else "unweighted"
     if weighted is None:
         how = ""
+    units = (
+        "βj in (mol/L)^−j, [L] in mol/L."
+        if fit.get("log10_beta")
+        else "βox/βred in (mol/L)^−(p−q), [L] in mol/L."
+    )
     head = (
         f"<p>Model <b>{_e(fit.get('model', ''))}</b>, fitted to {_e(n)} points "
-        f"({_e(dof)} degrees of freedom{', ' + how if how else ''}). β in (mol/L)^−(p−q), "
-        "[L] in mol/L.</p>"
+        f"({_e(dof)} degrees of freedom{', ' + how if how else ''}). {units}</p>"
     )
     return (
         head + '<div class="scroll"><table class="constants"><thead><tr><th>constant</th>'
