@@ -83,7 +83,8 @@ def run_stepwise(
     Raises
     ------
     InputError
-        ligand_pKa given without a pH for some fitted file.
+        ligand_pKa given without a pH for some fitted file, or a bound_ligand_number that
+        leaves no free ligand.
     """
     series, fit_settings = manifest.series, manifest.fit
     entries = {e.name: e for e in manifest.voltammograms}
@@ -96,6 +97,16 @@ def run_stepwise(
                 "[[voltammogram]] table",
                 source=str(manifest.path),
                 key="series.pH",
+            )
+    n_bound, metal = series.bound_ligand_number, series.metal_total_M
+    for f in used:
+        if n_bound is not None and f.ligand_M - n_bound * metal <= 0:
+            raise InputError(
+                f"bound_ligand_number × metal_total_M ({n_bound * metal:.3g} M) is not below "
+                f"the total ligand of {f.file} ({f.ligand_M:.3g} M); check the two values or "
+                "leave bound_ligand_number out to solve the mass balance",
+                source=str(manifest.path),
+                key="series.bound_ligand_number",
             )
     flags: list[Flag] = []
     ratios: list[float | None] = [None] * len(used)

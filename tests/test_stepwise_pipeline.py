@@ -14,11 +14,11 @@ from pathlib import Path
 import jsonschema
 import numpy as np
 import pytest
+from seriesfactory import write_manifest
 
 from cvfit._sim_series import simulate_series
 from cvfit.cli import main
 from cvfit.speciation import ligand_fraction_unprotonated, mean_ligand_number
-from seriesfactory import write_manifest
 
 TRUTH = (2.0, 3.7, 4.9)
 METAL_M = 1.0e-3
@@ -144,3 +144,34 @@ def test_fixed_constants_of_both_states_are_refused(tmp_path, capsys):
     manifest = write_manifest(tmp_path / "m.toml", entries, series={"electrons": 1}, fit=fit)
     assert main(["run", str(manifest), "--out", str(tmp_path / "o"), "--quiet"]) == 2
     assert "fixed_log10_beta" in capsys.readouterr().err
+
+
+def test_bound_ligand_number_leaving_no_free_ligand_is_an_input_error(tmp_path, capsys):
+    simulate_series(
+        tmp_path,
+        ligand_M=[0.0, 0.01, 0.1, 0.3],
+        E_half_free_V=0.0,
+        log10_beta_ox=TRUTH,
+        log10_beta_red=(),
+        seed=1,
+        start_V=0.45,
+        switch_V=-0.55,
+    )
+    levels = [0, 0.001, 0.1, 0.3]
+    entries = [{"file": f"titr_{k:02d}.csv", "ligand_M": c} for k, c in enumerate(levels)]
+    series = {"electrons": 1, "metal_total_M": 1e-3, "bound_ligand_number": 2}
+    manifest = write_manifest(
+        tmp_path / "m.toml", entries, series=series, fit={"model": "stepwise"}
+    )
+    assert main(["run", str(manifest), "--out", str(tmp_path / "o"), "--quiet"]) == 2
+    assert "bound_ligand_number" in capsys.readouterr().err
+
+
+def test_null_stepwise_record_follows_the_schema():
+    from cvfit._stepwise_result import null_stepwise_dict
+    from cvfit.flags import Flag
+
+    schema = json.loads((SCHEMAS / "results.schema.json").read_text(encoding="utf-8"))
+    sub = {"$defs": schema["$defs"], "$ref": "#/$defs/stepwise_fit"}
+    record = null_stepwise_dict(2, [Flag("TOO_FEW_POINTS", "two points", "error")])
+    jsonschema.Draft202012Validator(sub).validate(record)
