@@ -150,6 +150,7 @@ def diagnose_files(
                 where = f"scan-rate study at ligand_M = {st.ligand_M:g} M: "
                 series_flags.append(Flag(fl.code, where + fl.message, fl.severity))
     D_manifest = _manifest_D(series)
+    any_D = next((st for st in studies if st.D_cm2_s is not None and not st.delta_Ep_grows), None)
     for k, f in enumerate(out):
         extra: list[Flag] = []
         st = study_of.get(k)
@@ -157,6 +158,17 @@ def diagnose_files(
         if D is None and st is not None and st.D_cm2_s is not None and not st.delta_Ep_grows:
             D, source = st.D_cm2_s, "scan-rate study"
         ip = _forward_ip(f.peaks)
+        if D is None and f.reversible is not True and any_D is not None:
+            # a slow peak's current gives a low D: the series' study is the better estimate
+            D, source = any_D.D_cm2_s, f"scan-rate study at ligand_M = {any_D.ligand_M:g} M"
+            extra.append(
+                Flag(
+                    "D_FROM_OTHER_SOLUTION",
+                    f"k0 uses D from the scan-rate study at ligand_M = {any_D.ligand_M:g} M; "
+                    "complexation may change D (give diffusion_cm2_s to override)",
+                    "info",
+                )
+            )
         if D is None and area is not None and conc is not None and ip and f.scan_rate_V_s:
             D = diffusion_from_peak_current(
                 ip,

@@ -187,7 +187,10 @@ def test_scan_rate_study_gives_D_and_k0_in_results(tmp_path):
     assert st.D_cm2_s.value == pytest.approx(D, rel=0.03)  # Randles–Ševčík slope
     assert not st.delta_Ep_grows
     slow = result.files[len(LIGAND_M) - 1]
-    assert slow.kinetics.D_source == "scan-rate study" or slow.kinetics.D_source == "peak current"
+    assert slow.kinetics.D_source.startswith("scan-rate study")
+    assert "D_FROM_OTHER_SOLUTION" in {fl.code for fl in slow.flags}
+    # k0 = 0.002 cm/s simulated (ψ ≈ 0.18): recovered within 15 %
+    assert slow.kinetics.k0_cm_s.value == pytest.approx(0.002, rel=0.15)
     data = json.loads(results_to_json(result))
     validate(data, "results.schema.json")
     assert data["scan_rate_studies"][0]["D_cm2_s"]["value"] == pytest.approx(D, rel=0.03)
@@ -254,3 +257,22 @@ def test_bad_electrode_keys_are_input_errors(tmp_path, key, value):
     with pytest.raises(InputError, match=key):
         load_manifest(manifest)
     assert main(["run", str(manifest), "--quiet"]) == 2
+
+
+def test_cli_writes_diagnostics_figure_and_summary_shows_class_and_k0(tmp_path, capsys):
+    from cvfit.report import OUTPUT_NAMES
+
+    manifest = _series(tmp_path, slow_at=(0.3,), series_extra={"diffusion_cm2_s": D})
+    out = tmp_path / "out"
+    assert main(["run", str(manifest), "--out", str(out)]) == 0
+    assert OUTPUT_NAMES["diagnostics_figure"] == "diagnostics.png"
+    png = out / "diagnostics.png"
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and png.stat().st_size > 10_000
+    text = capsys.readouterr().out
+    assert "quasi-reversible" in text and "k0 = (" in text and "D: manifest" in text
+    assert "k0 not determinable (ψ > 20)" in text
+    data = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    validate(data, "results.schema.json")
+    kin = data["voltammograms"][-1]["kinetics"]
+    assert kin["D_source"] == "manifest" and kin["method"] == "nicholson-table"
+    assert kin["k0_cm_s"]["value"] == pytest.approx(0.002, rel=0.15)

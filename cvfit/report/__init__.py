@@ -24,6 +24,7 @@ OUTPUT_NAMES = {
     "table": "voltammograms.csv",
     "voltammograms_figure": "voltammograms.png",
     "lingane_figure": "half_wave_shift.png",
+    "diagnostics_figure": "diagnostics.png",
     "html_report": "report.html",
 }
 
@@ -31,6 +32,7 @@ OUTPUT_NAMES = {
 def write_outputs(result: SeriesResult, out_dir: str | Path) -> dict[str, Path]:
     """Write every output of *result* into *out_dir* (created if needed)."""
     from .figures import plot_lingane, plot_voltammograms
+    from .figures_diagnostics import plot_diagnostics
 
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
@@ -39,6 +41,7 @@ def write_outputs(result: SeriesResult, out_dir: str | Path) -> dict[str, Path]:
         "voltammograms_figure": plot_voltammograms(
             result, out / OUTPUT_NAMES["voltammograms_figure"]
         ),
+        "diagnostics_figure": plot_diagnostics(result, out / OUTPUT_NAMES["diagnostics_figure"]),
     }
     if result.series.get("model") == "stepwise":
         from .figures_stepwise import write_stepwise_figures

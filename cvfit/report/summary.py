@@ -55,6 +55,9 @@ def format_summary(result: SeriesResult) -> str:
             f"{'yes' if f.used_in_fit else '-':>4}"
         )
     lines.append("")
+    from .summary_kinetics import kinetics_lines
+
+    lines.extend(kinetics_lines(result))
     fit = result.fit
     if fit is None:
         lines.append("No constants: see the series flags below.")

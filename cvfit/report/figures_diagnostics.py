@@ -1,0 +1,140 @@
+"""Diagnostics figure: ΔEp and the current ratio of every file against the Nernstian band.
+
+Top panel: n·ΔEp of each voltammogram with the band the screen allows (Nernstian n·ΔEp for
+that file's switch, Nicholson & Shain 1964, plus/minus the manifest's margin scaled with
+T/298.15 K). Bottom panel: the reverse/forward current ratio (Nicholson 1966) with the band
+1 ± margin. Marker shape gives the class of the electron transfer; open markers were left
+out of the fit.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+import numpy as np  # noqa: E402
+
+from ..results import SeriesResult  # noqa: E402
+from .figures import _STYLE, _save  # noqa: E402
+
+__all__ = ["plot_diagnostics"]
+
+_MARKERS = {
+    "reversible": ("o", "#1f4e79"),
+    "quasi-reversible": ("s", "#b35900"),
+    "irreversible": ("v", "#7a1f1f"),
+    "not determinable": ("x", "0.35"),
+}
+
+
+def _kind(f) -> str:
+    return "not determinable" if f.classification is None else f.classification.kind
+
+
+def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
+    """Write the diagnostics figure of *result* to *path* (PNG)."""
+    path = Path(path)
+    n = int(result.series["electrons"])
+    scale = float(result.series["temperature_K"]) / 298.15
+    crit = result.criteria
+    margin_mV = 1e3 * crit.get("n_delta_Ep_margin_V", 0.010) * scale
+    ratio_margin = crit.get("current_ratio_margin", 0.15)
+    files = list(result.files)
+    x = np.arange(len(files))
+    with plt.rc_context(_STYLE):
+        fig, (ax, axr) = plt.subplots(
+            2,
+            1,
+            figsize=(max(6.0, 0.45 * len(files) + 2), 5.4),
+            sharex=True,
+            gridspec_kw={"height_ratios": [3, 2]},
+        )
+        exp = np.array(
+            [
+                np.nan
+                if f.screen.expected_delta_Ep_V is None
+                else 1e3 * n * f.screen.expected_delta_Ep_V
+                for f in files
+            ]
+        )
+        ok = np.isfinite(exp)
+        if np.any(ok):
+            ax.fill_between(
+                x,
+                exp - margin_mV,
+                exp + margin_mV,
+                where=ok,
+                step="mid",
+                color="#1f4e79",
+                alpha=0.13,
+                lw=0,
+                label=f"Nernstian n·ΔEp ± {margin_mV:.1f} mV",
+            )
+            ax.step(x, exp, where="mid", color="#1f4e79", lw=0.8, alpha=0.6)
+        axr.axhspan(
+            1 - ratio_margin,
+            1 + ratio_margin,
+            color="#1f4e79",
+            alpha=0.13,
+            lw=0,
+            label=f"1 ± {ratio_margin:g}",
+        )
+        axr.axhline(1.0, color="#1f4e79", lw=0.8, alpha=0.6)
+        seen: set[str] = set()
+        for k, f in enumerate(files):
+            marker, colour = _MARKERS[_kind(f)]
+            face = colour if f.used_in_fit else "none"
+            label = _kind(f) if _kind(f) not in seen else None
+            seen.add(_kind(f))
+            dEp = f.peaks.delta_Ep_V
+            if dEp is not None:
+                ax.plot(
+                    k,
+                    1e3 * n * dEp,
+                    marker=marker,
+                    color=colour,
+                    mfc=face,
+                    ms=6,
+                    ls="none",
+                    label=label,
+                )
+            else:
+                ax.annotate(
+                    "no ΔEp",
+                    (k, np.nanmean(exp) if np.any(ok) else 60.0),
+                    ha="center",
+                    fontsize=7,
+                    color=colour,
+                )
+            if f.peaks.current_ratio is not None:
+                axr.plot(
+                    k,
+                    f.peaks.current_ratio,
+                    marker=marker,
+                    color=colour,
+                    mfc=face,
+                    ms=6,
+                    ls="none",
+                )
+        ax.set_ylabel("n·ΔEp / mV")
+        axr.set_ylabel("ipa/ipc (Nicholson)")
+        axr.set_xticks(x)
+        axr.set_xticklabels(
+            [
+                f"{f.ligand_M:.3g} M" + (f"\n{f.scan_rate_V_s:.3g} V/s" if f.scan_rate_V_s else "")
+                for f in files
+            ],
+            rotation=60,
+            ha="right",
+            fontsize=7,
+        )
+        axr.set_xlabel("voltammogram (total ligand, scan rate); open markers: not fitted")
+        ax.legend(loc="best", frameon=False, fontsize=7)
+        axr.legend(loc="best", frameon=False, fontsize=7)
+        ax.set_title(
+            (result.series.get("title") or "") + " — reversibility diagnostics", fontsize=9
+        )
+        return _save(fig, path)
