@@ -1,0 +1,211 @@
+"""Speed of a whole series: cvfit (import, peaks, screen, fit, figures, report) vs pandas.
+
+Run: ``.venv/bin/python benchmarks/bench_series.py [--sizes 10,50,200] [--with-1000]
+[--jobs 1,2] [--cache DIR] [--profile N]``.
+
+Simulates 200 distinct 20 000-point voltammograms of a titration once (into ``--cache``,
+reused by later runs), builds series of 10, 50, 200 (and, with ``--with-1000``, 1 000 —
+the 200 files copied five times) files, and times in this one process
+
+* the baseline: ``pandas.read_csv`` of every file of the series;
+* cvfit: ``analyse_series(load_manifest(...))`` plus ``write_outputs`` (table, both figures,
+  report.html, results.json), with 1 and 2 worker processes importing the files
+  (``cvfit run --jobs N``).
+
+Every file is read once before timing so both sides find it in the page cache. Prints a
+table of times and the ratio cvfit/pandas (goal for 200 files: at most 1.5). No
+assertions: numbers depend on the machine and its load.
+"""
+
+from __future__ import annotations
+
+import argparse
+import cProfile
+import pstats
+import shutil
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from cvfit.complexation import complexed_half_wave_V
+from cvfit.io import load_manifest
+from cvfit.io.parallel import read_series_records
+from cvfit.pipeline import analyse_series
+from cvfit.report import write_outputs
+from cvfit.simulate import simulate_cv
+
+N_UNIQUE = 200
+POINTS_STEP_V = 0.0001  # 0.25 → −0.75 V and back at 0.1 mV: 20 001 points
+LOG_BETA_OX = (-20.0, 11.0)  # invented: ML2 over the range, ML for the reduced state
+LOG_BETA_RED = (5.0,)
+
+
+def _ligand_levels(n: int) -> np.ndarray:
+    return np.concatenate([[0.0], np.geomspace(0.005, 0.3, n - 1)])
+
+
+def make_unique_files(folder: Path) -> list[tuple[str, float]]:
+    """Simulate and write the 200 distinct files once; returns (name, ligand_M)."""
+    folder.mkdir(parents=True, exist_ok=True)
+    out = []
+    for k, ligand in enumerate(_ligand_levels(N_UNIQUE)):
+        name = f"cv_{k:04d}.csv"
+        out.append((name, float(ligand)))
+        path = folder / name
+        if path.exists():
+            continue
+        e_half = float(
+            complexed_half_wave_V(
+                0.0,
+                ligand_M=ligand,
+                log10_beta_ox=LOG_BETA_OX,
+                log10_beta_red=LOG_BETA_RED,
+                electrons=1,
+            )
+        )
+        v = simulate_cv(
+            E_half_V=e_half,
+            start_V=0.25,
+            switch_V=-0.75,
+            step_V=POINTS_STEP_V,
+            scan_rate_V_s=0.1,
+            double_layer_F=5e-6,
+            background_slope_A_per_V=2e-6,
+            noise_fraction=0.005,
+            seed=k,
+        )
+        block = np.column_stack([v.time_s, v.potential_V, v.current_A])
+        tmp = path.with_suffix(".part")
+        np.savetxt(
+            tmp,
+            block,
+            delimiter=",",
+            header="time_s,potential_V,current_A",
+            comments="",
+            fmt="%.10g",
+        )
+        tmp.replace(path)
+    return out
+
+
+def make_series(root: Path, unique: Path, files: list[tuple[str, float]], n: int) -> Path:
+    """A folder with an *n*-file series (copies of the distinct files beyond 200)."""
+    folder = root / f"series_{n}"
+    folder.mkdir(parents=True, exist_ok=True)
+    lines = ["[series]", f'title = "benchmark, {n} files"', "electrons = 1", ""]
+    picks = [files[k % len(files)] for k in range(n)]
+    if n < len(files):  # spread the subset over the whole titration
+        idx = np.unique(np.linspace(0, len(files) - 1, n).round().astype(int))
+        picks = [files[k] for k in idx]
+    for k, (name, ligand) in enumerate(picks):
+        target = f"f{k:04d}_{name}"
+        if not (folder / target).exists():
+            shutil.copyfile(unique / name, folder / target)
+        lines += [
+            "[[voltammogram]]",
+            f'file = "{target}"',
+            f"ligand_M = {ligand!r}",
+            "scan_rate_V_s = 0.1",
+            "",
+        ]
+    (folder / "series.toml").write_text("\n".join(lines), encoding="utf-8")
+    return folder / "series.toml"
+
+
+def time_pandas(manifest: Path) -> float:
+    paths = [e.file for e in load_manifest(manifest).voltammograms]
+    t0 = time.perf_counter()
+    for p in paths:
+        pd.read_csv(p)
+    return time.perf_counter() - t0
+
+
+def time_cvfit(manifest: Path, out: Path, jobs: int) -> tuple[float, float]:
+    """(analysis, outputs) seconds."""
+    t0 = time.perf_counter()
+    m = load_manifest(manifest)
+    records = read_series_records(m, jobs=jobs) if jobs > 1 else None
+    result = analyse_series(m, records=records)
+    t1 = time.perf_counter()
+    write_outputs(result, out)
+    return t1 - t0, time.perf_counter() - t1
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--sizes", default="10,50,200")
+    ap.add_argument("--with-1000", action="store_true", help="add the 1 000-file series")
+    ap.add_argument("--jobs", default="1,2", help="worker processes to try, e.g. 1,2")
+    ap.add_argument("--cache", default=str(Path(tempfile.gettempdir()) / "cvfit_bench_cv"))
+    ap.add_argument(
+        "--profile",
+        type=int,
+        default=0,
+        metavar="N",
+        help="profile the N-file series with 1 job and print the top entries",
+    )
+    args = ap.parse_args()
+    sizes = [int(s) for s in args.sizes.split(",") if s]
+    if args.with_1000:
+        sizes.append(1000)
+    jobs_list = [int(j) for j in args.jobs.split(",") if j]
+    cache = Path(args.cache)
+    # steady state on both sides: the libraries are imported before anything is timed
+    import matplotlib.pyplot  # noqa: F401
+
+    import cvfit.report.figures  # noqa: F401
+
+    t0 = time.perf_counter()
+    files = make_unique_files(cache / "unique")
+    print(
+        f"{N_UNIQUE} distinct voltammograms ready in {time.perf_counter() - t0:.1f} s "
+        f"({cache / 'unique'})"
+    )
+    with tempfile.TemporaryDirectory() as tmp:
+        root = Path(tmp)
+        if args.profile:
+            m = make_series(cache, cache / "unique", files, args.profile)
+            for e in load_manifest(m).voltammograms:
+                e.file.read_bytes()
+            prof = cProfile.Profile()
+            prof.enable()
+            time_cvfit(m, root / "profile_out", 1)
+            prof.disable()
+            pstats.Stats(prof).sort_stats("cumulative").print_stats(30)
+            return
+        rows = []
+        for n in sizes:
+            m = make_series(cache, cache / "unique", files, n)
+            for e in load_manifest(m).voltammograms:  # warm the page cache
+                e.file.read_bytes()
+            base = min(time_pandas(m) for _ in range(2))
+            for jobs in jobs_list:
+                repeats = 2 if n <= 200 else 1  # best of two: the machine is shared
+                analysis, outputs = min(
+                    (time_cvfit(m, root / f"out_{n}_{jobs}", jobs) for _ in range(repeats)),
+                    key=sum,
+                )
+                total = analysis + outputs
+                rows.append((n, jobs, base, analysis, outputs, total, total / base))
+                print(
+                    f"  {n:5d} files, {jobs} job(s): pandas {base:7.2f} s, cvfit {total:7.2f} s",
+                    flush=True,
+                )
+    print()
+    print(
+        f"{'files':>6} {'jobs':>4} {'pandas s':>9} {'analysis s':>10} {'outputs s':>9} "
+        f"{'cvfit s':>8} {'ms/file':>8} {'cvfit/pandas':>12}"
+    )
+    for n, jobs, base, analysis, outputs, total, ratio in rows:
+        print(
+            f"{n:6d} {jobs:4d} {base:9.2f} {analysis:10.2f} {outputs:9.2f} {total:8.2f} "
+            f"{total / n * 1e3:8.1f} {ratio:12.2f}"
+        )
+    print("\ngoal: cvfit/pandas <= 1.5 for the 200-file series (figures included)")
+
+
+if __name__ == "__main__":
+    main()
