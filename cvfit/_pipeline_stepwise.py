@@ -72,7 +72,18 @@ def current_ratios(
             )
         )
     s = float(np.mean(Is))
-    return [math.log(s / x) for x in Ic], flags
+    ratios = [math.log(s / x) for x in Ic]
+    flags.append(
+        Flag(
+            "CURRENT_RATIO_APPLIED",
+            f"ln(Is/Ic) from the reduction peak currents, {min(ratios):+.3f} to "
+            f"{max(ratios):+.3f}, added to the shift (DeFord–Hume); this assumes the same "
+            "metal concentration in every solution — correct for dilution first, or set "
+            "current_ratio_correction = false",
+            "info",
+        )
+    )
+    return ratios, flags
 
 
 def run_stepwise(

@@ -175,3 +175,41 @@ def test_null_stepwise_record_follows_the_schema():
     sub = {"$defs": schema["$defs"], "$ref": "#/$defs/stepwise_fit"}
     record = null_stepwise_dict(2, [Flag("TOO_FEW_POINTS", "two points", "error")])
     jsonschema.Draft202012Validator(sub).validate(record)
+
+
+def test_current_ratio_term_corrects_slower_diffusing_complexes(tmp_path):
+    """DeFord & Hume (1951): F0 = exp{(nF/RT)[E½(s) − E½(c)] + ln(Is/Ic)}.
+
+    The complexes diffuse at half the free ion's D, which shifts E½ by (RT/2nF) ln(Ds/Dc)
+    at full complexation (Lingane 1941); the peak-current ratio must take that out.
+    """
+    from cvfit.pipeline import analyse_manifest_file
+
+    free = [0.0, *np.logspace(-3.3, -0.3, 9)]
+    simulate_series(
+        tmp_path,
+        ligand_M=free,
+        E_half_free_V=0.0,
+        log10_beta_ox=TRUTH,
+        log10_beta_red=(),
+        noise_fraction=0.002,
+        seed=8,
+        start_V=0.45,
+        switch_V=-0.55,
+        D_ox_complexed_cm2_s=0.5e-5,
+        D_ox_cm2_s=1.0e-5,
+    )
+    entries = [
+        {"file": f"titr_{k:02d}.csv", "ligand_M": float(c), "scan_rate_V_s": 0.1}
+        for k, c in enumerate(free)
+    ]
+    got = {}
+    for corr in (True, False):
+        fit = {"model": "stepwise", "max_complexes": 4, "current_ratio_correction": corr}
+        m = write_manifest(tmp_path / f"m_{corr}.toml", entries, series={"electrons": 1}, fit=fit)
+        got[corr] = analyse_manifest_file(m).fit
+    assert any(f.code == "CURRENT_RATIO_APPLIED" for f in got[True].flags)
+    with_term = np.array(got[True].log10_beta_values)
+    assert got[True].n_complexes == 3 and np.all(np.abs(with_term - TRUTH) < 0.05), with_term
+    # Without the term the top constant is biased by about log10(√2) = 0.15.
+    assert abs(got[False].log10_beta_values[-1] - TRUTH[-1]) > 0.08
