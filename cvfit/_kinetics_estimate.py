@@ -25,6 +25,14 @@ from .units import STANDARD_TEMPERATURE_K
 
 __all__ = ["estimate_kinetics", "diffusion_from_peak_current"]
 
+#: Relative SD of ψ for the method itself, in quadrature with the ΔEp term. Table: ψ from
+#: noise-free simulated CVs deviates from the simulated truth by up to ~5 % for ψ = 0.2–5
+#: (interpolation between entries, the table recalled from memory); Lavagnini: its ~7 %
+#: agreement with the table; Klingler–Kochi: its ~10 % mismatch with the table at 212 mV.
+TABLE_REL_SD = 0.03
+LAVAGNINI_REL_SD = 0.07
+KK_REL_SD = 0.10
+
 
 def diffusion_from_peak_current(
     ip_A: float,
@@ -221,7 +229,10 @@ def estimate_kinetics(
                         "info",
                     )
                 )
-        rel = abs(_dlogpsi_dx_per_mV(x25)) * sd_X_mV
+        rel = math.hypot(
+            abs(_dlogpsi_dx_per_mV(x25)) * sd_X_mV,
+            LAVAGNINI_REL_SD if used == "lavagnini" else TABLE_REL_SD,
+        )
         open_top = x25 - 1.96 * sd_X_mV < TABLE_RANGE_MV[0]
         note = f"table range n·ΔEp = 61–212 mV (ψ = 20–0.1); {note_x}"
         if used == "lavagnini":
@@ -238,7 +249,7 @@ def estimate_kinetics(
         used = "klingler-kochi"
         # ψ = k0/(π D n f v)^½ with Klingler–Kochi's k0: D cancels.
         psi = 2.18 * math.sqrt(alpha / math.pi) * math.exp(-(alpha**2) * _f(temperature_K) * X)
-        rel = alpha**2 * _f(STANDARD_TEMPERATURE_K) * sd_X_mV * 1e-3
+        rel = math.hypot(alpha**2 * _f(STANDARD_TEMPERATURE_K) * sd_X_mV * 1e-3, KK_REL_SD)
         open_top = False
         note = f"Klingler–Kochi, for n·ΔEp beyond the table's 212 mV; {note_x}"
     psi_q = _lognormal(psi, rel, "log-normal from σ(ΔEp)", upper_open=open_top)

@@ -239,3 +239,14 @@ def test_reversible_simulation_passes_at_other_temperatures(n, T):
     assert screen.reversible is True, [f.message for f in screen.flags]
     assert n * peaks.delta_Ep_V == pytest.approx(0.0575 * T / 298.15, abs=1.5e-3)
     assert abs(peaks.E_half_V - 0.1) < 0.5e-3
+
+
+@pytest.mark.parametrize("n", [1, 2])
+@pytest.mark.parametrize("n_offset_V", [0.18, 0.25, 0.35])
+def test_nicholson_ratio_near_one_for_various_switches(n, n_offset_V):
+    # Nicholson, Anal. Chem. 38 (1966) 1406 (from memory): 1.00 ± 0.02 on reversible CVs
+    for seed, first in ((21, "reduction"), (22, "oxidation")):
+        p = analyse_peaks(
+            _sim(n, noise=0.002, seed=seed, first=first, switch_off=n_offset_V), electrons=n
+        )
+        assert p.current_ratio == pytest.approx(1.0, abs=0.02), (first, p.current_ratio)

@@ -111,6 +111,8 @@ def test_k0_recovered_within_15_percent(n, psi):
         assert r.method == "nicholson-table"
         err = r.k0_cm_s.value / _k0(psi, n) - 1
         assert abs(err) < 0.15, (switch, err)
+        # the stated uncertainty covers the error (within 3 SD)
+        assert abs(math.log1p(err)) < 3 * r.k0_cm_s.stderr / r.k0_cm_s.value, (switch, err)
         lo, hi = r.k0_cm_s.ci95
         assert lo < r.k0_cm_s.value < hi and r.k0_cm_s.stderr > 0
 
