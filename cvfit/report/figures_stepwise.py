@@ -110,7 +110,7 @@ def _leden(result: SeriesResult, path: Path) -> Path:
             ax.set_ylabel(f"F{j}{unit}")
             lo, hi = np.nanmin(model[j]), np.nanmax(model[j])
             pad = 0.25 * (hi - lo) if hi > lo else abs(hi) * 0.5 + 1.0
-            ax.set_ylim(lo - pad, hi + pad)
+            ax.set_ylim(0.0 if j == 0 else lo - pad, hi + pad)  # F0 >= 1 by definition
         fig.suptitle("Leden functions: points from E½, curves from the fitted β_j", fontsize=9)
         return _save(fig, path)
 
