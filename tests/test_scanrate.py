@@ -155,3 +155,11 @@ def test_groups_and_working_curve():
     assert np.allclose(working_curve_n_delta_Ep_V(psi) * 1e3, [x for _, x in PSI_TABLE])
     tail = working_curve_n_delta_Ep_V(np.array([1e3, 0.05, 0.01]))
     assert 0.0592 < tail[0] < 0.0593 and tail[1] > 0.212 and tail[2] > tail[1]
+
+
+def test_no_false_trend_on_reversible_studies():
+    # a Nernstian ΔEp does not move with v (Nicholson & Shain 1964): 30 studies, noise 0.2–1 %
+    studies = [
+        _study(n=1 + s % 2, seed=200 + s, noise=(0.002, 0.005, 0.01)[s % 3])[1] for s in range(30)
+    ]
+    assert sum(st.delta_Ep_grows for st in studies) == 0
