@@ -86,6 +86,7 @@ def _point(f: FileResult, n: int) -> ScanRatePoint:
         p.E_half_V,
         p.E_half_stderr_V,
         s.reversible,
+        p.Epc_V if p.first_sweep == "reduction" else p.Epa_V,
     )
 
 

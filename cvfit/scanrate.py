@@ -75,6 +75,7 @@ class ScanRatePoint:
     E_half_V: float | None
     E_half_stderr_V: float | None
     reversible: bool | None = None
+    Ep_forward_V: float | None = None
 
     def __post_init__(self) -> None:
         v = float(self.scan_rate_V_s)
@@ -111,6 +112,11 @@ class ScanRateStudy:
     chi2_ir, chi2_kinetics : float or None
         χ² of the two models of the excess ΔEp.
     flags : tuple of Flag
+    Ep_slope_V_per_decade : Quantity or None
+        Slope of the forward peak potential against log10 v, V per decade.
+    alpha_n : Quantity or None
+        αn from that slope, 29.6 mV·(T/298.15 K)/|slope| (Matsuda & Ayabe; from memory),
+        given only when no file of the study has a reverse peak (irreversible couple).
     """
 
     ligand_M: float
@@ -127,6 +133,8 @@ class ScanRateStudy:
     chi2_ir: float | None
     chi2_kinetics: float | None
     flags: tuple[Flag, ...] = ()
+    Ep_slope_V_per_decade: Quantity | None = None
+    alpha_n: Quantity | None = None
 
     def __post_init__(self) -> None:
         if self.excess_cause not in ("none", "ir-drop", "slow-kinetics", "undecided"):
@@ -158,6 +166,8 @@ class ScanRateStudy:
             "ir_resistance_ohm": q(self.ir_resistance_ohm),
             "chi2_ir": num(self.chi2_ir),
             "chi2_kinetics": num(self.chi2_kinetics),
+            "Ep_slope_V_per_decade": q(self.Ep_slope_V_per_decade),
+            "alpha_n": q(self.alpha_n),
             "flags": [f.to_dict() for f in self.flags],
         }
 
@@ -393,6 +403,24 @@ def analyse_scan_rate_study(
     if len(eh) >= MIN_SCAN_RATES:
         v = np.array([p.scan_rate_V_s for p in eh])
         E_slope, _ = _line(np.log10(v), np.array([p.E_half_V for p in eh]))
+    Ep_slope = alpha_n = None
+    ep = [p for p in pts if p.Ep_forward_V is not None]
+    if len(ep) >= MIN_SCAN_RATES:
+        v = np.array([p.scan_rate_V_s for p in ep])
+        Ep_slope, _ = _line(np.log10(v), np.array([p.Ep_forward_V for p in ep]))
+        if not exc and abs(Ep_slope.value) > 3 * Ep_slope.stderr:
+            # totally irreversible: Ep moves 29.6/(αn) mV per decade at 25 °C (Matsuda &
+            # Ayabe 1955; Nicholson & Shain 1964; from memory) = ln10·RT/(2αnF)
+            per_decade = math.log(10) * GAS_CONSTANT * temperature_K / (2 * FARADAY)
+            an = per_decade / abs(Ep_slope.value)
+            rel = Ep_slope.stderr / abs(Ep_slope.value)
+            lo, hi = Ep_slope.ci95
+            ci = (
+                sorted(per_decade / max(abs(x), 1e-12) for x in (lo, hi))
+                if lo * hi > 0
+                else (an * (1 - 1.96 * rel), math.inf)
+            )
+            alpha_n = Quantity(an, an * rel, tuple(ci), f"from the Ep slope, {Ep_slope.method}")
     return ScanRateStudy(
         ligand_M=float(ligand_M),
         files=tuple(p.file for p in pts),
@@ -408,4 +436,6 @@ def analyse_scan_rate_study(
         chi2_ir=chi_ir,
         chi2_kinetics=chi_kin,
         flags=tuple(flags),
+        Ep_slope_V_per_decade=Ep_slope,
+        alpha_n=alpha_n,
     )

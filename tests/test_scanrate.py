@@ -163,3 +163,31 @@ def test_no_false_trend_on_reversible_studies():
         _study(n=1 + s % 2, seed=200 + s, noise=(0.002, 0.005, 0.01)[s % 3])[1] for s in range(30)
     ]
     assert sum(st.delta_Ep_grows for st in studies) == 0
+
+
+def test_irreversible_study_gives_alpha_n_from_the_peak_shift():
+    # Matsuda & Ayabe 1955; Nicholson & Shain 1964 (from memory): Ep moves 29.6/(αn) mV per
+    # decade of v for a totally irreversible wave
+    pts = []
+    for j, v in enumerate(RATES):
+        vg = simulate_cv(
+            E_half_V=0.0,
+            start_V=0.3,
+            switch_V=-0.8,
+            scan_rate_V_s=v,
+            k0_cm_s=1e-5,
+            alpha=0.5,
+            noise_fraction=0.003,
+            seed=50 + j,
+        )
+        p = analyse_peaks(vg)
+        assert p.Epa_V is None  # no reverse peak inside the window
+        pts.append(
+            ScanRatePoint(f"v{j}", v, p.ipc_A, p.noise_A, None, None, None, None, None, p.Epc_V)
+        )
+    st = analyse_scan_rate_study(pts, ligand_M=0.0, electrons=1, temperature_K=T)
+    assert st.Ep_slope_V_per_decade.value == pytest.approx(-0.0592, rel=0.1)
+    assert st.alpha_n.value == pytest.approx(0.5, rel=0.1)
+    lo, hi = st.alpha_n.ci95
+    assert lo < st.alpha_n.value < hi
+    assert st.to_dict()["alpha_n"]["value"] == pytest.approx(st.alpha_n.value)

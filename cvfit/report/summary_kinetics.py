@@ -59,6 +59,8 @@ def kinetics_lines(result: SeriesResult) -> list[str]:
         if st.delta_Ep_slope_V_per_decade is not None:
             q = st.delta_Ep_slope_V_per_decade
             text += f"; n·ΔEp excess {1e3 * q.value:.1f} ± {1e3 * q.stderr:.1f} mV/decade"
+        if st.alpha_n is not None:
+            text += f"; no reverse peaks, αn = {st.alpha_n.value:.2f} ± {st.alpha_n.stderr:.2f}"
         text += "; ΔEp grows with v" if st.delta_Ep_grows else "; ΔEp steady"
         if st.excess_cause not in ("none",):
             text += f" (cause: {st.excess_cause})"
