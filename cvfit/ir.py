@@ -9,8 +9,8 @@ potential then lags and the diffusion layer has grown under a distorted waveform
 
 References
 ----------
-Bard, A. J.; Faulkner, L. R. Electrochemical Methods, 2nd ed. (2001), section 1.3.4
-(uncompensated resistance; common practice).
+Bard, A. J.; Faulkner, L. R. Electrochemical Methods, 2nd ed. (2001), on uncompensated
+resistance (from memory; the correction E − i·R_u itself is common practice).
 """
 
 from __future__ import annotations
