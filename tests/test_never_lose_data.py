@@ -48,9 +48,26 @@ def series(tmp_path_factory):
     return manifest, {n: (ref / n).read_bytes() for n in OUTPUT_NAMES.values()}
 
 
+# The run is started through a small driver that slows every rename into place by
+# RENAME_PAUSE_S, so the writing phase lasts long enough for the kills below to land inside
+# it on any machine (the production code is unchanged; only os.replace is wrapped).
+RENAME_PAUSE_S = 0.12
+_DRIVER = f"""
+import sys, time
+import cvfit.report._atomic as atomic
+_replace = atomic.os.replace
+def slow_replace(a, b):
+    time.sleep({RENAME_PAUSE_S})
+    _replace(a, b)
+atomic.os.replace = slow_replace
+from cvfit.cli import main
+sys.exit(main(sys.argv[1:]))
+"""
+
+
 def _start(manifest: Path, out: Path) -> subprocess.Popen:
     return subprocess.Popen(
-        [sys.executable, "-m", "cvfit", "run", str(manifest), "--out", str(out), "--quiet"],
+        [sys.executable, "-c", _DRIVER, "run", str(manifest), "--out", str(out), "--quiet"],
         stdout=subprocess.DEVNULL,
         stderr=subprocess.PIPE,
         cwd=manifest.parent,
