@@ -26,7 +26,7 @@ from .errors import InputError
 from .flags import Flag
 from .halfwave import corrected_half_wave_V
 from .io import Manifest, VoltammogramEntry, load_manifest, read_voltammogram
-from .peaks import analyse_peaks
+from .peaks import PeakAnalysis, analyse_peaks
 from .results import FileResult, ReferenceHalfWave, SeriesResult
 from .titration import MIN_POINTS as MIN_FIT_POINTS
 from .titration import TitrationPoint, check_points, fit_lingane
@@ -44,6 +44,36 @@ def analyse_manifest_file(path: str | Path) -> SeriesResult:
     return analyse_series(load_manifest(path))
 
 
+def _ratio_from_first_cycle(
+    peaks: PeakAnalysis, v: Voltammogram, electrons: int, temperature_K: float
+) -> PeakAnalysis:
+    """On a later cycle, take the current ratio from cycle 1, which starts at rest.
+
+    Nicholson's relation (Anal. Chem. 38 (1966) 1406) assumes a forward sweep that begins
+    at rest, so the peak analysis leaves the ratio of a later cycle undetermined; the
+    ratio is a property of the couple, and cycle 1 of the same record gives it.
+    """
+    if peaks.current_ratio is not None or peaks.cycle_number == 1:
+        return peaks
+    if not any(f.code == "CURRENT_RATIO_NOT_DETERMINED" for f in peaks.flags):
+        return peaks
+    first_cycles = v.cycles()
+    if not first_cycles or not first_cycles[0].complete:
+        return peaks
+    first = analyse_peaks(v, cycle=1, electrons=electrons, temperature_K=temperature_K)
+    if first.current_ratio is None:
+        return peaks
+    flags = tuple(f for f in peaks.flags if f.code != "CURRENT_RATIO_NOT_DETERMINED")
+    note = Flag(
+        "CURRENT_RATIO_FROM_FIRST_CYCLE",
+        f"cycle {peaks.cycle_number} does not start at rest, so ipa/ipc "
+        f"({first.current_ratio:.3f}) was taken from cycle 1 of the same record "
+        "(Nicholson 1966)",
+        "info",
+    )
+    return replace(peaks, current_ratio=first.current_ratio, flags=(*flags, note))
+
+
 def _analyse_file(
     entry: VoltammogramEntry, manifest: Manifest, record: Voltammogram | None = None
 ) -> FileResult:
@@ -59,6 +89,7 @@ def _analyse_file(
         electrons=series.electrons,
         temperature_K=series.temperature_K,
     )
+    peaks = _ratio_from_first_cycle(peaks, v, series.electrons, series.temperature_K)
     screen = screen_reversibility(
         peaks,
         electrons=series.electrons,

@@ -61,6 +61,7 @@ def simulate_point(
     noise_fraction: float = 0.005,
     k0_cm_s: float | None = None,
     step_V: float = 0.001,
+    cycles: int = 1,
 ):
     e_half = float(
         complexed_half_wave_V(
@@ -76,7 +77,7 @@ def simulate_point(
         start_V=0.25,
         switch_V=-0.65,
         electrons=electrons,
-        cycles=1,
+        cycles=cycles,
         step_V=step_V,
         scan_rate_V_s=0.1,
         k0_cm_s=k0_cm_s,

@@ -185,3 +185,22 @@ def test_demo_runs_from_package_data(tmp_path, capsys):
     assert data["voltammograms"][-1]["reversible"] is False
     for name in ("voltammograms.csv", "voltammograms.png", "half_wave_shift.png"):
         assert (tmp_path / "demo" / "results" / name).stat().st_size > 0
+
+
+def test_later_cycle_takes_its_current_ratio_from_cycle_1():
+    """Nicholson's ratio (Anal. Chem. 38 (1966) 1406, from memory) needs a sweep that
+    starts at rest; on the default last cycle of a 3-cycle record it comes from cycle 1."""
+    from test_coverage_voltammograms import in_memory_manifest
+
+    manifest = in_memory_manifest()
+    records = {
+        e.name: simulate_point(e.ligand_M, seed=300 + k, cycles=3)
+        for k, e in enumerate(manifest.voltammograms)
+    }
+    result = analyse_series(manifest, records=records)
+    for f in result.files:
+        assert f.peaks.cycle_number == 3
+        assert "CURRENT_RATIO_FROM_FIRST_CYCLE" in {g.code for g in f.flags}
+        assert abs(f.peaks.current_ratio - 1.0) < 0.05  # ratio drifts up at far switches
+        assert f.reversible is True
+    assert abs(result.fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) < 0.03
