@@ -27,9 +27,31 @@ TABLE_COLUMNS = (
     "ipa_A",
     "current_ratio",
     "reversible",
+    "electron_transfer",
+    "psi",
+    "k0_cm_s",
+    "k0_stderr_cm_s",
+    "k0_lower_bound_cm_s",
     "used_in_fit",
     "flags",
 )
+
+
+def _kinetics_cells(d: dict) -> dict:
+    """Flatten the per-file classification and kinetics records into table cells."""
+    cls = d.get("classification") or {}
+    kin = d.get("kinetics") or {}
+
+    def value(q: object, key: str = "value") -> object:
+        return q.get(key) if isinstance(q, dict) else q
+
+    return {
+        "electron_transfer": cls.get("kind"),
+        "psi": value(kin.get("psi")),
+        "k0_cm_s": value(kin.get("k0_cm_s")),
+        "k0_stderr_cm_s": value(kin.get("k0_cm_s"), "stderr"),
+        "k0_lower_bound_cm_s": kin.get("k0_lower_bound_cm_s"),
+    }
 
 
 def _cell(value: object) -> str:
@@ -52,6 +74,7 @@ def write_file_table(result: SeriesResult, path: str | Path) -> Path:
         for f in result.files:
             d = f.to_dict()
             d["flags"] = " ".join(fl["code"] for fl in d["flags"])
+            d.update(_kinetics_cells(d))
             w.writerow([_cell(d.get(c)) for c in TABLE_COLUMNS])
 
     atomic_write_with(path, writer)
