@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
-from dataclasses import replace
+from dataclasses import fields, replace
 from pathlib import Path
 
 import numpy as np
@@ -131,6 +131,17 @@ def _analyse_file(
         switching_correction_V=correction,
         resistance_ohm=resistance or None,
     )
+
+
+def _series_record(manifest: Manifest) -> dict:
+    """The [series] settings as given (every key, JSON-ready), with T in K and the model."""
+    record = {}
+    for f in fields(manifest.series):
+        value = getattr(manifest.series, f.name)
+        record[f.name] = list(value) if isinstance(value, tuple) else value
+    record["temperature_K"] = manifest.series.temperature_K
+    record["model"] = manifest.fit.model
+    return record
 
 
 def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
@@ -298,16 +309,7 @@ def analyse_series(
     return SeriesResult(
         cvfit_version=__version__,
         manifest=str(manifest.path),
-        series={
-            "title": series.title,
-            "electrons": series.electrons,
-            "temperature_K": series.temperature_K,
-            "temperature_C": series.temperature_C,
-            "metal_total_M": series.metal_total_M,
-            "E_half_free_V": series.E_half_free_V,
-            "reference_electrode": series.reference_electrode,
-            "model": manifest.fit.model,
-        },
+        series=_series_record(manifest),
         files=tuple(final),
         reference=reference,
         fit=fit,
