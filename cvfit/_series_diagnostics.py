@@ -6,8 +6,11 @@ Composition only (the mathematics is in :mod:`cvfit.ir`, :mod:`cvfit.scanrate`,
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import replace
+
+import numpy as np
 
 from .classification import classify_voltammogram
 from .flags import Flag
@@ -117,6 +120,34 @@ def _manifest_D(series: object) -> Quantity | None:
     return Quantity(D, sd, (D - 1.96 * sd, D + 1.96 * sd), "manifest")
 
 
+def _D_from_reversible_files(
+    files: Sequence[FileResult], n: int, T: float, area: float | None, conc: float | None
+) -> Quantity | None:
+    """Mean Randles–Ševčík D of the reversible files, with the larger of the standard
+    error from their scatter and from their own errors; None without area and analyte_M."""
+    if area is None or conc is None:
+        return None
+    values = []
+    errors = []
+    for f in files:
+        ip = _forward_ip(f.peaks)
+        if f.reversible is True and ip and f.scan_rate_V_s:
+            q = diffusion_from_peak_current(
+                ip, ip_stderr_A=f.peaks.noise_A, electrons=n, area_cm2=area,
+                analyte_M=conc, scan_rate_V_s=f.scan_rate_V_s, temperature_K=T,
+            )
+            values.append(q.value)
+            errors.append(q.stderr)
+    if not values:
+        return None
+    k = len(values)
+    mean = float(np.mean(values))
+    se = float(np.sqrt(np.sum(np.square(errors)))) / k
+    if k > 1:
+        se = max(se, float(np.std(values, ddof=1)) / math.sqrt(k))
+    return Quantity.from_t(mean, se, k - 1 if k > 1 else math.inf)
+
+
 def diagnose_files(
     files: Sequence[FileResult], manifest: object
 ) -> tuple[tuple[FileResult, ...], tuple[ScanRateStudy, ...], tuple[Flag, ...]]:
@@ -152,6 +183,7 @@ def diagnose_files(
                 series_flags.append(Flag(fl.code, where + fl.message, fl.severity))
     D_manifest = _manifest_D(series)
     any_D = next((st for st in studies if st.D_cm2_s is not None and not st.delta_Ep_grows), None)
+    D_reversible = _D_from_reversible_files(out, n, T, area, conc)
     for k, f in enumerate(out):
         extra: list[Flag] = []
         st = study_of.get(k)
@@ -167,6 +199,19 @@ def diagnose_files(
                     "D_FROM_OTHER_SOLUTION",
                     f"k0 uses D from the scan-rate study at ligand_M = {any_D.ligand_M:g} M; "
                     "complexation may change D (give diffusion_cm2_s to override)",
+                    "info",
+                )
+            )
+        if D is None and f.reversible is not True and D_reversible is not None:
+            # the Randles–Ševčík current of the Nernstian files of the series is unbiased;
+            # a slow peak's own current is not
+            D, source = D_reversible, "reversible files of the series"
+            extra.append(
+                Flag(
+                    "D_FROM_REVERSIBLE_FILES",
+                    f"k0 uses D = {D.value:.3g} ± {D.stderr:.2g} cm²/s from the Randles–Ševčík "
+                    "currents of the series' reversible voltammograms; complexation may change "
+                    "D (give diffusion_cm2_s to override)",
                     "info",
                 )
             )

@@ -204,3 +204,16 @@ def test_later_cycle_takes_its_current_ratio_from_cycle_1():
         assert abs(f.peaks.current_ratio - 1.0) < 0.05  # ratio drifts up at far switches
         assert f.reversible is True
     assert abs(result.fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) < 0.03
+
+
+def test_k0_of_a_slow_file_uses_D_of_the_reversible_files(tmp_path):
+    """k0 = ψ (π D n F v / RT)^½ (Nicholson, Anal. Chem. 37 (1965) 1351, from memory) with
+    D from the Randles–Ševčík currents of the Nernstian files, not from the slow peak."""
+    manifest = write_series(tmp_path, seed=70, slow_at=(0.3,),
+                            series_extra={"electrode_area_cm2": 0.0707, "analyte_M": 1e-3})
+    result = analyse_series(load_manifest(manifest))
+    slow = result.files[-1]
+    assert "D_FROM_REVERSIBLE_FILES" in {f.code for f in slow.flags}
+    k0 = slow.kinetics.k0_cm_s
+    assert abs(k0.value / 0.002 - 1) < 0.15
+    assert k0.ci95[0] <= 0.002 <= k0.ci95[1]
