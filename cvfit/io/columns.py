@@ -110,7 +110,13 @@ class ColumnLabel:
     rank: int
 
 
+# A unit per area (current density: "mA cm-2", "µA/cm²") is not a current unit.
+_PER_AREA = re.compile(r"(/\s*(c|m)?m|(c|m)?m\s*(\^?\s*-\s*2|⁻²))", re.IGNORECASE)
+
+
 def _unit_role(unit_text: str) -> tuple[Role, str] | None:
+    if _PER_AREA.search(unit_text):
+        return None
     first = unit_text.replace(",", " ").split()
     if not first:
         return None
