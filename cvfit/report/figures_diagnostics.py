@@ -22,6 +22,11 @@ from .figures import _STYLE, _save  # noqa: E402
 
 __all__ = ["plot_diagnostics"]
 
+#: Widest figure, inches, and most files labelled on the axis (a large series labels
+#: every k-th file and keeps the figure readable in the report).
+MAX_WIDTH_IN = 14.0
+MAX_TICK_LABELS = 40
+
 _MARKERS = {
     "reversible": ("o", "#1f4e79"),
     "quasi-reversible": ("s", "#b35900"),
@@ -48,7 +53,7 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
         fig, (ax, axr) = plt.subplots(
             2,
             1,
-            figsize=(max(6.0, 0.45 * len(files) + 2), 5.4),
+            figsize=(min(MAX_WIDTH_IN, max(6.0, 0.45 * len(files) + 2)), 5.4),
             sharex=True,
             gridspec_kw={"height_ratios": [3, 2]},
         )
@@ -83,49 +88,50 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
             label=f"1 ± {ratio_margin:g}",
         )
         axr.axhline(1.0, color="#1f4e79", lw=0.8, alpha=0.6)
+        kinds = [_kind(f) for f in files]
+        used = np.array([bool(f.used_in_fit) for f in files])
+        dEp = np.array(
+            [np.nan if f.peaks.delta_Ep_V is None else f.peaks.delta_Ep_V for f in files]
+        )
+        ratio = np.array(
+            [np.nan if f.peaks.current_ratio is None else f.peaks.current_ratio for f in files]
+        )
+        # one call per (class, fitted) group instead of one per file; the legend names a
+        # class once, with the look of its first file, in order of first appearance
+        groups: list[tuple[str, bool]] = []
+        for kind, u in zip(kinds, used.tolist(), strict=True):
+            if (kind, u) not in groups:
+                groups.append((kind, u))
         seen: set[str] = set()
-        for k, f in enumerate(files):
-            marker, colour = _MARKERS[_kind(f)]
-            face = colour if f.used_in_fit else "none"
-            label = _kind(f) if _kind(f) not in seen else None
-            seen.add(_kind(f))
-            dEp = f.peaks.delta_Ep_V
-            if dEp is not None:
-                ax.plot(
-                    k,
-                    1e3 * n * dEp,
-                    marker=marker,
-                    color=colour,
-                    mfc=face,
-                    ms=6,
-                    ls="none",
-                    label=label,
-                )
-            else:
-                ax.annotate(
-                    "no ΔEp",
-                    (k, np.nanmean(exp) if np.any(ok) else 60.0),
-                    ha="center",
-                    fontsize=7,
-                    color=colour,
-                )
-            if f.peaks.current_ratio is not None:
-                axr.plot(
-                    k,
-                    f.peaks.current_ratio,
-                    marker=marker,
-                    color=colour,
-                    mfc=face,
-                    ms=6,
-                    ls="none",
-                )
+        for kind, u in groups:
+            marker, colour = _MARKERS[kind]
+            face = colour if u else "none"
+            label = kind if kind not in seen else None
+            seen.add(kind)
+            member = np.array([k == kind for k in kinds]) & (used == u)
+            top = member & np.isfinite(dEp)
+            if np.any(top) or label is not None:
+                ax.plot(x[top], 1e3 * n * dEp[top], marker=marker, color=colour, mfc=face,
+                        ms=6, ls="none", label=label)  # fmt: skip
+            bottom = member & np.isfinite(ratio)
+            if np.any(bottom):
+                axr.plot(x[bottom], ratio[bottom], marker=marker, color=colour, mfc=face,
+                         ms=6, ls="none")  # fmt: skip
+        level = np.nanmean(exp) if np.any(ok) else 60.0
+        for k in np.nonzero(~np.isfinite(dEp))[0]:
+            ax.annotate("no ΔEp", (int(k), level), ha="center", fontsize=7,
+                        color=_MARKERS[kinds[k]][1])  # fmt: skip
         ax.set_ylabel("n·ΔEp / mV")
         axr.set_ylabel("ipa/ipc (Nicholson)")
-        axr.set_xticks(x)
+        # a large series labels every k-th file: 200 labels side by side are unreadable
+        step = max(1, -(-len(files) // MAX_TICK_LABELS))
+        shown = x[::step]
+        axr.set_xticks(shown)
         axr.set_xticklabels(
             [
-                f"{f.ligand_M:.3g} M" + (f"\n{f.scan_rate_V_s:.3g} V/s" if f.scan_rate_V_s else "")
-                for f in files
+                f"{files[k].ligand_M:.3g} M"
+                + (f"\n{files[k].scan_rate_V_s:.3g} V/s" if files[k].scan_rate_V_s else "")
+                for k in shown
             ],
             rotation=60,
             ha="right",
