@@ -13,8 +13,8 @@ from ..units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
 from ..voltammogram import MIN_POINTS, Voltammogram
 from .columns import ColumnLabel, parse_label, time_scale
 from .options import ImportOptions
-from .table import NumericTable, read_table
-from .text import decode_bytes, split_lines
+from .table import NumericTable, read_table_text
+from .text import decode_bytes
 
 __all__ = ["read_voltammogram", "parse_voltammogram_text", "parse_voltammogram_bytes"]
 
@@ -200,7 +200,11 @@ def _check_finite(column: np.ndarray, table: NumericTable, k: int, source: str) 
 
 
 def _build(
-    table: NumericTable, options: ImportOptions, source: str, scan_rate_V_s
+    table: NumericTable,
+    options: ImportOptions,
+    source: str,
+    scan_rate_V_s,
+    extra: dict[str, str] | None = None,
 ) -> Voltammogram:
     cols = _choose_columns(table, options, source)
     labels = cols.labels
@@ -272,6 +276,7 @@ def _build(
     notes["import.anodic_current"] = options.anodic_current or "positive"
     metadata = dict(table.metadata)
     metadata.update(notes)
+    metadata.update(extra or {})
     return Voltammogram(
         potential_V=E,
         current_A=i,
@@ -314,21 +319,31 @@ def parse_voltammogram_text(
     InputError
         One-line message naming the file, the line and what to do.
     """
+    return _parse_text(text, source, options, scan_rate_V_s)
+
+
+def _parse_text(
+    text: str,
+    source: str,
+    options: ImportOptions | None,
+    scan_rate_V_s: float | None,
+    extra: dict[str, str] | None = None,
+) -> Voltammogram:
     opts = options or ImportOptions()
     if not isinstance(text, str):
         raise InputError("expected decoded text", source=source)
-    if not text.strip():
+    if not text or text.isspace():  # no stripped copy of the whole text
         raise InputError(
             "the file is empty; export the voltammogram as delimited text", source=source
         )
     # A typographic minus (U+2212) appears in some localised exports.
-    table = read_table(
-        split_lines(text.replace("\u2212", "-")),
+    table = read_table_text(
+        text.replace("\u2212", "-"),
         source=source,
         delimiter=opts.delimiter,
         decimal=opts.decimal,
     )
-    return _build(table, opts, source, scan_rate_V_s)
+    return _build(table, opts, source, scan_rate_V_s, extra)
 
 
 def parse_voltammogram_bytes(
@@ -340,18 +355,9 @@ def parse_voltammogram_bytes(
 ) -> Voltammogram:
     """As :func:`parse_voltammogram_text`, from raw bytes (encoding detected)."""
     decoded = decode_bytes(data, source=source)
-    vg = parse_voltammogram_text(
-        decoded.text, source=source, options=options, scan_rate_V_s=scan_rate_V_s
-    )
-    metadata = dict(vg.metadata)
-    metadata["import.encoding"] = decoded.encoding
-    return Voltammogram(
-        potential_V=vg.potential_V,
-        current_A=vg.current_A,
-        time_s=vg.time_s,
-        scan_rate_V_s=vg.scan_rate_V_s,
-        source=vg.source,
-        metadata=metadata,
+    # one record built, with the encoding in its metadata (no second copy of the arrays)
+    return _parse_text(
+        decoded.text, source, options, scan_rate_V_s, {"import.encoding": decoded.encoding}
     )
 
 

@@ -7,6 +7,7 @@ call. Only when that fails are the lines scanned one by one to name the bad cell
 from __future__ import annotations
 
 import io
+import itertools
 import re
 import warnings
 from dataclasses import dataclass, field
@@ -16,8 +17,9 @@ import pandas as pd
 
 from ..errors import InputError
 from .columns import is_unit
+from .text import split_lines
 
-__all__ = ["NumericTable", "read_table"]
+__all__ = ["NumericTable", "read_table", "read_table_text"]
 
 _SPECIAL = re.compile(r"(?i)\b(?:nan|[+-]?inf(?:inity)?)\b")
 _NUMERIC_LINE = re.compile(r"^[\d\s.,;+\-eE\"']*$")
@@ -187,6 +189,118 @@ def _locate_bad_cell(
     return None
 
 
+@dataclass(frozen=True)
+class _Layout:
+    """Where the numeric block starts and how it is written (shared by both paths)."""
+
+    start: int
+    header_idx: int | None
+    header_key: str | None
+    header: tuple[str, ...] | None
+    delimiter: str
+    decimal: str
+    ncols: int
+
+
+def _no_rows(source: str) -> InputError:
+    return InputError(
+        "no rows of numbers found; the file needs columns of numbers (potential and "
+        "current) below an optional header row",
+        source=source,
+    )
+
+
+def _header_of(lines: list[str], start: int) -> tuple[int | None, str | None]:
+    """The nearest non-blank line above the data (index, stripped text)."""
+    above = [k for k in range(start) if lines[k].strip()]
+    header_idx = above[-1] if above else None
+    return header_idx, (lines[header_idx].strip() if header_idx is not None else None)
+
+
+def _layout(
+    lines: list[str],
+    start: int,
+    sample: list[str],
+    *,
+    source: str,
+    delimiter: str | None,
+    decimal: str | None,
+) -> _Layout:
+    """Delimiter, decimal mark, column count and header from the first data rows."""
+    header_idx, header_key = _header_of(lines, start)
+    header_text = lines[header_idx] if header_idx is not None else None
+    delim = delimiter or _sniff_delimiter(sample)
+    dec = decimal or _sniff_decimal(sample, delim)
+    if delim == "," and dec == ",":
+        raise InputError(
+            "the decimal mark and the delimiter are both ','; set delimiter in [import]",
+            source=source,
+            key="delimiter",
+        )
+    ncols = len(_split(sample[0], delim))
+    header: tuple[str, ...] | None = None
+    if header_text is not None:
+        labels = _split_header(_COMMENT_MARK.sub("", header_text), delim, ncols)
+        if len(labels) >= ncols and all(not lab for lab in labels[ncols:]):
+            labels = labels[:ncols]
+        if len(labels) == ncols and not _is_numeric_line(header_text):
+            header = tuple(lab.strip().strip("\"'").strip() for lab in labels)
+    if header is not None and header_idx is not None:
+        header = _join_units_row(header, lines, header_idx, delim)
+    return _Layout(start, header_idx, header_key, header, delim, dec, ncols)
+
+
+def _parse_block(block: str | bytes, lay: _Layout, *, fast: bool = False) -> np.ndarray:
+    """One ``pandas.read_csv`` call (C engine) on the numeric block; raises on any doubt.
+
+    ``fast`` (the happy path of :func:`read_table_text`, *block* in UTF-8 bytes): no initial-space
+    skipping (pandas' float conversion accepts blanks around a number; a quoted cell after
+    a blank fails and goes to the careful path), blank lines kept as NaN rows and no
+    implicit index column, so every line is one row or the call fails.
+    """
+    sep = r"\s+" if lay.delimiter == "whitespace" else lay.delimiter
+    if fast:
+        source: io.IOBase = io.BytesIO(block)
+        extra = {"index_col": False, "skip_blank_lines": False, "skipinitialspace": False}
+    else:
+        source, extra = io.StringIO(block), {"skipinitialspace": True}
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        frame = pd.read_csv(
+            source,
+            sep=sep,
+            header=None,
+            names=range(lay.ncols),
+            decimal=lay.decimal,
+            dtype=np.float64,
+            engine="c",
+            quotechar='"',
+            **extra,
+        )
+    return frame.to_numpy(dtype=float, copy=True)
+
+
+def _table(lines: list[str], lay: _Layout, values: np.ndarray, numbers: np.ndarray
+           ) -> NumericTable:  # fmt: skip
+    header, header_idx = lay.header, lay.header_idx
+    meta_lines = lines[:header_idx] if header is not None else lines[: lay.start]
+    notes = {"import.delimiter": _NAMES[lay.delimiter], "import.decimal": lay.decimal}
+    if header is None and header_idx is not None:
+        notes["import.header"] = (
+            f"line {header_idx + 1} was not read as a header (its columns do not match the data)"
+        )
+    return NumericTable(
+        values=values,
+        line_numbers=numbers,
+        header=header,
+        header_line=header_idx + 1 if header is not None else None,
+        metadata=_metadata(meta_lines),
+        delimiter=lay.delimiter,
+        decimal=lay.decimal,
+        notes=notes,
+    )
+
+
 def read_table(
     lines: list[str],
     *,
@@ -213,16 +327,8 @@ def read_table(
     """
     start = _find_data_start(lines)
     if start is None:
-        raise InputError(
-            "no rows of numbers found; the file needs columns of numbers (potential and "
-            "current) below an optional header row",
-            source=source,
-        )
-    # Header: the nearest non-blank line above the data.
-    above = [k for k in range(start) if lines[k].strip()]
-    header_idx = above[-1] if above else None
-    header_text = lines[header_idx] if header_idx is not None else None
-    header_key = header_text.strip() if header_text is not None else None
+        raise _no_rows(source)
+    header_idx, header_key = _header_of(lines, start)
     # One strip per line; blank lines and repeated header rows are dropped (rare, so the
     # common case keeps every line and numbers them by position).
     texts = [ln.strip() for ln in lines[start:]]
@@ -232,50 +338,16 @@ def read_table(
         numbers = np.asarray(keep, dtype=int) + start + 1
     else:
         numbers = np.arange(start + 1, start + 1 + len(texts), dtype=int)
-    sample = texts[:_SAMPLE]
-    delim = delimiter or _sniff_delimiter(sample)
-    dec = decimal or _sniff_decimal(sample, delim)
-    if delim == "," and dec == ",":
-        raise InputError(
-            "the decimal mark and the delimiter are both ','; set delimiter in [import]",
-            source=source,
-            key="delimiter",
-        )
-    block = "\n".join(texts)
-    sep = r"\s+" if delim == "whitespace" else delim
-    first_cells = _split(texts[0], delim)
-    ncols = len(first_cells)
-    header: tuple[str, ...] | None = None
-    if header_text is not None:
-        labels = _split_header(_COMMENT_MARK.sub("", header_text), delim, ncols)
-        if len(labels) >= ncols and all(not lab for lab in labels[ncols:]):
-            labels = labels[:ncols]
-        if len(labels) == ncols and not _is_numeric_line(header_text):
-            header = tuple(lab.strip().strip("\"'").strip() for lab in labels)
-    if header is not None and header_idx is not None:
-        header = _join_units_row(header, lines, header_idx, delim)
+    lay = _layout(
+        lines, start, texts[:_SAMPLE], source=source, delimiter=delimiter, decimal=decimal
+    )
     try:
-        with warnings.catch_warnings():
-            warnings.simplefilter("error")
-            frame = pd.read_csv(
-                io.StringIO(block),
-                sep=sep,
-                header=None,
-                names=range(ncols),
-                decimal=dec,
-                dtype=np.float64,
-                engine="c",
-                skipinitialspace=True,
-                # no blank line is left in the block (dropped above); pandas' own blank-line
-                # handling is off the slow path this way
-                quotechar='"',
-            )
-        values = frame.to_numpy(dtype=float, copy=True)
+        values = _parse_block("\n".join(texts), lay)
         if values.shape[0] != len(texts):
             raise ValueError("row count changed while parsing")
     except (ValueError, TypeError, OverflowError, pd.errors.ParserError, Warning) as exc:
         rows = list(zip(numbers.tolist(), texts, strict=True))
-        found = _locate_bad_cell(rows, delim, dec, ncols, header, source)
+        found = _locate_bad_cell(rows, lay.delimiter, lay.decimal, lay.ncols, lay.header, source)
         if found is not None:
             raise found from None
         first_line = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
@@ -285,19 +357,81 @@ def read_table(
             source=source,
             line=int(numbers[0]),
         ) from None
-    meta_lines = lines[:header_idx] if header is not None else lines[:start]
-    notes = {"import.delimiter": _NAMES[delim], "import.decimal": dec}
-    if header is None and header_text is not None:
-        notes["import.header"] = (
-            f"line {header_idx + 1} was not read as a header (its columns do not match the data)"
-        )
-    return NumericTable(
-        values=values,
-        line_numbers=numbers,
-        header=header,
-        header_line=header_idx + 1 if header is not None else None,
-        metadata=_metadata(meta_lines),
-        delimiter=delim,
-        decimal=dec,
-        notes=notes,
-    )
+    return _table(lines, lay, values, numbers)
+
+
+def _head(text: str, n: int) -> tuple[list[str], list[int], bool]:
+    """The first *n* lines (split at ``\\n``), the offset just past each, and whether
+    they are all of *text*."""
+    parts = text.split("\n", n)
+    complete = len(parts) <= n or not parts[n]
+    head = parts if len(parts) <= n else parts[:n]
+    if head and head[-1] == "":
+        head.pop()
+    ends = list(itertools.accumulate(len(p) + 1 for p in head))
+    return head, ends, complete
+
+
+def read_table_text(
+    text: str,
+    *,
+    source: str,
+    delimiter: str | None = None,
+    decimal: str | None = None,
+) -> NumericTable:
+    """As :func:`read_table`, from the whole decoded text, parsing it once.
+
+    Only the first lines are split into Python strings (to find the header, the delimiter
+    and where the numbers start); the rest of the text goes to ``pandas.read_csv`` in one
+    call, rows numbered by position. Anything unusual — blank or repeated header lines,
+    a lone ``\r`` line end, a row pandas cannot read, an empty cell — sends the file to
+    :func:`read_table`, which scans line by line and names the line and cell, so the
+    result and every message are those of :func:`read_table`.
+    """
+    n = 4 * _SAMPLE
+    while True:
+        head, ends, complete = _head(text, n)
+        if complete:
+            break
+        cr = "\r" in text[: ends[-1]]
+        start = None if cr else _find_data_start(head)
+        if start is not None and start + _SAMPLE + 20 < len(head):
+            fast = _fast_table(text, head, ends, start, source, delimiter, decimal)
+            if fast is not None:
+                return fast
+            break
+        if cr or n > len(text):
+            break
+        n *= 8
+    return read_table(split_lines(text), source=source, delimiter=delimiter, decimal=decimal)
+
+
+def _fast_table(
+    text: str,
+    head: list[str],
+    ends: list[int],
+    start: int,
+    source: str,
+    delimiter: str | None,
+    decimal: str | None,
+) -> NumericTable | None:
+    """The happy path of :func:`read_table_text`; None to take the line-by-line path."""
+    _, header_key = _header_of(head, start)
+    sample = head[start : start + _SAMPLE]
+    # every sampled row as read_table would see it: no blank, no surrounding blanks, no
+    # repeated header
+    if any(not ln or ln != ln.strip() or ln == header_key for ln in sample):
+        return None
+    rest = text[ends[start - 1] if start else 0 :].encode("utf-8")
+    if b"\r" in rest:
+        return None
+    lay = _layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
+    rows = rest.count(b"\n") + (0 if rest.endswith(b"\n") else 1)
+    try:
+        values = _parse_block(rest, lay, fast=True)
+    except (ValueError, TypeError, OverflowError, pd.errors.ParserError, Warning):
+        return None
+    if values.shape != (rows, lay.ncols) or np.isnan(values).any():
+        return None
+    numbers = np.arange(start + 1, start + 1 + rows, dtype=int)
+    return _table(head, lay, values, numbers)

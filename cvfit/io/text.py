@@ -63,7 +63,7 @@ def decode_bytes(data: bytes, *, source: str) -> DecodedText:
         Empty content, or content that is not text (NUL bytes, control characters,
         undecodable under a declared encoding).
     """
-    if not data.strip():
+    if not data or data.isspace():  # no stripped copy of the whole file
         raise InputError(
             "the file is empty; export the voltammogram as delimited text", source=source
         )
@@ -95,7 +95,11 @@ def decode_bytes(data: bytes, *, source: str) -> DecodedText:
                 break
             except UnicodeDecodeError:
                 continue
-    clean_ascii = text.isascii() and not text.encode("ascii").translate(None, _ASCII_CLEAN)
+    # ASCII text decoded as UTF-8 is the bytes themselves: check those, no re-encoding
+    ascii_bytes = data if encoding == "utf-8" and data.isascii() else None
+    if ascii_bytes is None and text.isascii():
+        ascii_bytes = text.encode("ascii")
+    clean_ascii = ascii_bytes is not None and not ascii_bytes.translate(None, _ASCII_CLEAN)
     bad = None if clean_ascii else _CONTROL.search(text)
     if bad is not None:
         raise InputError(
@@ -104,7 +108,7 @@ def decode_bytes(data: bytes, *, source: str) -> DecodedText:
             source=source,
             line=_line_of(text, bad.start()),
         )
-    if not text.strip():
+    if not text or text.isspace():
         raise InputError(
             "the file is empty; export the voltammogram as delimited text", source=source
         )
