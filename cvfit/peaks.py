@@ -220,9 +220,11 @@ def _locate(
             return None, f"the {which} wave has no rising side below half its height"
         half_width_V = VERTEX_WINDOW_FRACTION * abs(E[k] - E_half_peak)
     moves = np.abs(np.diff(E))
-    moves = moves[moves > 0]
-    step = float(np.median(moves)) if moves.size else 0.0
-    half_width_V = max(half_width_V, 3.5 * step)
+    # the window is at least 3.5 sampling steps (median step); the median cannot exceed
+    # the largest step, so it is only needed when the window is narrower than that bound
+    if moves.size and half_width_V < 3.5 * float(moves.max()):
+        moves = moves[moves > 0]
+        half_width_V = max(half_width_V, 3.5 * float(np.median(moves)))
     vertex = pf.peak_vertex(E, y, k, half_width_V)
     if vertex is None:
         return None, f"no cubic with a maximum fits the {which} peak near E = {E[k]:.4f} V"

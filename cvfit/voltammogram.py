@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from functools import cached_property
 from types import MappingProxyType
 from typing import Literal
 
@@ -102,9 +103,15 @@ class Voltammogram:
         """Number of recorded points."""
         return int(self.potential_V.size)
 
+    @cached_property
+    def _turns(self) -> tuple[int, ...]:
+        # computed once per record (the arrays are read-only, so it cannot go stale);
+        # cached_property writes the instance dict, which a frozen dataclass allows
+        return tuple(turning_points(self.potential_V))
+
     def sweeps(self) -> tuple[Sweep, ...]:
         """The record split at its switching potentials into monotonic sweeps."""
-        turns = turning_points(self.potential_V)
+        turns = self._turns
         out = []
         for k in range(len(turns) - 1):
             a, b = turns[k], turns[k + 1]
