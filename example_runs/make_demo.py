@@ -60,6 +60,8 @@ def manifest_text(files: list[tuple[str, float]]) -> str:
         "electrons = 1",
         "temperature_C = 25.0",
         'reference_electrode = "Ag/AgCl (3 M KCl)"',
+        "electrode_area_cm2 = 0.0707  # 3 mm disc",
+        "analyte_M = 1.0e-3           # M(III) in every solution",
         "",
     ]
     for name, ligand in files:
