@@ -75,6 +75,23 @@ class LineFit(NamedTuple):
         return np.column_stack(cols)
 
 
+def _least_squares(X: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Least-squares coefficients and (XᵀX)⁺ from one SVD of X.
+
+    The same numbers as ``np.linalg.lstsq(X, y, rcond=None)`` and ``np.linalg.pinv(X.T @
+    X)`` (their cut-offs for small singular values included) with one factorisation
+    instead of two.
+    """
+    U, S, Vt = np.linalg.svd(X, full_matrices=False)
+    top = float(S[0]) if S.size else 0.0
+    keep = S > np.finfo(float).eps * max(X.shape) * top
+    inv = np.divide(1.0, S, out=np.zeros_like(S), where=keep)
+    coef = Vt.T @ (inv * (U.T @ y))
+    keep2 = S * S > 1e-15 * top * top
+    inv2 = np.divide(1.0, S * S, out=np.zeros_like(S), where=keep2)
+    return coef, (Vt.T * inv2) @ Vt
+
+
 def fit_line(
     E: np.ndarray, i: np.ndarray, sigma: float, tail: np.ndarray | None = None
 ) -> LineFit:
@@ -82,9 +99,8 @@ def fit_line(
     E0 = float(np.mean(E))
     cols = [np.ones(E.size), E - E0] + ([] if tail is None else [tail])
     X = np.column_stack(cols)
-    coef, *_ = np.linalg.lstsq(X, i, rcond=None)
-    cov = sigma**2 * np.linalg.pinv(X.T @ X)
-    return LineFit(E0, coef, cov)
+    coef, gram_inv = _least_squares(X, i)
+    return LineFit(E0, coef, sigma**2 * gram_inv)
 
 
 def _moving_mean(y: np.ndarray, width: int) -> np.ndarray:
@@ -129,16 +145,16 @@ def fit_foot(
         X = np.column_stack([np.vstack([X, np.column_stack([z, E_x - E0, z, t_x])]),
                              np.concatenate([np.zeros(E.size), np.ones(E_x.size)])])  # fmt: skip
         y = np.concatenate([i, i_x])
-    coef, *_ = np.linalg.lstsq(X, y, rcond=None)
+    coef, gram_inv = _least_squares(X, y)
     keep = [0, 1] if tail is None else [0, 1, 3]
     if sign * coef[2] <= 0:
         drop = [k for k in range(X.shape[1]) if k != 2]
         X = X[:, drop]
-        coef, *_ = np.linalg.lstsq(X, y, rcond=None)
+        coef, gram_inv = _least_squares(X, y)
         coef = np.insert(coef, 2, 0.0)
-        cov = np.insert(np.insert(sigma**2 * np.linalg.pinv(X.T @ X), 2, 0.0, 0), 2, 0.0, 1)
+        cov = np.insert(np.insert(sigma**2 * gram_inv, 2, 0.0, 0), 2, 0.0, 1)
     else:
-        cov = sigma**2 * np.linalg.pinv(X.T @ X)
+        cov = sigma**2 * gram_inv
     return LineFit(E0, coef[keep], cov[np.ix_(keep, keep)])
 
 
@@ -267,8 +283,8 @@ def switch_step(
     root = np.sqrt(np.clip(t, 0.0, None))
     X = np.column_stack([np.ones_like(t), t, t * t, after, after * root, after * root**3])
     y = np.concatenate([i_forward[f_sl], i_reverse[r_sl]])
-    coef, *_ = np.linalg.lstsq(X, y, rcond=None)
-    var = np.linalg.pinv(X.T @ X)[3, 3]
+    coef, gram_inv = _least_squares(X, y)
+    var = gram_inv[3, 3]
     return float(coef[3]), float(coef[0]), math.sqrt(var)
 
 
