@@ -384,23 +384,24 @@ def read_table_text(
     Only the first lines are split into Python strings (to find the header, the delimiter
     and where the numbers start); the rest of the text goes to ``pandas.read_csv`` in one
     call, rows numbered by position. Anything unusual — blank or repeated header lines,
-    a lone ``\r`` line end, a row pandas cannot read, an empty cell — sends the file to
-    :func:`read_table`, which scans line by line and names the line and cell, so the
-    result and every message are those of :func:`read_table`.
+    a lone ``\\r`` line end (``\\r\\n`` is fine), a row pandas cannot read, an empty
+    cell — sends the file to :func:`read_table`, which scans line by line and names the
+    line and cell, so the result and every message are those of :func:`read_table`.
     """
-    n = 4 * _SAMPLE
-    while True:
+    n = _SAMPLE + 100
+    # Windows line ends (every \r followed by \n) are fine for pandas; a lone \r is not
+    crlf = "\r" in text and text.count("\r") == text.count("\r\n")
+    while ("\r" not in text or crlf) and n <= len(text):
         head, ends, complete = _head(text, n)
         if complete:
             break
-        cr = "\r" in text[: ends[-1]]
-        start = None if cr else _find_data_start(head)
+        if crlf:
+            head = [ln[:-1] if ln.endswith("\r") else ln for ln in head]
+        start = _find_data_start(head)
         if start is not None and start + _SAMPLE + 20 < len(head):
-            fast = _fast_table(text, head, ends, start, source, delimiter, decimal)
+            fast = _fast_table(text, head, ends, start, source, delimiter, decimal, crlf)
             if fast is not None:
                 return fast
-            break
-        if cr or n > len(text):
             break
         n *= 8
     return read_table(split_lines(text), source=source, delimiter=delimiter, decimal=decimal)
@@ -414,6 +415,7 @@ def _fast_table(
     source: str,
     delimiter: str | None,
     decimal: str | None,
+    crlf: bool,
 ) -> NumericTable | None:
     """The happy path of :func:`read_table_text`; None to take the line-by-line path."""
     _, header_key = _header_of(head, start)
@@ -423,15 +425,19 @@ def _fast_table(
     if any(not ln or ln != ln.strip() or ln == header_key for ln in sample):
         return None
     rest = text[ends[start - 1] if start else 0 :].encode("utf-8")
-    if b"\r" in rest:
+    if not crlf and b"\r" in rest:
         return None
     lay = _layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
-    rows = rest.count(b"\n") + (0 if rest.endswith(b"\n") else 1)
     try:
         values = _parse_block(rest, lay, fast=True)
     except (ValueError, TypeError, OverflowError, pd.errors.ParserError, Warning):
         return None
-    if values.shape != (rows, lay.ncols) or np.isnan(values).any():
+    rows = values.shape[0]
+    # blank lines came back as NaN rows; only a quoted cell can hold a line end and join
+    # two lines into one row, so the lines are counted only when there is a quote
+    if b'"' in rest and rows != rest.count(b"\n") + (0 if rest.endswith(b"\n") else 1):
+        return None
+    if values.shape[1] != lay.ncols or np.isnan(values).any():
         return None
     numbers = np.arange(start + 1, start + 1 + rows, dtype=int)
     return _table(head, lay, values, numbers)
