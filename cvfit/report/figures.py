@@ -71,7 +71,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                                               MAX_POINTS_PER_FIGURE // max(1, len(result.files))))
         # the titration curves go into one LineCollection (one artist, not one per file);
         # the ligand-free curves stay lines of their own for the legend
-        segments, colours = [], []
+        segments, ligands, alphas = [], [], []
         for f in result.files:
             v = f.voltammogram
             cyc = v.cycle(f.peaks.cycle_number) if f.peaks.cycle_number else v.cycle()
@@ -82,11 +82,14 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             alpha = 1.0 if f.reversible is True else 0.55
             if f.ligand_M > 0 and norm is not None:
                 segments.append(np.column_stack([E, i * 1e6]))
-                colours.append(mcolors.to_rgba(cmap(norm(f.ligand_M)), alpha))
+                ligands.append(f.ligand_M)
+                alphas.append(alpha)
             else:
                 ax.plot(E, i * 1e6, color="0.15", lw=1.1, ls="--", alpha=alpha,
                         label="no ligand" if f.ligand_M == 0 else None)  # fmt: skip
         if segments:
+            colours = cmap(norm(np.asarray(ligands)))  # one call for all curves
+            colours[:, 3] = alphas
             ax.add_collection(LineCollection(segments, colors=colours, linewidths=1.1))
             ax.autoscale_view()
         ax.set_xlabel("E / V" + (f" vs {result.series['reference_electrode']}"

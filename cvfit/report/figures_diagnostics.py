@@ -25,7 +25,7 @@ __all__ = ["plot_diagnostics"]
 #: Widest figure, inches, and most files labelled on the axis (a large series labels
 #: every k-th file and keeps the figure readable in the report).
 MAX_WIDTH_IN = 14.0
-MAX_TICK_LABELS = 40
+MAX_TICK_LABELS = 20
 
 _MARKERS = {
     "reversible": ("o", "#1f4e79"),
