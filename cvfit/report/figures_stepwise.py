@@ -17,7 +17,7 @@ from ..complexation import log_leden_F0
 from ..results import SeriesResult
 from ..speciation import leden_F_functions, mean_ligand_number, species_fractions
 from ..units import thermal_voltage
-from .figures import _STYLE, COLOUR_MAP, _save, plt
+from .figures import _STYLE, COLOUR_MAP, PER_LITRE, _save, _superscript, plt
 
 __all__ = ["STEPWISE_FIGURES", "write_stepwise_figures"]
 
@@ -81,7 +81,7 @@ def _shift(result: SeriesResult, path: Path) -> Path:
             capsize=2,
         )
         axr.set_ylabel("residual / mV")
-        axr.set_xlabel("log10([L] / mol L$^{-1}$)")
+        axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel(f"E½(c) − E½(s) / mV  (E½(s) = {E0 * 1e3:.1f} mV)")
         ax.legend(loc="best", frameon=False, fontsize=8)
         ax.set_title(result.series.get("title") or "half-wave shift", fontsize=9)
@@ -105,8 +105,8 @@ def _leden(result: SeriesResult, path: Path) -> Path:
             err = sF0 / L**j
             ax.errorbar(L, observed[j], yerr=err, fmt="o", color=_BLUE, ms=4, capsize=2)
             ax.plot(xs, model[j], color=_BLUE, lw=1.2)
-            ax.set_xlabel("[L] / mol L$^{-1}$")
-            unit = "" if j == 0 else f" / (mol/L)$^{{-{j}}}$"
+            ax.set_xlabel(f"[L] / {PER_LITRE}")
+            unit = "" if j == 0 else f" / (mol/L){_superscript(j)}"
             ax.set_ylabel(f"F{j}{unit}")
             lo, hi = np.nanmin(model[j]), np.nanmax(model[j])
             pad = 0.25 * (hi - lo) if hi > lo else abs(hi) * 0.5 + 1.0
@@ -136,7 +136,7 @@ def _species(result: SeriesResult, path: Path) -> Path:
                 )
             ax.axvspan(np.log10(L.min()), np.log10(L.max()), color="0.85", alpha=0.5, lw=0)
             ax.set_ylim(-0.02, 1.02)
-            ax.set_xlabel("log10([L] / mol L$^{-1}$)")
+            ax.set_xlabel(f"log10([L] / {PER_LITRE})")
             ax.set_ylabel("fraction of the metal")
             label = "oxidised" if name == "ox" else "reduced"
             note = "" if betas else " (not complexed)"
@@ -160,7 +160,7 @@ def _species(result: SeriesResult, path: Path) -> Path:
             lw=0,
             label="measured range",
         )
-        ax.set_xlabel("log10([L] / mol L$^{-1}$)")
+        ax.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel("mean ligand number n̄ = d ln F0 / d ln[L]")
         ax.legend(loc="upper left", frameon=False, fontsize=7)
         return _save(fig, path)

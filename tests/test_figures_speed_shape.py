@@ -1,0 +1,89 @@
+"""What the series figures draw: one artist for the titration curves, thinned curves,
+a bounded number of axis labels, and user text shown as typed (no mathtext)."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import matplotlib.pyplot as plt
+import pytest
+from matplotlib.collections import LineCollection
+from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_csv
+
+from cvfit.io import load_manifest
+from cvfit.pipeline import analyse_series
+from cvfit.report import figures, figures_diagnostics
+from cvfit.report.figures import plot_lingane, plot_voltammograms
+from cvfit.report.figures_diagnostics import plot_diagnostics
+
+TITLE = r"Zn $x^2$ in 0.1 M KNO3 ($\frac$ batch)"  # as mathtext: a ParseSyntaxException
+
+
+@pytest.fixture(scope="module")
+def result(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("figs")
+    entries = []
+    for k, ligand in enumerate(LIGAND_M[:5]):
+        write_plain_csv(folder / f"f{k}.csv", simulate_point(ligand, seed=700 + k, step_V=0.001))
+        entries.append({"file": f"f{k}.csv", "ligand_M": ligand})
+    manifest = write_manifest(folder / "series.toml", entries, series={"electrons": 1})
+    got = analyse_series(load_manifest(manifest))
+    return replace(got, series={**got.series, "title": TITLE})
+
+
+def _capture(monkeypatch):
+    """Keep the figure that _save receives (and still write it)."""
+    seen = []
+    original = figures._save
+
+    def keep(fig, path):
+        seen.append(fig)
+        return original(fig, path)
+
+    monkeypatch.setattr(figures, "_save", keep)
+    monkeypatch.setattr(figures_diagnostics, "_save", keep)
+    return seen
+
+
+def test_titration_curves_are_one_thinned_collection(result, tmp_path, monkeypatch):
+    seen = _capture(monkeypatch)
+    assert plot_voltammograms(result, tmp_path / "v.png").stat().st_size > 0
+    ax = seen[0].axes[0]
+    collections = [c for c in ax.collections if isinstance(c, LineCollection)]
+    assert len(collections) == 1
+    segments = collections[0].get_segments()
+    titrating = [f for f in result.files if f.ligand_M > 0]
+    assert len(segments) == len(titrating)
+    assert all(len(s) <= figures.MAX_POINTS_DRAWN for s in segments)
+    # the ligand-free curve keeps its own dashed line and legend entry
+    assert [ln.get_label() for ln in ax.get_lines()] == ["no ligand"]
+    assert ax.get_title() == TITLE
+
+
+def test_large_series_draws_fewer_points_per_curve():
+    per_curve = max(
+        figures.MIN_POINTS_DRAWN,
+        min(figures.MAX_POINTS_DRAWN, figures.MAX_POINTS_PER_FIGURE // 200),
+    )
+    assert per_curve == figures.MIN_POINTS_DRAWN == 300  # 200 files: 300 points each
+
+
+def test_diagnostics_labels_at_most_the_cap(result, tmp_path, monkeypatch):
+    many = replace(result, files=tuple(result.files) * 12)  # 60 files
+    seen = _capture(monkeypatch)
+    plot_diagnostics(many, tmp_path / "d.png")
+    fig = seen[0]
+    bottom = fig.axes[1]
+    labels = [t.get_text() for t in bottom.get_xticklabels()]
+    assert 0 < len(labels) <= figures_diagnostics.MAX_TICK_LABELS
+    assert fig.get_size_inches()[0] <= figures_diagnostics.MAX_WIDTH_IN
+    # every file is still plotted: one marker per file with a measured ΔEp
+    top = fig.axes[0]
+    plotted = sum(len(ln.get_xdata()) for ln in top.get_lines() if ln.get_linestyle() == "None")
+    assert plotted == sum(f.peaks.delta_Ep_V is not None for f in many.files)
+    plt.close("all")
+
+
+def test_user_text_with_dollars_is_drawn_as_typed(result, tmp_path):
+    for plot, name in ((plot_voltammograms, "v"), (plot_diagnostics, "d"), (plot_lingane, "l")):
+        assert plot(result, tmp_path / f"{name}.png").stat().st_size > 0
