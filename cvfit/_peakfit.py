@@ -62,7 +62,14 @@ class LineFit(NamedTuple):
     cov: np.ndarray  # 2×2 or 3×3, from the supplied noise SD
 
     def __call__(self, E: np.ndarray, tail: np.ndarray | None = None) -> np.ndarray:
-        return self.design(E, tail) @ self.coef
+        # evaluated term by term: no design matrix for a whole sweep
+        x = np.atleast_1d(np.asarray(E, dtype=float)) - self.E0_V
+        out = self.coef[0] + self.coef[1] * x
+        if self.coef.size == 3:
+            if tail is None:
+                raise ValueError("this baseline has a tail term; pass its values")
+            out = out + self.coef[2] * np.asarray(tail, dtype=float)
+        return out
 
     def design(self, E: np.ndarray, tail: np.ndarray | None = None) -> np.ndarray:
         """Rows ``(1, E − E0[, tail])``: the derivative of the baseline by its coefficients."""
@@ -363,7 +370,12 @@ def _vertex_fit(E: np.ndarray, y: np.ndarray, centre: float, half_width_V: float
         return None
     x = (E[idx] - centre) / half_width_V  # scaled for a well-conditioned design
     X = np.column_stack([np.ones_like(x), x, x * x, x * x * x])
-    pinv = np.linalg.pinv(X)
+    # the pseudo-inverse as np.linalg.pinv forms it (cut-off 1e-15 of the largest
+    # singular value), without its wrapper: this runs four times per file
+    U, S, Vt = np.linalg.svd(X, full_matrices=False)
+    large = S > 1e-15 * S.max()
+    inv = np.divide(1.0, S, out=np.zeros_like(S), where=large)
+    pinv = Vt.T @ (inv[:, np.newaxis] * U.T)
     b = pinv @ y[idx]
     xv = _cubic_stationary(b)
     if xv is None or abs(xv) > 1.0:
