@@ -177,7 +177,9 @@ class Voltammogram:
 
     def effective_scan_rate_V_s(self) -> float | None:
         """The given scan rate, else the one derived from the time column."""
-        return self.scan_rate_V_s if self.scan_rate_V_s is not None else self.derived_scan_rate_V_s()
+        if self.scan_rate_V_s is not None:
+            return self.scan_rate_V_s
+        return self.derived_scan_rate_V_s()
 
 
 @dataclass(frozen=True)
