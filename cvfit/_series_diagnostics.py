@@ -133,8 +133,13 @@ def _D_from_reversible_files(
         ip = _forward_ip(f.peaks)
         if f.reversible is True and ip and f.scan_rate_V_s:
             q = diffusion_from_peak_current(
-                ip, ip_stderr_A=f.peaks.noise_A, electrons=n, area_cm2=area,
-                analyte_M=conc, scan_rate_V_s=f.scan_rate_V_s, temperature_K=T,
+                ip,
+                ip_stderr_A=f.peaks.noise_A,
+                electrons=n,
+                area_cm2=area,
+                analyte_M=conc,
+                scan_rate_V_s=f.scan_rate_V_s,
+                temperature_K=T,
             )
             values.append(q.value)
             errors.append(q.stderr)

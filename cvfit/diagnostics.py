@@ -329,4 +329,3 @@ def screen_reversibility(
 
     reversible: bool | None = False if failed else (None if missing else True)
     return ReversibilityScreen(reversible, expected_delta, width_expected, tuple(flags))
-

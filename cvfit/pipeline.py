@@ -151,7 +151,10 @@ def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalf
     if usable:
         values = np.array([f.E_half_V for f in usable], dtype=float)
         errs = np.array(
-            [np.nan if f.peaks.E_half_stderr_V is None else f.peaks.E_half_stderr_V for f in usable]
+            [
+                np.nan if f.peaks.E_half_stderr_V is None else f.peaks.E_half_stderr_V
+                for f in usable
+            ]
         )
         mean = float(values.mean())
         # Standard error of the mean: from the files' own errors, or from their scatter
@@ -267,8 +270,10 @@ def analyse_series(
                 "error",
             )
         )
-    elif reference.source == "file" and exclude and any(
-        f.reversible is not True for f in final if f.file in reference.files
+    elif (
+        reference.source == "file"
+        and exclude
+        and any(f.reversible is not True for f in final if f.file in reference.files)
     ):
         series_flags.append(
             Flag(
@@ -289,8 +294,10 @@ def analyse_series(
 
     fit = None
     point_checks = check_points(points)
-    if ref_ok and manifest.fit.model == "stepwise" and not any(
-        f.severity == "error" for f in point_checks
+    if (
+        ref_ok
+        and manifest.fit.model == "stepwise"
+        and not any(f.severity == "error" for f in point_checks)
     ):
         from ._pipeline_stepwise import run_stepwise
 

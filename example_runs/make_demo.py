@@ -65,8 +65,13 @@ def manifest_text(files: list[tuple[str, float]]) -> str:
         "",
     ]
     for name, ligand in files:
-        out += ["[[voltammogram]]", f'file = "{name}"', f"ligand_M = {ligand!r}",
-                "scan_rate_V_s = 0.1", ""]
+        out += [
+            "[[voltammogram]]",
+            f'file = "{name}"',
+            f"ligand_M = {ligand!r}",
+            "scan_rate_V_s = 0.1",
+            "",
+        ]
     return "\n".join(out)
 
 
@@ -77,15 +82,28 @@ def main() -> int:
     for k, ligand in enumerate(LIGAND_M):
         e_half = float(
             complexed_half_wave_V(
-                E_HALF_FREE_V, ligand_M=ligand, log10_beta_ox=LOG_BETA_OX,
-                log10_beta_red=LOG_BETA_RED, electrons=1, temperature_K=298.15,
+                E_HALF_FREE_V,
+                ligand_M=ligand,
+                log10_beta_ox=LOG_BETA_OX,
+                log10_beta_red=LOG_BETA_RED,
+                electrons=1,
+                temperature_K=298.15,
             )
         )
         v = simulate_cv(
-            E_half_V=e_half, start_V=0.40, switch_V=-0.45, cycles=2, step_V=0.001,
-            scan_rate_V_s=0.1, k0_cm_s=SLOW_K0_CM_S.get(ligand), concentration_M=1e-3,
-            double_layer_F=5e-6, background_slope_A_per_V=2e-6, noise_fraction=0.005,
-            seed=int(rng.integers(2**31)), source=f"tazine_{k:02d}.csv",
+            E_half_V=e_half,
+            start_V=0.40,
+            switch_V=-0.45,
+            cycles=2,
+            step_V=0.001,
+            scan_rate_V_s=0.1,
+            k0_cm_s=SLOW_K0_CM_S.get(ligand),
+            concentration_M=1e-3,
+            double_layer_F=5e-6,
+            background_slope_A_per_V=2e-6,
+            noise_fraction=0.005,
+            seed=int(rng.integers(2**31)),
+            source=f"tazine_{k:02d}.csv",
         )
         name = f"tazine_{k:02d}.csv"
         write_export(DATA / name, v, ligand_M=ligand)

@@ -90,6 +90,7 @@ def simulate_point(
 
 def write_plain_csv(path: Path, v) -> Path:
     block = np.column_stack([v.time_s, v.potential_V, v.current_A])
-    np.savetxt(path, block, delimiter=",", header="time_s,potential_V,current_A", comments="",
-               fmt="%.10g")
+    np.savetxt(
+        path, block, delimiter=",", header="time_s,potential_V,current_A", comments="", fmt="%.10g"
+    )
     return path

@@ -14,7 +14,6 @@ import sys
 from pathlib import Path
 
 import pytest
-
 from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_csv
 
 CVFIT = shutil.which("cvfit", path=os.path.dirname(sys.executable)) or shutil.which("cvfit")
@@ -27,7 +26,8 @@ def run_cli(*args: str, cwd: Path) -> subprocess.CompletedProcess:
 
 def digest(folder: Path) -> dict[str, str]:
     return {
-        p.name: hashlib.sha256(p.read_bytes()).hexdigest() for p in sorted(folder.iterdir())
+        p.name: hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(folder.iterdir())
         if p.is_file()
     }
 
@@ -41,16 +41,21 @@ def good_csvs(tmp_path_factory) -> Path:
     return folder
 
 
-def make_case(tmp_path: Path, good: Path, *, broken: bytes | None = None,
-              entries: list[dict] | None = None, series: dict | None = None) -> Path:
+def make_case(
+    tmp_path: Path,
+    good: Path,
+    *,
+    broken: bytes | None = None,
+    entries: list[dict] | None = None,
+    series: dict | None = None,
+) -> Path:
     for p in good.iterdir():
         shutil.copy(p, tmp_path / p.name)
     if broken is not None:
         (tmp_path / "p1.csv").write_bytes(broken)
     if entries is None:
         entries = [{"file": f"p{k}.csv", "ligand_M": c} for k, c in enumerate(LIGAND_M[:4])]
-    return write_manifest(tmp_path / "series.toml", entries,
-                          series=series or {"electrons": 1})
+    return write_manifest(tmp_path / "series.toml", entries, series=series or {"electrons": 1})
 
 
 def assert_one_line_error(proc: subprocess.CompletedProcess, *must_contain: str) -> str:
@@ -75,15 +80,17 @@ GOOD_HEADER = b"time_s,potential_V,current_A\n"
         ("no numeric columns", b"a,b,c\nx,y,z\nu,v,w\n" * 5, ["p1.csv"]),
         (
             "non-numeric cell on line 5",
-            GOOD_HEADER + b"0,0.2,1e-6\n0.01,0.199,1e-6\n0.02,0.198,1e-6\n0.03,oops,1e-6\n"
-            + b"".join(f"{0.04 + k * 0.01:.2f},{0.197 - k * 0.001:.3f},1e-6\n".encode()
-                       for k in range(30)),
+            GOOD_HEADER
+            + b"0,0.2,1e-6\n0.01,0.199,1e-6\n0.02,0.198,1e-6\n0.03,oops,1e-6\n"
+            + b"".join(
+                f"{0.04 + k * 0.01:.2f},{0.197 - k * 0.001:.3f},1e-6\n".encode() for k in range(30)
+            ),
             ["p1.csv:5"],
         ),
         (
             "flat potential",
-            GOOD_HEADER + b"".join(f"{k * 0.01:.2f},0.100,{k * 1e-7:.2e}\n".encode()
-                                   for k in range(50)),
+            GOOD_HEADER
+            + b"".join(f"{k * 0.01:.2f},0.100,{k * 1e-7:.2e}\n".encode() for k in range(50)),
             ["p1.csv", "flat"],
         ),
     ],
@@ -109,16 +116,14 @@ def test_missing_manifest(tmp_path):
 
 def test_missing_required_key(tmp_path, good_csvs):
     manifest = make_case(tmp_path, good_csvs, series={"title": "no n given"})
-    assert_one_line_error(run_cli("run", str(manifest), cwd=tmp_path), "series.toml",
-                          "electrons")
+    assert_one_line_error(run_cli("run", str(manifest), cwd=tmp_path), "series.toml", "electrons")
 
 
 def test_negative_concentration(tmp_path, good_csvs):
     entries = [{"file": f"p{k}.csv", "ligand_M": c} for k, c in enumerate(LIGAND_M[:4])]
     entries[2]["ligand_M"] = -0.01
     manifest = make_case(tmp_path, good_csvs, entries=entries)
-    assert_one_line_error(run_cli("run", str(manifest), cwd=tmp_path), "series.toml",
-                          "ligand_M")
+    assert_one_line_error(run_cli("run", str(manifest), cwd=tmp_path), "series.toml", "ligand_M")
 
 
 def test_unknown_key_named(tmp_path, good_csvs):
@@ -131,13 +136,11 @@ def test_unknown_key_named(tmp_path, good_csvs):
 def test_fewer_than_three_titration_points(tmp_path, good_csvs):
     entries = [{"file": f"p{k}.csv", "ligand_M": c} for k, c in enumerate(LIGAND_M[:3])]
     manifest = make_case(tmp_path, good_csvs, entries=entries)
-    assert_one_line_error(run_cli("run", str(manifest), cwd=tmp_path), "series.toml",
-                          "at least 3")
+    assert_one_line_error(run_cli("run", str(manifest), cwd=tmp_path), "series.toml", "at least 3")
 
 
 def test_bad_command_line_value(tmp_path):
-    proc = run_cli("simulate", "--scan-rate", "-1", "--out", str(tmp_path / "x.csv"),
-                   cwd=tmp_path)
+    proc = run_cli("simulate", "--scan-rate", "-1", "--out", str(tmp_path / "x.csv"), cwd=tmp_path)
     assert_one_line_error(proc, "<command line>")
 
 

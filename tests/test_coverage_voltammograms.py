@@ -13,19 +13,24 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from seriesfactory import LIGAND_M, TRUE_DELTA_LIGANDS, TRUE_LOG10_RATIO, simulate_point
 
 from cvfit.criteria import ReversibilityCriteria
 from cvfit.io import FitSettings, ImportOptions, Manifest, SeriesSettings, VoltammogramEntry
 from cvfit.pipeline import analyse_series
-from seriesfactory import LIGAND_M, TRUE_DELTA_LIGANDS, TRUE_LOG10_RATIO, simulate_point
 
 N_SERIES = 400
 
 
 def in_memory_manifest() -> Manifest:
     entries = tuple(
-        VoltammogramEntry(file=Path(f"/virtual/f{k}.csv"), name=f"f{k}.csv", ligand_M=c,
-                          scan_rate_V_s=0.1, import_options=ImportOptions())
+        VoltammogramEntry(
+            file=Path(f"/virtual/f{k}.csv"),
+            name=f"f{k}.csv",
+            ligand_M=c,
+            scan_rate_V_s=0.1,
+            import_options=ImportOptions(),
+        )
         for k, c in enumerate(LIGAND_M)
     )
     return Manifest(

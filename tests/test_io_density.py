@@ -8,8 +8,9 @@ from cvfit.io import parse_voltammogram_text
 from cvfit.io.columns import parse_label
 
 
-@pytest.mark.parametrize("label", ["j/mA cm-2", "Current density (mA/cm2)", "i / µA cm⁻²",
-                                   "I (uA/cm^2)"])
+@pytest.mark.parametrize(
+    "label", ["j/mA cm-2", "Current density (mA/cm2)", "i / µA cm⁻²", "I (uA/cm^2)"]
+)
 def test_density_units_are_not_current_units(label):
     assert parse_label(label).unit is None
 

@@ -14,11 +14,6 @@ from pathlib import Path
 
 import jsonschema
 import pytest
-
-from cvfit.cli import main
-from cvfit.io import load_manifest
-from cvfit.pipeline import analyse_series
-from cvfit.report import results_to_json
 from dialects import DIALECT_IMPORT, DIALECTS, write_dialect
 from seriesfactory import (
     LIGAND_M,
@@ -29,6 +24,11 @@ from seriesfactory import (
     write_plain_csv,
 )
 
+from cvfit.cli import main
+from cvfit.io import load_manifest
+from cvfit.pipeline import analyse_series
+from cvfit.report import results_to_json
+
 SCHEMAS = Path(__file__).resolve().parents[1] / "schemas"
 
 
@@ -37,16 +37,33 @@ def validate(instance: dict, schema_name: str) -> None:
     jsonschema.Draft202012Validator(schema).validate(instance)
 
 
-def write_series(folder: Path, *, dialects=("plain_csv",), electrons=1, seed=0,
-                 slow_at=(), fit=None, series_extra=None) -> Path:
+def write_series(
+    folder: Path,
+    *,
+    dialects=("plain_csv",),
+    electrons=1,
+    seed=0,
+    slow_at=(),
+    fit=None,
+    series_extra=None,
+) -> Path:
     entries = []
     for k, ligand in enumerate(LIGAND_M):
         dialect = dialects[k % len(dialects)]
-        v = simulate_point(ligand, seed=seed + k, electrons=electrons,
-                           k0_cm_s=0.002 if ligand in slow_at else None)
+        v = simulate_point(
+            ligand,
+            seed=seed + k,
+            electrons=electrons,
+            k0_cm_s=0.002 if ligand in slow_at else None,
+        )
         name = f"{dialect}_{k:02d}.csv"
-        write_dialect(folder / name, potential_V=v.potential_V, current_A=v.current_A,
-                      time_s=v.time_s, dialect=dialect)
+        write_dialect(
+            folder / name,
+            potential_V=v.potential_V,
+            current_A=v.current_A,
+            time_s=v.time_s,
+            dialect=dialect,
+        )
         entry = {"file": name, "ligand_M": ligand, "scan_rate_V_s": 0.1}
         entry.update(DIALECT_IMPORT[dialect])
         entries.append(entry)
@@ -81,19 +98,38 @@ def test_results_json_and_manifest_follow_their_schemas(dialect_series):
         validate(tomllib.load(fh), "series.schema.json")
     # contract keys of DESIGN.md
     v0 = data["voltammograms"][1]
-    for key in ("file", "ligand_M", "free_ligand_M", "Epc_V", "Epa_V", "E_half_V",
-                "E_half_stderr_V", "delta_Ep_V", "ipc_A", "ipa_A", "current_ratio",
-                "reversible", "used_in_fit", "flags"):
+    for key in (
+        "file",
+        "ligand_M",
+        "free_ligand_M",
+        "Epc_V",
+        "Epa_V",
+        "E_half_V",
+        "E_half_stderr_V",
+        "delta_Ep_V",
+        "ipc_A",
+        "ipa_A",
+        "current_ratio",
+        "reversible",
+        "used_in_fit",
+        "flags",
+    ):
         assert key in v0
-    for key in ("slope_V_per_decade", "intercept_V", "delta_ligands", "log10_beta_ratio",
-                "log10_beta_ratio_at_integer"):
+    for key in (
+        "slope_V_per_decade",
+        "intercept_V",
+        "delta_ligands",
+        "log10_beta_ratio",
+        "log10_beta_ratio_at_integer",
+    ):
         q = data["fit"][key]
         assert q["ci95"][0] <= q["value"] <= q["ci95"][1] and q["stderr"] > 0
 
 
 def test_two_electron_series(tmp_path):
-    manifest = write_series(tmp_path, electrons=2, seed=40,
-                            dialects=("tab_mV_uA", "semicolon_decimal_comma"))
+    manifest = write_series(
+        tmp_path, electrons=2, seed=40, dialects=("tab_mV_uA", "semicolon_decimal_comma")
+    )
     result = analyse_series(load_manifest(manifest))
     # slope -59.16 (p - q)/n mV/decade (REFERENCES.md [calc]) is recovered as p - q = 1
     assert abs(result.fit.delta_ligands.value - 1) < 0.05
@@ -115,8 +151,9 @@ def test_slow_high_ligand_file_is_flagged_and_left_out(tmp_path):
 
 
 def test_including_flagged_data_says_so(tmp_path):
-    manifest = write_series(tmp_path, seed=70, slow_at=(0.3,),
-                            fit={"exclude_non_nernstian": False})
+    manifest = write_series(
+        tmp_path, seed=70, slow_at=(0.3,), fit={"exclude_non_nernstian": False}
+    )
     result = analyse_series(load_manifest(manifest))
     assert result.files[-1].used_in_fit
     assert "FIT_USES_FLAGGED_DATA" in {f.code for f in result.flags}
@@ -134,8 +171,9 @@ def test_too_few_usable_points_gives_null_constants_and_exit_0(tmp_path, capsys)
 
 
 def _digests(folder: Path) -> dict[str, str]:
-    return {p.name: hashlib.sha256(p.read_bytes()).hexdigest()
-            for p in folder.iterdir() if p.is_file()}
+    return {
+        p.name: hashlib.sha256(p.read_bytes()).hexdigest() for p in folder.iterdir() if p.is_file()
+    }
 
 
 def test_run_into_input_folder_keeps_inputs_and_is_deterministic(tmp_path, capsys):
@@ -209,8 +247,12 @@ def test_later_cycle_takes_its_current_ratio_from_cycle_1():
 def test_k0_of_a_slow_file_uses_D_of_the_reversible_files(tmp_path):
     """k0 = ψ (π D n F v / RT)^½ (Nicholson, Anal. Chem. 37 (1965) 1351, from memory) with
     D from the Randles–Ševčík currents of the Nernstian files, not from the slow peak."""
-    manifest = write_series(tmp_path, seed=70, slow_at=(0.3,),
-                            series_extra={"electrode_area_cm2": 0.0707, "analyte_M": 1e-3})
+    manifest = write_series(
+        tmp_path,
+        seed=70,
+        slow_at=(0.3,),
+        series_extra={"electrode_area_cm2": 0.0707, "analyte_M": 1e-3},
+    )
     result = analyse_series(load_manifest(manifest))
     slow = result.files[-1]
     assert "D_FROM_REVERSIBLE_FILES" in {f.code for f in slow.flags}

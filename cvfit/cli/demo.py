@@ -21,8 +21,12 @@ def register(sub: argparse._SubParsersAction) -> None:
         description="Copy the bundled example series into DIR/inputs and analyse it "
         "into DIR/results.",
     )
-    p.add_argument("--out", metavar="DIR", default="cvfit_demo",
-                   help="folder for the demo (default: ./cvfit_demo)")
+    p.add_argument(
+        "--out",
+        metavar="DIR",
+        default="cvfit_demo",
+        help="folder for the demo (default: ./cvfit_demo)",
+    )
     p.add_argument("--quiet", action="store_true", help="print only where results went")
     p.set_defaults(handler=handle)
 

@@ -21,8 +21,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument(
         "manifest",
         nargs="+",
-        help="the series manifest (TOML); several manifests, or folders of them, run as a "
-        "batch",
+        help="the series manifest (TOML); several manifests, or folders of them, run as a batch",
     )
     p.add_argument(
         "--out",
@@ -60,8 +59,9 @@ def check_outputs_spare_inputs(out_dir: Path, inputs: list[Path], manifest: Path
             )
 
 
-def run_manifest(manifest_path: Path, out: Path | None, *, quiet: bool = False,
-                 jobs: int | None = None) -> int:
+def run_manifest(
+    manifest_path: Path, out: Path | None, *, quiet: bool = False, jobs: int | None = None
+) -> int:
     manifest = load_manifest(manifest_path)
     out_dir = out if out is not None else default_out_dir(manifest.path)
     if out_dir.exists() and not out_dir.is_dir():
@@ -78,7 +78,9 @@ def run_manifest(manifest_path: Path, out: Path | None, *, quiet: bool = False,
     written = write_outputs(result, out_dir)
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
-    sys.stdout.write(f"results written to {out_dir}/ ({', '.join(p.name for p in written.values())})\n")
+    sys.stdout.write(
+        f"results written to {out_dir}/ ({', '.join(p.name for p in written.values())})\n"
+    )
     return 0
 
 

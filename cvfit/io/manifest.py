@@ -41,7 +41,12 @@ SERIES_KEYS = (
 FIT_KEYS = ("model", "max_complexes", "exclude_non_nernstian", *_chem.FIT_STEPWISE_KEYS)
 REVERSIBILITY_KEYS = ("n_delta_Ep_margin_V", "n_peak_width_margin_V", "current_ratio_margin")
 ENTRY_KEYS = (
-    "file", "ligand_M", "scan_rate_V_s", "label", "pH", *_electrode.ENTRY_ELECTRODE_KEYS,
+    "file",
+    "ligand_M",
+    "scan_rate_V_s",
+    "label",
+    "pH",
+    *_electrode.ENTRY_ELECTRODE_KEYS,
     *IMPORT_KEYS,
 )
 TABLES = ("series", "import", "fit", "reversibility", "voltammogram")

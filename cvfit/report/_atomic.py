@@ -16,8 +16,9 @@ __all__ = ["atomic_write_text", "atomic_path"]
 def atomic_path(path: str | Path, suffix: str = "") -> Iterator[Path]:
     """Yield a temporary path beside *path*; rename it into place on success."""
     target = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=suffix or target.suffix,
-                               dir=target.parent)
+    fd, tmp = tempfile.mkstemp(
+        prefix=f".{target.name}.", suffix=suffix or target.suffix, dir=target.parent
+    )
     os.close(fd)
     tmp_path = Path(tmp)
     # mkstemp makes the file private (0600); give the result the mode a plain open() would.

@@ -55,8 +55,9 @@ def _superscript(k: int) -> str:
     return "⁻" + str(k).translate(_SUPERSCRIPT_DIGITS)
 
 
-def _thin(x: np.ndarray, y: np.ndarray, max_points: int = MAX_POINTS_DRAWN
-          ) -> tuple[np.ndarray, np.ndarray]:
+def _thin(
+    x: np.ndarray, y: np.ndarray, max_points: int = MAX_POINTS_DRAWN
+) -> tuple[np.ndarray, np.ndarray]:
     step = max(1, math.ceil(x.size / max_points))
     return x[::step], y[::step]
 
@@ -81,8 +82,10 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             if hi <= lo:
                 lo, hi = lo / 2, hi * 2
             norm = mcolors.LogNorm(vmin=lo, vmax=hi)
-        per_curve = max(MIN_POINTS_DRAWN, min(MAX_POINTS_DRAWN,
-                                              MAX_POINTS_PER_FIGURE // max(1, len(result.files))))
+        per_curve = max(
+            MIN_POINTS_DRAWN,
+            min(MAX_POINTS_DRAWN, MAX_POINTS_PER_FIGURE // max(1, len(result.files))),
+        )
         # the titration curves go into one LineCollection (one artist, not one per file);
         # the ligand-free curves stay lines of their own for the legend
         segments, ligands, alphas = [], [], []
@@ -106,8 +109,14 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             colours[:, 3] = alphas
             ax.add_collection(LineCollection(segments, colors=colours, linewidths=1.1))
             ax.autoscale_view()
-        ax.set_xlabel("E / V" + (f" vs {result.series['reference_electrode']}"
-                                 if result.series.get("reference_electrode") else ""))
+        ax.set_xlabel(
+            "E / V"
+            + (
+                f" vs {result.series['reference_electrode']}"
+                if result.series.get("reference_electrode")
+                else ""
+            )
+        )
         ax.set_ylabel("i / µA  (anodic positive)")
         if norm is not None:
             sm = plt.cm.ScalarMappable(norm=norm, cmap=cmap)
@@ -132,18 +141,34 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         )
         pts = [f for f in result.files if f.ligand_M > 0 and f.E_half_V is not None]
         if ref is None or not pts:
-            ax.text(0.5, 0.5, "no E½ shift could be measured", ha="center",
-                    transform=ax.transAxes)
+            ax.text(0.5, 0.5, "no E½ shift could be measured", ha="center", transform=ax.transAxes)
             return _save(fig, path)
         x = np.log10([f.free_ligand_M for f in pts])
         y = np.array([(f.E_half_V - ref) * 1e3 for f in pts])
         yerr = np.array([(f.peaks.E_half_stderr_V or 0.0) * 1e3 for f in pts])
         used = np.array([f.used_in_fit for f in pts])
-        ax.errorbar(x[used], y[used], yerr=yerr[used], fmt="o", color="#1f4e79", ms=5,
-                    capsize=2, label="used in fit")
+        ax.errorbar(
+            x[used],
+            y[used],
+            yerr=yerr[used],
+            fmt="o",
+            color="#1f4e79",
+            ms=5,
+            capsize=2,
+            label="used in fit",
+        )
         if np.any(~used):
-            ax.errorbar(x[~used], y[~used], yerr=yerr[~used], fmt="o", mfc="none",
-                        color="#b35900", ms=6, capsize=2, label="flagged, not fitted")
+            ax.errorbar(
+                x[~used],
+                y[~used],
+                yerr=yerr[~used],
+                fmt="o",
+                mfc="none",
+                color="#b35900",
+                ms=6,
+                capsize=2,
+                label="flagged, not fitted",
+            )
         fit = result.fit
         if fit is not None:
             xs = np.linspace(x.min() - 0.1, x.max() + 0.1, 200)
@@ -153,14 +178,25 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
             var = cov[1, 1] + xs**2 * cov[0, 0] + 2 * xs * cov[0, 1]
             tq = stats.t.ppf(0.975, fit.dof) if fit.dof > 0 else float("nan")
             half = tq * np.sqrt(np.clip(var, 0, None)) * 1e3
-            ax.plot(xs, line, color="#1f4e79", lw=1.2,
-                    label=f"Lingane line, slope {b * 1e3:.1f} mV/decade")
-            ax.fill_between(xs, line - half, line + half, color="#1f4e79", alpha=0.15,
-                            lw=0, label="95 % band of the line")
+            ax.plot(
+                xs,
+                line,
+                color="#1f4e79",
+                lw=1.2,
+                label=f"Lingane line, slope {b * 1e3:.1f} mV/decade",
+            )
+            ax.fill_between(
+                xs,
+                line - half,
+                line + half,
+                color="#1f4e79",
+                alpha=0.15,
+                lw=0,
+                label="95 % band of the line",
+            )
             res = np.asarray(fit.residuals_V) * 1e3
             axr.axhline(0, color="0.4", lw=0.8)
-            axr.errorbar(x[used], res, yerr=yerr[used], fmt="o", color="#1f4e79", ms=4,
-                         capsize=2)
+            axr.errorbar(x[used], res, yerr=yerr[used], fmt="o", color="#1f4e79", ms=4, capsize=2)
         axr.set_ylabel("residual / mV")
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel("E½(c) − E½(s) / mV")

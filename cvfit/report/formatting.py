@@ -14,8 +14,9 @@ def _digits_for(stderr: float) -> int:
     return max(0, 1 - int(math.floor(math.log10(stderr))))
 
 
-def format_pm(value: float | None, stderr: float | None, *, scale: float = 1.0,
-              unit: str = "") -> str:
+def format_pm(
+    value: float | None, stderr: float | None, *, scale: float = 1.0, unit: str = ""
+) -> str:
     """``"5.412 ± 0.018 unit"``; ``"n/d"`` when the value is missing."""
     if value is None or not math.isfinite(value):
         return "n/d"
@@ -28,8 +29,9 @@ def format_pm(value: float | None, stderr: float | None, *, scale: float = 1.0,
     return f"{v:.{d}f} ± {s:.{d}f}{tail}"
 
 
-def format_value(value: float | None, *, scale: float = 1.0, digits: int = 1,
-                 unit: str = "") -> str:
+def format_value(
+    value: float | None, *, scale: float = 1.0, digits: int = 1, unit: str = ""
+) -> str:
     """Fixed-decimal value with unit; ``"n/d"`` when missing."""
     if value is None or not math.isfinite(value):
         return "n/d"

@@ -66,10 +66,13 @@ def format_summary(result: SeriesResult) -> str:
 
         lines.extend(stepwise_lines(fit))
     else:
-        lines.append(f"Lingane fit on {fit.n_points} points ({fit.dof} degrees of freedom, "
-                     f"{'weighted by per-file E½ errors' if fit.weighted else 'unweighted'}):")
-        lines.append("  slope                 " + _q(fit.slope_V_per_decade, scale=1e3,
-                                                      unit="mV/decade"))
+        lines.append(
+            f"Lingane fit on {fit.n_points} points ({fit.dof} degrees of freedom, "
+            f"{'weighted by per-file E½ errors' if fit.weighted else 'unweighted'}):"
+        )
+        lines.append(
+            "  slope                 " + _q(fit.slope_V_per_decade, scale=1e3, unit="mV/decade")
+        )
         lines.append("  p − q                 " + _q(fit.delta_ligands))
         lines.append("  log10(β_ox/β_red)     " + _q(fit.log10_beta_ratio))
         lines.append(
@@ -78,9 +81,7 @@ def format_summary(result: SeriesResult) -> str:
         )
         lines.append("  (β_ox/β_red in (mol/L)^-(p−q); [L] in mol/L)")
     lines.append("")
-    lines.append(
-        "Nernstian throughout: " + ("yes" if result.nernstian else "NO — see flags")
-    )
+    lines.append("Nernstian throughout: " + ("yes" if result.nernstian else "NO — see flags"))
     flagged = [(f.file, fl) for f in result.files for fl in f.flags if fl.severity != "info"]
     series_flags = list(result.flags) + (list(fit.flags) if fit is not None else [])
     if flagged or series_flags:
