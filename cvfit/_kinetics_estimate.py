@@ -69,10 +69,6 @@ def diffusion_from_peak_current(
     return Quantity(D, D * rel, (D * (1 - 1.96 * rel), D * (1 + 1.96 * rel)), "normal")
 
 
-def _forward_E(peaks: PeakAnalysis) -> float | None:
-    return peaks.Epc_V if peaks.first_sweep == "reduction" else peaks.Epa_V
-
-
 def estimate_kinetics(
     peaks: PeakAnalysis,
     *,
@@ -125,7 +121,7 @@ def estimate_kinetics(
         raise ValueError(f"alpha must lie strictly between 0 and 1, got {alpha}")
     n = electrons
     scale = temperature_K / STANDARD_TEMPERATURE_K
-    E_fwd = _forward_E(peaks)
+    E_fwd = peaks.forward_peak_V
     if peaks.delta_Ep_V is None or peaks.E_half_V is None or E_fwd is None:
         return KineticsResult(
             "not_determinable",

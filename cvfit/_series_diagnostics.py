@@ -43,15 +43,11 @@ def correct_for_resistance(v: Voltammogram, resistance_ohm: float | None) -> Vol
     return correct_ohmic_drop(v, resistance_ohm=resistance_ohm)
 
 
-def _forward_ip(p: PeakAnalysis) -> float | None:
-    return p.ipc_A if p.first_sweep == "reduction" else p.ipa_A
-
-
 def ohmic_flags(peaks: PeakAnalysis, resistance_ohm: float | None) -> list[Flag]:
     """Say that the potentials were corrected, and how much the correction may leave."""
     if not resistance_ohm:
         return []
-    ip = _forward_ip(peaks)
+    ip = peaks.forward_height_A
     drop = None if ip is None else ip * resistance_ohm
     text = "" if drop is None else f"; i_p·R_u = {1e3 * drop:.2f} mV"
     flags = [
@@ -82,7 +78,7 @@ def _point(f: FileResult, n: int) -> ScanRatePoint:
     return ScanRatePoint(
         f.file,
         f.scan_rate_V_s,
-        _forward_ip(p),
+        p.forward_height_A,
         p.noise_A,
         excess,
         delta_Ep_stderr_V(p.E_half_stderr_V),
@@ -120,6 +116,24 @@ def _manifest_D(series: object) -> Quantity | None:
     return Quantity(D, sd, (D - 1.96 * sd, D + 1.96 * sd), "manifest")
 
 
+def _file_D(
+    f: FileResult, n: int, T: float, area: float | None, conc: float | None
+) -> Quantity | None:
+    """D from this file's forward peak by Randles–Ševčík, or None if it cannot be had."""
+    ip = f.peaks.forward_height_A
+    if area is None or conc is None or not ip or not f.scan_rate_V_s:
+        return None
+    return diffusion_from_peak_current(
+        ip,
+        ip_stderr_A=f.peaks.noise_A,
+        electrons=n,
+        area_cm2=area,
+        analyte_M=conc,
+        scan_rate_V_s=f.scan_rate_V_s,
+        temperature_K=T,
+    )
+
+
 def _D_from_reversible_files(
     files: Sequence[FileResult], n: int, T: float, area: float | None, conc: float | None
 ) -> Quantity | None:
@@ -130,17 +144,8 @@ def _D_from_reversible_files(
     values = []
     errors = []
     for f in files:
-        ip = _forward_ip(f.peaks)
-        if f.reversible is True and ip and f.scan_rate_V_s:
-            q = diffusion_from_peak_current(
-                ip,
-                ip_stderr_A=f.peaks.noise_A,
-                electrons=n,
-                area_cm2=area,
-                analyte_M=conc,
-                scan_rate_V_s=f.scan_rate_V_s,
-                temperature_K=T,
-            )
+        q = _file_D(f, n, T, area, conc) if f.reversible is True else None
+        if q is not None:
             values.append(q.value)
             errors.append(q.stderr)
     if not values:
@@ -195,7 +200,6 @@ def diagnose_files(
         D, source = D_manifest, "manifest"
         if D is None and st is not None and st.D_cm2_s is not None and not st.delta_Ep_grows:
             D, source = st.D_cm2_s, "scan-rate study"
-        ip = _forward_ip(f.peaks)
         if D is None and f.reversible is not True and any_D is not None:
             # a slow peak's current gives a low D: the series' study is the better estimate
             D, source = any_D.D_cm2_s, f"scan-rate study at ligand_M = {any_D.ligand_M:g} M"
@@ -220,17 +224,8 @@ def diagnose_files(
                     "info",
                 )
             )
-        if D is None and area is not None and conc is not None and ip and f.scan_rate_V_s:
-            D = diffusion_from_peak_current(
-                ip,
-                ip_stderr_A=f.peaks.noise_A,
-                electrons=n,
-                area_cm2=area,
-                analyte_M=conc,
-                scan_rate_V_s=f.scan_rate_V_s,
-                temperature_K=T,
-            )
-            source = "peak current"
+        if D is None and (own := _file_D(f, n, T, area, conc)) is not None:
+            D, source = own, "peak current"
             if f.reversible is not True:
                 extra.append(
                     Flag(

@@ -22,7 +22,6 @@ from .diagnostics import (
     PEAK_WIDTH_THERMAL,
     ReversibilityScreen,
     _check_n_T,
-    _forward,
     _mV,
 )
 from .flags import Flag
@@ -129,7 +128,7 @@ def classify_voltammogram(
     rt_nf = thermal_voltage(temperature_K, electrons)
     w_rev = PEAK_WIDTH_THERMAL * rt_nf
     w_irr = IRREVERSIBLE_WIDTH_THERMAL * rt_nf / alpha
-    E_fwd, _, E_half_fwd = _forward(peaks)
+    E_fwd, E_half_fwd = peaks.forward_peak_V, peaks.forward_half_peak_V
     width = None if E_fwd is None or E_half_fwd is None else abs(E_fwd - E_half_fwd)
     nd = None if peaks.delta_Ep_V is None else n * peaks.delta_Ep_V
     exp_nd = None if screen.expected_delta_Ep_V is None else n * screen.expected_delta_Ep_V

@@ -165,16 +165,6 @@ def _mV(x: float) -> str:
     return f"{1e3 * x:.1f} mV"
 
 
-def _forward(peaks: PeakAnalysis) -> tuple[float | None, float | None, float | None]:
-    if peaks.first_sweep == "reduction":
-        return peaks.Epc_V, peaks.ipc_A, peaks.Ep_half_c_V
-    return peaks.Epa_V, peaks.ipa_A, peaks.Ep_half_a_V
-
-
-def _reverse_E(peaks: PeakAnalysis) -> float | None:
-    return peaks.Epa_V if peaks.first_sweep == "reduction" else peaks.Epc_V
-
-
 def screen_reversibility(
     peaks: PeakAnalysis,
     *,
@@ -220,8 +210,8 @@ def screen_reversibility(
     flags: list[Flag] = []
     failed = False
     missing = False
-    E_fwd, _, E_half_fwd = _forward(peaks)
-    E_rev = _reverse_E(peaks)
+    E_fwd, E_half_fwd = peaks.forward_peak_V, peaks.forward_half_peak_V
+    E_rev = peaks.reverse_peak_V
     towards = -1.0 if peaks.first_sweep == "reduction" else 1.0  # forward peak side of E½
 
     if E_fwd is None:

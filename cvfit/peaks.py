@@ -161,6 +161,26 @@ class PeakAnalysis:
             raise TypeError("flags must be Flag instances")
         object.__setattr__(self, "flags", flags)
 
+    @property
+    def forward_peak_V(self) -> float | None:
+        """Peak potential of the forward sweep (Epc for a reduction-first scan)."""
+        return self.Epc_V if self.first_sweep == "reduction" else self.Epa_V
+
+    @property
+    def forward_height_A(self) -> float | None:
+        """Height of the forward peak (ipc for a reduction-first scan)."""
+        return self.ipc_A if self.first_sweep == "reduction" else self.ipa_A
+
+    @property
+    def forward_half_peak_V(self) -> float | None:
+        """Half-peak potential of the forward peak."""
+        return self.Ep_half_c_V if self.first_sweep == "reduction" else self.Ep_half_a_V
+
+    @property
+    def reverse_peak_V(self) -> float | None:
+        """Peak potential of the reverse sweep."""
+        return self.Epa_V if self.first_sweep == "reduction" else self.Epc_V
+
     def to_dict(self) -> dict:
         """JSON-ready mapping; missing values are None, flags are dicts."""
         out = {f.name: getattr(self, f.name) for f in fields(self) if f.name != "flags"}
