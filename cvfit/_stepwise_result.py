@@ -11,7 +11,7 @@ import numpy as np
 from ._stepwise_core import CandidateFit, StepwiseData
 from ._stepwise_select import CandidateSummary
 from .flags import Flag
-from .quantity import Quantity
+from .quantity import Quantity, clean_number
 from .speciation import fraction_peak_ligand_M, species_fractions
 
 __all__ = [
@@ -24,13 +24,6 @@ __all__ = [
 
 #: A complex whose largest fraction over the measured range stays below this is flagged.
 MIN_MAX_FRACTION = 0.05
-
-
-def _c(x: float | None) -> float | None:
-    if x is None:
-        return None
-    x = float(x)
-    return x if math.isfinite(x) else None
 
 
 @dataclass(frozen=True)
@@ -55,9 +48,9 @@ class UndeterminedConstant:
     def to_dict(self) -> dict[str, Any]:
         return {
             "j": self.j,
-            "upper_limit_95": _c(self.upper_limit_95),
+            "upper_limit_95": clean_number(self.upper_limit_95),
             "reason": self.reason,
-            "suggested_ligand_M": _c(self.suggested_ligand_M),
+            "suggested_ligand_M": clean_number(self.suggested_ligand_M),
         }
 
 
@@ -72,7 +65,7 @@ class ConditionalConstants:
     def to_dict(self) -> dict[str, Any]:
         return {
             "pH": self.pH,
-            "log10_alpha_L": _c(self.log10_alpha_L),
+            "log10_alpha_L": clean_number(self.log10_alpha_L),
             "log10_beta": [
                 {"j": j, **q.to_dict()} for j, q in enumerate(self.log10_beta, start=1)
             ],
@@ -133,7 +126,9 @@ class StepwiseFit:
         for j, (q, det, mf) in enumerate(
             zip(self.log10_beta, self.determined, self.max_fraction, strict=True), start=1
         ):
-            betas.append({"j": j, **q.to_dict(), "determined": det, "max_fraction": _c(mf)})
+            betas.append(
+                {"j": j, **q.to_dict(), "determined": det, "max_fraction": clean_number(mf)}
+            )
         return {
             "model": "stepwise",
             "fitted_state": self.fitted_state,
@@ -142,7 +137,7 @@ class StepwiseFit:
             "log10_beta": betas,
             "covariance": None
             if self.covariance is None
-            else [[_c(x) for x in row] for row in self.covariance],
+            else [[clean_number(x) for x in row] for row in self.covariance],
             "E_half_free_V": self.E_half_free.to_dict(),
             "selection": {
                 "criterion": "extra-sum-of-squares F-test",
@@ -153,11 +148,11 @@ class StepwiseFit:
             "points": [
                 {
                     "file": lab,
-                    "free_ligand_M": _c(L),
-                    "log10_alpha_L": _c(a),
-                    "ln_F0": _c(f),
-                    "ln_F0_stderr": _c(s),
-                    "residual_V": _c(r),
+                    "free_ligand_M": clean_number(L),
+                    "log10_alpha_L": clean_number(a),
+                    "ln_F0": clean_number(f),
+                    "ln_F0_stderr": clean_number(s),
+                    "residual_V": clean_number(r),
                 }
                 for lab, L, a, f, s, r in zip(
                     self.labels,
@@ -176,7 +171,7 @@ class StepwiseFit:
                 {"j": j, **q.to_dict()}
                 for j, q in enumerate(self.thermodynamic_log10_beta, start=1)
             ],
-            "ionic_strength_M": _c(self.ionic_strength_M),
+            "ionic_strength_M": clean_number(self.ionic_strength_M),
             "free_ligand_iterations": self.free_ligand_iterations,
             "n_points": self.n_points,
             "dof": self.dof,
@@ -214,7 +209,7 @@ def verdicts(
         if not ok:
             target = fraction_peak_ligand_M(vals, j)
             why = "its profile-likelihood interval is open (runs into the bound)"
-            undetermined.append(UndeterminedConstant(j, _c(hi), why, target))
+            undetermined.append(UndeterminedConstant(j, clean_number(hi), why, target))
         elif max_frac[j - 1] < MIN_MAX_FRACTION:
             flags.append(
                 Flag(
@@ -226,7 +221,7 @@ def verdicts(
             )
     for fit_j, up in zip(larger, uppers, strict=True):
         j = fit_j.N
-        up = _c(up)
+        up = clean_number(up)
         target = None
         if up is not None:
             target = fraction_peak_ligand_M([*vals, *[up] * (j - N)], j)

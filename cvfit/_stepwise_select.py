@@ -26,6 +26,7 @@ import numpy as np
 from scipy import stats
 
 from ._stepwise_core import CandidateFit, StepwiseData, fit_candidate
+from .quantity import clean_number
 
 __all__ = ["CandidateSummary", "fit_all_candidates", "choose_candidate", "summarise", "ALPHA"]
 
@@ -63,18 +64,15 @@ class CandidateSummary:
     log10_beta: tuple[float, ...]
 
     def to_dict(self) -> dict:
-        def c(x):
-            return x if x is not None and math.isfinite(x) else None
-
         return {
             "n_complexes": self.n_complexes,
-            "chi_square": c(self.chi_square),
+            "chi_square": clean_number(self.chi_square),
             "dof": self.dof,
-            "reduced_chi_square": c(self.reduced_chi_square),
-            "aicc": c(self.aicc),
-            "bic": c(self.bic),
-            "p_value_vs_previous": c(self.p_value_vs_previous),
-            "log10_beta": [c(float(x)) for x in self.log10_beta],
+            "reduced_chi_square": clean_number(self.reduced_chi_square),
+            "aicc": clean_number(self.aicc),
+            "bic": clean_number(self.bic),
+            "p_value_vs_previous": clean_number(self.p_value_vs_previous),
+            "log10_beta": [clean_number(float(x)) for x in self.log10_beta],
         }
 
 

@@ -7,7 +7,15 @@ from dataclasses import dataclass
 
 from scipy import stats
 
-__all__ = ["Quantity", "t_interval"]
+__all__ = ["Quantity", "t_interval", "clean_number"]
+
+
+def clean_number(x: float | None) -> float | None:
+    """A float for JSON: ``None`` for missing, NaN or infinite values."""
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
 
 
 def t_interval(value: float, stderr: float, dof: int, level: float = 0.95) -> tuple[float, float]:
@@ -65,11 +73,8 @@ class Quantity:
     def to_dict(self) -> dict[str, object]:
         """Plain JSON-ready mapping ``{"value", "stderr", "ci95"}`` (NaN → None)."""
 
-        def clean(x: float) -> float | None:
-            return x if math.isfinite(x) else None
-
         return {
-            "value": clean(self.value),
-            "stderr": clean(self.stderr),
-            "ci95": [clean(self.ci95[0]), clean(self.ci95[1])],
+            "value": clean_number(self.value),
+            "stderr": clean_number(self.stderr),
+            "ci95": [clean_number(self.ci95[0]), clean_number(self.ci95[1])],
         }

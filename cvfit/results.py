@@ -6,11 +6,11 @@ results.json contract of DESIGN.md (NaN and missing values become ``null``).
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 from .flags import Flag
+from .quantity import clean_number
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
     from .classification import Classification
@@ -22,14 +22,6 @@ if TYPE_CHECKING:  # imported for annotations only; keeps this module free of he
     from .voltammogram import Voltammogram
 
 __all__ = ["FileResult", "ReferenceHalfWave", "SeriesResult", "clean_number"]
-
-
-def clean_number(x: float | None) -> float | None:
-    """A float for JSON: ``None`` for missing, NaN or infinite values."""
-    if x is None:
-        return None
-    x = float(x)
-    return x if math.isfinite(x) else None
 
 
 @dataclass(frozen=True)

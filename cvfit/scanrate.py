@@ -30,7 +30,7 @@ from scipy import optimize, stats
 
 from .flags import Flag
 from .kinetics import PSI_TABLE
-from .quantity import Quantity
+from .quantity import Quantity, clean_number
 from .units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K
 
 __all__ = [
@@ -149,9 +149,6 @@ class ScanRateStudy:
         def q(x: Quantity | None) -> dict | None:
             return None if x is None else x.to_dict()
 
-        def num(x: float | None) -> float | None:
-            return None if x is None or not math.isfinite(x) else float(x)
-
         return {
             "ligand_M": self.ligand_M,
             "files": list(self.files),
@@ -164,8 +161,8 @@ class ScanRateStudy:
             "delta_Ep_grows": self.delta_Ep_grows,
             "excess_cause": self.excess_cause,
             "ir_resistance_ohm": q(self.ir_resistance_ohm),
-            "chi2_ir": num(self.chi2_ir),
-            "chi2_kinetics": num(self.chi2_kinetics),
+            "chi2_ir": clean_number(self.chi2_ir),
+            "chi2_kinetics": clean_number(self.chi2_kinetics),
             "Ep_slope_V_per_decade": q(self.Ep_slope_V_per_decade),
             "alpha_n": q(self.alpha_n),
             "flags": [f.to_dict() for f in self.flags],

@@ -46,7 +46,7 @@ from ._lingane_stats import (
 )
 from .errors import FitError, InputError
 from .flags import Flag
-from .quantity import Quantity
+from .quantity import Quantity, clean_number
 from .units import nernst_slope_V_per_decade
 
 __all__ = [
@@ -201,9 +201,6 @@ class LinganeFit:
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready mapping with the results.json ``fit`` keys (NaN/inf → None)."""
 
-        def clean(x: float | None) -> float | None:
-            return None if x is None or not math.isfinite(x) else float(x)
-
         out: dict[str, Any] = {"model": "lingane"}
         for key in _Q_KEYS[:3]:
             out[key] = getattr(self, key).to_dict()
@@ -216,10 +213,10 @@ class LinganeFit:
             weighted=self.weighted,
             residuals_V=list(self.residuals_V),
             covariance=[list(row) for row in self.covariance],
-            curvature_p_value=clean(self.curvature_p_value),
-            reduced_chi_square=clean(self.reduced_chi_square),
+            curvature_p_value=clean_number(self.curvature_p_value),
+            reduced_chi_square=clean_number(self.reduced_chi_square),
             nernst_slope_V_per_decade=self.nernst_slope_V_per_decade,
-            intercept_dof=clean(self.intercept_dof),
+            intercept_dof=clean_number(self.intercept_dof),
             interval_methods={key: getattr(self, key).method for key in _Q_KEYS},
             flags=[f.to_dict() for f in self.flags],
         )
