@@ -14,9 +14,9 @@ and the ratios reference/simulator. No assertions: numbers depend on the machine
 from __future__ import annotations
 
 import math
-import time
 
 import numpy as np
+from _timing import best_of
 from scipy.linalg import solve_banded
 
 from cvfit import _sim_kernel
@@ -27,15 +27,6 @@ SETTINGS = dict(E_half_V=0.0, start_V=1.0, switch_V=-1.0, step_V=0.001, scan_rat
 D = 1e-5
 C = 1e-6  # mol/cm3
 AREA = 0.0707
-
-
-def best_of(func, repeats: int) -> float:
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        func()
-        times.append(time.perf_counter() - t0)
-    return min(times)
 
 
 def reference_cv(E: np.ndarray, dt: float, x: np.ndarray) -> np.ndarray:

@@ -12,9 +12,8 @@ and the ratios to the Lingane fit. No assertions: numbers depend on the machine.
 
 from __future__ import annotations
 
-import time
-
 import numpy as np
+from _timing import best_of
 
 from cvfit._stepwise_core import StepwiseData
 from cvfit._stepwise_select import choose_candidate, fit_all_candidates
@@ -27,15 +26,6 @@ from cvfit.units import thermal_voltage
 TRUTH = (2.0, 3.7, 4.9)
 L = np.logspace(-3.5, 0.0, 14)
 SIGMA = 0.2e-3
-
-
-def best_of(func, repeats: int) -> float:
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        func()
-        times.append(time.perf_counter() - t0)
-    return min(times)
 
 
 def main() -> None:
