@@ -8,9 +8,9 @@ reused by later runs), builds series of 10, 50, 200 (and, with ``--with-1000``, 
 the 200 files copied five times) files, and times in this one process
 
 * the baseline: ``pandas.read_csv`` of every file of the series;
-* cvfit: ``analyse_series(load_manifest(...))`` plus ``write_outputs`` (table, both figures,
-  report.html, results.json), with 1 and 2 worker processes importing the files
-  (``cvfit run --jobs N``).
+* cvfit: ``analyse_series(load_manifest(...), jobs=N)`` plus ``write_outputs(..., jobs=N)``
+  (table, the three figures, report.html, results.json), with 1 and 2 worker processes
+  for the files and the figures (``cvfit run --jobs N``).
 
 Every file is read once before timing so both sides find it in the page cache. Each side
 runs ``--repeats`` times (3); prints the best times and the ratio cvfit/pandas of the best
@@ -34,7 +34,6 @@ import pandas as pd
 
 from cvfit.complexation import complexed_half_wave_V
 from cvfit.io import load_manifest
-from cvfit.io.parallel import read_series_records
 from cvfit.pipeline import analyse_series
 from cvfit.report import write_outputs
 from cvfit.simulate import simulate_cv
@@ -129,10 +128,9 @@ def time_cvfit(manifest: Path, out: Path, jobs: int) -> tuple[float, float]:
     """(analysis, outputs) seconds."""
     t0 = time.perf_counter()
     m = load_manifest(manifest)
-    records = read_series_records(m, jobs=jobs) if jobs > 1 else None
-    result = analyse_series(m, records=records)
+    result = analyse_series(m, jobs=jobs)
     t1 = time.perf_counter()
-    write_outputs(result, out)
+    write_outputs(result, out, jobs=jobs)
     return t1 - t0, time.perf_counter() - t1
 
 

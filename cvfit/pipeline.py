@@ -8,25 +8,18 @@ and fits the titration model to the usable points.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import fields, replace
 from pathlib import Path
 
 import numpy as np
 
 from . import __version__
-from ._series_diagnostics import (
-    correct_for_resistance,
-    diagnose_files,
-    ohmic_flags,
-    resistance_for,
-)
-from .diagnostics import screen_reversibility
+from ._file_stage import LIGAND_EXCESS_MIN, analyse_files
+from ._series_diagnostics import diagnose_files
 from .errors import InputError
 from .flags import Flag
-from .halfwave import corrected_half_wave_V
-from .io import Manifest, VoltammogramEntry, load_manifest, read_voltammogram
-from .peaks import PeakAnalysis, analyse_peaks
+from .io import Manifest, load_manifest
 from .results import FileResult, ReferenceHalfWave, SeriesResult
 from .titration import MIN_POINTS as MIN_FIT_POINTS
 from .titration import TitrationPoint, check_points, fit_lingane
@@ -34,103 +27,10 @@ from .voltammogram import Voltammogram
 
 __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_EXCESS_MIN"]
 
-#: Ligand excess over metal below which the free-ligand assumption is doubtful
-#: (common practice: keep the ligand in >= 10-fold excess).
-LIGAND_EXCESS_MIN = 10.0
 
-
-def analyse_manifest_file(path: str | Path) -> SeriesResult:
-    """Load a manifest and analyse its series."""
-    return analyse_series(load_manifest(path))
-
-
-def _ratio_from_first_cycle(
-    peaks: PeakAnalysis, v: Voltammogram, electrons: int, temperature_K: float
-) -> PeakAnalysis:
-    """On a later cycle, take the current ratio from cycle 1, which starts at rest.
-
-    Nicholson's relation (Anal. Chem. 38 (1966) 1406) assumes a forward sweep that begins
-    at rest, so the peak analysis leaves the ratio of a later cycle undetermined; the
-    ratio is a property of the couple, and cycle 1 of the same record gives it.
-    """
-    if peaks.current_ratio is not None or peaks.cycle_number == 1:
-        return peaks
-    if not any(f.code == "CURRENT_RATIO_NOT_DETERMINED" for f in peaks.flags):
-        return peaks
-    first_cycles = v.cycles()
-    if not first_cycles or not first_cycles[0].complete:
-        return peaks
-    first = analyse_peaks(v, cycle=1, electrons=electrons, temperature_K=temperature_K)
-    if first.current_ratio is None:
-        return peaks
-    flags = tuple(f for f in peaks.flags if f.code != "CURRENT_RATIO_NOT_DETERMINED")
-    note = Flag(
-        "CURRENT_RATIO_FROM_FIRST_CYCLE",
-        f"cycle {peaks.cycle_number} does not start at rest, so ipa/ipc "
-        f"({first.current_ratio:.3f}) was taken from cycle 1 of the same record "
-        "(Nicholson 1966)",
-        "info",
-    )
-    return replace(peaks, current_ratio=first.current_ratio, flags=(*flags, note))
-
-
-def _analyse_file(
-    entry: VoltammogramEntry, manifest: Manifest, record: Voltammogram | None = None
-) -> FileResult:
-    series = manifest.series
-    v = record
-    if v is None:
-        v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
-    resistance = resistance_for(entry, series)
-    v = correct_for_resistance(v, resistance)  # a new record; the input is not changed
-    peaks = analyse_peaks(
-        v,
-        cycle=entry.import_options.cycle,
-        electrons=series.electrons,
-        temperature_K=series.temperature_K,
-    )
-    peaks = _ratio_from_first_cycle(peaks, v, series.electrons, series.temperature_K)
-    screen = screen_reversibility(
-        peaks,
-        electrons=series.electrons,
-        temperature_K=series.temperature_K,
-        criteria=manifest.reversibility,
-    )
-    flags = list(peaks.flags)
-    flags += [f for f in screen.flags if f.code not in {g.code for g in flags}]
-    flags += ohmic_flags(peaks, resistance)
-    if screen.reversible is True:
-        e_half, correction = corrected_half_wave_V(
-            peaks, electrons=series.electrons, temperature_K=series.temperature_K
-        )
-    else:
-        e_half, correction = peaks.E_half_V, 0.0
-    metal = series.metal_total_M
-    lingane = manifest.fit.model == "lingane"  # the stepwise model corrects [L] itself
-    if lingane and metal is not None and 0 < entry.ligand_M < LIGAND_EXCESS_MIN * metal:
-        flags.append(
-            Flag(
-                "LOW_LIGAND_EXCESS",
-                f"ligand is only {entry.ligand_M / metal:.1f}-fold in excess over the metal "
-                f"({entry.ligand_M:.3g} M vs {metal:.3g} M); total ligand was used as free "
-                "ligand, which overstates [L] (keep >= 10-fold excess, common practice)",
-            )
-        )
-    return FileResult(
-        file=entry.name,
-        ligand_M=entry.ligand_M,
-        free_ligand_M=entry.ligand_M,
-        scan_rate_V_s=v.effective_scan_rate_V_s(),
-        peaks=peaks,
-        screen=screen,
-        used_in_fit=False,
-        flags=tuple(flags),
-        voltammogram=v,
-        label=entry.label,
-        E_half_V=e_half,
-        switching_correction_V=correction,
-        resistance_ohm=resistance or None,
-    )
+def analyse_manifest_file(path: str | Path, *, jobs: int = 1) -> SeriesResult:
+    """Load a manifest and analyse its series (*jobs* worker processes for the files)."""
+    return analyse_series(load_manifest(path), jobs=jobs)
 
 
 def _series_record(manifest: Manifest) -> dict:
@@ -185,7 +85,11 @@ def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalf
 
 
 def analyse_series(
-    manifest: Manifest, *, records: Mapping[str, Voltammogram] | None = None
+    manifest: Manifest,
+    *,
+    records: Mapping[str, Voltammogram] | None = None,
+    jobs: int = 1,
+    progress: Callable[[], object] | None = None,
 ) -> SeriesResult:
     """Analyse one titration series described by a loaded manifest.
 
@@ -196,6 +100,11 @@ def analyse_series(
     records : mapping of str to Voltammogram, optional
         Voltammograms already in memory, keyed by the entries' ``name``; entries not in
         it are read from their files.
+    jobs : int
+        Worker processes for the per-file work (import, peaks, screen); 1 runs it in this
+        process. The results do not depend on it. Ignored when *records* is given.
+    progress : callable, optional
+        Called once per file analysed (the command line's progress bar).
 
     Returns
     -------
@@ -212,8 +121,7 @@ def analyse_series(
             source=str(manifest.path),
             key="voltammogram",
         )
-    records = records or {}
-    files = [_analyse_file(e, manifest, records.get(e.name)) for e in manifest.voltammograms]
+    files = analyse_files(manifest, records=dict(records or {}), jobs=jobs, progress=progress)
     files, studies, study_flags = diagnose_files(files, manifest)
     reference = _reference(files, manifest)
     exclude = manifest.fit.exclude_non_nernstian

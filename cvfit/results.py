@@ -14,12 +14,12 @@ from .quantity import clean_number
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
     from .classification import Classification
+    from .curves import CycleCurve
     from .diagnostics import ReversibilityScreen
     from .kinetics import KineticsResult
     from .peaks import PeakAnalysis
     from .scanrate import ScanRateStudy
     from .titration import LinganeFit
-    from .voltammogram import Voltammogram
 
 __all__ = ["FileResult", "ReferenceHalfWave", "SeriesResult", "clean_number"]
 
@@ -46,8 +46,10 @@ class FileResult:
         Whether the point entered the titration fit.
     flags : tuple of Flag
         Findings of the peak analysis, the screen and the pipeline.
-    voltammogram : Voltammogram
-        The imported record (for figures; not written to results.json).
+    curve : CycleCurve or None
+        The analysed cycle, thinned for figures (not written to results.json); the
+        whole record is not kept, so a large series stays small in memory and results
+        made in worker processes travel back cheaply.
     label : str or None
         Optional label from the manifest.
     E_half_V : float or None
@@ -71,7 +73,7 @@ class FileResult:
     screen: ReversibilityScreen
     used_in_fit: bool
     flags: tuple[Flag, ...]
-    voltammogram: Voltammogram = field(repr=False, compare=False)
+    curve: CycleCurve | None = field(default=None, repr=False, compare=False)
     label: str | None = None
     E_half_V: float | None = None
     switching_correction_V: float = 0.0

@@ -169,25 +169,35 @@ def test_summary_and_exit_status():
         SeriesOutcome("a", "b", "fine")
 
 
-def test_parallel_import_of_one_series_matches_serial(tmp_path, csvs, capsys):
+def test_parallel_files_of_one_series_match_serial(tmp_path, csvs, capsys):
+    """Files analysed in worker processes give the serial results, file for file, and the
+    serial run's first error."""
+    import pickle
+
     from cvfit.io import load_manifest
-    from cvfit.io.parallel import read_series_records
+    from cvfit.pipeline import analyse_series
 
     m = make_series(tmp_path / "p", csvs, title="parallel")
     manifest = load_manifest(m)
-    serial = read_series_records(manifest, jobs=1)
-    parallel = read_series_records(manifest, jobs=2)
-    assert list(serial) == list(parallel) == [e.name for e in manifest.voltammograms]
-    for name in serial:
-        assert (serial[name].current_A == parallel[name].current_A).all()
-    assert main(["run", str(m), "--out", str(tmp_path / "o1"), "--quiet"]) == 0
+    serial = analyse_series(manifest, jobs=1)
+    parallel = analyse_series(manifest, jobs=2)
+    assert serial.to_dict() == parallel.to_dict()
+    for one, two in zip(serial.files, parallel.files, strict=True):
+        assert one.file == two.file
+        assert (one.curve.current_A == two.curve.current_A).all()
+    # what travels back from a worker: the small record, not the 20 000-point file
+    assert len(pickle.dumps(parallel.files[0])) < 40_000
+    assert main(["run", str(m), "--out", str(tmp_path / "o1"), "--quiet", "--jobs", "1"]) == 0
     assert main(["run", str(m), "--out", str(tmp_path / "o2"), "--quiet", "--jobs", "2"]) == 0
-    one, two = ((tmp_path / o / "results.json").read_text("utf-8") for o in ("o1", "o2"))
-    assert one == two
+    assert main(["run", str(m), "--out", str(tmp_path / "o3"), "--quiet"]) == 0
+    one, two, auto = (
+        (tmp_path / o / "results.json").read_text("utf-8") for o in ("o1", "o2", "o3")
+    )
+    assert one == two == auto
     broken = make_series(tmp_path / "q", csvs, title="broken", broken=True)
     with pytest.raises(InputError) as serial_err:
-        read_series_records(load_manifest(broken), jobs=1)
+        analyse_series(load_manifest(broken), jobs=1)
     with pytest.raises(InputError) as parallel_err:
-        read_series_records(load_manifest(broken), jobs=2)
+        analyse_series(load_manifest(broken), jobs=2)
     assert str(parallel_err.value) == str(serial_err.value)
     assert "b2.csv" in str(serial_err.value)

@@ -36,9 +36,9 @@ def _capture(monkeypatch):
     seen = []
     original = figures._save
 
-    def keep(fig, path):
+    def keep(fig, path, **kw):
         seen.append(fig)
-        return original(fig, path)
+        return original(fig, path, **kw)
 
     monkeypatch.setattr(figures, "_save", keep)
     monkeypatch.setattr(figures_diagnostics, "_save", keep)

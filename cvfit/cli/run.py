@@ -3,9 +3,12 @@
 from __future__ import annotations
 
 import argparse
+import contextlib
 import sys
+from collections.abc import Callable, Iterator
 from pathlib import Path
 
+from .._file_stage import PARALLEL_MIN_FILES, available_cpus, default_file_jobs
 from ..errors import InputError
 from ..io import load_manifest
 from ..pipeline import analyse_series
@@ -34,11 +37,28 @@ def register(sub: argparse._SubParsersAction) -> None:
         metavar="N",
         type=int,
         help="worker processes: for a batch, series run in parallel (default: one per CPU "
-        "core, at most one per series); for one series, files are imported in parallel "
-        "(default: 1)",
+        "core, at most one per series); for one series, its files are read and measured "
+        f"in parallel (default: one per CPU core from {PARALLEL_MIN_FILES} files on) and its "
+        "figures drawn in parallel; 1 runs everything in one process",
     )
     p.add_argument("--quiet", action="store_true", help="print only where results went")
     p.set_defaults(handler=handle)
+
+
+@contextlib.contextmanager
+def _progress(total: int, *, enabled: bool) -> Iterator[Callable[[], None]]:
+    """A per-file progress bar on stderr (tqdm) for long series; shown only on a terminal."""
+    from tqdm import tqdm
+
+    with tqdm(
+        total=total,
+        unit="file",
+        file=sys.stderr,
+        leave=False,
+        desc="cvfit",
+        disable=None if enabled and total >= PARALLEL_MIN_FILES else True,
+    ) as bar:
+        yield bar.update
 
 
 def default_out_dir(manifest_path: Path) -> Path:
@@ -69,13 +89,13 @@ def run_manifest(
     check_outputs_spare_inputs(
         out_dir, [manifest.path, *(e.file for e in manifest.voltammograms)], manifest.path
     )
-    records = None
-    if jobs is not None:  # import the files in worker processes
-        from ..io.parallel import read_series_records
-
-        records = read_series_records(manifest, jobs=jobs)
-    result = analyse_series(manifest, records=records)
-    written = write_outputs(result, out_dir)
+    if jobs is not None and jobs < 1:
+        raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
+    n_files = len(manifest.voltammograms)
+    file_jobs = default_file_jobs(n_files) if jobs is None else jobs
+    with _progress(n_files, enabled=not quiet) as tick:
+        result = analyse_series(manifest, jobs=file_jobs, progress=tick)
+    written = write_outputs(result, out_dir, jobs=available_cpus() if jobs is None else jobs)
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
     sys.stdout.write(

@@ -8,6 +8,7 @@ thinned to at most ``MAX_POINTS_DRAWN`` points (thousands of points do not show 
 from __future__ import annotations
 
 import math
+import textwrap
 from pathlib import Path
 
 import matplotlib
@@ -20,17 +21,24 @@ from matplotlib.collections import LineCollection  # noqa: E402
 from matplotlib.ticker import FuncFormatter, NullFormatter  # noqa: E402
 from scipy import stats  # noqa: E402
 
+from ..curves import (  # noqa: E402
+    MAX_POINTS_DRAWN,
+    MAX_POINTS_PER_FIGURE,
+    MIN_POINTS_DRAWN,
+    points_per_curve,
+)
 from ..results import SeriesResult  # noqa: E402
 from ._atomic import atomic_path  # noqa: E402
 
-__all__ = ["plot_voltammograms", "plot_lingane", "MAX_POINTS_DRAWN", "COLOUR_MAP"]
+__all__ = [
+    "plot_voltammograms",
+    "plot_lingane",
+    "MAX_POINTS_DRAWN",
+    "MAX_POINTS_PER_FIGURE",
+    "MIN_POINTS_DRAWN",
+    "COLOUR_MAP",
+]
 
-MAX_POINTS_DRAWN = 1500
-#: Points drawn in one figure at most: a large series draws each curve more thinly
-#: (200 overlaid curves 6 inches wide show no more at 300 points each than at 1500),
-#: never below ``MIN_POINTS_DRAWN``.
-MAX_POINTS_PER_FIGURE = 60_000
-MIN_POINTS_DRAWN = 300
 COLOUR_MAP = "cividis"
 _STYLE = {
     "font.size": 9,
@@ -62,9 +70,51 @@ def _thin(
     return x[::step], y[::step]
 
 
-def _save(fig: plt.Figure, path: Path) -> Path:
+#: zlib level of the PNG files: level 1 writes them ~3x faster than the default 6 for
+#: ~10 % more bytes (flat-coloured plots compress well at any level).
+PNG_COMPRESS_LEVEL = 1
+
+
+#: Average advance of a character as a fraction of the font size (DejaVu Sans, mixed
+#: text), to wrap titles to the figure width without measuring them.
+_CHAR_EM = 0.55
+#: Height of one title line at 9 pt (font size and line spacing), inches.
+_TITLE_LINE_IN = 0.17
+
+
+def _set_title(ax: plt.Axes, text: str, *, fontsize: float = 9.0) -> float:
+    """Set a title wrapped to the figure's width; return the top margin it needs, inches."""
+    width_in = float(ax.figure.get_size_inches()[0])
+    per_line = max(20, int(0.95 * width_in * 72.0 / (_CHAR_EM * fontsize)))
+    lines = textwrap.wrap(text, per_line, break_long_words=True) or [""]
+    ax.set_title("\n".join(lines), fontsize=fontsize)
+    return 0.12 + _TITLE_LINE_IN * len(lines) * fontsize / 9.0
+
+
+def _save(
+    fig: plt.Figure, path: Path, *, margins_in: tuple[float, float, float, float] | None = None
+) -> Path:
+    """Write *fig* to *path* atomically and close it.
+
+    ``margins_in = (left, right, bottom, top)`` in inches fixes the space around the axes,
+    sized for our labels, so the figure is drawn once; without it the canvas is cropped
+    to what was drawn (``bbox_inches="tight"``), which costs a second full drawing.
+    """
+    fmt = path.suffix.lstrip(".") or "png"
+    extra: dict = {"pil_kwargs": {"compress_level": PNG_COMPRESS_LEVEL}} if fmt == "png" else {}
+    if margins_in is None:
+        extra["bbox_inches"] = "tight"
+    else:
+        width, height = fig.get_size_inches()
+        left, right, bottom, top = margins_in
+        fig.subplots_adjust(
+            left=left / width,
+            right=1.0 - right / width,
+            bottom=bottom / height,
+            top=1.0 - top / height,
+        )
     with atomic_path(path) as tmp:
-        fig.savefig(tmp, format=path.suffix.lstrip(".") or "png", bbox_inches="tight")
+        fig.savefig(tmp, format=fmt, **extra)
     plt.close(fig)
     return path
 
@@ -82,20 +132,14 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             if hi <= lo:
                 lo, hi = lo / 2, hi * 2
             norm = mcolors.LogNorm(vmin=lo, vmax=hi)
-        per_curve = max(
-            MIN_POINTS_DRAWN,
-            min(MAX_POINTS_DRAWN, MAX_POINTS_PER_FIGURE // max(1, len(result.files))),
-        )
+        per_curve = points_per_curve(len(result.files))
         # the titration curves go into one LineCollection (one artist, not one per file);
         # the ligand-free curves stay lines of their own for the legend
         segments, ligands, alphas = [], [], []
         for f in result.files:
-            v = f.voltammogram
-            cyc = v.cycle(f.peaks.cycle_number) if f.peaks.cycle_number else v.cycle()
-            stop = cyc.reverse.stop if cyc.reverse is not None else cyc.forward.stop
-            E = v.potential_V[cyc.forward.start : stop + 1]
-            i = v.current_A[cyc.forward.start : stop + 1]
-            E, i = _thin(E, i, per_curve)
+            if f.curve is None:  # a result built without its curves
+                continue
+            E, i = _thin(f.curve.potential_V, f.curve.current_A, per_curve)
             alpha = 1.0 if f.reversible is True else 0.55
             if f.ligand_M > 0 and norm is not None:
                 segments.append(np.column_stack([E, i * 1e6]))
@@ -127,8 +171,12 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             cb.ax.yaxis.set_minor_formatter(NullFormatter())
         if any(f.ligand_M == 0 for f in result.files):
             ax.legend(loc="best", frameon=False)
-        ax.set_title(result.series.get("title") or "voltammograms", fontsize=9)
-        return _save(fig, path)
+        top = _set_title(ax, result.series.get("title") or "voltammograms")
+        return _save(fig, path, margins_in=(0.8, 0.35, 0.5, top))
+
+
+#: Left, right and bottom margins of the half-wave-shift figure, inches.
+_LINGANE_MARGINS_IN = (0.8, 0.2, 0.55)
 
 
 def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
@@ -142,7 +190,8 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         pts = [f for f in result.files if f.ligand_M > 0 and f.E_half_V is not None]
         if ref is None or not pts:
             ax.text(0.5, 0.5, "no E½ shift could be measured", ha="center", transform=ax.transAxes)
-            return _save(fig, path)
+            top = _set_title(ax, result.series.get("title") or "half-wave shift")
+            return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
         x = np.log10([f.free_ligand_M for f in pts])
         y = np.array([(f.E_half_V - ref) * 1e3 for f in pts])
         yerr = np.array([(f.peaks.E_half_stderr_V or 0.0) * 1e3 for f in pts])
@@ -201,5 +250,5 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel("E½(c) − E½(s) / mV")
         ax.legend(loc="best", frameon=False, fontsize=8)
-        ax.set_title(result.series.get("title") or "half-wave shift", fontsize=9)
-        return _save(fig, path)
+        top = _set_title(ax, result.series.get("title") or "half-wave shift")
+        return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))

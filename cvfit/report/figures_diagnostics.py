@@ -18,7 +18,7 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
 from ..results import SeriesResult  # noqa: E402
-from .figures import _STYLE, _save  # noqa: E402
+from .figures import _STYLE, _save, _set_title  # noqa: E402
 
 __all__ = ["plot_diagnostics"]
 
@@ -140,7 +140,6 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
         axr.set_xlabel("voltammogram (total ligand, scan rate); open markers: not fitted")
         ax.legend(loc="best", frameon=False, fontsize=7)
         axr.legend(loc="best", frameon=False, fontsize=7)
-        ax.set_title(
-            (result.series.get("title") or "") + " — reversibility diagnostics", fontsize=9
-        )
-        return _save(fig, path)
+        top = _set_title(ax, (result.series.get("title") or "") + " — reversibility diagnostics")
+        # bottom: two-line tick labels at 60° and the axis label
+        return _save(fig, path, margins_in=(0.8, 0.2, 1.0, top))

@@ -1,0 +1,228 @@
+"""Per-file stage of the pipeline: import, peaks, screen, E½ — serially or in workers.
+
+Every voltammogram of a series is analysed on its own (the series-level steps come after,
+in :mod:`cvfit.pipeline`), so this stage runs file by file in worker processes when asked.
+A worker sends back the small :class:`~cvfit.results.FileResult` — peak data, verdicts,
+flags and the analysed cycle thinned for figures — never the whole record, so the work
+that dominates a large series (parsing the text and the peak analysis) is spread over the
+CPU cores while the traffic between processes stays a few kilobytes per file.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import replace
+
+from ._series_diagnostics import correct_for_resistance, ohmic_flags, resistance_for
+from .curves import cycle_curve, points_per_curve
+from .diagnostics import screen_reversibility
+from .errors import InputError
+from .flags import Flag
+from .halfwave import corrected_half_wave_V
+from .io import Manifest, VoltammogramEntry, read_voltammogram
+from .peaks import PeakAnalysis, analyse_peaks
+from .results import FileResult
+from .voltammogram import Voltammogram
+
+__all__ = [
+    "analyse_file",
+    "analyse_files",
+    "available_cpus",
+    "default_file_jobs",
+    "LIGAND_EXCESS_MIN",
+    "PARALLEL_MIN_FILES",
+]
+
+#: Ligand excess over metal below which the free-ligand assumption is doubtful
+#: (common practice: keep the ligand in >= 10-fold excess).
+LIGAND_EXCESS_MIN = 10.0
+
+#: Smallest series whose files are analysed in worker processes by default: below it,
+#: starting the workers costs about as much as they save (measured by
+#: benchmarks/bench_series.py, ~2-3 ms per 20 000-point file against ~20 ms of start-up).
+PARALLEL_MIN_FILES = 16
+
+# (message, source, line, key) of an InputError: sent back as plain data, because the
+# exception's keyword-only constructor does not survive pickling.
+_ErrorParts = tuple[str, str | None, int | None, str | None]
+
+
+def available_cpus() -> int:
+    """CPU cores this process may run on (the affinity mask where the OS has one)."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # pragma: no cover - platforms without sched_getaffinity
+        return max(1, os.cpu_count() or 1)
+
+
+def default_file_jobs(n_files: int) -> int:
+    """Worker processes for the files of an *n_files* series when none were asked for."""
+    return min(available_cpus(), n_files) if n_files >= PARALLEL_MIN_FILES else 1
+
+
+def _ratio_from_first_cycle(
+    peaks: PeakAnalysis, v: Voltammogram, electrons: int, temperature_K: float
+) -> PeakAnalysis:
+    """On a later cycle, take the current ratio from cycle 1, which starts at rest.
+
+    Nicholson's relation (Anal. Chem. 38 (1966) 1406) assumes a forward sweep that begins
+    at rest, so the peak analysis leaves the ratio of a later cycle undetermined; the
+    ratio is a property of the couple, and cycle 1 of the same record gives it.
+    """
+    if peaks.current_ratio is not None or peaks.cycle_number == 1:
+        return peaks
+    if not any(f.code == "CURRENT_RATIO_NOT_DETERMINED" for f in peaks.flags):
+        return peaks
+    first_cycles = v.cycles()
+    if not first_cycles or not first_cycles[0].complete:
+        return peaks
+    first = analyse_peaks(v, cycle=1, electrons=electrons, temperature_K=temperature_K)
+    if first.current_ratio is None:
+        return peaks
+    flags = tuple(f for f in peaks.flags if f.code != "CURRENT_RATIO_NOT_DETERMINED")
+    note = Flag(
+        "CURRENT_RATIO_FROM_FIRST_CYCLE",
+        f"cycle {peaks.cycle_number} does not start at rest, so ipa/ipc "
+        f"({first.current_ratio:.3f}) was taken from cycle 1 of the same record "
+        "(Nicholson 1966)",
+        "info",
+    )
+    return replace(peaks, current_ratio=first.current_ratio, flags=(*flags, note))
+
+
+def analyse_file(
+    entry: VoltammogramEntry, manifest: Manifest, record: Voltammogram | None = None
+) -> FileResult:
+    """Import (unless *record* is given), measure and screen one voltammogram.
+
+    Raises
+    ------
+    InputError
+        A problem with the file or its manifest entry.
+    """
+    series = manifest.series
+    v = record
+    if v is None:
+        v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
+    resistance = resistance_for(entry, series)
+    v = correct_for_resistance(v, resistance)  # a new record; the input is not changed
+    peaks = analyse_peaks(
+        v,
+        cycle=entry.import_options.cycle,
+        electrons=series.electrons,
+        temperature_K=series.temperature_K,
+    )
+    peaks = _ratio_from_first_cycle(peaks, v, series.electrons, series.temperature_K)
+    screen = screen_reversibility(
+        peaks,
+        electrons=series.electrons,
+        temperature_K=series.temperature_K,
+        criteria=manifest.reversibility,
+    )
+    flags = list(peaks.flags)
+    flags += [f for f in screen.flags if f.code not in {g.code for g in flags}]
+    flags += ohmic_flags(peaks, resistance)
+    if screen.reversible is True:
+        e_half, correction = corrected_half_wave_V(
+            peaks, electrons=series.electrons, temperature_K=series.temperature_K
+        )
+    else:
+        e_half, correction = peaks.E_half_V, 0.0
+    metal = series.metal_total_M
+    lingane = manifest.fit.model == "lingane"  # the stepwise model corrects [L] itself
+    if lingane and metal is not None and 0 < entry.ligand_M < LIGAND_EXCESS_MIN * metal:
+        flags.append(
+            Flag(
+                "LOW_LIGAND_EXCESS",
+                f"ligand is only {entry.ligand_M / metal:.1f}-fold in excess over the metal "
+                f"({entry.ligand_M:.3g} M vs {metal:.3g} M); total ligand was used as free "
+                "ligand, which overstates [L] (keep >= 10-fold excess, common practice)",
+            )
+        )
+    return FileResult(
+        file=entry.name,
+        ligand_M=entry.ligand_M,
+        free_ligand_M=entry.ligand_M,
+        scan_rate_V_s=v.effective_scan_rate_V_s(),
+        peaks=peaks,
+        screen=screen,
+        used_in_fit=False,
+        flags=tuple(flags),
+        curve=cycle_curve(
+            v, peaks.cycle_number, max_points=points_per_curve(len(manifest.voltammograms))
+        ),
+        label=entry.label,
+        E_half_V=e_half,
+        switching_correction_V=correction,
+        resistance_ohm=resistance or None,
+    )
+
+
+_WORKER_MANIFEST: Manifest | None = None
+
+
+def _start_worker(manifest: Manifest) -> None:
+    global _WORKER_MANIFEST
+    _WORKER_MANIFEST = manifest
+
+
+def _analyse_in_worker(entry: VoltammogramEntry) -> FileResult | _ErrorParts:
+    assert _WORKER_MANIFEST is not None  # set by the pool's initializer
+    try:
+        return analyse_file(entry, _WORKER_MANIFEST)
+    except InputError as exc:
+        return (exc.message, exc.source, exc.line, exc.key)
+
+
+def analyse_files(
+    manifest: Manifest,
+    *,
+    records: dict[str, Voltammogram] | None = None,
+    jobs: int = 1,
+    progress: Callable[[], object] | None = None,
+) -> list[FileResult]:
+    """:func:`analyse_file` for every entry of *manifest*, in manifest order.
+
+    Parameters
+    ----------
+    manifest : Manifest
+        A loaded manifest.
+    records : mapping of str to Voltammogram, optional
+        Records already in memory, by entry name (then everything runs in this process).
+    jobs : int
+        Worker processes (1: this process). The results do not depend on it.
+    progress : callable, optional
+        Called once per file analysed (for a progress bar).
+
+    Raises
+    ------
+    InputError
+        The error of the first bad file in manifest order — the one a serial run reports.
+    """
+    if isinstance(jobs, bool) or int(jobs) < 1:
+        raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
+    tick = progress or (lambda: None)
+    entries = list(manifest.voltammograms)
+    if records or jobs == 1 or len(entries) < 2:
+        records = records or {}
+        done = []
+        for e in entries:
+            done.append(analyse_file(e, manifest, records.get(e.name)))
+            tick()
+        return done
+    workers = min(int(jobs), len(entries))
+    chunk = max(1, len(entries) // (4 * workers))
+    outcomes: list[FileResult | _ErrorParts] = []
+    with ProcessPoolExecutor(
+        max_workers=workers, initializer=_start_worker, initargs=(manifest,)
+    ) as pool:
+        for got in pool.map(_analyse_in_worker, entries, chunksize=chunk):
+            outcomes.append(got)
+            tick()
+    for got in outcomes:
+        if isinstance(got, tuple):
+            message, source, line, key = got
+            raise InputError(message, source=source, line=line, key=key)
+    return outcomes
