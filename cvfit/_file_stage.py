@@ -10,10 +10,11 @@ CPU cores while the traffic between processes stays a few kilobytes per file.
 
 from __future__ import annotations
 
+import contextlib
 import os
-from collections.abc import Callable
-from concurrent.futures import ProcessPoolExecutor
-from dataclasses import replace
+from collections.abc import Callable, Iterator
+from concurrent.futures import Executor, ProcessPoolExecutor
+from dataclasses import dataclass, replace
 
 from ._series_diagnostics import correct_for_resistance, ohmic_flags, resistance_for
 from .curves import cycle_curve, points_per_curve
@@ -31,6 +32,8 @@ __all__ = [
     "analyse_files",
     "available_cpus",
     "default_file_jobs",
+    "worker_pool",
+    "WorkerPool",
     "LIGAND_EXCESS_MIN",
     "PARALLEL_MIN_FILES",
 ]
@@ -160,20 +163,45 @@ def analyse_file(
     )
 
 
-_WORKER_MANIFEST: Manifest | None = None
+def _analyse_chunk(
+    manifest: Manifest, entries: list[VoltammogramEntry]
+) -> list[FileResult | _ErrorParts]:
+    """Worker side: a run of files, each a FileResult or the parts of its InputError."""
+    out: list[FileResult | _ErrorParts] = []
+    for entry in entries:
+        try:
+            out.append(analyse_file(entry, manifest))
+        except InputError as exc:
+            out.append((exc.message, exc.source, exc.line, exc.key))
+    return out
 
 
-def _start_worker(manifest: Manifest) -> None:
-    global _WORKER_MANIFEST
-    _WORKER_MANIFEST = manifest
+@dataclass(frozen=True)
+class WorkerPool:
+    """Worker processes shared by the stages of one run, and how many there are."""
+
+    executor: Executor
+    workers: int
 
 
-def _analyse_in_worker(entry: VoltammogramEntry) -> FileResult | _ErrorParts:
-    assert _WORKER_MANIFEST is not None  # set by the pool's initializer
+@contextlib.contextmanager
+def worker_pool(jobs: int) -> Iterator[WorkerPool | None]:
+    """A process pool of *jobs* workers to share between the stages of one run (None for 1).
+
+    The workers start (fork, where the platform does) at the first task, so a caller that
+    imports what the workers need beforehand (the figure modules) spares every worker that
+    import.
+    """
+    if isinstance(jobs, bool) or int(jobs) < 1:
+        raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
+    if jobs == 1:
+        yield None
+        return
+    executor = ProcessPoolExecutor(max_workers=int(jobs))
     try:
-        return analyse_file(entry, _WORKER_MANIFEST)
-    except InputError as exc:
-        return (exc.message, exc.source, exc.line, exc.key)
+        yield WorkerPool(executor, int(jobs))
+    finally:
+        executor.shutdown(cancel_futures=True)
 
 
 def analyse_files(
@@ -181,6 +209,7 @@ def analyse_files(
     *,
     records: dict[str, Voltammogram] | None = None,
     jobs: int = 1,
+    pool: WorkerPool | None = None,
     progress: Callable[[], object] | None = None,
 ) -> list[FileResult]:
     """:func:`analyse_file` for every entry of *manifest*, in manifest order.
@@ -192,7 +221,10 @@ def analyse_files(
     records : mapping of str to Voltammogram, optional
         Records already in memory, by entry name (then everything runs in this process).
     jobs : int
-        Worker processes (1: this process). The results do not depend on it.
+        Worker processes (1: this process) when no *pool* is given. The results do not
+        depend on it.
+    pool : WorkerPool, optional
+        Workers to use (see :func:`worker_pool`), shared with later stages of a run.
     progress : callable, optional
         Called once per file analysed (for a progress bar).
 
@@ -205,21 +237,25 @@ def analyse_files(
         raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
     tick = progress or (lambda: None)
     entries = list(manifest.voltammograms)
-    if records or jobs == 1 or len(entries) < 2:
+    if records or (pool is None and jobs == 1) or len(entries) < 2:
         records = records or {}
         done = []
         for e in entries:
             done.append(analyse_file(e, manifest, records.get(e.name)))
             tick()
         return done
-    workers = min(int(jobs), len(entries))
-    chunk = max(1, len(entries) // (4 * workers))
+    if pool is None:
+        with worker_pool(min(int(jobs), len(entries))) as own:
+            return analyse_files(manifest, pool=own, progress=progress)
+    # a few runs of files per worker: the manifest travels once per run, and the runs
+    # balance the load when files differ in length
+    size = max(1, -(-len(entries) // (4 * pool.workers)))
+    runs = [entries[k : k + size] for k in range(0, len(entries), size)]
     outcomes: list[FileResult | _ErrorParts] = []
-    with ProcessPoolExecutor(
-        max_workers=workers, initializer=_start_worker, initargs=(manifest,)
-    ) as pool:
-        for got in pool.map(_analyse_in_worker, entries, chunksize=chunk):
-            outcomes.append(got)
+    for future in [pool.executor.submit(_analyse_chunk, manifest, run) for run in runs]:
+        got = future.result()
+        outcomes.extend(got)
+        for _ in got:
             tick()
     for got in outcomes:
         if isinstance(got, tuple):

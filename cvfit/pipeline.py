@@ -15,7 +15,7 @@ from pathlib import Path
 import numpy as np
 
 from . import __version__
-from ._file_stage import LIGAND_EXCESS_MIN, analyse_files
+from ._file_stage import LIGAND_EXCESS_MIN, WorkerPool, analyse_files
 from ._series_diagnostics import diagnose_files
 from .errors import InputError
 from .flags import Flag
@@ -89,6 +89,7 @@ def analyse_series(
     *,
     records: Mapping[str, Voltammogram] | None = None,
     jobs: int = 1,
+    pool: WorkerPool | None = None,
     progress: Callable[[], object] | None = None,
 ) -> SeriesResult:
     """Analyse one titration series described by a loaded manifest.
@@ -103,6 +104,9 @@ def analyse_series(
     jobs : int
         Worker processes for the per-file work (import, peaks, screen); 1 runs it in this
         process. The results do not depend on it. Ignored when *records* is given.
+    pool : WorkerPool, optional
+        Workers to use instead of *jobs* new ones (:func:`cvfit._file_stage.worker_pool`,
+        shared with :func:`cvfit.report.write_outputs` by the command line).
     progress : callable, optional
         Called once per file analysed (the command line's progress bar).
 
@@ -121,7 +125,9 @@ def analyse_series(
             source=str(manifest.path),
             key="voltammogram",
         )
-    files = analyse_files(manifest, records=dict(records or {}), jobs=jobs, progress=progress)
+    files = analyse_files(
+        manifest, records=dict(records or {}), jobs=jobs, pool=pool, progress=progress
+    )
     files, studies, study_flags = diagnose_files(files, manifest)
     reference = _reference(files, manifest)
     exclude = manifest.fit.exclude_non_nernstian

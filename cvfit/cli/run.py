@@ -8,11 +8,11 @@ import sys
 from collections.abc import Callable, Iterator
 from pathlib import Path
 
-from .._file_stage import PARALLEL_MIN_FILES, available_cpus, default_file_jobs
+from .._file_stage import PARALLEL_MIN_FILES, available_cpus, default_file_jobs, worker_pool
 from ..errors import InputError
 from ..io import load_manifest
 from ..pipeline import analyse_series
-from ..report import OUTPUT_NAMES, format_summary, write_outputs
+from ..report import OUTPUT_NAMES, format_summary, import_figure_modules, write_outputs
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -93,9 +93,15 @@ def run_manifest(
         raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
     n_files = len(manifest.voltammograms)
     file_jobs = default_file_jobs(n_files) if jobs is None else jobs
-    with _progress(n_files, enabled=not quiet) as tick:
-        result = analyse_series(manifest, jobs=file_jobs, progress=tick)
-    written = write_outputs(result, out_dir, jobs=available_cpus() if jobs is None else jobs)
+    # by default the figures are drawn in parallel even when the files are read here
+    workers = max(file_jobs, min(available_cpus(), 2)) if jobs is None else jobs
+    # the figure modules are imported before the workers start, so none imports them again
+    import_figure_modules()
+    with worker_pool(workers) as pool, _progress(n_files, enabled=not quiet) as tick:
+        result = analyse_series(
+            manifest, jobs=1, pool=pool if file_jobs > 1 else None, progress=tick
+        )
+        written = write_outputs(result, out_dir, pool=pool)
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
     sys.stdout.write(

@@ -3,13 +3,17 @@
 from __future__ import annotations
 
 from collections.abc import Callable
-from concurrent.futures import Future, ProcessPoolExecutor
+from concurrent.futures import Future
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from ..results import SeriesResult
 from .json_out import results_to_json, write_results_json
 from .summary import format_summary
 from .table import write_file_table
+
+if TYPE_CHECKING:
+    from .._file_stage import WorkerPool
 
 __all__ = [
     "OUTPUT_NAMES",
@@ -18,6 +22,7 @@ __all__ = [
     "results_to_json",
     "write_file_table",
     "format_summary",
+    "import_figure_modules",
 ]
 
 #: File names written into the output folder.
@@ -29,6 +34,11 @@ OUTPUT_NAMES = {
     "diagnostics_figure": "diagnostics.png",
     "html_report": "report.html",
 }
+
+
+def import_figure_modules() -> None:
+    """Import matplotlib and the figure modules (done before worker processes start)."""
+    from . import figures, figures_diagnostics  # noqa: F401
 
 
 def _figure_jobs(result: SeriesResult, out: Path) -> list[tuple[str, Callable, Path]]:
@@ -45,27 +55,32 @@ def _figure_jobs(result: SeriesResult, out: Path) -> list[tuple[str, Callable, P
     return jobs
 
 
-def write_outputs(result: SeriesResult, out_dir: str | Path, *, jobs: int = 1) -> dict[str, Path]:
+def write_outputs(
+    result: SeriesResult, out_dir: str | Path, *, jobs: int = 1, pool: WorkerPool | None = None
+) -> dict[str, Path]:
     """Write every output of *result* into *out_dir* (created if needed).
 
-    With ``jobs > 1`` the figures are drawn in up to ``jobs`` worker processes while this
-    process writes the rest (drawing is most of the time of the outputs); the files written
-    do not depend on it. Every file is written to a temporary name and renamed into place,
-    and results.json comes last: its presence means the run finished.
+    With ``jobs > 1`` (or a shared *pool*, see :func:`cvfit._file_stage.worker_pool`) the
+    larger figures are drawn in worker processes while this process writes the rest
+    (drawing is most of the time of the outputs); the files written do not depend on it.
+    Every file is written to a temporary name and renamed into place, and results.json
+    comes last: its presence means the run finished.
     """
+    from .._file_stage import worker_pool
+
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    figure_jobs = _figure_jobs(result, out)
+    figure_jobs = _figure_jobs(result, out)  # imports the figure modules before any fork
+    if pool is None and jobs > 1:
+        with worker_pool(min(jobs, len(figure_jobs) - 1)) as own:
+            return write_outputs(result, out, pool=own)
     pending: dict[str, Future] = {}
-    pool = None
-    if jobs > 1:
-        pool = ProcessPoolExecutor(max_workers=min(jobs, len(figure_jobs)))
     try:
         written: dict[str, Path] = {}
         if pool is not None:
             # the main process draws the last (smallest) figure itself
             for name, plot, path in figure_jobs[:-1]:
-                pending[name] = pool.submit(plot, result, path)
+                pending[name] = pool.executor.submit(plot, result, path)
             figure_jobs = figure_jobs[-1:]
         written["table"] = write_file_table(result, out / OUTPUT_NAMES["table"])
         for name, plot, path in figure_jobs:
@@ -77,8 +92,8 @@ def write_outputs(result: SeriesResult, out_dir: str | Path, *, jobs: int = 1) -
         for name, future in pending.items():
             written[name] = future.result()
     finally:
-        if pool is not None:
-            pool.shutdown(cancel_futures=True)
+        for future in pending.values():
+            future.cancel()
     order = ["table", "voltammograms_figure", "diagnostics_figure", "lingane_figure"]
     written = {k: written[k] for k in order if k in written} | written
     # The HTML page embeds every figure written above; keep it after them.
