@@ -11,6 +11,8 @@ from typing import NamedTuple
 
 import numpy as np
 
+from . import _peakfit_linalg as la
+
 __all__ = [
     "noise_sd",
     "LineFit",
@@ -41,11 +43,19 @@ def noise_sd(*currents: np.ndarray) -> float:
     float
         Estimated SD, same unit as the input (0.0 for a noise-free record).
     """
-    d2 = [np.diff(np.asarray(c, dtype=float), 2) for c in currents if np.size(c) >= 3]
-    if not d2:
+    arrays = [np.asarray(c, dtype=float) for c in currents if np.size(c) >= 3]
+    if not arrays:
         return 0.0
-    d = np.concatenate(d2)
-    mad = float(np.median(np.abs(d - np.median(d))))
+    # second differences as np.diff(c, 2) forms them, written into one new array
+    d = np.empty(sum(c.size - 2 for c in arrays))
+    at = 0
+    for c in arrays:
+        first = c[1:] - c[:-1]
+        np.subtract(first[1:], first[:-1], out=d[at : at + c.size - 2])
+        at += c.size - 2
+    centre = la.median_in_place(d)
+    np.subtract(d, centre, out=d)  # d is not needed any more: deviations in place
+    mad = la.median_in_place(np.abs(d, out=d))
     return _MAD_TO_SD * mad / math.sqrt(6.0)
 
 
@@ -62,14 +72,27 @@ class LineFit(NamedTuple):
     cov: np.ndarray  # 2×2 or 3×3, from the supplied noise SD
 
     def __call__(self, E: np.ndarray, tail: np.ndarray | None = None) -> np.ndarray:
-        # evaluated term by term: no design matrix for a whole sweep
-        x = np.atleast_1d(np.asarray(E, dtype=float)) - self.E0_V
-        out = self.coef[0] + self.coef[1] * x
+        # evaluated term by term (no design matrix for a whole sweep), in one new array
+        out = np.atleast_1d(np.asarray(E, dtype=float)) - self.E0_V
+        np.multiply(out, self.coef[1], out=out)
+        np.add(out, self.coef[0], out=out)
         if self.coef.size == 3:
             if tail is None:
                 raise ValueError("this baseline has a tail term; pass its values")
-            out = out + self.coef[2] * np.asarray(tail, dtype=float)
+            np.add(out, self.coef[2] * np.asarray(tail, dtype=float), out=out)
         return out
+
+    def residual(
+        self, E: np.ndarray, i: np.ndarray, sign: int, tail: np.ndarray | None = None
+    ) -> np.ndarray:
+        """``sign·(i − baseline(E))``, the oriented current above the baseline."""
+        out = self(E, tail)
+        # for sign ±1 that is i − b or b − i exactly: rounding is symmetric in sign
+        if sign == 1:
+            return np.subtract(i, out, out=out)
+        if sign == -1:
+            return np.subtract(out, i, out=out)
+        return sign * (i - out)
 
     def design(self, E: np.ndarray, tail: np.ndarray | None = None) -> np.ndarray:
         """Rows ``(1, E − E0[, tail])``: the derivative of the baseline by its coefficients."""
@@ -82,31 +105,19 @@ class LineFit(NamedTuple):
         return np.column_stack(cols)
 
 
-def _least_squares(X: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Least-squares coefficients and (XᵀX)⁺ from one SVD of X.
-
-    The same numbers as ``np.linalg.lstsq(X, y, rcond=None)`` and ``np.linalg.pinv(X.T @
-    X)`` (their cut-offs for small singular values included) with one factorisation
-    instead of two.
-    """
-    U, S, Vt = np.linalg.svd(X, full_matrices=False)
-    top = float(S[0]) if S.size else 0.0
-    keep = S > np.finfo(float).eps * max(X.shape) * top
-    inv = np.divide(1.0, S, out=np.zeros_like(S), where=keep)
-    coef = Vt.T @ (inv * (U.T @ y))
-    keep2 = S * S > 1e-15 * top * top
-    inv2 = np.divide(1.0, S * S, out=np.zeros_like(S), where=keep2)
-    return coef, (Vt.T * inv2) @ Vt
-
-
 def fit_line(
     E: np.ndarray, i: np.ndarray, sigma: float, tail: np.ndarray | None = None
 ) -> LineFit:
     """Ordinary least-squares line (plus optional tail term) through (E, i); cov σ²(XᵀX)⁻¹."""
     E0 = float(np.mean(E))
-    cols = [np.ones(E.size), E - E0] + ([] if tail is None else [tail])
-    X = np.column_stack(cols)
-    coef, gram_inv = _least_squares(X, i)
+    p = 2 if tail is None else 3
+    A = la.augmented(E.size, p)
+    A[:, 0] = 1.0
+    np.subtract(E, E0, out=A[:, 1])
+    if tail is not None:
+        A[:, 2] = tail
+    A[:, p] = i
+    coef, gram_inv = la.solve_least_squares(*la.reduce_rows(A))
     return LineFit(E0, coef, sigma**2 * gram_inv)
 
 
@@ -142,27 +153,40 @@ def fit_foot(
     sign between sweeps) and no foot term; they lengthen the lever arm of ``d``.
     """
     E0 = float(np.mean(E))
-    u = np.clip(sign * kappa_per_V * (E - E[-1]), -700.0, 0.0)
-    cols = [np.ones(E.size), E - E0, np.exp(u)] + ([] if tail is None else [tail])
-    X = np.column_stack(cols)
-    y = i
-    if tail is not None and extra is not None:
+    m = E.size
+    joint = tail is not None and extra is not None
+    p = 3 + (tail is not None) + joint
+    A = la.augmented(m + (extra[0].size if joint else 0), p)
+    own = A[:m]
+    own[:, 0] = 1.0
+    np.subtract(E, E0, out=own[:, 1])
+    np.exp(np.clip(sign * kappa_per_V * (E - E[-1]), -700.0, 0.0), out=own[:, 2])
+    if tail is not None:
+        own[:, 3] = tail
+    own[:, p] = i
+    if joint:
+        # the other sweep: its own offset (last design column), no foot term
         E_x, i_x, t_x = extra
-        z = np.zeros(E_x.size)
-        X = np.column_stack([np.vstack([X, np.column_stack([z, E_x - E0, z, t_x])]),
-                             np.concatenate([np.zeros(E.size), np.ones(E_x.size)])])  # fmt: skip
-        y = np.concatenate([i, i_x])
-    coef, gram_inv = _least_squares(X, y)
-    keep = [0, 1] if tail is None else [0, 1, 3]
+        own[:, 4] = 0.0
+        other = A[m:]
+        other[:, 0] = 0.0
+        np.subtract(E_x, E0, out=other[:, 1])
+        other[:, 2] = 0.0
+        other[:, 3] = t_x
+        other[:, 4] = 1.0
+        other[:, p] = i_x
+    R, rows = la.reduce_rows(A)
+    coef, gram_inv = la.solve_least_squares(R, rows)
     if sign * coef[2] <= 0:
-        drop = [k for k in range(X.shape[1]) if k != 2]
-        X = X[:, drop]
-        coef, gram_inv = _least_squares(X, y)
-        coef = np.insert(coef, 2, 0.0)
-        cov = np.insert(np.insert(sigma**2 * gram_inv, 2, 0.0, 0), 2, 0.0, 1)
-    else:
-        cov = sigma**2 * gram_inv
-    return LineFit(E0, coef[keep], cov[np.ix_(keep, keep)])
+        # refit without the foot term on the same triangle (no new factorisation); the
+        # line and tail columns are then the leading ones
+        coef, gram_inv = la.solve_least_squares(R, rows, [k for k in range(p) if k != 2])
+        q = 2 if tail is None else 3
+        return LineFit(E0, coef[:q], sigma**2 * gram_inv[:q, :q])
+    if tail is None:
+        return LineFit(E0, coef[:2], sigma**2 * gram_inv[:2, :2])
+    keep = [0, 1, 3]
+    return LineFit(E0, coef[keep], sigma**2 * gram_inv[np.ix_(keep, keep)])
 
 
 def foot_window(
@@ -179,8 +203,8 @@ def foot_window(
     span_thermal: tuple[float, float] = (2.5, 3.0),
     tail: np.ndarray | None = None,
     extra: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
-) -> tuple[int, int, LineFit]:
-    """Foot of the wave ``[lo, hi)`` and the baseline line fitted to it.
+) -> tuple[int, int, LineFit, np.ndarray]:
+    """Foot of the wave ``[lo, hi)``, the baseline fitted to it and the current above it.
 
     Starts from the first tenth of the sweep, then repeats: fit the foot model
     (:func:`fit_foot`), find the peak of the corrected current ``sign·(i − line)``, and end
@@ -197,6 +221,9 @@ def foot_window(
     ``tail`` (one value per point, or None) adds a decaying term to the baseline model,
     fitted on the foot and extrapolated under the wave with the line; ``extra`` are
     points of another sweep fitted jointly (see :func:`fit_foot`).
+
+    Returns ``(lo, hi, line, r)`` with ``r = sign·(i − line(E, tail))`` over the whole
+    sweep, which the search computes for the returned line anyway.
     """
     n = E.size
     lo = min(skip, max(n - min_points, 0))
@@ -208,9 +235,9 @@ def foot_window(
         return fit_foot(E[lo:hi], i[lo:hi], sign, kappa_per_V, sigma, t, extra)
 
     line = fit(lo, hi)
+    r = line.residual(E, i, sign, tail)
     prev_hi = hi
     for _ in range(iterations):
-        r = sign * (i - line(E, tail))
         kp = int(np.argmax(r))
         if kp <= lo + min_points:
             break
@@ -223,7 +250,8 @@ def foot_window(
             break
         prev_hi = hi
         line = fit(lo, hi)
-    return lo, hi, line
+        r = line.residual(E, i, sign, tail)
+    return lo, hi, line, r
 
 
 def _clamp_to_wave(
@@ -241,10 +269,10 @@ def _clamp_to_wave(
     if below.size == 0:
         return max(hi, floor)
     E_half_peak = E[int(below[-1])]
-    ahead = sign * (E_half_peak - E) * kappa_per_V  # thermal voltages before Ep/2
+    ahead = sign * (E_half_peak - E[:kp]) * kappa_per_V  # thermal voltages before Ep/2
     near, far = span_thermal
-    first_near = np.nonzero(ahead[:kp] <= near)[0]
-    last_far = np.nonzero(ahead[:kp] >= far)[0]
+    first_near = np.nonzero(ahead <= near)[0]
+    last_far = np.nonzero(ahead >= far)[0]
     upper = int(first_near[0]) if first_near.size else hi
     lower = int(last_far[-1]) + 1 if last_far.size else floor
     return max(min(hi, upper), lower, floor)
@@ -285,12 +313,21 @@ def switch_step(
     tf = -np.abs(E_forward[f_sl] - E_switch)
     tr = np.abs(E_reverse[r_sl] - E_switch)
     scale = float(max(np.max(tr), np.max(-tf)))
-    t = np.concatenate([tf, tr]) / scale
-    after = np.concatenate([np.zeros(tf.size), np.ones(tr.size)])
-    root = np.sqrt(np.clip(t, 0.0, None))
-    X = np.column_stack([np.ones_like(t), t, t * t, after, after * root, after * root**3])
-    y = np.concatenate([i_forward[f_sl], i_reverse[r_sl]])
-    coef, gram_inv = _least_squares(X, y)
+    nf = tf.size
+    A = la.augmented(nf + tr.size, 6)
+    before, after = A[:nf], A[nf:]
+    A[:, 0] = 1.0
+    np.divide(tf, scale, out=before[:, 1])
+    np.divide(tr, scale, out=after[:, 1])
+    np.multiply(A[:, 1], A[:, 1], out=A[:, 2])
+    before[:, 3:6] = 0.0  # the jump and the half-integer powers act after the switch
+    after[:, 3] = 1.0
+    root = np.sqrt(after[:, 1])  # τ >= 0 after the switch
+    after[:, 4] = root
+    after[:, 5] = root**3
+    before[:, 6] = i_forward[f_sl]
+    after[:, 6] = i_reverse[r_sl]
+    coef, gram_inv = la.solve_least_squares(*la.reduce_rows(A))
     var = gram_inv[3, 3]
     return float(coef[3]), float(coef[0]), math.sqrt(var)
 
@@ -362,21 +399,43 @@ def _cubic_stationary(b: np.ndarray) -> float | None:
     return best
 
 
-def _vertex_fit(E: np.ndarray, y: np.ndarray, centre: float, half_width_V: float) -> Vertex | None:
+def _within(E: np.ndarray, centre: float, half_width_V: float, monotonic: bool) -> np.ndarray:
+    """Indices of the points with ``|E − centre| <= half_width_V``."""
+    if not monotonic:
+        return np.nonzero(np.abs(E - centre) <= half_width_V)[0]
+    # on a monotonic sweep those points are consecutive: bracket them by bisection, with a
+    # margin far above rounding, and apply the exact test to the bracket only
+    pad = 1e-9 * (abs(centre) + half_width_V)
+    lo_V, hi_V = centre - half_width_V - pad, centre + half_width_V + pad
+    if E[0] <= E[-1]:
+        a, b = np.searchsorted(E, lo_V, "left"), np.searchsorted(E, hi_V, "right")
+    else:
+        rev = E[::-1]
+        n = E.size
+        a, b = n - np.searchsorted(rev, hi_V, "right"), n - np.searchsorted(rev, lo_V, "left")
+    return a + np.nonzero(np.abs(E[a:b] - centre) <= half_width_V)[0]
+
+
+def _vertex_fit(
+    E: np.ndarray, y: np.ndarray, centre: float, half_width_V: float, monotonic: bool
+) -> Vertex | None:
     if not half_width_V > 0:
         return None
-    idx = np.nonzero(np.abs(E - centre) <= half_width_V)[0]
+    idx = _within(E, centre, half_width_V, monotonic)
     if idx.size < 7:
         return None
-    x = (E[idx] - centre) / half_width_V  # scaled for a well-conditioned design
-    X = np.column_stack([np.ones_like(x), x, x * x, x * x * x])
-    # the pseudo-inverse as np.linalg.pinv forms it (cut-off 1e-15 of the largest
-    # singular value), without its wrapper: this runs four times per file
-    U, S, Vt = np.linalg.svd(X, full_matrices=False)
-    large = S > 1e-15 * S.max()
-    inv = np.divide(1.0, S, out=np.zeros_like(S), where=large)
-    pinv = Vt.T @ (inv[:, np.newaxis] * U.T)
-    b = pinv @ y[idx]
+    A = la.augmented(idx.size, 4)
+    x = A[:, 1]
+    np.subtract(E[idx], centre, out=x)
+    x /= half_width_V  # scaled for a well-conditioned design
+    A[:, 0] = 1.0
+    np.multiply(x, x, out=A[:, 2])
+    np.multiply(A[:, 2], x, out=A[:, 3])
+    X = np.array(A[:, :4])  # the design, kept: the factorisation overwrites A
+    A[:, 4] = y[idx]
+    # b = pinv(X) y with np.linalg.pinv's cut-off, and pinv(X) = P Xᵀ with P 4 × 4
+    R, _ = la.reduce_rows(A)
+    b, P = la.solve_pinv(R)
     xv = _cubic_stationary(b)
     if xv is None or abs(xv) > 1.0:
         return None
@@ -384,10 +443,12 @@ def _vertex_fit(E: np.ndarray, y: np.ndarray, centre: float, half_width_V: float
     curvature = 2.0 * b[2] + 6.0 * b[3] * xv
     dvdb = -np.array([0.0, 1.0, 2.0 * xv, 3.0 * xv * xv]) / curvature
     height = float(b[0] + b[1] * xv + b[2] * xv**2 + b[3] * xv**3)
-    return Vertex(centre + half_width_V * xv, height, half_width_V * (dvdb @ pinv), idx)
+    return Vertex(centre + half_width_V * xv, height, half_width_V * (X @ (P @ dvdb)), idx)
 
 
-def peak_vertex(E: np.ndarray, y: np.ndarray, k: int, half_width_V: float) -> Vertex | None:
+def peak_vertex(
+    E: np.ndarray, y: np.ndarray, k: int, half_width_V: float, *, monotonic: bool = False
+) -> Vertex | None:
     """Vertex of a low-order polynomial fitted to the points within ``half_width_V``.
 
     A cubic is used rather than a parabola because a voltammetric peak is skewed: over
@@ -397,12 +458,13 @@ def peak_vertex(E: np.ndarray, y: np.ndarray, k: int, half_width_V: float) -> Ve
     in E½). The first fit is centred on the sampled extremum ``E[k]`` and
     repeated once centred on its vertex, so the window is symmetric about the peak.
     Returns None when the window holds fewer than seven points, there is no maximum, or
-    the vertex falls outside the window (no guess is made).
+    the vertex falls outside the window (no guess is made). ``monotonic`` says that E
+    never turns back (the window is then found by bisection; same points).
     """
-    first = _vertex_fit(E, y, float(E[k]), half_width_V)
+    first = _vertex_fit(E, y, float(E[k]), half_width_V, monotonic)
     if first is None:
         return None
-    second = _vertex_fit(E, y, first.E_V, half_width_V)
+    second = _vertex_fit(E, y, first.E_V, half_width_V, monotonic)
     return second if second is not None else first
 
 

@@ -239,13 +239,15 @@ def _locate(
         if E_half_peak is None:
             return None, f"the {which} wave has no rising side below half its height"
         half_width_V = VERTEX_WINDOW_FRACTION * abs(E[k] - E_half_peak)
-    moves = np.abs(np.diff(E))
+    steps = E[1:] - E[:-1]
+    low, high = (float(steps.min()), float(steps.max())) if steps.size else (0.0, 0.0)
     # the window is at least 3.5 sampling steps (median step); the median cannot exceed
     # the largest step, so it is only needed when the window is narrower than that bound
-    if moves.size and half_width_V < 3.5 * float(moves.max()):
+    if steps.size and half_width_V < 3.5 * max(high, -low):
+        moves = np.abs(steps)
         moves = moves[moves > 0]
         half_width_V = max(half_width_V, 3.5 * float(np.median(moves)))
-    vertex = pf.peak_vertex(E, y, k, half_width_V)
+    vertex = pf.peak_vertex(E, y, k, half_width_V, monotonic=low >= 0.0 or high <= 0.0)
     if vertex is None:
         return None, f"no cubic with a maximum fits the {which} peak near E = {E[k]:.4f} V"
     return _Peak(vertex.E_V, vertex.height, E_half_peak, vertex.grad_y, vertex.index), ""
@@ -288,8 +290,10 @@ def previous_sweep_tail(
     before it has no peak to decay from.
     """
     fwd, rev = cycle.forward, cycle.reverse
+    if fwd.start == 0:
+        return None
     before = [sw for sw in voltammogram.sweeps() if sw.stop == fwd.start]
-    if fwd.start == 0 or not before:
+    if not before:
         return None
     prev = before[0]
     stop = fwd.stop if rev is None else rev.stop
@@ -400,7 +404,7 @@ def analyse_peaks(
         )
     tail_f = None if tail is None else tail.forward
     tail_r = None if tail is None else tail.reverse
-    lo, hi, base = pf.foot_window(
+    lo, hi, base, y_f = pf.foot_window(
         E_f,
         i_f,
         s,
@@ -412,7 +416,6 @@ def analyse_peaks(
         tail=tail_f,
         extra=None if tail is None else tail.previous,
     )
-    y_f = s * (i_f - base(E_f, tail_f))
     peak_f, why = _locate(
         E_f, y_f, sigma, fwd_name, edge=min_points, half_width_V=None, against_baseline=True
     )
