@@ -83,10 +83,17 @@ class LineFit(NamedTuple):
         return out
 
     def residual(
-        self, E: np.ndarray, i: np.ndarray, sign: int, tail: np.ndarray | None = None
+        self,
+        E: np.ndarray,
+        i: np.ndarray,
+        sign: int,
+        tail: np.ndarray | None = None,
+        shift: float = 0.0,
     ) -> np.ndarray:
-        """``sign·(i − baseline(E))``, the oriented current above the baseline."""
+        """``sign·(i − (baseline(E) + shift))``, the oriented current above the baseline."""
         out = self(E, tail)
+        if shift:
+            np.add(out, shift, out=out)
         # for sign ±1 that is i − b or b − i exactly: rounding is symmetric in sign
         if sign == 1:
             return np.subtract(i, out, out=out)
@@ -152,7 +159,7 @@ def fit_foot(
     and the tail amplitude ``d`` but have their own offset (the charging current changes
     sign between sweeps) and no foot term; they lengthen the lever arm of ``d``.
     """
-    E0 = float(np.mean(E))
+    E0 = float(E.mean())
     m = E.size
     joint = tail is not None and extra is not None
     p = 3 + (tail is not None) + joint
@@ -160,7 +167,9 @@ def fit_foot(
     own = A[:m]
     own[:, 0] = 1.0
     np.subtract(E, E0, out=own[:, 1])
-    np.exp(np.clip(sign * kappa_per_V * (E - E[-1]), -700.0, 0.0), out=own[:, 2])
+    foot = own[:, 2]  # exp(sign·κ·(E − E_end)), formed in place
+    np.multiply(np.subtract(E, E[-1], out=foot), sign * kappa_per_V, out=foot)
+    np.exp(np.clip(foot, -700.0, 0.0, out=foot), out=foot)
     if tail is not None:
         own[:, 3] = tail
     own[:, p] = i
@@ -312,7 +321,7 @@ def switch_step(
     r_sl = slice(gap, points + gap)
     tf = -np.abs(E_forward[f_sl] - E_switch)
     tr = np.abs(E_reverse[r_sl] - E_switch)
-    scale = float(max(np.max(tr), np.max(-tf)))
+    scale = float(max(tr.max(), (-tf).max()))
     nf = tf.size
     A = la.augmented(nf + tr.size, 6)
     before, after = A[:nf], A[nf:]

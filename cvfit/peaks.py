@@ -65,11 +65,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, fields
+from functools import partial
 from typing import Literal, NamedTuple
 
 import numpy as np
 
 from . import _peakfit as pf
+from ._peaklocate import locate_peak
 from .flags import Flag
 from .units import thermal_voltage
 from .voltammogram import Cycle, Sweep, Voltammogram
@@ -88,9 +90,17 @@ SHORT_FOOT_THERMAL = 2.5
 TAIL_ORIGIN_THERMAL = 0.0
 #: The previous sweep's tail is fitted from this many RT/nF past its peak.
 TAIL_FIT_START_THERMAL = 3.0
+#: Fewest points of a foot window; a peak lies at least this many points from the ends.
+_MIN_POINTS = 8
 #: Nicholson (1966) coefficients of the current-ratio relation.
 _NICHOLSON_ISP = 0.485
 _NICHOLSON_CONST = 0.086
+_locate = partial(
+    locate_peak,
+    edge=_MIN_POINTS,
+    min_height_snr=MIN_HEIGHT_SNR,
+    window_fraction=VERTEX_WINDOW_FRACTION,
+)
 
 _OPTIONAL = (
     "Epc_V",
@@ -188,69 +198,8 @@ class PeakAnalysis:
         return out
 
 
-@dataclass(frozen=True)
-class _Peak:
-    E_V: float
-    height_A: float
-    E_half_peak_V: float | None
-    grad_y: np.ndarray
-    index: np.ndarray
-
-
 def _mV(x: float) -> str:
     return f"{1e3 * x:.1f} mV"
-
-
-def _locate(
-    E: np.ndarray,
-    y: np.ndarray,
-    sigma: float,
-    which: str,
-    *,
-    edge: int,
-    half_width_V: float | None,
-    against_baseline: bool,
-) -> tuple[_Peak | None, str]:
-    """Find the peak of the oriented, baseline-corrected current ``y``; None with a reason.
-
-    With ``against_baseline`` the peak must stand ``MIN_HEIGHT_SNR`` noise SDs above zero
-    (the forward peak over its baseline); otherwise above the lowest current before it (the
-    reverse peak, whose zero-faradaic level lies below the still-decaying forward current).
-    """
-    n = E.size
-    k = int(np.argmax(y))
-    if k < edge or k > n - 1 - edge:
-        where = "start" if k < edge else "end"
-        return None, (
-            f"the largest {which} current lies at the {where} of the sweep "
-            f"(E = {E[k]:.4f} V), so no peak is inside the sweep"
-        )
-    if against_baseline:
-        rise, what = float(y[k]), "above its baseline"
-    else:
-        rise, what = float(y[k] - np.min(y[:k])), "above the current before it"
-    if not rise > MIN_HEIGHT_SNR * sigma:
-        return None, (
-            f"the {which} peak rises only {rise:.3g} A {what}, "
-            f"not more than {MIN_HEIGHT_SNR:g} times the noise SD {sigma:.3g} A"
-        )
-    E_half_peak = pf.rising_crossing(E, y, k, 0.5 * y[k])
-    if half_width_V is None:
-        if E_half_peak is None:
-            return None, f"the {which} wave has no rising side below half its height"
-        half_width_V = VERTEX_WINDOW_FRACTION * abs(E[k] - E_half_peak)
-    steps = E[1:] - E[:-1]
-    low, high = (float(steps.min()), float(steps.max())) if steps.size else (0.0, 0.0)
-    # the window is at least 3.5 sampling steps (median step); the median cannot exceed
-    # the largest step, so it is only needed when the window is narrower than that bound
-    if steps.size and half_width_V < 3.5 * max(high, -low):
-        moves = np.abs(steps)
-        moves = moves[moves > 0]
-        half_width_V = max(half_width_V, 3.5 * float(np.median(moves)))
-    vertex = pf.peak_vertex(E, y, k, half_width_V, monotonic=low >= 0.0 or high <= 0.0)
-    if vertex is None:
-        return None, f"no cubic with a maximum fits the {which} peak near E = {E[k]:.4f} V"
-    return _Peak(vertex.E_V, vertex.height, E_half_peak, vertex.grad_y, vertex.index), ""
 
 
 def _arrays(sweep: Sweep) -> tuple[np.ndarray, np.ndarray]:
@@ -376,7 +325,7 @@ def analyse_peaks(
             **result,
         )
 
-    min_points = 8
+    min_points = _MIN_POINTS
     if E_f.size < 4 * min_points:
         flags.append(
             Flag(
@@ -416,9 +365,7 @@ def analyse_peaks(
         tail=tail_f,
         extra=None if tail is None else tail.previous,
     )
-    peak_f, why = _locate(
-        E_f, y_f, sigma, fwd_name, edge=min_points, half_width_V=None, against_baseline=True
-    )
+    peak_f, why = _locate(E_f, y_f, sigma, fwd_name, half_width_V=None, against_baseline=True)
     if peak_f is None:
         flags.append(Flag("NO_FORWARD_PEAK", why, "error"))
         if rev is not None:
@@ -479,9 +426,9 @@ def analyse_peaks(
     jump, i_switch, _ = pf.switch_step(E_f, i_f, E_r, i_r, E_lam, points=pts)
     isp0 = s * (i_switch - float(base(np.array([E_lam]), _sub(tail_f, slice(-1, None)))[0]))
     # zero-faradaic level of the reverse sweep: forward baseline + charging step
-    y_r = -s * (i_r - (base(E_r, tail_r) + jump))
+    y_r = base.residual(E_r, i_r, -s, tail_r, shift=jump)
     peak_r, why = _locate(
-        E_r, y_r, sigma, rev_name, edge=min_points, half_width_V=half_width, against_baseline=False
+        E_r, y_r, sigma, rev_name, half_width_V=half_width, against_baseline=False
     )
     if peak_r is None:
         flags.append(Flag("NO_REVERSE_PEAK", why, "error"))
