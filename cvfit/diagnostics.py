@@ -45,6 +45,9 @@ __all__ = [
 _TABLE_OFFSET_MV = np.array([71.5, 121.5, 171.5, 271.5])
 _TABLE_DELTA_MV = np.array([60.5, 59.2, 58.3, 57.8])
 _LIMIT_DELTA_MV = 57.0
+# the interpolation nodes in 1/(n·|Eλ − E½|), formed once (called several times per file)
+_INV_OFFSET = np.concatenate([[0.0], 1.0 / _TABLE_OFFSET_MV[::-1]])
+_NODE_DELTA_MV = np.concatenate([[_LIMIT_DELTA_MV], _TABLE_DELTA_MV[::-1]])
 
 #: Smallest n·|Eλ − E½| (at 25 °C) covered by the table, V.
 MIN_TABULATED_OFFSET_V = 0.0715
@@ -103,9 +106,7 @@ def nernstian_delta_Ep_V(
     if x_mV <= _TABLE_OFFSET_MV[0]:
         n_delta_mV = float(_TABLE_DELTA_MV[0])
     else:
-        inv = np.concatenate([[0.0], 1.0 / _TABLE_OFFSET_MV[::-1]])
-        vals = np.concatenate([[_LIMIT_DELTA_MV], _TABLE_DELTA_MV[::-1]])
-        n_delta_mV = float(np.interp(1.0 / x_mV, inv, vals))
+        n_delta_mV = float(np.interp(1.0 / x_mV, _INV_OFFSET, _NODE_DELTA_MV))
     return n_delta_mV * 1e-3 * scale / electrons
 
 
