@@ -7,7 +7,6 @@ call. Only when that fails are the lines scanned one by one to name the bad cell
 from __future__ import annotations
 
 import io
-import itertools
 import re
 import warnings
 from dataclasses import dataclass, field
@@ -17,9 +16,9 @@ import pandas as pd
 
 from ..errors import InputError
 from .columns import is_unit
-from .text import split_lines
+from .text import clean_ascii, head_lines, split_lines
 
-__all__ = ["NumericTable", "read_table", "read_table_text"]
+__all__ = ["NumericTable", "read_table", "read_table_ascii", "read_table_text"]
 
 _SPECIAL = re.compile(r"(?i)\b(?:nan|[+-]?inf(?:inity)?)\b")
 _NUMERIC_LINE = re.compile(r"^[\d\s.,;+\-eE\"']*$")
@@ -360,18 +359,6 @@ def read_table(
     return _table(lines, lay, values, numbers)
 
 
-def _head(text: str, n: int) -> tuple[list[str], list[int], bool]:
-    """The first *n* lines (split at ``\\n``), the offset just past each, and whether
-    they are all of *text*."""
-    parts = text.split("\n", n)
-    complete = len(parts) <= n or not parts[n]
-    head = parts if len(parts) <= n else parts[:n]
-    if head and head[-1] == "":
-        head.pop()
-    ends = list(itertools.accumulate(len(p) + 1 for p in head))
-    return head, ends, complete
-
-
 def read_table_text(
     text: str,
     *,
@@ -382,33 +369,76 @@ def read_table_text(
     """As :func:`read_table`, from the whole decoded text, parsing it once.
 
     Only the first lines are split into Python strings (to find the header, the delimiter
-    and where the numbers start); the rest of the text goes to ``pandas.read_csv`` in one
-    call, rows numbered by position. Anything unusual — blank or repeated header lines,
-    a lone ``\\r`` line end (``\\r\\n`` is fine), a row pandas cannot read, an empty
-    cell — sends the file to :func:`read_table`, which scans line by line and names the
-    line and cell, so the result and every message are those of :func:`read_table`.
+    and where the numbers start); the rest of the text goes to the compiled parser
+    (:mod:`cvfit.io._numparse`, when numba is installed) or else to ``pandas.read_csv``
+    in one call, rows numbered by position. Anything unusual — blank or repeated header
+    lines, a lone ``\\r`` line end (``\\r\\n`` is fine), a row pandas cannot read, an
+    empty cell — sends the file to :func:`read_table`, which scans line by line and names
+    the line and cell, so the result and every message are those of :func:`read_table`.
     """
-    n = _SAMPLE + 100
     # Windows line ends (every \r followed by \n) are fine for pandas; a lone \r is not
     crlf = "\r" in text and text.count("\r") == text.count("\r\n")
-    while ("\r" not in text or crlf) and n <= len(text):
-        head, ends, complete = _head(text, n)
+    if "\r" not in text or crlf:
+        fast = _one_call(text, crlf, source, delimiter, decimal)
+        if fast is not None:
+            return fast
+    return read_table(split_lines(text), source=source, delimiter=delimiter, decimal=decimal)
+
+
+def read_table_ascii(
+    data: bytes,
+    *,
+    source: str,
+    delimiter: str | None = None,
+    decimal: str | None = None,
+) -> NumericTable | None:
+    """The table of a plain ASCII file straight from its bytes, or None.
+
+    The happy path of :func:`read_table_text` with no decoded copy of the file: the
+    compiled parser reads the numbers from the bytes themselves. None (take the decoding
+    path, which gives every message) unless numba is installed and the file is ASCII with
+    no control character, no lone ``\\r`` and only plain rows of numbers below the
+    header; the table is then the one :func:`read_table_text` gives for the decoded text.
+    """
+    if not data.isascii() or not data or data.isspace() or not _compiled().HAVE_NUMBA:
+        return None
+    try:
+        return _one_call(data, b"\r" in data, source, delimiter, decimal)
+    except InputError:  # the decoding path raises it, or an earlier error
+        return None
+
+
+def _compiled():
+    # imported on first use: numba takes ~0.15 s to import, wasted on small files
+    from . import _numparse
+
+    return _numparse
+
+
+def _one_call(
+    content: str | bytes,
+    crlf: bool,
+    source: str,
+    delimiter: str | None,
+    decimal: str | None,
+) -> NumericTable | None:
+    """The table from one parse of the numeric block, or None for the line-by-line path."""
+    n = _SAMPLE + 100
+    while n <= len(content):
+        head, ends, complete = head_lines(content, n)
         if complete:
-            break
+            return None
         if crlf:
             head = [ln[:-1] if ln.endswith("\r") else ln for ln in head]
         start = _find_data_start(head)
         if start is not None and start + _SAMPLE + 20 < len(head):
-            fast = _fast_table(text, head, ends, start, source, delimiter, decimal, crlf)
-            if fast is not None:
-                return fast
-            break
+            return _fast_table(content, head, ends, start, source, delimiter, decimal, crlf)
         n *= 8
-    return read_table(split_lines(text), source=source, delimiter=delimiter, decimal=decimal)
+    return None
 
 
 def _fast_table(
-    text: str,
+    content: str | bytes,
     head: list[str],
     ends: list[int],
     start: int,
@@ -417,17 +447,42 @@ def _fast_table(
     decimal: str | None,
     crlf: bool,
 ) -> NumericTable | None:
-    """The happy path of :func:`read_table_text`; None to take the line-by-line path."""
+    """The happy path of :func:`read_table_text`; None to take the line-by-line path.
+
+    *content* is the decoded text, or the bytes of a plain ASCII file (compiled parser
+    only: anything it refuses goes back to the decoding path).
+    """
     _, header_key = _header_of(head, start)
     sample = head[start : start + _SAMPLE]
     # every sampled row as read_table would see it: no blank, no surrounding blanks, no
     # repeated header
     if any(not ln or ln != ln.strip() or ln == header_key for ln in sample):
         return None
-    rest = text[ends[start - 1] if start else 0 :].encode("utf-8")
+    offset = ends[start - 1] if start else 0
+    if isinstance(content, bytes):
+        # the lines above the data are checked here, the rows by the compiled parser
+        above = content[:offset]
+        if not clean_ascii(above) or above.count(b"\r") != above.count(b"\r\n"):
+            return None
+        rest, offset = content, offset
+    else:
+        rest, offset = content[offset:].encode("utf-8"), 0
+    lay = _layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
+    values = _compiled().parse_numbers(rest, offset, lay.ncols, lay.delimiter, lay.decimal)
+    if values is None:
+        if isinstance(content, bytes):
+            return None
+        values = _pandas_block(rest, lay, crlf)
+        if values is None:
+            return None
+    numbers = np.arange(start + 1, start + 1 + values.shape[0], dtype=int)
+    return _table(head, lay, values, numbers)
+
+
+def _pandas_block(rest: bytes, lay: _Layout, crlf: bool) -> np.ndarray | None:
+    """The block from one ``pandas.read_csv`` call, or None if any row was unusual."""
     if not crlf and b"\r" in rest:
         return None
-    lay = _layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
     try:
         values = _parse_block(rest, lay, fast=True)
     except (ValueError, TypeError, OverflowError, pd.errors.ParserError, Warning):
@@ -439,5 +494,4 @@ def _fast_table(
         return None
     if values.shape[1] != lay.ncols or np.isnan(values).any():
         return None
-    numbers = np.arange(start + 1, start + 1 + rows, dtype=int)
-    return _table(head, lay, values, numbers)
+    return values

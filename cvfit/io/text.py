@@ -6,12 +6,13 @@ lone ``\\r`` each end one line, and the first line is 1.
 
 from __future__ import annotations
 
+import itertools
 import re
 from dataclasses import dataclass
 
 from ..errors import InputError
 
-__all__ = ["DecodedText", "decode_bytes", "split_lines"]
+__all__ = ["DecodedText", "clean_ascii", "decode_bytes", "head_lines", "split_lines"]
 
 _BOMS: tuple[tuple[bytes, str], ...] = (
     (b"\xef\xbb\xbf", "utf-8-sig"),
@@ -99,8 +100,8 @@ def decode_bytes(data: bytes, *, source: str) -> DecodedText:
     ascii_bytes = data if encoding == "utf-8" and data.isascii() else None
     if ascii_bytes is None and text.isascii():
         ascii_bytes = text.encode("ascii")
-    clean_ascii = ascii_bytes is not None and not ascii_bytes.translate(None, _ASCII_CLEAN)
-    bad = None if clean_ascii else _CONTROL.search(text)
+    clean = ascii_bytes is not None and clean_ascii(ascii_bytes)
+    bad = None if clean else _CONTROL.search(text)
     if bad is not None:
         raise InputError(
             f"control character 0x{ord(bad.group()):02x} found; this does not look like a "
@@ -113,6 +114,35 @@ def decode_bytes(data: bytes, *, source: str) -> DecodedText:
             "the file is empty; export the voltammogram as delimited text", source=source
         )
     return DecodedText(text=text, encoding=encoding)
+
+
+def clean_ascii(data: bytes) -> bool:
+    """True when ASCII *data* holds no control character but tab and the line breaks."""
+    return not data.translate(None, _ASCII_CLEAN)
+
+
+def head_lines(content: str | bytes, n: int) -> tuple[list[str], list[int], bool]:
+    """The first *n* lines (split at ``\\n``), the offset just past each, and whether
+    they are all of *content* (bytes must be ASCII: offsets then count both).
+
+    Only a prefix is split: splitting the whole content would copy all of it into the
+    last part.
+    """
+    limit = 128 * n
+    while True:
+        chunk = content[:limit]
+        text = chunk.decode("ascii") if isinstance(chunk, bytes) else chunk
+        parts = text.split("\n", n)
+        whole = limit >= len(content)
+        if whole or len(parts) > n:
+            break
+        limit *= 4
+    complete = whole and (len(parts) <= n or not parts[n])
+    head = parts if len(parts) <= n else parts[:n]
+    if head and head[-1] == "":
+        head.pop()
+    ends = list(itertools.accumulate(len(p) + 1 for p in head))
+    return head, ends, complete
 
 
 def split_lines(text: str) -> list[str]:
