@@ -25,7 +25,17 @@ MIN_POINTS = 10
 
 
 def _frozen_array(values: object, name: str, source: str) -> np.ndarray:
-    arr = np.array(values, dtype=float, copy=True)
+    if (
+        type(values) is np.ndarray
+        and values.dtype == np.float64
+        and values.base is None
+        and not values.flags.writeable
+    ):
+        # already a read-only array that is no view of anything (the importer's, or another
+        # record's): sharing it cannot let a later write reach the record
+        arr = values
+    else:
+        arr = np.array(values, dtype=float, copy=True)
     if arr.ndim != 1:
         raise InputError(f"{name} must be one-dimensional, got shape {arr.shape}", source=source)
     arr.setflags(write=False)
@@ -88,7 +98,7 @@ class Voltammogram:
                 raise InputError("time column length differs from potential", source=src)
             if not np.all(np.isfinite(t)):
                 raise InputError("time column contains NaN or infinity", source=src)
-            if np.any(np.diff(t) < 0):
+            if np.any(t[1:] < t[:-1]):  # a step back (no array of differences)
                 raise InputError("time column decreases; check the time column", source=src)
             object.__setattr__(self, "time_s", t)
         if self.scan_rate_V_s is not None:

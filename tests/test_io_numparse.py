@@ -27,6 +27,7 @@ from cvfit.io import ImportOptions, _numparse, parse_voltammogram_bytes, read_vo
 from cvfit.io import reader as reader_mod
 from cvfit.io import table as table_mod
 from cvfit.io.text import head_lines
+from cvfit.voltammogram import Voltammogram
 
 needs_numba = pytest.mark.skipif(not _numparse.HAVE_NUMBA, reason="numba is not installed")
 SETTINGS = settings(
@@ -364,6 +365,21 @@ def test_refused_file_gives_the_old_message(tmp_path):
     path.write_text("\n".join(lines) + "\n")
     kind, message, line, _ = _same_both_ways(lambda: read_voltammogram(path))
     assert kind == "error" and line == 301 and "'abc" in message
+
+
+def test_record_shares_only_read_only_arrays_of_its_own():
+    E = np.linspace(0.0, 1.0, 50)
+    i = np.sin(E)
+    v = Voltammogram(E, i)
+    E[0] = 9.0  # the caller's array is still the caller's
+    assert v.potential_V[0] == 0.0 and not v.potential_V.flags.writeable
+    frozen = np.linspace(0.0, 1.0, 50).copy()  # no view of anything
+    frozen.setflags(write=False)
+    assert Voltammogram(frozen, i).potential_V is frozen
+    view = np.linspace(0.0, 2.0, 100)[::2]
+    view.setflags(write=False)
+    assert Voltammogram(view, i).potential_V is not view  # a view is copied
+    assert Voltammogram(v.potential_V, v.current_A).current_A is v.current_A
 
 
 def _old_head(text: str, n: int):

@@ -232,7 +232,7 @@ def _build(
     E = table.values[:, cols.potential] * e_scale
     i = table.values[:, cols.current] * i_scale
     if options.anodic_current == "negative":
-        i = -i
+        np.negative(i, out=i)  # i is this function's own array
     notes = dict(table.notes)
     notes.update(cols.notes)
     if float(np.ptp(E)) <= 0.0:
@@ -249,7 +249,7 @@ def _build(
         unit = label.unit if label is not None and label.role == "time" and label.unit else "s"
         t = table.values[:, cols.time] * time_scale(unit)
         finite = np.isfinite(t)
-        back = np.nonzero(np.diff(t) < 0)[0] if np.all(finite) else np.array([], dtype=int)
+        back = np.nonzero(t[1:] < t[:-1])[0] if np.all(finite) else np.array([], dtype=int)
         if not np.all(finite) or back.size:
             if options.time_column is not None:
                 _check_finite(table.values[:, cols.time], table, cols.time, source)
@@ -277,6 +277,10 @@ def _build(
     metadata = dict(table.metadata)
     metadata.update(notes)
     metadata.update(extra or {})
+    # the record takes read-only arrays of their own without copying them again
+    for column in (E, i, t):
+        if column is not None:
+            column.setflags(write=False)
     return Voltammogram(
         potential_V=E,
         current_A=i,
