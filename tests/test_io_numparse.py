@@ -26,6 +26,7 @@ from cvfit.errors import InputError
 from cvfit.io import ImportOptions, _numparse, parse_voltammogram_bytes, read_voltammogram
 from cvfit.io import reader as reader_mod
 from cvfit.io import table as table_mod
+from cvfit.io import text as text_mod
 from cvfit.io.text import head_lines
 from cvfit.voltammogram import Voltammogram
 
@@ -406,3 +407,31 @@ def test_head_lines_as_before(text, n, trailing):
     text += "\n" if trailing else ""
     assert head_lines(text, n) == _old_head(text, n)
     assert head_lines(text.encode("ascii"), n) == _old_head(text, n)
+
+
+@SETTINGS
+@given(
+    st.lists(
+        st.sampled_from(["1,2\n", "µA", "€", "\u2212", "\ufeff", "é", "\x85", "\x9f", "\xa0",
+                         "\x01", "\x1f", "\x7f", "\t", "\r\n", " ", "x"]),
+        min_size=1,
+        max_size=40,
+    ).map("".join),
+    st.booleans(),
+)  # fmt: skip
+def test_utf8_control_check_as_a_full_search(text, bom):
+    """decode_bytes finds the first control character of UTF-8 text as a search would."""
+    data = (b"\xef\xbb\xbf" if bom else b"") + text.encode("utf-8")
+    decoded = data.decode("utf-8-sig").lstrip("\ufeff")
+    first = next((ch for ch in decoded if text_mod._CONTROL.match(ch)), None)
+    try:
+        got = text_mod.decode_bytes(data, source="u.csv")
+    except InputError as exc:
+        if first is None:
+            assert "empty" in str(exc)
+        else:
+            assert f"control character 0x{ord(first):02x} found" in str(exc)
+            assert exc.line == decoded[: decoded.index(first)].count("\n") + 1
+        return
+    assert first is None and got.text == decoded
+    assert got.encoding == ("utf-8-sig" if bom else "utf-8")

@@ -28,6 +28,15 @@ _LINE_BREAK = re.compile(r"\r\n|\r|\n")
 # Every ASCII character but the controls _CONTROL looks for: deleting these from ASCII
 # text leaves nothing when the text is clean (a C loop, much faster than the search).
 _ASCII_CLEAN = bytes(b for b in range(128) if not _CONTROL.match(chr(b)))
+# In UTF-8 a C0 control or DEL is a byte of its own and a C1 control is \xc2 and a byte in
+# \x80-\x9f; deleting every other byte leaves next to nothing to search (a deletion cannot
+# make two bytes of a real control non-adjacent, only two others adjacent: then the exact
+# search on the text decides).
+_UTF8_CONTROL = re.compile(rb"[\x00-\x08\x0e-\x1f\x7f]|\xc2[\x80-\x9f]")
+_UTF8_SUSPECT = frozenset(
+    [b for b in range(0x80) if _CONTROL.match(chr(b))] + [0xC2, *range(0x80, 0xA0)]
+)
+_UTF8_OTHER = bytes(b for b in range(256) if b not in _UTF8_SUSPECT)
 
 
 @dataclass(frozen=True)
@@ -101,6 +110,8 @@ def decode_bytes(data: bytes, *, source: str) -> DecodedText:
     if ascii_bytes is None and text.isascii():
         ascii_bytes = text.encode("ascii")
     clean = ascii_bytes is not None and clean_ascii(ascii_bytes)
+    if ascii_bytes is None and encoding in ("utf-8", "utf-8-sig"):
+        clean = _UTF8_CONTROL.search(data.translate(None, _UTF8_OTHER)) is None
     bad = None if clean else _CONTROL.search(text)
     if bad is not None:
         raise InputError(
