@@ -247,13 +247,13 @@ def foot_window(
     r = line.residual(E, i, sign, tail)
     prev_hi = hi
     for _ in range(iterations):
-        kp = int(np.argmax(r))
+        kp = int(r.argmax())
         if kp <= lo + min_points:
             break
         level = max(foot_fraction * r[kp], 2.0 * sigma / math.sqrt(width))
         smooth = _moving_mean(r[lo:kp], width)
-        below = np.nonzero(smooth <= level)[0]
-        new_hi = lo + int(below[-1]) + 1 if below.size else lo + min_points
+        last = _last_index(smooth, smooth.size, np.less_equal, level)
+        new_hi = lo + last + 1 if last >= 0 else lo + min_points
         hi = _clamp_to_wave(E, r, kp, new_hi, lo + min_points, sign, kappa_per_V, span_thermal)
         if hi == prev_hi:
             break
@@ -274,17 +274,34 @@ def _clamp_to_wave(
     span_thermal: tuple[float, float],
 ) -> int:
     """Keep the foot end ``hi`` between the two potentials set by ``span_thermal``."""
-    below = np.nonzero(r[:kp] < 0.5 * r[kp])[0]
-    if below.size == 0:
+    j = _last_index(r, kp, np.less, 0.5 * r[kp])
+    if j < 0:
         return max(hi, floor)
-    E_half_peak = E[int(below[-1])]
-    ahead = sign * (E_half_peak - E[:kp]) * kappa_per_V  # thermal voltages before Ep/2
+    ahead = sign * (E[j] - E[:kp]) * kappa_per_V  # thermal voltages before Ep/2
     near, far = span_thermal
-    first_near = np.nonzero(ahead <= near)[0]
-    last_far = np.nonzero(ahead >= far)[0]
-    upper = int(first_near[0]) if first_near.size else hi
-    lower = int(last_far[-1]) + 1 if last_far.size else floor
+    is_near = ahead <= near
+    first_near = int(is_near.argmax())  # argmax of a boolean array: its first True
+    upper = first_near if is_near[first_near] else hi
+    last_far = _last_index(ahead, kp, np.greater_equal, far)
+    lower = last_far + 1 if last_far >= 0 else floor
     return max(min(hi, upper), lower, floor)
+
+
+def _last_index(y: np.ndarray, stop: int, compare: np.ufunc, level: float) -> int:
+    """Largest ``j < stop`` with ``compare(y[j], level)`` true, or -1.
+
+    Searched backwards in blocks that grow fourfold: the index sought usually lies close
+    to ``stop`` (the point where a rising wave crosses a level), so most of the prefix is
+    never tested.
+    """
+    hi, width = stop, 256
+    while hi > 0:
+        lo = max(hi - width, 0)
+        hits = compare(y[lo:hi], level).nonzero()[0]
+        if hits.size:
+            return lo + int(hits[-1])
+        hi, width = lo, 4 * width
+    return -1
 
 
 def switch_step(
@@ -366,9 +383,9 @@ def decay_tail(
     edge = max(gap, y.size // 20)
     if y.size <= 4 * edge:
         return None
-    k = p0 + edge + int(np.argmax(y[edge:-edge]))
+    k = p0 + edge + int(y[edge:-edge].argmax())
     tau0 = tau[k] - origin_V
-    beyond = np.nonzero(tau[k : p1 + 1] - tau[k] >= fit_start_V)[0]
+    beyond = (tau[k : p1 + 1] - tau[k] >= fit_start_V).nonzero()[0]
     if beyond.size == 0 or p1 - gap - (k + int(beyond[0])) < 10:
         return None
     seg = slice(k + int(beyond[0]), p1 - gap + 1)
@@ -411,18 +428,18 @@ def _cubic_stationary(b: np.ndarray) -> float | None:
 def _within(E: np.ndarray, centre: float, half_width_V: float, monotonic: bool) -> np.ndarray:
     """Indices of the points with ``|E − centre| <= half_width_V``."""
     if not monotonic:
-        return np.nonzero(np.abs(E - centre) <= half_width_V)[0]
+        return (np.abs(E - centre) <= half_width_V).nonzero()[0]
     # on a monotonic sweep those points are consecutive: bracket them by bisection, with a
     # margin far above rounding, and apply the exact test to the bracket only
     pad = 1e-9 * (abs(centre) + half_width_V)
     lo_V, hi_V = centre - half_width_V - pad, centre + half_width_V + pad
     if E[0] <= E[-1]:
-        a, b = np.searchsorted(E, lo_V, "left"), np.searchsorted(E, hi_V, "right")
+        a, b = E.searchsorted(lo_V, "left"), E.searchsorted(hi_V, "right")
     else:
         rev = E[::-1]
         n = E.size
-        a, b = n - np.searchsorted(rev, hi_V, "right"), n - np.searchsorted(rev, lo_V, "left")
-    return a + np.nonzero(np.abs(E[a:b] - centre) <= half_width_V)[0]
+        a, b = n - rev.searchsorted(hi_V, "right"), n - rev.searchsorted(lo_V, "left")
+    return a + (np.abs(E[a:b] - centre) <= half_width_V).nonzero()[0]
 
 
 def _vertex_fit(
@@ -433,15 +450,17 @@ def _vertex_fit(
     idx = _within(E, centre, half_width_V, monotonic)
     if idx.size < 7:
         return None
+    # a run of consecutive points (always, on a monotonic sweep) is read through a view
+    take = slice(idx[0], idx[-1] + 1) if idx[-1] - idx[0] + 1 == idx.size else idx
     A = la.augmented(idx.size, 4)
     x = A[:, 1]
-    np.subtract(E[idx], centre, out=x)
+    np.subtract(E[take], centre, out=x)
     x /= half_width_V  # scaled for a well-conditioned design
     A[:, 0] = 1.0
     np.multiply(x, x, out=A[:, 2])
     np.multiply(A[:, 2], x, out=A[:, 3])
     X = np.array(A[:, :4])  # the design, kept: the factorisation overwrites A
-    A[:, 4] = y[idx]
+    A[:, 4] = y[take]
     # b = pinv(X) y with np.linalg.pinv's cut-off, and pinv(X) = P Xᵀ with P 4 × 4
     R, _ = la.reduce_rows(A)
     b, P = la.solve_pinv(R)
@@ -479,10 +498,9 @@ def peak_vertex(
 
 def rising_crossing(E: np.ndarray, y: np.ndarray, k: int, level: float) -> float | None:
     """Potential where ``y`` last rises through ``level`` before index ``k`` (interpolated)."""
-    below = np.nonzero(y[:k] < level)[0]
-    if below.size == 0:
+    j = _last_index(y, k, np.less, level)
+    if j < 0:
         return None
-    j = int(below[-1])
     if j + 1 > k:
         return None
     y0, y1 = y[j], y[j + 1]

@@ -50,7 +50,7 @@ def locate_peak(
     never narrower than 3.5 median sampling steps. ``which`` names the peak in messages.
     """
     n = E.size
-    k = int(np.argmax(y))
+    k = int(y.argmax())
     if k < edge or k > n - 1 - edge:
         where = "start" if k < edge else "end"
         return None, (

@@ -448,9 +448,7 @@ def analyse_peaks(
         return finish()
     # half-peak potential of the reverse wave: half the Nicholson height below its top,
     # taking the decaying forward current as level across the rising part of the wave
-    E_half_peak_r = pf.rising_crossing(
-        E_r, y_r, int(np.argmax(y_r)), peak_r.height_A - 0.5 * i_rev
-    )
+    E_half_peak_r = pf.rising_crossing(E_r, y_r, int(y_r.argmax()), peak_r.height_A - 0.5 * i_rev)
     X_r = base.design(E_r[peak_r.index], _sub(tail_r, peak_r.index))
     g_base_r = s * (peak_r.grad_y @ X_r)
     var_r_noise = sigma**2 * float(peak_r.grad_y @ peak_r.grad_y)
