@@ -328,34 +328,49 @@ def test_dialects_read_the_same_with_and_without_numba(tmp_path, dialect):
     assert kind == "record"
 
 
-def _plain_file(tmp_path: Path, rows: int = 400, newline: str = "\n") -> Path:
+def _plain_file(
+    tmp_path: Path, rows: int = 400, newline: str = "\n", header: str = "time/s,E/V,I/uA",
+    bom: bool = False,
+) -> Path:  # fmt: skip
     E, i, t = triangle_wave(points_per_sweep=rows // 2 + 1)
-    lines = ["instrument: bench", "time/s,E/V,I/uA"]
+    lines = ["instrument: bench \u2212 cell 2", header]
     lines += [f"{a:.6g},{b:.10g},{c * 1e6:.6e}" for a, b, c in zip(t, E, i, strict=True)]
     path = tmp_path / "plain.csv"
-    path.write_bytes((newline.join(lines) + newline).encode("ascii"))
+    text = newline.join(lines) + newline
+    path.write_bytes((b"\xef\xbb\xbf" if bom else b"") + text.encode("utf-8"))
     return path
 
 
 @needs_numba
-@pytest.mark.parametrize("newline", ["\n", "\r\n"])
-def test_plain_ascii_file_is_parsed_from_its_bytes(tmp_path, monkeypatch, newline):
-    path = _plain_file(tmp_path, newline=newline)
+@pytest.mark.parametrize(
+    ("newline", "header", "bom", "unit"),
+    [
+        ("\n", "time/s,E/V,I/uA", False, "uA"),
+        ("\r\n", "time/s,E/V,I/uA", False, "uA"),
+        ("\n", "time/s,E/V,I/\u00b5A", False, "\u00b5A"),
+        ("\r\n", "time/s,E/V,I/\u00b5A", True, "\u00b5A"),
+        ("\n", "t/s,E/V,I/\u03bcA", True, "\u03bcA"),
+    ],
+)
+def test_utf8_file_is_parsed_from_its_bytes(tmp_path, monkeypatch, newline, header, bom, unit):
+    """No decoded copy and no pandas for a plain file; same record as without numba."""
+    path = _plain_file(tmp_path, newline=newline, header=header, bom=bom)
     with numba_off():
         expected = _outcome(lambda: read_voltammogram(path))
 
     def no_decoding(*args, **kwargs):
-        raise AssertionError("a plain ASCII file was decoded")
+        raise AssertionError("a plain UTF-8 file was decoded")
 
     def no_pandas(*args, **kwargs):
-        raise AssertionError("a plain ASCII file went to pandas")
+        raise AssertionError("a plain UTF-8 file went to pandas")
 
     monkeypatch.setattr(reader_mod, "decode_bytes", no_decoding)
     monkeypatch.setattr(table_mod, "_parse_block", no_pandas)
     got = _outcome(lambda: read_voltammogram(path))
     assert got == expected
-    assert got[2]["import.encoding"] == "utf-8"
-    assert got[2]["import.current_unit"] == "uA"
+    assert got[2]["import.encoding"] == ("utf-8-sig" if bom else "utf-8")
+    assert got[2]["import.current_unit"] == unit
+    assert got[2]["instrument"] == "bench - cell 2"  # the typographic minus read as '-'
 
 
 @needs_numba

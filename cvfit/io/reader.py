@@ -13,7 +13,7 @@ from ..units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
 from ..voltammogram import MIN_POINTS, Voltammogram
 from .columns import ColumnLabel, parse_label, time_scale
 from .options import ImportOptions
-from .table import NumericTable, read_table_ascii, read_table_text
+from .table import NumericTable, read_table_bytes, read_table_text
 from .text import decode_bytes
 
 __all__ = ["read_voltammogram", "parse_voltammogram_text", "parse_voltammogram_bytes"]
@@ -359,14 +359,12 @@ def parse_voltammogram_bytes(
 ) -> Voltammogram:
     """As :func:`parse_voltammogram_text`, from raw bytes (encoding detected)."""
     opts = options or ImportOptions()
-    if isinstance(data, bytes):
-        # a plain ASCII file is parsed from its bytes, with no decoded copy; anything
-        # else (None) takes the decoding path, which gives every message
-        table = read_table_ascii(
-            data, source=source, delimiter=opts.delimiter, decimal=opts.decimal
-        )
-        if table is not None:
-            return _build(table, opts, source, scan_rate_V_s, {"import.encoding": "utf-8"})
+    # a plain UTF-8 file is parsed from its bytes, with no decoded copy; anything else
+    # (None) takes the decoding path, which gives every message
+    table = read_table_bytes(data, source=source, delimiter=opts.delimiter, decimal=opts.decimal)
+    if table is not None:
+        encoding = "utf-8-sig" if data.startswith(b"\xef\xbb\xbf") else "utf-8"
+        return _build(table, opts, source, scan_rate_V_s, {"import.encoding": encoding})
     decoded = decode_bytes(data, source=source)
     # one record built, with the encoding in its metadata (no second copy of the arrays)
     return _parse_text(

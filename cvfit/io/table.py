@@ -1,7 +1,9 @@
 """Delimited text to a numeric table: preamble, header row, delimiter and decimal mark.
 
-The happy path is vectorised: the numeric block is handed to :func:`pandas.read_csv` in one
-call. Only when that fails are the lines scanned one by one to name the bad cell.
+The happy path parses the numeric block in one call: the compiled parser of
+:mod:`cvfit.io._numparse` (numba; from the file's bytes when it is UTF-8), else
+:func:`pandas.read_csv`. Only when both refuse are the lines scanned one by one to name
+the bad cell.
 """
 
 from __future__ import annotations
@@ -16,9 +18,9 @@ import pandas as pd
 
 from ..errors import InputError
 from .columns import is_unit
-from .text import clean_ascii, head_lines, split_lines
+from .text import head_lines, split_lines, utf8_clean
 
-__all__ = ["NumericTable", "read_table", "read_table_ascii", "read_table_text"]
+__all__ = ["NumericTable", "read_table", "read_table_bytes", "read_table_text"]
 
 _SPECIAL = re.compile(r"(?i)\b(?:nan|[+-]?inf(?:inity)?)\b")
 _NUMERIC_LINE = re.compile(r"^[\d\s.,;+\-eE\"']*$")
@@ -385,26 +387,25 @@ def read_table_text(
     return read_table(split_lines(text), source=source, delimiter=delimiter, decimal=decimal)
 
 
-def read_table_ascii(
+def read_table_bytes(
     data: bytes,
     *,
     source: str,
     delimiter: str | None = None,
     decimal: str | None = None,
 ) -> NumericTable | None:
-    """The table of a plain ASCII file straight from its bytes, or None.
-
-    The happy path of :func:`read_table_text` with no decoded copy of the file: the
-    compiled parser reads the numbers from the bytes themselves. None (take the decoding
-    path, which gives every message) unless numba is installed and the file is ASCII with
-    no control character, no lone ``\\r`` and only plain rows of numbers below the
-    header; the table is then the one :func:`read_table_text` gives for the decoded text.
-    """
-    if not data.isascii() or not data or data.isspace() or not _compiled().HAVE_NUMBA:
+    """:func:`read_table_text`'s table of a UTF-8 file, from its bytes (no decoded copy);
+    None (decode: that path gives every message) unless numba is installed, only the lines
+    above the numbers need decoding and the compiled parser takes every row below them."""
+    if not isinstance(data, bytes) or data.isspace() or not _compiled().HAVE_NUMBA:
         return None
+    base = 0
+    while data.startswith(b"\xef\xbb\xbf", base):  # the byte-order marks decoding strips
+        base += 3
+    content = memoryview(data)[base:] if base else data
     try:
-        return _one_call(data, b"\r" in data, source, delimiter, decimal)
-    except InputError:  # the decoding path raises it, or an earlier error
+        return _one_call(content, b"\r" in data, source, delimiter, decimal)
+    except (InputError, UnicodeDecodeError):  # the decoding path says why
         return None
 
 
@@ -416,7 +417,7 @@ def _compiled():
 
 
 def _one_call(
-    content: str | bytes,
+    content: str | bytes | memoryview,
     crlf: bool,
     source: str,
     delimiter: str | None,
@@ -430,6 +431,8 @@ def _one_call(
             return None
         if crlf:
             head = [ln[:-1] if ln.endswith("\r") else ln for ln in head]
+        if not isinstance(content, str):  # as the decoding path reads a typographic minus
+            head = [ln.replace("\u2212", "-") for ln in head]
         start = _find_data_start(head)
         if start is not None and start + _SAMPLE + 20 < len(head):
             return _fast_table(content, head, ends, start, source, delimiter, decimal, crlf)
@@ -438,7 +441,7 @@ def _one_call(
 
 
 def _fast_table(
-    content: str | bytes,
+    content: str | bytes | memoryview,
     head: list[str],
     ends: list[int],
     start: int,
@@ -448,10 +451,7 @@ def _fast_table(
     crlf: bool,
 ) -> NumericTable | None:
     """The happy path of :func:`read_table_text`; None to take the line-by-line path.
-
-    *content* is the decoded text, or the bytes of a plain ASCII file (compiled parser
-    only: anything it refuses goes back to the decoding path).
-    """
+    *content* is the text, or bytes (then the compiled parser only, else None)."""
     _, header_key = _header_of(head, start)
     sample = head[start : start + _SAMPLE]
     # every sampled row as read_table would see it: no blank, no surrounding blanks, no
@@ -459,18 +459,18 @@ def _fast_table(
     if any(not ln or ln != ln.strip() or ln == header_key for ln in sample):
         return None
     offset = ends[start - 1] if start else 0
-    if isinstance(content, bytes):
+    if not isinstance(content, str):
         # the lines above the data are checked here, the rows by the compiled parser
-        above = content[:offset]
-        if not clean_ascii(above) or above.count(b"\r") != above.count(b"\r\n"):
+        above = bytes(content[:offset])
+        if not utf8_clean(above) or above.count(b"\r") != above.count(b"\r\n"):
             return None
-        rest, offset = content, offset
+        rest = content
     else:
         rest, offset = content[offset:].encode("utf-8"), 0
     lay = _layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
     values = _compiled().parse_numbers(rest, offset, lay.ncols, lay.delimiter, lay.decimal)
     if values is None:
-        if isinstance(content, bytes):
+        if not isinstance(content, str):
             return None
         values = _pandas_block(rest, lay, crlf)
         if values is None:

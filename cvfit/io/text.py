@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 from ..errors import InputError
 
-__all__ = ["DecodedText", "clean_ascii", "decode_bytes", "head_lines", "split_lines"]
+__all__ = ["DecodedText", "decode_bytes", "head_lines", "split_lines", "utf8_clean"]
 
 _BOMS: tuple[tuple[bytes, str], ...] = (
     (b"\xef\xbb\xbf", "utf-8-sig"),
@@ -25,13 +25,10 @@ _BOMS: tuple[tuple[bytes, str], ...] = (
 # return, DEL and the C1 controls: a text export never contains them.
 _CONTROL = re.compile("[\x00-\x08\x0e-\x1f\x7f-\x9f]")
 _LINE_BREAK = re.compile(r"\r\n|\r|\n")
-# Every ASCII character but the controls _CONTROL looks for: deleting these from ASCII
-# text leaves nothing when the text is clean (a C loop, much faster than the search).
-_ASCII_CLEAN = bytes(b for b in range(128) if not _CONTROL.match(chr(b)))
-# In UTF-8 a C0 control or DEL is a byte of its own and a C1 control is \xc2 and a byte in
-# \x80-\x9f; deleting every other byte leaves next to nothing to search (a deletion cannot
-# make two bytes of a real control non-adjacent, only two others adjacent: then the exact
-# search on the text decides).
+# In UTF-8 (and ASCII) a C0 control or DEL is a byte of its own and a C1 control is \xc2
+# and a byte in \x80-\x9f: deleting every other byte (a C loop, much faster than searching
+# the text) leaves next to nothing to search. A deletion cannot split a real control, only
+# join two other bytes into a false alarm, which the exact search of the text then clears.
 _UTF8_CONTROL = re.compile(rb"[\x00-\x08\x0e-\x1f\x7f]|\xc2[\x80-\x9f]")
 _UTF8_SUSPECT = frozenset(
     [b for b in range(0x80) if _CONTROL.match(chr(b))] + [0xC2, *range(0x80, 0xA0)]
@@ -105,13 +102,12 @@ def decode_bytes(data: bytes, *, source: str) -> DecodedText:
                 break
             except UnicodeDecodeError:
                 continue
-    # ASCII text decoded as UTF-8 is the bytes themselves: check those, no re-encoding
-    ascii_bytes = data if encoding == "utf-8" and data.isascii() else None
-    if ascii_bytes is None and text.isascii():
-        ascii_bytes = text.encode("ascii")
-    clean = ascii_bytes is not None and clean_ascii(ascii_bytes)
-    if ascii_bytes is None and encoding in ("utf-8", "utf-8-sig"):
-        clean = _UTF8_CONTROL.search(data.translate(None, _UTF8_OTHER)) is None
+    # text decoded from UTF-8 is checked in its bytes, ASCII text from elsewhere in its
+    # ASCII bytes; the rest (and any alarm) by searching the text
+    if encoding in ("utf-8", "utf-8-sig"):
+        clean = utf8_clean(data)
+    else:
+        clean = text.isascii() and utf8_clean(text.encode("ascii"))
     bad = None if clean else _CONTROL.search(text)
     if bad is not None:
         raise InputError(
@@ -127,24 +123,32 @@ def decode_bytes(data: bytes, *, source: str) -> DecodedText:
     return DecodedText(text=text, encoding=encoding)
 
 
-def clean_ascii(data: bytes) -> bool:
-    """True when ASCII *data* holds no control character but tab and the line breaks."""
-    return not data.translate(None, _ASCII_CLEAN)
+def utf8_clean(data: bytes) -> bool:
+    """True when UTF-8 (or ASCII) *data* holds no control character but tab and the line
+    breaks; False when it may (then search the decoded text)."""
+    return _UTF8_CONTROL.search(data.translate(None, _UTF8_OTHER)) is None
 
 
 def head_lines(content: str | bytes, n: int) -> tuple[list[str], list[int], bool]:
     """The first *n* lines (split at ``\\n``), the offset just past each, and whether
-    they are all of *content* (bytes must be ASCII: offsets then count both).
+    they are all of *content*.
 
-    Only a prefix is split: splitting the whole content would copy all of it into the
-    last part.
+    Bytes (or a memoryview) are decoded as UTF-8 (``UnicodeDecodeError`` if they are not
+    UTF-8) and their offsets count bytes. Only a prefix is split: splitting the whole
+    content would copy all of it into the last part.
     """
     limit = 128 * n
     while True:
         chunk = content[:limit]
-        text = chunk.decode("ascii") if isinstance(chunk, bytes) else chunk
-        parts = text.split("\n", n)
         whole = limit >= len(content)
+        if isinstance(chunk, str):
+            text = chunk
+        else:
+            chunk = bytes(chunk)
+            if not whole:  # a character may straddle the cut, a line end cannot
+                chunk = chunk[: chunk.rfind(b"\n") + 1]
+            text = chunk.decode("utf-8")
+        parts = text.split("\n", n)
         if whole or len(parts) > n:
             break
         limit *= 4
@@ -152,7 +156,10 @@ def head_lines(content: str | bytes, n: int) -> tuple[list[str], list[int], bool
     head = parts if len(parts) <= n else parts[:n]
     if head and head[-1] == "":
         head.pop()
-    ends = list(itertools.accumulate(len(p) + 1 for p in head))
+    if isinstance(content, str) or text.isascii():
+        ends = list(itertools.accumulate(len(p) + 1 for p in head))
+    else:
+        ends = list(itertools.accumulate(len(p.encode("utf-8")) + 1 for p in head))
     return head, ends, complete
 
 
