@@ -96,11 +96,30 @@ def reduce_rows(A: np.ndarray) -> tuple[np.ndarray, int]:
     return qr[:k, :k] * _upper_mask(k), m
 
 
-def _svd(D: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    U, S, Vt, info = lapack.dgesdd(D, compute_uv=1, full_matrices=0)
-    if info != 0:  # did not converge: NumPy's driver raises as before
-        return np.linalg.svd(D, full_matrices=False)
-    return U, S, Vt
+def _minimum_norm(
+    D: np.ndarray, c: np.ndarray, rcond: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Minimum-norm least-squares solution of D·x ≈ c, singular values and Vᵀ of D.
+
+    Singular values at or below ``rcond`` times the largest count as zero. One LAPACK
+    call (``dgelss``: the SVD of D, applied to c) for a tall or square D; otherwise, or
+    if that SVD does not converge, the SVD of NumPy.
+    """
+    k, p = D.shape
+    if k >= p:
+        v, x, S, _, _, info = lapack.dgelss(D, c, cond=rcond)
+        if info == 0:
+            return x[:p], S, v[:p]  # dgelss leaves Vᵀ in the leading rows of D
+    U, S, Vt = np.linalg.svd(D, full_matrices=False)
+    inv = _reciprocal(S, rcond * S[0] if S.size else 0.0)
+    return Vt.T @ (inv * (U.T @ c)), S, Vt
+
+
+def _reciprocal(S: np.ndarray, cut: float) -> np.ndarray:
+    """1/S where S > cut, else 0 (S is sorted in decreasing order)."""
+    if S.size and S[-1] > cut:  # the usual case: nothing is cut
+        return 1.0 / S
+    return np.divide(1.0, S, out=np.zeros_like(S), where=S > cut)
 
 
 def solve_least_squares(
@@ -116,19 +135,10 @@ def solve_least_squares(
     """
     p = R.shape[1] - 1
     D = R[:, :p] if columns is None else R[:, list(columns)]
-    U, S, Vt = _svd(D)
+    coef, S, Vt = _minimum_norm(D, R[:, p], _EPS * max(rows, D.shape[1]))
     top = float(S[0]) if S.size else 0.0
-    inv = _reciprocal(S, _EPS * max(rows, D.shape[1]) * top)
-    coef = Vt.T @ (inv * (U.T @ R[:, p]))
     inv2 = _reciprocal(S * S, _PINV_RCOND * top * top)
     return coef, (Vt.T * inv2) @ Vt
-
-
-def _reciprocal(S: np.ndarray, cut: float) -> np.ndarray:
-    """1/S where S > cut, else 0 (S is sorted in decreasing order)."""
-    if S.size and S[-1] > cut:  # the usual case: nothing is cut
-        return 1.0 / S
-    return np.divide(1.0, S, out=np.zeros_like(S), where=S > cut)
 
 
 def solve_pinv(R: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -140,9 +150,9 @@ def solve_pinv(R: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     formed. R is from :func:`reduce_rows`, its last column the data.
     """
     p = R.shape[1] - 1
-    U, S, Vt = _svd(R[:, :p])
+    b, S, Vt = _minimum_norm(R[:, :p], R[:, p], _PINV_RCOND)
     inv = _reciprocal(S, _PINV_RCOND * S.max())
-    return Vt.T @ (inv * (U.T @ R[:, p])), (Vt.T * (inv * inv)) @ Vt
+    return b, (Vt.T * (inv * inv)) @ Vt
 
 
 def least_squares(X: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
