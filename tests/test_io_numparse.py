@@ -214,6 +214,7 @@ def test_without_numba_nothing_is_parsed():
 def test_first_call_in_a_fresh_process_is_silent():
     code = (
         "from cvfit.io import _numparse\n"
+        "assert _numparse.warm_up()\n"
         "v = _numparse.parse_numbers(b'1,2\\n3,4e-30\\n', 0, 2, ',', '.')\n"
         "assert v is not None and v.shape == (2, 2)\n"
     )
@@ -222,6 +223,28 @@ def test_first_call_in_a_fresh_process_is_silent():
     )
     assert run.returncode == 0, run.stderr
     assert run.stderr == "" and run.stdout == ""
+
+
+@needs_numba
+def test_nowhere_to_cache_means_pandas(tmp_path):
+    """numba refuses cache=True without a writable cache directory: no numba then."""
+    path = _plain_file(tmp_path)
+    code = (
+        "import numba\n"
+        "def njit(*args, **kwargs):\n"
+        "    def deco(func):\n"
+        "        raise RuntimeError('cannot cache function: no locator available')\n"
+        "    return deco\n"
+        "numba.njit = njit\n"
+        "from cvfit.io import _numparse, read_voltammogram\n"
+        "assert not _numparse.HAVE_NUMBA and not _numparse.warm_up()\n"
+        f"v = read_voltammogram({str(path)!r})\n"
+        "assert v.n_points == 401, v.n_points\n"
+    )
+    run = subprocess.run(
+        [sys.executable, "-W", "error", "-c", code], capture_output=True, text=True
+    )
+    assert run.returncode == 0, run.stderr
 
 
 # --- whole files: compiled parser on and off ----------------------------------------------

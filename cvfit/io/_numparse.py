@@ -47,7 +47,7 @@ try:  # optional accelerator; results never depend on it
 except ImportError:  # pragma: no cover - exercised where numba is absent
     _numba = None
 
-__all__ = ["HAVE_NUMBA", "parse_numbers"]
+__all__ = ["HAVE_NUMBA", "parse_numbers", "warm_up"]
 
 HAVE_NUMBA = _numba is not None
 
@@ -57,12 +57,16 @@ _MAX_DIGITS = 19  # a 19-digit mantissa fits in 64 bits: Eisel–Lemire is exact
 _MAX_EXPONENT = 9999
 
 
-def _identity(func):
+def _jit(func):
+    """*func* compiled by numba, its machine code cached on disk (``cache=True``: the
+    compile cost is paid once per installation); *func* itself without numba."""
+    global HAVE_NUMBA
+    if HAVE_NUMBA:
+        try:
+            return _numba.njit(cache=True, nogil=True)(func)
+        except RuntimeError:  # nowhere to write the cache: compiling in every process
+            HAVE_NUMBA = False  # would cost seconds, so the importer takes pandas
     return func
-
-
-# compiled with cache=True so the one-off compile cost is paid once per installation
-_jit = _numba.njit(cache=True, nogil=True) if HAVE_NUMBA else _identity
 
 
 def _powers_of_five() -> np.ndarray:
@@ -323,8 +327,8 @@ def parse_numbers(
     Returns
     -------
     ndarray or None
-        The values (Fortran order: each column contiguous), or None when numba is not
-        installed or anything in the block is not a plain row of numbers.
+        The values (each column contiguous), or None when numba is not installed or
+        anything in the block is not a plain row of numbers.
     """
     code = _DELIMITERS.get(delimiter)
     if not HAVE_NUMBA or code is None or decimal not in (".", ",") or ncols < 1:
@@ -333,3 +337,9 @@ def parse_numbers(
         return None
     values, ok = _parse(np.frombuffer(data, dtype=np.uint8), start, ncols, code, ord(decimal))
     return values.T if ok else None
+
+
+def warm_up() -> bool:
+    """Load the compiled parser now (~0.1-0.3 s once per process), e.g. in a parent
+    process before it forks workers, which then inherit it; False without numba."""
+    return parse_numbers(b"0\n", 0, 1, ",", ".") is not None
