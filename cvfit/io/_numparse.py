@@ -16,14 +16,15 @@ quotes, ``nan``/``inf`` text, empty cells and blank lines, a wrong cell count, a
 beyond ±9999, and a ``+`` cell with blanks in it outside Clinger's range (pandas reads such
 a cell with a converter that is not correctly rounded).
 
-Values are correctly rounded (round-half-even of the exact decimal). A mantissa below
-2**53 with a decimal exponent within ±22 takes Clinger's exact path (one rounded
+Values are correctly rounded (round-half-even of the exact decimal). A mantissa of at
+most 2**53 with a decimal exponent within ±22 takes Clinger's exact path (one rounded
 multiplication or division of exact operands); the rest takes the Eisel–Lemire algorithm
 on a 64-bit mantissa with 128-bit truncated powers of five, which is exact wherever it
 decides and hands the rare undecided cell back (the whole block is then refused). The
-pandas in use (3.x) converts correctly rounded too, so both paths give bit-identical
-tables; a converter that is not correctly rounded (pandas 2's default) can differ from
-this one in the last bit, and only outside Clinger's range.
+pandas in use (3.x) converts correctly rounded too (but for the ``+`` case above), so both
+paths give bit-identical tables (the tests compare bits); a converter that is not
+correctly rounded (pandas 2's default) can differ from this one outside Clinger's range
+(by about an ulp); inside it both are exact.
 
 numba is optional: without it :func:`parse_numbers` always answers ``None``. The compiled
 code is cached on disk (``cache=True``), so it is compiled once per installation.
