@@ -1,7 +1,9 @@
-"""Array-level helpers of the peak analysis: noise, baselines, vertices, crossings.
+"""Array-level helpers of the peak analysis: noise, baselines, switch step, tail, crossings.
 
 Everything here takes and returns plain arrays or small tuples; nothing knows about
-voltammograms, flags or files. :mod:`cvfit.peaks` composes these pieces.
+voltammograms, flags or files. :mod:`cvfit.peaks` composes these pieces; the peak vertex
+is fitted in :mod:`cvfit._peaklocate`, the small linear algebra is in
+:mod:`cvfit._peakfit_linalg`.
 """
 
 from __future__ import annotations
@@ -21,8 +23,6 @@ __all__ = [
     "foot_window",
     "switch_step",
     "decay_tail",
-    "Vertex",
-    "peak_vertex",
     "rising_crossing",
 ]
 
@@ -391,109 +391,6 @@ def decay_tail(
     seg = slice(k + int(beyond[0]), p1 - gap + 1)
     tail = 1.0 / np.sqrt(tau[span[0] : span[1] + 1] - tau0)
     return tail, (E[seg], i[seg], 1.0 / np.sqrt(tau[seg] - tau0))
-
-
-class Vertex(NamedTuple):
-    """Vertex of a parabola fitted near a peak, with the linear sensitivities of its position."""
-
-    E_V: float
-    height: float
-    grad_y: np.ndarray  # ∂E_vertex/∂y for the points in the window
-    index: np.ndarray  # indices of those points in the sweep
-
-
-def _cubic_stationary(b: np.ndarray) -> float | None:
-    """Root of p'(x) = b1 + 2 b2 x + 3 b3 x² nearest 0 at which p''(x) < 0 (a maximum)."""
-    _, b1, b2, b3 = (float(c) for c in b)
-    qa, qb, qc = 3.0 * b3, 2.0 * b2, b1
-    if abs(qa) * max(abs(qc), 1e-300) < 1e-12 * qb * qb:
-        roots = [-qc / qb] if qb != 0 else []
-    else:
-        disc = qb * qb - 4.0 * qa * qc
-        if disc < 0:
-            return None
-        q = -0.5 * (qb + math.copysign(math.sqrt(disc), qb))
-        roots = [r for r in ((q / qa) if qa else math.inf, (qc / q) if q else math.inf)]
-    best = None
-    for r in roots:
-        if (
-            math.isfinite(r)
-            and 2.0 * b2 + 6.0 * b3 * r < 0
-            and (best is None or abs(r) < abs(best))
-        ):
-            best = r
-    return best
-
-
-def _within(E: np.ndarray, centre: float, half_width_V: float, monotonic: bool) -> np.ndarray:
-    """Indices of the points with ``|E − centre| <= half_width_V``."""
-    if not monotonic:
-        return (np.abs(E - centre) <= half_width_V).nonzero()[0]
-    # on a monotonic sweep those points are consecutive: bracket them by bisection, with a
-    # margin far above rounding, and apply the exact test to the bracket only
-    pad = 1e-9 * (abs(centre) + half_width_V)
-    lo_V, hi_V = centre - half_width_V - pad, centre + half_width_V + pad
-    if E[0] <= E[-1]:
-        a, b = E.searchsorted(lo_V, "left"), E.searchsorted(hi_V, "right")
-    else:
-        rev = E[::-1]
-        n = E.size
-        a, b = n - rev.searchsorted(hi_V, "right"), n - rev.searchsorted(lo_V, "left")
-    return a + (np.abs(E[a:b] - centre) <= half_width_V).nonzero()[0]
-
-
-def _vertex_fit(
-    E: np.ndarray, y: np.ndarray, centre: float, half_width_V: float, monotonic: bool
-) -> Vertex | None:
-    if not half_width_V > 0:
-        return None
-    idx = _within(E, centre, half_width_V, monotonic)
-    if idx.size < 7:
-        return None
-    # a run of consecutive points (always, on a monotonic sweep) is read through a view
-    take = slice(idx[0], idx[-1] + 1) if idx[-1] - idx[0] + 1 == idx.size else idx
-    A = la.augmented(idx.size, 4)
-    x = A[:, 1]
-    np.subtract(E[take], centre, out=x)
-    x /= half_width_V  # scaled for a well-conditioned design
-    A[:, 0] = 1.0
-    np.multiply(x, x, out=A[:, 2])
-    np.multiply(A[:, 2], x, out=A[:, 3])
-    X = np.array(A[:, :4])  # the design, kept: the factorisation overwrites A
-    A[:, 4] = y[take]
-    # b = pinv(X) y with np.linalg.pinv's cut-off, and pinv(X) = P Xᵀ with P 4 × 4
-    R, _ = la.reduce_rows(A)
-    b, P = la.solve_pinv(R)
-    xv = _cubic_stationary(b)
-    if xv is None or abs(xv) > 1.0:
-        return None
-    # implicit differentiation of p'(xv) = 0: d(xv)/db = -(0, 1, 2 xv, 3 xv^2) / p''(xv)
-    curvature = 2.0 * b[2] + 6.0 * b[3] * xv
-    dvdb = -np.array([0.0, 1.0, 2.0 * xv, 3.0 * xv * xv]) / curvature
-    height = float(b[0] + b[1] * xv + b[2] * xv**2 + b[3] * xv**3)
-    return Vertex(centre + half_width_V * xv, height, half_width_V * (X @ (P @ dvdb)), idx)
-
-
-def peak_vertex(
-    E: np.ndarray, y: np.ndarray, k: int, half_width_V: float, *, monotonic: bool = False
-) -> Vertex | None:
-    """Vertex of a low-order polynomial fitted to the points within ``half_width_V``.
-
-    A cubic is used rather than a parabola because a voltammetric peak is skewed: over
-    ±0.35·|Ep − Ep/2| a parabola puts the peak of a reversible wave ~1 mV (n = 1) off and
-    a cubic 0.03 mV; over ±0.6·|Ep − Ep/2|, which halves the noise of the position, the
-    cubic is 0.3 mV off (the skew of the forward and reverse peaks then largely cancels
-    in E½). The first fit is centred on the sampled extremum ``E[k]`` and
-    repeated once centred on its vertex, so the window is symmetric about the peak.
-    Returns None when the window holds fewer than seven points, there is no maximum, or
-    the vertex falls outside the window (no guess is made). ``monotonic`` says that E
-    never turns back (the window is then found by bisection; same points).
-    """
-    first = _vertex_fit(E, y, float(E[k]), half_width_V, monotonic)
-    if first is None:
-        return None
-    second = _vertex_fit(E, y, first.E_V, half_width_V, monotonic)
-    return second if second is not None else first
 
 
 def rising_crossing(E: np.ndarray, y: np.ndarray, k: int, level: float) -> float | None:

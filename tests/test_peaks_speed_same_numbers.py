@@ -25,6 +25,7 @@ import pytest
 
 from cvfit import _peakfit as pf
 from cvfit import _peakfit_linalg as la
+from cvfit import _peaklocate as pl
 from cvfit.peaks import analyse_peaks
 from cvfit.simulate import simulate_cv
 from cvfit.units import thermal_voltage
@@ -113,13 +114,13 @@ def _ref_vertex_fit(E, y, centre, half_width_V, monotonic=False):
     X = np.column_stack([np.ones_like(x), x, x * x, x * x * x])
     pinv = np.linalg.pinv(X)
     b = pinv @ y[idx]
-    xv = pf._cubic_stationary(b)
+    xv = pl._cubic_stationary(b)
     if xv is None or abs(xv) > 1.0:
         return None
     curvature = 2.0 * b[2] + 6.0 * b[3] * xv
     dvdb = -np.array([0.0, 1.0, 2.0 * xv, 3.0 * xv * xv]) / curvature
     height = float(b[0] + b[1] * xv + b[2] * xv**2 + b[3] * xv**3)
-    return pf.Vertex(centre + half_width_V * xv, height, half_width_V * (dvdb @ pinv), idx)
+    return pl.Vertex(centre + half_width_V * xv, height, half_width_V * (dvdb @ pinv), idx)
 
 
 # --- closed-form synthetic voltammograms (no simulator) ---------------------------------
@@ -558,7 +559,7 @@ def test_window_search_finds_the_same_points(name, E):
     for centre in centres:
         for half_width in (1e-4, 0.001, 0.0105, 0.034, 2.0):
             expected = np.nonzero(np.abs(E - centre) <= half_width)[0]
-            got = pf._within(E, float(centre), half_width, monotonic)
+            got = pl._within(E, float(centre), half_width, monotonic)
             np.testing.assert_array_equal(got, expected)
 
 
@@ -619,7 +620,7 @@ def test_vertex_fit_is_the_pinv_form(name):
         k = int(np.argmax(y))
         for half_width in (0.004, 0.02, 0.034, 0.06):
             for centre in (float(E[k]), float(E[k]) + 0.3 * half_width):
-                got = pf._vertex_fit(E, y, centre, half_width, monotonic)
+                got = pl._vertex_fit(E, y, centre, half_width, monotonic)
                 ref = _ref_vertex_fit(E, y, centre, half_width)
                 assert (got is None) == (ref is None)
                 if got is None:
@@ -652,7 +653,7 @@ def test_analysis_with_the_plain_forms_patched_in_is_the_same(monkeypatch):
     monkeypatch.setattr(pf, "noise_sd", _ref_noise_sd)
     monkeypatch.setattr(pf, "fit_foot", _ref_fit_foot)
     monkeypatch.setattr(pf, "switch_step", _ref_switch_step)
-    monkeypatch.setattr(pf, "_vertex_fit", _ref_vertex_fit)
+    monkeypatch.setattr(pl, "_vertex_fit", _ref_vertex_fit)
     plain = [analyse_peaks(v, cycle=c, electrons=n) for v, c, n in _analyses()]
     for a, b in zip(fast, plain, strict=True):
         for field in FIELDS:
