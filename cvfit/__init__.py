@@ -37,7 +37,7 @@ _LAZY = {
     "SolutionConditions": "cvfit.stepwise",
     "simulate_cv": "cvfit.simulate",
     "simulate_series": "cvfit.simulate",
-    "randles_sevcik_peak_current_A": "cvfit.simulate",
+    "randles_sevcik_peak_current_A": "cvfit.peak_current",
     "complexed_half_wave_V": "cvfit.complexation",
     "write_outputs": "cvfit.report",
 }

@@ -19,6 +19,7 @@ from .kinetics import (
     psi_lavagnini,
     switch_corrected_delta_Ep_V,
 )
+from .peak_current import randles_sevcik_peak_current_A
 from .peaks import PeakAnalysis
 from .quantity import Quantity
 from .units import STANDARD_TEMPERATURE_K
@@ -54,8 +55,6 @@ def diffusion_from_peak_current(
     Randles, J. E. B. Trans. Faraday Soc. 44 (1948) 327; Ševčík, A. Collect. Czech. Chem.
     Commun. 13 (1948) 349; Nicholson, R. S.; Shain, I. Anal. Chem. 36 (1964) 706.
     """
-    from .simulate import randles_sevcik_peak_current_A
-
     unit = randles_sevcik_peak_current_A(
         electrons=electrons,
         concentration_M=analyte_M,

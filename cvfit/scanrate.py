@@ -30,6 +30,7 @@ from scipy import optimize, stats
 
 from .flags import Flag
 from .kinetics import PSI_TABLE
+from .peak_current import randles_sevcik_peak_current_A
 from .quantity import Quantity, clean_number
 from .units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K
 
@@ -318,15 +319,15 @@ def analyse_scan_rate_study(
                 )
             )
         if area_cm2 is not None and analyte_M is not None:
-            unit = (
-                0.4463
-                * n
-                * FARADAY
-                * area_cm2
-                * analyte_M
-                / 1000.0
-                * math.sqrt(n * FARADAY / (GAS_CONSTANT * temperature_K))
-            )  # Randles–Ševčík constant, Nicholson & Shain 1964
+            # i_p per (vD)^½ (Randles–Ševčík; Nicholson & Shain 1964)
+            unit = randles_sevcik_peak_current_A(
+                electrons=n,
+                concentration_M=analyte_M,
+                area_cm2=area_cm2,
+                D_cm2_s=1.0,
+                scan_rate_V_s=1.0,
+                temperature_K=temperature_K,
+            )
             Dv = (s / unit) ** 2
             D_t = Quantity.from_t(Dv, 2 * Dv * s_sd / s, dof)
             D = Quantity(Dv, D_t.stderr, D_t.ci95, f"Randles–Ševčík slope, {D_t.method}")

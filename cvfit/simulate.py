@@ -29,16 +29,19 @@ import numpy as np
 
 from . import _sim_kernel as _kernel
 from .errors import SimulationError
+from .peak_current import RANDLES_SEVCIK_CONSTANT, randles_sevcik_peak_current_A
 from .units import FARADAY, GAS_CONSTANT
 from .voltammogram import Voltammogram
 
-__all__ = ["simulate_cv", "simulate_series", "randles_sevcik_peak_current_A"]
+__all__ = [
+    "simulate_cv",
+    "simulate_series",
+    "randles_sevcik_peak_current_A",
+    "RANDLES_SEVCIK_CONSTANT",
+]
 
 #: Largest number of time points one simulation may take (memory guard).
 MAX_POINTS = 5_000_000
-
-#: Reversible peak current function (Nicholson & Shain 1964; Randles 1948; Ševčík 1948).
-RANDLES_SEVCIK_CONSTANT = 0.4463
 
 # Grid defaults: first spacing as a fraction of sqrt(D_min·dt), expansion ratio, and the
 # outer boundary in units of sqrt(D_max·t_total). Chosen by refinement studies so that
@@ -46,45 +49,6 @@ RANDLES_SEVCIK_CONSTANT = 0.4463
 GRID_FIRST_FACTOR = 0.25
 GRID_RATIO = 1.05
 GRID_LENGTH_FACTOR = 6.0
-
-
-def randles_sevcik_peak_current_A(
-    *,
-    electrons: int,
-    concentration_M: float,
-    area_cm2: float,
-    D_cm2_s: float,
-    scan_rate_V_s: float,
-    temperature_K: float = 298.15,
-) -> float:
-    """Reversible peak current 0.4463·nFAC·(nFvD/RT)^½, A (positive).
-
-    Parameters
-    ----------
-    electrons : int
-        n of the couple.
-    concentration_M : float
-        Bulk concentration of the electroactive species, mol/L.
-    area_cm2, D_cm2_s, scan_rate_V_s, temperature_K : float
-        Electrode area (cm²), diffusion coefficient (cm²/s), scan rate (V/s) and
-        temperature (K).
-
-    References
-    ----------
-    Randles, J. E. B. Trans. Faraday Soc. 1948, 44, 327. Ševčík, A. Collect. Czech. Chem.
-    Commun. 1948, 13, 349. Nicholson, R. S.; Shain, I. Anal. Chem. 1964, 36, 706.
-    """
-    n = float(electrons)
-    C = float(concentration_M) / 1000.0  # mol/cm³
-    f = n * FARADAY / (GAS_CONSTANT * float(temperature_K))
-    return (
-        RANDLES_SEVCIK_CONSTANT
-        * n
-        * FARADAY
-        * float(area_cm2)
-        * C
-        * math.sqrt(f * float(scan_rate_V_s) * float(D_cm2_s))
-    )
 
 
 def _positive(name: str, value: object, *, allow_zero: bool = False) -> float:

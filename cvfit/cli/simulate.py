@@ -19,10 +19,8 @@ import math
 import sys
 from pathlib import Path
 
-from .._sim_series import simulate_series, write_voltammogram_csv
 from ..complexation import complexed_half_wave_V
 from ..errors import InputError, SimulationError
-from ..simulate import simulate_cv
 from ..units import celsius_to_kelvin
 
 _CMD = "<command line>"
@@ -177,6 +175,10 @@ def handle(args: argparse.Namespace) -> int:
     seed = None if args.seed is None else _whole(args.seed, "--seed")
     if seed is not None and seed < 0:
         raise InputError("--seed must be >= 0", source=_CMD, key="--seed")
+    # the simulator (and numba, ~0.15 s) is imported only when a simulation is asked for
+    from .._sim_series import write_voltammogram_csv
+    from ..simulate import simulate_cv
+
     out = _out_path(args)
     try:
         if args.series:
@@ -212,6 +214,8 @@ def handle(args: argparse.Namespace) -> int:
 
 
 def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
+    from .._sim_series import simulate_series
+
     if args.ligand_M is None:
         raise InputError("--series needs --ligand-M LIST", source=_CMD, key="--ligand-M")
     ligands = _list(args.ligand_M, "--ligand-M")
