@@ -22,7 +22,7 @@ from .diagnostics import screen_reversibility
 from .errors import InputError
 from .flags import Flag
 from .halfwave import corrected_half_wave_V
-from .io import Manifest, VoltammogramEntry, read_voltammogram
+from .io import Manifest, VoltammogramEntry, load_compiled_parser_if_worth, read_voltammogram
 from .peaks import PeakAnalysis, analyse_peaks
 from .results import FileResult
 from .voltammogram import Voltammogram
@@ -204,6 +204,16 @@ def worker_pool(jobs: int) -> Iterator[WorkerPool | None]:
         executor.shutdown(cancel_futures=True)
 
 
+def _total_bytes(entries: list[VoltammogramEntry]) -> int:
+    """Size of the files on disk, bytes (files that cannot be read count 0: their error
+    comes when they are read)."""
+    total = 0
+    for e in entries:
+        with contextlib.suppress(OSError):
+            total += os.stat(e.file).st_size
+    return total
+
+
 def analyse_files(
     manifest: Manifest,
     *,
@@ -237,6 +247,11 @@ def analyse_files(
         raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
     tick = progress or (lambda: None)
     entries = list(manifest.voltammograms)
+    if not records:
+        # a large series repays loading the compiled number parser, in this process
+        # before any worker starts (they inherit it); the results do not depend on it
+        processes = 1 if pool is None and jobs == 1 else (pool.workers if pool else jobs)
+        load_compiled_parser_if_worth(_total_bytes(entries), processes=processes)
     if records or (pool is None and jobs == 1) or len(entries) < 2:
         records = records or {}
         done = []

@@ -94,3 +94,15 @@ def write_plain_csv(path: Path, v) -> Path:
         path, block, delimiter=",", header="time_s,potential_V,current_A", comments="", fmt="%.10g"
     )
     return path
+
+
+def write_small_series(
+    folder: Path, files: int, *, seed: int, step_V: float = 0.001, prefix: str = "f"
+) -> Path:
+    """The first *files* points of ``LIGAND_M`` simulated and written with a manifest."""
+    entries = []
+    for k, ligand in enumerate(LIGAND_M[:files]):
+        name = f"{prefix}{k}.csv"
+        write_plain_csv(folder / name, simulate_point(ligand, seed=seed + k, step_V=step_V))
+        entries.append({"file": name, "ligand_M": ligand})
+    return write_manifest(folder / "series.toml", entries, series={"electrons": 1})

@@ -6,7 +6,7 @@ import hashlib
 
 import numpy as np
 import pytest
-from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_csv
+from seriesfactory import write_small_series
 
 from cvfit.curves import CycleCurve, cycle_curve, points_per_curve
 from cvfit.io import load_manifest
@@ -52,12 +52,7 @@ def test_points_per_curve_budget():
 
 @pytest.fixture(scope="module")
 def result(tmp_path_factory):
-    folder = tmp_path_factory.mktemp("par")
-    entries = []
-    for k, ligand in enumerate(LIGAND_M[:5]):
-        write_plain_csv(folder / f"f{k}.csv", simulate_point(ligand, seed=900 + k, step_V=0.001))
-        entries.append({"file": f"f{k}.csv", "ligand_M": ligand})
-    manifest = write_manifest(folder / "series.toml", entries, series={"electrons": 1})
+    manifest = write_small_series(tmp_path_factory.mktemp("par"), 5, seed=900)
     return analyse_series(load_manifest(manifest))
 
 

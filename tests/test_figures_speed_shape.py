@@ -8,7 +8,7 @@ from dataclasses import replace
 import matplotlib.pyplot as plt
 import pytest
 from matplotlib.collections import LineCollection
-from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_csv
+from seriesfactory import write_small_series
 
 from cvfit.io import load_manifest
 from cvfit.pipeline import analyse_series
@@ -21,12 +21,7 @@ TITLE = r"Zn $x^2$ in 0.1 M KNO3 ($\frac$ batch)"  # as mathtext: a ParseSyntaxE
 
 @pytest.fixture(scope="module")
 def result(tmp_path_factory):
-    folder = tmp_path_factory.mktemp("figs")
-    entries = []
-    for k, ligand in enumerate(LIGAND_M[:5]):
-        write_plain_csv(folder / f"f{k}.csv", simulate_point(ligand, seed=700 + k, step_V=0.001))
-        entries.append({"file": f"f{k}.csv", "ligand_M": ligand})
-    manifest = write_manifest(folder / "series.toml", entries, series={"electrons": 1})
+    manifest = write_small_series(tmp_path_factory.mktemp("figs"), 5, seed=700)
     got = analyse_series(load_manifest(manifest))
     return replace(got, series={**got.series, "title": TITLE})
 

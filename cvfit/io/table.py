@@ -17,6 +17,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError
+from ._parser_choice import compiled_parser
 from .columns import is_unit
 from .text import head_lines, split_lines, utf8_clean
 
@@ -395,9 +396,11 @@ def read_table_bytes(
     decimal: str | None = None,
 ) -> NumericTable | None:
     """:func:`read_table_text`'s table of a UTF-8 file, from its bytes (no decoded copy);
-    None (decode: that path gives every message) unless numba is installed, only the lines
-    above the numbers need decoding and the compiled parser takes every row below them."""
-    if not isinstance(data, bytes) or data.isspace() or not _compiled().HAVE_NUMBA:
+    None (decode: that path gives every message) unless the compiled parser is loaded
+    (:mod:`cvfit.io._parser_choice`), only the lines above the numbers need decoding and
+    the compiled parser takes every row below them."""
+    parser = compiled_parser()  # None until loaded (see _parser_choice)
+    if not isinstance(data, bytes) or data.isspace() or parser is None or not parser.HAVE_NUMBA:
         return None
     base = 0
     while data.startswith(b"\xef\xbb\xbf", base):  # the byte-order marks decoding strips
@@ -407,13 +410,6 @@ def read_table_bytes(
         return _one_call(content, b"\r" in data, source, delimiter, decimal)
     except (InputError, UnicodeDecodeError):  # the decoding path says why
         return None
-
-
-def _compiled():
-    # imported on first use: numba takes ~0.15 s to import, wasted on small files
-    from . import _numparse
-
-    return _numparse
 
 
 def _one_call(
@@ -468,7 +464,12 @@ def _fast_table(
     else:
         rest, offset = content[offset:].encode("utf-8"), 0
     lay = _layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
-    values = _compiled().parse_numbers(rest, offset, lay.ncols, lay.delimiter, lay.decimal)
+    parser = compiled_parser()  # None until loaded (see _parser_choice)
+    values = (
+        None
+        if parser is None
+        else parser.parse_numbers(rest, offset, lay.ncols, lay.delimiter, lay.decimal)
+    )
     if values is None:
         if not isinstance(content, str):
             return None
