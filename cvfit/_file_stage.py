@@ -12,11 +12,11 @@ from __future__ import annotations
 
 import contextlib
 import os
-from collections.abc import Callable, Iterator
-from concurrent.futures import Executor, ProcessPoolExecutor
-from dataclasses import dataclass, replace
+from collections.abc import Callable
+from dataclasses import replace
 
 from ._series_diagnostics import correct_for_resistance, ohmic_flags, resistance_for
+from ._workers import WorkerPool, available_cpus, worker_pool
 from .curves import cycle_curve, points_per_curve
 from .diagnostics import screen_reversibility
 from .errors import InputError
@@ -30,10 +30,7 @@ from .voltammogram import Voltammogram
 __all__ = [
     "analyse_file",
     "analyse_files",
-    "available_cpus",
     "default_file_jobs",
-    "worker_pool",
-    "WorkerPool",
     "LIGAND_EXCESS_MIN",
     "PARALLEL_MIN_FILES",
 ]
@@ -50,14 +47,6 @@ PARALLEL_MIN_FILES = 16
 # (message, source, line, key) of an InputError: sent back as plain data, because the
 # exception's keyword-only constructor does not survive pickling.
 _ErrorParts = tuple[str, str | None, int | None, str | None]
-
-
-def available_cpus() -> int:
-    """CPU cores this process may run on (the affinity mask where the OS has one)."""
-    try:
-        return max(1, len(os.sched_getaffinity(0)))
-    except AttributeError:  # pragma: no cover - platforms without sched_getaffinity
-        return max(1, os.cpu_count() or 1)
 
 
 def default_file_jobs(n_files: int) -> int:
@@ -174,34 +163,6 @@ def _analyse_chunk(
         except InputError as exc:
             out.append((exc.message, exc.source, exc.line, exc.key))
     return out
-
-
-@dataclass(frozen=True)
-class WorkerPool:
-    """Worker processes shared by the stages of one run, and how many there are."""
-
-    executor: Executor
-    workers: int
-
-
-@contextlib.contextmanager
-def worker_pool(jobs: int) -> Iterator[WorkerPool | None]:
-    """A process pool of *jobs* workers to share between the stages of one run (None for 1).
-
-    The workers start (fork, where the platform does) at the first task, so a caller that
-    imports what the workers need beforehand (the figure modules) spares every worker that
-    import.
-    """
-    if isinstance(jobs, bool) or int(jobs) < 1:
-        raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
-    if jobs == 1:
-        yield None
-        return
-    executor = ProcessPoolExecutor(max_workers=int(jobs))
-    try:
-        yield WorkerPool(executor, int(jobs))
-    finally:
-        executor.shutdown(cancel_futures=True)
 
 
 def _total_bytes(entries: list[VoltammogramEntry]) -> int:

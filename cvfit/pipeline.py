@@ -15,8 +15,9 @@ from pathlib import Path
 import numpy as np
 
 from . import __version__
-from ._file_stage import LIGAND_EXCESS_MIN, WorkerPool, analyse_files
+from ._file_stage import LIGAND_EXCESS_MIN, analyse_files
 from ._series_diagnostics import diagnose_files
+from ._workers import WorkerPool
 from .errors import InputError
 from .flags import Flag
 from .io import Manifest, load_manifest
@@ -105,7 +106,7 @@ def analyse_series(
         Worker processes for the per-file work (import, peaks, screen); 1 runs it in this
         process. The results do not depend on it. Ignored when *records* is given.
     pool : WorkerPool, optional
-        Workers to use instead of *jobs* new ones (:func:`cvfit._file_stage.worker_pool`,
+        Workers to use instead of *jobs* new ones (:func:`cvfit._workers.worker_pool`,
         shared with :func:`cvfit.report.write_outputs` by the command line).
     progress : callable, optional
         Called once per file analysed (the command line's progress bar).

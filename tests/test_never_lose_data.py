@@ -66,12 +66,36 @@ sys.exit(main(sys.argv[1:]))
 
 
 def _start(manifest: Path, out: Path) -> subprocess.Popen:
+    # a session of its own: the run and the workers it starts share its process group
     return subprocess.Popen(
         [sys.executable, "-c", _DRIVER, "run", str(manifest), "--out", str(out), "--quiet"],
         stdout=subprocess.DEVNULL,
         stderr=subprocess.PIPE,
         cwd=manifest.parent,
+        start_new_session=True,
     )
+
+
+def _live_members(group: int) -> list[int]:
+    """Processes of process group *group* that still run (zombies excluded), from /proc."""
+    found = []
+    for stat in Path("/proc").glob("[0-9]*/stat"):
+        try:
+            text = stat.read_text()
+        except OSError:  # the process ended while we looked
+            continue
+        fields = text[text.rindex(")") + 2 :].split()  # after "pid (name) "
+        if int(fields[2]) == group and fields[0] != "Z":
+            found.append(int(stat.parent.name))
+    return found
+
+
+def _no_orphans_left(group: int, timeout_s: float = 10.0) -> list[int]:
+    """Wait for the workers of a killed run to end; the ones still there after *timeout_s*."""
+    deadline = time.monotonic() + timeout_s
+    while (alive := _live_members(group)) and time.monotonic() < deadline:
+        time.sleep(0.05)
+    return alive
 
 
 def _kill_while_writing(proc: subprocess.Popen, out: Path, delay_s: float) -> bool:
@@ -99,7 +123,10 @@ def test_killed_runs_leave_old_or_complete_outputs(series):
         (folder / name).write_bytes(OLD)
     killed = 0
     for delay in KILL_DELAYS_S:
-        killed += _kill_while_writing(_start(manifest, folder), folder, delay)
+        proc = _start(manifest, folder)
+        killed += _kill_while_writing(proc, folder, delay)
+        if sys.platform == "linux":  # the figure workers end with the run they served
+            assert _no_orphans_left(proc.pid) == [], delay
         for name in OUTPUT_NAMES.values():
             content = (folder / name).read_bytes()
             assert content in (OLD, reference[name]), (delay, name, len(content))

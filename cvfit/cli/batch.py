@@ -6,13 +6,13 @@ fails is reported with its one-line error and does not stop the others.
 
 from __future__ import annotations
 
-import os
 import sys
 from collections.abc import Sequence
-from concurrent.futures import ProcessPoolExecutor, as_completed
+from concurrent.futures import as_completed
 from dataclasses import dataclass
 from pathlib import Path
 
+from .._workers import available_cpus, new_process_pool
 from ..errors import InputError
 
 __all__ = [
@@ -156,7 +156,7 @@ def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
 
 
 def default_jobs(n_series: int) -> int:
-    return max(1, min(os.cpu_count() or 1, n_series))
+    return max(1, min(available_cpus(), n_series))
 
 
 def run_batch(
@@ -191,7 +191,7 @@ def run_batch(
                 outcomes[k] = run_series(m, o)
                 bar.update()
     else:
-        with ProcessPoolExecutor(max_workers=jobs) as pool:
+        with new_process_pool(jobs) as pool:
             futures = {
                 pool.submit(run_series, m, o): k
                 for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True))

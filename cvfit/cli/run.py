@@ -8,7 +8,8 @@ import sys
 from collections.abc import Callable, Iterator
 from pathlib import Path
 
-from .._file_stage import PARALLEL_MIN_FILES, available_cpus, default_file_jobs, worker_pool
+from .._file_stage import PARALLEL_MIN_FILES, default_file_jobs
+from .._workers import available_cpus, worker_pool
 from ..errors import InputError
 from ..io import load_manifest
 from ..pipeline import analyse_series

@@ -13,7 +13,7 @@ from .summary import format_summary
 from .table import write_file_table
 
 if TYPE_CHECKING:
-    from .._file_stage import WorkerPool
+    from .._workers import WorkerPool
 
 __all__ = [
     "OUTPUT_NAMES",
@@ -60,13 +60,13 @@ def write_outputs(
 ) -> dict[str, Path]:
     """Write every output of *result* into *out_dir* (created if needed).
 
-    With ``jobs > 1`` (or a shared *pool*, see :func:`cvfit._file_stage.worker_pool`) the
+    With ``jobs > 1`` (or a shared *pool*, see :func:`cvfit._workers.worker_pool`) the
     larger figures are drawn in worker processes while this process writes the rest
     (drawing is most of the time of the outputs); the files written do not depend on it.
     Every file is written to a temporary name and renamed into place, and results.json
     comes last: its presence means the run finished.
     """
-    from .._file_stage import worker_pool
+    from .._workers import worker_pool
 
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
