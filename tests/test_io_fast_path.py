@@ -172,6 +172,6 @@ def test_turning_points_cached_once_and_record_unchanged():
     assert [(s.start, s.stop) for s in first] == [(0, 499), (499, 998)]
     assert tuple(turning_points(E)) == v._turns
     assert v.sweeps() == first
-    # the cache is no field: records compare, copy and travel (io.parallel) as before
+    # the cache is no field: records compare, copy and pickle as before
     assert "_turns" not in {f.name for f in fields(v)}
     assert [(s.start, s.stop) for s in replace(v, source="x").sweeps()] == [(0, 499), (499, 998)]
