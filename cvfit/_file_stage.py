@@ -208,21 +208,22 @@ def analyse_files(
         raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
     tick = progress or (lambda: None)
     entries = list(manifest.voltammograms)
+    serial = bool(records) or (pool is None and jobs == 1) or len(entries) < 2
+    if pool is None and not serial:
+        with worker_pool(min(int(jobs), len(entries))) as own:
+            return analyse_files(manifest, pool=own, progress=progress)
     if not records:
         # a large series repays loading the compiled number parser, in this process
         # before any worker starts (they inherit it); the results do not depend on it
-        processes = 1 if pool is None and jobs == 1 else (pool.workers if pool else jobs)
+        processes = 1 if serial or pool is None else pool.workers
         load_compiled_parser_if_worth(_total_bytes(entries), processes=processes)
-    if records or (pool is None and jobs == 1) or len(entries) < 2:
+    if serial:
         records = records or {}
         done = []
         for e in entries:
             done.append(analyse_file(e, manifest, records.get(e.name)))
             tick()
         return done
-    if pool is None:
-        with worker_pool(min(int(jobs), len(entries))) as own:
-            return analyse_files(manifest, pool=own, progress=progress)
     # a few runs of files per worker: the manifest travels once per run, and the runs
     # balance the load when files differ in length
     size = max(1, -(-len(entries) // (4 * pool.workers)))
