@@ -26,7 +26,7 @@ import pytest
 from cvfit import _peakfit as pf
 from cvfit import _peakfit_linalg as la
 from cvfit import _peaklocate as pl
-from cvfit.peaks import analyse_peaks
+from cvfit.peaks import _OPTIONAL, analyse_peaks
 from cvfit.simulate import simulate_cv
 from cvfit.units import thermal_voltage
 from cvfit.voltammogram import Voltammogram
@@ -186,19 +186,8 @@ CASES = {
     "no_wave": dict(wave=0.0, seed=8),
     "fine_steps": dict(step_V=0.0001, seed=9),
 }
-FIELDS = (
-    "Epc_V",
-    "Epa_V",
-    "ipc_A",
-    "ipa_A",
-    "Ep_half_c_V",
-    "Ep_half_a_V",
-    "E_half_V",
-    "E_half_stderr_V",
-    "delta_Ep_V",
-    "current_ratio",
-    "noise_A",
-)
+# every optional number of PeakAnalysis, in its field order, and the noise
+FIELDS = (*_OPTIONAL, "noise_A")
 # analyse_peaks(synthetic_cv(**CASES[name]), cycle=c, electrons=n) before the speed work
 STORED = {
     ("reduction", 1): (
