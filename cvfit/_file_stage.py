@@ -40,8 +40,9 @@ __all__ = [
 LIGAND_EXCESS_MIN = 10.0
 
 #: Smallest series whose files are analysed in worker processes by default: below it,
-#: starting the workers costs about as much as they save (measured by
-#: benchmarks/bench_series.py, ~2-3 ms per 20 000-point file against ~20 ms of start-up).
+#: starting the workers and sending the results back costs about as much as they save
+#: (~1.6 ms of work per 20 000-point file against ~20-40 ms to start two workers and
+#: collect their results; benchmarks/bench_series.py).
 PARALLEL_MIN_FILES = 16
 
 # (message, source, line, key) of an InputError: sent back as plain data, because the
