@@ -18,7 +18,6 @@ from . import _peakfit_linalg as la
 __all__ = [
     "noise_sd",
     "LineFit",
-    "fit_line",
     "fit_foot",
     "foot_window",
     "switch_step",
@@ -110,22 +109,6 @@ class LineFit(NamedTuple):
                 raise ValueError("this baseline has a tail term; pass its values")
             cols.append(np.broadcast_to(np.asarray(tail, dtype=float), x.shape))
         return np.column_stack(cols)
-
-
-def fit_line(
-    E: np.ndarray, i: np.ndarray, sigma: float, tail: np.ndarray | None = None
-) -> LineFit:
-    """Ordinary least-squares line (plus optional tail term) through (E, i); cov σ²(XᵀX)⁻¹."""
-    E0 = float(np.mean(E))
-    p = 2 if tail is None else 3
-    A = la.augmented(E.size, p)
-    A[:, 0] = 1.0
-    np.subtract(E, E0, out=A[:, 1])
-    if tail is not None:
-        A[:, 2] = tail
-    A[:, p] = i
-    coef, gram_inv = la.solve_least_squares(*la.reduce_rows(A))
-    return LineFit(E0, coef, sigma**2 * gram_inv)
 
 
 def _moving_mean(y: np.ndarray, width: int) -> np.ndarray:

@@ -33,7 +33,6 @@ __all__ = [
     "reduce_rows",
     "solve_least_squares",
     "solve_pinv",
-    "least_squares",
 ]
 
 _EPS = float(np.finfo(float).eps)
@@ -153,15 +152,3 @@ def solve_pinv(R: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     b, S, Vt = _minimum_norm(R[:, :p], R[:, p], _PINV_RCOND)
     inv = _reciprocal(S, _PINV_RCOND * S.max())
     return b, (Vt.T * (inv * inv)) @ Vt
-
-
-def least_squares(X: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Coefficients and (XᵀX)⁺ of the least-squares fit of y on the columns of X.
-
-    :func:`solve_least_squares` for a design given as a whole.
-    """
-    m, p = X.shape
-    A = augmented(m, p)
-    A[:, :p] = X
-    A[:, p] = y
-    return solve_least_squares(*reduce_rows(A))
