@@ -90,18 +90,15 @@ def run_manifest(
     check_outputs_spare_inputs(
         out_dir, [manifest.path, *(e.file for e in manifest.voltammograms)], manifest.path
     )
-    if jobs is not None and jobs < 1:
-        raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
     n_files = len(manifest.voltammograms)
     file_jobs = default_file_jobs(n_files) if jobs is None else jobs
     # by default the figures are drawn in parallel even when the files are read here
     workers = max(file_jobs, min(available_cpus(), 2)) if jobs is None else jobs
     # the figure modules are imported before the workers start, so none imports them again
     import_figure_modules()
+    # worker_pool refuses --jobs below 1 before anything runs
     with worker_pool(workers) as pool, _progress(n_files, enabled=not quiet) as tick:
-        result = analyse_series(
-            manifest, jobs=1, pool=pool if file_jobs > 1 else None, progress=tick
-        )
+        result = analyse_series(manifest, pool=pool if file_jobs > 1 else None, progress=tick)
         written = write_outputs(result, out_dir, pool=pool)
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
