@@ -306,6 +306,25 @@ def test_duplicate_files(tmp_path):
     err = _fails(tmp_path, text)
     assert "listed twice" in err.message and "voltammogram[2]" in err.message
     assert "voltammogram[3].file" in err.message
+    assert err.line == _line_of(text, "./t1.csv")
+
+
+def test_good_entries_are_not_searched_for_line_numbers(tmp_path, monkeypatch):
+    """Line numbers are looked up for messages only: searching the manifest text for every
+    entry of a valid manifest made loading quadratic in the number of files."""
+    from cvfit.io import manifest as manifest_module
+
+    calls = []
+    original = manifest_module._Locator.line
+
+    def counted(self, *args, **kwargs):
+        calls.append(args)
+        return original(self, *args, **kwargs)
+
+    monkeypatch.setattr(manifest_module._Locator, "line", counted)
+    m = load_manifest(_manifest(tmp_path, GOOD))
+    assert len(m.voltammograms) == 3
+    assert calls == []
 
 
 def test_no_voltammograms(tmp_path):

@@ -527,7 +527,10 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
             "voltammogram",
             index,
         )
-        file_line = ld.where.line("voltammogram", "file", index)
+        if not resolved.is_file() or resolved in seen:
+            # the line is looked up only for the message: scanning the manifest for every
+            # entry made loading a 1 000-file manifest quadratic
+            file_line = ld.where.line("voltammogram", "file", index)
         if not resolved.is_file():
             raise ld.fail(
                 f"file {name!r} not found (looked for {resolved}); check the name, paths are "
