@@ -13,6 +13,7 @@ from seriesfactory import write_small_series
 from cvfit.io import load_manifest
 from cvfit.pipeline import analyse_series
 from cvfit.report import figures, figures_diagnostics
+from cvfit.report._light_axis import TICK_LABEL_GID
 from cvfit.report.figures import plot_lingane, plot_voltammograms
 from cvfit.report.figures_diagnostics import plot_diagnostics
 
@@ -44,7 +45,9 @@ def test_titration_curves_are_one_thinned_collection(result, tmp_path, monkeypat
     seen = _capture(monkeypatch)
     assert plot_voltammograms(result, tmp_path / "v.png").stat().st_size > 0
     ax = seen[0].axes[0]
-    collections = [c for c in ax.collections if isinstance(c, LineCollection)]
+    collections = [
+        c for c in ax.collections if isinstance(c, LineCollection) and c.get_gid() is None
+    ]  # the others are grid lines
     assert len(collections) == 1
     segments = collections[0].get_segments()
     titrating = [f for f in result.files if f.ligand_M > 0]
@@ -69,8 +72,11 @@ def test_diagnostics_labels_at_most_the_cap(result, tmp_path, monkeypatch):
     plot_diagnostics(many, tmp_path / "d.png")
     fig = seen[0]
     bottom = fig.axes[1]
-    labels = [t.get_text() for t in bottom.get_xticklabels()]
+    labels = [t.get_text() for t in bottom.texts if t.get_gid() == TICK_LABEL_GID + "x"]
     assert 0 < len(labels) <= figures_diagnostics.MAX_TICK_LABELS
+    # one scan rate for the whole series: named once in the axis label, not per file
+    assert all(label.endswith(" M") for label in labels)
+    assert "V/s" in bottom.get_xlabel()
     assert fig.get_size_inches()[0] <= figures_diagnostics.MAX_WIDTH_IN
     # every file is still plotted: one marker per file with a measured ΔEp
     top = fig.axes[0]

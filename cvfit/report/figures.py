@@ -18,7 +18,7 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 from matplotlib import colors as mcolors  # noqa: E402
 from matplotlib.collections import LineCollection  # noqa: E402
-from matplotlib.ticker import FuncFormatter, NullFormatter  # noqa: E402
+from matplotlib.ticker import FixedLocator, NullLocator  # noqa: E402
 from scipy import stats  # noqa: E402
 
 from ..curves import (  # noqa: E402
@@ -29,6 +29,7 @@ from ..curves import (  # noqa: E402
 )
 from ..results import SeriesResult  # noqa: E402
 from ._atomic import atomic_path  # noqa: E402
+from ._light_axis import light_ticks  # noqa: E402
 
 __all__ = [
     "plot_voltammograms",
@@ -168,13 +169,38 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             sm = plt.cm.ScalarMappable(norm=norm, cmap=cmap)
             cb = fig.colorbar(sm, ax=ax, pad=0.02)
             cb.set_label(f"total ligand [L] / {PER_LITRE}")
-            # plain decimal tick labels (the default log labels need mathtext)
-            cb.ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
-            cb.ax.yaxis.set_minor_formatter(NullFormatter())
+            # labelled ticks at 1, 2 and 5 times the powers of ten, plain decimals (the
+            # default log labels need mathtext) and no minor ticks (a dozen tick objects)
+            values = _one_two_five(norm.vmin, norm.vmax)
+            cb.ax.yaxis.set_major_locator(FixedLocator(values))
+            cb.ax.yaxis.set_minor_locator(NullLocator())
+            cb.ax.yaxis.set_ticklabels([f"{v:g}" for v in values])
         if any(f.ligand_M == 0 for f in result.files):
             ax.legend(loc="best", frameon=False)
+        light_ticks(ax, "x")
+        light_ticks(ax, "y")
         top = _set_title(ax, result.series.get("title") or "voltammograms")
         return _save(fig, path, margins_in=(0.8, 0.35, 0.5, top))
+
+
+def _one_two_five(lo: float, hi: float) -> list[float]:
+    """1, 2 and 5 times the powers of ten within ``[lo, hi]`` (both > 0); at least *lo*
+    and *hi* themselves when the range holds none of them."""
+    values = [
+        m * 10.0**k
+        for k in range(math.floor(math.log10(lo)), math.ceil(math.log10(hi)) + 1)
+        for m in (1.0, 2.0, 5.0)
+    ]
+    inside = [float(f"{v:.12g}") for v in values if lo * (1 - 1e-9) <= v <= hi * (1 + 1e-9)]
+    return inside if len(inside) >= 2 else [lo, hi]
+
+
+def _light_pair(ax: plt.Axes, axr: plt.Axes, *, y_bins: int = 8, r_bins: int = 4) -> None:
+    """Light ticks of a figure with a main panel above a smaller one sharing its x axis."""
+    light_ticks(ax, "x", labels=False)
+    light_ticks(ax, "y", nbins=y_bins)
+    light_ticks(axr, "x")
+    light_ticks(axr, "y", nbins=r_bins)
 
 
 def _points_with_bars(
@@ -218,6 +244,7 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         pts = [f for f in result.files if f.ligand_M > 0 and f.E_half_V is not None]
         if ref is None or not pts:
             ax.text(0.5, 0.5, "no E½ shift could be measured", ha="center", transform=ax.transAxes)
+            _light_pair(ax, axr)
             top = _set_title(ax, result.series.get("title") or "half-wave shift")
             return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
         x = np.log10([f.free_ligand_M for f in pts])
@@ -270,5 +297,6 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel("E½(c) − E½(s) / mV")
         ax.legend(loc="best", frameon=False, fontsize=8)
+        _light_pair(ax, axr, r_bins=3)
         top = _set_title(ax, result.series.get("title") or "half-wave shift")
         return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))

@@ -18,6 +18,7 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
 from ..results import SeriesResult  # noqa: E402
+from ._light_axis import light_ticks  # noqa: E402
 from .figures import _STYLE, _save, _set_title  # noqa: E402
 
 __all__ = ["plot_diagnostics"]
@@ -123,21 +124,34 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
                         color=_MARKERS[kinds[k]][1])  # fmt: skip
         ax.set_ylabel("n·ΔEp / mV")
         axr.set_ylabel("ipa/ipc (Nicholson)")
-        # a large series labels every k-th file: 200 labels side by side are unreadable
+        # a large series labels every k-th file: 200 labels side by side are unreadable;
+        # the scan rate is named per file only when it is not the same for all
         step = max(1, -(-len(files) // MAX_TICK_LABELS))
         shown = x[::step]
-        axr.set_xticks(shown)
-        axr.set_xticklabels(
-            [
-                f"{files[k].ligand_M:.3g} M"
-                + (f"\n{files[k].scan_rate_V_s:.3g} V/s" if files[k].scan_rate_V_s else "")
-                for k in shown
-            ],
-            rotation=60,
-            ha="right",
-            fontsize=7,
+        rates = {f.scan_rate_V_s for f in files}
+        per_file_rate = len(rates) > 1
+        texts = [
+            f"{files[k].ligand_M:.3g} M"
+            + (
+                f"\n{files[k].scan_rate_V_s:.3g} V/s"
+                if per_file_rate and files[k].scan_rate_V_s
+                else ""
+            )
+            for k in shown
+        ]
+        ax.set_xlim(-0.5 - 0.01 * len(files), len(files) - 0.5 + 0.01 * len(files))
+        light_ticks(ax, "x", ticks=shown, labels=False)
+        light_ticks(ax, "y")
+        light_ticks(axr, "x", ticks=shown, texts=texts, rotation=60, fontsize=7)
+        light_ticks(axr, "y", nbins=4)
+        only_rate = next(iter(rates)) if not per_file_rate else None
+        axr.set_xlabel(
+            "voltammogram (total ligand"
+            + (", scan rate" if per_file_rate else "")
+            + ")"
+            + (f" at {only_rate:.3g} V/s" if only_rate else "")
+            + "; open markers: not fitted"
         )
-        axr.set_xlabel("voltammogram (total ligand, scan rate); open markers: not fitted")
         ax.legend(loc="best", frameon=False, fontsize=7)
         axr.legend(loc="best", frameon=False, fontsize=7)
         top = _set_title(ax, (result.series.get("title") or "") + " — reversibility diagnostics")
