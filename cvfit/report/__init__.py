@@ -8,6 +8,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from ..results import SeriesResult
+from ._atomic import atomic_write_text
 from .json_out import results_to_json, write_results_json
 from .summary import format_summary
 from .table import write_file_table
@@ -82,6 +83,8 @@ def write_outputs(
             for name, plot, path in figure_jobs[:-1]:
                 pending[name] = pool.executor.submit(plot, result, path)
             figure_jobs = figure_jobs[-1:]
+        # the text of results.json now, while workers draw; the file is written last
+        json_text = results_to_json(result)
         written["table"] = write_file_table(result, out / OUTPUT_NAMES["table"])
         for name, plot, path in figure_jobs:
             written[name] = plot(result, path)
@@ -104,5 +107,6 @@ def write_outputs(
         result, out / OUTPUT_NAMES["html_report"], figures=figures
     )
     # results.json last: its presence means the run finished.
-    written["results"] = write_results_json(result, out / OUTPUT_NAMES["results"])
+    written["results"] = out / OUTPUT_NAMES["results"]
+    atomic_write_text(written["results"], json_text)
     return written
