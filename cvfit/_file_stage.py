@@ -16,7 +16,7 @@ from collections.abc import Callable
 from dataclasses import replace
 
 from ._series_diagnostics import correct_for_resistance, ohmic_flags, resistance_for
-from ._workers import WorkerPool, available_cpus, worker_pool
+from ._workers import WorkerPool, available_cpus, share_tasks, worker_pool
 from .curves import cycle_curve, points_per_curve
 from .diagnostics import screen_reversibility
 from .errors import InputError
@@ -86,9 +86,16 @@ def _ratio_from_first_cycle(
 
 
 def analyse_file(
-    entry: VoltammogramEntry, manifest: Manifest, record: Voltammogram | None = None
+    entry: VoltammogramEntry,
+    manifest: Manifest,
+    record: Voltammogram | None = None,
+    *,
+    series_files: int | None = None,
 ) -> FileResult:
     """Import (unless *record* is given), measure and screen one voltammogram.
+
+    *series_files* is the number of files of the whole series (it sets how thinly the
+    curve kept for the figures is drawn); by default, those of *manifest*.
 
     Raises
     ------
@@ -144,7 +151,9 @@ def analyse_file(
         used_in_fit=False,
         flags=tuple(flags),
         curve=cycle_curve(
-            v, peaks.cycle_number, max_points=points_per_curve(len(manifest.voltammograms))
+            v,
+            peaks.cycle_number,
+            max_points=points_per_curve(series_files or len(manifest.voltammograms)),
         ),
         label=entry.label,
         E_half_V=e_half,
@@ -153,14 +162,13 @@ def analyse_file(
     )
 
 
-def _analyse_chunk(
-    manifest: Manifest, entries: list[VoltammogramEntry]
-) -> list[FileResult | _ErrorParts]:
-    """Worker side: a run of files, each a FileResult or the parts of its InputError."""
+def _analyse_chunk(manifest: Manifest, series_files: int) -> list[FileResult | _ErrorParts]:
+    """Every entry of *manifest* (a run of a series' files), each a FileResult or the
+    parts of its InputError."""
     out: list[FileResult | _ErrorParts] = []
-    for entry in entries:
+    for entry in manifest.voltammograms:
         try:
-            out.append(analyse_file(entry, manifest))
+            out.append(analyse_file(entry, manifest, series_files=series_files))
         except InputError as exc:
             out.append((exc.message, exc.source, exc.line, exc.key))
     return out
@@ -193,8 +201,8 @@ def analyse_files(
     records : mapping of str to Voltammogram, optional
         Records already in memory, by entry name (then everything runs in this process).
     jobs : int
-        Worker processes (1: this process) when no *pool* is given. The results do not
-        depend on it.
+        Processes sharing the files, this one included, when no *pool* is given (1: all
+        here). The results do not depend on it.
     pool : WorkerPool, optional
         Workers to use (see :func:`worker_pool`), shared with later stages of a run.
     progress : callable, optional
@@ -216,7 +224,7 @@ def analyse_files(
     if not records:
         # a large series repays loading the compiled number parser, in this process
         # before any worker starts (they inherit it); the results do not depend on it
-        processes = 1 if serial or pool is None else pool.workers
+        processes = 1 if serial or pool is None else pool.processes
         load_compiled_parser_if_worth(_total_bytes(entries), processes=processes)
     if serial:
         records = records or {}
@@ -225,16 +233,22 @@ def analyse_files(
             done.append(analyse_file(e, manifest, records.get(e.name)))
             tick()
         return done
-    # a few runs of files per worker: the manifest travels once per run, and the runs
-    # balance the load when files differ in length
-    size = max(1, -(-len(entries) // (4 * pool.workers)))
-    runs = [entries[k : k + size] for k in range(0, len(entries), size)]
-    outcomes: list[FileResult | _ErrorParts] = []
-    for future in [pool.executor.submit(_analyse_chunk, manifest, run) for run in runs]:
-        got = future.result()
-        outcomes.extend(got)
+    # runs of files: the workers take them from the front, this process from the back; a
+    # run carries only its own entries; runs of at most 16 files (~30 ms) keep the two
+    # ends finishing together
+    n = len(entries)
+    size = max(1, min(16, -(-n // (6 * pool.processes))))
+    runs = [
+        (_analyse_chunk, (replace(manifest, voltammograms=tuple(entries[k : k + size])), n))
+        for k in range(0, n, size)
+    ]
+
+    def ticks(_k: int, got: list) -> None:
         for _ in got:
             tick()
+
+    done = share_tasks(pool, runs, on_done=ticks)
+    outcomes: list[FileResult | _ErrorParts] = [got for run in done for got in run]
     for got in outcomes:
         if isinstance(got, tuple):
             message, source, line, key = got

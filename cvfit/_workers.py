@@ -4,6 +4,10 @@ A pool's workers wait on a pipe that their siblings also hold open, so when the 
 that started them is killed (SIGKILL, an out-of-memory kill, a closed terminal) they would
 wait forever, each holding its share of memory. Every worker here watches its parent and
 exits as soon as the parent is gone.
+
+A run with ``--jobs N`` uses N processes: this one and N - 1 workers. This process works
+too (:func:`share_tasks`): it would otherwise wait idle, and a freshly forked worker runs its
+first tasks slowly while it copies the pages it writes to (tens of ms each).
 """
 
 from __future__ import annotations
@@ -12,13 +16,22 @@ import contextlib
 import os
 import threading
 import time
-from collections.abc import Iterator
-from concurrent.futures import Executor, ProcessPoolExecutor
+from collections import deque
+from collections.abc import Callable, Iterator, Sequence
+from concurrent.futures import FIRST_COMPLETED, Executor, Future, ProcessPoolExecutor, wait
 from dataclasses import dataclass
+from typing import Any
 
 from .errors import InputError
 
-__all__ = ["available_cpus", "new_process_pool", "worker_pool", "WorkerPool", "PARENT_POLL_S"]
+__all__ = [
+    "available_cpus",
+    "new_process_pool",
+    "worker_pool",
+    "share_tasks",
+    "WorkerPool",
+    "PARENT_POLL_S",
+]
 
 #: How often a worker checks that the process that started it is still there, s.
 PARENT_POLL_S = 0.2
@@ -52,27 +65,117 @@ def new_process_pool(workers: int) -> ProcessPoolExecutor:
 
 @dataclass(frozen=True)
 class WorkerPool:
-    """Worker processes shared by the stages of one run, and how many there are."""
+    """Worker processes shared by the stages of one run, and how many there are.
+
+    The process holding the pool works beside them: ``processes = workers + 1``.
+    """
 
     executor: Executor
     workers: int
 
+    @property
+    def processes(self) -> int:
+        """Processes that share the work: the workers and this one."""
+        return self.workers + 1
+
 
 @contextlib.contextmanager
 def worker_pool(jobs: int) -> Iterator[WorkerPool | None]:
-    """A process pool of *jobs* workers to share between the stages of one run (None for 1).
+    """Workers for a run of *jobs* processes, this one included (None for 1).
 
-    The workers start (fork, where the platform does) at the first task, so a caller that
-    imports what the workers need beforehand (the figure modules) spares every worker that
-    import.
+    The pool has ``jobs - 1`` workers. They start (fork, where the platform does) at the
+    first task, so a caller that imports what the workers need beforehand (the figure
+    modules) spares every worker that import.
     """
     if isinstance(jobs, bool) or int(jobs) < 1:
         raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
     if jobs == 1:
         yield None
         return
-    executor = new_process_pool(int(jobs))
+    executor = new_process_pool(int(jobs) - 1)
     try:
-        yield WorkerPool(executor, int(jobs))
+        yield WorkerPool(executor, int(jobs) - 1)
     finally:
         executor.shutdown(cancel_futures=True)
+
+
+Task = tuple[Callable[..., Any], tuple]
+
+
+def share_tasks(
+    pool: WorkerPool | None,
+    tasks: Sequence[Task],
+    *,
+    on_done: Callable[[int, Any], object] | None = None,
+) -> list[Any]:
+    """Run ``fn(*args)`` for every task; the results in the order of *tasks*.
+
+    The workers take tasks from the front, one each at a time (a thread of this process
+    hands them out as they finish), and this process runs tasks from the back, so the
+    costly ones should come first. Tasks sent to workers must pickle. *on_done* is called
+    in this process with (index, result) as tasks finish. The first exception (in the
+    order this process meets them) propagates once the running tasks are done; tasks not
+    yet started are dropped.
+    """
+    results: list[Any] = [None] * len(tasks)
+    pending = deque(range(len(tasks)))
+    lock = threading.Lock()
+    sent: dict[Future, int] = {}  # every task handed to a worker
+    reported: set[Future] = set()
+
+    def take(front: bool) -> int | None:
+        with lock:
+            if not pending:
+                return None
+            return pending.popleft() if front else pending.pop()
+
+    feed_errors: list[BaseException] = []
+
+    def feed() -> None:
+        running: set[Future] = set()
+        try:
+            while True:
+                while len(running) < pool.workers and (k := take(front=True)) is not None:
+                    fn, args = tasks[k]
+                    future = pool.executor.submit(fn, *args)
+                    with lock:
+                        sent[future] = k
+                    running.add(future)
+                if not running:
+                    return
+                _, running = wait(running, return_when=FIRST_COMPLETED)
+        except BaseException as exc:  # a broken pool: stop, and let this process raise it
+            feed_errors.append(exc)
+            with lock:
+                pending.clear()
+            wait(running)
+
+    def report_done() -> None:
+        with lock:
+            done = [(f, k) for f, k in sent.items() if f.done() and f not in reported]
+        for future, k in done:
+            reported.add(future)
+            results[k] = future.result()
+            if on_done is not None:
+                on_done(k, results[k])
+
+    feeder = None
+    if pool is not None and pool.workers > 0 and len(tasks) > 1:
+        feeder = threading.Thread(target=feed, name="cvfit-feed", daemon=True)
+        feeder.start()
+    try:
+        while (k := take(front=False)) is not None:
+            fn, args = tasks[k]
+            results[k] = fn(*args)
+            if on_done is not None:
+                on_done(k, results[k])
+            report_done()
+    finally:
+        if feeder is not None:
+            with lock:
+                pending.clear()  # after an exception: start nothing more
+            feeder.join()
+    if feed_errors:
+        raise feed_errors[0]
+    report_done()
+    return results

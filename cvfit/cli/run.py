@@ -37,10 +37,11 @@ def register(sub: argparse._SubParsersAction) -> None:
         "--jobs",
         metavar="N",
         type=int,
-        help="worker processes: for a batch, series run in parallel (default: one per CPU "
-        "core, at most one per series); for one series, its files are read and measured "
-        f"in parallel (default: one per CPU core from {PARALLEL_MIN_FILES} files on) and its "
-        "figures drawn in parallel; 1 runs everything in one process",
+        help="processes to work in: for a batch, series run in parallel (default: one per "
+        "CPU core, at most one per series); for one series, N processes (this one and N - 1 "
+        "workers) share the reading and measuring of its files (default: one per CPU core "
+        f"from {PARALLEL_MIN_FILES} files on) and the drawing of its figures; 1 runs "
+        "everything in one process",
     )
     p.add_argument("--quiet", action="store_true", help="print only where results went")
     p.set_defaults(handler=handle)

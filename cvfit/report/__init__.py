@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 from collections.abc import Callable
-from concurrent.futures import Future
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -61,42 +60,34 @@ def write_outputs(
 ) -> dict[str, Path]:
     """Write every output of *result* into *out_dir* (created if needed).
 
-    With ``jobs > 1`` (or a shared *pool*, see :func:`cvfit._workers.worker_pool`) the
-    larger figures are drawn in worker processes while this process writes the rest
-    (drawing is most of the time of the outputs); the files written do not depend on it.
+    With ``jobs > 1`` processes (or a shared *pool*, see :func:`cvfit._workers.worker_pool`)
+    the figures are drawn by the workers and this process together (drawing is most of the
+    time of the outputs); the files written do not depend on it.
     Every file is written to a temporary name and renamed into place, and results.json
     comes last: its presence means the run finished.
     """
-    from .._workers import worker_pool
+    from .._workers import share_tasks, worker_pool
 
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     figure_jobs = _figure_jobs(result, out)  # imports the figure modules before any fork
     if pool is None and jobs > 1:
-        with worker_pool(min(jobs, len(figure_jobs) - 1)) as own:
+        with worker_pool(min(jobs, len(figure_jobs))) as own:
             return write_outputs(result, out, pool=own)
-    pending: dict[str, Future] = {}
-    try:
-        written: dict[str, Path] = {}
-        if pool is not None:
-            # the main process draws the last (smallest) figure itself
-            for name, plot, path in figure_jobs[:-1]:
-                pending[name] = pool.executor.submit(plot, result, path)
-            figure_jobs = figure_jobs[-1:]
-        # the text of results.json now, while workers draw; the file is written last
-        json_text = results_to_json(result)
-        written["table"] = write_file_table(result, out / OUTPUT_NAMES["table"])
-        for name, plot, path in figure_jobs:
-            written[name] = plot(result, path)
-        if result.series.get("model") == "stepwise":
-            from .figures_stepwise import write_stepwise_figures
+    # the workers take the figures from the front of the list, this process the table and
+    # the text of results.json from the back, then figures (results.json is written last)
+    tasks = [(plot, (result, path)) for _, plot, path in figure_jobs]
+    tasks += [
+        (write_file_table, (result, out / OUTPUT_NAMES["table"])),
+        (results_to_json, (result,)),
+    ]
+    *drawn, table, json_text = share_tasks(pool, tasks)
+    written: dict[str, Path] = {"table": table}
+    written.update((name, path) for (name, _, _), path in zip(figure_jobs, drawn, strict=True))
+    if result.series.get("model") == "stepwise":
+        from .figures_stepwise import write_stepwise_figures
 
-            written.update(write_stepwise_figures(result, out))
-        for name, future in pending.items():
-            written[name] = future.result()
-    finally:
-        for future in pending.values():
-            future.cancel()
+        written.update(write_stepwise_figures(result, out))
     order = ["table", "voltammograms_figure", "diagnostics_figure", "lingane_figure"]
     written = {k: written[k] for k in order if k in written} | written
     # The HTML page embeds every figure written above; keep it after them.
