@@ -55,18 +55,11 @@ def test_workers_and_this_process_share_the_tasks():
     assert _no_feeder_left()
 
 
-def test_a_failing_task_here_stops_the_work():
+@pytest.mark.parametrize("bad", [11, 0], ids=["here", "in-a-worker"])
+def test_a_failing_task_stops_the_work(bad):
     with worker_pool(2) as pool:
-        tasks = [(_fails_at, (k, 11)) for k in range(12)]
-        with pytest.raises(ValueError, match="task 11 failed"):
-            share_tasks(pool, tasks)
-    assert _no_feeder_left()
-
-
-def test_a_failing_task_in_a_worker_stops_the_work():
-    with worker_pool(2) as pool:
-        tasks = [(_fails_at, (k, 0)) for k in range(12)]
-        with pytest.raises(ValueError, match="task 0 failed"):
+        tasks = [(_fails_at, (k, bad)) for k in range(12)]
+        with pytest.raises(ValueError, match=f"task {bad} failed"):
             share_tasks(pool, tasks)
     assert _no_feeder_left()
 
