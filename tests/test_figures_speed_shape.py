@@ -6,6 +6,7 @@ from __future__ import annotations
 from dataclasses import replace
 
 import matplotlib.pyplot as plt
+import numpy as np
 import pytest
 from matplotlib.collections import LineCollection
 from seriesfactory import write_small_series
@@ -56,6 +57,39 @@ def test_titration_curves_are_one_thinned_collection(result, tmp_path, monkeypat
     # the ligand-free curve keeps its own dashed line and legend entry
     assert [ln.get_label() for ln in ax.get_lines()] == ["no ligand"]
     assert ax.get_title() == TITLE
+
+
+def test_very_large_series_draws_curves_spread_over_the_ligand_range(
+    result, tmp_path, monkeypatch
+):
+    copies = -(-(figures.MAX_CURVES_DRAWN + 50) // (len(result.files) - 1))
+    files = []
+    for c in range(copies):  # distinct ligand levels, as in a long titration
+        files += [replace(f, ligand_M=f.ligand_M * (1 + 1e-3 * c)) for f in result.files]
+    big = replace(result, files=tuple(files))
+    titrating = [f for f in big.files if f.ligand_M > 0]
+    assert len(titrating) > figures.MAX_CURVES_DRAWN
+    seen = _capture(monkeypatch)
+    plot_voltammograms(big, tmp_path / "v.png")
+    ax = seen[0].axes[0]
+    (curves,) = [
+        c for c in ax.collections if isinstance(c, LineCollection) and c.get_gid() is None
+    ]
+    assert len(curves.get_segments()) == figures.MAX_CURVES_DRAWN
+    # the lowest and the highest ligand level are among those drawn (the colour scale's ends)
+    colours = curves.get_colors()[:, :3]
+    cmap = plt.get_cmap(figures.COLOUR_MAP)
+    for end in (0.0, 1.0):
+        assert np.min(np.abs(colours - np.asarray(cmap(end))[:3]).sum(axis=1)) < 1e-6
+    # the copies' ligand-free curves are all drawn, under one legend entry
+    free = [ln for ln in ax.get_lines() if ln.get_linestyle() == "--"]
+    assert len(free) == copies
+    assert [t.get_text() for t in ax.get_legend().get_texts()] == ["no ligand"]
+    notes = [t.get_text() for t in ax.texts if "curves drawn" in t.get_text()]
+    assert notes == [
+        f"{figures.MAX_CURVES_DRAWN} of {len(titrating)} titration curves drawn, evenly over [L]"
+    ]
+    plt.close("all")
 
 
 def test_large_series_draws_fewer_points_per_curve():

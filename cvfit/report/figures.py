@@ -37,6 +37,7 @@ __all__ = [
     "MAX_POINTS_DRAWN",
     "MAX_POINTS_PER_FIGURE",
     "MIN_POINTS_DRAWN",
+    "MAX_CURVES_DRAWN",
     "COLOUR_MAP",
 ]
 
@@ -122,6 +123,22 @@ def _save(
     return path
 
 
+#: Most titration curves overlaid in one figure. Beyond it, curves spread evenly over the
+#: ligand range are drawn and the figure says so: 250 overlaid curves already fill the
+#: band the wave sweeps, and drawing costs ~0.25 ms per curve.
+MAX_CURVES_DRAWN = 250
+
+
+def _curves_drawn(files) -> set[int]:
+    """Indices of the titration curves to draw (all, up to ``MAX_CURVES_DRAWN``)."""
+    titrating = [k for k, f in enumerate(files) if f.ligand_M > 0 and f.curve is not None]
+    if len(titrating) <= MAX_CURVES_DRAWN:
+        return set(titrating)
+    by_ligand = sorted(titrating, key=lambda k: (files[k].ligand_M, k))
+    picks = np.linspace(0, len(by_ligand) - 1, MAX_CURVES_DRAWN).round().astype(int)
+    return {by_ligand[p] for p in np.unique(picks)}
+
+
 def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
     """Overlay the analysed cycle of every file, coloured by ligand concentration."""
     path = Path(path)
@@ -139,8 +156,12 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
         # the titration curves go into one LineCollection (one artist, not one per file);
         # the ligand-free curves stay lines of their own for the legend
         segments, ligands, alphas = [], [], []
-        for f in result.files:
+        drawn = _curves_drawn(result.files)
+        free_labelled = False
+        for k, f in enumerate(result.files):
             if f.curve is None:  # a result built without its curves
+                continue
+            if f.ligand_M > 0 and k not in drawn:
                 continue
             E, i = _thin(f.curve.potential_V, f.curve.current_A, per_curve)
             alpha = 1.0 if f.reversible is True else 0.55
@@ -148,9 +169,11 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                 segments.append(np.column_stack([E, i * 1e6]))
                 ligands.append(f.ligand_M)
                 alphas.append(alpha)
-            else:
+            else:  # one legend entry for the ligand-free curves, however many
+                label = "no ligand" if f.ligand_M == 0 and not free_labelled else None
+                free_labelled = free_labelled or label is not None
                 ax.plot(E, i * 1e6, color="0.15", lw=1.1, ls="--", alpha=alpha,
-                        label="no ligand" if f.ligand_M == 0 else None)  # fmt: skip
+                        label=label)  # fmt: skip
         if segments:
             colours = cmap(norm(np.asarray(ligands)))  # one call for all curves
             colours[:, 3] = alphas
@@ -175,6 +198,11 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             cb.ax.yaxis.set_major_locator(FixedLocator(values))
             cb.ax.yaxis.set_minor_locator(NullLocator())
             cb.ax.yaxis.set_ticklabels([f"{v:g}" for v in values])
+        titrating = sum(f.ligand_M > 0 and f.curve is not None for f in result.files)
+        if len(drawn) < titrating:
+            ax.text(0.99, 0.01, f"{len(drawn)} of {titrating} titration curves drawn, evenly "
+                    "over [L]", transform=ax.transAxes, ha="right", va="bottom", fontsize=7,
+                    color="0.3")  # fmt: skip
         if any(f.ligand_M == 0 for f in result.files):
             ax.legend(loc="best", frameon=False)
         light_ticks(ax, "x")
