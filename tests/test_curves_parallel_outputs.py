@@ -11,7 +11,7 @@ from seriesfactory import write_small_series
 from cvfit.curves import CycleCurve, cycle_curve, points_per_curve
 from cvfit.io import load_manifest
 from cvfit.pipeline import analyse_series
-from cvfit.report import OUTPUT_NAMES, write_outputs
+from cvfit.report import OUTPUT_NAMES, results_to_json, write_file_table, write_outputs
 from cvfit.report import figures as figures_module
 from cvfit.simulate import simulate_cv
 
@@ -69,6 +69,26 @@ def test_outputs_drawn_in_workers_are_the_serial_ones(result, tmp_path):
     assert _digests(tmp_path / "one") == _digests(tmp_path / "two")
     # nothing but the outputs: no temporary file left behind by a worker
     assert sorted(p.name for p in (tmp_path / "two").iterdir()) == sorted(OUTPUT_NAMES.values())
+
+
+def test_outputs_from_a_result_without_curves_are_the_same(result, tmp_path):
+    """Workers get the result without its curves (a fifth of the bytes); every output but
+    the voltammogram figure must come out the same from it."""
+    from cvfit.report import _without_curves
+    from cvfit.report.figures import plot_lingane
+    from cvfit.report.figures_diagnostics import plot_diagnostics
+
+    light = _without_curves(result)
+    assert all(f.curve is None for f in light.files)
+    assert all(f.curve is not None for f in result.files)
+    assert results_to_json(light) == results_to_json(result)
+    for name, write in (
+        ("t.csv", write_file_table),
+        ("d.png", plot_diagnostics),
+        ("l.png", plot_lingane),
+    ):
+        full = write(result, tmp_path / f"full_{name}").read_bytes()
+        assert write(light, tmp_path / f"light_{name}").read_bytes() == full, name
 
 
 def test_long_title_wraps_and_gets_room(result, tmp_path, monkeypatch):

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from dataclasses import replace
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -13,7 +13,7 @@ from .summary import format_summary
 from .table import write_file_table
 
 if TYPE_CHECKING:
-    from .._workers import WorkerPool
+    from .._workers import Task, WorkerPool
 
 __all__ = [
     "OUTPUT_NAMES",
@@ -41,18 +41,40 @@ def import_figure_modules() -> None:
     from . import figures, figures_diagnostics  # noqa: F401
 
 
-def _figure_jobs(result: SeriesResult, out: Path) -> list[tuple[str, Callable, Path]]:
-    """(name, plotting function, path) of every figure of *result*, largest first."""
+def _without_curves(result: SeriesResult) -> SeriesResult:
+    """*result* without the files' curves (a fifth of the bytes to send to a worker); every
+    output but the voltammogram figure is the same from it."""
+    return replace(result, files=tuple(replace(f, curve=None) for f in result.files))
+
+
+def _output_tasks(result: SeriesResult, out: Path) -> list[tuple[str, Task]]:
+    """(output name, task) of the figures, the table and the text of results.json.
+
+    Workers take tasks from the front and the calling process from the back (see
+    :func:`cvfit._workers.share_tasks`): the order keeps two processes about equally
+    busy (diagnostics, then the small tasks, in one; the other two figures in the other).
+    """
     from .figures import plot_lingane, plot_voltammograms
     from .figures_diagnostics import plot_diagnostics
 
-    jobs = [
-        ("diagnostics_figure", plot_diagnostics, out / OUTPUT_NAMES["diagnostics_figure"]),
-        ("voltammograms_figure", plot_voltammograms, out / OUTPUT_NAMES["voltammograms_figure"]),
+    light = _without_curves(result)
+    tasks: list[tuple[str, Task]] = [
+        (
+            "diagnostics_figure",
+            (plot_diagnostics, (light, out / OUTPUT_NAMES["diagnostics_figure"])),
+        ),
+        ("json", (results_to_json, (light,))),
+        ("table", (write_file_table, (light, out / OUTPUT_NAMES["table"]))),
+        (
+            "voltammograms_figure",
+            (plot_voltammograms, (result, out / OUTPUT_NAMES["voltammograms_figure"])),
+        ),
     ]
     if result.series.get("model") != "stepwise":
-        jobs.append(("lingane_figure", plot_lingane, out / OUTPUT_NAMES["lingane_figure"]))
-    return jobs
+        tasks.append(
+            ("lingane_figure", (plot_lingane, (light, out / OUTPUT_NAMES["lingane_figure"])))
+        )
+    return tasks
 
 
 def write_outputs(
@@ -70,20 +92,15 @@ def write_outputs(
 
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    figure_jobs = _figure_jobs(result, out)  # imports the figure modules before any fork
+    tasks = _output_tasks(result, out)  # imports the figure modules before any fork
     if pool is None and jobs > 1:
-        with worker_pool(min(jobs, len(figure_jobs))) as own:
+        with worker_pool(min(jobs, len(tasks))) as own:
             return write_outputs(result, out, pool=own)
-    # the workers take the figures from the front of the list, this process the table and
-    # the text of results.json from the back, then figures (results.json is written last)
-    tasks = [(plot, (result, path)) for _, plot, path in figure_jobs]
-    tasks += [
-        (write_file_table, (result, out / OUTPUT_NAMES["table"])),
-        (results_to_json, (result,)),
-    ]
-    *drawn, table, json_text = share_tasks(pool, tasks)
-    written: dict[str, Path] = {"table": table}
-    written.update((name, path) for (name, _, _), path in zip(figure_jobs, drawn, strict=True))
+    done = dict(
+        zip([name for name, _ in tasks], share_tasks(pool, [t for _, t in tasks]), strict=True)
+    )
+    json_text = done.pop("json")  # results.json is written last
+    written: dict[str, Path] = done
     if result.series.get("model") == "stepwise":
         from .figures_stepwise import write_stepwise_figures
 
