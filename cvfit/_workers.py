@@ -13,6 +13,7 @@ first tasks slowly while it copies the pages it writes to (tens of ms each).
 from __future__ import annotations
 
 import contextlib
+import gc
 import os
 import threading
 import time
@@ -35,6 +36,9 @@ __all__ = [
 
 #: How often a worker checks that the process that started it is still there, s.
 PARENT_POLL_S = 0.2
+#: Longest wait, s, for the workers' first tasks to be handed out before this process
+#: starts on its own share (see :func:`share_tasks`).
+HAND_OUT_WAIT_S = 0.05
 
 
 def available_cpus() -> int:
@@ -92,11 +96,17 @@ def worker_pool(jobs: int) -> Iterator[WorkerPool | None]:
     if jobs == 1:
         yield None
         return
+    # Everything alive now is left out of garbage collection until the pool is gone: a
+    # collection writes to every object it visits, so after the fork each process would
+    # copy the pages of the whole heap it shares with the other (a full collection while
+    # unpickling took a fresh worker 0.1-0.25 s).
+    gc.freeze()
     executor = new_process_pool(int(jobs) - 1)
     try:
         yield WorkerPool(executor, int(jobs) - 1)
     finally:
         executor.shutdown(cancel_futures=True)
+        gc.unfreeze()
 
 
 Task = tuple[Callable[..., Any], tuple]
@@ -163,6 +173,20 @@ def share_tasks(
     if pool is not None and pool.workers > 0 and len(tasks) > 1:
         feeder = threading.Thread(target=feed, name="cvfit-feed", daemon=True)
         feeder.start()
+        # Hand the first tasks out before working here: the hand-over takes three threads
+        # of this process in turn, each needing Python's lock, which this process's own
+        # work can keep for tens of ms at a time (matplotlib keeps it while it renders).
+        first = min(pool.workers, len(tasks) - 1)
+        deadline = time.monotonic() + HAND_OUT_WAIT_S
+        while time.monotonic() < deadline and not feed_errors:
+            with lock:
+                out = list(sent)
+            if len(out) >= first and all(f.running() or f.done() for f in out):
+                # running: in the pool's queue; a moment more lets the queue's thread
+                # write them to the workers' pipe
+                time.sleep(0.002)
+                break
+            time.sleep(0.0005)
     try:
         while (k := take(front=False)) is not None:
             fn, args = tasks[k]

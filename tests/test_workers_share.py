@@ -76,3 +76,15 @@ def test_a_broken_pool_is_raised_here_not_printed_by_the_feeding_thread(capfd):
             share_tasks(pool, [(_who, (k, 0.01)) for k in range(6)])
     assert "Exception in thread" not in capfd.readouterr().err
     assert _no_feeder_left()
+
+
+def test_pool_leaves_the_heap_out_of_garbage_collection_while_it_lives():
+    """Collections write to every object they visit: with the heap shared by fork, each
+    process would copy its pages. Frozen while the pool lives, collected normally after."""
+    import gc
+
+    before = gc.get_freeze_count()
+    with worker_pool(2) as pool:
+        assert gc.get_freeze_count() > before
+        assert share_tasks(pool, [(_who, (k, 0.0)) for k in range(3)])[0][0] == 0
+    assert gc.get_freeze_count() == 0
