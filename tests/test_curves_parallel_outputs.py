@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import hashlib
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -69,6 +70,34 @@ def test_outputs_drawn_in_workers_are_the_serial_ones(result, tmp_path):
     assert _digests(tmp_path / "one") == _digests(tmp_path / "two")
     # nothing but the outputs: no temporary file left behind by a worker
     assert sorted(p.name for p in (tmp_path / "two").iterdir()) == sorted(OUTPUT_NAMES.values())
+
+
+def test_tasks_handed_to_a_worker_through_a_file_leave_no_file(result, tmp_path, monkeypatch):
+    import tempfile
+
+    spare = tmp_path / "tmp"
+    spare.mkdir()
+    monkeypatch.setattr(tempfile, "tempdir", str(spare))
+    made = []
+    original = tempfile.mkstemp
+
+    def recorded(*args, **kwargs):
+        made.append(original(*args, **kwargs))
+        return made[-1]
+
+    monkeypatch.setattr(tempfile, "mkstemp", recorded)
+    write_outputs(result, tmp_path / "two", jobs=2)
+    handed = [path for _, path in made if Path(path).name.startswith("cvfit-tasks-")]
+    assert len(handed) == 1 and handed[0].startswith(str(spare))  # the tasks' file ...
+    assert list(spare.iterdir()) == []  # ... is gone
+    with pytest.raises(RuntimeError, match="shutdown"):  # also when the hand-over fails
+        from cvfit._workers import worker_pool
+
+        with worker_pool(2) as pool:
+            pool.executor.shutdown()
+            write_outputs(result, tmp_path / "three", pool=pool)
+    handed = [path for _, path in made if Path(path).name.startswith("cvfit-tasks-")]
+    assert len(handed) == 2 and list(spare.iterdir()) == []
 
 
 def test_outputs_from_a_result_without_curves_are_the_same(result, tmp_path):

@@ -2,6 +2,11 @@
 
 from __future__ import annotations
 
+import contextlib
+import os
+import pickle
+import tempfile
+from collections.abc import Iterator
 from dataclasses import replace
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -47,33 +52,61 @@ def _without_curves(result: SeriesResult) -> SeriesResult:
     return replace(result, files=tuple(replace(f, curve=None) for f in result.files))
 
 
-def _output_tasks(result: SeriesResult, out: Path) -> list[tuple[str, Task]]:
-    """(output name, task) of the figures, the table and the text of results.json.
+def _in_turn(tasks: list[Task]) -> list:
+    """Run ``fn(*args)`` of every task, one after the other (a worker's share at once)."""
+    return [fn(*args) for fn, args in tasks]
+
+
+def _in_turn_from(path: str) -> list:
+    """:func:`_in_turn` of the tasks pickled in the file *path* (written by the caller)."""
+    with open(path, "rb") as fh:
+        return _in_turn(pickle.load(fh))
+
+
+@contextlib.contextmanager
+def _handed_over(tasks: list[Task], pool: WorkerPool | None) -> Iterator[Task]:
+    """A task running *tasks* in turn; for a worker, their arguments travel in a temporary
+    file (removed afterwards) rather than the pool's pipe.
+
+    The pipe is written by a thread of this process in 64 kB pieces, each waiting for
+    Python's lock, which matplotlib keeps while it renders: a 1 000-file series reached
+    its worker 0.1-0.25 s late while this process drew. The file is written at once.
+    """
+    if pool is None:
+        yield (_in_turn, (tasks,))
+        return
+    fd, path = tempfile.mkstemp(prefix="cvfit-tasks-", suffix=".pickle")
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            pickle.dump(tasks, fh, protocol=pickle.HIGHEST_PROTOCOL)
+        yield (_in_turn_from, (path,))
+    finally:
+        with contextlib.suppress(OSError):
+            os.unlink(path)
+
+
+def _output_tasks(result: SeriesResult, out: Path) -> list[Task]:
+    """The tasks writing the outputs: the diagnostics figure, the table, the text of
+    results.json (these three are run in turn as one task, see :func:`_handed_over`), the
+    voltammogram figure, the half-wave-shift figure.
 
     Workers take tasks from the front and the calling process from the back (see
-    :func:`cvfit._workers.share_tasks`): the order keeps two processes about equally
-    busy (diagnostics, then the small tasks, in one; the other two figures in the other).
+    :func:`cvfit._workers.share_tasks`); with one worker the two ends take about as long.
+    The first three go to a worker as one task: a worker's next task would wait while this
+    process draws (matplotlib keeps Python's lock while it renders).
     """
     from .figures import plot_lingane, plot_voltammograms
     from .figures_diagnostics import plot_diagnostics
 
     light = _without_curves(result)
-    tasks: list[tuple[str, Task]] = [
-        (
-            "diagnostics_figure",
-            (plot_diagnostics, (light, out / OUTPUT_NAMES["diagnostics_figure"])),
-        ),
-        ("json", (results_to_json, (light,))),
-        ("table", (write_file_table, (light, out / OUTPUT_NAMES["table"]))),
-        (
-            "voltammograms_figure",
-            (plot_voltammograms, (result, out / OUTPUT_NAMES["voltammograms_figure"])),
-        ),
+    tasks: list[Task] = [
+        (plot_diagnostics, (light, out / OUTPUT_NAMES["diagnostics_figure"])),
+        (write_file_table, (light, out / OUTPUT_NAMES["table"])),
+        (results_to_json, (light,)),
+        (plot_voltammograms, (result, out / OUTPUT_NAMES["voltammograms_figure"])),
     ]
     if result.series.get("model") != "stepwise":
-        tasks.append(
-            ("lingane_figure", (plot_lingane, (light, out / OUTPUT_NAMES["lingane_figure"])))
-        )
+        tasks.append((plot_lingane, (light, out / OUTPUT_NAMES["lingane_figure"])))
     return tasks
 
 
@@ -96,11 +129,16 @@ def write_outputs(
     if pool is None and jobs > 1:
         with worker_pool(min(jobs, len(tasks))) as own:
             return write_outputs(result, out, pool=own)
-    done = dict(
-        zip([name for name, _ in tasks], share_tasks(pool, [t for _, t in tasks]), strict=True)
-    )
-    json_text = done.pop("json")  # results.json is written last
-    written: dict[str, Path] = done
+    with _handed_over(tasks[:3], pool) as first:
+        done = share_tasks(pool, [first, *tasks[3:]])
+    (diagnostics, table, json_text), voltammograms, *lingane = done
+    written: dict[str, Path] = {
+        "table": table,
+        "voltammograms_figure": voltammograms,
+        "diagnostics_figure": diagnostics,
+    }
+    if lingane:
+        written["lingane_figure"] = lingane[0]
     if result.series.get("model") == "stepwise":
         from .figures_stepwise import write_stepwise_figures
 
