@@ -9,8 +9,8 @@ the 200 files copied five times) files, and times in this one process
 
 * the baseline: ``pandas.read_csv`` of every file of the series;
 * cvfit: ``analyse_series(load_manifest(...))`` plus ``write_outputs`` (table, the three
-  figures, report.html, results.json), with 1 and 2 worker processes shared by the files
-  and the figures, as ``cvfit run --jobs N`` runs them.
+  figures, report.html, results.json), in 1 and 2 processes (``--jobs 2``: this one and
+  one worker) sharing the files and the outputs, as ``cvfit run --jobs N`` runs them.
 
 Every file is read once before timing so both sides find it in the page cache; the
 libraries and the compiled number parser are loaded before timing (``--pandas-parser``:
@@ -131,8 +131,8 @@ def time_cvfit(manifest: Path, out: Path, jobs: int) -> tuple[float, float]:
     """(analysis, outputs) seconds."""
     t0 = time.perf_counter()
     m = load_manifest(manifest)
-    # as `cvfit run --jobs N` does it: one pool of workers for the files and the figures,
-    # its start and shutdown timed too
+    # as `cvfit run --jobs N` does it: N - 1 workers and this process share the files and
+    # the outputs; the workers' start and shutdown are timed too
     with worker_pool(jobs) as pool:
         result = analyse_series(m, pool=pool)
         t1 = time.perf_counter()
@@ -144,7 +144,7 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--sizes", default="10,50,200")
     ap.add_argument("--with-1000", action="store_true", help="add the 1 000-file series")
-    ap.add_argument("--jobs", default="1,2", help="worker processes to try, e.g. 1,2")
+    ap.add_argument("--jobs", default="1,2", help="processes to try (this one included), e.g. 1,2")
     ap.add_argument(
         "--repeats", type=int, default=3, help="runs of each size and side (best and median)"
     )
