@@ -12,7 +12,7 @@ from concurrent.futures import as_completed
 from dataclasses import dataclass
 from pathlib import Path
 
-from .._workers import available_cpus, new_process_pool
+from .._workers import available_cpus, frozen_heap, new_process_pool
 from ..errors import InputError
 
 __all__ = [
@@ -191,7 +191,7 @@ def run_batch(
                 outcomes[k] = run_series(m, o)
                 bar.update()
     else:
-        with new_process_pool(jobs) as pool:
+        with frozen_heap(), new_process_pool(jobs) as pool:
             futures = {
                 pool.submit(run_series, m, o): k
                 for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True))
