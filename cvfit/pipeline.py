@@ -103,8 +103,9 @@ def analyse_series(
         Voltammograms already in memory, keyed by the entries' ``name``; entries not in
         it are read from their files.
     jobs : int
-        Worker processes for the per-file work (import, peaks, screen); 1 runs it in this
-        process. The results do not depend on it. Ignored when *records* is given.
+        Processes sharing the per-file work (import, peaks, screen): this one and
+        ``jobs - 1`` workers; 1 runs it all here. The results do not depend on it. Ignored
+        when *records* is given.
     pool : WorkerPool, optional
         Workers to use instead of *jobs* new ones (:func:`cvfit._workers.worker_pool`,
         shared with :func:`cvfit.report.write_outputs` by the command line).
