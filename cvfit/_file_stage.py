@@ -16,7 +16,7 @@ from collections.abc import Callable
 from dataclasses import replace
 
 from ._series_diagnostics import correct_for_resistance, ohmic_flags, resistance_for
-from ._workers import WorkerPool, available_cpus, share_tasks, worker_pool
+from ._workers import WorkerPool, available_cpus, one_blas_thread, share_tasks, worker_pool
 from .curves import cycle_curve, points_per_curve
 from .diagnostics import screen_reversibility
 from .errors import InputError
@@ -229,9 +229,10 @@ def analyse_files(
     if serial:
         records = records or {}
         done = []
-        for e in entries:
-            done.append(analyse_file(e, manifest, records.get(e.name)))
-            tick()
+        with one_blas_thread():
+            for e in entries:
+                done.append(analyse_file(e, manifest, records.get(e.name)))
+                tick()
         return done
     # runs of files: the workers take them from the front, this process from the back; a
     # run carries only its own entries; runs of at most 16 files (~30 ms) keep the two

@@ -31,6 +31,7 @@ __all__ = [
     "worker_pool",
     "share_tasks",
     "frozen_heap",
+    "one_blas_thread",
     "WorkerPool",
     "PARENT_POLL_S",
 ]
@@ -50,8 +51,23 @@ def available_cpus() -> int:
         return max(1, os.cpu_count() or 1)
 
 
-def _exit_with_parent(parent_pid: int) -> None:
-    """Worker initializer: a daemon thread ends this worker once its parent has gone."""
+def one_blas_thread() -> contextlib.AbstractContextManager:
+    """Context: the BLAS libraries (OpenBLAS, MKL, ...) run on one thread in the block.
+
+    Our linear algebra is small (least squares on a few hundred rows), which threads only
+    slow down; and a BLAS thread waiting for work keeps a core busy for a while, taking it
+    from the other processes of a run (two processes on two cores analysed a 200-file
+    series in 0.35 s with OpenBLAS's threads, 0.25 s without).
+    """
+    from threadpoolctl import threadpool_limits
+
+    return threadpool_limits(limits=1, user_api="blas")
+
+
+def _worker_start(parent_pid: int) -> None:
+    """Worker initializer: one BLAS thread (:func:`one_blas_thread`), and a daemon thread
+    that ends this worker once its parent has gone."""
+    one_blas_thread()  # for the worker's life: it is ours
 
     def watch() -> None:
         while os.getppid() == parent_pid:
@@ -64,7 +80,7 @@ def _exit_with_parent(parent_pid: int) -> None:
 def new_process_pool(workers: int) -> ProcessPoolExecutor:
     """A process pool of *workers* processes that exit when this process dies."""
     return ProcessPoolExecutor(
-        max_workers=workers, initializer=_exit_with_parent, initargs=(os.getpid(),)
+        max_workers=workers, initializer=_worker_start, initargs=(os.getpid(),)
     )
 
 
@@ -97,7 +113,7 @@ def worker_pool(jobs: int) -> Iterator[WorkerPool | None]:
     if jobs == 1:
         yield None
         return
-    with frozen_heap():
+    with frozen_heap(), one_blas_thread():
         executor = new_process_pool(int(jobs) - 1)
         try:
             yield WorkerPool(executor, int(jobs) - 1)

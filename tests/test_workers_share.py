@@ -9,7 +9,7 @@ import time
 
 import pytest
 
-from cvfit._workers import share_tasks, worker_pool
+from cvfit._workers import new_process_pool, share_tasks, worker_pool
 from cvfit.errors import InputError
 
 
@@ -88,3 +88,26 @@ def test_pool_leaves_the_heap_out_of_garbage_collection_while_it_lives():
         assert gc.get_freeze_count() > before
         assert share_tasks(pool, [(_who, (k, 0.0)) for k in range(3)])[0][0] == 0
     assert gc.get_freeze_count() == 0
+
+
+def _blas_threads() -> list[int]:
+    from threadpoolctl import threadpool_info
+
+    return [i["num_threads"] for i in threadpool_info() if i["user_api"] == "blas"]
+
+
+def test_blas_runs_on_one_thread_in_workers_and_during_a_run():
+    """Small least squares gain nothing from BLAS threads, and an idle BLAS thread keeps a
+    core busy for a while, taking it from the run's other process."""
+    import numpy as np  # noqa: F401  (loads the BLAS library threadpoolctl looks for)
+    from threadpoolctl import threadpool_limits
+
+    with threadpool_limits(limits=2, user_api="blas"):  # as on a machine with 2+ cores
+        assert set(_blas_threads()) == {2}  # a BLAS library is loaded: the test means something
+        with worker_pool(2) as pool:
+            assert set(_blas_threads()) == {1}
+            in_worker = pool.executor.submit(_blas_threads).result()
+            assert set(in_worker) == {1}
+        assert set(_blas_threads()) == {2}  # restored after the run
+        with new_process_pool(1) as executor:  # forked from a process with 2 threads
+            assert set(executor.submit(_blas_threads).result()) == {1}
