@@ -13,6 +13,7 @@ the 200 files copied five times) files, and times in this one process
   one worker) sharing the files and the outputs, as ``cvfit run --jobs N`` runs them.
 
 Every file is read once before timing so both sides find it in the page cache; the
+environment is set as the ``cvfit`` command sets it (one BLAS thread); the
 libraries and the compiled number parser are loaded before timing (``--pandas-parser``:
 not the parser). Each side runs ``--repeats`` times (3), interleaved with the other;
 prints the best times, the ratio cvfit/pandas of the best runs and the median of the
@@ -24,6 +25,7 @@ from __future__ import annotations
 
 import argparse
 import cProfile
+import os
 import pstats
 import shutil
 import statistics
@@ -31,15 +33,22 @@ import tempfile
 import time
 from pathlib import Path
 
-import numpy as np
-import pandas as pd
+from cvfit.cli import NUMERIC_ENVIRONMENT  # imports no numerical library
 
-from cvfit._workers import worker_pool
-from cvfit.complexation import complexed_half_wave_V
-from cvfit.io import load_manifest
-from cvfit.pipeline import analyse_series
-from cvfit.report import write_outputs
-from cvfit.simulate import simulate_cv
+# as the `cvfit` command sets it before it loads numpy (one BLAS thread); pandas.read_csv
+# does no linear algebra
+for _name, _value in NUMERIC_ENVIRONMENT.items():
+    os.environ.setdefault(_name, _value)
+
+import numpy as np  # noqa: E402
+import pandas as pd  # noqa: E402
+
+from cvfit._workers import worker_pool  # noqa: E402
+from cvfit.complexation import complexed_half_wave_V  # noqa: E402
+from cvfit.io import load_manifest  # noqa: E402
+from cvfit.pipeline import analyse_series  # noqa: E402
+from cvfit.report import write_outputs  # noqa: E402
+from cvfit.simulate import simulate_cv  # noqa: E402
 
 N_UNIQUE = 200
 POINTS_STEP_V = 0.0001  # 0.25 → −0.75 V and back at 0.1 mV: 20 001 points

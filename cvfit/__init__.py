@@ -1,6 +1,7 @@
 """cvfit: stability constants from cyclic-voltammetry titrations.
 
-The public API, imported lazily so that ``import cvfit`` stays cheap::
+The public API, imported lazily so that ``import cvfit`` stays cheap (it imports no numpy:
+the command line sets up the numerical libraries first, see :mod:`cvfit.cli`)::
 
     from cvfit import load_manifest, analyse_series, read_voltammogram, simulate_cv
 """
@@ -13,8 +14,6 @@ from typing import Any
 
 from .errors import CvfitError, FitError, InputError, SimulationError
 from .flags import Flag
-from .quantity import Quantity
-from .voltammogram import Cycle, Sweep, Voltammogram
 
 try:
     __version__ = version("cvfit")
@@ -22,6 +21,10 @@ except PackageNotFoundError:  # running from a source tree that is not installed
     __version__ = "0.0.0+unknown"
 
 _LAZY = {
+    "Quantity": "cvfit.quantity",
+    "Voltammogram": "cvfit.voltammogram",
+    "Sweep": "cvfit.voltammogram",
+    "Cycle": "cvfit.voltammogram",
     "read_voltammogram": "cvfit.io",
     "parse_voltammogram_text": "cvfit.io",
     "load_manifest": "cvfit.io",
@@ -49,10 +52,6 @@ __all__ = [
     "FitError",
     "SimulationError",
     "Flag",
-    "Quantity",
-    "Voltammogram",
-    "Sweep",
-    "Cycle",
     *_LAZY,
 ]
 

@@ -7,12 +7,25 @@ its own module with ``register(subparsers)`` and a handler returning the exit st
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import traceback
 from collections.abc import Sequence
 
 from .. import __version__
 from ..errors import CvfitError, InputError
+
+#: Environment :func:`main` sets for the numerical libraries, which it imports after (the
+#: user's own settings win; ``import cvfit.cli`` imports none of them). The command line's
+#: linear algebra is small least squares, which BLAS threads only slow down; and a BLAS
+#: library that has started threads keeps burning a core in every worker process of a
+#: run, even when limited later (two processes on two cores analysed a 200-file series in
+#: ~0.32 s with the threads, ~0.25 s without).
+NUMERIC_ENVIRONMENT = {
+    "OPENBLAS_NUM_THREADS": "1",
+    "MKL_NUM_THREADS": "1",
+    "BLIS_NUM_THREADS": "1",
+}
 
 EXIT_OK = 0
 EXIT_INTERNAL = 1
@@ -46,6 +59,8 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the ``cvfit`` console script; returns the exit status."""
+    for name, value in NUMERIC_ENVIRONMENT.items():
+        os.environ.setdefault(name, value)
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "handler", None):
