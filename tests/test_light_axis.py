@@ -121,3 +121,21 @@ def test_axis_labels_clear_the_tick_labels(axes, rotation):
 def test_which_must_be_x_or_y(axes):
     with pytest.raises(ValueError, match="'x' or 'y'"):
         light_ticks(axes[1], "z")
+
+
+def test_legend_goes_to_the_corner_with_fewest_points(axes):
+    from cvfit.report._placement import CORNERS, quiet_corner
+
+    _, ax = axes
+    ax.set_xlim(0, 10)
+    ax.set_ylim(0, 10)
+    # two points in the upper right, one in each other corner but the lower left
+    x = np.array([9.5, 9.0, 0.5, 9.5, np.nan])
+    y = np.array([9.5, 9.0, 9.5, 0.5, 0.2])
+    assert quiet_corner(ax, x, y) == "lower left"
+    assert quiet_corner(ax, [], []) == CORNERS[0] == "upper right"  # ties: in CORNERS order
+    assert quiet_corner(ax, [20.0], [20.0]) == "upper right"  # points off the axes ignored
+    many_left = np.array([1.0] * 5 + [9.0] * 3)
+    many_bottom = np.array([1.0] * 5 + [1.0] * 3)
+    assert quiet_corner(ax, many_left, many_bottom) == "upper right"
+    assert quiet_corner(ax, [9.0, 1.0, 1.0], [9.0, 9.0, 1.0]) == "lower right"

@@ -30,6 +30,7 @@ from ..curves import (  # noqa: E402
 from ..results import SeriesResult  # noqa: E402
 from ._atomic import atomic_path  # noqa: E402
 from ._light_axis import light_ticks  # noqa: E402
+from ._placement import quiet_corner  # noqa: E402
 
 __all__ = [
     "plot_voltammograms",
@@ -203,10 +204,14 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             ax.text(0.99, 0.01, f"{len(drawn)} of {titrating} titration curves drawn, evenly "
                     "over [L]", transform=ax.transAxes, ha="right", va="bottom", fontsize=7,
                     color="0.3")  # fmt: skip
-        if any(f.ligand_M == 0 for f in result.files):
-            ax.legend(loc="best", frameon=False)
         light_ticks(ax, "x")
         light_ticks(ax, "y")
+        if any(f.ligand_M == 0 for f in result.files):
+            xy = [seg for seg in segments] + [ln.get_xydata() for ln in ax.get_lines()]
+            if len(drawn) < titrating:  # keep clear of the note in the lower right
+                xy.append(np.array([[ax.get_xlim()[1], ax.get_ylim()[0]]]))
+            xy = np.concatenate(xy) if xy else np.empty((0, 2))
+            ax.legend(loc=quiet_corner(ax, xy[:, 0], xy[:, 1]), frameon=False)
         top = _set_title(ax, result.series.get("title") or "voltammograms")
         return _save(fig, path, margins_in=(0.8, 0.35, 0.5, top))
 
@@ -324,7 +329,9 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         axr.set_ylabel("residual / mV")
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel("E½(c) − E½(s) / mV")
-        ax.legend(loc="best", frameon=False, fontsize=8)
         _light_pair(ax, axr, r_bins=3)
+        shown_x = np.concatenate([x, xs]) if fit is not None else x
+        shown_y = np.concatenate([y, line]) if fit is not None else y
+        ax.legend(loc=quiet_corner(ax, shown_x, shown_y), frameon=False, fontsize=8)
         top = _set_title(ax, result.series.get("title") or "half-wave shift")
         return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))

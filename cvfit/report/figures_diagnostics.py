@@ -19,6 +19,7 @@ import numpy as np  # noqa: E402
 
 from ..results import SeriesResult  # noqa: E402
 from ._light_axis import light_ticks  # noqa: E402
+from ._placement import quiet_corner  # noqa: E402
 from .figures import _STYLE, _save, _set_title  # noqa: E402
 
 __all__ = ["plot_diagnostics"]
@@ -152,8 +153,15 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
             + (f" at {only_rate:.3g} V/s" if only_rate else "")
             + "; open markers: not fitted"
         )
-        ax.legend(loc="best", frameon=False, fontsize=7)
-        axr.legend(loc="best", frameon=False, fontsize=7)
+        # the band is drawn across the whole width: its edges are what to keep clear
+        top_y = np.concatenate([1e3 * n * dEp, exp - margin_mV, exp + margin_mV])
+        gaps = ~np.isfinite(dEp)  # the "no ΔEp" notes
+        top_y[: len(files)][gaps] = level
+        ax.legend(loc=quiet_corner(ax, np.tile(x, 3), top_y), frameon=False, fontsize=7)
+        bottom_y = np.concatenate(
+            [ratio, np.full(len(files), 1 - ratio_margin), np.full(len(files), 1 + ratio_margin)]
+        )
+        axr.legend(loc=quiet_corner(axr, np.tile(x, 3), bottom_y), frameon=False, fontsize=7)
         top = _set_title(ax, (result.series.get("title") or "") + " — reversibility diagnostics")
         # bottom: two-line tick labels at 60° and the axis label
         return _save(fig, path, margins_in=(0.8, 0.2, 1.0, top))
