@@ -100,6 +100,18 @@ def test_tasks_handed_to_a_worker_through_a_file_leave_no_file(result, tmp_path,
     assert len(handed) == 2 and list(spare.iterdir()) == []
 
 
+def test_a_worker_removes_the_tasks_file_once_read(tmp_path):
+    """So a run killed while its worker draws leaves nothing in the temporary folder."""
+    import pickle
+
+    from cvfit.report import _in_turn_from
+
+    path = tmp_path / "cvfit-tasks-x.pickle"
+    path.write_bytes(pickle.dumps([(max, (1, 3)), (min, (1, 3))]))
+    assert _in_turn_from(str(path)) == [3, 1]
+    assert not path.exists()
+
+
 def test_outputs_from_a_result_without_curves_are_the_same(result, tmp_path):
     """Workers get the result without its curves (a fifth of the bytes); every output but
     the voltammogram figure must come out the same from it."""

@@ -58,9 +58,14 @@ def _in_turn(tasks: list[Task]) -> list:
 
 
 def _in_turn_from(path: str) -> list:
-    """:func:`_in_turn` of the tasks pickled in the file *path* (written by the caller)."""
+    """:func:`_in_turn` of the tasks pickled in the file *path* (written by the caller),
+    which is removed once read: a run killed later leaves nothing in the temporary
+    folder."""
     with open(path, "rb") as fh:
-        return _in_turn(pickle.load(fh))
+        tasks = pickle.load(fh)
+    with contextlib.suppress(OSError):
+        os.unlink(path)
+    return _in_turn(tasks)
 
 
 @contextlib.contextmanager
