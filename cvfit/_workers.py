@@ -55,9 +55,11 @@ def one_blas_thread() -> contextlib.AbstractContextManager:
     """Context: the BLAS libraries (OpenBLAS, MKL, ...) run on one thread in the block.
 
     Our linear algebra is small (least squares on a few hundred rows), which threads only
-    slow down; and a BLAS thread waiting for work keeps a core busy for a while, taking it
-    from the other processes of a run (two processes on two cores analysed a 200-file
-    series in 0.35 s with OpenBLAS's threads, 0.25 s without).
+    slow down; and BLAS threads keep a core busy, taking it from the other processes of a
+    run. Limiting them once loaded recovers part of that; the ``cvfit`` command also keeps
+    them from starting (:data:`cvfit.cli.NUMERIC_ENVIRONMENT`). Two processes on two cores
+    analysed a 200-file series in ~0.34 s with OpenBLAS's threads, ~0.32 s limited here and
+    ~0.27 s when they never started.
     """
     from threadpoolctl import threadpool_limits
 

@@ -90,29 +90,31 @@ def _handed_over(tasks: list[Task], pool: WorkerPool | None) -> Iterator[Task]:
             os.unlink(path)
 
 
-def _output_tasks(result: SeriesResult, out: Path) -> list[Task]:
-    """The tasks writing the outputs: the diagnostics figure, the table, the text of
-    results.json (these three are run in turn as one task, see :func:`_handed_over`), the
-    voltammogram figure, the half-wave-shift figure.
+def _output_tasks(result: SeriesResult, out: Path) -> tuple[list[Task], list[Task]]:
+    """The tasks writing the outputs, in two parts: the diagnostics figure, the table and
+    the text of results.json, to run in turn as one task (see :func:`_handed_over`); then
+    the voltammogram figure and the half-wave-shift figure.
 
     Workers take tasks from the front and the calling process from the back (see
     :func:`cvfit._workers.share_tasks`); with one worker the two ends take about as long.
-    The first three go to a worker as one task: a worker's next task would wait while this
+    The first part goes to a worker as one task: a worker's next task would wait while this
     process draws (matplotlib keeps Python's lock while it renders).
     """
     from .figures import plot_lingane, plot_voltammograms
     from .figures_diagnostics import plot_diagnostics
 
     light = _without_curves(result)
-    tasks: list[Task] = [
+    first: list[Task] = [
         (plot_diagnostics, (light, out / OUTPUT_NAMES["diagnostics_figure"])),
         (write_file_table, (light, out / OUTPUT_NAMES["table"])),
         (results_to_json, (light,)),
+    ]
+    rest: list[Task] = [
         (plot_voltammograms, (result, out / OUTPUT_NAMES["voltammograms_figure"])),
     ]
     if result.series.get("model") != "stepwise":
-        tasks.append((plot_lingane, (light, out / OUTPUT_NAMES["lingane_figure"])))
-    return tasks
+        rest.append((plot_lingane, (light, out / OUTPUT_NAMES["lingane_figure"])))
+    return first, rest
 
 
 def write_outputs(
@@ -130,12 +132,12 @@ def write_outputs(
 
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    tasks = _output_tasks(result, out)  # imports the figure modules before any fork
+    first, rest = _output_tasks(result, out)  # imports the figure modules before any fork
     if pool is None and jobs > 1:
-        with worker_pool(min(jobs, len(tasks))) as own:
+        with worker_pool(min(jobs, 1 + len(rest))) as own:
             return write_outputs(result, out, pool=own)
-    with _handed_over(tasks[:3], pool) as first:
-        done = share_tasks(pool, [first, *tasks[3:]])
+    with _handed_over(first, pool) as task:
+        done = share_tasks(pool, [task, *rest])
     (diagnostics, table, json_text), voltammograms, *lingane = done
     written: dict[str, Path] = {
         "table": table,
