@@ -207,7 +207,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
         light_ticks(ax, "x")
         light_ticks(ax, "y")
         if any(f.ligand_M == 0 for f in result.files):
-            xy = [seg for seg in segments] + [ln.get_xydata() for ln in ax.get_lines()]
+            xy = [*segments, *(ln.get_xydata() for ln in ax.get_lines())]
             if len(drawn) < titrating:  # keep clear of the note in the lower right
                 xy.append(np.array([[ax.get_xlim()[1], ax.get_ylim()[0]]]))
             xy = np.concatenate(xy) if xy else np.empty((0, 2))
