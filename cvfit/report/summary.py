@@ -36,19 +36,20 @@ def format_summary(result: SeriesResult) -> str:
         + f"  (from {ref.source}{': ' + ', '.join(ref.files) if ref.files else ''})"
     )
     lines.append("")
+    e_halves = [format_pm(f.E_half_V, f.peaks.E_half_stderr_V, scale=1e3) for f in result.files]
+    w = max([16, *map(len, e_halves)])  # "150.1 (uncertainty unknown)" is wider than 16
     header = (
-        f"{'file':<22} {'[L]/M':>9} {'E½/mV':>16} {'ΔEp/mV':>7} {'Nernst':>7} "
+        f"{'file':<22} {'[L]/M':>9} {'E½/mV':>{w}} {'ΔEp/mV':>7} {'Nernst':>7} "
         f"{'ipa/ipc':>7} {'rev':>4} {'fit':>4}"
     )
     lines.append(header)
     lines.append("-" * len(header))
-    for f in result.files:
+    for f, e_half in zip(result.files, e_halves, strict=True):
         p = f.peaks
-        e_half = format_pm(f.E_half_V, p.E_half_stderr_V, scale=1e3)
         rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
         name = f.file if len(f.file) <= 22 else "…" + f.file[-21:]
         lines.append(
-            f"{name:<22} {f.ligand_M:>9.3g} {e_half:>16} "
+            f"{name:<22} {f.ligand_M:>9.3g} {e_half:>{w}} "
             f"{format_value(p.delta_Ep_V, scale=1e3):>7} "
             f"{format_value(f.screen.expected_delta_Ep_V, scale=1e3):>7} "
             f"{format_value(p.current_ratio, digits=2):>7} {rev:>4} "

@@ -1,0 +1,34 @@
+"""The terminal summary's per-file table stays aligned whatever the width of an E½ cell."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+from seriesfactory import write_small_series
+
+from cvfit.io import load_manifest
+from cvfit.pipeline import analyse_series
+from cvfit.report import format_summary
+from cvfit.report.formatting import format_pm
+
+
+def _table(text: str) -> list[str]:
+    lines = text.splitlines()
+    start = next(k for k, ln in enumerate(lines) if ln.startswith("file "))
+    end = lines.index("", start)
+    return [lines[start], *lines[start + 2 : end]]  # header and rows, not the rule
+
+
+def test_rows_line_up_with_the_header_also_for_a_wide_cell(tmp_path):
+    result = analyse_series(load_manifest(write_small_series(tmp_path, 4, seed=310)))
+    # one E½ without its standard error prints "… (uncertainty unknown)": 25+ characters
+    files = list(result.files)
+    files[2] = replace(files[2], peaks=replace(files[2].peaks, E_half_stderr_V=None))
+    text = format_summary(replace(result, files=tuple(files)))
+    header, *rows = _table(text)
+    assert any("(uncertainty unknown)" in row for row in rows)
+    assert {len(row) for row in rows} == {len(header)}
+    column_end = header.index("E½/mV") + len("E½/mV")
+    for row, f in zip(rows, files, strict=True):
+        cell = format_pm(f.E_half_V, f.peaks.E_half_stderr_V, scale=1e3)
+        assert row[column_end - len(cell) : column_end] == cell, row  # ends under "E½/mV"
