@@ -129,13 +129,17 @@ def frozen_heap() -> Iterator[None]:
 
     Open it before forking workers: a collection writes to every object it visits, so
     after a fork each process would copy the pages of the whole heap it shares with the
-    other (a full collection while unpickling took a fresh worker 0.1-0.25 s).
+    other (a full collection while unpickling took a fresh worker 0.1-0.25 s). A program
+    that had frozen objects itself keeps them frozen: ``gc.unfreeze`` cannot tell theirs
+    from ours, so the block then ends without it.
     """
+    ours = gc.get_freeze_count() == 0
     gc.freeze()
     try:
         yield
     finally:
-        gc.unfreeze()
+        if ours:
+            gc.unfreeze()
 
 
 Task = tuple[Callable[..., Any], tuple]

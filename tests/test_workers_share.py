@@ -111,3 +111,19 @@ def test_blas_runs_on_one_thread_in_workers_and_during_a_run():
         assert set(_blas_threads()) == {2}  # restored after the run
         with new_process_pool(1) as executor:  # forked from a process with 2 threads
             assert set(executor.submit(_blas_threads).result()) == {1}
+
+
+def test_a_programs_own_frozen_objects_stay_frozen():
+    import gc
+
+    from cvfit._workers import frozen_heap
+
+    assert gc.get_freeze_count() == 0
+    gc.freeze()  # as a program preparing its own forks would
+    try:
+        theirs = gc.get_freeze_count()
+        with frozen_heap():
+            pass
+        assert gc.get_freeze_count() >= theirs
+    finally:
+        gc.unfreeze()
