@@ -1,7 +1,8 @@
 """Per-file stage of the pipeline: import, peaks, screen, E½ — serially or in workers.
 
 Every voltammogram of a series is analysed on its own (the series-level steps come after,
-in :mod:`cvfit.pipeline`), so this stage runs file by file in worker processes when asked.
+in :mod:`cvfit.pipeline`), so this stage runs file by file, shared with worker processes
+when asked.
 A worker sends back the small :class:`~cvfit.results.FileResult` — peak data, verdicts,
 flags and the analysed cycle thinned for figures — never the whole record, so the work
 that dominates a large series (parsing the text and the peak analysis) is spread over the
@@ -39,9 +40,9 @@ __all__ = [
 #: (common practice: keep the ligand in >= 10-fold excess).
 LIGAND_EXCESS_MIN = 10.0
 
-#: Smallest series whose files are analysed in worker processes by default: below it,
+#: Smallest series whose files are shared with worker processes by default: below it,
 #: starting the workers and sending the results back costs about as much as they save
-#: (~1.6 ms of work per 20 000-point file against ~20-40 ms to start two workers and
+#: (~1.6 ms of work per 20 000-point file against ~20-40 ms to start the workers and
 #: collect their results; benchmarks/bench_series.py).
 PARALLEL_MIN_FILES = 16
 
@@ -51,7 +52,8 @@ _ErrorParts = tuple[str, str | None, int | None, str | None]
 
 
 def default_file_jobs(n_files: int) -> int:
-    """Worker processes for the files of an *n_files* series when none were asked for."""
+    """Processes (this one included) for the files of an *n_files* series when none were
+    asked for."""
     return min(available_cpus(), n_files) if n_files >= PARALLEL_MIN_FILES else 1
 
 

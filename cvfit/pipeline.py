@@ -30,7 +30,7 @@ __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_
 
 
 def analyse_manifest_file(path: str | Path, *, jobs: int = 1) -> SeriesResult:
-    """Load a manifest and analyse its series (*jobs* worker processes for the files)."""
+    """Load a manifest and analyse its series (*jobs* processes share the files)."""
     return analyse_series(load_manifest(path), jobs=jobs)
 
 

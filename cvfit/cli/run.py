@@ -94,11 +94,11 @@ def run_manifest(
     n_files = len(manifest.voltammograms)
     file_jobs = default_file_jobs(n_files) if jobs is None else jobs
     # by default the figures are drawn in parallel even when the files are read here
-    workers = max(file_jobs, min(available_cpus(), 2)) if jobs is None else jobs
+    processes = max(file_jobs, min(available_cpus(), 2)) if jobs is None else jobs
     # the figure modules are imported before the workers start, so none imports them again
     import_figure_modules()
     # worker_pool refuses --jobs below 1 before anything runs
-    with worker_pool(workers) as pool, _progress(n_files, enabled=not quiet) as tick:
+    with worker_pool(processes) as pool, _progress(n_files, enabled=not quiet) as tick:
         result = analyse_series(manifest, pool=pool if file_jobs > 1 else None, progress=tick)
         written = write_outputs(result, out_dir, pool=pool)
     if not quiet:
