@@ -6,8 +6,8 @@ Loads the records of a series once (:func:`cvfit.io.read_voltammogram`), then ti
 this one process, best of ``--repeats`` runs each:
 
 * the baseline: ``pandas.read_csv`` of the same files;
-* :func:`cvfit.peaks.analyse_peaks` over every record;
-* :func:`cvfit.pipeline.analyse_series` with the records already in memory (peaks, screen,
+* :func:`cvfit.peaks.analysis.analyse_peaks` over every record;
+* :func:`cvfit.pipeline.series.analyse_series` with the records already in memory (peaks, screen,
   switching correction, diagnostics and the titration fit; no import, no outputs).
 
 Prints the times, the time per file and the ratios to the baseline. The series goal
@@ -26,8 +26,8 @@ import pandas as pd
 from _timing import best_of
 
 from cvfit.io import load_manifest, read_voltammogram
-from cvfit.peaks import analyse_peaks
-from cvfit.pipeline import analyse_series
+from cvfit.peaks.analysis import analyse_peaks
+from cvfit.pipeline.series import analyse_series
 
 DEFAULT = Path(tempfile.gettempdir()) / "cvfit_bench_cv" / "series_200" / "series.toml"
 

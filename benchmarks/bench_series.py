@@ -43,12 +43,12 @@ for _name, _value in NUMERIC_ENVIRONMENT.items():
 import numpy as np  # noqa: E402
 import pandas as pd  # noqa: E402
 
-from cvfit._workers import worker_pool  # noqa: E402
-from cvfit.complexation import complexed_half_wave_V  # noqa: E402
+from cvfit.chemistry.complexation import complexed_half_wave_V  # noqa: E402
 from cvfit.io import load_manifest  # noqa: E402
-from cvfit.pipeline import analyse_series  # noqa: E402
+from cvfit.pipeline.parallel import worker_pool  # noqa: E402
+from cvfit.pipeline.series import analyse_series  # noqa: E402
 from cvfit.report import write_outputs  # noqa: E402
-from cvfit.simulate import simulate_cv  # noqa: E402
+from cvfit.simulate.voltammogram import simulate_cv  # noqa: E402
 
 N_UNIQUE = 200
 POINTS_STEP_V = 0.0001  # 0.25 → −0.75 V and back at 0.1 mV: 20 001 points
@@ -181,7 +181,7 @@ def main() -> None:
     # it itself from 128 MiB per process on, see cvfit/io/_parser_choice.py)
     import matplotlib.pyplot  # noqa: F401
 
-    import cvfit.report.figures  # noqa: F401
+    import cvfit.report.figures.titration as figures  # noqa: F401
     from cvfit.io._parser_choice import load_compiled_parser
 
     if not args.pandas_parser:

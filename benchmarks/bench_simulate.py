@@ -19,8 +19,8 @@ import numpy as np
 from _timing import best_of
 from scipy.linalg import solve_banded
 
-from cvfit import _sim_kernel
-from cvfit.simulate import _simulate_raw, simulate_cv
+from cvfit.simulate import finite_difference as _sim_kernel
+from cvfit.simulate.voltammogram import _simulate_raw, simulate_cv
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 SETTINGS = dict(E_half_V=0.0, start_V=1.0, switch_V=-1.0, step_V=0.001, scan_rate_V_s=0.1)

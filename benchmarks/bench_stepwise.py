@@ -3,7 +3,7 @@
 Run: ``.venv/bin/python benchmarks/bench_stepwise.py``. Prints the time of
 
 * the model choice alone (candidates N = 1 … 4, no intervals),
-* the full :func:`cvfit.stepwise.fit_stepwise` (choice, profile intervals, upper limit of
+* the full :func:`cvfit.fit.stepwise.fit_stepwise` (choice, profile intervals, upper limit of
   the next constant, free-ligand iteration off and on),
 * the Lingane line on the same points,
 
@@ -15,12 +15,12 @@ from __future__ import annotations
 import numpy as np
 from _timing import best_of
 
-from cvfit._stepwise_core import StepwiseData
-from cvfit._stepwise_select import choose_candidate, fit_all_candidates
-from cvfit.complexation import complexed_half_wave_V
-from cvfit.speciation import free_ligand_M
-from cvfit.stepwise import SolutionConditions, StepwisePoint, fit_stepwise
-from cvfit.titration import TitrationPoint, fit_lingane
+from cvfit.chemistry.complexation import complexed_half_wave_V
+from cvfit.chemistry.speciation import free_ligand_M
+from cvfit.fit.lingane import TitrationPoint, fit_lingane
+from cvfit.fit.stepwise import SolutionConditions, StepwisePoint, fit_stepwise
+from cvfit.fit.stepwise_least_squares import StepwiseData
+from cvfit.fit.stepwise_model_choice import choose_candidate, fit_all_candidates
 from cvfit.units import thermal_voltage
 
 TRUTH = (2.0, 3.7, 4.9)

@@ -9,16 +9,11 @@ the command line sets up the numerical libraries first, see :mod:`cvfit.cli`)::
 from __future__ import annotations
 
 import importlib
-from importlib.metadata import PackageNotFoundError, version
 from typing import Any
 
 from .errors import CvfitError, FitError, InputError, SimulationError
 from .flags import Flag
-
-try:
-    __version__ = version("cvfit")
-except PackageNotFoundError:  # running from a source tree that is not installed
-    __version__ = "0.0.0+unknown"
+from .version import __version__
 
 _LAZY = {
     "Quantity": "cvfit.quantity",
@@ -31,17 +26,21 @@ _LAZY = {
     "ImportOptions": "cvfit.io",
     "analyse_series": "cvfit.pipeline",
     "analyse_manifest_file": "cvfit.pipeline",
+    "SeriesResult": "cvfit.pipeline",
+    "FileResult": "cvfit.pipeline",
     "analyse_peaks": "cvfit.peaks",
-    "screen_reversibility": "cvfit.diagnostics",
-    "fit_lingane": "cvfit.titration",
-    "TitrationPoint": "cvfit.titration",
-    "fit_stepwise": "cvfit.stepwise",
-    "StepwisePoint": "cvfit.stepwise",
-    "SolutionConditions": "cvfit.stepwise",
+    "screen_reversibility": "cvfit.screen",
+    "fit_lingane": "cvfit.fit",
+    "TitrationPoint": "cvfit.fit",
+    "LinganeFit": "cvfit.fit",
+    "fit_stepwise": "cvfit.fit",
+    "StepwisePoint": "cvfit.fit",
+    "StepwiseFit": "cvfit.fit",
+    "SolutionConditions": "cvfit.fit",
     "simulate_cv": "cvfit.simulate",
     "simulate_series": "cvfit.simulate",
-    "randles_sevcik_peak_current_A": "cvfit.peak_current",
-    "complexed_half_wave_V": "cvfit.complexation",
+    "randles_sevcik_peak_current_A": "cvfit.chemistry",
+    "complexed_half_wave_V": "cvfit.chemistry",
     "write_outputs": "cvfit.report",
 }
 

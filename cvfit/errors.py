@@ -47,6 +47,12 @@ class InputError(CvfitError, ValueError):
         self.key = key
         super().__init__(self.one_line())
 
+    def __reduce__(self) -> tuple:
+        """Pickle by the constructor's arguments (the keywords do not survive the default,
+        which passes ``args`` only): an error raised in a worker process reaches the
+        caller whole."""
+        return (_rebuild_input_error, (self.message, self.source, self.line, self.key))
+
     def one_line(self) -> str:
         """``FILE[:LINE]: message`` on a single line."""
         where = self.source or "<input>"
@@ -59,6 +65,12 @@ class InputError(CvfitError, ValueError):
         if self.source is not None:
             return self
         return InputError(self.message, source=source, line=self.line, key=self.key)
+
+
+def _rebuild_input_error(
+    message: str, source: str | None, line: int | None, key: str | None
+) -> InputError:
+    return InputError(message, source=source, line=line, key=key)
 
 
 class FitError(CvfitError, RuntimeError):

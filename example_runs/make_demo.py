@@ -20,9 +20,9 @@ from pathlib import Path
 
 import numpy as np
 
+from cvfit.chemistry.complexation import complexed_half_wave_V
 from cvfit.cli import main as cvfit_main
-from cvfit.complexation import complexed_half_wave_V
-from cvfit.simulate import simulate_cv
+from cvfit.simulate.voltammogram import simulate_cv
 
 ROOT = Path(__file__).resolve().parents[1]
 DATA = ROOT / "cvfit" / "data" / "demo"

@@ -12,8 +12,8 @@ from pathlib import Path
 
 import numpy as np
 
-from cvfit.complexation import complexed_half_wave_V
-from cvfit.simulate import simulate_cv
+from cvfit.chemistry.complexation import complexed_half_wave_V
+from cvfit.simulate.voltammogram import simulate_cv
 
 TRUE_LOG10_RATIO = 6.0
 TRUE_DELTA_LIGANDS = 1

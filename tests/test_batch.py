@@ -175,7 +175,7 @@ def test_parallel_files_of_one_series_match_serial(tmp_path, csvs, capsys):
     import pickle
 
     from cvfit.io import load_manifest
-    from cvfit.pipeline import analyse_series
+    from cvfit.pipeline.series import analyse_series
 
     m = make_series(tmp_path / "p", csvs, title="parallel")
     manifest = load_manifest(m)

@@ -13,11 +13,11 @@ from dataclasses import replace
 
 import pytest
 
-from cvfit.classification import Classification, classify_voltammogram
-from cvfit.diagnostics import screen_reversibility
 from cvfit.flags import Flag
-from cvfit.peaks import analyse_peaks
-from cvfit.simulate import simulate_cv
+from cvfit.peaks.analysis import analyse_peaks
+from cvfit.screen.classification import Classification, classify_voltammogram
+from cvfit.screen.reversibility import screen_reversibility
+from cvfit.simulate.voltammogram import simulate_cv
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 T = 298.15

@@ -7,7 +7,7 @@ import math
 import numpy as np
 import pytest
 
-from cvfit.complexation import (
+from cvfit.chemistry.complexation import (
     complexed_half_wave_V,
     effective_diffusion_cm2_s,
     leden_F0,

@@ -17,7 +17,7 @@ from seriesfactory import LIGAND_M, TRUE_DELTA_LIGANDS, TRUE_LOG10_RATIO, simula
 
 from cvfit.criteria import ReversibilityCriteria
 from cvfit.io import FitSettings, ImportOptions, Manifest, SeriesSettings, VoltammogramEntry
-from cvfit.pipeline import analyse_series
+from cvfit.pipeline.series import analyse_series
 
 N_SERIES = 400
 

@@ -17,13 +17,13 @@ from dataclasses import replace
 import pytest
 
 from cvfit.criteria import ReversibilityCriteria
-from cvfit.diagnostics import (
+from cvfit.peaks.analysis import PeakAnalysis, analyse_peaks
+from cvfit.screen.reversibility import (
     ReversibilityScreen,
     nernstian_delta_Ep_V,
     screen_reversibility,
 )
-from cvfit.peaks import PeakAnalysis, analyse_peaks
-from cvfit.simulate import simulate_cv
+from cvfit.simulate.voltammogram import simulate_cv
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 TABLE = [(0.0715, 0.0605), (0.1215, 0.0592), (0.1715, 0.0583), (0.2715, 0.0578)]

@@ -14,10 +14,10 @@ import math
 import numpy as np
 import pytest
 
-from cvfit.classification import classify_voltammogram
-from cvfit.diagnostics import screen_reversibility
-from cvfit.peaks import analyse_peaks
-from cvfit.simulate import simulate_cv
+from cvfit.peaks.analysis import analyse_peaks
+from cvfit.screen.classification import classify_voltammogram
+from cvfit.screen.reversibility import screen_reversibility
+from cvfit.simulate.voltammogram import simulate_cv
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 T = 298.15
@@ -86,7 +86,7 @@ from test_pipeline import validate  # noqa: E402
 from cvfit.cli import main  # noqa: E402
 from cvfit.errors import InputError  # noqa: E402
 from cvfit.io import load_manifest  # noqa: E402
-from cvfit.pipeline import analyse_series  # noqa: E402
+from cvfit.pipeline.series import analyse_series  # noqa: E402
 from cvfit.report import results_to_json  # noqa: E402
 
 AREA, CONC = 0.0707, 1e-3  # simulate_cv defaults: cm², mol/L

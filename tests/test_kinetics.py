@@ -17,20 +17,18 @@ import math
 import numpy as np
 import pytest
 
-from cvfit.kinetics import (
+from cvfit.peaks.analysis import analyse_peaks
+from cvfit.quantity import Quantity
+from cvfit.screen.kinetics import KineticsResult, diffusion_from_peak_current, estimate_kinetics
+from cvfit.screen.nicholson import (
     PSI_TABLE,
-    KineticsResult,
     delta_Ep_stderr_V,
-    diffusion_from_peak_current,
-    estimate_kinetics,
     k0_from_psi_cm_s,
     k0_klingler_kochi_cm_s,
     psi_from_table,
     psi_lavagnini,
 )
-from cvfit.peaks import analyse_peaks
-from cvfit.quantity import Quantity
-from cvfit.simulate import simulate_cv
+from cvfit.simulate.voltammogram import simulate_cv
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 T = 298.15
@@ -47,7 +45,7 @@ def _k0(psi: float, n: int) -> float:
 def _sim(n, psi, *, noise, seed, switch="table", alpha=0.5):
     k0 = None if psi is None else _k0(psi, n)
     if switch == "table":
-        # the table's switch: 90/n mV past the forward peak (see cvfit.kinetics)
+        # the table's switch: 90/n mV past the forward peak (see cvfit.screen.nicholson)
         probe = analyse_peaks(
             simulate_cv(
                 E_half_V=0.0, start_V=0.25 / n, switch_V=-0.8, k0_cm_s=k0, electrons=n, alpha=alpha

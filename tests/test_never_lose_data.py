@@ -1,7 +1,7 @@
 """A run killed while it writes never leaves a torn output, and never touches an input.
 
 Every output goes to a temporary file beside its target and is renamed into place
-(cvfit.report._atomic), so after a SIGKILL each output is either the old file or the
+(cvfit.report.atomic), so after a SIGKILL each output is either the old file or the
 complete new one. Leftover temporary files are hidden (leading dot) and never carry an
 output's name.
 """
@@ -21,7 +21,7 @@ import pytest
 from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_csv
 
 from cvfit.report import OUTPUT_NAMES
-from cvfit.report._atomic import atomic_path, atomic_write_text
+from cvfit.report.atomic import atomic_path, atomic_write_text
 
 OLD = b"old output, must survive or be replaced whole\n"
 # extra wait after the first temporary file appears, s; several points of the writing phase
@@ -54,7 +54,7 @@ def series(tmp_path_factory):
 RENAME_PAUSE_S = 0.12
 _DRIVER = f"""
 import sys, time
-import cvfit.report._atomic as atomic
+import cvfit.report.atomic as atomic
 _replace = atomic.os.replace
 def slow_replace(a, b):
     time.sleep({RENAME_PAUSE_S})

@@ -2,7 +2,7 @@
 
 Reference values:
 - Randles–Ševčík peak current, ip = 0.4463 nFAC (nFvD/RT)^1/2 (Nicholson & Shain, Anal. Chem.
-  36 (1964) 706), computed by cvfit.simulate.randles_sevcik_peak_current_A.
+  36 (1964) 706), computed by cvfit.simulate.voltammogram.randles_sevcik_peak_current_A.
 - Reversible E½ is the midpoint of Epa and Epc; the midpoint moves by (ΔEp − 57.0/n mV)/2
   with the switching potential (Nicholson & Shain 1964, from memory), ≤ 0.3 mV for the
   switches used here.
@@ -19,8 +19,8 @@ import numpy as np
 import pytest
 
 from cvfit.errors import InputError
-from cvfit.peaks import PeakAnalysis, analyse_peaks
-from cvfit.simulate import randles_sevcik_peak_current_A, simulate_cv
+from cvfit.peaks.analysis import PeakAnalysis, analyse_peaks
+from cvfit.simulate.voltammogram import randles_sevcik_peak_current_A, simulate_cv
 from cvfit.voltammogram import Voltammogram
 
 E_HALF = 0.105  # V, arbitrary
@@ -326,7 +326,7 @@ def test_later_cycles_E_half_and_delta_Ep_with_noise(later_runs, n, first):
 
 @pytest.mark.parametrize(("n", "first"), LATER)
 def test_later_cycles_pass_the_reversibility_screen(later_runs, n, first):
-    from cvfit.diagnostics import screen_reversibility
+    from cvfit.screen.reversibility import screen_reversibility
 
     for runs in later_runs[n, first]:
         for p in runs:

@@ -26,7 +26,7 @@ from seriesfactory import (
 
 from cvfit.cli import main
 from cvfit.io import load_manifest
-from cvfit.pipeline import analyse_series
+from cvfit.pipeline.series import analyse_series
 from cvfit.report import results_to_json
 
 SCHEMAS = Path(__file__).resolve().parents[1] / "schemas"

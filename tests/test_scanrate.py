@@ -13,17 +13,17 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from cvfit.diagnostics import screen_reversibility
-from cvfit.ir import correct_ohmic_drop
-from cvfit.kinetics import PSI_TABLE, delta_Ep_stderr_V
-from cvfit.peaks import analyse_peaks
-from cvfit.scanrate import (
+from cvfit.peaks.analysis import analyse_peaks
+from cvfit.screen.nicholson import PSI_TABLE, delta_Ep_stderr_V
+from cvfit.screen.ohmic_drop import correct_ohmic_drop
+from cvfit.screen.reversibility import screen_reversibility
+from cvfit.screen.scan_rate import (
     ScanRatePoint,
     analyse_scan_rate_study,
     scan_rate_groups,
     working_curve_n_delta_Ep_V,
 )
-from cvfit.simulate import simulate_cv
+from cvfit.simulate.voltammogram import simulate_cv
 
 T = 298.15
 RATES = (0.02, 0.05, 0.1, 0.2, 0.5, 1.0)

@@ -13,9 +13,9 @@ import sys
 import numpy as np
 import pytest
 
-from cvfit import _sim_kernel
 from cvfit.errors import SimulationError
-from cvfit.simulate import _simulate_raw, randles_sevcik_peak_current_A, simulate_cv
+from cvfit.simulate import finite_difference as _sim_kernel
+from cvfit.simulate.voltammogram import _simulate_raw, randles_sevcik_peak_current_A, simulate_cv
 from cvfit.units import FARADAY, GAS_CONSTANT, thermal_voltage
 
 RT_F = thermal_voltage(298.15)  # 25.6926 mV (REFERENCES.md, calc)
@@ -360,8 +360,8 @@ def test_runs_without_numba():
     # The pure-NumPy path must work where numba is not installed (blocked in a subprocess).
     code = (
         "import sys; sys.modules['numba'] = None\n"
-        "from cvfit import _sim_kernel\n"
-        "from cvfit.simulate import simulate_cv\n"
+        "from cvfit.simulate import finite_difference as _sim_kernel\n"
+        "from cvfit.simulate.voltammogram import simulate_cv\n"
         "assert not _sim_kernel.HAVE_NUMBA\n"
         "vg = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=-0.3, step_V=0.004)\n"
         "print(repr(float(vg.current_A.min())))\n"

@@ -9,8 +9,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from cvfit.chemistry.complexation import complexed_half_wave_V
 from cvfit.cli import simulate as cli_simulate
-from cvfit.complexation import complexed_half_wave_V
 from cvfit.errors import InputError, SimulationError
 from cvfit.simulate import simulate_cv, simulate_series
 

@@ -7,9 +7,9 @@ import math
 import numpy as np
 import pytest
 
-from cvfit.activity import davies_log10_gamma, thermodynamic_log10_beta
-from cvfit.complexation import complexed_half_wave_V, leden_F0
-from cvfit.speciation import (
+from cvfit.chemistry.activity import davies_log10_gamma, thermodynamic_log10_beta
+from cvfit.chemistry.complexation import complexed_half_wave_V, leden_F0
+from cvfit.chemistry.speciation import (
     absolute_log10_beta,
     conditional_log10_beta,
     fraction_peak_ligand_M,
@@ -19,7 +19,7 @@ from cvfit.speciation import (
     mean_ligand_number,
     species_fractions,
 )
-from cvfit.stepwise import complex_standard_potential_V
+from cvfit.fit.stepwise import complex_standard_potential_V
 from cvfit.units import thermal_voltage
 
 BETA = (2.0, 3.7, 4.9)

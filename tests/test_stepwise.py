@@ -1,9 +1,9 @@
 """Stepwise (DeFord–Hume) fit: round trips, model choice, coverage, undetermined constants.
 
-Simulated E½ values come from cvfit.complexation.complexed_half_wave_V, the labile-limit
+Simulated E½ values come from cvfit.chemistry.complexation.complexed_half_wave_V, the labile-limit
 relation E½(c) = E½(s) − (RT/nF) ln(F0,ox/F0,red) (DeFord & Hume, J. Am. Chem. Soc. 73
 (1951) 5321; Lingane, Chem. Rev. 29 (1941) 1). Noise 0.2 mV per E½ is about the SD the
-peak analysis measures for reversible simulated files (cvfit.peaks docstring).
+peak analysis measures for reversible simulated files (cvfit.peaks.analysis docstring).
 """
 
 from __future__ import annotations
@@ -11,16 +11,16 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from cvfit._stepwise_core import StepwiseData
-from cvfit._stepwise_select import choose_candidate, fit_all_candidates
-from cvfit.complexation import complexed_half_wave_V
-from cvfit.speciation import free_ligand_M, ligand_fraction_unprotonated
-from cvfit.stepwise import (
+from cvfit.chemistry.complexation import complexed_half_wave_V
+from cvfit.chemistry.speciation import free_ligand_M, ligand_fraction_unprotonated
+from cvfit.fit.stepwise import (
     SolutionConditions,
     StepwisePoint,
     complex_standard_potential_V,
     fit_stepwise,
 )
+from cvfit.fit.stepwise_least_squares import StepwiseData
+from cvfit.fit.stepwise_model_choice import choose_candidate, fit_all_candidates
 from cvfit.units import thermal_voltage
 
 SIGMA_V = 0.2e-3

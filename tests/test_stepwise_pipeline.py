@@ -16,9 +16,9 @@ import numpy as np
 import pytest
 from seriesfactory import write_manifest
 
-from cvfit._sim_series import simulate_series
+from cvfit.chemistry.speciation import ligand_fraction_unprotonated, mean_ligand_number
 from cvfit.cli import main
-from cvfit.speciation import ligand_fraction_unprotonated, mean_ligand_number
+from cvfit.simulate.titration_series import simulate_series
 
 TRUTH = (2.0, 3.7, 4.9)
 METAL_M = 1.0e-3
@@ -168,7 +168,7 @@ def test_bound_ligand_number_leaving_no_free_ligand_is_an_input_error(tmp_path, 
 
 
 def test_null_stepwise_record_follows_the_schema():
-    from cvfit._stepwise_result import null_stepwise_dict
+    from cvfit.fit.stepwise_result import null_stepwise_dict
     from cvfit.flags import Flag
 
     schema = json.loads((SCHEMAS / "results.schema.json").read_text(encoding="utf-8"))
@@ -183,7 +183,7 @@ def test_current_ratio_term_corrects_slower_diffusing_complexes(tmp_path):
     The complexes diffuse at half the free ion's D, which shifts E½ by (RT/2nF) ln(Ds/Dc)
     at full complexation (Lingane 1941); the peak-current ratio must take that out.
     """
-    from cvfit.pipeline import analyse_manifest_file
+    from cvfit.pipeline.series import analyse_manifest_file
 
     free = [0.0, *np.logspace(-3.3, -0.3, 9)]
     simulate_series(

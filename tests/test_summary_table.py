@@ -7,7 +7,7 @@ from dataclasses import replace
 from seriesfactory import write_small_series
 
 from cvfit.io import load_manifest
-from cvfit.pipeline import analyse_series
+from cvfit.pipeline.series import analyse_series
 from cvfit.report import format_summary
 from cvfit.report.formatting import format_pm
 

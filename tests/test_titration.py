@@ -9,13 +9,7 @@ import numpy as np
 import pytest
 
 from cvfit.errors import FitError, InputError
-from cvfit.titration import (
-    LinganeFit,
-    TitrationPoint,
-    check_points,
-    fit_lingane,
-    null_fit_dict,
-)
+from cvfit.fit.lingane import LinganeFit, TitrationPoint, check_points, fit_lingane, null_fit_dict
 from cvfit.units import thermal_voltage
 
 T25 = 298.15

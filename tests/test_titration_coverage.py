@@ -11,7 +11,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from cvfit.titration import TitrationPoint, fit_lingane
+from cvfit.fit.lingane import TitrationPoint, fit_lingane
 from cvfit.units import nernst_slope_V_per_decade
 
 TRIALS = 1000

@@ -12,8 +12,7 @@ from concurrent.futures import as_completed
 from dataclasses import dataclass
 from pathlib import Path
 
-from .._workers import available_cpus, frozen_heap, new_process_pool
-from ..errors import InputError
+from cvfit.errors import InputError
 
 __all__ = [
     "SeriesOutcome",
@@ -87,7 +86,7 @@ def batch_out_dirs(manifests: Sequence[Path], out: Path | None) -> list[Path]:
 
     Stems that collide under *out* get ``-2``, ``-3`` … in command-line order.
     """
-    from .run import default_out_dir
+    from .output_paths import default_out_dir
 
     if out is None:
         return [default_out_dir(m) for m in manifests]
@@ -105,10 +104,11 @@ def batch_out_dirs(manifests: Sequence[Path], out: Path | None) -> list[Path]:
 
 def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
     """Analyse one series into *out_dir*; never raises (failures become the outcome)."""
-    from ..io import load_manifest
-    from ..pipeline import analyse_series
-    from ..report import write_outputs
-    from .run import check_outputs_spare_inputs
+    from cvfit.io import load_manifest
+    from cvfit.pipeline.series import analyse_series
+    from cvfit.report import write_outputs
+
+    from .output_paths import check_outputs_spare_inputs
 
     manifest_path, out_dir = Path(manifest_path), Path(out_dir)
     title = None
@@ -156,6 +156,8 @@ def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
 
 
 def default_jobs(n_series: int) -> int:
+    from cvfit.pipeline.parallel import available_cpus
+
     return max(1, min(available_cpus(), n_series))
 
 
@@ -191,7 +193,9 @@ def run_batch(
                 outcomes[k] = run_series(m, o)
                 bar.update()
     else:
-        with frozen_heap(), new_process_pool(jobs) as pool:
+        from cvfit.pipeline.parallel import new_process_pool
+
+        with new_process_pool(jobs) as pool:
             futures = {
                 pool.submit(run_series, m, o): k
                 for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True))
@@ -204,7 +208,7 @@ def run_batch(
 
 
 def _pm(value: float | None, stderr: float | None) -> str:
-    from ..report.formatting import format_pm
+    from cvfit.report.formatting import format_pm
 
     return format_pm(value, stderr) if value is not None else "n/d"
 

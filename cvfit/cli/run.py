@@ -1,4 +1,8 @@
-"""``cvfit run MANIFEST... [--out DIR] [--jobs N]``: analyse one titration series or a batch."""
+"""``cvfit run MANIFEST... [--out DIR] [--jobs N]``: analyse one titration series or a batch.
+
+Only the argument set-up is imported with the command line; the analysis and the figures
+load when a series runs (``cvfit --help`` stays quick).
+"""
 
 from __future__ import annotations
 
@@ -8,12 +12,7 @@ import sys
 from collections.abc import Callable, Iterator
 from pathlib import Path
 
-from .._file_stage import PARALLEL_MIN_FILES, default_file_jobs
-from .._workers import available_cpus, worker_pool
-from ..errors import InputError
-from ..io import load_manifest
-from ..pipeline import analyse_series
-from ..report import OUTPUT_NAMES, format_summary, import_figure_modules, write_outputs
+from .file_jobs import PARALLEL_MIN_FILES, default_file_jobs
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -37,11 +36,10 @@ def register(sub: argparse._SubParsersAction) -> None:
         "--jobs",
         metavar="N",
         type=int,
-        help="processes to work in: for a batch, series run in parallel (default: one per "
-        "CPU core, at most one per series); for one series, N processes (this one and N - 1 "
-        "workers) share the reading and measuring of its files (default: one per CPU core "
-        f"from {PARALLEL_MIN_FILES} files on) and the drawing of its figures; 1 runs "
-        "everything in one process",
+        help="worker processes: for a batch, series run in parallel (default: one per CPU "
+        "core, at most one per series); for one series, its files are read and measured by "
+        f"N workers (default: one per CPU core from {PARALLEL_MIN_FILES} files on, else "
+        "none); 1 runs everything in this process",
     )
     p.add_argument("--quiet", action="store_true", help="print only where results went")
     p.set_defaults(handler=handle)
@@ -63,27 +61,20 @@ def _progress(total: int, *, enabled: bool) -> Iterator[Callable[[], None]]:
         yield bar.update
 
 
-def default_out_dir(manifest_path: Path) -> Path:
-    return manifest_path.parent / f"{manifest_path.stem}_cvfit"
-
-
-def check_outputs_spare_inputs(out_dir: Path, inputs: list[Path], manifest: Path) -> None:
-    """Refuse an output folder where an output would replace an input file."""
-    protected = {p.resolve() for p in inputs}
-    for name in OUTPUT_NAMES.values():
-        target = (out_dir / name).resolve()
-        if target in protected:
-            raise InputError(
-                f"writing {name} into {out_dir} would overwrite the input file {target}; "
-                "choose another --out folder",
-                source=str(manifest),
-                key="--out",
-            )
-
-
 def run_manifest(
     manifest_path: Path, out: Path | None, *, quiet: bool = False, jobs: int | None = None
 ) -> int:
+    """Analyse the series of *manifest_path* into *out*, print the summary; exit status."""
+    from cvfit.errors import InputError
+    from cvfit.io import load_manifest
+    from cvfit.pipeline.per_file import check_jobs
+    from cvfit.pipeline.series import analyse_series
+    from cvfit.report import format_summary, write_outputs
+
+    from .output_paths import check_outputs_spare_inputs, default_out_dir
+
+    if jobs is not None:
+        check_jobs(jobs)
     manifest = load_manifest(manifest_path)
     out_dir = out if out is not None else default_out_dir(manifest.path)
     if out_dir.exists() and not out_dir.is_dir():
@@ -93,14 +84,9 @@ def run_manifest(
     )
     n_files = len(manifest.voltammograms)
     file_jobs = default_file_jobs(n_files) if jobs is None else jobs
-    # by default the figures are drawn in parallel even when the files are read here
-    processes = max(file_jobs, min(available_cpus(), 2)) if jobs is None else jobs
-    # the figure modules are imported before the workers start, so none imports them again
-    import_figure_modules()
-    # worker_pool refuses --jobs below 1 before anything runs
-    with worker_pool(processes) as pool, _progress(n_files, enabled=not quiet) as tick:
-        result = analyse_series(manifest, pool=pool if file_jobs > 1 else None, progress=tick)
-        written = write_outputs(result, out_dir, pool=pool)
+    with _progress(n_files, enabled=not quiet) as tick:
+        result = analyse_series(manifest, jobs=file_jobs, progress=tick)
+    written = write_outputs(result, out_dir)
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
     sys.stdout.write(

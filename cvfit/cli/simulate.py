@@ -19,13 +19,17 @@ import math
 import sys
 from pathlib import Path
 
-from ..complexation import complexed_half_wave_V
-from ..errors import InputError, SimulationError
-from ..units import celsius_to_kelvin
+from cvfit.errors import InputError, SimulationError
 
 _CMD = "<command line>"
 # half-width of the default potential window around the E½ values, V
 _DEFAULT_MARGIN_V = 0.3
+
+
+def _kelvin(celsius: float) -> float:
+    from cvfit.units import celsius_to_kelvin
+
+    return celsius_to_kelvin(celsius)
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -133,7 +137,7 @@ def _settings(args: argparse.Namespace) -> dict:
         "initial_species": args.initial,
         "area_cm2": _number(args.area, "--area", minimum=0.0, strict=True),
         "cycles": cycles,
-        "temperature_K": celsius_to_kelvin(
+        "temperature_K": _kelvin(
             _number(args.temperature_C, "--temperature-C", minimum=-273.15, strict=True)
         ),
         "double_layer_F": _number(args.cdl, "--cdl", minimum=0.0),
@@ -176,8 +180,8 @@ def handle(args: argparse.Namespace) -> int:
     if seed is not None and seed < 0:
         raise InputError("--seed must be >= 0", source=_CMD, key="--seed")
     # the simulator (and numba, ~0.15 s) is imported only when a simulation is asked for
-    from .._sim_series import write_voltammogram_csv
-    from ..simulate import simulate_cv
+    from cvfit.simulate.titration_series import write_voltammogram_csv
+    from cvfit.simulate.voltammogram import simulate_cv
 
     out = _out_path(args)
     try:
@@ -214,7 +218,8 @@ def handle(args: argparse.Namespace) -> int:
 
 
 def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
-    from .._sim_series import simulate_series
+    from cvfit.chemistry.complexation import complexed_half_wave_V
+    from cvfit.simulate.titration_series import simulate_series
 
     if args.ligand_M is None:
         raise InputError("--series needs --ligand-M LIST", source=_CMD, key="--ligand-M")

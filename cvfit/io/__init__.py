@@ -6,7 +6,6 @@
 
 from __future__ import annotations
 
-from ._parser_choice import load_compiled_parser_if_worth
 from .manifest import FitSettings, Manifest, SeriesSettings, VoltammogramEntry, load_manifest
 from .options import ImportOptions
 from .reader import parse_voltammogram_bytes, parse_voltammogram_text, read_voltammogram
@@ -21,5 +20,4 @@ __all__ = [
     "SeriesSettings",
     "FitSettings",
     "VoltammogramEntry",
-    "load_compiled_parser_if_worth",
 ]

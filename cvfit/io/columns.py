@@ -12,7 +12,7 @@ import re
 from dataclasses import dataclass
 from typing import Literal
 
-from ..units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
+from cvfit.units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
 
 __all__ = ["ColumnLabel", "Role", "TIME_UNITS", "parse_label", "time_scale", "is_unit"]
 

@@ -17,11 +17,12 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Literal
 
-from ..criteria import ReversibilityCriteria
-from ..errors import InputError
-from ..units import celsius_to_kelvin
-from . import _chemistry_keys as _chem
-from . import _electrode_keys as _electrode
+from cvfit.criteria import ReversibilityCriteria
+from cvfit.errors import InputError
+from cvfit.units import celsius_to_kelvin
+
+from . import manifest_chemistry as _chem
+from . import manifest_electrode as _electrode
 from .options import IMPORT_KEYS, ImportOptions
 from .text import split_lines
 
@@ -97,7 +98,7 @@ class SeriesSettings:
     reference_electrode : str or None
         Free text, echoed in reports.
     ligand_pKa, pH, ionic_strength_M, metal_charge, ligand_charge, bound_ligand_number
-        Solution chemistry for the stepwise model (see cvfit.stepwise.SolutionConditions).
+        Solution chemistry for the stepwise model (see cvfit.fit.stepwise.SolutionConditions).
     electrode_area_cm2, analyte_M : float or None
         Electrode area, cm², and bulk concentration of the electroactive species, mol/L
         (D from Randles–Ševčík peak currents).

@@ -8,7 +8,7 @@ from __future__ import annotations
 from dataclasses import dataclass, fields, replace
 from typing import Literal
 
-from ..errors import InputError
+from cvfit.errors import InputError
 
 __all__ = [
     "ImportOptions",

@@ -8,13 +8,13 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError
-from ..units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
-from ..voltammogram import MIN_POINTS, Voltammogram
-from ._parser_choice import note_bytes_read
+from cvfit.errors import InputError
+from cvfit.units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
+from cvfit.voltammogram import MIN_POINTS, Voltammogram
+
 from .columns import ColumnLabel, parse_label, time_scale
 from .options import ImportOptions
-from .table import NumericTable, read_table_bytes, read_table_text
+from .table import NumericTable, read_table_text
 from .text import decode_bytes
 
 __all__ = ["read_voltammogram", "parse_voltammogram_text", "parse_voltammogram_bytes"]
@@ -359,16 +359,6 @@ def parse_voltammogram_bytes(
     scan_rate_V_s: float | None = None,
 ) -> Voltammogram:
     """As :func:`parse_voltammogram_text`, from raw bytes (encoding detected)."""
-    opts = options or ImportOptions()
-    # a plain UTF-8 file is parsed from its bytes, with no decoded copy, by the compiled
-    # parser when it is loaded; anything else (None) takes the decoding path, which gives
-    # every message
-    table = read_table_bytes(data, source=source, delimiter=opts.delimiter, decimal=opts.decimal)
-    if table is None:
-        note_bytes_read(len(data))
-    else:
-        encoding = "utf-8-sig" if data.startswith(b"\xef\xbb\xbf") else "utf-8"
-        return _build(table, opts, source, scan_rate_V_s, {"import.encoding": encoding})
     decoded = decode_bytes(data, source=source)
     # one record built, with the encoding in its metadata (no second copy of the arrays)
     return _parse_text(

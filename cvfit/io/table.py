@@ -1,9 +1,7 @@
 """Delimited text to a numeric table: preamble, header row, delimiter and decimal mark.
 
-The happy path parses the numeric block in one call: the compiled parser of
-:mod:`cvfit.io._numparse` (numba; from the file's bytes when it is UTF-8), else
-:func:`pandas.read_csv`. Only when both refuse are the lines scanned one by one to name
-the bad cell.
+The happy path parses the numeric block in one :func:`pandas.read_csv` call. Only when
+it refuses are the lines scanned one by one to name the bad cell.
 """
 
 from __future__ import annotations
@@ -16,12 +14,12 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError
-from ._parser_choice import compiled_parser
-from .columns import is_unit
-from .text import head_lines, split_lines, utf8_clean
+from cvfit.errors import InputError
 
-__all__ = ["NumericTable", "read_table", "read_table_bytes", "read_table_text"]
+from .columns import is_unit
+from .text import head_lines, split_lines
+
+__all__ = ["NumericTable", "read_table", "read_table_text"]
 
 _SPECIAL = re.compile(r"(?i)\b(?:nan|[+-]?inf(?:inity)?)\b")
 _NUMERIC_LINE = re.compile(r"^[\d\s.,;+\-eE\"']*$")
@@ -372,9 +370,8 @@ def read_table_text(
     """As :func:`read_table`, from the whole decoded text, parsing it once.
 
     Only the first lines are split into Python strings (to find the header, the delimiter
-    and where the numbers start); the rest of the text goes to the compiled parser
-    (:mod:`cvfit.io._numparse`, when numba is installed) or else to ``pandas.read_csv``
-    in one call, rows numbered by position. Anything unusual — blank or repeated header
+    and where the numbers start); the rest of the text goes to ``pandas.read_csv`` in one
+    call, rows numbered by position. Anything unusual — blank or repeated header
     lines, a lone ``\\r`` line end (``\\r\\n`` is fine), a row pandas cannot read, an
     empty cell — sends the file to :func:`read_table`, which scans line by line and names
     the line and cell, so the result and every message are those of :func:`read_table`.
@@ -388,32 +385,8 @@ def read_table_text(
     return read_table(split_lines(text), source=source, delimiter=delimiter, decimal=decimal)
 
 
-def read_table_bytes(
-    data: bytes,
-    *,
-    source: str,
-    delimiter: str | None = None,
-    decimal: str | None = None,
-) -> NumericTable | None:
-    """:func:`read_table_text`'s table of a UTF-8 file, from its bytes (no decoded copy);
-    None (decode: that path gives every message) unless the compiled parser is loaded
-    (:mod:`cvfit.io._parser_choice`), only the lines above the numbers need decoding and
-    the compiled parser takes every row below them."""
-    parser = compiled_parser()  # None until loaded (see _parser_choice)
-    if not isinstance(data, bytes) or data.isspace() or parser is None or not parser.HAVE_NUMBA:
-        return None
-    base = 0
-    while data.startswith(b"\xef\xbb\xbf", base):  # the byte-order marks decoding strips
-        base += 3
-    content = memoryview(data)[base:] if base else data
-    try:
-        return _one_call(content, b"\r" in data, source, delimiter, decimal)
-    except (InputError, UnicodeDecodeError):  # the decoding path says why
-        return None
-
-
 def _one_call(
-    content: str | bytes | memoryview,
+    content: str,
     crlf: bool,
     source: str,
     delimiter: str | None,
@@ -427,8 +400,6 @@ def _one_call(
             return None
         if crlf:
             head = [ln[:-1] if ln.endswith("\r") else ln for ln in head]
-        if not isinstance(content, str):  # as the decoding path reads a typographic minus
-            head = [ln.replace("\u2212", "-") for ln in head]
         start = _find_data_start(head)
         if start is not None and start + _SAMPLE + 20 < len(head):
             return _fast_table(content, head, ends, start, source, delimiter, decimal, crlf)
@@ -437,7 +408,7 @@ def _one_call(
 
 
 def _fast_table(
-    content: str | bytes | memoryview,
+    content: str,
     head: list[str],
     ends: list[int],
     start: int,
@@ -446,8 +417,7 @@ def _fast_table(
     decimal: str | None,
     crlf: bool,
 ) -> NumericTable | None:
-    """The happy path of :func:`read_table_text`; None to take the line-by-line path.
-    *content* is the text, or bytes (then the compiled parser only, else None)."""
+    """The happy path of :func:`read_table_text`; None to take the line-by-line path."""
     _, header_key = _header_of(head, start)
     sample = head[start : start + _SAMPLE]
     # every sampled row as read_table would see it: no blank, no surrounding blanks, no
@@ -455,27 +425,11 @@ def _fast_table(
     if any(not ln or ln != ln.strip() or ln == header_key for ln in sample):
         return None
     offset = ends[start - 1] if start else 0
-    if not isinstance(content, str):
-        # the lines above the data are checked here, the rows by the compiled parser
-        above = bytes(content[:offset])
-        if not utf8_clean(above) or above.count(b"\r") != above.count(b"\r\n"):
-            return None
-        rest = content
-    else:
-        rest, offset = content[offset:].encode("utf-8"), 0
+    rest = content[offset:].encode("utf-8")
     lay = _layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
-    parser = compiled_parser()  # None until loaded (see _parser_choice)
-    values = (
-        None
-        if parser is None
-        else parser.parse_numbers(rest, offset, lay.ncols, lay.delimiter, lay.decimal)
-    )
+    values = _pandas_block(rest, lay, crlf)
     if values is None:
-        if not isinstance(content, str):
-            return None
-        values = _pandas_block(rest, lay, crlf)
-        if values is None:
-            return None
+        return None
     numbers = np.arange(start + 1, start + 1 + values.shape[0], dtype=int)
     return _table(head, lay, values, numbers)
 

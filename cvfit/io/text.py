@@ -10,7 +10,7 @@ import itertools
 import re
 from dataclasses import dataclass
 
-from ..errors import InputError
+from cvfit.errors import InputError
 
 __all__ = ["DecodedText", "decode_bytes", "head_lines", "split_lines", "utf8_clean"]
 

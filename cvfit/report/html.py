@@ -20,8 +20,9 @@ from html import escape
 from pathlib import Path
 from typing import Any
 
-from ..results import SeriesResult
-from ._atomic import atomic_write_text
+from cvfit.pipeline.results import SeriesResult
+
+from .atomic import atomic_write_text
 from .formatting import format_pm, format_value
 from .methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
 

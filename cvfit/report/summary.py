@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
-from ..quantity import Quantity
-from ..results import SeriesResult
+from cvfit.pipeline.results import SeriesResult
+from cvfit.quantity import Quantity
+
 from .formatting import format_pm, format_value
 
 __all__ = ["format_summary"]

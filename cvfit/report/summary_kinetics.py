@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import math
 
-from ..quantity import Quantity
-from ..results import SeriesResult
+from cvfit.pipeline.results import SeriesResult
+from cvfit.quantity import Quantity
 
 __all__ = ["kinetics_lines"]
 

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import math
 
-from .._stepwise_result import StepwiseFit
+from cvfit.fit.stepwise_result import StepwiseFit
+
 from .formatting import format_pm
 
 __all__ = ["stepwise_lines"]

@@ -1,0 +1,236 @@
+"""Weighted non-linear least squares of E½ on stepwise overall constants, one N at a time.
+
+The observation is the (current-corrected) half-wave potential itself,
+
+    E½_i = E½(s) − s·(RT/nF)·[ln F0(L_i; β) − ln F0_other(L_i)],
+
+with s = +1 when the constants fitted belong to the oxidised form (the other form's
+F0_other given, 1 when it is not complexed) and s = −1 for the reduced form. E½(s) is a
+parameter tied to its measured value by one more observation (weight 1/σ_ref²). The
+β_j are fitted as log10 β_j within bounds (β_j [L]^j between 1e-8 and 1e10 over the
+measured range), so positivity holds by construction and an undetermined constant runs
+into its bound instead of going negative. Intervals come from the profile of the
+weighted residual sum of squares with the scale estimated from the residuals (an
+F(1, ν) threshold), which gives the asymmetric intervals these correlated constants have.
+
+References
+----------
+DeFord, D. D.; Hume, D. N. J. Am. Chem. Soc. 1951, 73, 5321.
+Leden, I. Z. Phys. Chem. A 1941, 188, 160.
+Grabarić, B. S. et al. Anal. Chim. Acta 1998, 363, 261 (direct fit of the measured
+quantity rather than graphical extrapolation).
+Venzon, D. J.; Moolgavkar, S. H. Appl. Stat. 1988, 37, 87 (profile-likelihood intervals).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import optimize, stats
+
+from cvfit.chemistry.complexation import log_leden_F0
+from cvfit.chemistry.speciation import species_fractions
+
+__all__ = ["StepwiseData", "CandidateFit", "fit_candidate", "profile_interval"]
+
+LN10 = math.log(10.0)
+#: β_j [L]^j at the largest / smallest measured [L] that bound log10 β_j.
+MIN_TERM_AT_TOP = 1e-8
+MAX_TERM_AT_BOTTOM = 1e10
+
+
+@dataclass(frozen=True)
+class StepwiseData:
+    """Arrays of one fit: free ligand (mol/L), E½ (V), σ (V), reference and model sign."""
+
+    ligand_M: np.ndarray
+    E_half_V: np.ndarray
+    sigma_V: np.ndarray
+    reference_V: float
+    reference_sigma_V: float
+    thermal_V: float  # RT/nF
+    sign: float  # +1: fitted constants are the oxidised form's; -1: the reduced form's
+    ln_F0_other: np.ndarray
+
+    @property
+    def n_obs(self) -> int:
+        return int(self.ligand_M.size) + 1
+
+    def bounds(self, N: int) -> tuple[np.ndarray, np.ndarray]:
+        top = math.log10(float(self.ligand_M.max()))
+        bottom = math.log10(float(self.ligand_M.min()))
+        j = np.arange(1, N + 1)
+        lo = math.log10(MIN_TERM_AT_TOP) - j * top
+        hi = math.log10(MAX_TERM_AT_BOTTOM) - j * bottom
+        return np.concatenate([[-np.inf], lo]), np.concatenate([[np.inf], hi])
+
+    def model(self, p: np.ndarray) -> np.ndarray:
+        lnF0 = log_leden_F0(self.ligand_M, p[1:])
+        return p[0] - self.sign * self.thermal_V * (lnF0 - self.ln_F0_other)
+
+    def residuals(self, p: np.ndarray) -> np.ndarray:
+        r = (self.E_half_V - self.model(p)) / self.sigma_V
+        return np.concatenate([r, [(self.reference_V - p[0]) / self.reference_sigma_V]])
+
+    def jacobian(self, p: np.ndarray) -> np.ndarray:
+        a = species_fractions(self.ligand_M, p[1:])[1:]  # (N, n)
+        J = np.empty((self.n_obs, p.size))
+        J[:-1, 0] = -1.0 / self.sigma_V
+        J[:-1, 1:] = (self.sign * self.thermal_V * LN10 * a / self.sigma_V).T
+        J[-1, :] = 0.0
+        J[-1, 0] = -1.0 / self.reference_sigma_V
+        return J
+
+
+@dataclass(frozen=True)
+class CandidateFit:
+    """Least-squares optimum for one number of complexes N."""
+
+    N: int
+    params: np.ndarray  # [E½(s), log10 β_1 … β_N]
+    rss: float  # weighted residual sum of squares
+    dof: int
+    covariance: np.ndarray | None  # scaled by rss/dof; None when singular or dof = 0
+    at_bound: tuple[bool, ...]  # per log10 β_j
+
+    @property
+    def scale(self) -> float:
+        return self.rss / self.dof if self.dof > 0 else math.nan
+
+
+def _solve(data: StepwiseData, p0: np.ndarray, lo: np.ndarray, hi: np.ndarray, fixed=None):
+    """least_squares with optional (index, value) held fixed; returns (params, rss)."""
+    if fixed is None:
+        free = np.arange(p0.size)
+    else:
+        free = np.array([k for k in range(p0.size) if k != fixed[0]])
+    full = p0.copy()
+    if fixed is not None:
+        full[fixed[0]] = fixed[1]
+
+    def expand(q: np.ndarray) -> np.ndarray:
+        out = full.copy()
+        out[free] = q
+        return out
+
+    x0 = np.clip(full[free], lo[free] + 1e-9, hi[free] - 1e-9)
+    x0 = np.where(np.isfinite(x0), x0, full[free])
+    sol = optimize.least_squares(
+        lambda q: data.residuals(expand(q)),
+        x0,
+        jac=lambda q: data.jacobian(expand(q))[:, free],
+        bounds=(lo[free], hi[free]),
+        method="trf",
+        x_scale="jac",
+        xtol=1e-12,
+        ftol=1e-12,
+        gtol=1e-12,
+        max_nfev=2000,
+    )
+    p = expand(sol.x)
+    return p, float(np.sum(data.residuals(p) ** 2))
+
+
+def _starts(data: StepwiseData, N: int, previous: np.ndarray | None) -> list[np.ndarray]:
+    """Starting points: non-negative polynomial fit of F0, and the N − 1 optimum extended."""
+    lo, hi = data.bounds(N)
+    L = data.ligand_M
+    ln_F0 = data.sign * (data.reference_V - data.E_half_V) / data.thermal_V + data.ln_F0_other
+    F0 = np.exp(np.clip(ln_F0, -50, 300))
+    w = 1.0 / np.maximum(F0, 1e-300)  # relative errors of F0 are ~constant
+    A = np.column_stack([L**j for j in range(1, N + 1)]) * w[:, None]
+    col = np.maximum(np.linalg.norm(A, axis=0), 1e-300)
+    coef, _ = optimize.nnls(A / col, (F0 - 1.0) * w)
+    coef = coef / col
+    mid = 0.5 * (lo[1:] + hi[1:])
+    nn = np.where(
+        coef > 0, np.log10(np.where(coef > 0, coef, 1.0)), mid - 0.25 * (hi[1:] - lo[1:])
+    )
+    starts = [np.concatenate([[data.reference_V], nn])]
+    if previous is not None:
+        for frac in (0.25, 0.6):
+            new = lo[N] + frac * (hi[N] - lo[N])
+            starts.append(np.concatenate([previous, [new]]))
+    return [np.clip(s, lo + 1e-6, hi - 1e-6) for s in starts]
+
+
+def fit_candidate(data: StepwiseData, N: int, previous: np.ndarray | None = None) -> CandidateFit:
+    """Best fit with N complexes (several starts; the lowest residual sum wins)."""
+    lo, hi = data.bounds(N)
+    best = None
+    for p0 in _starts(data, N, previous):
+        p, rss = _solve(data, p0, lo, hi)
+        if best is None or rss < best[1] - 1e-12:
+            best = (p, rss)
+    p, rss = best
+    dof = data.n_obs - (N + 1)
+    tol = 1e-4 * (hi[1:] - lo[1:])
+    at_bound = tuple(bool(x) for x in ((p[1:] - lo[1:] < tol) | (hi[1:] - p[1:] < tol)))
+    cov = None
+    if dof > 0 and not any(at_bound):
+        J = data.jacobian(p)
+        JTJ = J.T @ J
+        if np.linalg.cond(JTJ) < 1e14:
+            cov = np.linalg.inv(JTJ) * (rss / dof)
+    return CandidateFit(N, p, rss, dof, cov, at_bound)
+
+
+def profile_interval(
+    data: StepwiseData,
+    fit: CandidateFit,
+    index: int,
+    *,
+    level: float = 0.95,
+    sides: str = "both",
+) -> tuple[float, float]:
+    """Profile-likelihood interval of parameter ``index`` (1 … N for log10 β_j).
+
+    The set of values whose profiled residual sum of squares exceeds the minimum by at
+    most ``s²·F(1, ν; level)``, s² = RSS/ν. A side that reaches the parameter's bound
+    without crossing the threshold is open and returned as NaN; ``sides="upper"`` skips
+    the lower limit (returned as NaN).
+
+    References
+    ----------
+    Venzon, D. J.; Moolgavkar, S. H. Appl. Stat. 1988, 37, 87.
+    """
+    if fit.dof < 1:
+        return (math.nan, math.nan)
+    lo, hi = data.bounds(fit.N)
+    s2 = fit.rss / fit.dof
+    if s2 <= 0:
+        s2 = 1e-30
+    crit = float(stats.f.ppf(level, 1, fit.dof)) * s2
+    v0 = float(fit.params[index])
+    se = math.sqrt(fit.covariance[index, index]) if fit.covariance is not None else 0.5
+    step0 = min(max(se, 0.02), 2.0)
+
+    def excess(v: float, start: np.ndarray) -> tuple[float, np.ndarray]:
+        p, rss = _solve(data, start, lo, hi, fixed=(index, v))
+        return rss - fit.rss - crit, p
+
+    out = []
+    for direction, bound in ((-1.0, lo[index]), (1.0, hi[index])):
+        if sides == "upper" and direction < 0:
+            out.append(math.nan)
+            continue
+        start = fit.params.copy()
+        inner = v0
+        step = step0
+        limit = math.nan
+        while True:
+            v = v0 + direction * step
+            if (v - bound) * direction >= 0:
+                v = bound
+            g, p = excess(v, start)
+            if g > 0:
+                f = lambda x, s=start: excess(x, s)[0]  # noqa: E731
+                limit = optimize.brentq(f, min(inner, v), max(inner, v), xtol=1e-4)
+                break
+            if v == bound:
+                break
+            inner, start, step = v, p, step * 2.0
+        out.append(limit)
+    return (out[0], out[1])

@@ -1,0 +1,224 @@
+"""Per-file stage of the pipeline: import, peaks, screen and E½ of each voltammogram.
+
+Every voltammogram of a series is analysed on its own (the series-level steps come after,
+in :mod:`cvfit.pipeline.series`), so this stage is a map over the files: in this process,
+or over a process pool for series large enough to repay starting one
+(see :mod:`cvfit.cli.file_jobs`). A worker sends back the small
+:class:`~cvfit.pipeline.results.FileResult` (peak data, verdicts, flags and the analysed
+cycle thinned for figures), never the whole record.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import replace
+from functools import partial
+
+from cvfit.errors import InputError
+from cvfit.flags import Flag
+from cvfit.io import Manifest, VoltammogramEntry, read_voltammogram
+from cvfit.peaks.analysis import PeakAnalysis, analyse_peaks
+from cvfit.screen.ohmic_drop import correct_ohmic_drop, ohmic_flags
+from cvfit.screen.reversibility import screen_reversibility
+from cvfit.screen.switching import corrected_half_wave_V
+from cvfit.voltammogram import Voltammogram
+
+from .curves import cycle_curve, points_per_curve
+from .parallel import new_process_pool, one_blas_thread
+from .results import FileResult
+
+__all__ = [
+    "analyse_file",
+    "analyse_files",
+    "check_jobs",
+    "LIGAND_EXCESS_MIN",
+]
+
+#: Ligand excess over metal below which the free-ligand assumption is doubtful
+#: (common practice: keep the ligand in >= 10-fold excess).
+LIGAND_EXCESS_MIN = 10.0
+
+def resistance_for(entry: object, series: object) -> float | None:
+    """R_u of one file: its own ``resistance_ohm``, else the series value, else None."""
+    own = getattr(entry, "resistance_ohm", None)
+    return own if own is not None else getattr(series, "resistance_ohm", None)
+
+
+def correct_for_resistance(v: Voltammogram, resistance_ohm: float | None) -> Voltammogram:
+    """The record corrected by i·R_u (a new record), or the record itself without R_u."""
+    if not resistance_ohm:
+        return v
+    return correct_ohmic_drop(v, resistance_ohm=resistance_ohm)
+
+
+def _ratio_from_first_cycle(
+    peaks: PeakAnalysis, v: Voltammogram, electrons: int, temperature_K: float
+) -> PeakAnalysis:
+    """On a later cycle, take the current ratio from cycle 1, which starts at rest.
+
+    Nicholson's relation (Anal. Chem. 38 (1966) 1406) assumes a forward sweep that begins
+    at rest, so the peak analysis leaves the ratio of a later cycle undetermined; the
+    ratio is a property of the couple, and cycle 1 of the same record gives it.
+    """
+    if peaks.current_ratio is not None or peaks.cycle_number == 1:
+        return peaks
+    if not any(f.code == "CURRENT_RATIO_NOT_DETERMINED" for f in peaks.flags):
+        return peaks
+    first_cycles = v.cycles()
+    if not first_cycles or not first_cycles[0].complete:
+        return peaks
+    first = analyse_peaks(v, cycle=1, electrons=electrons, temperature_K=temperature_K)
+    if first.current_ratio is None:
+        return peaks
+    flags = tuple(f for f in peaks.flags if f.code != "CURRENT_RATIO_NOT_DETERMINED")
+    note = Flag(
+        "CURRENT_RATIO_FROM_FIRST_CYCLE",
+        f"cycle {peaks.cycle_number} does not start at rest, so ipa/ipc "
+        f"({first.current_ratio:.3f}) was taken from cycle 1 of the same record "
+        "(Nicholson 1966)",
+        "info",
+    )
+    return replace(peaks, current_ratio=first.current_ratio, flags=(*flags, note))
+
+
+def analyse_file(
+    entry: VoltammogramEntry,
+    manifest: Manifest,
+    record: Voltammogram | None = None,
+    *,
+    series_files: int | None = None,
+) -> FileResult:
+    """Import (unless *record* is given), measure and screen one voltammogram.
+
+    *series_files* is the number of files of the whole series (it sets how thinly the
+    curve kept for the figures is drawn); by default, those of *manifest*.
+
+    Raises
+    ------
+    InputError
+        A problem with the file or its manifest entry.
+    """
+    series = manifest.series
+    v = record
+    if v is None:
+        v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
+    resistance = resistance_for(entry, series)
+    v = correct_for_resistance(v, resistance)  # a new record; the input is not changed
+    peaks = analyse_peaks(
+        v,
+        cycle=entry.import_options.cycle,
+        electrons=series.electrons,
+        temperature_K=series.temperature_K,
+    )
+    peaks = _ratio_from_first_cycle(peaks, v, series.electrons, series.temperature_K)
+    screen = screen_reversibility(
+        peaks,
+        electrons=series.electrons,
+        temperature_K=series.temperature_K,
+        criteria=manifest.reversibility,
+    )
+    flags = list(peaks.flags)
+    flags += [f for f in screen.flags if f.code not in {g.code for g in flags}]
+    flags += ohmic_flags(peaks, resistance)
+    if screen.reversible is True:
+        e_half, correction = corrected_half_wave_V(
+            peaks, electrons=series.electrons, temperature_K=series.temperature_K
+        )
+    else:
+        e_half, correction = peaks.E_half_V, 0.0
+    metal = series.metal_total_M
+    lingane = manifest.fit.model == "lingane"  # the stepwise model corrects [L] itself
+    if lingane and metal is not None and 0 < entry.ligand_M < LIGAND_EXCESS_MIN * metal:
+        flags.append(
+            Flag(
+                "LOW_LIGAND_EXCESS",
+                f"ligand is only {entry.ligand_M / metal:.1f}-fold in excess over the metal "
+                f"({entry.ligand_M:.3g} M vs {metal:.3g} M); total ligand was used as free "
+                "ligand, which overstates [L] (keep >= 10-fold excess, common practice)",
+            )
+        )
+    return FileResult(
+        file=entry.name,
+        ligand_M=entry.ligand_M,
+        free_ligand_M=entry.ligand_M,
+        scan_rate_V_s=v.effective_scan_rate_V_s(),
+        peaks=peaks,
+        screen=screen,
+        used_in_fit=False,
+        flags=tuple(flags),
+        curve=cycle_curve(
+            v,
+            peaks.cycle_number,
+            max_points=points_per_curve(series_files or len(manifest.voltammograms)),
+        ),
+        label=entry.label,
+        E_half_V=e_half,
+        switching_correction_V=correction,
+        resistance_ohm=resistance or None,
+    )
+
+
+def _analyse_entry(manifest: Manifest, series_files: int, entry: VoltammogramEntry) -> FileResult:
+    """:func:`analyse_file` of one entry, as a worker runs it."""
+    return analyse_file(entry, manifest, series_files=series_files)
+
+
+def check_jobs(jobs: object) -> int:
+    """*jobs* as a whole number of processes, at least 1.
+
+    Raises
+    ------
+    InputError
+        *jobs* below 1 (it comes from ``--jobs``).
+    """
+    if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
+        raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
+    return jobs
+
+
+def analyse_files(
+    manifest: Manifest,
+    *,
+    records: dict[str, Voltammogram] | None = None,
+    jobs: int = 1,
+    progress: Callable[[], object] | None = None,
+) -> list[FileResult]:
+    """:func:`analyse_file` for every entry of *manifest*, in manifest order.
+
+    Parameters
+    ----------
+    manifest : Manifest
+        A loaded manifest.
+    records : mapping of str to Voltammogram, optional
+        Records already in memory, by entry name (then everything runs in this process).
+    jobs : int
+        Processes to share the files among (1: all in this process; more: a pool of
+        *jobs* workers). The results do not depend on it.
+    progress : callable, optional
+        Called once per file analysed (for a progress bar).
+
+    Raises
+    ------
+    InputError
+        The error of the first bad file in manifest order — the one a serial run reports.
+    """
+    jobs = check_jobs(jobs)
+    tick = progress or (lambda: None)
+    entries = list(manifest.voltammograms)
+    n = len(entries)
+    if records or jobs == 1 or n < 2:
+        records = records or {}
+        done = []
+        with one_blas_thread():
+            for e in entries:
+                done.append(analyse_file(e, manifest, records.get(e.name), series_files=n))
+                tick()
+        return done
+    workers = min(jobs, n)
+    done = []
+    with new_process_pool(workers) as pool:
+        chunk = max(1, n // (4 * workers))
+        for result in pool.map(partial(_analyse_entry, manifest, n), entries, chunksize=chunk):
+            done.append(result)
+            tick()
+    return done

@@ -1,0 +1,221 @@
+"""Plain result records of a series analysis and their results.json form.
+
+The records are frozen and carry everything the reports need; ``to_dict`` gives the
+results.json contract of DESIGN.md (NaN and missing values become ``null``).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any
+
+from cvfit.flags import Flag
+from cvfit.quantity import clean_number
+
+if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
+    from cvfit.fit.lingane import LinganeFit
+    from cvfit.peaks.analysis import PeakAnalysis
+    from cvfit.screen.classification import Classification
+    from cvfit.screen.kinetics import KineticsResult
+    from cvfit.screen.reversibility import ReversibilityScreen
+    from cvfit.screen.scan_rate import ScanRateStudy
+
+    from .curves import CycleCurve
+
+__all__ = ["FileResult", "ReferenceHalfWave", "SeriesResult", "clean_number"]
+
+
+@dataclass(frozen=True)
+class FileResult:
+    """Everything found for one voltammogram of the series.
+
+    Attributes
+    ----------
+    file : str
+        The file name as written in the manifest.
+    ligand_M : float
+        Total ligand concentration, mol/L.
+    free_ligand_M : float
+        Free ligand concentration used in the fit, mol/L.
+    scan_rate_V_s : float or None
+        Scan rate, V/s (manifest, else from the time column).
+    peaks : PeakAnalysis
+        Peak positions and heights.
+    screen : ReversibilityScreen
+        Outcome of the reversibility screen.
+    used_in_fit : bool
+        Whether the point entered the titration fit.
+    flags : tuple of Flag
+        Findings of the peak analysis, the screen and the pipeline.
+    curve : CycleCurve or None
+        The analysed cycle, thinned for figures (not written to results.json); the
+        whole record is not kept, so a large series stays small in memory and results
+        made in worker processes travel back cheaply.
+    label : str or None
+        Optional label from the manifest.
+    E_half_V : float or None
+        E½ used downstream, V: the peak midpoint less the switching correction for a
+        voltammogram that passed the screen (see :mod:`cvfit.screen.switching`), else the midpoint.
+    switching_correction_V : float
+        The correction applied, V (0 when none).
+    classification : Classification or None
+        Class of the electron transfer (reversible, quasi-reversible, ...) and why.
+    kinetics : KineticsResult or None
+        Nicholson's ψ and k0, or why they are not determinable.
+    resistance_ohm : float or None
+        R_u the potentials were corrected with, Ω.
+    """
+
+    file: str
+    ligand_M: float
+    free_ligand_M: float
+    scan_rate_V_s: float | None
+    peaks: PeakAnalysis
+    screen: ReversibilityScreen
+    used_in_fit: bool
+    flags: tuple[Flag, ...]
+    curve: CycleCurve | None = field(default=None, repr=False, compare=False)
+    label: str | None = None
+    E_half_V: float | None = None
+    switching_correction_V: float = 0.0
+    classification: Classification | None = None
+    kinetics: KineticsResult | None = None
+    resistance_ohm: float | None = None
+
+    @property
+    def reversible(self) -> bool | None:
+        return self.screen.reversible
+
+    def to_dict(self) -> dict[str, Any]:
+        p = self.peaks
+        return {
+            "file": self.file,
+            "label": self.label,
+            "ligand_M": clean_number(self.ligand_M),
+            "free_ligand_M": clean_number(self.free_ligand_M),
+            "scan_rate_V_s": clean_number(self.scan_rate_V_s),
+            "cycle": p.cycle_number,
+            "first_sweep": p.first_sweep,
+            "switching_potential_V": clean_number(p.switching_potential_V),
+            "Epc_V": clean_number(p.Epc_V),
+            "Epa_V": clean_number(p.Epa_V),
+            "E_half_V": clean_number(self.E_half_V),
+            "E_half_stderr_V": clean_number(p.E_half_stderr_V),
+            "E_half_midpoint_V": clean_number(p.E_half_V),
+            "switching_correction_V": clean_number(self.switching_correction_V),
+            "delta_Ep_V": clean_number(p.delta_Ep_V),
+            "expected_delta_Ep_V": clean_number(self.screen.expected_delta_Ep_V),
+            "Ep_half_c_V": clean_number(p.Ep_half_c_V),
+            "Ep_half_a_V": clean_number(p.Ep_half_a_V),
+            "ipc_A": clean_number(p.ipc_A),
+            "ipa_A": clean_number(p.ipa_A),
+            "current_ratio": clean_number(p.current_ratio),
+            "noise_A": clean_number(p.noise_A),
+            "reversible": self.screen.reversible,
+            "used_in_fit": self.used_in_fit,
+            "classification": None
+            if self.classification is None
+            else self.classification.to_dict(),
+            "kinetics": None if self.kinetics is None else self.kinetics.to_dict(),
+            "resistance_ohm": clean_number(self.resistance_ohm),
+            "flags": [f.to_dict() for f in self.flags],
+        }
+
+
+@dataclass(frozen=True)
+class ReferenceHalfWave:
+    """E½ of the uncomplexed couple, E½(s), and where it came from.
+
+    Attributes
+    ----------
+    E_half_V : float or None
+        Reference half-wave potential, V (None when it could not be measured).
+    stderr_V : float or None
+        Its standard error, V (None when unknown).
+    source : str
+        ``"file"`` (mean of the ligand-free voltammograms) or ``"manifest"``.
+    files : tuple of str
+        The ligand-free files it was taken from.
+    """
+
+    E_half_V: float | None
+    stderr_V: float | None
+    source: str
+    files: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "E_half_V": clean_number(self.E_half_V),
+            "stderr_V": clean_number(self.stderr_V),
+            "source": self.source,
+            "files": list(self.files),
+        }
+
+
+@dataclass(frozen=True)
+class SeriesResult:
+    """The analysis of one titration series.
+
+    Attributes
+    ----------
+    cvfit_version : str
+    manifest : str
+        Path of the manifest analysed.
+    series : dict
+        Conditions of the series (title, electrons, temperature_K, ...), JSON-ready.
+    files : tuple of FileResult
+        One per voltammogram, in manifest order.
+    reference : ReferenceHalfWave
+    fit : LinganeFit or None
+        None when no fit could be made (see ``flags``); results.json then carries the
+        fit's keys with null constants.
+    nernstian : bool
+        False when any voltammogram failed (or could not pass) the reversibility screen.
+    exclude_non_nernstian : bool
+        Whether flagged voltammograms were kept out of the fit.
+    criteria : dict
+        The reversibility margins applied, JSON-ready.
+    flags : tuple of Flag
+        Series-level findings.
+    fit_n_points : int
+        Number of usable titration points offered to the fit.
+    scan_rate_studies : tuple of ScanRateStudy
+        One per ligand concentration measured at three or more scan rates.
+    """
+
+    cvfit_version: str
+    manifest: str
+    series: dict[str, Any]
+    files: tuple[FileResult, ...]
+    reference: ReferenceHalfWave
+    fit: LinganeFit | None
+    nernstian: bool
+    exclude_non_nernstian: bool
+    criteria: dict[str, float]
+    flags: tuple[Flag, ...] = ()
+    fit_n_points: int = 0
+    scan_rate_studies: tuple[ScanRateStudy, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        if self.fit is not None:
+            fit = self.fit.to_dict()
+        else:
+            from cvfit.fit.lingane import null_fit_dict
+
+            why = [f for f in self.flags if f.severity == "error"]
+            if self.series.get("model") == "stepwise":
+                from cvfit.fit.stepwise_result import null_stepwise_dict as null_fit_dict
+            fit = null_fit_dict(self.fit_n_points, why)
+        return {
+            "cvfit_version": self.cvfit_version,
+            "manifest": self.manifest,
+            "series": dict(self.series),
+            "nernstian": self.nernstian,
+            "exclude_non_nernstian": self.exclude_non_nernstian,
+            "reversibility_criteria": dict(self.criteria),
+            "reference": self.reference.to_dict(),
+            "voltammograms": [f.to_dict() for f in self.files],
+            "fit": fit,
+            "scan_rate_studies": [st.to_dict() for st in self.scan_rate_studies],
+            "flags": [f.to_dict() for f in self.flags],
+        }

@@ -1,0 +1,243 @@
+"""Manifest → results: composition of the layers, no mathematics of its own.
+
+``analyse_series`` imports every voltammogram, finds its peaks, screens it for
+reversibility, takes the reference E½(s) from the ligand-free files (or the manifest),
+and fits the titration model to the usable points.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import fields, replace
+from pathlib import Path
+
+import numpy as np
+
+from cvfit.version import __version__
+from cvfit.errors import InputError
+from cvfit.fit.lingane import MIN_POINTS as MIN_FIT_POINTS
+from cvfit.fit.lingane import TitrationPoint, check_points, fit_lingane
+from cvfit.flags import Flag
+from cvfit.io import Manifest, load_manifest
+from cvfit.voltammogram import Voltammogram
+
+from .per_file import LIGAND_EXCESS_MIN, analyse_files
+from .results import FileResult, ReferenceHalfWave, SeriesResult
+from .series_screen import diagnose_files
+
+__all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_EXCESS_MIN"]
+
+
+def analyse_manifest_file(path: str | Path, *, jobs: int = 1) -> SeriesResult:
+    """Load a manifest and analyse its series (*jobs* processes share the files)."""
+    return analyse_series(load_manifest(path), jobs=jobs)
+
+
+def _series_record(manifest: Manifest) -> dict:
+    """The [series] settings as given (every key, JSON-ready), with T in K and the model."""
+    record = {}
+    for f in fields(manifest.series):
+        value = getattr(manifest.series, f.name)
+        record[f.name] = list(value) if isinstance(value, tuple) else value
+    record["temperature_K"] = manifest.series.temperature_K
+    record["model"] = manifest.fit.model
+    return record
+
+
+def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
+    """E½(s): mean of the usable ligand-free files, else the manifest value."""
+    free = [f for f in files if f.ligand_M == 0.0]
+    usable = [f for f in free if f.E_half_V is not None]
+    if usable:
+        values = np.array([f.E_half_V for f in usable], dtype=float)
+        errs = np.array(
+            [
+                np.nan if f.peaks.E_half_stderr_V is None else f.peaks.E_half_stderr_V
+                for f in usable
+            ]
+        )
+        mean = float(values.mean())
+        # Standard error of the mean: from the files' own errors, or from their scatter
+        # when several files disagree by more than those errors say.
+        from_errors = float(np.sqrt(np.nansum(errs**2))) / len(values)
+        if np.any(~np.isfinite(errs)):
+            from_errors = math.nan
+        from_scatter = (
+            float(values.std(ddof=1) / math.sqrt(len(values))) if len(values) > 1 else math.nan
+        )
+        candidates = [x for x in (from_errors, from_scatter) if math.isfinite(x)]
+        stderr = max(candidates) if candidates else None
+        return ReferenceHalfWave(mean, stderr, "file", tuple(f.file for f in usable))
+    if manifest.series.E_half_free_V is not None:
+        return ReferenceHalfWave(
+            manifest.series.E_half_free_V,
+            manifest.series.E_half_free_stderr_V,
+            "manifest",
+        )
+    if free:
+        return ReferenceHalfWave(None, None, "file", tuple(f.file for f in free))
+    raise InputError(
+        "no ligand-free voltammogram (ligand_M = 0) and no E_half_free_V in [series]; "
+        "add one of them so the shift of E½ can be measured",
+        source=str(manifest.path),
+        key="series.E_half_free_V",
+    )
+
+
+def analyse_series(
+    manifest: Manifest,
+    *,
+    records: Mapping[str, Voltammogram] | None = None,
+    jobs: int = 1,
+    progress: Callable[[], object] | None = None,
+) -> SeriesResult:
+    """Analyse one titration series described by a loaded manifest.
+
+    Parameters
+    ----------
+    manifest : Manifest
+        As returned by :func:`cvfit.io.load_manifest` (or built in memory).
+    records : mapping of str to Voltammogram, optional
+        Voltammograms already in memory, keyed by the entries' ``name``; entries not in
+        it are read from their files.
+    jobs : int
+        Processes for the per-file work (import, peaks, screen): 1 runs it all here, more
+        maps the files over a pool of that many workers. The results do not depend on it.
+        Ignored when *records* is given.
+    progress : callable, optional
+        Called once per file analysed (the command line's progress bar).
+
+    Returns
+    -------
+    SeriesResult
+        Per-file peak data, the reversibility verdicts, the reference E½ and the fit
+        (``None`` with a series flag when fewer than three usable points remain).
+    """
+    series = manifest.series
+    titrating = [e for e in manifest.voltammograms if e.ligand_M > 0]
+    if len(titrating) < MIN_FIT_POINTS:
+        raise InputError(
+            f"the manifest lists {len(titrating)} voltammogram(s) with ligand_M > 0; a "
+            f"titration fit needs at least {MIN_FIT_POINTS} — add more [[voltammogram]] tables",
+            source=str(manifest.path),
+            key="voltammogram",
+        )
+    files = analyse_files(manifest, records=dict(records or {}), jobs=jobs, progress=progress)
+    files, studies, study_flags = diagnose_files(files, manifest)
+    reference = _reference(files, manifest)
+    exclude = manifest.fit.exclude_non_nernstian
+    series_flags: list[Flag] = list(study_flags)
+
+    final: list[FileResult] = []
+    points: list[TitrationPoint] = []
+    excluded: list[str] = []
+    for f in files:
+        usable = f.free_ligand_M > 0 and f.E_half_V is not None
+        flags = list(f.flags)
+        if usable and exclude and f.reversible is not True:
+            usable = False
+            excluded.append(f.file)
+            flags.append(
+                Flag(
+                    "EXCLUDED_NON_NERNSTIAN",
+                    "left out of the fit because it failed the reversibility screen "
+                    "(set exclude_non_nernstian = false in [fit] to include it)",
+                    "info",
+                )
+            )
+        if usable:
+            points.append(
+                TitrationPoint(f.file, f.free_ligand_M, f.E_half_V, f.peaks.E_half_stderr_V)
+            )
+        final.append(replace(f, used_in_fit=usable, flags=tuple(flags)))
+
+    nernstian = all(f.reversible is True for f in final)
+    if excluded:
+        series_flags.append(
+            Flag(
+                "FILES_EXCLUDED",
+                f"{len(excluded)} voltammogram(s) failed the reversibility screen and were "
+                f"not fitted: {', '.join(excluded)}",
+            )
+        )
+    if not exclude and not nernstian:
+        bad = [f.file for f in final if f.reversible is not True]
+        series_flags.append(
+            Flag(
+                "FIT_USES_FLAGGED_DATA",
+                "exclude_non_nernstian = false: the constants rest on voltammograms that "
+                f"failed the reversibility screen ({', '.join(bad)}); treat them with caution",
+            )
+        )
+    ref_ok = reference.E_half_V is not None
+    if not ref_ok:
+        series_flags.append(
+            Flag(
+                "NO_REFERENCE_E_HALF",
+                "E½ of the ligand-free couple could not be measured "
+                f"({', '.join(reference.files)}); give E_half_free_V in [series]",
+                "error",
+            )
+        )
+    elif (
+        reference.source == "file"
+        and exclude
+        and any(f.reversible is not True for f in final if f.file in reference.files)
+    ):
+        series_flags.append(
+            Flag(
+                "REFERENCE_NOT_NERNSTIAN",
+                "the ligand-free voltammogram failed the reversibility screen; its E½ is "
+                "used as E½(s) all the same, which may bias every shift",
+            )
+        )
+    if ref_ok and reference.stderr_V is None:
+        series_flags.append(
+            Flag(
+                "REFERENCE_UNCERTAINTY_UNKNOWN",
+                "no standard error for E½(s) (give E_half_free_stderr_V); the fit gives the "
+                "reference the scatter of the titration points instead",
+                "info",
+            )
+        )
+
+    fit = None
+    point_checks = check_points(points)
+    if (
+        ref_ok
+        and manifest.fit.model == "stepwise"
+        and not any(f.severity == "error" for f in point_checks)
+    ):
+        from .stepwise_stage import run_stepwise
+
+        fit, final = run_stepwise(final, manifest, reference)
+    elif ref_ok and not any(f.severity == "error" for f in point_checks):
+        fit = fit_lingane(
+            points,
+            electrons=series.electrons,
+            temperature_K=series.temperature_K,
+            reference_E_half_V=reference.E_half_V,
+            reference_stderr_V=reference.stderr_V,
+        )
+    else:
+        series_flags.extend(point_checks)
+
+    return SeriesResult(
+        cvfit_version=__version__,
+        manifest=str(manifest.path),
+        series=_series_record(manifest),
+        files=tuple(final),
+        reference=reference,
+        fit=fit,
+        nernstian=nernstian,
+        exclude_non_nernstian=exclude,
+        criteria={
+            "n_delta_Ep_margin_V": manifest.reversibility.n_delta_Ep_margin_V,
+            "n_peak_width_margin_V": manifest.reversibility.n_peak_width_margin_V,
+            "current_ratio_margin": manifest.reversibility.current_ratio_margin,
+        },
+        flags=tuple(series_flags),
+        fit_n_points=len(points),
+        scan_rate_studies=studies,
+    )

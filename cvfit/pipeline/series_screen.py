@@ -1,0 +1,217 @@
+"""Pipeline step after the per-file screen: scan-rate studies, class of transfer, k0.
+
+Composition only (the mathematics is in :mod:`cvfit.screen.scan_rate`,
+:mod:`cvfit.screen.classification` and :mod:`cvfit.screen.kinetics`). Used by
+:mod:`cvfit.pipeline.series`.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import replace
+
+import numpy as np
+
+from cvfit.flags import Flag
+from cvfit.quantity import Quantity
+from cvfit.screen.classification import classify_voltammogram
+from cvfit.screen.kinetics import diffusion_from_peak_current, estimate_kinetics
+from cvfit.screen.nicholson import delta_Ep_stderr_V
+from cvfit.screen.scan_rate import (
+    ScanRatePoint,
+    ScanRateStudy,
+    analyse_scan_rate_study,
+    scan_rate_groups,
+)
+
+from .results import FileResult
+
+__all__ = ["diagnose_files"]
+
+def _point(f: FileResult, n: int) -> ScanRatePoint:
+    p, s = f.peaks, f.screen
+    excess = None
+    if p.delta_Ep_V is not None and s.expected_delta_Ep_V is not None:
+        excess = n * (p.delta_Ep_V - s.expected_delta_Ep_V)
+    return ScanRatePoint(
+        f.file,
+        f.scan_rate_V_s,
+        p.forward_height_A,
+        p.noise_A,
+        excess,
+        delta_Ep_stderr_V(p.E_half_stderr_V),
+        p.E_half_V,
+        p.E_half_stderr_V,
+        s.reversible,
+        p.Epc_V if p.first_sweep == "reduction" else p.Epa_V,
+    )
+
+
+def _fail_by_trend(f: FileResult, study: ScanRateStudy) -> FileResult:
+    slope = study.delta_Ep_slope_V_per_decade
+    flag = Flag(
+        "DELTA_EP_GROWS_WITH_SCAN_RATE",
+        f"in the scan-rate study at ligand_M = {study.ligand_M:g} M, n·(ΔEp − ΔEp_N) grows "
+        f"by {1e3 * slope.value:.1f} ± {1e3 * slope.stderr:.1f} mV per decade of v: not "
+        "Nernstian at these scan rates, so this file fails the screen with its study",
+    )
+    screen = replace(f.screen, reversible=False, flags=(*f.screen.flags, flag))
+    # a file that fails the screen carries the plain midpoint (see cvfit.screen.switching)
+    return replace(
+        f,
+        screen=screen,
+        flags=(*f.flags, flag),
+        E_half_V=f.peaks.E_half_V,
+        switching_correction_V=0.0,
+    )
+
+
+def _manifest_D(series: object) -> Quantity | None:
+    D = getattr(series, "diffusion_cm2_s", None)
+    if D is None:
+        return None
+    sd = getattr(series, "diffusion_stderr_cm2_s", None) or 0.0
+    return Quantity(D, sd, (D - 1.96 * sd, D + 1.96 * sd), "manifest")
+
+
+def _file_D(
+    f: FileResult, n: int, T: float, area: float | None, conc: float | None
+) -> Quantity | None:
+    """D from this file's forward peak by Randles–Ševčík, or None if it cannot be had."""
+    ip = f.peaks.forward_height_A
+    if area is None or conc is None or not ip or not f.scan_rate_V_s:
+        return None
+    return diffusion_from_peak_current(
+        ip,
+        ip_stderr_A=f.peaks.noise_A,
+        electrons=n,
+        area_cm2=area,
+        analyte_M=conc,
+        scan_rate_V_s=f.scan_rate_V_s,
+        temperature_K=T,
+    )
+
+
+def _D_from_reversible_files(
+    files: Sequence[FileResult], n: int, T: float, area: float | None, conc: float | None
+) -> Quantity | None:
+    """Mean Randles–Ševčík D of the reversible files, with the larger of the standard
+    error from their scatter and from their own errors; None without area and analyte_M."""
+    if area is None or conc is None:
+        return None
+    values = []
+    errors = []
+    for f in files:
+        q = _file_D(f, n, T, area, conc) if f.reversible is True else None
+        if q is not None:
+            values.append(q.value)
+            errors.append(q.stderr)
+    if not values:
+        return None
+    k = len(values)
+    mean = float(np.mean(values))
+    se = float(np.sqrt(np.sum(np.square(errors)))) / k
+    if k > 1:
+        se = max(se, float(np.std(values, ddof=1)) / math.sqrt(k))
+    return Quantity.from_t(mean, se, k - 1 if k > 1 else math.inf)
+
+
+def diagnose_files(
+    files: Sequence[FileResult], manifest: object
+) -> tuple[tuple[FileResult, ...], tuple[ScanRateStudy, ...], tuple[Flag, ...]]:
+    """Scan-rate studies, then the class and the kinetics of every file.
+
+    Returns the updated file records, the studies and series-level flags.
+    """
+    series = manifest.series  # type: ignore[attr-defined]
+    criteria = manifest.reversibility  # type: ignore[attr-defined]
+    n, T = series.electrons, series.temperature_K
+    area, conc = series.electrode_area_cm2, series.analyte_M
+    out = list(files)
+    studies: list[ScanRateStudy] = []
+    study_of: dict[int, ScanRateStudy] = {}
+    series_flags: list[Flag] = []
+    for idx in scan_rate_groups([f.ligand_M for f in out], [f.scan_rate_V_s for f in out]):
+        st = analyse_scan_rate_study(
+            [_point(out[k], n) for k in idx],
+            ligand_M=out[idx[0]].ligand_M,
+            electrons=n,
+            temperature_K=T,
+            area_cm2=area,
+            analyte_M=conc,
+        )
+        studies.append(st)
+        for k in idx:
+            study_of[k] = st
+            if st.delta_Ep_grows:
+                out[k] = _fail_by_trend(out[k], st)
+        for fl in st.flags:
+            if fl.severity != "info":
+                where = f"scan-rate study at ligand_M = {st.ligand_M:g} M: "
+                series_flags.append(Flag(fl.code, where + fl.message, fl.severity))
+    D_manifest = _manifest_D(series)
+    any_D = next((st for st in studies if st.D_cm2_s is not None and not st.delta_Ep_grows), None)
+    D_reversible = _D_from_reversible_files(out, n, T, area, conc)
+    for k, f in enumerate(out):
+        extra: list[Flag] = []
+        st = study_of.get(k)
+        D, source = D_manifest, "manifest"
+        if D is None and st is not None and st.D_cm2_s is not None and not st.delta_Ep_grows:
+            D, source = st.D_cm2_s, "scan-rate study"
+        if D is None and f.reversible is not True and any_D is not None:
+            # a slow peak's current gives a low D: the series' study is the better estimate
+            D, source = any_D.D_cm2_s, f"scan-rate study at ligand_M = {any_D.ligand_M:g} M"
+            extra.append(
+                Flag(
+                    "D_FROM_OTHER_SOLUTION",
+                    f"k0 uses D from the scan-rate study at ligand_M = {any_D.ligand_M:g} M; "
+                    "complexation may change D (give diffusion_cm2_s to override)",
+                    "info",
+                )
+            )
+        if D is None and f.reversible is not True and D_reversible is not None:
+            # the Randles–Ševčík current of the Nernstian files of the series is unbiased;
+            # a slow peak's own current is not
+            D, source = D_reversible, "reversible files of the series"
+            extra.append(
+                Flag(
+                    "D_FROM_REVERSIBLE_FILES",
+                    f"k0 uses D = {D.value:.3g} ± {D.stderr:.2g} cm²/s from the Randles–Ševčík "
+                    "currents of the series' reversible voltammograms; complexation may change "
+                    "D (give diffusion_cm2_s to override)",
+                    "info",
+                )
+            )
+        if D is None and (own := _file_D(f, n, T, area, conc)) is not None:
+            D, source = own, "peak current"
+            if f.reversible is not True:
+                extra.append(
+                    Flag(
+                        "D_FROM_SLOW_PEAK",
+                        "D from the Randles–Ševčík current of a peak that is not reversible "
+                        "is too low (the current function falls with ψ), and k0 with it",
+                    )
+                )
+        cls = classify_voltammogram(
+            f.peaks, f.screen, electrons=n, temperature_K=T, alpha=series.alpha, criteria=criteria
+        )
+        kin = estimate_kinetics(
+            f.peaks,
+            electrons=n,
+            temperature_K=T,
+            scan_rate_V_s=f.scan_rate_V_s,
+            D_cm2_s=D,
+            D_source=source if D is not None else "",
+            alpha=series.alpha,
+        )
+        if st is not None and st.excess_cause == "ir-drop" and kin.status == "determined":
+            extra.append(
+                Flag(
+                    "K0_DOUBTFUL_IR_DROP",
+                    "the scan-rate study shows the iR signature: this ψ and k0 measure the "
+                    "ohmic drop more than the electron transfer",
+                )
+            )
+        out[k] = replace(f, classification=cls, kinetics=kin, flags=(*f.flags, cls.flag, *extra))
+    return tuple(out), tuple(studies), tuple(series_flags)

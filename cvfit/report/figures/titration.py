@@ -1,0 +1,333 @@
+"""Figures of a series: overlaid voltammograms and the E½ shift against log10[L].
+
+Style of our own: a perceptually uniform colour map (cividis, readable with the common
+colour-vision deficiencies), open markers for points left out of the fit, and curves
+thinned to at most ``MAX_POINTS_DRAWN`` points (thousands of points do not show more).
+"""
+
+from __future__ import annotations
+
+import math
+import textwrap
+from pathlib import Path
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+import numpy as np  # noqa: E402
+from matplotlib import colors as mcolors  # noqa: E402
+from matplotlib.collections import LineCollection  # noqa: E402
+from matplotlib.ticker import FixedLocator, MaxNLocator, NullLocator  # noqa: E402
+from scipy import stats  # noqa: E402
+
+from cvfit.pipeline.curves import (
+    MAX_POINTS_DRAWN,
+    MAX_POINTS_PER_FIGURE,
+    MIN_POINTS_DRAWN,
+    points_per_curve,
+)
+from cvfit.pipeline.results import SeriesResult  # noqa: E402
+from cvfit.report.atomic import atomic_path  # noqa: E402
+
+from .legend_placement import quiet_corner  # noqa: E402
+
+__all__ = [
+    "plot_voltammograms",
+    "plot_lingane",
+    "MAX_POINTS_DRAWN",
+    "MAX_POINTS_PER_FIGURE",
+    "MIN_POINTS_DRAWN",
+    "MAX_CURVES_DRAWN",
+    "COLOUR_MAP",
+]
+
+COLOUR_MAP = "cividis"
+_STYLE = {
+    "font.size": 9,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "axes.grid": True,
+    "grid.alpha": 0.25,
+    "figure.dpi": 110,
+    # no mathtext: a "$" in a user's title is shown as typed, and units are written with
+    # Unicode superscripts (parsing mathtext cost ~50 ms per figure)
+    "text.parse_math": False,
+}
+#: "mol L⁻¹" without mathtext.
+PER_LITRE = "mol L⁻¹"
+
+
+_SUPERSCRIPT_DIGITS = str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def _superscript(k: int) -> str:
+    """``-k`` in Unicode superscripts (``⁻²``)."""
+    return "⁻" + str(k).translate(_SUPERSCRIPT_DIGITS)
+
+
+def _thin(
+    x: np.ndarray, y: np.ndarray, max_points: int = MAX_POINTS_DRAWN
+) -> tuple[np.ndarray, np.ndarray]:
+    step = max(1, math.ceil(x.size / max_points))
+    return x[::step], y[::step]
+
+
+#: zlib level of the PNG files: level 1 writes them ~3x faster than the default 6 for
+#: ~10 % more bytes (flat-coloured plots compress well at any level).
+PNG_COMPRESS_LEVEL = 1
+
+
+#: Average advance of a character as a fraction of the font size (DejaVu Sans, mixed
+#: text), to wrap titles to the figure width without measuring them.
+_CHAR_EM = 0.55
+#: Height of one title line at 9 pt (font size and line spacing), inches.
+_TITLE_LINE_IN = 0.17
+
+
+def _set_title(ax: plt.Axes, text: str, *, fontsize: float = 9.0) -> float:
+    """Set a title wrapped to the figure's width; return the top margin it needs, inches."""
+    width_in = float(ax.figure.get_size_inches()[0])
+    per_line = max(20, int(0.95 * width_in * 72.0 / (_CHAR_EM * fontsize)))
+    lines = textwrap.wrap(text, per_line, break_long_words=True) or [""]
+    # an explicit y: matplotlib then skips measuring every tick label of the axes to
+    # place the title (~20 % of drawing a figure); no axes here has labels on top
+    ax.set_title("\n".join(lines), fontsize=fontsize, y=1.0)
+    return 0.12 + _TITLE_LINE_IN * len(lines) * fontsize / 9.0
+
+
+def _save(
+    fig: plt.Figure, path: Path, *, margins_in: tuple[float, float, float, float] | None = None
+) -> Path:
+    """Write *fig* to *path* atomically and close it.
+
+    ``margins_in = (left, right, bottom, top)`` in inches fixes the space around the axes,
+    sized for our labels, so the figure is drawn once; without it the canvas is cropped
+    to what was drawn (``bbox_inches="tight"``), which costs a second full drawing.
+    """
+    fmt = path.suffix.lstrip(".") or "png"
+    extra: dict = {"pil_kwargs": {"compress_level": PNG_COMPRESS_LEVEL}} if fmt == "png" else {}
+    if margins_in is None:
+        extra["bbox_inches"] = "tight"
+    else:
+        width, height = fig.get_size_inches()
+        left, right, bottom, top = margins_in
+        fig.subplots_adjust(
+            left=left / width,
+            right=1.0 - right / width,
+            bottom=bottom / height,
+            top=1.0 - top / height,
+        )
+    with atomic_path(path) as tmp:
+        fig.savefig(tmp, format=fmt, **extra)
+    plt.close(fig)
+    return path
+
+
+#: Most titration curves overlaid in one figure. Beyond it, curves spread evenly over the
+#: ligand range are drawn and the figure says so: 250 overlaid curves already fill the
+#: band the wave sweeps, and drawing costs ~0.25 ms per curve.
+MAX_CURVES_DRAWN = 250
+
+
+def _curves_drawn(files) -> set[int]:
+    """Indices of the titration curves to draw (all, up to ``MAX_CURVES_DRAWN``)."""
+    titrating = [k for k, f in enumerate(files) if f.ligand_M > 0 and f.curve is not None]
+    if len(titrating) <= MAX_CURVES_DRAWN:
+        return set(titrating)
+    by_ligand = sorted(titrating, key=lambda k: (files[k].ligand_M, k))
+    picks = np.linspace(0, len(by_ligand) - 1, MAX_CURVES_DRAWN).round().astype(int)
+    return {by_ligand[p] for p in np.unique(picks)}
+
+
+def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
+    """Overlay the analysed cycle of every file, coloured by ligand concentration."""
+    path = Path(path)
+    with plt.rc_context(_STYLE):
+        fig, ax = plt.subplots(figsize=(6.4, 4.4))
+        positive = [f.ligand_M for f in result.files if f.ligand_M > 0]
+        cmap = plt.get_cmap(COLOUR_MAP)
+        norm = None
+        if positive:
+            lo, hi = min(positive), max(positive)
+            if hi <= lo:
+                lo, hi = lo / 2, hi * 2
+            norm = mcolors.LogNorm(vmin=lo, vmax=hi)
+        per_curve = points_per_curve(len(result.files))
+        # the titration curves go into one LineCollection (one artist, not one per file);
+        # the ligand-free curves stay lines of their own for the legend
+        segments, ligands, alphas = [], [], []
+        drawn = _curves_drawn(result.files)
+        free_labelled = False
+        for k, f in enumerate(result.files):
+            if f.curve is None:  # a result built without its curves
+                continue
+            if f.ligand_M > 0 and k not in drawn:
+                continue
+            E, i = _thin(f.curve.potential_V, f.curve.current_A, per_curve)
+            alpha = 1.0 if f.reversible is True else 0.55
+            if f.ligand_M > 0 and norm is not None:
+                segments.append(np.column_stack([E, i * 1e6]))
+                ligands.append(f.ligand_M)
+                alphas.append(alpha)
+            else:  # one legend entry for the ligand-free curves, however many
+                label = "no ligand" if f.ligand_M == 0 and not free_labelled else None
+                free_labelled = free_labelled or label is not None
+                ax.plot(E, i * 1e6, color="0.15", lw=1.1, ls="--", alpha=alpha,
+                        label=label)  # fmt: skip
+        if segments:
+            colours = cmap(norm(np.asarray(ligands)))  # one call for all curves
+            colours[:, 3] = alphas
+            ax.add_collection(LineCollection(segments, colors=colours, linewidths=1.1))
+            ax.autoscale_view()
+        ax.set_xlabel(
+            "E / V"
+            + (
+                f" vs {result.series['reference_electrode']}"
+                if result.series.get("reference_electrode")
+                else ""
+            )
+        )
+        ax.set_ylabel("i / µA  (anodic positive)")
+        if norm is not None:
+            sm = plt.cm.ScalarMappable(norm=norm, cmap=cmap)
+            cb = fig.colorbar(sm, ax=ax, pad=0.02)
+            cb.set_label(f"total ligand [L] / {PER_LITRE}")
+            # labelled ticks at 1, 2 and 5 times the powers of ten, plain decimals (the
+            # default log labels need mathtext) and no minor ticks (a dozen tick objects)
+            values = _one_two_five(norm.vmin, norm.vmax)
+            cb.ax.yaxis.set_major_locator(FixedLocator(values))
+            cb.ax.yaxis.set_minor_locator(NullLocator())
+            cb.ax.yaxis.set_ticklabels([f"{v:g}" for v in values])
+        titrating = sum(f.ligand_M > 0 and f.curve is not None for f in result.files)
+        if len(drawn) < titrating:
+            ax.text(0.99, 0.01, f"{len(drawn)} of {titrating} titration curves drawn, evenly "
+                    "over [L]", transform=ax.transAxes, ha="right", va="bottom", fontsize=7,
+                    color="0.3")  # fmt: skip
+        if any(f.ligand_M == 0 for f in result.files):
+            xy = [*segments, *(ln.get_xydata() for ln in ax.get_lines())]
+            if len(drawn) < titrating:  # keep clear of the note in the lower right
+                xy.append(np.array([[ax.get_xlim()[1], ax.get_ylim()[0]]]))
+            xy = np.concatenate(xy) if xy else np.empty((0, 2))
+            ax.legend(loc=quiet_corner(ax, xy[:, 0], xy[:, 1]), frameon=False)
+        top = _set_title(ax, result.series.get("title") or "voltammograms")
+        return _save(fig, path, margins_in=(0.8, 0.35, 0.5, top))
+
+
+def _one_two_five(lo: float, hi: float) -> list[float]:
+    """1, 2 and 5 times the powers of ten within ``[lo, hi]`` (both > 0); at least *lo*
+    and *hi* themselves when the range holds none of them."""
+    values = [
+        m * 10.0**k
+        for k in range(math.floor(math.log10(lo)), math.ceil(math.log10(hi)) + 1)
+        for m in (1.0, 2.0, 5.0)
+    ]
+    inside = [float(f"{v:.12g}") for v in values if lo * (1 - 1e-9) <= v <= hi * (1 + 1e-9)]
+    return inside if len(inside) >= 2 else [lo, hi]
+
+
+def _pair_ticks(ax: plt.Axes, axr: plt.Axes, *, y_bins: int = 8, r_bins: int = 4) -> None:
+    """Tick density of a main panel above a smaller one sharing its x axis."""
+    ax.yaxis.set_major_locator(MaxNLocator(nbins=y_bins))
+    axr.yaxis.set_major_locator(MaxNLocator(nbins=r_bins))
+
+
+def _points_with_bars(
+    ax: plt.Axes,
+    x: np.ndarray,
+    y: np.ndarray,
+    err: np.ndarray,
+    *,
+    color: str,
+    ms: float,
+    filled: bool = True,
+    label: str | None = None,
+) -> None:
+    """Markers with ±err bars and caps in three artists, whatever the number of points.
+
+    ``Axes.errorbar`` makes one path per bar (~0.25 ms each, 50 ms for a 200-file series);
+    here the bars are one line broken by NaN and the caps one line of '_' markers.
+    """
+    x, y, err = (np.asarray(a, dtype=float) for a in (x, y, err))
+    gap = np.full_like(x, np.nan)
+    ax.plot(np.column_stack([x, x, gap]).ravel(),
+            np.column_stack([y - err, y + err, gap]).ravel(), color=color, lw=1.0)  # fmt: skip
+    ax.plot(np.concatenate([x, x]), np.concatenate([y - err, y + err]), ls="none",
+            marker="_", ms=4, mew=1.0, color=color)  # fmt: skip
+    ax.plot(x, y, ls="none", marker="o", ms=ms, color=color,
+            mfc=color if filled else "none", label=label)  # fmt: skip
+
+
+#: Left, right and bottom margins of the half-wave-shift figure, inches.
+_LINGANE_MARGINS_IN = (0.8, 0.2, 0.55)
+
+
+def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
+    """E½(c) − E½(s) against log10[L] with the fitted line, its 95 % band and residuals."""
+    path = Path(path)
+    ref = result.reference.E_half_V
+    with plt.rc_context(_STYLE):
+        fig, (ax, axr) = plt.subplots(
+            2, 1, figsize=(6.0, 5.2), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
+        )
+        pts = [f for f in result.files if f.ligand_M > 0 and f.E_half_V is not None]
+        if ref is None or not pts:
+            ax.text(0.5, 0.5, "no E½ shift could be measured", ha="center", transform=ax.transAxes)
+            _pair_ticks(ax, axr)
+            top = _set_title(ax, result.series.get("title") or "half-wave shift")
+            return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
+        x = np.log10([f.free_ligand_M for f in pts])
+        y = np.array([(f.E_half_V - ref) * 1e3 for f in pts])
+        yerr = np.array([(f.peaks.E_half_stderr_V or 0.0) * 1e3 for f in pts])
+        used = np.array([f.used_in_fit for f in pts])
+        _points_with_bars(
+            ax, x[used], y[used], yerr[used], color="#1f4e79", ms=5, label="used in fit"
+        )
+        if np.any(~used):
+            _points_with_bars(
+                ax,
+                x[~used],
+                y[~used],
+                yerr[~used],
+                color="#b35900",
+                ms=6,
+                filled=False,
+                label="flagged, not fitted",
+            )
+        fit = result.fit
+        if fit is not None:
+            xs = np.linspace(x.min() - 0.1, x.max() + 0.1, 200)
+            b, a = fit.slope_V_per_decade.value, fit.intercept_V.value
+            cov = np.asarray(fit.covariance, dtype=float)
+            line = (a + b * xs) * 1e3
+            var = cov[1, 1] + xs**2 * cov[0, 0] + 2 * xs * cov[0, 1]
+            tq = stats.t.ppf(0.975, fit.dof) if fit.dof > 0 else float("nan")
+            half = tq * np.sqrt(np.clip(var, 0, None)) * 1e3
+            ax.plot(
+                xs,
+                line,
+                color="#1f4e79",
+                lw=1.2,
+                label=f"Lingane line, slope {b * 1e3:.1f} mV/decade",
+            )
+            ax.fill_between(
+                xs,
+                line - half,
+                line + half,
+                color="#1f4e79",
+                alpha=0.15,
+                lw=0,
+                label="95 % band of the line",
+            )
+            res = np.asarray(fit.residuals_V) * 1e3
+            axr.axhline(0, color="0.4", lw=0.8)
+            _points_with_bars(axr, x[used], res, yerr[used], color="#1f4e79", ms=4)
+        axr.set_ylabel("residual / mV")
+        axr.set_xlabel(f"log10([L] / {PER_LITRE})")
+        ax.set_ylabel("E½(c) − E½(s) / mV")
+        _pair_ticks(ax, axr, r_bins=3)
+        shown_x = np.concatenate([x, xs]) if fit is not None else x
+        shown_y = np.concatenate([y, line]) if fit is not None else y
+        ax.legend(loc=quiet_corner(ax, shown_x, shown_y), frameon=False, fontsize=8)
+        top = _set_title(ax, result.series.get("title") or "half-wave shift")
+        return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))

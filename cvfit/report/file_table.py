@@ -1,0 +1,82 @@
+"""Per-file CSV table of peak data and verdicts."""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+from typing import IO
+
+from cvfit.pipeline.results import SeriesResult
+
+from .atomic import atomic_write_with
+
+__all__ = ["TABLE_COLUMNS", "write_file_table"]
+
+#: Columns of the per-file table, with units in the names.
+TABLE_COLUMNS = (
+    "file",
+    "ligand_M",
+    "free_ligand_M",
+    "scan_rate_V_s",
+    "Epc_V",
+    "Epa_V",
+    "E_half_V",
+    "E_half_stderr_V",
+    "delta_Ep_V",
+    "expected_delta_Ep_V",
+    "ipc_A",
+    "ipa_A",
+    "current_ratio",
+    "reversible",
+    "electron_transfer",
+    "psi",
+    "k0_cm_s",
+    "k0_stderr_cm_s",
+    "k0_lower_bound_cm_s",
+    "used_in_fit",
+    "flags",
+)
+
+
+def _kinetics_cells(d: dict) -> dict:
+    """Flatten the per-file classification and kinetics records into table cells."""
+    cls = d.get("classification") or {}
+    kin = d.get("kinetics") or {}
+
+    def value(q: object, key: str = "value") -> object:
+        return q.get(key) if isinstance(q, dict) else q
+
+    return {
+        "electron_transfer": cls.get("kind"),
+        "psi": value(kin.get("psi")),
+        "k0_cm_s": value(kin.get("k0_cm_s")),
+        "k0_stderr_cm_s": value(kin.get("k0_cm_s"), "stderr"),
+        "k0_lower_bound_cm_s": kin.get("k0_lower_bound_cm_s"),
+    }
+
+
+def _cell(value: object) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, float):
+        return f"{value:.10g}"
+    return str(value)
+
+
+def write_file_table(result: SeriesResult, path: str | Path) -> Path:
+    """Write one row per voltammogram (empty cell = not determined)."""
+    path = Path(path)
+
+    def writer(fh: IO[str]) -> None:
+        w = csv.writer(fh, lineterminator="\n")
+        w.writerow(TABLE_COLUMNS)
+        for f in result.files:
+            d = f.to_dict()
+            d["flags"] = " ".join(fl["code"] for fl in d["flags"])
+            d.update(_kinetics_cells(d))
+            w.writerow([_cell(d.get(c)) for c in TABLE_COLUMNS])
+
+    atomic_write_with(path, writer)
+    return path

@@ -1,0 +1,20 @@
+"""Digital simulation of cyclic voltammograms and of whole titration series.
+
+Beside the analysis chain: it produces :class:`cvfit.Voltammogram` records for the tests,
+the demo and the command ``cvfit simulate``.
+
+- :mod:`.voltammogram` — waveform and :func:`simulate_cv`
+- :mod:`.finite_difference` — the time-marching solver (numba when installed, else NumPy)
+- :mod:`.titration_series` — a series of CSV files and its manifest on disk
+"""
+
+from .titration_series import simulate_series, write_voltammogram_csv
+from .voltammogram import Waveform, build_waveform, simulate_cv
+
+__all__ = [
+    "Waveform",
+    "build_waveform",
+    "simulate_cv",
+    "simulate_series",
+    "write_voltammogram_csv",
+]
