@@ -23,6 +23,8 @@ from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_
 from cvfit.report import OUTPUT_NAMES
 from cvfit.report.atomic import atomic_path, atomic_write_text
 
+pytestmark = pytest.mark.slow  # kill runs: deselect with -m 'not slow'
+
 OLD = b"old output, must survive or be replaced whole\n"
 # extra wait after the first temporary file appears, s; several points of the writing phase
 KILL_DELAYS_S = (0.0, 0.05, 0.15, 0.25, 0.35, 0.45)

@@ -135,6 +135,7 @@ def test_charging_current_does_not_bias_ratio():
 @pytest.mark.parametrize(
     ("n", "first", "noise", "switch"), [(1, "reduction", 0.01, 0.35), (2, "oxidation", 0.005, 0.2)]
 )
+@pytest.mark.slow
 def test_E_half_stderr_is_honest(n, first, noise, switch):
     # Monte-Carlo over 50 seeds: the reported standard error matches the scatter (factor 1.5)
     runs = [
@@ -365,6 +366,7 @@ def test_second_cycle_of_a_short_scan():
     assert two.E_half_V == pytest.approx(0.15, abs=0.5e-3)
 
 
+@pytest.mark.slow
 def test_E_half_stderr_is_honest_on_the_second_cycle():
     # Monte-Carlo over 40 seeds: the standard error, which now includes the fitted decay
     # of the sweep before the cycle, matches the scatter (factor 1.5)

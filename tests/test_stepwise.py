@@ -74,6 +74,7 @@ def test_round_trip_recovers_every_constant(truth, L):
         assert q.ci95[0] < q.value < q.ci95[1]
 
 
+@pytest.mark.slow
 def test_number_of_complexes_chosen_right_in_200_noisy_series():
     rng = np.random.default_rng(2024)
     k = thermal_voltage(298.15, 1)
@@ -95,6 +96,7 @@ def test_number_of_complexes_chosen_right_in_200_noisy_series():
     assert right >= 190  # issue 5: right in >= 95 % of 200 series
 
 
+@pytest.mark.slow
 def test_profile_intervals_cover_the_truth_at_about_the_nominal_rate():
     rng = np.random.default_rng(7)
     hits = total = 0

@@ -14,6 +14,8 @@ import pytest
 from cvfit.fit.lingane import TitrationPoint, fit_lingane
 from cvfit.units import nernst_slope_V_per_decade
 
+pytestmark = pytest.mark.slow  # Monte-Carlo runs: deselect with -m 'not slow'
+
 TRIALS = 1000
 BAND = (0.93, 0.97)
 TRUE_RATIO = 4.6  # invented log10(β_ox/β_red)
