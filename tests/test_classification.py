@@ -50,7 +50,8 @@ def test_reversible_and_quasi_reversible(n):
     _, _, c = _classify(n)
     assert c.kind == "reversible" and c.flag.code == "CLASS_REVERSIBLE"
     assert c.flag.severity == "info"
-    # 2.20 RT/nF and 1.857 RT/(αnF) (from memory)
+    # 2.20 RT/nF and 1.857 RT/(αnF) (Nicholson & Shain, Anal. Chem. 36 (1964) 706; Matsuda &
+    # Ayabe, Z. Elektrochem. 59 (1955) 494; from memory)
     rt = GAS_CONSTANT * T / (n * FARADAY)
     assert c.reversible_width_V == pytest.approx(2.20 * rt)
     assert c.irreversible_width_V == pytest.approx(1.857 * rt / 0.5)
@@ -61,7 +62,8 @@ def test_reversible_and_quasi_reversible(n):
 
 
 def test_irreversible_with_and_without_reverse_peak():
-    # ψ = 1e-3: Λ = √π ψ ≈ 1.8e-3 is near 10^-3; ψ = 3e-4 lies below it
+    # Matsuda & Ayabe, Z. Elektrochem. 59 (1955) 494 (from memory): irreversible for
+    # Λ ≤ 10^(−2(1+α)). ψ = 1e-3: Λ = √π ψ ≈ 1.8e-3 is near 10^-3; ψ = 3e-4 lies below it
     _, _, c = _classify(psi=3e-4, switch=1.2)
     assert c.kind == "irreversible", c.reason
     # switch before the reverse wave: no reverse peak, broad forward peak → irreversible

@@ -81,7 +81,7 @@ def test_bad_input_raises_input_error(kw):
 
 
 def test_diffusion_term_of_lingane_equation():
-    # Lingane, Chem. Rev. 29 (1941) 1 (from memory; derivation checked in REFERENCES.md):
+    # Lingane, Chem. Rev. 29 (1941) 1 (from memory; the derivation was re-done by hand):
     # E1/2(c) - E1/2(s) = -(RT/nF) ln(b_ox/b_red) - (p - q)(RT/nF) ln[L]
     #                     + (RT/2nF) ln[(D_O,s D_R,c)/(D_R,s D_O,c)]
     n, L = 2, np.array([0.05, 0.5])

@@ -2,8 +2,10 @@
 
 Reference values:
 - Nicholson & Shain, Anal. Chem. 36 (1964) 706; Bard & Faulkner, Electrochemical Methods 2nd
-  ed., Table 6.2.1 (from memory): n·ΔEp = 60.5, 59.2, 58.3, 57.8, 57.0 mV at n·|Eλ − E½| =
-  71.5, 121.5, 171.5, 271.5 mV and ∞ (25 °C).
+  ed., Wiley (2001), Table 6.2.1 (from memory): n·ΔEp = 60.5, 59.2, 58.3, 57.8, 57.0 mV for a
+  switch 71.5, 121.5, 171.5, 271.5 mV and ∞ beyond the forward PEAK (= 100, 150, 200, 300 mV
+  beyond E½), 25 °C. TABLE below reads the offsets as n·|Eλ − E½|, as the code does: a known
+  mislabelling, left to the issue on scientific corrections.
 - |Ep − Ep/2| = 2.20 RT/nF for a reversible peak (Nicholson & Shain 1964, from memory).
 - Nicholson, Anal. Chem. 37 (1965) 1351: ψ = k0/(π D n F v/RT)^1/2; ψ = 0.5 gives n·ΔEp ≈ 105 mV
   (Bard & Faulkner Table 6.5.2, from memory).
@@ -32,13 +34,14 @@ TABLE = [(0.0715, 0.0605), (0.1215, 0.0592), (0.1715, 0.0583), (0.2715, 0.0578)]
 @pytest.mark.parametrize("n", [1, 2])
 @pytest.mark.parametrize(("n_offset_V", "n_delta_V"), TABLE)
 def test_nernstian_delta_Ep_reproduces_table(n, n_offset_V, n_delta_V):
-    # Nicholson & Shain 1964; Bard & Faulkner Table 6.2.1 (from memory)
+    # Nicholson & Shain, Anal. Chem. 36 (1964) 706; Bard & Faulkner 2nd ed. Table 6.2.1 (from
+    # memory); offsets read from E½ (mislabelled, see the module docstring)
     got = nernstian_delta_Ep_V(switching_offset_V=n_offset_V / n, electrons=n)
     assert n * got == pytest.approx(n_delta_V, abs=1e-6)
 
 
 def test_nernstian_delta_Ep_limit_and_monotonic():
-    # far switch: 57.0 mV/n (Nicholson & Shain 1964, from memory)
+    # far switch: 57.0 mV/n (Nicholson & Shain, Anal. Chem. 36 (1964) 706, from memory)
     assert nernstian_delta_Ep_V(switching_offset_V=100.0) == pytest.approx(0.0570, abs=5e-6)
     offsets = [0.08, 0.1, 0.15, 0.2, 0.25, 0.3, 0.4, 0.6, 1.0]
     values = [nernstian_delta_Ep_V(switching_offset_V=x) for x in offsets]
@@ -66,7 +69,8 @@ def test_nernstian_delta_Ep_below_table_is_clamped():
 
 
 def _psi_k0(psi: float, n: int, D: float = 1e-5, v: float = 0.1) -> float:
-    # Nicholson 1965: ψ = k0 / (π D n F v / RT)^1/2 with equal diffusion coefficients
+    # Nicholson, Anal. Chem. 37 (1965) 1351 (from memory): ψ = k0 / (π D n F v / RT)^1/2 with
+    # equal diffusion coefficients
     return psi * math.sqrt(math.pi * D * n * FARADAY * v / (GAS_CONSTANT * 298.15))
 
 
@@ -94,14 +98,15 @@ def test_reversible_simulations_pass(n, noise):
         screen = screen_reversibility(peaks, electrons=n, temperature_K=298.15)
         assert screen.reversible is True, [f.message for f in screen.flags]
         assert screen.flags == ()
-        # 2.20 RT/nF (Nicholson & Shain 1964, from memory): 56.5/n mV at 25 °C
+        # 2.20 RT/nF (Nicholson & Shain, Anal. Chem. 36 (1964) 706, from memory): 56.5/n mV
         assert screen.expected_peak_width_V == pytest.approx(0.0565 / n, abs=1e-4)
         assert 0.0570 / n < screen.expected_delta_Ep_V < 0.0583 / n
 
 
 @pytest.mark.parametrize("n", [1, 2])
 def test_quasi_reversible_is_flagged_with_numbers(n):
-    # ψ = 0.5 → n·ΔEp ≈ 105 mV (Nicholson 1965; Bard & Faulkner Table 6.5.2, from memory)
+    # ψ = 0.5 → n·ΔEp ≈ 105 mV (Nicholson, Anal. Chem. 37 (1965) 1351; Bard & Faulkner 2nd ed.
+    # Table 6.5.2, from memory)
     peaks = analyse_peaks(_sim(n, noise=0.005, seed=5, k0=_psi_k0(0.5, n)), electrons=n)
     assert n * peaks.delta_Ep_V == pytest.approx(0.105, abs=0.008)
     screen = screen_reversibility(peaks, electrons=n, temperature_K=298.15)
@@ -190,7 +195,8 @@ def test_switch_too_close_is_flagged_and_delta_not_tested():
 
 
 def test_only_forward_peak_uses_forward_E_half_and_can_still_fail():
-    # E½ from the forward peak: Epc + 1.109 RT/nF (Nicholson & Shain 1964, from memory)
+    # E½ from the forward peak: Epc + 1.109 RT/nF (Nicholson & Shain, Anal. Chem. 36 (1964)
+    # 706, from memory)
     p = _peaks(
         Epa_V=None,
         ipa_A=None,
@@ -221,8 +227,9 @@ def test_screen_record_validates_and_serialises():
 
 @pytest.mark.parametrize(("n", "T"), [(1, 278.15), (2, 330.0)])
 def test_reversible_simulation_passes_at_other_temperatures(n, T):
-    # Nernstian n·ΔEp scales with T/298.15 K (57–58 mV at 25 °C, Nicholson & Shain 1964, from
-    # memory): a reversible couple at 5 °C or 57 °C must pass with the scaled criteria
+    # Nernstian n·ΔEp scales with T/298.15 K (57–58 mV at 25 °C, Nicholson & Shain, Anal. Chem.
+    # 36 (1964) 706, from memory): a reversible couple at 5 °C or 57 °C must pass with the
+    # scaled criteria
     v = simulate_cv(
         E_half_V=0.1,
         start_V=0.32,

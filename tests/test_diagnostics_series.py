@@ -25,7 +25,7 @@ D = 1e-5
 
 
 def _k0(psi, n, v=0.1):
-    # Nicholson 1965 (from memory): ψ = k0 / (π D n F v / RT)^1/2
+    # Nicholson, Anal. Chem. 37 (1965) 1351 (from memory): ψ = k0 / (π D n F v / RT)^1/2
     return psi * math.sqrt(math.pi * D * n * FARADAY * v / (GAS_CONSTANT * T))
 
 
@@ -184,7 +184,9 @@ def test_scan_rate_study_gives_D_and_k0_in_results(tmp_path):
     (st,) = result.scan_rate_studies
     assert st.ligand_M == 0.0 and len(st.files) == len(RATES) + 1  # with t00.csv
     assert st.log_log_slope.value == pytest.approx(0.5, abs=0.02)
-    assert st.D_cm2_s.value == pytest.approx(D, rel=0.03)  # Randles–Ševčík slope
+    # D from the Randles–Ševčík slope (Randles, Trans. Faraday Soc. 44 (1948) 327; Ševčík,
+    # Collect. Czech. Chem. Commun. 13 (1948) 349; confirmed)
+    assert st.D_cm2_s.value == pytest.approx(D, rel=0.03)
     assert not st.delta_Ep_grows
     slow = result.files[len(LIGAND_M) - 1]
     assert slow.kinetics.D_source.startswith("scan-rate study")

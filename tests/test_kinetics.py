@@ -38,7 +38,8 @@ D_EXACT = Quantity(D, 0.0, (D, D))
 
 
 def _k0(psi: float, n: int) -> float:
-    # Nicholson 1965 (from memory): ψ = k0 / (π D n F v / RT)^1/2, equal D
+    # Nicholson, Anal. Chem. 37 (1965) 1351 (from memory): ψ = k0 / (π D n F v / RT)^1/2,
+    # equal D
     return psi * math.sqrt(math.pi * D * n * FARADAY * V / (GAS_CONSTANT * T))
 
 
@@ -71,7 +72,8 @@ def _sim(n, psi, *, noise, seed, switch="table", alpha=0.5):
 
 def test_table_interpolation_reproduces_table_and_refuses_outside():
     for psi, x_mV in PSI_TABLE:
-        # Nicholson 1965 table (from memory)
+        # Nicholson, Anal. Chem. 37 (1965) 1351, table for α = 0.5 (from memory). Circular:
+        # PSI_TABLE is the code's own copy, so only the interpolation is checked here.
         assert psi_from_table(x_mV * 1e-3) == pytest.approx(psi, rel=1e-9)
     assert psi_from_table(0.0605) is None and psi_from_table(0.213) is None
     # monotonic between entries (log-ψ interpolation)
@@ -86,14 +88,16 @@ def test_lavagnini_inside_range_only():
     for psi, x_mV in PSI_TABLE:
         got = psi_lavagnini(x_mV * 1e-3)
         if 63 <= x_mV <= 141:
-            # Lavagnini et al. 2004 (from memory): within ~7 % of the table
+            # Lavagnini, Antiochia & Magno, Electroanalysis 16 (2004) 505 (from memory):
+            # within ~7 % of Nicholson's table (the code's copy, PSI_TABLE)
             assert got == pytest.approx(psi, rel=0.08)
         else:
             assert got is None  # 61 and 212 mV: ~30 % off; pole at 58.8 mV
 
 
 def test_klingler_kochi_joins_the_table_at_its_end():
-    # at n·ΔEp = 212 mV the table gives ψ = 0.1; Klingler–Kochi (from memory) agrees to ~15 %
+    # at n·ΔEp = 212 mV the table gives ψ = 0.1 (Nicholson, Anal. Chem. 37 (1965) 1351);
+    # Klingler & Kochi, J. Phys. Chem. 85 (1981) 1731 (from memory) agrees to ~15 %
     k_kk = k0_klingler_kochi_cm_s(0.212, D_cm2_s=D, scan_rate_V_s=V, electrons=1)
     k_tab = k0_from_psi_cm_s(0.1, D_cm2_s=D, scan_rate_V_s=V, electrons=1)
     assert k_kk == pytest.approx(k_tab, rel=0.15)
@@ -186,7 +190,9 @@ def test_k0_uncertainty_includes_D_and_records_validate():
 
 
 def test_diffusion_from_reversible_peak_current():
-    # Randles 1948 / Ševčík 1948; Nicholson & Shain 1964: ip = 0.4463 nFAC (nFvD/RT)^1/2
+    # Randles, Trans. Faraday Soc. 44 (1948) 327; Ševčík, Collect. Czech. Chem. Commun. 13
+    # (1948) 349; Nicholson & Shain, Anal. Chem. 36 (1964) 706 (confirmed):
+    # ip = 0.4463 nFAC (nFvD/RT)^1/2
     v = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=-0.3, noise_fraction=0.002, seed=7)
     p = analyse_peaks(v)
     q = diffusion_from_peak_current(

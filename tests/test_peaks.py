@@ -4,8 +4,10 @@ Reference values:
 - Randles–Ševčík peak current, ip = 0.4463 nFAC (nFvD/RT)^1/2 (Nicholson & Shain, Anal. Chem.
   36 (1964) 706), computed by cvfit.simulate.voltammogram.randles_sevcik_peak_current_A.
 - Reversible E½ is the midpoint of Epa and Epc; the midpoint moves by (ΔEp − 57.0/n mV)/2
-  with the switching potential (Nicholson & Shain 1964, from memory), ≤ 0.3 mV for the
-  switches used here.
+  with the switching potential (Nicholson & Shain, Anal. Chem. 36 (1964) 706, from memory),
+  ≤ 0.3 mV for the switches used here. Their table's switch offsets are measured from the
+  forward PEAK; the comments below quote them as n·|Eλ − E½| as the code reads them (a known
+  mislabelling, left to the issue on scientific corrections).
 - Nicholson, Anal. Chem. 38 (1966) 1406: ipa/ipc = (ipa)0/ipc + 0.485 (isp)0/ipc + 0.086
   gives 1.00 ± 0.02 on reversible CVs (from memory).
 """
@@ -80,7 +82,8 @@ def test_E_half_within_half_mV(accuracy_runs, n, first):
 
 @pytest.mark.parametrize(("n", "first"), CASES)
 def test_forward_peak_height_against_randles_sevcik(accuracy_runs, n, first):
-    # Randles–Ševčík (Nicholson & Shain 1964): 0.4463 nFAC(nFvD/RT)^1/2, within 2 %
+    # Randles–Ševčík (Nicholson & Shain, Anal. Chem. 36 (1964) 706; confirmed):
+    # 0.4463 nFAC(nFvD/RT)^1/2, within 2 %
     ip = _rs(n)
     for p in accuracy_runs[n, first]:
         height = p.ipc_A if first == "reduction" else p.ipa_A
@@ -89,9 +92,10 @@ def test_forward_peak_height_against_randles_sevcik(accuracy_runs, n, first):
 
 @pytest.mark.parametrize(("n", "first"), CASES)
 def test_peak_potentials_and_separation(accuracy_runs, n, first):
-    # Nicholson & Shain 1964 (from memory): Ep − E½ = ∓1.109 RT/nF = ∓28.5/n mV; n·ΔEp lies
-    # between 57.8 mV (n·|Eλ − E½| = 271.5 mV) and 57.0 mV (∞) for these switches (Bard &
-    # Faulkner Table 6.2.1, from memory); |Ep − Ep/2| = 2.20 RT/nF = 56.5/n mV
+    # Nicholson & Shain, Anal. Chem. 36 (1964) 706 (from memory): Ep − E½ = ∓1.109 RT/nF =
+    # ∓28.5/n mV; n·ΔEp lies between 57.8 mV (offset 271.5 mV, read from E½, see the module
+    # docstring) and 57.0 mV (∞) for these switches (Bard & Faulkner, Electrochemical Methods,
+    # 2nd ed. (2001), Table 6.2.1, from memory); |Ep − Ep/2| = 2.20 RT/nF = 56.5/n mV
     for p in accuracy_runs[n, first]:
         assert p.Epc_V - E_HALF == pytest.approx(-0.0285 / n, abs=1.0e-3)
         # Epa moves outwards by up to 0.8/n mV for these switches (same table)
@@ -113,7 +117,8 @@ def test_noise_estimate_matches_simulated_noise(accuracy_runs):
 @pytest.mark.parametrize("n", [1, 2])
 @pytest.mark.parametrize("n_offset_V", [0.15, 0.2, 0.3])
 def test_current_ratio_is_one_for_reversible(n, n_offset_V):
-    # Nicholson 1966 (from memory): 1.00 ± 0.02 on reversible CVs for various switches
+    # Nicholson, Anal. Chem. 38 (1966) 1406 (from memory): 1.00 ± 0.02 on reversible CVs for
+    # various switches
     first = "reduction" if n_offset_V != 0.2 else "oxidation"
     v = _sim(n, first, 0.25 / n, n_offset_V / n, noise=0.002, seed=11)
     p = analyse_peaks(v, electrons=n)
@@ -321,7 +326,8 @@ def test_later_cycles_E_half_and_delta_Ep_with_noise(later_runs, n, first):
     # ΔEp of cycles 2 and 3 within 1 mV (n = 1) of cycle 1's, on average over the seeds
     dEp = np.array([[n * p.delta_Ep_V for p in runs] for runs in later_runs[n, first]])
     assert np.all(np.abs(dEp.mean(axis=0)[1:] - dEp.mean(axis=0)[0]) < 1.0e-3)
-    # Nicholson & Shain 1964 (from memory): n·ΔEp between 57.0 and 57.8 mV for these switches
+    # Nicholson & Shain, Anal. Chem. 36 (1964) 706 (from memory): n·ΔEp between 57.0 and
+    # 57.8 mV for these switches
     assert np.all((0.0555 < dEp) & (dEp < 0.0600))
 
 

@@ -96,7 +96,7 @@ def test_results_json_and_manifest_follow_their_schemas(dialect_series):
     validate(data, "results.schema.json")
     with open(manifest, "rb") as fh:
         validate(tomllib.load(fh), "series.schema.json")
-    # contract keys of DESIGN.md
+    # contract keys of results.json (schemas/results.schema.json, docs/design.md)
     v0 = data["voltammograms"][1]
     for key in (
         "file",
@@ -131,7 +131,8 @@ def test_two_electron_series(tmp_path):
         tmp_path, electrons=2, seed=40, dialects=("tab_mV_uA", "semicolon_decimal_comma")
     )
     result = analyse_series(load_manifest(manifest))
-    # slope -59.16 (p - q)/n mV/decade (REFERENCES.md [calc]) is recovered as p - q = 1
+    # Lingane, Chem. Rev. 29 (1941) 1 (from memory): slope -59.16 (p - q)/n mV/decade
+    # (ln10·RT/F calculated from CODATA 2018 R and F) is recovered as p - q = 1
     assert abs(result.fit.delta_ligands.value - 1) < 0.05
     assert abs(result.fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) < 0.03
 

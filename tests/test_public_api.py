@@ -9,7 +9,8 @@ def test_every_public_name_resolves():
 
 
 def test_python_api_round_trip():
-    # Randles-Sevcik (Nicholson & Shain, Anal. Chem. 36 (1964) 706): 0.4463 nFAC(nFvD/RT)^1/2
+    # Randles-Sevcik (Nicholson & Shain, Anal. Chem. 36 (1964) 706; confirmed):
+    # 0.4463 nFAC(nFvD/RT)^1/2
     v = cvfit.simulate_cv(E_half_V=0.05, start_V=0.35, switch_V=-0.35)
     p = cvfit.analyse_peaks(v)
     assert abs(p.E_half_V - 0.05) < 0.5e-3

@@ -82,7 +82,8 @@ def reversible():
 @pytest.mark.parametrize("seed", [0, 1])
 def test_reversible_study_slope_D_and_no_trend(reversible, n, seed):
     pts, st = reversible[(n, seed)]
-    # Randles–Ševčík: slope 0.50 ± 0.02 and its interval holds 0.5
+    # Randles, Trans. Faraday Soc. 44 (1948) 327; Ševčík, Collect. Czech. Chem. Commun. 13
+    # (1948) 349 (confirmed): ip ∝ v^1/2, slope 0.50 ± 0.02 and its interval holds 0.5
     assert st.log_log_slope.value == pytest.approx(0.5, abs=0.02)
     lo, hi = st.log_log_slope.ci95
     assert lo <= 0.5 <= hi
@@ -151,14 +152,16 @@ def test_groups_and_working_curve():
     assert scan_rate_groups([0.0] * 3, [0.1, 0.102, 0.5]) == []  # two distinct rates only
     assert scan_rate_groups([0.0] * 3, [0.1, None, 0.5]) == []
     psi = np.array([p for p, _ in PSI_TABLE])
-    # Nicholson 1965 table (from memory) reproduced
+    # Nicholson, Anal. Chem. 37 (1965) 1351, table (from memory) reproduced. Circular:
+    # PSI_TABLE is the code's own copy of the table.
     assert np.allclose(working_curve_n_delta_Ep_V(psi) * 1e3, [x for _, x in PSI_TABLE])
     tail = working_curve_n_delta_Ep_V(np.array([1e3, 0.05, 0.01]))
     assert 0.0592 < tail[0] < 0.0593 and tail[1] > 0.212 and tail[2] > tail[1]
 
 
 def test_no_false_trend_on_reversible_studies():
-    # a Nernstian ΔEp does not move with v (Nicholson & Shain 1964): 30 studies, noise 0.2–1 %
+    # a Nernstian ΔEp does not move with v (Nicholson & Shain, Anal. Chem. 36 (1964) 706, from
+    # memory): 30 studies, noise 0.2–1 %
     studies = [
         _study(n=1 + s % 2, seed=200 + s, noise=(0.002, 0.005, 0.01)[s % 3])[1] for s in range(30)
     ]
@@ -166,7 +169,8 @@ def test_no_false_trend_on_reversible_studies():
 
 
 def test_irreversible_study_gives_alpha_n_from_the_peak_shift():
-    # Matsuda & Ayabe 1955; Nicholson & Shain 1964 (from memory): Ep moves 29.6/(αn) mV per
+    # Matsuda & Ayabe, Z. Elektrochem. 59 (1955) 494; Nicholson & Shain, Anal. Chem. 36
+    # (1964) 706 (from memory): Ep moves 29.6/(αn) mV per
     # decade of v for a totally irreversible wave
     pts = []
     for j, v in enumerate(RATES):

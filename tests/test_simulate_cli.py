@@ -158,7 +158,8 @@ def test_series_with_complexed_diffusion_coefficients(tmp_path):
     tables = [np.loadtxt(tmp_path / e["file"], delimiter=",", skiprows=1) for e in entries]
     ipc = [-t[:, 2].min() for t in tables]
     D_eff = (1e-5 + 0.5e-5 * 1e3) / (1 + 1e3)  # mole-fraction mean at beta[L] = 1000
-    # Randles-Sevcik: ip proportional to D_O^1/2 (Nicholson & Shain 1964)
+    # Randles-Sevcik: ip proportional to D_O^1/2 (Nicholson & Shain, Anal. Chem. 36 (1964) 706;
+    # confirmed)
     assert ipc[1] / ipc[0] == pytest.approx(np.sqrt(D_eff / 1e-5), rel=2e-3)
     E_half = complexed_half_wave_V(0.0, ligand_M=0.1, log10_beta_ox=[4.0], D_ox_cm2_s=1e-5,
                                    D_ox_complexed_cm2_s=0.5e-5)  # fmt: skip

@@ -27,7 +27,8 @@ L = np.logspace(-3, 0, 12)
 
 
 def test_leden_functions_follow_the_published_recursion():
-    # Leden, Z. Phys. Chem. A188 (1941) 160 (from memory): F1 = (F0 - 1)/[L] = β1 + β2[L] + β3[L]²,
+    # Leden, Z. Phys. Chem. A188 (1941) 160 (from memory):
+    # F1 = (F0 - 1)/[L] = β1 + β2[L] + β3[L]²,
     # F2 = (F1 - β1)/[L] = β2 + β3[L], F3 = β3.
     b = 10.0 ** np.array(BETA)
     F0, F1, F2, F3 = leden_F_functions(L, leden_F0(L, BETA), BETA, order=3)
@@ -51,7 +52,8 @@ def test_deford_hume_F0_from_shift_and_current_ratio():
 
 
 def test_fractions_sum_to_one_and_mean_ligand_number_is_dlnF0_dlnL():
-    # Bjerrum (1941); DeFord & Hume (1951): n̄ = d ln F0 / d ln[L] (from memory).
+    # Bjerrum, Metal Ammine Formation in Aqueous Solution, Haase, Copenhagen (1941); DeFord &
+    # Hume, J. Am. Chem. Soc. 73 (1951) 5321: n̄ = d ln F0 / d ln[L] (from memory).
     a = species_fractions(L, BETA)
     np.testing.assert_allclose(a.sum(axis=0), 1.0, rtol=1e-12)
     h = 1e-5
@@ -70,8 +72,9 @@ def test_fraction_of_an_intermediate_complex_peaks_where_nbar_equals_j():
 
 
 def test_silver_ammine_standard_potential():
-    # CRC Handbook electrochemical series / Smith & Martell, Critical Stability Constants
-    # (from memory): E°(Ag+/Ag) = 0.7996 V, log β2(Ag(NH3)2+) = 7.21 → E° = 0.373 V.
+    # CRC Handbook of Chemistry and Physics, electrochemical series / Smith & Martell,
+    # Critical Stability Constants, Plenum, New York (from memory): E°(Ag+/Ag) = 0.7996 V,
+    # log β2(Ag(NH3)2+) = 7.21 → E° = 0.373 V.
     E = complex_standard_potential_V(0.7996, log10_beta_ox=7.21, electrons=1)
     assert E == pytest.approx(0.373, abs=0.002)
     # The same through the Leden function at unit ligand concentration (β1 negligible here).
@@ -80,7 +83,8 @@ def test_silver_ammine_standard_potential():
 
 
 def test_fraction_unprotonated_against_explicit_acid_constants():
-    # Ringbom, Complexation in Analytical Chemistry (1963): α_L = Ka1Ka2/([H]² + Ka1[H] + Ka1Ka2)
+    # Ringbom, Complexation in Analytical Chemistry, Interscience, New York (1963):
+    # α_L = Ka1Ka2/([H]² + Ka1[H] + Ka1Ka2)
     # for H2L with pKa1 < pKa2 (dissociation constants, from memory).
     pKa = (9.2, 6.1)
     for pH in (4.0, 6.1, 7.0, 9.2, 12.0):
@@ -106,7 +110,8 @@ def test_mass_balance_closes():
 
 
 def test_davies_check_values():
-    # Davies, Ion Association (1962) p. 41, A = 0.509 (REFERENCES.md, calculated):
+    # Davies, C. W. Ion Association, Butterworths, London (1962) p. 41 (confirmed):
+    # log γ = −A z² [√I/(1 + √I) − 0.3 I], A = 0.509 at 25 °C; values calculated from it:
     # I = 0.1 M → γ(1) = 0.7816, γ(2) = 0.3732, γ(3) = 0.1089.
     for z, g in ((1, 0.7816), (2, 0.3732), (3, 0.1089)):
         assert 10.0 ** davies_log10_gamma(z, 0.1) == pytest.approx(g, abs=5e-5)

@@ -184,8 +184,9 @@ def test_free_ligand_self_consistent_with_low_excess():
 
 
 def test_silver_ammine_from_a_fitted_series():
-    # Smith & Martell, Critical Stability Constants (from memory): Ag+–NH3 log β1 ≈ 3.31,
-    # log β2 ≈ 7.21; CRC Handbook (from memory): E°(Ag+/Ag) = 0.7996 V,
+    # Smith & Martell, Critical Stability Constants, Plenum, New York (from memory): Ag+–NH3
+    # log β1 ≈ 3.31, log β2 ≈ 7.21; CRC Handbook of Chemistry and Physics, electrochemical
+    # series (from memory): E°(Ag+/Ag) = 0.7996 V,
     # E°(Ag(NH3)2+/Ag) = 0.373 V. Silver deposition: reduced form not complexed.
     rng = np.random.default_rng(1)
     L = np.logspace(-4.5, -1.0, 12)

@@ -50,8 +50,9 @@ def codes(result):
 
 @pytest.mark.parametrize("electrons, delta", [(1, 1), (1, 2), (2, 1), (2, 3)])
 def test_noise_free_slope_and_constants(electrons, delta):
-    # REFERENCES.md [calc]: ln(10)·RT/F = 59.159 mV per decade at 298.15 K, so the
-    # Lingane slope is −59.16 (p − q)/n mV/decade (Lingane, Chem. Rev. 29 (1941) 1).
+    # ln(10)·RT/F = 59.159 mV per decade at 298.15 K (calculated, CODATA 2018 R and F), so the
+    # Lingane slope is −59.16 (p − q)/n mV/decade (Lingane, Chem. Rev. 29 (1941) 1, from
+    # memory).
     L = np.logspace(-3.0, -1.0, 7)
     E = lingane_E_half(L, log10_ratio=4.3, delta=delta, electrons=electrons)
     r = fit(points(L, E), electrons=electrons, ref_sd=0.0)
@@ -171,7 +172,8 @@ def test_reference_uncertainty_enters_intercept_only():
 
 
 def test_covariance_matches_closed_form_ols():
-    # Ordinary least squares, Draper & Smith, Applied Regression Analysis (1998), ch. 1.
+    # Ordinary least squares, Draper & Smith, Applied Regression Analysis, 3rd ed., Wiley
+    # (1998), ch. 1 (from memory).
     rng = np.random.default_rng(11)
     L = np.logspace(-3, -1, 6)
     E = lingane_E_half(L, log10_ratio=2.0, delta=1, electrons=1) + rng.normal(0, 1e-3, 6)
@@ -405,7 +407,7 @@ def test_to_dict_is_json_with_contract_keys():
     r = fit(points(L, E, 1e-3), ref_sd=1e-3)
     assert isinstance(r, LinganeFit)
     d = json.loads(json.dumps(r.to_dict(), allow_nan=False))
-    # DESIGN.md results.json "fit" contract
+    # the results.json "fit" contract (schemas/results.schema.json)
     for key in ("slope_V_per_decade", "intercept_V", "delta_ligands", "log10_beta_ratio"):
         assert set(d[key]) == {"value", "stderr", "ci95"}
         lo, hi = d[key]["ci95"]

@@ -1,4 +1,4 @@
-"""The TOML manifest of a titration series (see DESIGN.md, "Manifest").
+"""The TOML manifest of a titration series (``schemas/series.schema.json``, ``docs/manifest.md``).
 
 :func:`load_manifest` reads it with :mod:`tomllib`, rejects unknown keys by name (with the
 closest valid spelling), checks every value and returns frozen records. Error messages

@@ -1,7 +1,8 @@
 """Plain result records of a series analysis and their results.json form.
 
 The records are frozen and carry everything the reports need; ``to_dict`` gives the
-results.json contract of DESIGN.md (NaN and missing values become ``null``).
+results.json contract (``schemas/results.schema.json``, ``docs/design.md``; NaN and
+missing values become ``null``).
 """
 
 from __future__ import annotations

@@ -1,8 +1,8 @@
 """The method, its published sources, its assumptions and the laboratory cautions, as text.
 
-One place for the words the HTML report prints (plain text; the report escapes it). The
-README's *Methods and their sources* and *Laboratory cautions* sections say the same at more
-length; change both together.
+One place for the words the HTML report prints (plain text; the report escapes it).
+``docs/methods.md`` and the README's *Laboratory cautions* say the same at more length;
+change them together.
 """
 
 from __future__ import annotations
