@@ -7,13 +7,14 @@ results.json contract of DESIGN.md (NaN and missing values become ``null``).
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, TypeAlias
 
+from cvfit.fit.lingane import LinganeFit, null_fit_dict
+from cvfit.fit.stepwise_result import StepwiseFit, null_stepwise_dict
 from cvfit.flags import Flag
 from cvfit.quantity import clean_number
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
-    from cvfit.fit.lingane import LinganeFit
     from cvfit.peaks.analysis import PeakAnalysis
     from cvfit.screen.classification import Classification
     from cvfit.screen.kinetics import KineticsResult
@@ -22,7 +23,15 @@ if TYPE_CHECKING:  # imported for annotations only; keeps this module free of he
 
     from .curves import CycleCurve
 
-__all__ = ["FileResult", "ReferenceHalfWave", "SeriesResult", "clean_number"]
+__all__ = ["FileResult", "ReferenceHalfWave", "SeriesResult", "TitrationFit", "clean_number"]
+
+#: The fit of a titration series: one type per model (``[fit] model`` of the manifest).
+#: Consumers tell them apart with ``isinstance``.
+TitrationFit: TypeAlias = LinganeFit | StepwiseFit
+
+#: results.json ``fit`` record of a series that could not be fitted, by model: the keys of
+#: that model's fit with null constants.
+_NULL_FIT_DICT = {"lingane": null_fit_dict, "stepwise": null_stepwise_dict}
 
 
 @dataclass(frozen=True)
@@ -166,9 +175,10 @@ class SeriesResult:
     files : tuple of FileResult
         One per voltammogram, in manifest order.
     reference : ReferenceHalfWave
-    fit : LinganeFit or None
-        None when no fit could be made (see ``flags``); results.json then carries the
-        fit's keys with null constants.
+    fit : LinganeFit, StepwiseFit or None
+        The fit of the model asked for (:data:`TitrationFit`); None when no fit could be
+        made (see ``flags``): results.json then carries that model's fit keys with null
+        constants.
     nernstian : bool
         False when any voltammogram failed (or could not pass) the reversibility screen.
     exclude_non_nernstian : bool
@@ -188,7 +198,7 @@ class SeriesResult:
     series: dict[str, Any]
     files: tuple[FileResult, ...]
     reference: ReferenceHalfWave
-    fit: LinganeFit | None
+    fit: TitrationFit | None
     nernstian: bool
     exclude_non_nernstian: bool
     criteria: dict[str, float]
@@ -200,12 +210,8 @@ class SeriesResult:
         if self.fit is not None:
             fit = self.fit.to_dict()
         else:
-            from cvfit.fit.lingane import null_fit_dict
-
             why = [f for f in self.flags if f.severity == "error"]
-            if self.series.get("model") == "stepwise":
-                from cvfit.fit.stepwise_result import null_stepwise_dict as null_fit_dict
-            fit = null_fit_dict(self.fit_n_points, why)
+            fit = _NULL_FIT_DICT[self.series["model"]](self.fit_n_points, why)
         return {
             "cvfit_version": self.cvfit_version,
             "manifest": self.manifest,

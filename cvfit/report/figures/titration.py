@@ -21,6 +21,7 @@ from matplotlib.collections import LineCollection  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator, NullLocator  # noqa: E402
 from scipy import stats  # noqa: E402
 
+from cvfit.fit.lingane import LinganeFit  # noqa: E402
 from cvfit.pipeline.curves import (
     MAX_POINTS_DRAWN,
     MAX_POINTS_PER_FIGURE,
@@ -294,7 +295,7 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
                 filled=False,
                 label="flagged, not fitted",
             )
-        fit = result.fit
+        fit = result.fit if isinstance(result.fit, LinganeFit) else None
         if fit is not None:
             xs = np.linspace(x.min() - 0.1, x.max() + 0.1, 200)
             b, a = fit.slope_V_per_decade.value, fit.intercept_V.value
