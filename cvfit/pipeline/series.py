@@ -9,21 +9,21 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import fields, replace
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 
-from cvfit.version import __version__
 from cvfit.errors import InputError
 from cvfit.fit.lingane import MIN_POINTS as MIN_FIT_POINTS
 from cvfit.fit.lingane import TitrationPoint, check_points, fit_lingane
 from cvfit.flags import Flag
 from cvfit.io import Manifest, load_manifest
+from cvfit.version import __version__
 from cvfit.voltammogram import Voltammogram
 
 from .per_file import LIGAND_EXCESS_MIN, analyse_files
-from .results import FileResult, ReferenceHalfWave, SeriesResult
+from .results import FileResult, ReferenceHalfWave, SeriesConditions, SeriesResult
 from .series_screen import diagnose_files
 
 __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_EXCESS_MIN"]
@@ -32,17 +32,6 @@ __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_
 def analyse_manifest_file(path: str | Path, *, jobs: int = 1) -> SeriesResult:
     """Load a manifest and analyse its series (*jobs* processes share the files)."""
     return analyse_series(load_manifest(path), jobs=jobs)
-
-
-def _series_record(manifest: Manifest) -> dict:
-    """The [series] settings as given (every key, JSON-ready), with T in K and the model."""
-    record = {}
-    for f in fields(manifest.series):
-        value = getattr(manifest.series, f.name)
-        record[f.name] = list(value) if isinstance(value, tuple) else value
-    record["temperature_K"] = manifest.series.temperature_K
-    record["model"] = manifest.fit.model
-    return record
 
 
 def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
@@ -226,17 +215,13 @@ def analyse_series(
     return SeriesResult(
         cvfit_version=__version__,
         manifest=str(manifest.path),
-        series=_series_record(manifest),
+        series=SeriesConditions(manifest.series, manifest.fit.model),
         files=tuple(final),
         reference=reference,
         fit=fit,
         nernstian=nernstian,
         exclude_non_nernstian=exclude,
-        criteria={
-            "n_delta_Ep_margin_V": manifest.reversibility.n_delta_Ep_margin_V,
-            "n_peak_width_margin_V": manifest.reversibility.n_peak_width_margin_V,
-            "current_ratio_margin": manifest.reversibility.current_ratio_margin,
-        },
+        criteria=manifest.reversibility,
         flags=tuple(series_flags),
         fit_n_points=len(points),
         scan_rate_studies=studies,

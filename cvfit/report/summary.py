@@ -26,11 +26,11 @@ def format_summary(result: SeriesResult) -> str:
     """A few dozen lines: conditions, per-file table, constants with intervals, flags."""
     s = result.series
     lines = []
-    title = s.get("title") or "(untitled series)"
+    title = s.title or "(untitled series)"
     lines.append(f"cvfit {result.cvfit_version} — {title}")
-    cond = f"n = {s['electrons']}, T = {s['temperature_K']:.2f} K"
-    if s.get("reference_electrode"):
-        cond += f", potentials vs {s['reference_electrode']}"
+    cond = f"n = {s.electrons}, T = {s.temperature_K:.2f} K"
+    if s.reference_electrode:
+        cond += f", potentials vs {s.reference_electrode}"
     lines.append(cond)
     ref = result.reference
     lines.append(

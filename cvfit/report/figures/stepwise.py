@@ -42,7 +42,7 @@ def _message(path: Path, text: str) -> Path:
 
 def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
     L = np.array(fit.free_ligand_M)
-    k = thermal_voltage(result.series["temperature_K"], result.series["electrons"])
+    k = thermal_voltage(result.series.temperature_K, result.series.electrons)
     E0 = fit.E_half_free.value
     sign = 1.0 if fit.fitted_state == "ox" else -1.0
     betas = fit.log10_beta_values
@@ -85,7 +85,7 @@ def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel(f"E½(c) − E½(s) / mV  (E½(s) = {E0 * 1e3:.1f} mV)")
         ax.legend(loc="best", frameon=False, fontsize=8)
-        ax.set_title(result.series.get("title") or "half-wave shift", fontsize=9)
+        ax.set_title(result.series.title or "half-wave shift", fontsize=9)
         return _save(fig, path)
 
 
