@@ -28,9 +28,9 @@ from pathlib import Path
 
 import pandas as pd
 from _timing import best_of
+from cvfit.io._parser_choice import load_compiled_parser
 
 from cvfit.io import _numparse, read_voltammogram
-from cvfit.io._parser_choice import load_compiled_parser
 
 _FIRST_USE = """
 import time

@@ -180,9 +180,9 @@ def main() -> None:
     # and the compiled number parser is loaded (0.3-0.5 s once per process; a run loads
     # it itself from 128 MiB per process on, see cvfit/io/_parser_choice.py)
     import matplotlib.pyplot  # noqa: F401
+    from cvfit.io._parser_choice import load_compiled_parser
 
     import cvfit.report.figures.titration as figures  # noqa: F401
-    from cvfit.io._parser_choice import load_compiled_parser
 
     if not args.pandas_parser:
         print(f"compiled number parser loaded: {load_compiled_parser()}")

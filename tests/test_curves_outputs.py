@@ -82,7 +82,8 @@ def test_long_title_wraps_and_gets_room(result, tmp_path, monkeypatch):
     monkeypatch.setattr(figures_module, "_save", keep)
     from dataclasses import replace
 
-    long = replace(result, series={**result.series, "title": "M(III)/M(II) " * 20})
+    settings = replace(result.series.settings, title="M(III)/M(II) " * 20)
+    long = replace(result, series=replace(result.series, settings=settings))
     figures_module.plot_voltammograms(long, tmp_path / "v.png")
     fig, kw = seen[0]
     title = fig.axes[0].get_title()

@@ -25,7 +25,8 @@ TITLE = r"Zn $x^2$ in 0.1 M KNO3 ($\frac$ batch)"  # as mathtext: a ParseSyntaxE
 def result(tmp_path_factory):
     manifest = write_small_series(tmp_path_factory.mktemp("figs"), 5, seed=700)
     got = analyse_series(load_manifest(manifest))
-    return replace(got, series={**got.series, "title": TITLE})
+    settings = replace(got.series.settings, title=TITLE)
+    return replace(got, series=replace(got.series, settings=settings))
 
 
 def _capture(monkeypatch):

@@ -90,6 +90,33 @@ def test_round_trip_through_many_dialects(dialect_series):
     assert abs(fit.log10_beta_ratio_at_integer.value - TRUE_LOG10_RATIO) < 0.03
 
 
+def test_series_conditions_and_criteria_are_records(dialect_series):
+    """series and criteria are typed records; their JSON form is the [series] table as
+    given (plus T in K and the model) and the three screen margins."""
+    from cvfit.criteria import ReversibilityCriteria
+    from cvfit.fit.lingane import LinganeFit
+    from cvfit.pipeline.results import SeriesConditions
+
+    manifest, result = dialect_series
+    loaded = load_manifest(manifest)
+    assert isinstance(result.series, SeriesConditions)
+    assert result.series.settings == loaded.series and result.series.model == "lingane"
+    assert isinstance(result.criteria, ReversibilityCriteria)
+    assert result.criteria == loaded.reversibility
+    assert isinstance(result.fit, LinganeFit)
+    data = result.to_dict()
+    assert data["series"]["title"] == result.series.title == "simulated n=1"
+    assert data["series"]["temperature_K"] == pytest.approx(298.15)
+    assert list(data["series"])[-2:] == ["temperature_K", "model"]
+    assert data["reversibility_criteria"] == {
+        "n_delta_Ep_margin_V": 0.010,
+        "n_peak_width_margin_V": 0.010,
+        "current_ratio_margin": 0.15,
+    }
+    with pytest.raises(ValueError, match="model"):
+        SeriesConditions(loaded.series, "quadratic")
+
+
 def test_results_json_and_manifest_follow_their_schemas(dialect_series):
     manifest, result = dialect_series
     data = json.loads(results_to_json(result))

@@ -209,3 +209,14 @@ def test_davies_thermodynamic_constants_reported_when_charges_given():
     assert t[0].value != pytest.approx(fit.log10_beta[0].value)
     d = fit.to_dict()
     assert d["ionic_strength_M"] == 0.1 and len(d["thermodynamic_log10_beta"]) == 3
+
+
+def test_too_few_points_is_a_refusal_not_an_exception():
+    from cvfit.fit.stepwise import MIN_STEPWISE_POINTS
+    from cvfit.flags import FitRefused
+
+    refused = _fit(_points([1e-2], [-0.1]), 0.0)
+    assert MIN_STEPWISE_POINTS == 2
+    assert isinstance(refused, FitRefused)
+    assert [f.code for f in refused.flags] == ["TOO_FEW_POINTS"]
+    assert "at least 2" in refused.message

@@ -213,3 +213,18 @@ def test_current_ratio_term_corrects_slower_diffusing_complexes(tmp_path):
     assert got[True].n_complexes == 3 and np.all(np.abs(with_term - TRUTH) < 0.05), with_term
     # Without the term the top constant is biased by about log10(√2) = 0.15.
     assert abs(got[False].log10_beta_values[-1] - TRUTH[-1]) > 0.08
+
+
+def test_batch_summary_of_a_stepwise_series(stepwise_run, tmp_path):
+    """A batch reports a stepwise series by its fit's type: log10 β_j, no Lingane ratio
+    (reading the ratio of a stepwise fit used to crash the summary after the outputs)."""
+    from cvfit.cli.batch import format_batch_summary, run_series
+
+    _, out, _, _ = stepwise_run
+    outcome = run_series(out.parent / "stepwise.toml", tmp_path / "batch")
+    assert outcome.status == "ok", outcome.error
+    assert outcome.log10_ratio is None and outcome.delta_ligands is None
+    assert len(outcome.log10_beta) == 3
+    assert all(abs(v - t) < 0.3 for (v, _), t in zip(outcome.log10_beta, TRUTH, strict=True))
+    text = format_batch_summary([outcome])
+    assert "log10 β_j (stepwise)" in text and "exit status 0" in text

@@ -8,8 +8,9 @@ import math
 import numpy as np
 import pytest
 
-from cvfit.errors import FitError, InputError
+from cvfit.errors import InputError
 from cvfit.fit.lingane import LinganeFit, TitrationPoint, check_points, fit_lingane, null_fit_dict
+from cvfit.flags import FitRefused, Flag
 from cvfit.units import thermal_voltage
 
 T25 = 298.15
@@ -342,12 +343,16 @@ def test_short_range_and_too_few_points():
     two = points(L[:2], E[:2])
     (flag,) = check_points(two)
     assert flag.code == "TOO_FEW_POINTS" and flag.severity == "error"
-    with pytest.raises(FitError, match="at least 3"):
-        fit(two, ref_sd=1e-4)
+    # an expected failure is a value carrying the flags and their message, not an exception
+    refused = fit(two, ref_sd=1e-4)
+    assert isinstance(refused, FitRefused) and refused.flags == (flag,)
+    assert "at least 3" in refused.message
     same = points([0.1, 0.1, 0.1], E[:3])
     assert check_points(same)[0].code == "NO_LIGAND_RANGE"
-    with pytest.raises(FitError):
-        fit(same, ref_sd=1e-4)
+    refused = fit(same, ref_sd=1e-4)
+    assert isinstance(refused, FitRefused) and refused.flags[0].code == "NO_LIGAND_RANGE"
+    with pytest.raises(ValueError, match="severity 'error'"):
+        FitRefused((Flag("SHORT_LIGAND_RANGE", "a warning alone refuses nothing"),))
 
 
 def test_null_fit_dict_has_the_same_keys():

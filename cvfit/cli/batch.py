@@ -32,9 +32,10 @@ STATUS_INTERNAL = "internal error"
 class SeriesOutcome:
     """What became of one series of a batch (plain data, sent back from a worker).
 
-    ``log10_ratio`` and ``delta_ligands`` (p − q) with their standard errors are ``None``
-    when the series failed or gave no constants; ``error`` is the one-line message of a
-    failed series.
+    ``log10_ratio`` and ``delta_ligands`` (p − q) with their standard errors come from a
+    Lingane fit, ``log10_beta`` (log10 β_j with its standard error, j = 1 … N) from a
+    stepwise fit; they are ``None`` (or empty) when the series failed, gave no constants or
+    was fitted with the other model. ``error`` is the one-line message of a failed series.
     """
 
     manifest: str
@@ -47,6 +48,7 @@ class SeriesOutcome:
     delta_ligands_stderr: float | None = None
     n_points: int | None = None
     error: str | None = None
+    log10_beta: tuple[tuple[float, float], ...] = ()
 
     def __post_init__(self) -> None:
         if self.status not in (STATUS_OK, STATUS_INPUT, STATUS_INTERNAL):
@@ -137,22 +139,37 @@ def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
             title,
             error=f"{manifest_path}: {type(exc).__name__}: {first}",
         )
+    return _outcome(str(manifest_path), str(out_dir), title, result)
+
+
+def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOutcome:
+    """The outcome of an analysed series: its constants, by the type of its fit."""
+    from cvfit.fit.lingane import LinganeFit
+    from cvfit.fit.stepwise_result import StepwiseFit
+
     fit = result.fit
-    if fit is None:
+    if isinstance(fit, LinganeFit):
         return SeriesOutcome(
-            str(manifest_path), str(out_dir), STATUS_OK, title, n_points=result.fit_n_points
+            manifest,
+            out_dir,
+            STATUS_OK,
+            title,
+            log10_ratio=fit.log10_beta_ratio.value,
+            log10_ratio_stderr=fit.log10_beta_ratio.stderr,
+            delta_ligands=fit.delta_ligands.value,
+            delta_ligands_stderr=fit.delta_ligands.stderr,
+            n_points=fit.n_points,
         )
-    return SeriesOutcome(
-        str(manifest_path),
-        str(out_dir),
-        STATUS_OK,
-        title,
-        log10_ratio=fit.log10_beta_ratio.value,
-        log10_ratio_stderr=fit.log10_beta_ratio.stderr,
-        delta_ligands=fit.delta_ligands.value,
-        delta_ligands_stderr=fit.delta_ligands.stderr,
-        n_points=fit.n_points,
-    )
+    if isinstance(fit, StepwiseFit):
+        return SeriesOutcome(
+            manifest,
+            out_dir,
+            STATUS_OK,
+            title,
+            n_points=fit.n_points,
+            log10_beta=tuple((q.value, q.stderr) for q in fit.log10_beta),
+        )
+    return SeriesOutcome(manifest, out_dir, STATUS_OK, title, n_points=result.fit_n_points)
 
 
 def default_jobs(n_series: int) -> int:
@@ -218,16 +235,23 @@ def _clip(text: str, width: int) -> str:
 
 
 def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
-    """A table of every series, then the errors of the failed ones, then the tally."""
-    head = ("series", "status", "log10(β_ox/β_red)", "p − q", "n", "output folder")
+    """A table of every series, then the errors of the failed ones, then the tally.
+
+    A column of stepwise constants log10 β_j joins the table when some series has them.
+    """
+    stepwise = any(o.log10_beta for o in outcomes)
+    head = ("series", "status", "log10(β_ox/β_red)", "p − q")
+    head += ("log10 β_j (stepwise)",) * stepwise + ("n", "output folder")
     rows = []
     for o in outcomes:
+        betas = (", ".join(_pm(v, s) for v, s in o.log10_beta) or "n/d",) * stepwise
         rows.append(
             (
                 _clip(o.title or Path(o.manifest).stem, 36),
                 o.status,
                 _pm(o.log10_ratio, o.log10_ratio_stderr),
                 _pm(o.delta_ligands, o.delta_ligands_stderr),
+                *betas,
                 "" if o.n_points is None else str(o.n_points),
                 o.out_dir if o.status == STATUS_OK else "-",
             )

@@ -14,12 +14,11 @@ into the intercept, biasing log10(β_ox/β_red) by ``log10(D-ratio)/2``.
 
 Usage from the pipeline::
 
-    flags = check_points(points)
-    if any(f.severity == "error" for f in flags):
-        fit_json = null_fit_dict(len(points), flags)     # constants reported as null
+    fit = fit_lingane(points, electrons=n, temperature_K=T,
+                      reference_E_half_V=Es, reference_stderr_V=sEs)
+    if isinstance(fit, FitRefused):                  # too few points, no ligand range
+        fit_json = null_fit_dict(len(points), fit.flags)  # constants reported as null
     else:
-        fit = fit_lingane(points, electrons=n, temperature_K=T,
-                          reference_E_half_V=Es, reference_stderr_V=sEs)
         fit_json = fit.to_dict()
 """
 
@@ -32,8 +31,8 @@ from typing import Any, Literal
 
 import numpy as np
 
-from cvfit.errors import FitError, InputError
-from cvfit.flags import Flag
+from cvfit.errors import InputError
+from cvfit.flags import FitRefused, Flag
 from cvfit.quantity import Quantity, clean_number
 from cvfit.units import nernst_slope_V_per_decade
 
@@ -279,7 +278,7 @@ def fit_lingane(
     reference_stderr_V: float | None,
     weighting: Literal["auto", "none", "stderr"] = "auto",
     curvature_alpha: float = 0.01,
-) -> LinganeFit:
+) -> LinganeFit | FitRefused:
     """Fit Lingane's line to E½ values of a titration and derive p − q and the β ratio.
 
     Parameters
@@ -306,7 +305,10 @@ def fit_lingane(
 
     Returns
     -------
-    LinganeFit
+    LinganeFit or FitRefused
+        The fit; or, when :func:`check_points` finds too few points or no ligand range,
+        a :class:`cvfit.flags.FitRefused` carrying those flags (an expected failure is a
+        value, not an exception).
 
     Notes
     -----
@@ -334,9 +336,8 @@ def fit_lingane(
     """
     pts = tuple(points)
     pre = check_points(pts)
-    fatal = [f for f in pre if f.severity == "error"]
-    if fatal:
-        raise FitError("; ".join(f.message for f in fatal))
+    if any(f.severity == "error" for f in pre):
+        return FitRefused(pre)
     if weighting not in ("auto", "none", "stderr"):
         raise ValueError(f"weighting must be 'auto', 'none' or 'stderr', got {weighting!r}")
     if not 0.0 < curvature_alpha < 1.0:

@@ -38,7 +38,7 @@ import numpy as np
 from cvfit.chemistry.activity import thermodynamic_log10_beta
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import free_ligand_M, ligand_fraction_unprotonated
-from cvfit.flags import Flag
+from cvfit.flags import FitRefused, Flag
 from cvfit.quantity import Quantity
 from cvfit.units import thermal_voltage
 
@@ -180,7 +180,7 @@ def fit_stepwise(
     fixed_log10_beta_red: Sequence[float] | None = None,
     conditions: SolutionConditions | None = None,
     alpha: float = ALPHA,
-) -> StepwiseFit:
+) -> StepwiseFit | FitRefused:
     """Fit stepwise overall constants to a titration (see the module docstring).
 
     Parameters
@@ -205,7 +205,9 @@ def fit_stepwise(
 
     Returns
     -------
-    StepwiseFit
+    StepwiseFit or FitRefused
+        The fit; a :class:`cvfit.flags.FitRefused` (``TOO_FEW_POINTS``) when fewer than
+        ``MIN_STEPWISE_POINTS`` points are given.
 
     References
     ----------
@@ -220,7 +222,16 @@ def fit_stepwise(
     k = thermal_voltage(temperature_K, electrons)
     pts = list(points)
     if len(pts) < MIN_STEPWISE_POINTS:
-        raise ValueError(f"the stepwise fit needs at least {MIN_STEPWISE_POINTS} points")
+        return FitRefused(
+            (
+                Flag(
+                    "TOO_FEW_POINTS",
+                    f"{len(pts)} titration point(s); the stepwise fit needs at least "
+                    f"{MIN_STEPWISE_POINTS} — no constants reported",
+                    "error",
+                ),
+            )
+        )
     L_T = np.array([p.ligand_M for p in pts])
     E = np.array([p.E_half_V for p in pts])
     corr = np.array([0.0 if p.ln_current_ratio is None else p.ln_current_ratio for p in pts])

@@ -7,14 +7,17 @@ missing values become ``null``).
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any
+from dataclasses import asdict, dataclass, field, fields
+from typing import TYPE_CHECKING, Any, Literal, TypeAlias
 
+from cvfit.criteria import ReversibilityCriteria
+from cvfit.fit.lingane import LinganeFit, null_fit_dict
+from cvfit.fit.stepwise_result import StepwiseFit, null_stepwise_dict
 from cvfit.flags import Flag
 from cvfit.quantity import clean_number
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
-    from cvfit.fit.lingane import LinganeFit
+    from cvfit.io.manifest import SeriesSettings
     from cvfit.peaks.analysis import PeakAnalysis
     from cvfit.screen.classification import Classification
     from cvfit.screen.kinetics import KineticsResult
@@ -23,7 +26,22 @@ if TYPE_CHECKING:  # imported for annotations only; keeps this module free of he
 
     from .curves import CycleCurve
 
-__all__ = ["FileResult", "ReferenceHalfWave", "SeriesResult", "clean_number"]
+__all__ = [
+    "FileResult",
+    "ReferenceHalfWave",
+    "SeriesConditions",
+    "SeriesResult",
+    "TitrationFit",
+    "clean_number",
+]
+
+#: The fit of a titration series: one type per model (``[fit] model`` of the manifest).
+#: Consumers tell them apart with ``isinstance``.
+TitrationFit: TypeAlias = LinganeFit | StepwiseFit
+
+#: results.json ``fit`` record of a series that could not be fitted, by model: the keys of
+#: that model's fit with null constants.
+_NULL_FIT_DICT = {"lingane": null_fit_dict, "stepwise": null_stepwise_dict}
 
 
 @dataclass(frozen=True)
@@ -154,6 +172,53 @@ class ReferenceHalfWave:
 
 
 @dataclass(frozen=True)
+class SeriesConditions:
+    """The conditions a series was analysed under: its ``[series]`` settings and the model.
+
+    Attributes
+    ----------
+    settings : SeriesSettings
+        The ``[series]`` table of the manifest, as loaded (validated there).
+    model : {"lingane", "stepwise"}
+        The titration model of ``[fit]``; the fit, when one could be made, is of its type.
+    """
+
+    settings: SeriesSettings
+    model: Literal["lingane", "stepwise"]
+
+    def __post_init__(self) -> None:
+        if self.model not in ("lingane", "stepwise"):
+            raise ValueError(f"model must be 'lingane' or 'stepwise', got {self.model!r}")
+
+    @property
+    def title(self) -> str:
+        return self.settings.title
+
+    @property
+    def electrons(self) -> int:
+        return self.settings.electrons
+
+    @property
+    def temperature_K(self) -> float:
+        """Cell temperature, K."""
+        return self.settings.temperature_K
+
+    @property
+    def reference_electrode(self) -> str | None:
+        return self.settings.reference_electrode
+
+    def to_dict(self) -> dict[str, Any]:
+        """Every ``[series]`` setting as given (tuples as lists), then T in K and the model."""
+        record: dict[str, Any] = {}
+        for f in fields(self.settings):
+            value = getattr(self.settings, f.name)
+            record[f.name] = list(value) if isinstance(value, tuple) else value
+        record["temperature_K"] = self.temperature_K
+        record["model"] = self.model
+        return record
+
+
+@dataclass(frozen=True)
 class SeriesResult:
     """The analysis of one titration series.
 
@@ -162,20 +227,21 @@ class SeriesResult:
     cvfit_version : str
     manifest : str
         Path of the manifest analysed.
-    series : dict
-        Conditions of the series (title, electrons, temperature_K, ...), JSON-ready.
+    series : SeriesConditions
+        Conditions of the series (title, electrons, temperature_K, model, ...).
     files : tuple of FileResult
         One per voltammogram, in manifest order.
     reference : ReferenceHalfWave
-    fit : LinganeFit or None
-        None when no fit could be made (see ``flags``); results.json then carries the
-        fit's keys with null constants.
+    fit : LinganeFit, StepwiseFit or None
+        The fit of the model asked for (:data:`TitrationFit`); None when no fit could be
+        made (see ``flags``): results.json then carries that model's fit keys with null
+        constants.
     nernstian : bool
         False when any voltammogram failed (or could not pass) the reversibility screen.
     exclude_non_nernstian : bool
         Whether flagged voltammograms were kept out of the fit.
-    criteria : dict
-        The reversibility margins applied, JSON-ready.
+    criteria : ReversibilityCriteria
+        The reversibility margins applied.
     flags : tuple of Flag
         Series-level findings.
     fit_n_points : int
@@ -186,13 +252,13 @@ class SeriesResult:
 
     cvfit_version: str
     manifest: str
-    series: dict[str, Any]
+    series: SeriesConditions
     files: tuple[FileResult, ...]
     reference: ReferenceHalfWave
-    fit: LinganeFit | None
+    fit: TitrationFit | None
     nernstian: bool
     exclude_non_nernstian: bool
-    criteria: dict[str, float]
+    criteria: ReversibilityCriteria
     flags: tuple[Flag, ...] = ()
     fit_n_points: int = 0
     scan_rate_studies: tuple[ScanRateStudy, ...] = ()
@@ -201,19 +267,15 @@ class SeriesResult:
         if self.fit is not None:
             fit = self.fit.to_dict()
         else:
-            from cvfit.fit.lingane import null_fit_dict
-
             why = [f for f in self.flags if f.severity == "error"]
-            if self.series.get("model") == "stepwise":
-                from cvfit.fit.stepwise_result import null_stepwise_dict as null_fit_dict
-            fit = null_fit_dict(self.fit_n_points, why)
+            fit = _NULL_FIT_DICT[self.series.model](self.fit_n_points, why)
         return {
             "cvfit_version": self.cvfit_version,
             "manifest": self.manifest,
-            "series": dict(self.series),
+            "series": self.series.to_dict(),
             "nernstian": self.nernstian,
             "exclude_non_nernstian": self.exclude_non_nernstian,
-            "reversibility_criteria": dict(self.criteria),
+            "reversibility_criteria": asdict(self.criteria),
             "reference": self.reference.to_dict(),
             "voltammograms": [f.to_dict() for f in self.files],
             "fit": fit,

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import fields, replace
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -17,13 +17,13 @@ import numpy as np
 from cvfit.errors import InputError
 from cvfit.fit.lingane import MIN_POINTS as MIN_FIT_POINTS
 from cvfit.fit.lingane import TitrationPoint, check_points, fit_lingane
-from cvfit.flags import Flag
+from cvfit.flags import FitRefused, Flag
 from cvfit.io import Manifest, load_manifest
 from cvfit.version import __version__
 from cvfit.voltammogram import Voltammogram
 
 from .per_file import LIGAND_EXCESS_MIN, analyse_files
-from .results import FileResult, ReferenceHalfWave, SeriesResult
+from .results import FileResult, ReferenceHalfWave, SeriesConditions, SeriesResult, TitrationFit
 from .series_screen import diagnose_files
 
 __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_EXCESS_MIN"]
@@ -32,17 +32,6 @@ __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_
 def analyse_manifest_file(path: str | Path, *, jobs: int = 1) -> SeriesResult:
     """Load a manifest and analyse its series (*jobs* processes share the files)."""
     return analyse_series(load_manifest(path), jobs=jobs)
-
-
-def _series_record(manifest: Manifest) -> dict:
-    """The [series] settings as given (every key, JSON-ready), with T in K and the model."""
-    record = {}
-    for f in fields(manifest.series):
-        value = getattr(manifest.series, f.name)
-        record[f.name] = list(value) if isinstance(value, tuple) else value
-    record["temperature_K"] = manifest.series.temperature_K
-    record["model"] = manifest.fit.model
-    return record
 
 
 def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
@@ -85,6 +74,45 @@ def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalf
     )
 
 
+def _fit_titration(
+    points: Sequence[TitrationPoint],
+    files: list[FileResult],
+    manifest: Manifest,
+    reference: ReferenceHalfWave,
+) -> tuple[TitrationFit | FitRefused, list[FileResult]]:
+    """The fit of the model asked for, or why none can be made; the files come back with
+    the free ligand the fit used.
+
+    Both models need what the Lingane line needs (:func:`check_points`: three points over
+    more than one ligand concentration) and a reference E½(s).
+    """
+    checks = check_points(points)
+    why: list[Flag] = []
+    if reference.E_half_V is None:
+        why.append(
+            Flag(
+                "NO_REFERENCE_E_HALF",
+                "E½ of the ligand-free couple could not be measured "
+                f"({', '.join(reference.files)}); give E_half_free_V in [series]",
+                "error",
+            )
+        )
+    if why or any(f.severity == "error" for f in checks):
+        return FitRefused((*why, *checks)), files
+    if manifest.fit.model == "stepwise":
+        from .stepwise_stage import run_stepwise
+
+        return run_stepwise(files, manifest, reference)
+    fit = fit_lingane(
+        points,
+        electrons=manifest.series.electrons,
+        temperature_K=manifest.series.temperature_K,
+        reference_E_half_V=reference.E_half_V,
+        reference_stderr_V=reference.stderr_V,
+    )
+    return fit, files
+
+
 def analyse_series(
     manifest: Manifest,
     *,
@@ -114,7 +142,6 @@ def analyse_series(
         Per-file peak data, the reversibility verdicts, the reference E½ and the fit
         (``None`` with a series flag when fewer than three usable points remain).
     """
-    series = manifest.series
     titrating = [e for e in manifest.voltammograms if e.ligand_M > 0]
     if len(titrating) < MIN_FIT_POINTS:
         raise InputError(
@@ -171,17 +198,9 @@ def analyse_series(
             )
         )
     ref_ok = reference.E_half_V is not None
-    if not ref_ok:
-        series_flags.append(
-            Flag(
-                "NO_REFERENCE_E_HALF",
-                "E½ of the ligand-free couple could not be measured "
-                f"({', '.join(reference.files)}); give E_half_free_V in [series]",
-                "error",
-            )
-        )
-    elif (
-        reference.source == "file"
+    if (
+        ref_ok
+        and reference.source == "file"
         and exclude
         and any(f.reversible is not True for f in final if f.file in reference.files)
     ):
@@ -202,41 +221,23 @@ def analyse_series(
             )
         )
 
+    outcome, final = _fit_titration(points, final, manifest, reference)
     fit = None
-    point_checks = check_points(points)
-    if (
-        ref_ok
-        and manifest.fit.model == "stepwise"
-        and not any(f.severity == "error" for f in point_checks)
-    ):
-        from .stepwise_stage import run_stepwise
-
-        fit, final = run_stepwise(final, manifest, reference)
-    elif ref_ok and not any(f.severity == "error" for f in point_checks):
-        fit = fit_lingane(
-            points,
-            electrons=series.electrons,
-            temperature_K=series.temperature_K,
-            reference_E_half_V=reference.E_half_V,
-            reference_stderr_V=reference.stderr_V,
-        )
+    if isinstance(outcome, FitRefused):
+        series_flags.extend(outcome.flags)
     else:
-        series_flags.extend(point_checks)
+        fit = outcome
 
     return SeriesResult(
         cvfit_version=__version__,
         manifest=str(manifest.path),
-        series=_series_record(manifest),
+        series=SeriesConditions(manifest.series, manifest.fit.model),
         files=tuple(final),
         reference=reference,
         fit=fit,
         nernstian=nernstian,
         exclude_non_nernstian=exclude,
-        criteria={
-            "n_delta_Ep_margin_V": manifest.reversibility.n_delta_Ep_margin_V,
-            "n_peak_width_margin_V": manifest.reversibility.n_peak_width_margin_V,
-            "current_ratio_margin": manifest.reversibility.current_ratio_margin,
-        },
+        criteria=manifest.reversibility,
         flags=tuple(series_flags),
         fit_n_points=len(points),
         scan_rate_studies=studies,

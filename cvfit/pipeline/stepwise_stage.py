@@ -20,7 +20,7 @@ from cvfit.fit.stepwise import (
     StepwisePoint,
     fit_stepwise,
 )
-from cvfit.flags import Flag
+from cvfit.flags import FitRefused, Flag
 from cvfit.io import Manifest
 
 from .results import FileResult, ReferenceHalfWave
@@ -89,8 +89,10 @@ def current_ratios(
 
 def run_stepwise(
     files: Sequence[FileResult], manifest: Manifest, reference: ReferenceHalfWave
-) -> tuple[StepwiseFit, list[FileResult]]:
+) -> tuple[StepwiseFit | FitRefused, list[FileResult]]:
     """Fit the used files with the stepwise model; files come back with corrected [L].
+
+    A refused fit (too few points) comes back as the value, with the files unchanged.
 
     Raises
     ------
@@ -150,6 +152,8 @@ def run_stepwise(
         fixed_log10_beta_red=fit_settings.fixed_log10_beta_red,
         conditions=conditions,
     )
+    if isinstance(fit, FitRefused):
+        return fit, list(files)
     if flags:
         fit = replace(fit, flags=tuple(flags) + fit.flags)
     free = dict(zip(fit.labels, fit.free_ligand_M, strict=True))

@@ -54,7 +54,8 @@ def write_outputs(result: SeriesResult, out_dir: str | Path) -> dict[str, Path]:
         ),
         "diagnostics_figure": plot_diagnostics(result, out / OUTPUT_NAMES["diagnostics_figure"]),
     }
-    if result.series.get("model") != "stepwise":
+    # The figures of the model asked for, also when no fit could be made (they then say so).
+    if result.series.model == "lingane":
         written["lingane_figure"] = plot_lingane(result, out / OUTPUT_NAMES["lingane_figure"])
     else:
         from .figures.stepwise import write_stepwise_figures

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from cvfit.fit.lingane import LinganeFit
+from cvfit.fit.stepwise_result import StepwiseFit
 from cvfit.pipeline.results import SeriesResult
 from cvfit.quantity import Quantity
 
@@ -24,11 +26,11 @@ def format_summary(result: SeriesResult) -> str:
     """A few dozen lines: conditions, per-file table, constants with intervals, flags."""
     s = result.series
     lines = []
-    title = s.get("title") or "(untitled series)"
+    title = s.title or "(untitled series)"
     lines.append(f"cvfit {result.cvfit_version} — {title}")
-    cond = f"n = {s['electrons']}, T = {s['temperature_K']:.2f} K"
-    if s.get("reference_electrode"):
-        cond += f", potentials vs {s['reference_electrode']}"
+    cond = f"n = {s.electrons}, T = {s.temperature_K:.2f} K"
+    if s.reference_electrode:
+        cond += f", potentials vs {s.reference_electrode}"
     lines.append(cond)
     ref = result.reference
     lines.append(
@@ -61,13 +63,11 @@ def format_summary(result: SeriesResult) -> str:
 
     lines.extend(kinetics_lines(result))
     fit = result.fit
-    if fit is None:
-        lines.append("No constants: see the series flags below.")
-    elif getattr(fit, "model", "lingane") == "stepwise":
+    if isinstance(fit, StepwiseFit):
         from .summary_stepwise import stepwise_lines
 
         lines.extend(stepwise_lines(fit))
-    else:
+    elif isinstance(fit, LinganeFit):
         lines.append(
             f"Lingane fit on {fit.n_points} points ({fit.dof} degrees of freedom, "
             f"{'weighted by per-file E½ errors' if fit.weighted else 'unweighted'}):"
@@ -82,6 +82,8 @@ def format_summary(result: SeriesResult) -> str:
             + _q(fit.log10_beta_ratio_at_integer)
         )
         lines.append("  (β_ox/β_red in (mol/L)^-(p−q); [L] in mol/L)")
+    else:
+        lines.append("No constants: see the series flags below.")
     lines.append("")
     lines.append("Nernstian throughout: " + ("yes" if result.nernstian else "NO — see flags"))
     flagged = [(f.file, fl) for f in result.files for fl in f.flags if fl.severity != "info"]

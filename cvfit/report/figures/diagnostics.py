@@ -45,11 +45,11 @@ def _kind(f) -> str:
 def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
     """Write the diagnostics figure of *result* to *path* (PNG)."""
     path = Path(path)
-    n = int(result.series["electrons"])
-    scale = float(result.series["temperature_K"]) / 298.15
+    n = result.series.electrons
+    scale = result.series.temperature_K / 298.15
     crit = result.criteria
-    margin_mV = 1e3 * crit.get("n_delta_Ep_margin_V", 0.010) * scale
-    ratio_margin = crit.get("current_ratio_margin", 0.15)
+    margin_mV = 1e3 * crit.n_delta_Ep_margin_V * scale
+    ratio_margin = crit.current_ratio_margin
     files = list(result.files)
     x = np.arange(len(files))
     with plt.rc_context(_STYLE):
@@ -163,6 +163,6 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
             [ratio, np.full(len(files), 1 - ratio_margin), np.full(len(files), 1 + ratio_margin)]
         )
         axr.legend(loc=quiet_corner(axr, np.tile(x, 3), bottom_y), frameon=False, fontsize=7)
-        top = _set_title(ax, (result.series.get("title") or "") + " — reversibility diagnostics")
+        top = _set_title(ax, (result.series.title or "") + " — reversibility diagnostics")
         # bottom: two-line tick labels at 60° and the axis label
         return _save(fig, path, margins_in=(0.8, 0.2, 1.0, top))

@@ -15,6 +15,7 @@ import numpy as np
 
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import leden_F_functions, mean_ligand_number, species_fractions
+from cvfit.fit.stepwise_result import StepwiseFit
 from cvfit.pipeline.results import SeriesResult
 from cvfit.units import thermal_voltage
 
@@ -39,10 +40,9 @@ def _message(path: Path, text: str) -> Path:
         return _save(fig, path)
 
 
-def _shift(result: SeriesResult, path: Path) -> Path:
-    fit = result.fit
+def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
     L = np.array(fit.free_ligand_M)
-    k = thermal_voltage(result.series["temperature_K"], result.series["electrons"])
+    k = thermal_voltage(result.series.temperature_K, result.series.electrons)
     E0 = fit.E_half_free.value
     sign = 1.0 if fit.fitted_state == "ox" else -1.0
     betas = fit.log10_beta_values
@@ -85,12 +85,11 @@ def _shift(result: SeriesResult, path: Path) -> Path:
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel(f"E½(c) − E½(s) / mV  (E½(s) = {E0 * 1e3:.1f} mV)")
         ax.legend(loc="best", frameon=False, fontsize=8)
-        ax.set_title(result.series.get("title") or "half-wave shift", fontsize=9)
+        ax.set_title(result.series.title or "half-wave shift", fontsize=9)
         return _save(fig, path)
 
 
-def _leden(result: SeriesResult, path: Path) -> Path:
-    fit = result.fit
+def _leden(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
     L = np.array(fit.free_ligand_M)
     betas = fit.log10_beta_values
     order = min(2, fit.n_complexes)
@@ -116,8 +115,7 @@ def _leden(result: SeriesResult, path: Path) -> Path:
         return _save(fig, path)
 
 
-def _species(result: SeriesResult, path: Path) -> Path:
-    fit = result.fit
+def _species(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
     L = np.array(fit.free_ligand_M)
     fitted = fit.log10_beta_values
     states = {"ox": fitted, "red": list(fit.fixed_log10_beta)}
@@ -171,10 +169,11 @@ def write_stepwise_figures(result: SeriesResult, out: Path) -> dict[str, Path]:
     """Write the stepwise figures into *out*; a note instead when there is no fit."""
     out = Path(out)
     paths = {key: out / name for key, name in STEPWISE_FIGURES.items()}
-    if result.fit is None:
+    fit = result.fit
+    if not isinstance(fit, StepwiseFit):
         return {key: _message(p, "no stepwise fit: see the flags") for key, p in paths.items()}
     return {
-        "lingane_figure": _shift(result, paths["lingane_figure"]),
-        "leden_figure": _leden(result, paths["leden_figure"]),
-        "species_figure": _species(result, paths["species_figure"]),
+        "lingane_figure": _shift(result, fit, paths["lingane_figure"]),
+        "leden_figure": _leden(result, fit, paths["leden_figure"]),
+        "species_figure": _species(result, fit, paths["species_figure"]),
     }

@@ -21,6 +21,7 @@ from matplotlib.collections import LineCollection  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator, NullLocator  # noqa: E402
 from scipy import stats  # noqa: E402
 
+from cvfit.fit.lingane import LinganeFit  # noqa: E402
 from cvfit.pipeline.curves import (
     MAX_POINTS_DRAWN,
     MAX_POINTS_PER_FIGURE,
@@ -183,8 +184,8 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
         ax.set_xlabel(
             "E / V"
             + (
-                f" vs {result.series['reference_electrode']}"
-                if result.series.get("reference_electrode")
+                f" vs {result.series.reference_electrode}"
+                if result.series.reference_electrode
                 else ""
             )
         )
@@ -210,7 +211,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                 xy.append(np.array([[ax.get_xlim()[1], ax.get_ylim()[0]]]))
             xy = np.concatenate(xy) if xy else np.empty((0, 2))
             ax.legend(loc=quiet_corner(ax, xy[:, 0], xy[:, 1]), frameon=False)
-        top = _set_title(ax, result.series.get("title") or "voltammograms")
+        top = _set_title(ax, result.series.title or "voltammograms")
         return _save(fig, path, margins_in=(0.8, 0.35, 0.5, top))
 
 
@@ -274,7 +275,7 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         if ref is None or not pts:
             ax.text(0.5, 0.5, "no E½ shift could be measured", ha="center", transform=ax.transAxes)
             _pair_ticks(ax, axr)
-            top = _set_title(ax, result.series.get("title") or "half-wave shift")
+            top = _set_title(ax, result.series.title or "half-wave shift")
             return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
         x = np.log10([f.free_ligand_M for f in pts])
         y = np.array([(f.E_half_V - ref) * 1e3 for f in pts])
@@ -294,7 +295,7 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
                 filled=False,
                 label="flagged, not fitted",
             )
-        fit = result.fit
+        fit = result.fit if isinstance(result.fit, LinganeFit) else None
         if fit is not None:
             xs = np.linspace(x.min() - 0.1, x.max() + 0.1, 200)
             b, a = fit.slope_V_per_decade.value, fit.intercept_V.value
@@ -329,5 +330,5 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         shown_x = np.concatenate([x, xs]) if fit is not None else x
         shown_y = np.concatenate([y, line]) if fit is not None else y
         ax.legend(loc=quiet_corner(ax, shown_x, shown_y), frameon=False, fontsize=8)
-        top = _set_title(ax, result.series.get("title") or "half-wave shift")
+        top = _set_title(ax, result.series.title or "half-wave shift")
         return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))

@@ -1,0 +1,226 @@
+"""Catalogue of every flag code cvfit can raise: its meaning and its severity.
+
+:class:`cvfit.flags.Flag` accepts only the codes listed here (and only with the severity
+listed), so the catalogue, the results schema (``schemas/results.schema.json`` lists the
+codes as an enum) and the docs page ``docs/flags.md`` describe exactly the codes a result
+can carry. Tests check that the three agree and that every code here is raised somewhere.
+
+Regenerate the docs page with ``python -m cvfit.flag_codes > docs/flags.md``.
+
+Severities: ``info`` — how the result was obtained, no action needed; ``warning`` — the
+result stands but deserves a look; ``error`` — the quantity concerned could not be
+determined.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+__all__ = ["FLAG_CODES", "FlagCode", "Severity", "SEVERITIES", "render_markdown"]
+
+Severity = Literal["info", "warning", "error"]
+SEVERITIES: tuple[Severity, ...] = ("info", "warning", "error")
+
+
+@dataclass(frozen=True)
+class FlagCode:
+    """One catalogued flag code.
+
+    Attributes
+    ----------
+    code : str
+        Stable UPPER_SNAKE_CASE identifier.
+    severity : {"info", "warning", "error"}
+        The severity the code is raised with.
+    meaning : str
+        What it says, in one or two sentences.
+    also : tuple of str
+        Other severities the code may carry (a milder case of the same finding).
+    """
+
+    code: str
+    severity: Severity
+    meaning: str
+    also: tuple[Severity, ...] = ()
+
+    def __post_init__(self) -> None:
+        if not self.code or not self.code.replace("_", "").isalnum() or not self.code.isupper():
+            raise ValueError(f"flag code must be UPPER_SNAKE_CASE, got {self.code!r}")
+        for s in (self.severity, *self.also):
+            if s not in SEVERITIES:
+                raise ValueError(f"unknown flag severity {s!r}")
+
+    @property
+    def severities(self) -> tuple[Severity, ...]:
+        return (self.severity, *self.also)
+
+
+_I, _W, _E = "info", "warning", "error"
+
+_CATALOGUE = (
+    # --- peak analysis -------------------------------------------------------------------
+    FlagCode("NO_FORWARD_PEAK", _E, "No forward peak was found (or the forward sweep is too "
+             "short to fit a baseline); E½, ΔEp and the screen are not determinable."),
+    FlagCode("NO_REVERSE_PEAK", _E, "No reverse peak was found (none above the noise, no "
+             "reverse sweep, or no forward baseline to measure it against); ΔEp and ipa/ipc "
+             "are not determinable."),
+    FlagCode("SHORT_BASELINE", _W, "The foot of the forward wave is short, so the "
+             "extrapolated baseline and the peak heights may be off by several per cent."),
+    FlagCode("PREVIOUS_TAIL_NOT_MODELLED", _W, "The cycle starts on the decaying current of "
+             "the sweep before it, whose decay could not be fitted; the forward peak may be "
+             "displaced."),
+    FlagCode("CURRENT_RATIO_NOT_DETERMINED", _W, "The cycle does not start at rest, where "
+             "Nicholson's current-ratio relation holds; the reverse peak height and ipa/ipc "
+             "are not reported."),
+    FlagCode("CURRENT_RATIO_FROM_FIRST_CYCLE", _I, "ipa/ipc was taken from cycle 1 of the "
+             "same record because the analysed cycle does not start at rest."),
+    # --- reversibility screen ------------------------------------------------------------
+    FlagCode("DELTA_EP_TOO_LARGE", _W, "ΔEp exceeds the Nernstian value by more than the "
+             "margin: slow electron transfer or uncompensated resistance."),
+    FlagCode("DELTA_EP_TOO_SMALL", _W, "ΔEp is below the Nernstian value by more than the "
+             "margin: check n, or adsorption of the couple."),
+    FlagCode("PEAK_WIDTH_OFF", _W, "|Ep − Ep/2| of the forward peak departs from the "
+             "Nernstian 2.20 RT/nF by more than the margin."),
+    FlagCode("CURRENT_RATIO_OFF", _W, "ipa/ipc departs from 1 by more than the margin: a "
+             "following chemical reaction, adsorption or slow kinetics."),
+    FlagCode("SWITCHING_TOO_CLOSE", _W, "The switching potential lies too close to E½ for "
+             "the tabulated Nernstian ΔEp, so ΔEp is not tested."),
+    FlagCode("CLASS_REVERSIBLE", _I, "Electron-transfer class of the voltammogram: "
+             "reversible (Nernstian), with the numbers behind the verdict."),
+    FlagCode("CLASS_QUASI_REVERSIBLE", _W, "Electron-transfer class of the voltammogram: "
+             "quasi-reversible, with the numbers behind the verdict."),
+    FlagCode("CLASS_IRREVERSIBLE", _W, "Electron-transfer class of the voltammogram: "
+             "irreversible, with the numbers behind the verdict."),
+    FlagCode("CLASS_NOT_DETERMINABLE", _W, "The electron-transfer class could not be "
+             "determined (no forward peak)."),
+    # --- uncompensated resistance --------------------------------------------------------
+    FlagCode("OHMIC_DROP_CORRECTED", _I, "Potentials were corrected by i·R_u with the R_u "
+             "given."),
+    FlagCode("OHMIC_CORRECTION_INCOMPLETE", _W, "i_p·R_u is large: a correction after the "
+             "measurement leaves part of the ohmic drop in ΔEp; compensate R_u instead."),
+    # --- kinetics (ψ, k0) ----------------------------------------------------------------
+    FlagCode("KINETICS_NOT_DETERMINABLE", _I, "ψ and k0 are not determinable because ΔEp "
+             "needs both peaks."),
+    FlagCode("K0_NOT_DETERMINABLE_REVERSIBLE", _I, "The couple is reversible at this scan "
+             "rate (ψ > 20): k0 is not determinable, at most a lower bound is given."),
+    FlagCode("K0_UPPER_LIMIT_OPEN", _I, "ΔEp is within 1.96 standard errors of the "
+             "reversible limit: the 95 % interval of ψ and k0 has no upper end."),
+    FlagCode("K0_NEEDS_D", _I, "ψ is determined but k0 is not: no scan rate or no diffusion "
+             "coefficient."),
+    FlagCode("LAVAGNINI_OUT_OF_RANGE", _I, "n·ΔEp lies outside the range where Lavagnini's "
+             "formula follows Nicholson's table; the table was interpolated instead."),
+    FlagCode("ALPHA_OUTSIDE_TABLE", _W, "The transfer coefficient assumed lies outside "
+             "0.3–0.7, where Nicholson's α = 0.5 table applies; ψ may be off."),
+    FlagCode("DELTA_EP_UNCERTAINTY_UNKNOWN", _W, "The peak positions have no standard "
+             "error; ψ's uncertainty includes only the table's rounding."),
+    FlagCode("D_FROM_REVERSIBLE_FILES", _I, "k0 uses D from the Randles–Ševčík currents of "
+             "the series' reversible voltammograms."),
+    FlagCode("D_FROM_OTHER_SOLUTION", _I, "k0 uses D from a scan-rate study at another "
+             "ligand concentration; complexation may change D."),
+    FlagCode("D_FROM_SLOW_PEAK", _W, "D from the Randles–Ševčík current of a peak that is "
+             "not reversible is too low, and k0 with it."),
+    FlagCode("K0_DOUBTFUL_IR_DROP", _W, "The scan-rate study shows the iR-drop signature: "
+             "ψ and k0 measure the ohmic drop more than the electron transfer."),
+    # --- scan-rate studies ---------------------------------------------------------------
+    FlagCode("SCAN_RATE_RANGE_NARROW", _I, "Few scan rates or a narrow span of them; check "
+             "reversibility over more rates spanning 1–2 decades."),
+    FlagCode("PEAK_CURRENT_NOT_DIFFUSION_CONTROLLED", _W, "The log-log slope of i_p against "
+             "v is not 0.5: adsorption, slow kinetics or iR drop."),
+    FlagCode("DELTA_EP_GROWS_WITH_SCAN_RATE", _W, "n·(ΔEp − ΔEp_N) grows with the scan rate: "
+             "not Nernstian at these scan rates (the files of the study fail the screen)."),
+    FlagCode("IR_DROP_SIGNATURE", _W, "The excess ΔEp grows in proportion to the peak "
+             "current: uncompensated resistance (an apparent R_u is given)."),
+    FlagCode("SLOW_KINETICS_SIGNATURE", _I, "The excess ΔEp follows Nicholson's working "
+             "curve with ψ ∝ v^−½: slow electron transfer."),
+    FlagCode("EXCESS_CAUSE_UNDECIDED", _W, "The excess ΔEp fits an iR drop and slow kinetics "
+             "alike; widen the scan-rate range."),
+    # --- series and reference ------------------------------------------------------------
+    FlagCode("EXCLUDED_NON_NERNSTIAN", _I, "The voltammogram failed the reversibility screen "
+             "and was left out of the fit (exclude_non_nernstian = true)."),
+    FlagCode("FILES_EXCLUDED", _W, "Some voltammograms failed the reversibility screen and "
+             "were not fitted; they are named."),
+    FlagCode("FIT_USES_FLAGGED_DATA", _W, "exclude_non_nernstian = false: the constants rest "
+             "on voltammograms that failed the reversibility screen."),
+    FlagCode("NO_REFERENCE_E_HALF", _E, "E½ of the ligand-free couple could not be measured "
+             "and none was given; no constants are reported."),
+    FlagCode("REFERENCE_NOT_NERNSTIAN", _W, "The ligand-free voltammogram failed the "
+             "reversibility screen; its E½ is used as E½(s) all the same."),
+    FlagCode("REFERENCE_UNCERTAINTY_UNKNOWN", _I, "E½(s) has no standard error; the fit "
+             "gives the reference the scatter of the titration points."),
+    FlagCode("LOW_LIGAND_EXCESS", _W, "Ligand is less than 10-fold in excess over the metal "
+             "(common practice): free ligand is overstated (Lingane) or corrected by the mass "
+             "balance (stepwise)."),
+    # --- Lingane fit ---------------------------------------------------------------------
+    FlagCode("TOO_FEW_POINTS", _E, "Too few usable titration points for a fit with a "
+             "confidence interval; no constants are reported."),
+    FlagCode("NO_LIGAND_RANGE", _E, "Every titration point has the same ligand "
+             "concentration; the slope cannot be determined and no constants are reported."),
+    FlagCode("SHORT_LIGAND_RANGE", _W, "The ligand concentrations span less than one "
+             "decade; p − q is poorly determined."),
+    FlagCode("WEIGHTS_UNAVAILABLE", _I, "Not every E½ has a standard error; the line is "
+             "fitted unweighted."),
+    FlagCode("WEIGHTS_NOT_CREDIBLE", _W, "The E½ scatter is far larger than the per-file "
+             "errors predict; the weights are not trusted."),
+    FlagCode("REFERENCE_STDERR_FROM_SCATTER", _I, "E½(s) has no standard error: it is "
+             "assumed to scatter like one more titration point."),
+    FlagCode("LINE_CURVED", _W, "A quadratic term in log10[L] improves the fit: more than "
+             "one complex may form over this range (try the stepwise model)."),
+    FlagCode("DELTA_LIGANDS_NOT_WHOLE", _W, "p − q is several standard errors from a whole "
+             "number: the simple Lingane model may not hold."),
+    FlagCode("DELTA_LIGANDS_AMBIGUOUS", _W, "The 95 % interval of p − q holds more than one "
+             "whole number, so the fixed-integer refit is a guess."),
+    FlagCode("DELTA_LIGANDS_NOT_POSITIVE", _W, "p − q rounds to zero or less; check n, the "
+             "ligand concentrations and the sign of the shift."),
+    # --- stepwise fit --------------------------------------------------------------------
+    FlagCode("BETA_UNDETERMINED", _W, "Some β_j are not determined by the ligand range "
+             "measured (info when they all lie beyond the number of complexes chosen).",
+             also=(_I,)),
+    FlagCode("COMPLEX_BARELY_FORMED", _W, "A complex never reaches a notable fraction of the "
+             "metal over the measured range; its β_j rests on a small effect."),
+    FlagCode("FREE_LIGAND_NOT_CONVERGED", _W, "Free ligand and constants did not settle in "
+             "the allowed number of mass-balance rounds."),
+    FlagCode("UNWEIGHTED_STEPWISE", _I, "No per-file E½ errors: equal weights, scale from "
+             "the residual scatter."),
+    FlagCode("CURRENT_RATIO_APPLIED", _I, "The DeFord–Hume term ln(Is/Ic) from the reduction "
+             "peak currents was added to the shift."),
+    FlagCode("CURRENT_RATIO_NOT_APPLIED", _I, "The DeFord–Hume term ln(Is/Ic) could not be "
+             "formed (a peak current is missing); fitted without it."),
+    FlagCode("CURRENT_RATIO_SCAN_RATE_UNKNOWN", _I, "Some scan rates are unknown; peak "
+             "currents were compared without the v^½ normalisation."),
+)  # fmt: skip
+
+#: Every flag code, by code, in the order above (grouped by where it is raised).
+FLAG_CODES: dict[str, FlagCode] = {c.code: c for c in _CATALOGUE}
+if len(FLAG_CODES) != len(_CATALOGUE):  # pragma: no cover - caught at import in tests
+    raise ValueError("a flag code is catalogued twice")
+
+
+def render_markdown() -> str:
+    """The docs page of the catalogue (``docs/flags.md``): one table, code · severity ·
+    meaning."""
+    lines = [
+        "# Flag codes",
+        "",
+        "Every finding cvfit reports (in results.json, the summary and the HTML report) "
+        "carries one of these codes.",
+        "Severity `info`: how a result was obtained; `warning`: the result stands but "
+        "deserves a look; `error`: the quantity concerned could not be determined.",
+        "",
+        "Generated from `cvfit/flag_codes.py` by `python -m cvfit.flag_codes > docs/flags.md`"
+        " (a test checks it is current).",
+        "",
+        "| code | severity | meaning |",
+        "| --- | --- | --- |",
+    ]
+    for c in FLAG_CODES.values():
+        sev = " or ".join(c.severities)
+        meaning = c.meaning.replace("|", r"\|")
+        lines.append(f"| `{c.code}` | {sev} | {meaning} |")
+    return "\n".join(lines) + "\n"
+
+
+if __name__ == "__main__":  # pragma: no cover - the docs page is checked by a test
+    import sys
+
+    sys.stdout.write(render_markdown())
