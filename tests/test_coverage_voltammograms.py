@@ -15,9 +15,9 @@ import numpy as np
 import pytest
 from seriesfactory import LIGAND_M, TRUE_DELTA_LIGANDS, TRUE_LOG10_RATIO, simulate_point
 
-from cvfit.criteria import ReversibilityCriteria
 from cvfit.io import FitSettings, ImportOptions, Manifest, SeriesSettings, VoltammogramEntry
 from cvfit.pipeline.series import analyse_series
+from cvfit.reversibility_criteria import ReversibilityCriteria
 
 N_SERIES = 400
 

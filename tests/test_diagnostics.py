@@ -18,8 +18,8 @@ from dataclasses import replace
 
 import pytest
 
-from cvfit.criteria import ReversibilityCriteria
 from cvfit.peaks.analysis import PeakAnalysis, analyse_peaks
+from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.screen.reversibility import (
     ReversibilityScreen,
     nernstian_delta_Ep_V,

@@ -20,7 +20,7 @@ import pytest
 from cvfit.peaks.analysis import analyse_peaks
 from cvfit.quantity import Quantity
 from cvfit.screen.kinetics import KineticsResult, diffusion_from_peak_current, estimate_kinetics
-from cvfit.screen.nicholson import (
+from cvfit.screen.rate_constant import (
     PSI_TABLE,
     delta_Ep_stderr_V,
     k0_from_psi_cm_s,
@@ -46,7 +46,7 @@ def _k0(psi: float, n: int) -> float:
 def _sim(n, psi, *, noise, seed, switch="table", alpha=0.5):
     k0 = None if psi is None else _k0(psi, n)
     if switch == "table":
-        # the table's switch: 90/n mV past the forward peak (see cvfit.screen.nicholson)
+        # the table's switch: 90/n mV past the forward peak (see cvfit.screen.rate_constant)
         probe = analyse_peaks(
             simulate_cv(
                 E_half_V=0.0, start_V=0.25 / n, switch_V=-0.8, k0_cm_s=k0, electrons=n, alpha=alpha

@@ -6,9 +6,9 @@ import textwrap
 
 import pytest
 
-from cvfit.criteria import ReversibilityCriteria
 from cvfit.errors import InputError
 from cvfit.io import FitSettings, ImportOptions, Manifest, SeriesSettings, load_manifest
+from cvfit.reversibility_criteria import ReversibilityCriteria
 
 FILES = ("t0.csv", "t1.csv", "t2.csv")
 

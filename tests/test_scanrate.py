@@ -14,8 +14,8 @@ import numpy as np
 import pytest
 
 from cvfit.peaks.analysis import analyse_peaks
-from cvfit.screen.nicholson import PSI_TABLE, delta_Ep_stderr_V
 from cvfit.screen.ohmic_drop import correct_ohmic_drop
+from cvfit.screen.rate_constant import PSI_TABLE, delta_Ep_stderr_V
 from cvfit.screen.reversibility import screen_reversibility
 from cvfit.screen.scan_rate import (
     ScanRatePoint,

@@ -17,8 +17,8 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Literal
 
-from cvfit.criteria import ReversibilityCriteria
 from cvfit.errors import InputError
+from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.units import celsius_to_kelvin
 
 from . import manifest_chemistry as _chem

@@ -10,11 +10,11 @@ from __future__ import annotations
 from dataclasses import asdict, dataclass, field, fields
 from typing import TYPE_CHECKING, Any, Literal, TypeAlias
 
-from cvfit.criteria import ReversibilityCriteria
 from cvfit.fit.lingane import LinganeFit, null_fit_dict
 from cvfit.fit.stepwise_result import StepwiseFit, null_stepwise_dict
 from cvfit.flags import Flag
 from cvfit.quantity import clean_number
+from cvfit.reversibility_criteria import ReversibilityCriteria
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
     from cvfit.io.manifest import SeriesSettings

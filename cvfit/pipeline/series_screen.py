@@ -17,7 +17,7 @@ from cvfit.flags import Flag
 from cvfit.quantity import Quantity
 from cvfit.screen.classification import classify_voltammogram
 from cvfit.screen.kinetics import diffusion_from_peak_current, estimate_kinetics
-from cvfit.screen.nicholson import delta_Ep_stderr_V
+from cvfit.screen.rate_constant import delta_Ep_stderr_V
 from cvfit.screen.scan_rate import (
     ScanRatePoint,
     ScanRateStudy,

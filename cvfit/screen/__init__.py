@@ -3,7 +3,7 @@
 - :mod:`.reversibility` — ΔEp, peak width and current ratio against the Nernstian values
 - :mod:`.switching` — the switching-potential correction of the E½ midpoint
 - :mod:`.classification` — reversible, quasi-reversible or irreversible, with the reason
-- :mod:`.nicholson` — Nicholson's ψ and the standard rate constant k0
+- :mod:`.rate_constant` — Nicholson's ψ and the standard rate constant k0
 - :mod:`.kinetics` — ψ, k0 and D of one voltammogram with their uncertainties
 - :mod:`.scan_rate` — scan-rate studies of one solution
 - :mod:`.ohmic_drop` — correction for the uncompensated resistance
@@ -11,8 +11,8 @@
 
 from .classification import Classification, classify_voltammogram
 from .kinetics import KineticsResult, diffusion_from_peak_current, estimate_kinetics
-from .nicholson import k0_from_psi_cm_s, psi_from_table
 from .ohmic_drop import correct_ohmic_drop
+from .rate_constant import k0_from_psi_cm_s, psi_from_table
 from .reversibility import ReversibilityScreen, nernstian_delta_Ep_V, screen_reversibility
 from .scan_rate import ScanRateStudy, analyse_scan_rate_study
 from .switching import corrected_half_wave_V, switching_correction_V

@@ -11,7 +11,7 @@ from cvfit.peaks.analysis import PeakAnalysis
 from cvfit.quantity import Quantity
 from cvfit.units import STANDARD_TEMPERATURE_K
 
-from .nicholson import (
+from .rate_constant import (
     PSI_TABLE,
     TABLE_RANGE_MV,
     TABLE_ROUNDING_SD_MV,

@@ -8,9 +8,9 @@ on n-scaled values and with every mV margin scaled by T/298.15 K:
 * the width |Ep − Ep/2| of the forward peak against 2.20 RT/nF;
 * the reverse/forward peak-current ratio (Nicholson 1966) against 1.
 
-The margins live in :class:`cvfit.criteria.ReversibilityCriteria` (defaults 10 mV, 10 mV
-and 0.15, common practice). :mod:`cvfit.screen.classification` turns the screen into a class of
-electron transfer; ψ and k0 are in :mod:`cvfit.screen.nicholson`.
+The margins live in :class:`cvfit.reversibility_criteria.ReversibilityCriteria` (defaults
+10 mV, 10 mV and 0.15, common practice). :mod:`cvfit.screen.classification` turns the
+screen into a class of electron transfer; ψ and k0 are in :mod:`cvfit.screen.rate_constant`.
 
 References
 ----------
@@ -26,9 +26,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from cvfit.criteria import ReversibilityCriteria
 from cvfit.flags import Flag
 from cvfit.peaks.analysis import PeakAnalysis
+from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K, thermal_voltage
 
 __all__ = [

@@ -10,7 +10,7 @@ by comparing two one-parameter models of the excess n·ΔEp:
 
 * iR: excess = c · i_p (proportional to the forward peak current);
 * kinetics: excess = X(K / √v) − X_rev, with X(ψ) Nicholson's working curve
-  (:mod:`cvfit.screen.nicholson`) and K = k0/(π D n F/RT)^½ the one free parameter.
+  (:mod:`cvfit.screen.rate_constant`) and K = k0/(π D n F/RT)^½ the one free parameter.
 
 References
 ----------
@@ -33,7 +33,7 @@ from cvfit.flags import Flag
 from cvfit.quantity import Quantity, clean_number
 from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K
 
-from .nicholson import PSI_TABLE
+from .rate_constant import PSI_TABLE
 
 __all__ = [
     "ScanRatePoint",
