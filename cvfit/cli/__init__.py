@@ -12,8 +12,8 @@ import sys
 import traceback
 from collections.abc import Sequence
 
-from cvfit.version import __version__
 from cvfit.errors import CvfitError, InputError
+from cvfit.version import __version__
 
 #: Environment :func:`main` sets for the numerical libraries, which it imports after (the
 #: user's own settings win; ``import cvfit.cli`` imports none of them). The command line's

@@ -14,12 +14,12 @@ from pathlib import Path
 
 import numpy as np
 
-from cvfit.version import __version__
 from cvfit.errors import InputError
 from cvfit.fit.lingane import MIN_POINTS as MIN_FIT_POINTS
 from cvfit.fit.lingane import TitrationPoint, check_points, fit_lingane
 from cvfit.flags import Flag
 from cvfit.io import Manifest, load_manifest
+from cvfit.version import __version__
 from cvfit.voltammogram import Voltammogram
 
 from .per_file import LIGAND_EXCESS_MIN, analyse_files
