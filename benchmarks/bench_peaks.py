@@ -1,6 +1,6 @@
 """Speed of the per-file analysis (peaks, screen, correction) against pandas.read_csv.
 
-Run: ``.venv/bin/python benchmarks/bench_peaks.py [--manifest PATH] [--repeats 5]``.
+Run: ``python benchmarks/bench_peaks.py [--manifest PATH] [--repeats 5] [--cache DIR]``.
 
 Loads the records of a series once (:func:`cvfit.io.read_voltammogram`), then times in
 this one process, best of ``--repeats`` runs each:
@@ -10,39 +10,36 @@ this one process, best of ``--repeats`` runs each:
 * :func:`cvfit.pipeline.series.analyse_series` with the records already in memory (peaks, screen,
   switching correction, diagnostics and the titration fit; no import, no outputs).
 
-Prints the times, the time per file and the ratios to the baseline. The series goal
-(import, peaks, figures, report within 1.5x the baseline) leaves the per-file analysis
-well under half of it. The default series is the one ``benchmarks/bench_series.py``
-writes (``--sizes 200``). No assertions: numbers depend on the machine and its load.
+Prints the times, the time per file and the ratios to the baseline: where the heavy
+computation of a large series is, beside reading (``bench_import.py``) and the whole
+command (``bench_command.py``). The default series is the 200-file, 20 001-point series
+of ``bench_command.py`` (simulated into ``--cache`` if absent). No assertions: numbers
+depend on the machine and its load.
 """
 
 from __future__ import annotations
 
 import argparse
-import tempfile
 from pathlib import Path
 
 import pandas as pd
-from _timing import best_of
+from _timing import best_of, cache_root, simulated_series
 
 from cvfit.io import load_manifest, read_voltammogram
 from cvfit.peaks.analysis import analyse_peaks
 from cvfit.pipeline.series import analyse_series
 
-DEFAULT = Path(tempfile.gettempdir()) / "cvfit_bench_cv" / "series_200" / "series.toml"
-
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--manifest", default=str(DEFAULT))
+    ap.add_argument("--manifest", default=None, help="a series manifest (default: simulated)")
     ap.add_argument("--repeats", type=int, default=5)
+    ap.add_argument("--cache", default=None, help="folder of the simulated series")
     args = ap.parse_args()
-    path = Path(args.manifest)
-    if not path.exists():
-        raise SystemExit(
-            f"{path} not found; create it with "
-            "'python benchmarks/bench_series.py --sizes 200 --repeats 1'"
-        )
+    if args.manifest:
+        path = Path(args.manifest)
+    else:
+        path = simulated_series(cache_root(args.cache), 200, 0.0001)
     manifest = load_manifest(path)
     entries = manifest.voltammograms
     records = {

@@ -1,88 +1,112 @@
-"""Speed of the voltammogram simulator: a 4 000-point reversible CV.
+"""Does the simulator need numba? Its compiled back end against the pure-NumPy one.
 
-Run: ``.venv/bin/python benchmarks/bench_simulate.py``. Prints the time of
+Run: ``python benchmarks/bench_simulate.py [--repeats 7] [--points 2001,20001]``.
 
-* ``simulate_cv`` (default back end: compiled Thomas sweeps when numba is installed),
-* the pure-NumPy back end (dense precomputed interior inverse),
-* a straightforward reference: the same grid and BDF2 scheme, with the tridiagonal system
-  of each species assembled and solved by ``scipy.linalg.solve_banded`` at every step
-  (Nernstian Dirichlet surface value, equal D),
+The simulator (:mod:`cvfit.simulate.finite_difference`) has two back ends that give the
+same numbers to rounding: Thomas sweeps compiled by numba, and a dense precomputed
+interior inverse in NumPy. This prints
 
-and the ratios reference/simulator. No assertions: numbers depend on the machine.
+* per voltammogram, in this process after a warm-up, the median of ``--repeats`` calls of
+  ``_simulate_raw(..., backend=...)`` for each back end, alternating, at 2 001 points
+  (1 mV steps over a 1 V window, a typical export) and 20 001 points (0.1 mV), with the
+  ratio NumPy / numba and the largest current difference between them;
+* the one-off cost in a fresh process: importing the kernel (numba's import included)
+  and the first simulation, with numba's on-disk cache empty (first run after install:
+  compilation), with the cache filled (every later run) and with numba blocked (NumPy).
+
+A fit that uses the simulator as its model runs hundreds of simulations per file, so the
+per-call ratio decides, once the one-off cost is set against it. No assertions: numbers
+depend on the machine and its load.
 """
 
 from __future__ import annotations
 
-import math
+import argparse
+import os
+import subprocess
+import sys
+import tempfile
 
 import numpy as np
-from _timing import best_of
-from scipy.linalg import solve_banded
+from _timing import alternate, median
 
-from cvfit.simulate import finite_difference as _sim_kernel
-from cvfit.simulate.voltammogram import _simulate_raw, simulate_cv
-from cvfit.units import FARADAY, GAS_CONSTANT
+from cvfit.simulate import finite_difference
+from cvfit.simulate.voltammogram import _simulate_raw
 
-SETTINGS = dict(E_half_V=0.0, start_V=1.0, switch_V=-1.0, step_V=0.001, scan_rate_V_s=0.1)
-D = 1e-5
-C = 1e-6  # mol/cm3
-AREA = 0.0707
+#: A reversible couple swept 0.5 -> -0.5 V and back at 0.1 V/s (step chosen per size).
+SETTINGS = dict(E_half_V=0.0, start_V=0.5, switch_V=-0.5, scan_rate_V_s=0.1)
+
+FIRST_CALL = """
+import sys, time
+if sys.argv[1] == "blocked":
+    sys.modules["numba"] = None
+t0 = time.perf_counter()
+from cvfit.simulate.voltammogram import simulate_cv
+t1 = time.perf_counter()
+simulate_cv(E_half_V=0.0, start_V=0.5, switch_V=-0.5, step_V=float(sys.argv[2]))
+t2 = time.perf_counter()
+simulate_cv(E_half_V=0.0, start_V=0.5, switch_V=-0.5, step_V=float(sys.argv[2]))
+t3 = time.perf_counter()
+print(t1 - t0, t2 - t1, t3 - t2)
+"""
 
 
-def reference_cv(E: np.ndarray, dt: float, x: np.ndarray) -> np.ndarray:
-    """Reversible CV, BDF2 in time, solve_banded per step (the plain way)."""
-    f = FARADAY / (GAS_CONSTANT * 298.15)
-    N = x.size - 1
-    hm = x[1:N] - x[: N - 1]
-    hp = x[2:] - x[1:N]
-    lo = -D * 2 / (hm * (hm + hp))
-    up = -D * 2 / (hp * (hm + hp))
-    lap = D * 2 / (hm * hp)
-    h1, h2 = x[1], x[2] - x[1]
-    s = (-(2 * h1 + h2) / (h1 * (h1 + h2)), (h1 + h2) / (h1 * h2), -h1 / (h2 * (h1 + h2)))
-    cO = np.full(N + 1, C)
-    prev = cO.copy()
-    i = np.zeros(E.size)
-    for m in range(1, E.size):
-        kap = 1 / dt if m == 1 else 1.5 / dt
-        rhs = cO[1:N] / dt if m == 1 else (4 * cO[1:N] - prev[1:N]) / (2 * dt)
-        theta = math.exp(f * E[m])
-        c0 = C * theta / (1 + theta)
-        rhs = rhs.copy()
-        rhs[0] -= lo[0] * c0
-        rhs[-1] -= up[-1] * C
-        ab = np.zeros((3, N - 1))
-        ab[0, 1:] = up[:-1]
-        ab[1] = kap + lap
-        ab[2, :-1] = lo[1:]
-        prev = cO.copy()
-        cO[0] = c0
-        cO[1:N] = solve_banded((1, 1), ab, rhs)
-        i[m] = -FARADAY * AREA * D * (s[0] * cO[0] + s[1] * cO[1] + s[2] * cO[2])
-    return i
+def first_call(mode: str, step_V: float, cache_dir: str) -> list[float]:
+    """(import s, first simulation s, second simulation s) in a fresh process."""
+    env = dict(os.environ, NUMBA_CACHE_DIR=cache_dir)
+    out = subprocess.run(
+        [sys.executable, "-c", FIRST_CALL, mode, repr(step_V)],
+        env=env,
+        capture_output=True,
+        text=True,
+        check=True,
+    ).stdout.split()
+    return [float(x) for x in out]
 
 
 def main() -> None:
-    wave, raw, settings = _simulate_raw(**SETTINGS)  # also compiles once if needed
-    points = wave.potential_V.size
-    grid = int(settings["grid_points"])
-    t_sim = best_of(lambda: simulate_cv(**SETTINGS), 20)
-    t_numpy = best_of(lambda: _simulate_raw(**SETTINGS, backend="numpy"), 3)
-    t_ref = best_of(lambda: reference_cv(wave.potential_V, wave.dt_s, raw.grid.x_cm), 3)
-    i_ref = reference_cv(wave.potential_V, wave.dt_s, raw.grid.x_cm)
-    agree = np.max(np.abs(i_ref - raw.faradaic_A)) / np.max(np.abs(raw.faradaic_A))
-    backend = "numba" if _sim_kernel.HAVE_NUMBA else "numpy"
-    print(f"4000-point reversible CV: {points} points x {grid} grid nodes")
-    rows = [
-        (f"simulate_cv ({backend} back end)", f"{t_sim * 1e3:.2f} ms"),
-        ("pure-NumPy back end", f"{t_numpy * 1e3:.2f} ms"),
-        ("reference (solve_banded per step)", f"{t_ref * 1e3:.2f} ms"),
-        ("ratio reference / simulate_cv", f"{t_ref / t_sim:.1f}"),
-        ("ratio reference / NumPy back end", f"{t_ref / t_numpy:.1f}"),
-        ("max |i_ref - i_sim| / max |i|", f"{agree:.1e}"),
-    ]
-    for label, value in rows:
-        print(f"  {label:<36s}{value:>12s}")
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--repeats", type=int, default=7, help="timed calls per back end (7)")
+    ap.add_argument("--points", default="2001,20001", help="points per voltammogram")
+    args = ap.parse_args()
+    if not finite_difference.HAVE_NUMBA:
+        raise SystemExit("numba is not installed: nothing to compare")
+    print("per voltammogram (this process, warm), median of alternating calls")
+    print(
+        f"{'points':>7s} {'grid':>5s} {'numba ms':>9s} {'numpy ms':>9s} {'numpy/numba':>11s} "
+        f"{'max |Δi|/max|i|':>16s}"
+    )
+    for points in [int(p) for p in args.points.split(",") if p.strip()]:
+        step_V = 2.0 / (points - 1)
+        kw = dict(SETTINGS, step_V=step_V)
+        _, fast, info = _simulate_raw(**kw, backend="numba")  # compiles or loads the cache
+        _, plain, _ = _simulate_raw(**kw, backend="numpy")
+        gap = np.max(np.abs(fast.faradaic_A - plain.faradaic_A)) / np.max(np.abs(fast.faradaic_A))
+        times = alternate(
+            {
+                "numba": lambda kw=kw: _simulate_raw(**kw, backend="numba"),
+                "numpy": lambda kw=kw: _simulate_raw(**kw, backend="numpy"),
+            },
+            args.repeats,
+        )
+        t_numba, t_numpy = median(times["numba"]), median(times["numpy"])
+        print(
+            f"{points:7d} {info['grid_points']:>5s} {1e3 * t_numba:9.2f} {1e3 * t_numpy:9.2f} "
+            f"{t_numpy / t_numba:11.1f} {gap:16.1e}",
+            flush=True,
+        )
+    print("\none-off cost in a fresh process, 2001 points (kernel import, 1st and 2nd call)")
+    with tempfile.TemporaryDirectory(prefix="cvfit_numba_cache_") as cache_dir:
+        rows = [
+            ("numba, empty cache (compiles)", first_call("numba", 0.001, cache_dir)),
+            ("numba, cache filled", first_call("numba", 0.001, cache_dir)),
+            ("numba blocked (NumPy)", first_call("blocked", 0.001, cache_dir)),
+        ]
+    for label, (imp, first, second) in rows:
+        print(
+            f"  {label:31s} import {imp:6.3f} s  first {first:6.3f} s  second {second:6.3f} s  "
+            f"one-off {imp + first - second:6.3f} s"
+        )
 
 
 if __name__ == "__main__":

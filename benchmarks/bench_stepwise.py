@@ -1,6 +1,6 @@
 """Speed of the stepwise fit on a 14-point, three-complex titration (E½ values only).
 
-Run: ``.venv/bin/python benchmarks/bench_stepwise.py``. Prints the time of
+Run: ``python benchmarks/bench_stepwise.py``. Prints the time of
 
 * the model choice alone (candidates N = 1 … 4, no intervals),
 * the full :func:`cvfit.fit.stepwise.fit_stepwise` (choice, profile intervals, upper limit of

@@ -1,8 +1,8 @@
 """Regression arithmetic behind the Lingane fit (pure functions on arrays, no flags).
 
-The straight line is fitted with :mod:`lmfit`; the one-parameter refit at a fixed slope
-and the quadratic used by the curvature test are linear least squares done in closed
-form, because they need no iteration.
+The straight line is fitted by Levenberg–Marquardt (:func:`scipy.optimize.leastsq`); the
+one-parameter refit at a fixed slope and the quadratic used by the curvature test are
+linear least squares done in closed form, because they need no iteration.
 """
 
 from __future__ import annotations
@@ -11,10 +11,11 @@ import math
 from dataclasses import dataclass
 from functools import lru_cache
 
-import lmfit
 import numpy as np
 from numpy.typing import NDArray
-from scipy import stats
+from scipy.optimize import leastsq
+
+from cvfit.quantity import chi2_quantile, f_upper_tail, normal_quantile, t_quantile
 
 __all__ = [
     "LineFit",
@@ -61,14 +62,27 @@ class LineFit:
         return self.chi_square / self.dof
 
 
-def _line_residual(params: lmfit.Parameters, x, y, inv_sigma):
-    return (params["intercept"].value + params["slope"].value * x - y) * inv_sigma
+#: Levenberg–Marquardt settings of the line fit (MINPACK ``lmdif`` through
+#: :func:`scipy.optimize.leastsq`): relative tolerances 1.5e-8 on the sum of squares and on
+#: the parameters, no gradient test, forward-difference steps of ~1e-5 relative
+#: (``epsfcn`` = 1e-10), initial step bound 100, at most 12 000 evaluations. These are
+#: lmfit's defaults for its ``leastsq`` method, which fitted this line before.
+LEASTSQ_OPTIONS = dict(
+    Dfun=None, full_output=True, col_deriv=False, ftol=1.5e-8, xtol=1.5e-8, gtol=0.0,
+    maxfev=12000, epsfcn=1e-10, factor=100, diag=None,
+)  # fmt: skip
+#: Starting values smaller than this in size start at exactly 0 (as lmfit starts them).
+START_ZERO_BELOW = 1.0e-15
 
 
 def fit_line(
     x: NDArray[np.float64], y: NDArray[np.float64], sigma: NDArray[np.float64] | None = None
 ) -> LineFit:
-    """Fit a straight line with lmfit (Levenberg–Marquardt; exact for a linear model).
+    """Fit a straight line by Levenberg–Marquardt (exact for a linear model).
+
+    The minimiser starts from the closed-form answer, so it only confirms it; its
+    covariance is MINPACK's ``(JᵀJ)⁻¹`` from the final Jacobian, with the exact normal
+    equations as the fallback when that Jacobian cannot be inverted.
 
     Parameters
     ----------
@@ -81,6 +95,16 @@ def fit_line(
     -------
     LineFit
         With the *unscaled* covariance; the caller decides how to scale it.
+
+    Raises
+    ------
+    ValueError
+        A residual is not finite (NaN or infinite data).
+
+    References
+    ----------
+    Moré, J. J. In Numerical Analysis; Watson, G. A., Ed.; Lecture Notes in Mathematics
+    630; Springer, 1978; pp 105–116 (the Levenberg–Marquardt implementation of MINPACK).
     """
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
@@ -91,18 +115,21 @@ def fit_line(
     ym = np.sum(w * y) / np.sum(w)
     sxx = np.sum(w * (x - xm) ** 2)
     b0 = np.sum(w * (x - xm) * (y - ym)) / sxx
-    params = lmfit.Parameters()
-    params.add("slope", value=b0)
-    params.add("intercept", value=ym - b0 * xm)
-    result = lmfit.minimize(
-        _line_residual, params, args=(x, y, inv_sigma), method="leastsq", scale_covar=False
-    )
-    slope = float(result.params["slope"].value)
-    intercept = float(result.params["intercept"].value)
-    if result.covar is not None:
-        order = [result.var_names.index("slope"), result.var_names.index("intercept")]
-        cov = np.asarray(result.covar, dtype=float)[np.ix_(order, order)]
-    else:  # lmfit could not invert its Jacobian estimate: use the exact normal equations
+    start = [float(v) if abs(v) >= START_ZERO_BELOW else 0.0 for v in (b0, ym - b0 * xm)]
+
+    def residual(p: NDArray[np.float64]) -> NDArray[np.float64]:
+        slope, intercept = float(p[0]), float(p[1])
+        r = np.asarray((intercept + slope * x - y) * inv_sigma, dtype=np.float64).ravel()
+        if not np.isfinite(np.sum(r)):
+            raise ValueError("the line fit met a NaN or infinite residual")
+        return r
+
+    with np.errstate(all="ignore"):
+        best, covar, *_ = leastsq(residual, start, **LEASTSQ_OPTIONS)
+    slope, intercept = float(best[0]), float(best[1])
+    if covar is not None:
+        cov = np.asarray(covar, dtype=float)
+    else:  # the final Jacobian could not be inverted: use the exact normal equations
         sw = np.sum(w)
         cov = np.array([[1.0 / sxx, -xm / sxx], [-xm / sxx, 1.0 / sw + xm**2 / sxx]])
     residuals = y - (intercept + slope * x)
@@ -167,14 +194,14 @@ def curvature_p_value(
     if chi_quad <= 0.0:
         return 0.0
     f_value = max(line.chi_square - chi_quad, 0.0) / (chi_quad / dof_quad)
-    return float(stats.f.sf(f_value, 1, dof_quad))
+    return float(f_upper_tail(f_value, 1, dof_quad))
 
 
 @lru_cache(maxsize=8)
 def _t_quantile_grid(level: float) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """Two-sided Student-t quantiles on a log grid of dof, 1 to 10⁶ (for inverting)."""
     nu = np.geomspace(1.0, 1e6, 2000)
-    return nu, stats.t.ppf(0.5 + level / 2, nu)
+    return nu, t_quantile(0.5 + level / 2, nu)
 
 
 def combined_interval(
@@ -201,19 +228,19 @@ def combined_interval(
     Satterthwaite, Biometrics Bulletin 2 (1946) 110 (the alternative not used).
     JCGM 100:2008 (GUM), annex G (expanded uncertainty and coverage factors).
     """
-    z = float(stats.norm.ppf(0.5 + level / 2))
+    z = normal_quantile(0.5 + level / 2)
     total = fit_variance + known_variance
     if known_variance <= 0.0 or fit_variance <= 0.0 or total <= 0.0:
         if fit_variance <= 0.0 < known_variance:
             k, nu = z, math.inf
         else:
-            k, nu = float(stats.t.ppf(0.5 + level / 2, dof)), float(dof)
+            k, nu = t_quantile(0.5 + level / 2, dof), float(dof)
         half = k * math.sqrt(max(total, 0.0))
         return value - half, value + half, nu
-    t = float(stats.t.ppf(0.5 + level / 2, dof))
+    t = t_quantile(0.5 + level / 2, dof)
     half = math.sqrt(t * t * fit_variance + z * z * known_variance)
     k = half / math.sqrt(total)
-    if k <= float(stats.t.ppf(0.5 + level / 2, 1e6)):
+    if k <= t_quantile(0.5 + level / 2, 1e6):
         nu = math.inf
     elif k >= t:
         nu = float(dof)
@@ -237,5 +264,5 @@ def weights_credible(reduced_chi_square: float, dof: int, *, max_ratio: float = 
     """
     if dof < 1 or not math.isfinite(reduced_chi_square):
         return False
-    limit = max(max_ratio, float(stats.chi2.ppf(0.99, dof)) / dof)
+    limit = max(max_ratio, chi2_quantile(0.99, dof) / dof)
     return reduced_chi_square <= limit

@@ -28,10 +28,11 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import optimize, stats
+from scipy import optimize
 
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import species_fractions
+from cvfit.quantity import f_quantile
 
 __all__ = ["StepwiseData", "CandidateFit", "fit_candidate", "profile_interval"]
 
@@ -202,7 +203,7 @@ def profile_interval(
     s2 = fit.rss / fit.dof
     if s2 <= 0:
         s2 = 1e-30
-    crit = float(stats.f.ppf(level, 1, fit.dof)) * s2
+    crit = f_quantile(level, 1, fit.dof) * s2
     v0 = float(fit.params[index])
     se = math.sqrt(fit.covariance[index, index]) if fit.covariance is not None else 0.5
     step0 = min(max(se, 0.02), 2.0)

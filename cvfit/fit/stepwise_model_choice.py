@@ -23,9 +23,8 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
 
-from cvfit.quantity import clean_number
+from cvfit.quantity import clean_number, f_upper_tail
 
 from .stepwise_least_squares import CandidateFit, StepwiseData, fit_candidate
 
@@ -96,7 +95,7 @@ def _f_p_value(small: CandidateFit, large: CandidateFit) -> float:
         return 0.0 if small.rss > large.rss else 1.0
     gain = max(small.rss - large.rss, 0.0)
     F = (gain / extra) / (large.rss / large.dof)
-    return float(stats.f.sf(F, extra, large.dof))
+    return f_upper_tail(F, extra, large.dof)
 
 
 def choose_candidate(fits: list[CandidateFit], *, alpha: float = ALPHA) -> CandidateFit:

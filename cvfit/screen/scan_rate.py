@@ -26,11 +26,11 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import optimize, stats
+from scipy import optimize
 
 from cvfit.chemistry.randles_sevcik import randles_sevcik_peak_current_A
 from cvfit.flags import Flag
-from cvfit.quantity import Quantity, clean_number
+from cvfit.quantity import Quantity, chi2_upper_quantile, clean_number, t_quantile
 from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K
 
 from .rate_constant import PSI_TABLE
@@ -346,7 +346,7 @@ def analyse_scan_rate_study(
         w = 1.0 / sd**2
         dEp_slope, _ = _line(np.log10(v), y, w)
         growth = dEp_slope.value * math.log10(v.max() / v.min())
-        t_one = stats.t.ppf(0.95, max(v.size - 2, 1))
+        t_one = t_quantile(0.95, max(v.size - 2, 1))
         significant = dEp_slope.value - t_one * dEp_slope.stderr > 0
         grows = bool(significant and growth > MIN_TREND_GROWTH_V * scale)
         if grows:
@@ -363,7 +363,7 @@ def analyse_scan_rate_study(
             if np.all(ipx > 0):
                 chi_ir, chi_kin, c, sd_c = _fit_excess_models(v, ipx, y, w, n, scale)
                 R = Quantity.from_t(c / (2 * n), sd_c / (2 * n), v.size - 1)
-                chi_crit = stats.chi2.isf(MODEL_REJECT_P, v.size - 1)
+                chi_crit = chi2_upper_quantile(MODEL_REJECT_P, v.size - 1)
                 if chi_ir * IR_MODEL_PREFERENCE < chi_kin and chi_kin > chi_crit:
                     cause = "ir-drop"
                     flags.append(

@@ -19,7 +19,6 @@ import numpy as np  # noqa: E402
 from matplotlib import colors as mcolors  # noqa: E402
 from matplotlib.collections import LineCollection  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator, NullLocator  # noqa: E402
-from scipy import stats  # noqa: E402
 
 from cvfit.fit.lingane import LinganeFit  # noqa: E402
 from cvfit.pipeline.curves import (
@@ -29,6 +28,7 @@ from cvfit.pipeline.curves import (
     points_per_curve,
 )
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
+from cvfit.quantity import t_quantile  # noqa: E402
 from cvfit.report.atomic import atomic_path  # noqa: E402
 
 from .legend_placement import quiet_corner  # noqa: E402
@@ -302,7 +302,7 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
             cov = np.asarray(fit.covariance, dtype=float)
             line = (a + b * xs) * 1e3
             var = cov[1, 1] + xs**2 * cov[0, 0] + 2 * xs * cov[0, 1]
-            tq = stats.t.ppf(0.975, fit.dof) if fit.dof > 0 else float("nan")
+            tq = t_quantile(0.975, fit.dof) if fit.dof > 0 else float("nan")
             half = tq * np.sqrt(np.clip(var, 0, None)) * 1e3
             ax.plot(
                 xs,
