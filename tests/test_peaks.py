@@ -82,7 +82,9 @@ def test_E_half_within_half_mV(accuracy_runs, n, first):
         assert p.first_sweep == first
         assert p.flags == ()
     start, switch = GEOMETRY[n]
-    more = [analyse_peaks(_sim(n, first, start, switch, seed=s), electrons=n) for s in range(3, 12)]
+    more = [
+        analyse_peaks(_sim(n, first, start, switch, seed=s), electrons=n) for s in range(3, 12)
+    ]
     errors = np.array([p.E_half_V - E_HALF for p in [*accuracy_runs[n, first], *more]])
     assert all(p.flags == () for p in more)
     assert np.count_nonzero(np.abs(errors) >= 0.5e-3) <= 2, errors

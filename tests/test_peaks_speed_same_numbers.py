@@ -193,7 +193,7 @@ FIELDS = (*_OPTIONAL, "noise_A")
 # analyse_peaks(synthetic_cv(**CASES[name]), cycle=c, electrons=n) with the plain forms
 # (recorded again when the vertex fit became a degree-7 polynomial over ±1.1·|Ep − Ep/2|)
 STORED = {
-    ('reduction', 1): (
+    ("reduction", 1): (
         (
             0.05190577160950922,
             0.14984001017179518,
@@ -209,7 +209,7 @@ STORED = {
         ),
         (),
     ),
-    ('oxidation_n2', 1): (
+    ("oxidation_n2", 1): (
         (
             0.07532205836098949,
             0.12419383139150245,
@@ -225,7 +225,7 @@ STORED = {
         ),
         (),
     ),
-    ('three_cycles', 1): (
+    ("three_cycles", 1): (
         (
             0.05057516198663152,
             0.14902468817145761,
@@ -241,7 +241,7 @@ STORED = {
         ),
         (),
     ),
-    ('three_cycles', 2): (
+    ("three_cycles", 2): (
         (
             0.05888720842244812,
             0.14347125163589122,
@@ -255,9 +255,9 @@ STORED = {
             None,
             9.9413360753758e-08,
         ),
-        ('CURRENT_RATIO_NOT_DETERMINED',),
+        ("CURRENT_RATIO_NOT_DETERMINED",),
     ),
-    ('three_cycles', 3): (
+    ("three_cycles", 3): (
         (
             0.05805966768913107,
             0.14235975968848724,
@@ -271,9 +271,9 @@ STORED = {
             None,
             1.0030203712870595e-07,
         ),
-        ('CURRENT_RATIO_NOT_DETERMINED',),
+        ("CURRENT_RATIO_NOT_DETERMINED",),
     ),
-    ('two_cycles_oxidation', 1): (
+    ("two_cycles_oxidation", 1): (
         (
             0.04921016852977511,
             0.14923239277764344,
@@ -289,7 +289,7 @@ STORED = {
         ),
         (),
     ),
-    ('two_cycles_oxidation', 2): (
+    ("two_cycles_oxidation", 2): (
         (
             0.05552754003746503,
             0.14228251663396366,
@@ -303,9 +303,9 @@ STORED = {
             None,
             9.727468278294785e-08,
         ),
-        ('CURRENT_RATIO_NOT_DETERMINED',),
+        ("CURRENT_RATIO_NOT_DETERMINED",),
     ),
-    ('short_foot', 1): (
+    ("short_foot", 1): (
         (
             0.07724606082532932,
             None,
@@ -319,9 +319,9 @@ STORED = {
             None,
             1.0408848571679794e-07,
         ),
-        ('SHORT_BASELINE', 'NO_REVERSE_PEAK'),
+        ("SHORT_BASELINE", "NO_REVERSE_PEAK"),
     ),
-    ('switch_at_foot', 1): (
+    ("switch_at_foot", 1): (
         (
             None,
             None,
@@ -335,9 +335,9 @@ STORED = {
             None,
             9.016422749103658e-08,
         ),
-        ('NO_FORWARD_PEAK', 'NO_REVERSE_PEAK'),
+        ("NO_FORWARD_PEAK", "NO_REVERSE_PEAK"),
     ),
-    ('jittered_potential', 1): (
+    ("jittered_potential", 1): (
         (
             0.0525797608137776,
             0.14922542075697337,
@@ -353,7 +353,7 @@ STORED = {
         ),
         (),
     ),
-    ('noise_free', 1): (
+    ("noise_free", 1): (
         (
             0.05181806139654114,
             0.14954974900386597,
@@ -369,7 +369,7 @@ STORED = {
         ),
         (),
     ),
-    ('no_wave', 1): (
+    ("no_wave", 1): (
         (
             None,
             None,
@@ -383,9 +383,9 @@ STORED = {
             None,
             1.0898855669585791e-07,
         ),
-        ('NO_FORWARD_PEAK', 'NO_REVERSE_PEAK'),
+        ("NO_FORWARD_PEAK", "NO_REVERSE_PEAK"),
     ),
-    ('fine_steps', 1): (
+    ("fine_steps", 1): (
         (
             0.051572907133682934,
             0.1492492277601618,

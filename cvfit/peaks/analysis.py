@@ -39,7 +39,7 @@ current ratio and the reverse peak height are None with ``CURRENT_RATIO_NOT_DETE
 E½ and ΔEp are reported. Measured (n = 1, 2, both directions, C_dl, slope, 0.5 % noise):
 E½ RMS error 0.3 mV on cycles 2–3 (0.2 mV on cycle 1), ΔEp within 0.5 mV of cycle 1's.
 
-*Positions.* A cubic is fitted to the baseline-corrected current within ±0.6·|Ep −
+*Positions.* A polynomial of degree 7 is fitted to the baseline-corrected current within ±1.1·|Ep −
 Ep/2| of the sampled extremum (recentred once); its stationary point is the peak
 potential (a parabola would be biased by the skew of the peak). The
 standard error of E½ propagates the current noise (from second differences) through both
@@ -49,8 +49,9 @@ Accuracy (simulated reversible CVs with charging current, sloping background and
 noise): E½ within 0.5 mV in ~96 % of files (SD 0.19 mV for n = 1); forward height within
 1 % of Randles–Ševčík when the scan starts ≥ 200/n mV before E½. Two systematic effects are
 not corrected because they belong to the definitions: (Epa + Epc)/2 of a reversible couple
-lies (n·ΔEp_N(Eλ) − 57.0 mV)/(2n) beyond E½ — ≤ 0.4 mV/n for n·|Eλ − E½| ≥ 270 mV, but
-1.75/n mV at 71.5 mV — because Epa moves with the switching potential; and Nicholson's
+lies (n·ΔEp_N(Eλ) − 57.0 mV)/(2n) beyond E½ — ≤ 0.4 mV/n for n·|Eλ − E½| ≥ 300 mV, but
+1.75/n mV at 100 mV (71.5 mV past the forward peak) — because Epa moves with the
+switching potential (corrected downstream, :mod:`cvfit.screen.switching`); and Nicholson's
 relation, an empirical fit, reads ~0.01 high at n·|Eλ − E½| = 300 mV and ~0.03 high at
 600 mV (1.00 ± 0.01 at 100–250 mV).
 
@@ -84,7 +85,7 @@ MIN_HEIGHT_SNR = 5.0
 #: Fraction of the peak height at which the foot of the wave is taken to end.
 FOOT_FRACTION = 0.05
 #: Half-width of the vertex window as a fraction of |Ep - Ep/2|.
-VERTEX_WINDOW_FRACTION = 0.6
+VERTEX_WINDOW_FRACTION = 1.1
 #: Foot windows shorter than this many thermal voltages RT/nF give a warning.
 SHORT_FOOT_THERMAL = 2.5
 #: Origin of the previous sweep's diffusion tail, RT/nF before its peak.

@@ -40,17 +40,21 @@ __all__ = [
     "PEAK_OFFSET_THERMAL",
 ]
 
-# Nicholson & Shain (1964); Bard & Faulkner Table 6.2.1 (from memory): n·|Eλ − E½| and
-# n·ΔEp in mV at 25 °C, with the limit 57.0 mV for a switch far beyond the wave.
-_TABLE_OFFSET_MV = np.array([71.5, 121.5, 171.5, 271.5])
+# Nicholson & Shain (1964); Bard & Faulkner Table 6.2.1 (from memory): n·ΔEp in mV at 25 °C
+# for a switch n·|Eλ − Ep| = 71.5, 121.5, 171.5, 271.5 mV beyond the forward PEAK, with the
+# limit 57.0 mV for a switch far beyond the wave. The forward peak lies 1.109 RT/F = 28.5 mV
+# beyond E½ (n = 1, 25 °C), so the switches are 100, 150, 200 and 300 mV beyond E½.
+_TABLE_PAST_PEAK_MV = np.array([71.5, 121.5, 171.5, 271.5])
+_PEAK_PAST_E_HALF_MV = 28.5
+_TABLE_OFFSET_MV = _TABLE_PAST_PEAK_MV + _PEAK_PAST_E_HALF_MV  # n·|Eλ − E½|
 _TABLE_DELTA_MV = np.array([60.5, 59.2, 58.3, 57.8])
 _LIMIT_DELTA_MV = 57.0
 # the interpolation nodes in 1/(n·|Eλ − E½|), formed once (called several times per file)
 _INV_OFFSET = np.concatenate([[0.0], 1.0 / _TABLE_OFFSET_MV[::-1]])
 _NODE_DELTA_MV = np.concatenate([[_LIMIT_DELTA_MV], _TABLE_DELTA_MV[::-1]])
 
-#: Smallest n·|Eλ − E½| (at 25 °C) covered by the table, V.
-MIN_TABULATED_OFFSET_V = 0.0715
+#: Smallest n·|Eλ − E½| (at 25 °C) covered by the table (71.5 mV past the peak), V.
+MIN_TABULATED_OFFSET_V = 0.100
 #: |Ep − Ep/2| of a reversible peak in units of RT/nF (Nicholson & Shain 1964).
 PEAK_WIDTH_THERMAL = 2.20
 #: |Ep − E½| of a reversible peak in units of RT/nF (Nicholson & Shain 1964).
@@ -69,13 +73,15 @@ def nernstian_delta_Ep_V(
 ) -> float:
     """Peak separation of a Nernstian couple for a given switching potential.
 
-    The table of n·ΔEp against n·|Eλ − E½| (25 °C) is interpolated piecewise-linearly in
-    1/(n·|Eλ − E½|), with the limit 57.0 mV at 1/x = 0: the table is nearly linear in
-    that variable (the influence of the switch fades like a diffusion tail), so the
-    interpolation reproduces the four table points exactly and tends smoothly to the
-    limit beyond 271.5 mV. Potentials scale with T/298.15 K (the natural variable is
-    nF(Eλ − E½)/RT). For n·|Eλ − E½| below 71.5 mV the table does not apply; the value at
-    71.5 mV (60.5 mV/n) is returned as a lower bound, and
+    Nicholson and Shain tabulate n·ΔEp against the switch measured from the forward peak,
+    n·|Eλ − Ep| = 71.5, 121.5, 171.5, 271.5 mV (25 °C); with Ep 28.5/n mV beyond E½ these are
+    n·|Eλ − E½| = 100, 150, 200, 300 mV, the variable used here. The table is interpolated
+    piecewise-linearly in 1/(n·|Eλ − E½|), with the limit 57.0 mV at 1/x = 0: the table is
+    nearly linear in that variable (the influence of the switch fades like a diffusion
+    tail), so the interpolation reproduces the four table points exactly and tends smoothly
+    to the limit beyond 300 mV. Potentials scale with T/298.15 K (the natural variable is
+    nF(Eλ − E½)/RT). For n·|Eλ − E½| below 100 mV the table does not apply; the value at
+    100 mV (60.5 mV/n) is returned as a lower bound, and
     :func:`screen_reversibility` then flags ``SWITCHING_TOO_CLOSE`` instead of testing ΔEp.
 
     Parameters

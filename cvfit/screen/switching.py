@@ -2,10 +2,11 @@
 
 For a reversible couple the anodic peak of the reverse sweep depends on how far beyond
 the wave the scan was switched, so the midpoint (Epa + Epc)/2 lies above E½ by
-½[ΔEp(Eλ) − ΔEp(∞)] — 0.65/n mV for n·|Eλ − E½| = 171.5 mV, 0.4/n mV at 271.5 mV
-(Nicholson & Shain 1964). Left uncorrected this bias changes along a titration (E½ moves
-while Eλ is fixed) and tilts the Lingane line. The correction uses the same tabulated
-ΔEp(Eλ) as the reversibility screen and is applied only to voltammograms that passed it.
+½[ΔEp(Eλ) − ΔEp(∞)] — 1.75/n mV for n·|Eλ − E½| = 100 mV (71.5 mV past the forward
+peak), 0.65/n mV at 200 mV, 0.4/n mV at 300 mV (Nicholson & Shain 1964). Left uncorrected
+this bias changes along a titration (E½ moves while Eλ is fixed) and tilts the Lingane
+line. The correction uses the same tabulated ΔEp(Eλ) as the reversibility screen and is
+applied only to voltammograms that passed it.
 """
 
 from __future__ import annotations
