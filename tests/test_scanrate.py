@@ -15,7 +15,7 @@ import pytest
 
 from cvfit.peaks.analysis import analyse_peaks
 from cvfit.screen.ohmic_drop import correct_ohmic_drop
-from cvfit.screen.rate_constant import PSI_TABLE, delta_Ep_stderr_V
+from cvfit.screen.rate_constant import delta_Ep_stderr_V
 from cvfit.screen.reversibility import screen_reversibility
 from cvfit.screen.scan_rate import (
     ScanRatePoint,
@@ -65,6 +65,7 @@ def _study(*, k0=None, R=0.0, n=1, noise=0.005, seed=0, correct=None):
                 p.E_half_V,
                 p.E_half_stderr_V,
                 s.reversible,
+                nernstian_n_delta_Ep_V=n * s.expected_delta_Ep_V,
             )
         )
     st = analyse_scan_rate_study(
@@ -151,12 +152,17 @@ def test_groups_and_working_curve():
     assert groups == [[0, 1, 2]]
     assert scan_rate_groups([0.0] * 3, [0.1, 0.102, 0.5]) == []  # two distinct rates only
     assert scan_rate_groups([0.0] * 3, [0.1, None, 0.5]) == []
-    psi = np.array([p for p, _ in PSI_TABLE])
-    # Nicholson, Anal. Chem. 37 (1965) 1351, table (from memory) reproduced. Circular:
-    # PSI_TABLE is the code's own copy of the table.
-    assert np.allclose(working_curve_n_delta_Ep_V(psi) * 1e3, [x for _, x in PSI_TABLE])
+    # Nicholson, Anal. Chem. 37 (1965) 1351; Bard & Faulkner 2nd ed. Table 6.5.2 (from
+    # memory), α = 0.5, 25 °C, typed here from the source: ψ -> n·ΔEp in mV
+    published = [(20, 61), (7, 63), (6, 64), (5, 65), (4, 66), (3, 68), (2, 72), (1, 84),
+                 (0.75, 92), (0.5, 105), (0.35, 121), (0.25, 141), (0.1, 212)]  # fmt: skip
+    psi = np.array([p for p, _ in published], dtype=float)
+    assert np.allclose(working_curve_n_delta_Ep_V(psi) * 1e3, [x for _, x in published])
     tail = working_curve_n_delta_Ep_V(np.array([1e3, 0.05, 0.01]))
-    assert 0.0592 < tail[0] < 0.0593 and tail[1] > 0.212 and tail[2] > tail[1]
+    # reversible limit: the Nernstian n·ΔEp at the table's switch, 112.5 mV beyond E½,
+    # 60.07 mV by the switching table (Nicholson & Shain, Anal. Chem. 36 (1964) 706, from
+    # memory: 60.5 mV at 100 mV, 59.2 mV at 150 mV, interpolated in 1/offset)
+    assert 0.0600 < tail[0] < 0.0602 and tail[1] > 0.212 and tail[2] > tail[1]
 
 
 def test_no_false_trend_on_reversible_studies():

@@ -45,6 +45,7 @@ def _point(f: FileResult, n: int) -> ScanRatePoint:
         p.E_half_stderr_V,
         s.reversible,
         p.Epc_V if p.first_sweep == "reduction" else p.Epa_V,
+        None if s.expected_delta_Ep_V is None else n * s.expected_delta_Ep_V,
     )
 
 

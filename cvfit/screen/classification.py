@@ -182,7 +182,6 @@ def classify_voltammogram(
         dEp = switch_corrected_delta_Ep_V(
             peaks.delta_Ep_V,
             switching_offset_V=peaks.switching_potential_V - E_half,
-            forward_peak_offset_V=E_fwd - E_half,
             electrons=n,
             temperature_K=temperature_K,
         )

@@ -217,7 +217,6 @@ def estimate_kinetics(
     dEp = switch_corrected_delta_Ep_V(
         peaks.delta_Ep_V,
         switching_offset_V=peaks.switching_potential_V - peaks.E_half_V,
-        forward_peak_offset_V=E_fwd - peaks.E_half_V,
         electrons=n,
         temperature_K=temperature_K,
     )
@@ -245,7 +244,7 @@ def estimate_kinetics(
         if D_red_cm2_s is None or D_cm2_s is None
         else ((D_cm2_s.value / D_red_cm2_s) ** (alpha / 2))
     )
-    note_x = f"n·ΔEp = {x25:.1f} mV at 25 °C (moved to the table's switch 90/n mV past the peak)"
+    note_x = f"n·ΔEp = {x25:.1f} mV at 25 °C (moved to the table's switch 112.5/n mV beyond E½)"
 
     def k0_of(psi: float) -> float | None:
         if fv is None or D_cm2_s is None:

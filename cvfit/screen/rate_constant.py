@@ -13,12 +13,17 @@ k0 is not determinable; a lower bound is reported instead. Then
 k0 = ψ·(π D n F v / RT)^½ (equal diffusion coefficients assumed unless both are given,
 when the factor (D_O/D_R)^{α/2} is applied).
 
-Nicholson's table was computed for a switch well past the peak; the exact switching
-potential is not recalled. cvfit's simulator reproduces the table (−1.6 % … +0.2 % in
-ΔEp) with the switch 90/n mV past the forward peak, so that is taken as the table's
-switching potential, and a measured ΔEp is first moved to that switch by the Nernstian
-dependence of ΔEp on the switching potential (Nicholson & Shain 1964),
-:func:`switch_corrected_delta_Ep_V`.
+Nicholson's table was computed for one switching potential that is not recalled here. An
+independent convolution-integral computation (tests/convolution_cv.py, no code shared with
+cvfit.simulate) reproduces the table within 0.35 mV for ψ = 7 … 0.35 (1.2 mV at ψ = 0.25)
+with the switch n·|Eλ − E½| = 112.5 mV, so that is taken as the table's switch, and a
+measured ΔEp is first moved to it, :func:`switch_corrected_delta_Ep_V`. The Nernstian
+dependence of ΔEp on the switching potential (Nicholson & Shain 1964) holds in the
+reversible limit only: as the electron transfer slows, the dependence fades. The same
+computation gives, for the switch moved from 112.5 to 200 mV beyond E½, n·ΔEp falling by
+1.54 mV (reversible), 1.34 (ψ = 2), 1.13 (ψ = 1), 0.69 (ψ = 0.5), 0.31 (ψ = 0.35) and
+−0.18 mV (ψ = 0.25) — about the reversible shift times (141 − n·ΔEp)/(141 − 57). The
+Nernstian correction is scaled by that weight (mV at 25 °C, clipped to 0…1).
 
 References
 ----------
@@ -38,12 +43,13 @@ from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K
 
 __all__ = [
     "PSI_TABLE",
-    "TABLE_SWITCH_PAST_PEAK_V",
+    "TABLE_SWITCH_PAST_E_HALF_V",
     "psi_from_table",
     "psi_lavagnini",
     "k0_klingler_kochi_cm_s",
     "k0_from_psi_cm_s",
     "switch_corrected_delta_Ep_V",
+    "switch_effect_weight",
     "delta_Ep_stderr_V",
 ]
 
@@ -72,8 +78,11 @@ TABLE_RANGE_MV = (61.0, 212.0)
 LAVAGNINI_RANGE_MV = (63.0, 141.0)
 #: The table's entries are given to 1 mV: rounding adds an SD of 1/√12 mV.
 TABLE_ROUNDING_SD_MV = 1.0 / math.sqrt(12.0)
-#: Switching potential assumed for the table: this far past the forward peak (n = 1), V.
-TABLE_SWITCH_PAST_PEAK_V = 0.090
+#: Switching potential assumed for the table: n·|Eλ − E½| at 25 °C, V (see the module notes).
+TABLE_SWITCH_PAST_E_HALF_V = 0.1125
+#: n·ΔEp (mV, 25 °C) of the reversible limit and of ψ = 0.25, where the switching
+#: correction is full and where it has faded (see :func:`switch_corrected_delta_Ep_V`).
+SWITCH_EFFECT_RANGE_MV = (57.0, 141.0)
 #: Nicholson's working curve was computed for α = 0.5 and is nearly independent of α for
 #: 0.3 < α < 0.7 (Nicholson 1965, from memory); outside that range it is flagged.
 ALPHA_TABLE_RANGE = (0.3, 0.7)
@@ -181,19 +190,32 @@ def k0_klingler_kochi_cm_s(
     )
 
 
+def switch_effect_weight(n_delta_Ep_V: float, *, temperature_K: float = 298.15) -> float:
+    """Share of the Nernstian switch effect on ΔEp kept at this n·ΔEp (1 … 0).
+
+    (141 − n·ΔEp)/(141 − 57) with n·ΔEp in mV at 25 °C, clipped to 0…1; see the module
+    notes for the independent computation behind it.
+    """
+    x25 = 1e3 * n_delta_Ep_V * STANDARD_TEMPERATURE_K / temperature_K
+    low, high = SWITCH_EFFECT_RANGE_MV
+    return min(1.0, max(0.0, (high - x25) / (high - low)))
+
+
 def switch_corrected_delta_Ep_V(
     delta_Ep_V: float,
     *,
     switching_offset_V: float,
-    forward_peak_offset_V: float,
     electrons: int,
     temperature_K: float = 298.15,
 ) -> float:
-    """ΔEp moved to the table's switching potential (90/n mV past the forward peak).
+    """ΔEp moved to the table's switching potential (112.5/n mV beyond E½).
 
     The Nernstian shift of ΔEp with the switching potential (Nicholson & Shain's table,
-    :func:`cvfit.screen.reversibility.nernstian_delta_Ep_V`) is added as a correction:
-    ΔEp + ΔEp_N(table switch) − ΔEp_N(actual switch).
+    :func:`cvfit.screen.reversibility.nernstian_delta_Ep_V`) is added as a correction,
+    scaled by the weight w = (141 − n·ΔEp)/(141 − 57) (mV at 25 °C, clipped to 0…1):
+    ΔEp + w·[ΔEp_N(table switch) − ΔEp_N(actual switch)]. In the reversible limit w = 1;
+    from ψ = 0.25 (n·ΔEp = 141 mV) on, where ΔEp hardly moves with the switch, w = 0 (see
+    the module notes for the independent computation behind the weight).
 
     Parameters
     ----------
@@ -201,17 +223,26 @@ def switch_corrected_delta_Ep_V(
         Measured Epa − Epc, V.
     switching_offset_V : float
         |Eλ − E½|, V.
-    forward_peak_offset_V : float
-        |Ep(forward) − E½|, V.
+    electrons : int
+        n of the couple.
+    temperature_K : float
+        Temperature, K.
+
+    References
+    ----------
+    Nicholson, R. S.; Shain, I. Anal. Chem. 36 (1964) 706 (the reversible dependence).
+    Nicholson, R. S. Anal. Chem. 37 (1965) 1351.
     """
     from .reversibility import nernstian_delta_Ep_V
 
     scale = temperature_K / STANDARD_TEMPERATURE_K
-    table_offset = abs(forward_peak_offset_V) + TABLE_SWITCH_PAST_PEAK_V * scale / electrons
+    weight = switch_effect_weight(electrons * delta_Ep_V, temperature_K=temperature_K)
+    if weight == 0.0:
+        return float(delta_Ep_V)
+    table_offset = TABLE_SWITCH_PAST_E_HALF_V * scale / electrons
     kw = {"electrons": electrons, "temperature_K": temperature_K}
-    return (
-        delta_Ep_V
-        + nernstian_delta_Ep_V(switching_offset_V=table_offset, **kw)
+    return delta_Ep_V + weight * (
+        nernstian_delta_Ep_V(switching_offset_V=table_offset, **kw)
         - nernstian_delta_Ep_V(switching_offset_V=abs(switching_offset_V), **kw)
     )
 

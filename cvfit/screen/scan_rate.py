@@ -8,9 +8,13 @@ relations, estimates D from the Randles–Ševčík slope when area and concentr
 known, decides whether ΔEp grows with v, and tells the iR signature from slow kinetics
 by comparing two one-parameter models of the excess n·ΔEp:
 
-* iR: excess = c · i_p (proportional to the forward peak current);
-* kinetics: excess = X(K / √v) − X_rev, with X(ψ) Nicholson's working curve
-  (:mod:`cvfit.screen.rate_constant`) and K = k0/(π D n F/RT)^½ the one free parameter.
+* iR: excess = c · i_p + e · v, e >= 0 (the drop of the forward peak current and of the
+  charging current through R_u);
+* kinetics: excess = X(K / √v) − X_rev + (1 − w)·(X_rev − X_N), with X(ψ) Nicholson's
+  working curve at the table's switch (:mod:`cvfit.screen.rate_constant`), X_rev its
+  reversible limit, X_N the Nernstian n·ΔEp at the file's own switch, w the share of the
+  switch effect that survives at X (:func:`cvfit.screen.rate_constant.switch_effect_weight`)
+  and K = k0/(π D n F/RT)^½ the one free parameter.
 
 References
 ----------
@@ -33,7 +37,8 @@ from cvfit.flags import Flag
 from cvfit.quantity import Quantity, chi2_upper_quantile, clean_number, t_quantile
 from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K
 
-from .rate_constant import PSI_TABLE
+from .rate_constant import PSI_TABLE, TABLE_SWITCH_PAST_E_HALF_V, switch_effect_weight
+from .reversibility import nernstian_delta_Ep_V
 
 __all__ = [
     "ScanRatePoint",
@@ -65,7 +70,8 @@ class ScanRatePoint:
     """One voltammogram of a scan-rate study (values from its peak analysis).
 
     ``excess_n_delta_Ep_V`` is n·(ΔEp − ΔEp_N) with ΔEp_N the Nernstian value for the
-    file's own switch, so files with different switching potentials compare.
+    file's own switch, so files with different switching potentials compare;
+    ``nernstian_n_delta_Ep_V`` is that n·ΔEp_N, V (None: taken as at the table's switch).
     """
 
     file: str
@@ -78,6 +84,7 @@ class ScanRatePoint:
     E_half_stderr_V: float | None
     reversible: bool | None = None
     Ep_forward_V: float | None = None
+    nernstian_n_delta_Ep_V: float | None = None
 
     def __post_init__(self) -> None:
         v = float(self.scan_rate_V_s)
@@ -209,7 +216,7 @@ def working_curve_n_delta_Ep_V(psi: np.ndarray, *, alpha: float = 0.5) -> np.nda
     """Nicholson's n·ΔEp(ψ) at 25 °C, V (table switch), for any ψ > 0.
 
     Log-ψ interpolation of the table for 0.1 ≤ ψ ≤ 20, Klingler–Kochi's relation below
-    ψ = 0.1, and an approach ∝ 1/ψ to the Nernstian 59.2 mV above ψ = 20.
+    ψ = 0.1, and an approach ∝ 1/ψ to the Nernstian 60.1 mV (at the table's switch) above ψ = 20.
 
     References
     ----------
@@ -221,7 +228,8 @@ def working_curve_n_delta_Ep_V(psi: np.ndarray, *, alpha: float = 0.5) -> np.nda
     xs = np.array([x for _, x in PSI_TABLE])[::-1]
     f = FARADAY / (GAS_CONSTANT * STANDARD_TEMPERATURE_K)
     out = np.interp(np.log(psi), lp, xs) * 1e-3
-    x_rev = 0.0592  # Nernstian n·ΔEp at the table's switch (~120 mV past E½), V
+    # Nernstian n·ΔEp at the table's switch (112.5 mV beyond E½), V
+    x_rev = nernstian_delta_Ep_V(switching_offset_V=TABLE_SWITCH_PAST_E_HALF_V)
     hi = psi > PSI_TABLE[0][0]
     out[hi] = x_rev + (0.061 - x_rev) * PSI_TABLE[0][0] / psi[hi]
     lo = psi < PSI_TABLE[-1][0]
@@ -230,16 +238,39 @@ def working_curve_n_delta_Ep_V(psi: np.ndarray, *, alpha: float = 0.5) -> np.nda
 
 
 def _fit_excess_models(
-    v: np.ndarray, ip: np.ndarray, excess: np.ndarray, w: np.ndarray, electrons: int, scale: float
+    v: np.ndarray,
+    ip: np.ndarray,
+    excess: np.ndarray,
+    w: np.ndarray,
+    own: np.ndarray,
+    scale: float,
 ) -> tuple[float, float, float, float]:
-    """χ² of the iR and kinetics models and the iR coefficient c (V/A) with its SD."""
-    c = float(np.sum(w * ip * excess) / np.sum(w * ip**2))
-    sd_c = math.sqrt(1.0 / float(np.sum(w * ip**2)))
-    chi_ir = float(np.sum(w * (excess - c * ip) ** 2))
+    """χ² of the iR and kinetics models and the iR coefficient c (V/A) with its SD.
+
+    The iR model is excess = c·i_p + e·v with e >= 0: the drop of the charging current
+    C_dl·v through R_u adds to that of the peak current (e = 2 R_u C_dl); when the
+    unconstrained e comes out negative the model is c·i_p alone.
+    ``own`` is n·ΔEp_N at each file's switch (V, at the temperature; NaN: the table's).
+    """
+    X = np.column_stack([ip, v])
+    gram = X.T @ (w[:, None] * X)
+    coef = np.linalg.solve(gram, X.T @ (w * excess))
+    if coef[1] > 0:
+        c = float(coef[0])
+        sd_c = math.sqrt(float(np.linalg.inv(gram)[0, 0]))
+        chi_ir = float(np.sum(w * (excess - X @ coef) ** 2))
+    else:
+        c = float(np.sum(w * ip * excess) / np.sum(w * ip**2))
+        sd_c = math.sqrt(1.0 / float(np.sum(w * ip**2)))
+        chi_ir = float(np.sum(w * (excess - c * ip) ** 2))
     base = working_curve_n_delta_Ep_V(np.array([1e6]))[0]
+    # the switch effect between the table's switch and each file's own, where it survives
+    gap = np.where(np.isnan(own), 0.0, base * scale - own)
 
     def chi_kin(logK: float) -> float:
-        model = (working_curve_n_delta_Ep_V(np.exp(logK) / np.sqrt(v)) - base) * scale
+        X = working_curve_n_delta_Ep_V(np.exp(logK) / np.sqrt(v))
+        kept = np.array([switch_effect_weight(x) for x in X])
+        model = (X - base) * scale + (1.0 - kept) * gap
         return float(np.sum(w * (excess - model) ** 2))
 
     grid = np.linspace(math.log(1e-4), math.log(1e3), 120)
@@ -361,7 +392,13 @@ def analyse_scan_rate_study(
             )
             ipx = np.array([p.ip_A or 0.0 for p in exc])
             if np.all(ipx > 0):
-                chi_ir, chi_kin, c, sd_c = _fit_excess_models(v, ipx, y, w, n, scale)
+                own = np.array(
+                    [
+                        math.nan if p.nernstian_n_delta_Ep_V is None else p.nernstian_n_delta_Ep_V
+                        for p in exc
+                    ]
+                )
+                chi_ir, chi_kin, c, sd_c = _fit_excess_models(v, ipx, y, w, own, scale)
                 R = Quantity.from_t(c / (2 * n), sd_c / (2 * n), v.size - 1)
                 chi_crit = chi2_upper_quantile(MODEL_REJECT_P, v.size - 1)
                 if chi_ir * IR_MODEL_PREFERENCE < chi_kin and chi_kin > chi_crit:
