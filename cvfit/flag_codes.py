@@ -188,6 +188,9 @@ _CATALOGUE = (
              "formed (a peak current is missing); fitted without it."),
     FlagCode("CURRENT_RATIO_SCAN_RATE_UNKNOWN", _I, "Some scan rates are unknown; peak "
              "currents were compared without the v^½ normalisation."),
+    FlagCode("DIFFUSION_TERM_SHARED_RATIO", _I, "Both forms complexed: the reduced form's "
+             "diffusion ratio, which reduction peak currents do not measure, was taken from "
+             "the same complex-to-free D fraction as the oxidised form's."),
 )  # fmt: skip
 
 #: Every flag code, by code, in the order above (grouped by where it is raised).

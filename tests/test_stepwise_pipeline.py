@@ -228,3 +228,38 @@ def test_batch_summary_of_a_stepwise_series(stepwise_run, tmp_path):
     assert all(abs(v - t) < 0.3 for (v, _), t in zip(outcome.log10_beta, TRUTH, strict=True))
     text = format_batch_summary([outcome])
     assert "log10 β_j (stepwise)" in text and "exit status 0" in text
+
+
+def test_diffusion_term_with_both_forms_complexed(tmp_path):
+    """Both forms complexed, the oxidised form's constant fixed, every complex diffusing at
+    0.4 of its free ion's D (simulated truth log β_red,1 = 1.5). The right term is
+    ½ ln[(D_O,s·D_R,c)/(D_R,s·D_O,c)] (Lingane, Chem. Rev. 29 (1941) 1); ln(Is/Ic) alone
+    carried only D_O and gave 1.304 [1.296, 1.312]."""
+    from cvfit.pipeline.series import analyse_manifest_file
+
+    free = [0.0, *np.logspace(-3, 0, 9)]
+    simulate_series(
+        tmp_path,
+        ligand_M=free,
+        E_half_free_V=0.0,
+        log10_beta_ox=(3.0,),
+        log10_beta_red=(1.5,),
+        noise_fraction=0.002,
+        seed=3,
+        start_V=0.45,
+        switch_V=-0.55,
+        D_ox_cm2_s=1e-5,
+        D_red_cm2_s=1e-5,
+        D_ox_complexed_cm2_s=0.4e-5,
+        D_red_complexed_cm2_s=0.4e-5,
+    )
+    entries = [
+        {"file": f"titr_{k:02d}.csv", "ligand_M": float(c), "scan_rate_V_s": 0.1}
+        for k, c in enumerate(free)
+    ]
+    fit = {"model": "stepwise", "max_complexes": 2, "fixed_log10_beta_ox": [3.0]}
+    m = write_manifest(tmp_path / "m.toml", entries, series={"electrons": 1}, fit=fit)
+    got = analyse_manifest_file(m).fit
+    beta = got.log10_beta[0]
+    assert beta.ci95[0] <= 1.5 <= beta.ci95[1] and abs(beta.value - 1.5) < 0.01, beta
+    assert any(f.code == "DIFFUSION_TERM_SHARED_RATIO" for f in got.flags)

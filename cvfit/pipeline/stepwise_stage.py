@@ -128,7 +128,13 @@ def run_stepwise(
         ratios, flags = current_ratios(used, reference, files)
     points = [
         StepwisePoint(
-            f.file, f.ligand_M, f.E_half_V, f.peaks.E_half_stderr_V, r, entries[f.file].pH
+            f.file,
+            f.ligand_M,
+            f.E_half_V,
+            f.peaks.E_half_stderr_V,
+            r,
+            entries[f.file].pH,
+            bulk_form="red" if f.peaks.first_sweep == "oxidation" else "ox",
         )
         for f, r in zip(used, ratios, strict=True)
     ]
