@@ -263,3 +263,37 @@ def test_diffusion_term_with_both_forms_complexed(tmp_path):
     beta = got.log10_beta[0]
     assert beta.ci95[0] <= 1.5 <= beta.ci95[1] and abs(beta.value - 1.5) < 0.01, beta
     assert any(f.code == "DIFFUSION_TERM_SHARED_RATIO" for f in got.flags)
+
+
+def test_anodic_first_series_balances_ligand_with_the_reduced_form(tmp_path):
+    """Bulk metal in the reduced form (oxidation first), reduced form not complexed: no
+    ligand is bound in the bulk, so free = total ligand (Bjerrum's mass balance with the
+    bulk form's constants, none here). Taking the bulk as the oxidised form used to
+    subtract M_T·n̄_ox and overstate the constants."""
+    from cvfit.pipeline.series import analyse_manifest_file
+
+    free = np.array([0.0, *np.logspace(-3.3, -0.3, 9)])
+    simulate_series(
+        tmp_path,
+        ligand_M=free,
+        E_half_free_V=0.0,
+        log10_beta_ox=TRUTH,
+        log10_beta_red=(),
+        noise_fraction=0.002,
+        seed=11,
+        start_V=-0.55,
+        switch_V=0.45,
+        initial_species="red",
+    )
+    entries = [
+        {"file": f"titr_{k:02d}.csv", "ligand_M": float(c), "scan_rate_V_s": 0.1}
+        for k, c in enumerate(free)
+    ]
+    series = {"electrons": 1, "metal_total_M": METAL_M}
+    fit = {"model": "stepwise", "max_complexes": 4}
+    m = write_manifest(tmp_path / "m.toml", entries, series=series, fit=fit)
+    result = analyse_manifest_file(m)
+    used = [f for f in result.files if f.used_in_fit]
+    np.testing.assert_allclose([f.free_ligand_M for f in used], free[1:], rtol=1e-9)
+    got = np.array(result.fit.log10_beta_values)
+    assert result.fit.n_complexes == 3 and np.all(np.abs(got - TRUTH) < 0.05), got
