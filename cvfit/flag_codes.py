@@ -191,6 +191,9 @@ _CATALOGUE = (
     FlagCode("DIFFUSION_TERM_SHARED_RATIO", _I, "Both forms complexed: the reduced form's "
              "diffusion ratio, which reduction peak currents do not measure, was taken from "
              "the same complex-to-free D fraction as the oxidised form's."),
+    FlagCode("ACTIVITY_TEMPERATURE_OUT_OF_RANGE", _W, "The temperature lies outside 0–100 "
+             "°C, where the Davies A is known from the permittivity of water; no "
+             "thermodynamic constants are reported."),
 )  # fmt: skip
 
 #: Every flag code, by code, in the order above (grouped by where it is raised).

@@ -38,7 +38,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from cvfit.chemistry.activity import thermodynamic_log10_beta
+from cvfit.chemistry.activity import (
+    WATER_PERMITTIVITY_RANGE_K,
+    debye_huckel_A,
+    thermodynamic_log10_beta,
+)
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import free_ligand_M, ligand_fraction_unprotonated
 from cvfit.flags import FitRefused, Flag
@@ -374,15 +378,27 @@ def fit_stepwise(
         and cond.metal_charge is not None
         and cond.ligand_charge is not None
     ):
-        z = cond.metal_charge - (electrons if state == "red" else 0)
-        vals = [b.value for b in betas]
-        t = thermodynamic_log10_beta(
-            vals,
-            metal_charge=z,
-            ligand_charge=cond.ligand_charge,
-            ionic_strength_M=cond.ionic_strength_M,
-        )
-        thermo = tuple(_shift(b, tv - b.value) for b, tv in zip(betas, t, strict=True))
+        lo, hi = WATER_PERMITTIVITY_RANGE_K
+        if lo <= temperature_K <= hi:
+            z = cond.metal_charge - (electrons if state == "red" else 0)
+            vals = [b.value for b in betas]
+            t = thermodynamic_log10_beta(
+                vals,
+                metal_charge=z,
+                ligand_charge=cond.ligand_charge,
+                ionic_strength_M=cond.ionic_strength_M,
+                A=debye_huckel_A(temperature_K),
+            )
+            thermo = tuple(_shift(b, tv - b.value) for b, tv in zip(betas, t, strict=True))
+        else:
+            flags.append(
+                Flag(
+                    "ACTIVITY_TEMPERATURE_OUT_OF_RANGE",
+                    f"{temperature_K - lo:.1f} °C lies outside 0–100 °C, where the "
+                    "permittivity of water (and so the Davies A) is known; no thermodynamic "
+                    "constants are reported",
+                )
+            )
     cov_beta = None if cov is None else tuple(tuple(float(x) for x in r) for r in cov[1:, 1:])
     return StepwiseFit(
         fitted_state=state,
