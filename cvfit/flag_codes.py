@@ -148,9 +148,12 @@ _CATALOGUE = (
              "reversibility screen; its E½ is used as E½(s) all the same."),
     FlagCode("REFERENCE_UNCERTAINTY_UNKNOWN", _I, "E½(s) has no standard error; the fit "
              "gives the reference the scatter of the titration points."),
-    FlagCode("LOW_LIGAND_EXCESS", _W, "Ligand is less than 10-fold in excess over the metal "
-             "(common practice): free ligand is overstated (Lingane) or corrected by the mass "
-             "balance (stepwise)."),
+    FlagCode("LOW_LIGAND_EXCESS", _W, "More than 10 % of the ligand is bound to the metal "
+             "(bound ligands × metal_total_M / total ligand; common practice: >= 10-fold "
+             "excess per bound ligand); the free ligand is corrected by the mass balance."),
+    FlagCode("LIGAND_DEPLETION_CORRECTED", _W, "The correction of the free ligand for "
+             "ligand bound to the metal (metal_total_M) moves a point by more than its E½ "
+             "noise; the point is fitted at the corrected free ligand."),
     # --- Lingane fit ---------------------------------------------------------------------
     FlagCode("TOO_FEW_POINTS", _E, "Too few usable titration points for a fit with a "
              "confidence interval; no constants are reported."),

@@ -44,7 +44,11 @@ from cvfit.chemistry.activity import (
     thermodynamic_log10_beta,
 )
 from cvfit.chemistry.complexation import log_leden_F0
-from cvfit.chemistry.speciation import free_ligand_M, ligand_fraction_unprotonated
+from cvfit.chemistry.speciation import (
+    BOUND_LIGAND_SHARE_MAX,
+    free_ligand_M,
+    ligand_fraction_unprotonated,
+)
 from cvfit.flags import FitRefused, Flag
 from cvfit.quantity import Quantity
 from cvfit.units import thermal_voltage
@@ -58,12 +62,9 @@ __all__ = [
     "SolutionConditions",
     "StepwiseFit",
     "fit_stepwise",
-    "LIGAND_EXCESS_MIN",
     "MIN_STEPWISE_POINTS",
 ]
 
-#: Ligand excess over metal below which bound ligand matters (common practice: >= 10-fold).
-LIGAND_EXCESS_MIN = 10.0
 #: Fewest titration points for one constant with one degree of freedom left.
 MIN_STEPWISE_POINTS = 2
 _MAX_ITERATIONS = 50
@@ -321,20 +322,35 @@ def fit_stepwise(
             )
         )
     if MT is not None:
-        excess = L_T / MT
-        low = [p.label for p, x in zip(pts, excess, strict=True) if x < LIGAND_EXCESS_MIN]
+        # Bound share of the ligand, MT·n̄/L_T = 1 − [L]/(α_L L_T), and what the correction
+        # does to each point's E½ under the chosen model.
+        share = 1.0 - L / (aL * L_T)
+        shift = np.abs(data_for(aL * L_T, y).model(chosen.params) - data.model(chosen.params))
+        low = [p.label for p, x in zip(pts, share, strict=True) if x > BOUND_LIGAND_SHARE_MAX]
+        moved = [p.label for p, d, s in zip(pts, shift, sig, strict=True) if d > s]
+        how = (
+            "free ligand from the mass balance with the fitted constants"
+            if self_consistent
+            else f"free ligand with {cond.bound_ligand_number:g} bound ligands per metal"
+        )
         if low:
-            how = (
-                "free ligand from the mass balance with the fitted constants"
-                if self_consistent
-                else f"free ligand with {cond.bound_ligand_number:g} bound ligands per metal"
-            )
             flags.append(
                 Flag(
                     "LOW_LIGAND_EXCESS",
-                    f"ligand less than {LIGAND_EXCESS_MIN:g}-fold over the metal in "
-                    f"{len(low)} point(s) ({', '.join(low)}); {how} was used (the correction "
-                    "is exact only if the constants are; common practice: >= 10-fold excess)",
+                    f"more than {100 * BOUND_LIGAND_SHARE_MAX:g} % of the ligand is bound to "
+                    f"the metal in {len(low)} point(s) ({', '.join(low)}; up to "
+                    f"{100 * float(share.max()):.1f} %); {how} was used (the correction is "
+                    "exact only if the constants are; common practice: >= 10-fold excess "
+                    "per bound ligand)",
+                )
+            )
+        if moved:
+            flags.append(
+                Flag(
+                    "LIGAND_DEPLETION_CORRECTED",
+                    f"the bound-ligand correction moves {len(moved)} point(s) "
+                    f"({', '.join(moved)}) by more than their E½ noise (up to "
+                    f"{1e3 * float(shift.max()):.2f} mV); {how} was used",
                 )
             )
     if not weighted:

@@ -31,12 +31,7 @@ __all__ = [
     "analyse_file",
     "analyse_files",
     "check_jobs",
-    "LIGAND_EXCESS_MIN",
 ]
-
-#: Ligand excess over metal below which the free-ligand assumption is doubtful
-#: (common practice: keep the ligand in >= 10-fold excess).
-LIGAND_EXCESS_MIN = 10.0
 
 def resistance_for(entry: object, series: object) -> float | None:
     """R_u of one file: its own ``resistance_ohm``, else the series value, else None."""
@@ -126,17 +121,6 @@ def analyse_file(
         )
     else:
         e_half, correction = peaks.E_half_V, 0.0
-    metal = series.metal_total_M
-    lingane = manifest.fit.model == "lingane"  # the stepwise model corrects [L] itself
-    if lingane and metal is not None and 0 < entry.ligand_M < LIGAND_EXCESS_MIN * metal:
-        flags.append(
-            Flag(
-                "LOW_LIGAND_EXCESS",
-                f"ligand is only {entry.ligand_M / metal:.1f}-fold in excess over the metal "
-                f"({entry.ligand_M:.3g} M vs {metal:.3g} M); total ligand was used as free "
-                "ligand, which overstates [L] (keep >= 10-fold excess, common practice)",
-            )
-        )
     return FileResult(
         file=entry.name,
         ligand_M=entry.ligand_M,
