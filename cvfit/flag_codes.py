@@ -154,6 +154,10 @@ _CATALOGUE = (
     FlagCode("LIGAND_DEPLETION_CORRECTED", _W, "The correction of the free ligand for "
              "ligand bound to the metal (metal_total_M) moves a point by more than its E½ "
              "noise; the point is fitted at the corrected free ligand."),
+    FlagCode("D_IMPLAUSIBLE", _W, "A diffusion coefficient outside 1e-7–1e-3 cm²/s: most "
+             "often a wrong current unit, electrode area or analyte concentration."),
+    FlagCode("K0_IMPLAUSIBLE", _W, "A standard rate constant above 10 cm/s: most often a "
+             "wrong current unit, electrode area or analyte concentration."),
     # --- Lingane fit ---------------------------------------------------------------------
     FlagCode("TOO_FEW_POINTS", _E, "Too few usable titration points for a fit with a "
              "confidence interval; no constants are reported."),
