@@ -148,9 +148,16 @@ _CATALOGUE = (
              "reversibility screen; its E½ is used as E½(s) all the same."),
     FlagCode("REFERENCE_UNCERTAINTY_UNKNOWN", _I, "E½(s) has no standard error; the fit "
              "gives the reference the scatter of the titration points."),
-    FlagCode("LOW_LIGAND_EXCESS", _W, "Ligand is less than 10-fold in excess over the metal "
-             "(common practice): free ligand is overstated (Lingane) or corrected by the mass "
-             "balance (stepwise)."),
+    FlagCode("LOW_LIGAND_EXCESS", _W, "More than 10 % of the ligand is bound to the metal "
+             "(bound ligands × metal_total_M / total ligand; common practice: >= 10-fold "
+             "excess per bound ligand); the free ligand is corrected by the mass balance."),
+    FlagCode("LIGAND_DEPLETION_CORRECTED", _W, "The correction of the free ligand for "
+             "ligand bound to the metal (metal_total_M) moves a point by more than its E½ "
+             "noise; the point is fitted at the corrected free ligand."),
+    FlagCode("D_IMPLAUSIBLE", _W, "A diffusion coefficient outside 1e-7–1e-3 cm²/s: most "
+             "often a wrong current unit, electrode area or analyte concentration."),
+    FlagCode("K0_IMPLAUSIBLE", _W, "A standard rate constant above 10 cm/s: most often a "
+             "wrong current unit, electrode area or analyte concentration."),
     # --- Lingane fit ---------------------------------------------------------------------
     FlagCode("TOO_FEW_POINTS", _E, "Too few usable titration points for a fit with a "
              "confidence interval; no constants are reported."),
@@ -188,6 +195,12 @@ _CATALOGUE = (
              "formed (a peak current is missing); fitted without it."),
     FlagCode("CURRENT_RATIO_SCAN_RATE_UNKNOWN", _I, "Some scan rates are unknown; peak "
              "currents were compared without the v^½ normalisation."),
+    FlagCode("DIFFUSION_TERM_SHARED_RATIO", _I, "Both forms complexed: the reduced form's "
+             "diffusion ratio, which reduction peak currents do not measure, was taken from "
+             "the same complex-to-free D fraction as the oxidised form's."),
+    FlagCode("ACTIVITY_TEMPERATURE_OUT_OF_RANGE", _W, "The temperature lies outside 0–100 "
+             "°C, where the Davies A is known from the permittivity of water; no "
+             "thermodynamic constants are reported."),
 )  # fmt: skip
 
 #: Every flag code, by code, in the order above (grouped by where it is raised).

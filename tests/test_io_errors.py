@@ -264,3 +264,16 @@ def test_input_file_opened_read_only(tmp_path):
     p.chmod(0o444)
     vg = read_voltammogram(p)
     assert np.all(np.isfinite(vg.current_A))
+
+
+def test_manifest_unit_contradicting_the_label_is_refused(tmp_path):
+    """current_unit = "mA" for a column labelled "Current (µA)" once scaled the current a
+    thousandfold without a word (D came out 6.96 cm²/s): now a one-line InputError."""
+    p = _write(tmp_path, _csv(tmp_path, header="Potential (V),Current (µA)"))
+    err = _error(p, ImportOptions(current_unit="mA"))
+    text = str(err)
+    assert "d.csv" in text and "Current (µA)" in text and "'mA'" in text and "'µA'" in text
+    assert "\n" not in text
+    # The same unit in another spelling is no contradiction.
+    v = read_voltammogram(p, ImportOptions(current_unit="uA"))
+    assert np.isfinite(v.current_A).all()

@@ -126,3 +126,20 @@ def test_thermodynamic_constant_of_a_neutral_ligand_complex():
     # M²⁺ + L⁻ → ML⁺: log β° = log β + log γ(1) - log γ(2) - log γ(1) = log β - log γ(2).
     t = thermodynamic_log10_beta([3.0], metal_charge=2, ligand_charge=-1, ionic_strength_M=0.1)
     assert t[0] == pytest.approx(3.0 - math.log10(0.3732), abs=1e-4)
+
+
+def test_debye_huckel_A_follows_the_permittivity_of_water():
+    from cvfit.chemistry.activity import debye_huckel_A, water_relative_permittivity
+
+    # Malmberg & Maryott, J. Res. NBS 56 (1956) 1, ε_r of water (from memory):
+    # 87.74 at 0 °C, 78.30 at 25 °C, 69.91 at 50 °C, 55.72 at 100 °C.
+    for t, eps in ((0.0, 87.74), (25.0, 78.30), (50.0, 69.91), (100.0, 55.72)):
+        T = 273.15 + t
+        assert water_relative_permittivity(T) == pytest.approx(eps, abs=0.02)
+        # Robinson & Stokes, Electrolyte Solutions (1959): A = 1.8246e6 (ε_r T)^-3/2
+        # (from memory); 0.4918 at 0 °C, about 0.51 at 25 °C.
+        assert debye_huckel_A(T) == pytest.approx(1.8246e6 * (eps * T) ** -1.5, rel=5e-4)
+    assert debye_huckel_A(273.15) == pytest.approx(0.4918, abs=5e-4)
+    assert debye_huckel_A(333.15) > debye_huckel_A(298.15) > debye_huckel_A(273.15)
+    with pytest.raises(ValueError):
+        debye_huckel_A(393.15)

@@ -24,7 +24,12 @@ from scipy import optimize
 
 from .complexation import log_leden_F0
 
+#: Share of the analytical ligand bound to the metal above which a point is flagged
+#: (common practice: a >= 10-fold ligand excess per bound ligand).
+BOUND_LIGAND_SHARE_MAX = 0.1
+
 __all__ = [
+    "BOUND_LIGAND_SHARE_MAX",
     "leden_F_functions",
     "species_fractions",
     "mean_ligand_number",

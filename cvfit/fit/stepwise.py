@@ -8,8 +8,11 @@ binding reduced state) DeFord and Hume's relation
 is fitted as E½ itself (weighted non-linear least squares, see
 :mod:`cvfit.fit.stepwise_least_squares`), with N chosen by an F-test
 (:mod:`cvfit.fit.stepwise_model_choice`). In the general ratio model both
-forms are complexed, E½ shift = −(RT/nF) ln(F0,ox/F0,red), and the constants of one form
-are given to obtain the other's. With ``metal_total_M`` the free ligand at every point
+forms are complexed, E½ shift = −(RT/nF) ln(F0,ox/F0,red) + (RT/2nF)
+ln[(D_O,s·D_R,c)/(D_R,s·D_O,c)], and the constants of one form are given to obtain the
+other's; ln(Is/Ic) measures the D_O half of the diffusion term, the D_R half is modelled
+with a complex-to-free D fraction shared by both forms (see ``_diffusion_term``).
+With ``metal_total_M`` the free ligand at every point
 comes from the mass balance with the fitted constants, iterated to self-consistency; with
 ligand pKa values and the pH the fit gives absolute constants (free unprotonated ligand)
 and the conditional ones are derived at every pH measured.
@@ -35,9 +38,17 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from cvfit.chemistry.activity import thermodynamic_log10_beta
+from cvfit.chemistry.activity import (
+    WATER_PERMITTIVITY_RANGE_K,
+    debye_huckel_A,
+    thermodynamic_log10_beta,
+)
 from cvfit.chemistry.complexation import log_leden_F0
-from cvfit.chemistry.speciation import free_ligand_M, ligand_fraction_unprotonated
+from cvfit.chemistry.speciation import (
+    BOUND_LIGAND_SHARE_MAX,
+    free_ligand_M,
+    ligand_fraction_unprotonated,
+)
 from cvfit.flags import FitRefused, Flag
 from cvfit.quantity import Quantity
 from cvfit.units import thermal_voltage
@@ -51,12 +62,9 @@ __all__ = [
     "SolutionConditions",
     "StepwiseFit",
     "fit_stepwise",
-    "LIGAND_EXCESS_MIN",
     "MIN_STEPWISE_POINTS",
 ]
 
-#: Ligand excess over metal below which bound ligand matters (common practice: >= 10-fold).
-LIGAND_EXCESS_MIN = 10.0
 #: Fewest titration points for one constant with one degree of freedom left.
 MIN_STEPWISE_POINTS = 2
 _MAX_ITERATIONS = 50
@@ -80,6 +88,9 @@ class StepwisePoint:
         ln(Is/Ic), the DeFord–Hume correction from the peak currents (None: not applied).
     pH : float or None
         pH of this solution (None: the series-wide value).
+    bulk_form : {"ox", "red"}
+        Form the metal is in the bulk solution (the one the first sweep consumes: "red"
+        for an oxidation first); its constants enter the free-ligand mass balance.
     """
 
     label: str
@@ -88,8 +99,11 @@ class StepwisePoint:
     E_half_stderr_V: float | None = None
     ln_current_ratio: float | None = None
     pH: float | None = None
+    bulk_form: str = "ox"
 
     def __post_init__(self) -> None:
+        if self.bulk_form not in ("ox", "red"):
+            raise ValueError(f"{self.label}: bulk_form must be 'ox' or 'red'")
         for name in ("ligand_M", "E_half_V"):
             v = float(getattr(self, name))
             if not math.isfinite(v):
@@ -247,25 +261,43 @@ def fit_stepwise(
     else:
         L = aL * L_T
 
-    def data_for(L_free: np.ndarray) -> StepwiseData:
+    def data_for(L_free: np.ndarray, y_obs: np.ndarray) -> StepwiseData:
         other = log_leden_F0(L_free, fixed)
-        return StepwiseData(L_free, y, sig, float(reference_E_half_V), ref_sig, k, sign, other)
+        return StepwiseData(
+            L_free, y_obs, sig, float(reference_E_half_V), ref_sig, k, sign, other
+        )
 
+    # Both forms complexed: the reduction peaks measure only D_O,c/D_O,s; the reduced form's
+    # ratio comes from the shared complex-to-free ratio r (see _diffusion_term).
+    has_ratio = any(p.ln_current_ratio is not None for p in pts)
+    both_complexed = bool(fixed) and has_ratio
+    bulk_red = np.array([p.bulk_form == "red" for p in pts])
     iterations = 0
     self_consistent = MT is not None and cond.bound_ligand_number is None
+    shared_r = math.nan
     while True:
-        data = data_for(L)
+        data = data_for(L, y)
         fits = fit_all_candidates(data, max_complexes)
         chosen = choose_candidate(fits, alpha=alpha)
         iterations += 1
-        if not self_consistent:
+        if not (self_consistent or both_complexed):
             break
-        bulk = chosen.params[1:] if state == "ox" else np.array(fixed)
-        new = np.array(
-            [free_ligand_M(lt, MT, bulk, alpha_L=a) for lt, a in zip(L_T, aL, strict=True)]
-        )
-        change = float(np.max(np.abs(np.log(new / L))))
-        L = new
+        ox_b, red_b = (chosen.params[1:], fixed) if state == "ox" else (fixed, chosen.params[1:])
+        change = 0.0
+        if self_consistent:
+            new = np.array(
+                [
+                    free_ligand_M(lt, MT, red_b if r else ox_b, alpha_L=a)
+                    for lt, a, r in zip(L_T, aL, bulk_red, strict=True)
+                ]
+            )
+            change = float(np.max(np.abs(np.log(new / L))))
+            L = new
+        if both_complexed:
+            term, shared_r = _diffusion_term(corr, L, ox_b, red_b)
+            y_new = E - k * term
+            change = max(change, float(np.max(np.abs(y_new - y))) / k)
+            y = y_new
         if change < 1e-7:
             break
         if iterations >= _MAX_ITERATIONS:
@@ -277,21 +309,48 @@ def fit_stepwise(
                 )
             )
             break
-    if MT is not None:
-        excess = L_T / MT
-        low = [p.label for p, x in zip(pts, excess, strict=True) if x < LIGAND_EXCESS_MIN]
-        if low:
-            how = (
-                "free ligand from the mass balance with the fitted constants"
-                if self_consistent
-                else f"free ligand with {cond.bound_ligand_number:g} bound ligands per metal"
+    if both_complexed:
+        flags.append(
+            Flag(
+                "DIFFUSION_TERM_SHARED_RATIO",
+                "both forms complexed: the diffusion term ½ ln[(D_O,s·D_R,c)/(D_R,s·D_O,c)] "
+                "needs the reduced form's D ratio, which reduction peak currents do not "
+                f"measure; its complexes were taken to diffuse at the same fraction "
+                f"(r = {shared_r:.3g}, from the currents) of the free ion's D as the "
+                "oxidised form's",
+                "info",
             )
+        )
+    if MT is not None:
+        # Bound share of the ligand, MT·n̄/L_T = 1 − [L]/(α_L L_T), and what the correction
+        # does to each point's E½ under the chosen model.
+        share = 1.0 - L / (aL * L_T)
+        shift = np.abs(data_for(aL * L_T, y).model(chosen.params) - data.model(chosen.params))
+        low = [p.label for p, x in zip(pts, share, strict=True) if x > BOUND_LIGAND_SHARE_MAX]
+        moved = [p.label for p, d, s in zip(pts, shift, sig, strict=True) if d > s]
+        how = (
+            "free ligand from the mass balance with the fitted constants"
+            if self_consistent
+            else f"free ligand with {cond.bound_ligand_number:g} bound ligands per metal"
+        )
+        if low:
             flags.append(
                 Flag(
                     "LOW_LIGAND_EXCESS",
-                    f"ligand less than {LIGAND_EXCESS_MIN:g}-fold over the metal in "
-                    f"{len(low)} point(s) ({', '.join(low)}); {how} was used (the correction "
-                    "is exact only if the constants are; common practice: >= 10-fold excess)",
+                    f"more than {100 * BOUND_LIGAND_SHARE_MAX:g} % of the ligand is bound to "
+                    f"the metal in {len(low)} point(s) ({', '.join(low)}; up to "
+                    f"{100 * float(share.max()):.1f} %); {how} was used (the correction is "
+                    "exact only if the constants are; common practice: >= 10-fold excess "
+                    "per bound ligand)",
+                )
+            )
+        if moved:
+            flags.append(
+                Flag(
+                    "LIGAND_DEPLETION_CORRECTED",
+                    f"the bound-ligand correction moves {len(moved)} point(s) "
+                    f"({', '.join(moved)}) by more than their E½ noise (up to "
+                    f"{1e3 * float(shift.max()):.2f} mV); {how} was used",
                 )
             )
     if not weighted:
@@ -335,15 +394,27 @@ def fit_stepwise(
         and cond.metal_charge is not None
         and cond.ligand_charge is not None
     ):
-        z = cond.metal_charge - (electrons if state == "red" else 0)
-        vals = [b.value for b in betas]
-        t = thermodynamic_log10_beta(
-            vals,
-            metal_charge=z,
-            ligand_charge=cond.ligand_charge,
-            ionic_strength_M=cond.ionic_strength_M,
-        )
-        thermo = tuple(_shift(b, tv - b.value) for b, tv in zip(betas, t, strict=True))
+        lo, hi = WATER_PERMITTIVITY_RANGE_K
+        if lo <= temperature_K <= hi:
+            z = cond.metal_charge - (electrons if state == "red" else 0)
+            vals = [b.value for b in betas]
+            t = thermodynamic_log10_beta(
+                vals,
+                metal_charge=z,
+                ligand_charge=cond.ligand_charge,
+                ionic_strength_M=cond.ionic_strength_M,
+                A=debye_huckel_A(temperature_K),
+            )
+            thermo = tuple(_shift(b, tv - b.value) for b, tv in zip(betas, t, strict=True))
+        else:
+            flags.append(
+                Flag(
+                    "ACTIVITY_TEMPERATURE_OUT_OF_RANGE",
+                    f"{temperature_K - lo:.1f} °C lies outside 0–100 °C, where the "
+                    "permittivity of water (and so the Davies A) is known; no thermodynamic "
+                    "constants are reported",
+                )
+            )
     cov_beta = None if cov is None else tuple(tuple(float(x) for x in r) for r in cov[1:, 1:])
     return StepwiseFit(
         fitted_state=state,
@@ -372,6 +443,44 @@ def fit_stepwise(
         weighted=weighted,
         flags=tuple(flags),
     )
+
+
+def _diffusion_term(
+    ln_ratio_ox: np.ndarray,
+    L_free: np.ndarray,
+    log10_beta_ox: Sequence[float],
+    log10_beta_red: Sequence[float],
+) -> tuple[np.ndarray, float]:
+    """½ ln[(D_O,s·D_R,c)/(D_R,s·D_O,c)] when both forms are complexed.
+
+    The reduction peak current of a reversible voltammogram depends on D_O only, so
+    ``ln_ratio_ox`` = ln(Is/Ic) = ½ ln(D_O,s/D_O,c) is measured and D_R,c/D_R,s is not.
+    Each form's D is taken as the mole-fraction mean of free ion and complexes, with the
+    complexes of both forms at one common fraction r of their free ion's D:
+    D_c/D_s = f + r(1 − f), f = 1/F0 the free fraction. r is the least-squares value from
+    the measured D_O,c/D_O,s; the reduced form's ratio follows with its own f.
+
+    Returns
+    -------
+    term : ndarray
+        ln(Is/Ic) + ½ ln(D_R,c/D_R,s) per point.
+    r : float
+        The common ratio used.
+
+    References
+    ----------
+    Lingane, J. J. Chem. Rev. 1941, 29, 1.
+    DeFord, D. D.; Hume, D. N. J. Am. Chem. Soc. 1951, 73, 5321.
+    """
+    f_ox = np.exp(-log_leden_F0(L_free, log10_beta_ox))
+    f_red = np.exp(-log_leden_F0(L_free, log10_beta_red))
+    rho_ox = np.exp(-2.0 * ln_ratio_ox)
+    x = 1.0 - f_ox
+    denom = float(np.sum(x * x))
+    r = float(np.sum(x * (rho_ox - f_ox)) / denom) if denom > 1e-12 else 1.0
+    r = min(max(r, 1e-3), 1e3)
+    rho_red = f_red + r * (1.0 - f_red)
+    return ln_ratio_ox + 0.5 * np.log(rho_red), r
 
 
 def _shift(q: Quantity, delta: float) -> Quantity:

@@ -175,7 +175,20 @@ def _scale(
 ) -> tuple[float, str]:
     """Scale factor to SI and the unit used, from the option, the label, else the SI unit."""
     if option is not None:
-        return table[normalise_unit(option)], option
+        factor = table[normalise_unit(option)]
+        if (
+            label is not None
+            and label.role == kind
+            and label.unit is not None
+            and table[label.unit] != factor
+        ):
+            raise InputError(
+                f"column {label.text!r}: its label says {label.unit_text or label.unit!r} but "
+                f"{kind}_unit in [import] says {option!r}; correct or remove {kind}_unit",
+                source=source,
+                key=f"{kind}_unit",
+            )
+        return factor, option
     if label is not None and label.role == kind and label.unit is not None:
         return table[label.unit], label.unit_text or label.unit
     if label is not None and label.unit_text is not None:

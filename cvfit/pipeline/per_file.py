@@ -31,12 +31,7 @@ __all__ = [
     "analyse_file",
     "analyse_files",
     "check_jobs",
-    "LIGAND_EXCESS_MIN",
 ]
-
-#: Ligand excess over metal below which the free-ligand assumption is doubtful
-#: (common practice: keep the ligand in >= 10-fold excess).
-LIGAND_EXCESS_MIN = 10.0
 
 def resistance_for(entry: object, series: object) -> float | None:
     """R_u of one file: its own ``resistance_ohm``, else the series value, else None."""
@@ -81,6 +76,37 @@ def _ratio_from_first_cycle(
     return replace(peaks, current_ratio=first.current_ratio, flags=(*flags, note))
 
 
+def _sign_convention_hint(
+    flags: list[Flag], v: Voltammogram, entry: VoltammogramEntry, series: object
+) -> list[Flag]:
+    """When the forward peak is missing but the mirrored record (current × −1) has a clean
+    one, say that the file may use the other current-sign convention."""
+    missing = [k for k, f in enumerate(flags) if f.code == "NO_FORWARD_PEAK"]
+    if not missing or entry.import_options.anodic_current is not None:
+        return flags
+    mirrored = analyse_peaks(
+        replace(v, current_A=-v.current_A),
+        cycle=entry.import_options.cycle,
+        electrons=series.electrons,
+        temperature_K=series.temperature_K,
+    )
+    clean = mirrored.E_half_V is not None and not any(
+        f.severity == "error" for f in mirrored.flags
+    )
+    if not clean:
+        return flags
+    k = missing[0]
+    old = flags[k]
+    flags[k] = Flag(
+        old.code,
+        f"{old.message}; with the current's sign reversed the record has a clean peak pair "
+        f"(E½ {mirrored.E_half_V:.4f} V): the current may be in the polarographic "
+        "convention (cathodic positive); set anodic_current in [import]",
+        old.severity,
+    )
+    return flags
+
+
 def analyse_file(
     entry: VoltammogramEntry,
     manifest: Manifest,
@@ -117,7 +143,7 @@ def analyse_file(
         temperature_K=series.temperature_K,
         criteria=manifest.reversibility,
     )
-    flags = list(peaks.flags)
+    flags = _sign_convention_hint(list(peaks.flags), v, entry, series)
     flags += [f for f in screen.flags if f.code not in {g.code for g in flags}]
     flags += ohmic_flags(peaks, resistance)
     if screen.reversible is True:
@@ -126,17 +152,6 @@ def analyse_file(
         )
     else:
         e_half, correction = peaks.E_half_V, 0.0
-    metal = series.metal_total_M
-    lingane = manifest.fit.model == "lingane"  # the stepwise model corrects [L] itself
-    if lingane and metal is not None and 0 < entry.ligand_M < LIGAND_EXCESS_MIN * metal:
-        flags.append(
-            Flag(
-                "LOW_LIGAND_EXCESS",
-                f"ligand is only {entry.ligand_M / metal:.1f}-fold in excess over the metal "
-                f"({entry.ligand_M:.3g} M vs {metal:.3g} M); total ligand was used as free "
-                "ligand, which overstates [L] (keep >= 10-fold excess, common practice)",
-            )
-        )
     return FileResult(
         file=entry.name,
         ligand_M=entry.ligand_M,

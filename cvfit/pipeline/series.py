@@ -16,17 +16,18 @@ import numpy as np
 
 from cvfit.errors import InputError
 from cvfit.fit.lingane import MIN_POINTS as MIN_FIT_POINTS
-from cvfit.fit.lingane import TitrationPoint, check_points, fit_lingane
+from cvfit.fit.lingane import TitrationPoint, check_points
 from cvfit.flags import FitRefused, Flag
 from cvfit.io import Manifest, load_manifest
 from cvfit.version import __version__
 from cvfit.voltammogram import Voltammogram
 
-from .per_file import LIGAND_EXCESS_MIN, analyse_files
+from .lingane_stage import run_lingane
+from .per_file import analyse_files
 from .results import FileResult, ReferenceHalfWave, SeriesConditions, SeriesResult, TitrationFit
 from .series_screen import diagnose_files
 
-__all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS", "LIGAND_EXCESS_MIN"]
+__all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS"]
 
 
 def analyse_manifest_file(path: str | Path, *, jobs: int = 1) -> SeriesResult:
@@ -103,14 +104,7 @@ def _fit_titration(
         from .stepwise_stage import run_stepwise
 
         return run_stepwise(files, manifest, reference)
-    fit = fit_lingane(
-        points,
-        electrons=manifest.series.electrons,
-        temperature_K=manifest.series.temperature_K,
-        reference_E_half_V=reference.E_half_V,
-        reference_stderr_V=reference.stderr_V,
-    )
-    return fit, files
+    return run_lingane(points, files, manifest, reference)
 
 
 def analyse_series(

@@ -214,5 +214,36 @@ def diagnose_files(
                     "ohmic drop more than the electron transfer",
                 )
             )
+        extra += _implausible(D, source, kin.k0_cm_s)
         out[k] = replace(f, classification=cls, kinetics=kin, flags=(*f.flags, cls.flag, *extra))
     return tuple(out), tuple(studies), tuple(series_flags)
+
+
+#: Physically possible diffusion coefficients in solution, cm²/s (common practice: small
+#: ions in water about 1e-5; nothing in a liquid beyond 1e-3 or, as a molecule, below 1e-7).
+D_PLAUSIBLE_CM2_S = (1e-7, 1e-3)
+#: Fastest standard rate constant a voltammogram can show, cm/s (common practice).
+K0_PLAUSIBLE_MAX_CM_S = 10.0
+
+
+def _implausible(D, source: str, k0) -> list[Flag]:
+    """Flags for a D or k0 no solution can have: most often a unit or area error."""
+    out = []
+    lo, hi = D_PLAUSIBLE_CM2_S
+    if D is not None and not lo <= D.value <= hi:
+        out.append(
+            Flag(
+                "D_IMPLAUSIBLE",
+                f"D = {D.value:.3g} cm²/s ({source}) lies outside {lo:g}–{hi:g} cm²/s; check "
+                "the current unit, electrode_area_cm2 and analyte_M",
+            )
+        )
+    if k0 is not None and k0.value > K0_PLAUSIBLE_MAX_CM_S:
+        out.append(
+            Flag(
+                "K0_IMPLAUSIBLE",
+                f"k0 = {k0.value:.3g} cm/s exceeds {K0_PLAUSIBLE_MAX_CM_S:g} cm/s; check the "
+                "current unit, electrode_area_cm2 and analyte_M",
+            )
+        )
+    return out

@@ -12,9 +12,9 @@ from dataclasses import replace
 
 import numpy as np
 
+from cvfit.chemistry.speciation import BOUND_LIGAND_SHARE_MAX
 from cvfit.errors import InputError
 from cvfit.fit.stepwise import (
-    LIGAND_EXCESS_MIN,
     SolutionConditions,
     StepwiseFit,
     StepwisePoint,
@@ -128,7 +128,13 @@ def run_stepwise(
         ratios, flags = current_ratios(used, reference, files)
     points = [
         StepwisePoint(
-            f.file, f.ligand_M, f.E_half_V, f.peaks.E_half_stderr_V, r, entries[f.file].pH
+            f.file,
+            f.ligand_M,
+            f.E_half_V,
+            f.peaks.E_half_stderr_V,
+            r,
+            entries[f.file].pH,
+            bulk_form="red" if f.peaks.first_sweep == "oxidation" else "ox",
         )
         for f, r in zip(used, ratios, strict=True)
     ]
@@ -157,19 +163,22 @@ def run_stepwise(
     if flags:
         fit = replace(fit, flags=tuple(flags) + fit.flags)
     free = dict(zip(fit.labels, fit.free_ligand_M, strict=True))
+    alpha = dict(zip(fit.labels, fit.log10_alpha_L, strict=True))
     out = []
-    metal = series.metal_total_M
     for f in files:
         new_flags = list(f.flags)
-        if metal is not None and 0 < f.ligand_M < LIGAND_EXCESS_MIN * metal:
-            new_flags.append(
-                Flag(
-                    "LOW_LIGAND_EXCESS",
-                    f"ligand is only {f.ligand_M / metal:.1f}-fold in excess over the metal "
-                    f"({f.ligand_M:.3g} M vs {metal:.3g} M); its free ligand is corrected for "
-                    "bound ligand by the mass balance (common practice: >= 10-fold excess)",
+        if f.file in free:
+            share = 1.0 - free[f.file] / (10.0 ** alpha[f.file] * f.ligand_M)
+            if share > BOUND_LIGAND_SHARE_MAX:
+                new_flags.append(
+                    Flag(
+                        "LOW_LIGAND_EXCESS",
+                        f"{100 * share:.1f} % of the ligand is bound to the metal "
+                        f"({f.ligand_M:.3g} M ligand, {series.metal_total_M:.3g} M metal); its "
+                        "free ligand is corrected by the mass balance (common practice: "
+                        ">= 10-fold excess per bound ligand)",
+                    )
                 )
-            )
         out.append(
             replace(f, free_ligand_M=free.get(f.file, f.free_ligand_M), flags=tuple(new_flags))
         )
