@@ -74,7 +74,8 @@ _CATALOGUE = (
              "Nicholson's current-ratio relation holds; the reverse peak height and ipa/ipc "
              "are not reported."),
     FlagCode("CURRENT_RATIO_FROM_FIRST_CYCLE", _I, "ipa/ipc was taken from cycle 1 of the "
-             "same record because the analysed cycle does not start at rest."),
+             "same record because the analysed cycle does not start at rest; the reverse "
+             "peak height is that ratio times the analysed cycle's forward height."),
     # --- reversibility screen ------------------------------------------------------------
     FlagCode("DELTA_EP_TOO_LARGE", _W, "ΔEp exceeds the Nernstian value by more than the "
              "margin: slow electron transfer or uncompensated resistance."),

@@ -35,7 +35,8 @@ class SeriesOutcome:
     ``log10_ratio`` and ``delta_ligands`` (p − q) with their standard errors come from a
     Lingane fit, ``log10_beta`` (log10 β_j with its standard error, j = 1 … N) from a
     stepwise fit; they are ``None`` (or empty) when the series failed, gave no constants or
-    was fitted with the other model. ``error`` is the one-line message of a failed series.
+    was fitted with the other model. ``error`` is the one-line message of a failed series;
+    ``screen`` what the reversibility screen found (``"1 of 8 failed, left out"``).
     """
 
     manifest: str
@@ -49,6 +50,7 @@ class SeriesOutcome:
     n_points: int | None = None
     error: str | None = None
     log10_beta: tuple[tuple[float, float], ...] = ()
+    screen: str | None = None
 
     def __post_init__(self) -> None:
         if self.status not in (STATUS_OK, STATUS_INPUT, STATUS_INTERNAL):
@@ -146,14 +148,17 @@ def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOu
     """The outcome of an analysed series: its constants, by the type of its fit."""
     from cvfit.fit.lingane import LinganeFit
     from cvfit.fit.stepwise_result import StepwiseFit
+    from cvfit.report.headline import screen_short
 
     fit = result.fit
+    screen = screen_short(result.to_dict())
     if isinstance(fit, LinganeFit):
         return SeriesOutcome(
             manifest,
             out_dir,
             STATUS_OK,
             title,
+            screen=screen,
             log10_ratio=fit.log10_beta_ratio.value,
             log10_ratio_stderr=fit.log10_beta_ratio.stderr,
             delta_ligands=fit.delta_ligands.value,
@@ -166,10 +171,13 @@ def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOu
             out_dir,
             STATUS_OK,
             title,
+            screen=screen,
             n_points=fit.n_points,
             log10_beta=tuple((q.value, q.stderr) for q in fit.log10_beta),
         )
-    return SeriesOutcome(manifest, out_dir, STATUS_OK, title, n_points=result.fit_n_points)
+    return SeriesOutcome(
+        manifest, out_dir, STATUS_OK, title, n_points=result.fit_n_points, screen=screen
+    )
 
 
 def default_jobs(n_series: int) -> int:
@@ -241,7 +249,7 @@ def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
     """
     stepwise = any(o.log10_beta for o in outcomes)
     head = ("series", "status", "log10(β_ox/β_red)", "p − q")
-    head += ("log10 β_j (stepwise)",) * stepwise + ("n", "output folder")
+    head += ("log10 β_j (stepwise)",) * stepwise + ("n", "screen", "output folder")
     rows = []
     for o in outcomes:
         betas = (", ".join(_pm(v, s) for v, s in o.log10_beta) or "n/d",) * stepwise
@@ -253,6 +261,7 @@ def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
                 _pm(o.delta_ligands, o.delta_ligands_stderr),
                 *betas,
                 "" if o.n_points is None else str(o.n_points),
+                o.screen or "-",
                 o.out_dir if o.status == STATUS_OK else "-",
             )
         )

@@ -53,7 +53,9 @@ def _ratio_from_first_cycle(
 
     Nicholson's relation (Anal. Chem. 38 (1966) 1406) assumes a forward sweep that begins
     at rest, so the peak analysis leaves the ratio of a later cycle undetermined; the
-    ratio is a property of the couple, and cycle 1 of the same record gives it.
+    ratio is a property of the couple, and cycle 1 of the same record gives it. The reverse
+    peak height is then reported as that ratio times this cycle's forward height — the
+    definition the peak analysis uses on cycle 1 — so that ipa/ipc of the table is the ratio.
     """
     if peaks.current_ratio is not None or peaks.cycle_number == 1:
         return peaks
@@ -70,10 +72,16 @@ def _ratio_from_first_cycle(
         "CURRENT_RATIO_FROM_FIRST_CYCLE",
         f"cycle {peaks.cycle_number} does not start at rest, so ipa/ipc "
         f"({first.current_ratio:.3f}) was taken from cycle 1 of the same record "
-        "(Nicholson 1966)",
+        "(Nicholson 1966) and the reverse peak height is that ratio times this cycle's "
+        "forward height",
         "info",
     )
-    return replace(peaks, current_ratio=first.current_ratio, flags=(*flags, note))
+    reverse = "ipa_A" if peaks.first_sweep == "reduction" else "ipc_A"
+    forward = peaks.forward_height_A
+    height = None if forward is None else first.current_ratio * forward
+    return replace(
+        peaks, current_ratio=first.current_ratio, flags=(*flags, note), **{reverse: height}
+    )
 
 
 def _sign_convention_hint(

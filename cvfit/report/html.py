@@ -20,10 +20,12 @@ from html import escape
 from pathlib import Path
 from typing import Any
 
+from cvfit.flag_codes import FLAG_CODES
 from cvfit.pipeline.results import SeriesResult
 
 from .atomic import atomic_write_text
 from .formatting import format_pm, format_value
+from .headline import headline_lines
 from .methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
 
 __all__ = ["render_html", "write_html_report", "FIGURE_CAPTIONS"]
@@ -31,10 +33,13 @@ __all__ = ["render_html", "write_html_report", "FIGURE_CAPTIONS"]
 #: Captions of the figures cvfit writes, by file name; other figures get their file stem.
 FIGURE_CAPTIONS = {
     "voltammograms.png": "The analysed cycle of every voltammogram, coloured by total ligand "
-    "concentration (dashed: no ligand; faded: failed the reversibility screen).",
+    "concentration (dashed: no ligand; grey dotted: failed the reversibility screen, as the "
+    "figure's legend says).",
     "half_wave_shift.png": "E½(c) − E½(s) against log10[L] with the fitted Lingane line, its "
     "95 % band, and the residuals (open markers: flagged, not fitted).",
-    "diagnostics.png": "Reversibility diagnostics of every voltammogram.",
+    "diagnostics.png": "Reversibility diagnostics of every voltammogram: n·ΔEp and ipa/ipc "
+    "against the band the screen allows (filled: used — in the fit or, diamond, as the "
+    "ligand-free reference; open: left out of the fit).",
 }
 
 # key -> (label, scale, unit) for the constants of the fit
@@ -60,6 +65,9 @@ h2{font-size:1.15em;color:var(--accent);margin:30px 0 8px;border-bottom:1px soli
 padding-bottom:3px}
 h3{font-size:1em;margin:16px 0 4px}
 .sub{color:var(--soft);font-size:.9em;overflow-wrap:anywhere}
+.headline{margin:14px 0}.headline p{margin:2px 0}.headline p.lead{font-size:1.15em;
+font-weight:600;font-variant-numeric:tabular-nums}
+.headline p.note{font-size:.9em;color:var(--soft)}
 .verdict{padding:10px 14px;border-radius:6px;margin:14px 0;font-weight:600}
 .verdict.ok{background:var(--okbg);color:var(--ok)}
 .verdict.warn{background:var(--warnbg);color:var(--warn)}
@@ -252,14 +260,45 @@ def _extra_cell(key: str, x: object) -> str:
     if isinstance(x, float):
         if not math.isfinite(x):
             return "n/d"
-        return _e(f"{x * 1e3:.2f}") if key.endswith("_V") else _e(f"{x:.4g}")
+        _, unit, scale = _unit_of(key)
+        return _e(f"{x * scale:.2f}") if unit == "mV" else _e(f"{x * scale:.4g}")
     if x is None:
         return "n/d"
     return _yes_no(x) if isinstance(x, bool) else _e(x)
 
 
+#: Headers of per-file values the table shows beyond its fixed columns, by results.json key.
+EXTRA_HEADERS = {
+    "E_half_midpoint_V": "E½ (midpoint) / mV",
+    "switching_correction_V": "switching correction / mV",
+    "resistance_ohm": "uncompensated resistance / Ω",
+}
+#: Unit suffixes of results.json keys → (header unit, scale of the cell).
+_UNITS = {"_V": ("mV", 1e3), "_ohm": ("Ω", 1.0), "_A": ("µA", 1e6), "_M": ("mol L⁻¹", 1.0),
+          "_s": ("s", 1.0), "_cm_s": ("cm s⁻¹", 1.0), "_cm2_s": ("cm² s⁻¹", 1.0)}  # fmt: skip
+
+
+def _unit_of(key: str) -> tuple[str, str, float]:
+    """(name without the unit suffix, unit shown, scale) of a results.json key."""
+    for suffix in sorted(_UNITS, key=len, reverse=True):
+        if key.endswith(suffix) and len(key) > len(suffix):
+            unit, scale = _UNITS[suffix]
+            return key[: -len(suffix)], unit, scale
+    return key, "", 1.0
+
+
+def extra_header(key: str) -> str:
+    """A header for people: words and a unit, never the code name (``E_half_midpoint_V`` →
+    ``E½ (midpoint) / mV``)."""
+    if key in EXTRA_HEADERS:
+        return EXTRA_HEADERS[key]
+    name, unit, _ = _unit_of(key)
+    words = name.replace("E_half", "E½").replace("_", " ").strip()
+    return f"{words} / {unit}" if unit else words
+
+
 def _extra_head(key: str) -> str:
-    return _e(f"{key[:-2]} / mV") if key.endswith("_V") else _e(key)
+    return _e(extra_header(key))
 
 
 def _number(x: object) -> str:
@@ -311,7 +350,8 @@ def _file_table(files: Sequence[Mapping[str, Any]]) -> str:
         tds = "".join(
             f'<td class="num">{c}</td>' if i else f"<td>{c}</td>" for i, c in enumerate(cells)
         )
-        flags = _flag_list(f.get("flags") or [])
+        own = [fl for fl in f.get("flags") or [] if _severity(fl) != "info"]
+        flags = _flag_list(own)
         cls = ' class="has-flags"' if flags else ""
         rows.append(f"<tr{cls}>{tds}</tr>")
         if flags:
@@ -322,6 +362,56 @@ def _file_table(files: Sequence[Mapping[str, Any]]) -> str:
         + "</tr></thead><tbody>"
         + "".join(rows)
         + "</tbody></table></div>"
+        + _notes(files)
+    )
+
+
+def _severity(flag: Mapping[str, Any]) -> str:
+    """A flag's severity: as raised, else the catalogue's (:mod:`cvfit.flag_codes`)."""
+    sev = flag.get("severity")
+    if sev:
+        return str(sev)
+    code = FLAG_CODES.get(str(flag.get("code")))
+    return code.severity if code is not None else "warning"
+
+
+def series_notes(files: Sequence[Mapping[str, Any]]) -> list[tuple[str, str, list[str]]]:
+    """The informational flags of the files, once per code: (code, text, files).
+
+    The text is the catalogue's meaning of the code, or the file's own message when the
+    note applies to one file only. Flags of higher severity stay with their file.
+    """
+    found: dict[str, list[tuple[str, str]]] = {}
+    for f in files:
+        for fl in f.get("flags") or []:
+            if _severity(fl) == "info":
+                found.setdefault(str(fl.get("code")), []).append(
+                    (str(f.get("file")), str(fl.get("message", "")))
+                )
+    notes = []
+    for code, where in found.items():
+        names = list(dict.fromkeys(name for name, _ in where))
+        catalogued = FLAG_CODES.get(code)
+        text = where[0][1] if len(names) == 1 or catalogued is None else catalogued.meaning
+        notes.append((code, text, names))
+    return notes
+
+
+def _notes(files: Sequence[Mapping[str, Any]]) -> str:
+    notes = series_notes(files)
+    if not notes:
+        return ""
+    items = []
+    for code, text, names in notes:
+        which = f"all {len(files)} files" if len(names) == len(files) > 1 else ", ".join(names)
+        items.append(
+            f'<li class="flag sev-info"><span class="code">{_e(code)}</span> {_e(text)} '
+            f'<span class="sub">({_e(which)})</span></li>'
+        )
+    return (
+        '<div class="notes"><h3>Notes</h3><p class="sub">How the values above were obtained '
+        "(informational, no action needed); each note once, with the files it applies to. "
+        "Every file's own messages are in results.json.</p><ul>" + "".join(items) + "</ul></div>"
     )
 
 
@@ -376,12 +466,16 @@ def render_html(data: Mapping[str, Any], figures: Sequence[str | Path] = ()) -> 
     s = data.get("series", {})
     title = s.get("title") or "untitled series"
     fit = data.get("fit") or {}
-    nernstian = bool(data.get("nernstian"))
+    headline = headline_lines(data)
+    screen = headline[-1]
+    ok = screen.startswith("All ")
     verdict = (
-        '<div class="verdict ok">Every voltammogram passed the reversibility screen.</div>'
-        if nernstian
-        else '<div class="verdict warn">Not every voltammogram passed the reversibility '
-        "screen — see the flags in the table.</div>"
+        '<section class="headline" id="headline">'
+        + "".join(
+            f'<p class="{"note" if line.startswith("(") else "lead"}">{_e(line)}</p>'
+            for line in headline[:-1]
+        )
+        + f'<div class="verdict {"ok" if ok else "warn"}">{_e(screen)}</div></section>'
     )
     series_flags = list(data.get("flags") or []) + list(fit.get("flags") or [])
     flags_html = _flag_list(series_flags) or "<p>None.</p>"

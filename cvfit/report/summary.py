@@ -8,6 +8,7 @@ from cvfit.pipeline.results import SeriesResult
 from cvfit.quantity import Quantity
 
 from .formatting import format_pm, format_value
+from .headline import headline_lines
 
 __all__ = ["format_summary"]
 
@@ -23,9 +24,10 @@ def _q(q: Quantity, *, scale: float = 1.0, unit: str = "", digits: int | None = 
 
 
 def format_summary(result: SeriesResult) -> str:
-    """A few dozen lines: conditions, per-file table, constants with intervals, flags."""
+    """A few dozen lines: the headline (constants with intervals, what the screen left
+    out), conditions, per-file table, the fit in detail, flags."""
     s = result.series
-    lines = []
+    lines = [*headline_lines(result.to_dict()), ""]
     title = s.title or "(untitled series)"
     lines.append(f"cvfit {result.cvfit_version} — {title}")
     cond = f"n = {s.electrons}, T = {s.temperature_K:.2f} K"
@@ -85,7 +87,6 @@ def format_summary(result: SeriesResult) -> str:
     else:
         lines.append("No constants: see the series flags below.")
     lines.append("")
-    lines.append("Nernstian throughout: " + ("yes" if result.nernstian else "NO — see flags"))
     flagged = [(f.file, fl) for f in result.files for fl in f.flags if fl.severity != "info"]
     series_flags = list(result.flags) + (list(fit.flags) if fit is not None else [])
     if flagged or series_flags:
@@ -94,4 +95,6 @@ def format_summary(result: SeriesResult) -> str:
             lines.append(f"  [series] {fl.code}: {fl.message}")
         for name, fl in flagged:
             lines.append(f"  [{name}] {fl.code}: {fl.message}")
+    while lines and not lines[-1]:
+        lines.pop()
     return "\n".join(lines)

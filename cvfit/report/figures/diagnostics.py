@@ -3,8 +3,9 @@
 Top panel: n·ΔEp of each voltammogram with the band the screen allows (Nernstian n·ΔEp for
 that file's switch, Nicholson & Shain 1964, plus/minus the manifest's margin scaled with
 T/298.15 K). Bottom panel: the reverse/forward current ratio (Nicholson 1966) with the band
-1 ± margin. Marker shape gives the class of the electron transfer; open markers were left
-out of the fit.
+1 ± margin. Marker shape and colour give the class of the electron transfer; filled markers
+were used (a diamond: the ligand-free reference that gives E½(s)), open markers were left out
+of the fit. The legend shows each look drawn.
 """
 
 from __future__ import annotations
@@ -16,6 +17,7 @@ import matplotlib
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
+from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
@@ -36,6 +38,30 @@ _MARKERS = {
     "irreversible": ("v", "#7a1f1f"),
     "not determinable": ("x", "0.35"),
 }
+
+
+#: Marker of the ligand-free file(s) that give E½(s) (colour still gives the class).
+REFERENCE_MARKER = "D"
+
+
+def _legend_handles(kinds: list[str], roles: list[str]) -> list[Line2D]:
+    """Legend entries that look like the markers drawn: each class present as a filled
+    marker, the reference as a filled diamond, and an open marker when files were left out."""
+    handles = []
+    for kind in dict.fromkeys(k for k, r in zip(kinds, roles, strict=True) if r == "fit"):
+        marker, colour = _MARKERS[kind]
+        handles.append(Line2D([], [], marker=marker, color=colour, mfc=colour, ls="none",
+                              ms=6, label=kind))  # fmt: skip
+    for kind in dict.fromkeys(k for k, r in zip(kinds, roles, strict=True) if r == "out"):
+        marker, colour = _MARKERS[kind]
+        handles.append(Line2D([], [], marker=marker, color=colour, mfc="none", ls="none",
+                              ms=6, label=f"{kind}, left out of the fit"))  # fmt: skip
+    ref_kinds = [k for k, r in zip(kinds, roles, strict=True) if r == "reference"]
+    if ref_kinds:
+        colour = _MARKERS[ref_kinds[0]][1]
+        handles.append(Line2D([], [], marker=REFERENCE_MARKER, color=colour, mfc=colour,
+                              ls="none", ms=6, label="ligand-free reference, E½(s)"))  # fmt: skip
+    return handles
 
 
 def _kind(f) -> str:
@@ -99,27 +125,32 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
         ratio = np.array(
             [np.nan if f.peaks.current_ratio is None else f.peaks.current_ratio for f in files]
         )
-        # one call per (class, fitted) group instead of one per file; the legend names a
-        # class once, with the look of its first file, in order of first appearance
-        groups: list[tuple[str, bool]] = []
-        for kind, u in zip(kinds, used.tolist(), strict=True):
-            if (kind, u) not in groups:
-                groups.append((kind, u))
-        seen: set[str] = set()
-        for kind, u in groups:
+        # each file's role: fitted (filled), the ligand-free reference that gives E½(s)
+        # (filled diamond), or left out (open); one call per (class, role) group instead of
+        # one per file, and a legend built to show exactly the looks drawn
+        refs = set(result.reference.files) if result.reference.source == "file" else set()
+        roles = [
+            "reference" if f.ligand_M == 0 and f.file in refs else ("fit" if u else "out")
+            for f, u in zip(files, used.tolist(), strict=True)
+        ]
+        groups: list[tuple[str, str]] = []
+        for group in zip(kinds, roles, strict=True):
+            if group not in groups:
+                groups.append(group)
+        for kind, role in groups:
             marker, colour = _MARKERS[kind]
-            face = colour if u else "none"
-            label = kind if kind not in seen else None
-            seen.add(kind)
-            member = np.array([k == kind for k in kinds]) & (used == u)
+            marker = REFERENCE_MARKER if role == "reference" else marker
+            face = "none" if role == "out" else colour
+            member = np.array([k == kind and r == role for k, r in zip(kinds, roles, strict=True)])
             top = member & np.isfinite(dEp)
-            if np.any(top) or label is not None:
+            if np.any(top):
                 ax.plot(x[top], 1e3 * n * dEp[top], marker=marker, color=colour, mfc=face,
-                        ms=6, ls="none", label=label)  # fmt: skip
+                        ms=6, ls="none", gid=f"diagnostics:{kind}:{role}")  # fmt: skip
             bottom = member & np.isfinite(ratio)
             if np.any(bottom):
                 axr.plot(x[bottom], ratio[bottom], marker=marker, color=colour, mfc=face,
-                         ms=6, ls="none")  # fmt: skip
+                         ms=6, ls="none", gid=f"diagnostics:{kind}:{role}")  # fmt: skip
+        handles = _legend_handles(kinds, roles)
         level = np.nanmean(exp) if np.any(ok) else 60.0
         for k in np.nonzero(~np.isfinite(dEp))[0]:
             ax.annotate("no ΔEp", (int(k), level), ha="center", fontsize=7,
@@ -152,13 +183,15 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
             + (", scan rate" if per_file_rate else "")
             + ")"
             + (f" at {only_rate:.3g} V/s" if only_rate else "")
-            + "; open markers: not fitted"
+            + "; open markers: left out of the fit"
         )
         # the band is drawn across the whole width: its edges are what to keep clear
         top_y = np.concatenate([1e3 * n * dEp, exp - margin_mV, exp + margin_mV])
         gaps = ~np.isfinite(dEp)  # the "no ΔEp" notes
         top_y[: len(files)][gaps] = level
-        ax.legend(loc=quiet_corner(ax, np.tile(x, 3), top_y), frameon=False, fontsize=7)
+        band, _ = ax.get_legend_handles_labels()
+        ax.legend(handles=[*band, *handles], loc=quiet_corner(ax, np.tile(x, 3), top_y),
+                  frameon=False, fontsize=7)  # fmt: skip
         bottom_y = np.concatenate(
             [ratio, np.full(len(files), 1 - ratio_margin), np.full(len(files), 1 + ratio_margin)]
         )

@@ -17,6 +17,7 @@ from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import leden_F_functions, mean_ligand_number, species_fractions
 from cvfit.fit.stepwise_result import StepwiseFit
 from cvfit.pipeline.results import SeriesResult
+from cvfit.report.headline import constant_lines
 from cvfit.units import thermal_voltage
 
 from .titration import _STYLE, COLOUR_MAP, PER_LITRE, _save, _superscript, plt
@@ -84,7 +85,15 @@ def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
         axr.set_ylabel("residual / mV")
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel(f"E½(c) − E½(s) / mV  (E½(s) = {E0 * 1e3:.1f} mV)")
-        ax.legend(loc="best", frameon=False, fontsize=8)
+        # the constants a reader looks for first, on the figure (the legend's title)
+        ax.legend(
+            loc="best",
+            frameon=False,
+            fontsize=8,
+            title="\n".join(constant_lines(fit.to_dict())) or None,
+            title_fontsize=8,
+            alignment="left",
+        )
         ax.set_title(result.series.title or "half-wave shift", fontsize=9)
         return _save(fig, path)
 

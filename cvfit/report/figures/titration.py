@@ -1,7 +1,8 @@
 """Figures of a series: overlaid voltammograms and the E½ shift against log10[L].
 
 Style of our own: a perceptually uniform colour map (cividis, readable with the common
-colour-vision deficiencies), open markers for points left out of the fit, and curves
+colour-vision deficiencies), grey dotted curves and open markers for files that failed the
+reversibility screen (the figure's legend says so), and curves
 thinned to at most ``MAX_POINTS_DRAWN`` points (thousands of points do not show more).
 """
 
@@ -18,6 +19,7 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 from matplotlib import colors as mcolors  # noqa: E402
 from matplotlib.collections import LineCollection  # noqa: E402
+from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator, NullLocator  # noqa: E402
 
 from cvfit.fit.lingane import LinganeFit  # noqa: E402
@@ -30,6 +32,7 @@ from cvfit.pipeline.curves import (
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
 from cvfit.quantity import t_quantile  # noqa: E402
 from cvfit.report.atomic import atomic_path  # noqa: E402
+from cvfit.report.headline import constant_lines  # noqa: E402
 
 from .legend_placement import quiet_corner  # noqa: E402
 
@@ -44,6 +47,9 @@ __all__ = [
 ]
 
 COLOUR_MAP = "cividis"
+#: Colour and line style of a titration curve that failed the reversibility screen.
+FLAGGED_COLOUR = "0.35"
+FLAGGED_STYLE = (0, (1.5, 1.5))
 _STYLE = {
     "font.size": 9,
     "axes.spines.top": False,
@@ -157,7 +163,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
         per_curve = points_per_curve(len(result.files))
         # the titration curves go into one LineCollection (one artist, not one per file);
         # the ligand-free curves stay lines of their own for the legend
-        segments, ligands, alphas = [], [], []
+        segments, ligands, flagged = [], [], []
         drawn = _curves_drawn(result.files)
         free_labelled = False
         for k, f in enumerate(result.files):
@@ -166,21 +172,35 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             if f.ligand_M > 0 and k not in drawn:
                 continue
             E, i = _thin(f.curve.potential_V, f.curve.current_A, per_curve)
-            alpha = 1.0 if f.reversible is True else 0.55
             if f.ligand_M > 0 and norm is not None:
                 segments.append(np.column_stack([E, i * 1e6]))
                 ligands.append(f.ligand_M)
-                alphas.append(alpha)
+                flagged.append(f.reversible is not True)
             else:  # one legend entry for the ligand-free curves, however many
                 label = "no ligand" if f.ligand_M == 0 and not free_labelled else None
                 free_labelled = free_labelled or label is not None
-                ax.plot(E, i * 1e6, color="0.15", lw=1.1, ls="--", alpha=alpha,
-                        label=label)  # fmt: skip
+                ax.plot(E, i * 1e6, color="0.15", lw=1.1, ls="--", label=label)
+        handles: list = []
         if segments:
             colours = cmap(norm(np.asarray(ligands)))  # one call for all curves
-            colours[:, 3] = alphas
-            ax.add_collection(LineCollection(segments, colors=colours, linewidths=1.1))
+            # a curve that failed the screen: grey and dotted, whatever its ligand level
+            # (the top of the colour map is a pale yellow that a fainter line would lose)
+            flags = np.asarray(flagged)
+            colours[flags] = mcolors.to_rgba(FLAGGED_COLOUR)
+            styles = [FLAGGED_STYLE if bad else "solid" for bad in flagged]
+            widths = [1.5 if bad else 1.1 for bad in flagged]
+            ax.add_collection(
+                LineCollection(segments, colors=colours, linestyles=styles, linewidths=widths)
+            )
             ax.autoscale_view()
+            if flags.any():
+                fate = "left out of the fit" if result.exclude_non_nernstian else "kept in the fit"
+                levels = sorted({lig for lig, bad in zip(ligands, flagged, strict=True) if bad})
+                which = ", ".join(f"{x:g}" for x in levels[:3]) + (" …" if len(levels) > 3 else "")
+                handles.append(
+                    Line2D([], [], color=FLAGGED_COLOUR, ls=FLAGGED_STYLE, lw=1.5,
+                           label=f"failed the screen,\n{fate} ({which} M)")  # fmt: skip
+                )
         ax.set_xlabel(
             "E / V"
             + (
@@ -205,12 +225,18 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             ax.text(0.99, 0.01, f"{len(drawn)} of {titrating} titration curves drawn, evenly "
                     "over [L]", transform=ax.transAxes, ha="right", va="bottom", fontsize=7,
                     color="0.3")  # fmt: skip
-        if any(f.ligand_M == 0 for f in result.files):
+        if any(f.ligand_M == 0 for f in result.files) or handles:
             xy = [*segments, *(ln.get_xydata() for ln in ax.get_lines())]
             if len(drawn) < titrating:  # keep clear of the note in the lower right
                 xy.append(np.array([[ax.get_xlim()[1], ax.get_ylim()[0]]]))
             xy = np.concatenate(xy) if xy else np.empty((0, 2))
-            ax.legend(loc=quiet_corner(ax, xy[:, 0], xy[:, 1]), frameon=False)
+            own, _ = ax.get_legend_handles_labels()
+            ax.legend(
+                handles=[*own, *handles],
+                loc=quiet_corner(ax, xy[:, 0], xy[:, 1]),
+                frameon=False,
+                fontsize=8,
+            )
         top = _set_title(ax, result.series.title or "voltammograms")
         return _save(fig, path, margins_in=(0.8, 0.35, 0.5, top))
 
@@ -329,6 +355,15 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         _pair_ticks(ax, axr, r_bins=3)
         shown_x = np.concatenate([x, xs]) if fit is not None else x
         shown_y = np.concatenate([y, line]) if fit is not None else y
-        ax.legend(loc=quiet_corner(ax, shown_x, shown_y), frameon=False, fontsize=8)
+        # the result a reader looks for first, on the figure itself (the legend's title)
+        headline = constant_lines(fit.to_dict()) if fit is not None else []
+        ax.legend(
+            loc=quiet_corner(ax, shown_x, shown_y),
+            frameon=False,
+            fontsize=8,
+            title="\n".join(headline) or None,
+            title_fontsize=8,
+            alignment="left",
+        )
         top = _set_title(ax, result.series.title or "half-wave shift")
         return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))

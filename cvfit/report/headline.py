@@ -1,0 +1,162 @@
+"""The result a chemist looks for first: the constants with their intervals, and what the
+reversibility screen left out — in words, not as a yes/no.
+
+One source for the terminal summary (its first lines), the top of the HTML report, the
+half-wave figure and the batch table. Every function reads the results.json mapping
+(``SeriesResult.to_dict()``), so all of them show the numbers of that file.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+from .formatting import format_pm
+
+__all__ = [
+    "headline_lines",
+    "quantity_text",
+    "screen_sentence",
+    "screen_short",
+]
+
+#: Most file names a sentence lists before it says "and k more".
+MAX_NAMES = 5
+
+
+def _finite(x: object) -> bool:
+    return isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
+
+
+def quantity_text(q: Mapping[str, Any] | None, *, scale: float = 1.0, unit: str = "") -> str:
+    """``"5.4099 ± 0.0054, 95 % CI [5.3950, 5.4248]"`` (the interval in the value's digits).
+
+    An interval side that is not finite (an open interval) shows as ``open``; a missing value
+    as ``n/d``.
+    """
+    q = q or {}
+    shown = format_pm(q.get("value"), q.get("stderr"), scale=scale, unit=unit)
+    if shown == "n/d":
+        return shown
+    head = shown.split(" ± ")[0].split(" ")[0]
+    digits = len(head.split(".")[1]) if "." in head else 0
+    ci = list(q.get("ci95") or [None, None])
+
+    def side(x: object) -> str:
+        return f"{x * scale:.{digits}f}" if _finite(x) else "open"  # type: ignore[operator]
+
+    return f"{shown}, 95 % CI [{side(ci[0])}, {side(ci[1])}]"
+
+
+def _names(files: Sequence[Mapping[str, Any]]) -> str:
+    names = [str(f.get("file")) for f in files]
+    if len(names) > MAX_NAMES:
+        return ", ".join(names[:MAX_NAMES]) + f" and {len(names) - MAX_NAMES} more"
+    return ", ".join(names)
+
+
+def _was(files: Sequence[object]) -> str:
+    return "was" if len(files) == 1 else "were"
+
+
+def screen_sentence(data: Mapping[str, Any]) -> str:
+    """What the reversibility screen found and what became of those files, in one sentence.
+
+    ``"1 of 8 files failed the reversibility screen and was left out of the fit:
+    tazine_07.csv."`` — or ``"All 8 files passed the reversibility screen."``
+    """
+    files = list(data.get("voltammograms") or [])
+    n = len(files)
+    failed = [f for f in files if f.get("reversible") is False]
+    unknown = [f for f in files if f.get("reversible") is None]
+    if not failed and not unknown:
+        return f"All {n} files passed the reversibility screen."
+    if failed:
+        what = f"{len(failed)} of {n} files failed the reversibility screen"
+        if unknown:
+            what += f" and {len(unknown)} could not be screened"
+    else:
+        what = f"{len(unknown)} of {n} files could not be screened for reversibility"
+    bad = failed + unknown
+    reference = [f for f in bad if not (f.get("ligand_M") or 0) > 0]
+    kept = [f for f in bad if f.get("used_in_fit")]
+    left = [f for f in bad if f not in reference and f not in kept]
+    if left and not kept and not reference:
+        return f"{what} and {_was(left)} left out of the fit: {_names(left)}."
+    pieces = []
+    if left:
+        pieces.append(f"{_names(left)} {_was(left)} left out of the fit")
+    if kept:
+        pieces.append(
+            f"{_names(kept)} {_was(kept)} kept in the fit (exclude_non_nernstian = false)"
+        )
+    if reference:
+        pieces.append(f"{_names(reference)} still gave E½(s), the ligand-free reference")
+    return f"{what}: " + "; ".join(pieces) + "."
+
+
+def screen_short(data: Mapping[str, Any]) -> str:
+    """The screen's outcome in a table cell: ``"all 8 passed"``, ``"1 of 8 left out"``."""
+    files = list(data.get("voltammograms") or [])
+    bad = [f for f in files if f.get("reversible") is not True]
+    if not bad:
+        return f"all {len(files)} passed"
+    kept = [f for f in bad if f.get("used_in_fit")]
+    if kept:
+        return f"{len(bad)} of {len(files)} failed, {len(kept)} kept"
+    return f"{len(bad)} of {len(files)} failed, left out"
+
+
+def _no_constants(data: Mapping[str, Any]) -> str:
+    fit = data.get("fit") or {}
+    why = [
+        fl
+        for fl in [*(data.get("flags") or []), *(fit.get("flags") or [])]
+        if fl.get("severity") == "error"
+    ]
+    reason = f": {why[0].get('message')}" if why else "; see the flags below"
+    return f"No constants{reason}."
+
+
+def constant_lines(fit: Mapping[str, Any]) -> list[str]:
+    """The headline constants of a fit mapping: log10(β_ox/β_red) and p − q (Lingane), or
+    every log10 β_j (stepwise); empty when the fit gave none."""
+    betas = [q for q in fit.get("log10_beta") or [] if isinstance(q, Mapping)]
+    if betas:
+        if all(q.get("value") is None for q in betas):
+            return []
+        lines = []
+        for k, q in enumerate(betas):
+            j = q.get("j", k + 1)
+            text = f"log10 β{j} = {quantity_text(q)}"
+            if q.get("determined") is False:
+                text += " (not determined by this ligand range)"
+            lines.append(text)
+        return lines
+    ratio = fit.get("log10_beta_ratio") or {}
+    if ratio.get("value") is None:
+        return []
+    return [
+        f"log10(β_ox/β_red) = {quantity_text(ratio)}",
+        f"p − q = {quantity_text(fit.get('delta_ligands'))}",
+    ]
+
+
+def headline_lines(data: Mapping[str, Any]) -> list[str]:
+    """The first lines of every report: the constants ± standard error with their 95 %
+    intervals (stepwise: each overall log10 β_j), the points they rest on, and the screen's
+    outcome in words.
+    """
+    fit = data.get("fit") or {}
+    lines = constant_lines(fit)
+    if lines:
+        n, model = fit.get("n_points"), fit.get("model", "")
+        lines.append(
+            f"({'Lingane' if model == 'lingane' else 'stepwise'} fit on {n} files; "
+            "± standard error)"
+        )
+    else:
+        lines.append(_no_constants(data))
+    lines.append(screen_sentence(data))
+    return lines
