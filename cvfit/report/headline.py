@@ -82,7 +82,7 @@ def screen_sentence(data: Mapping[str, Any]) -> str:
     reference = [f for f in bad if not (f.get("ligand_M") or 0) > 0]
     kept = [f for f in bad if f.get("used_in_fit")]
     left = [f for f in bad if f not in reference and f not in kept]
-    if left and not kept and not reference:
+    if left and not kept and not reference and not (failed and unknown):
         return f"{what} and {_was(left)} left out of the fit: {_names(left)}."
     pieces = []
     if left:
