@@ -2,12 +2,23 @@
 
 One place for the words the HTML report prints (plain text; the report escapes it).
 ``docs/methods.md`` and the README's *Laboratory cautions* say the same at more length;
-change them together.
+change them together. :data:`BASELINE_SENTENCE` is quoted word for word by the README's
+*Method in brief* and by docs/methods.md (a test keeps the three equal).
 """
 
 from __future__ import annotations
 
-__all__ = ["METHOD_STEPS", "STEPWISE_STEP", "ASSUMPTIONS", "CAUTIONS"]
+__all__ = ["BASELINE_SENTENCE", "METHOD_STEPS", "STEPWISE_STEP", "ASSUMPTIONS", "CAUTIONS"]
+
+#: How the peaks are measured, in one sentence: the report, the README and docs/methods.md
+#: say exactly this (see :mod:`cvfit.peaks.analysis` for the method in full).
+BASELINE_SENTENCE = (
+    "The forward peak is measured against a baseline made of a straight line (charging "
+    "current and sloping background) plus the exponential foot of the wave itself, fitted "
+    "together to the foot of the wave (the sweep before the current rises) and extrapolated "
+    "under the peak; the reverse peak "
+    "against the same line shifted by the charging-current step at the switching potential."
+)
 
 #: (heading, what cvfit does, published sources) for each step of the analysis.
 METHOD_STEPS: tuple[tuple[str, str, tuple[str, ...]], ...] = (
@@ -21,8 +32,8 @@ METHOD_STEPS: tuple[tuple[str, str, tuple[str, ...]], ...] = (
     ),
     (
         "Peaks",
-        "Each peak is measured against a straight baseline fitted to the foot of its wave and "
-        "extrapolated; the reverse-to-forward current ratio follows Nicholson's method. Peak "
+        BASELINE_SENTENCE + " The reverse-to-forward current ratio follows Nicholson's "
+        "method. Peak "
         "potentials are located below the sampling step by a local polynomial; "
         "E½ = (Epa + Epc)/2 with a standard error from the noise of that file.",
         ("R. S. Nicholson, Anal. Chem. 38 (1966) 1406",),
