@@ -14,6 +14,7 @@ Usage: ``python example_runs/make_demo.py`` from the project root.
 
 from __future__ import annotations
 
+import json
 import shutil
 import sys
 from pathlib import Path
@@ -21,7 +22,8 @@ from pathlib import Path
 import numpy as np
 
 from cvfit.chemistry.complexation import complexed_half_wave_V
-from cvfit.cli import main as cvfit_main
+from cvfit.cli.demo import SIMULATED_WITH, read_simulated_with
+from cvfit.cli.run import run_manifest
 from cvfit.simulate.voltammogram import simulate_cv
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -34,6 +36,13 @@ LOG_BETA_RED = (4.2,)
 LIGAND_M = (0.0, 0.005, 0.01, 0.02, 0.05, 0.1, 0.2, 0.35)
 SLOW_K0_CM_S = {0.35: 0.004}
 SEED = 20261201
+NOISE_FRACTION = 0.005
+C_DL_F = 5e-6
+SLOPE_A_PER_V = 2e-6
+#: What the Lingane line should find where ML2 (ox) and ML (red) dominate.
+LOG_BETA_RATIO = round(LOG_BETA_OX[-1] - LOG_BETA_RED[-1], 10)
+DELTA_LIGANDS = len(LOG_BETA_OX) - len(LOG_BETA_RED)
+TRUTH_FILE = SIMULATED_WITH
 
 
 def write_export(path: Path, v, *, ligand_M: float) -> None:
@@ -52,9 +61,46 @@ def write_export(path: Path, v, *, ligand_M: float) -> None:
     path.write_text("\n".join(lines) + "\n" + body + "\n", encoding="utf-8")
 
 
+def truth_lines() -> list[str]:
+    """The simulated constants in words (printed by ``cvfit demo``, shown in its report)."""
+    ox = ", ".join(f"{b:.1f}" for b in LOG_BETA_OX)
+    red = ", ".join(f"{b:.1f}" for b in LOG_BETA_RED)
+    slow = "; ".join(f"k0 = {k:g} cm/s at [L] = {c:g} M" for c, k in SLOW_K0_CM_S.items())
+    return [
+        f"oxidised form: log10 β1, β2 = {ox} (overall β_j, (mol/L)^-j)",
+        f"reduced form: log10 β1 = {red}",
+        f"so log10(β_ox/β_red) = {LOG_BETA_OX[-1]:.1f} − {LOG_BETA_RED[-1]:.1f} = "
+        f"{LOG_BETA_RATIO:.1f} and p − q = {DELTA_LIGANDS} where ML2 and ML dominate",
+        f"E½(s) of the free couple = {E_HALF_FREE_V * 1e3:g} mV; n = 1; 25 °C",
+        f"electron transfer Nernstian except {slow}",
+        f"noise {100 * NOISE_FRACTION:g} % of the peak current, C_dl = {C_DL_F * 1e6:g} µF, "
+        f"background slope {SLOPE_A_PER_V * 1e6:g} µA/V, seed {SEED}",
+    ]
+
+
+def truth_text() -> str:
+    """``simulated_with.toml``: the constants the demo was simulated with, for checking."""
+    lines = [
+        "# The constants the cvfit demo series was simulated with (written by",
+        "# example_runs/make_demo.py). Compare the report's constants with them.",
+        "[simulation]",
+        "lines = [",
+        *(f"    {json.dumps(t, ensure_ascii=False)}," for t in truth_lines()),
+        "]",
+        f"E_half_free_V = {E_HALF_FREE_V!r}",
+        f"log10_beta_ox = {list(LOG_BETA_OX)!r}",
+        f"log10_beta_red = {list(LOG_BETA_RED)!r}",
+        f"log10_beta_ratio = {LOG_BETA_RATIO!r}",
+        f"delta_ligands = {DELTA_LIGANDS!r}",
+        f"seed = {SEED}",
+    ]
+    return "\n".join(lines) + "\n"
+
+
 def manifest_text(files: list[tuple[str, float]]) -> str:
     out = [
         "# Demo titration series (invented scenario, simulated by cvfit).",
+        *(f"# Simulated with: {t}" for t in truth_lines()),
         "[series]",
         'title = "Demo: M(III)/M(II) with tazine, 0.1 M electrolyte (simulated)"',
         "electrons = 1",
@@ -99,9 +145,9 @@ def main() -> int:
             scan_rate_V_s=0.1,
             k0_cm_s=SLOW_K0_CM_S.get(ligand),
             concentration_M=1e-3,
-            double_layer_F=5e-6,
-            background_slope_A_per_V=2e-6,
-            noise_fraction=0.005,
+            double_layer_F=C_DL_F,
+            background_slope_A_per_V=SLOPE_A_PER_V,
+            noise_fraction=NOISE_FRACTION,
             seed=int(rng.integers(2**31)),
             source=f"tazine_{k:02d}.csv",
         )
@@ -109,10 +155,14 @@ def main() -> int:
         write_export(DATA / name, v, ligand_M=ligand)
         files.append((name, ligand))
     (DATA / "series.toml").write_text(manifest_text(files), encoding="utf-8")
+    (DATA / TRUTH_FILE).write_text(truth_text(), encoding="utf-8")
     results = OUT / "results"
     if results.exists():
         shutil.rmtree(results)
-    return cvfit_main(["run", str(DATA / "series.toml"), "--out", str(results)])
+    # the demo's report shows the constants it was simulated with, as `cvfit demo`'s does
+    return run_manifest(
+        DATA / "series.toml", results, simulated_with=read_simulated_with(DATA / TRUTH_FILE)
+    )
 
 
 if __name__ == "__main__":

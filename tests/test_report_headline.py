@@ -316,3 +316,58 @@ def test_page_without_constants_says_so_at_the_top(demo):
     data = replace(result, fit=None).to_dict()
     page = render_html(data)
     assert "No constants" in page[: page.index("<h2>Conditions")]
+
+
+# --- the demo says what it was simulated with ----------------------------------------------
+
+
+def _make_demo_module():
+    import importlib.util
+    from pathlib import Path
+
+    path = Path(__file__).resolve().parents[1] / "example_runs" / "make_demo.py"
+    spec = importlib.util.spec_from_file_location("make_demo", path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def test_demo_states_the_constants_it_was_simulated_with(tmp_path, capsys):
+    import tomllib
+    from importlib import resources
+
+    from cvfit.cli import main
+    from cvfit.cli.demo import SIMULATED_WITH
+
+    make_demo = _make_demo_module()
+    packaged = resources.files("cvfit.data.demo") / SIMULATED_WITH
+    truth = tomllib.loads(packaged.read_text(encoding="utf-8"))["simulation"]
+    # the packaged file is the one make_demo.py writes from its constants
+    assert packaged.read_text(encoding="utf-8") == make_demo.truth_text()
+    assert truth["log10_beta_ox"] == list(make_demo.LOG_BETA_OX)
+    assert truth["log10_beta_red"] == list(make_demo.LOG_BETA_RED)
+    assert truth["log10_beta_ratio"] == pytest.approx(9.6 - 4.2)
+    assert truth["delta_ligands"] == 1
+
+    assert main(["demo", "--out", str(tmp_path / "d")]) == 0
+    out = capsys.readouterr().out
+    tail = out[out.index("The demo was simulated with") :]
+    assert all(line in tail for line in truth["lines"])
+    assert "log10(β_ox/β_red) = 9.6 − 4.2 = 5.4" in tail
+    assert (tmp_path / "d" / SIMULATED_WITH).read_text(encoding="utf-8") == packaged.read_text(
+        encoding="utf-8"
+    )
+    assert not (tmp_path / "d" / "inputs" / SIMULATED_WITH).exists()  # not a manifest
+    page = (tmp_path / "d" / "results" / "report.html").read_text(encoding="utf-8")
+    assert 'id="simulated-with"' in page and "9.6 − 4.2 = 5.4" in page
+    # the manifest says it too, and the example_runs README lists the same lines
+    manifest = (tmp_path / "d" / "inputs" / "series.toml").read_text(encoding="utf-8")
+    readme = (make_demo.ROOT / "example_runs" / "README.md").read_text(encoding="utf-8")
+    for line in truth["lines"]:
+        assert f"# Simulated with: {line}" in manifest
+        assert f"- {line}" in readme
+
+
+def test_a_report_of_measured_data_has_no_simulation_section(demo):
+    _, out = demo
+    assert 'id="simulated-with"' not in (out / "report.html").read_text(encoding="utf-8")

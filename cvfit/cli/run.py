@@ -9,7 +9,7 @@ from __future__ import annotations
 import argparse
 import contextlib
 import sys
-from collections.abc import Callable, Iterator
+from collections.abc import Callable, Iterator, Sequence
 from pathlib import Path
 
 from .file_jobs import PARALLEL_MIN_FILES, default_file_jobs
@@ -62,9 +62,18 @@ def _progress(total: int, *, enabled: bool) -> Iterator[Callable[[], None]]:
 
 
 def run_manifest(
-    manifest_path: Path, out: Path | None, *, quiet: bool = False, jobs: int | None = None
+    manifest_path: Path,
+    out: Path | None,
+    *,
+    quiet: bool = False,
+    jobs: int | None = None,
+    simulated_with: Sequence[str] = (),
 ) -> int:
-    """Analyse the series of *manifest_path* into *out*, print the summary; exit status."""
+    """Analyse the series of *manifest_path* into *out*, print the summary; exit status.
+
+    *simulated_with*: for simulated data (the demo), the constants they were simulated with,
+    in words; the HTML report shows them.
+    """
     from cvfit.errors import InputError
     from cvfit.io import load_manifest
     from cvfit.pipeline.per_file import check_jobs
@@ -86,7 +95,7 @@ def run_manifest(
     file_jobs = default_file_jobs(n_files) if jobs is None else jobs
     with _progress(n_files, enabled=not quiet) as tick:
         result = analyse_series(manifest, jobs=file_jobs, progress=tick)
-    written = write_outputs(result, out_dir)
+    written = write_outputs(result, out_dir, simulated_with=simulated_with)
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
     sys.stdout.write(

@@ -10,6 +10,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from pathlib import Path
 
 from cvfit.pipeline.results import SeriesResult
@@ -30,8 +31,13 @@ __all__ = [
 ]
 
 
-def write_outputs(result: SeriesResult, out_dir: str | Path) -> dict[str, Path]:
+def write_outputs(
+    result: SeriesResult, out_dir: str | Path, *, simulated_with: Sequence[str] = ()
+) -> dict[str, Path]:
     """Write every output of *result* into *out_dir* (created if needed).
+
+    *simulated_with* — for simulated data, the constants they were simulated with, in
+    words — is shown by the HTML report (the demo passes it).
 
     Every file is written to a temporary name and renamed into place, and results.json
     comes last: its presence means the run finished.
@@ -66,7 +72,7 @@ def write_outputs(result: SeriesResult, out_dir: str | Path) -> dict[str, Path]:
 
     figures = [p for p in written.values() if p.suffix.lower() == ".png"]
     written["html_report"] = write_html_report(
-        result, out / OUTPUT_NAMES["html_report"], figures=figures
+        result, out / OUTPUT_NAMES["html_report"], figures=figures, simulated_with=simulated_with
     )
     # results.json last: its presence means the run finished.
     written["results"] = out / OUTPUT_NAMES["results"]

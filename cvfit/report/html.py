@@ -448,7 +448,24 @@ def _method(fit: Mapping[str, Any]) -> str:
     return "".join(out)
 
 
-def render_html(data: Mapping[str, Any], figures: Sequence[str | Path] = ()) -> str:
+def _simulated_with(lines: Sequence[str]) -> str:
+    if not lines:
+        return ""
+    return (
+        '<section class="truth" id="simulated-with"><h2>Simulated data</h2><p>These '
+        "voltammograms were simulated by cvfit, with the constants below; compare the "
+        "constants found with them.</p><ul>"
+        + "".join(f"<li>{_e(line)}</li>" for line in lines)
+        + "</ul></section>"
+    )
+
+
+def render_html(
+    data: Mapping[str, Any],
+    figures: Sequence[str | Path] = (),
+    *,
+    simulated_with: Sequence[str] = (),
+) -> str:
     """The report page for a results mapping (the results.json content).
 
     Parameters
@@ -457,6 +474,9 @@ def render_html(data: Mapping[str, Any], figures: Sequence[str | Path] = ()) -> 
         ``SeriesResult.to_dict()`` — the same mapping written to results.json.
     figures : sequence of path
         PNG files to embed, in order (other suffixes and missing files are skipped).
+    simulated_with : sequence of str
+        For simulated data only (the demo): the constants they were simulated with, in
+        words, shown below the headline. Empty for measured data.
 
     Returns
     -------
@@ -482,7 +502,7 @@ def render_html(data: Mapping[str, Any], figures: Sequence[str | Path] = ()) -> 
     body = (
         f'<header><h1>{_e(title)}</h1><div class="sub">Voltammetric titration analysed by '
         f"cvfit {_e(data.get('cvfit_version'))}</div></header>"
-        f"{verdict}"
+        f"{verdict}{_simulated_with(simulated_with)}"
         f"<section><h2>Conditions</h2>{_conditions(data)}</section>"
         f"<section><h2>Constants</h2>{_constants(fit)}</section>"
         f"<section><h2>Series findings</h2>{flags_html}</section>"
@@ -511,9 +531,10 @@ def write_html_report(
     path: str | Path,
     *,
     figures: Sequence[str | Path] = (),
+    simulated_with: Sequence[str] = (),
 ) -> Path:
     """Write the report page atomically; returns the path."""
     path = Path(path)
     data = result.to_dict() if isinstance(result, SeriesResult) else result
-    atomic_write_text(path, render_html(data, figures))
+    atomic_write_text(path, render_html(data, figures, simulated_with=simulated_with))
     return path
