@@ -371,3 +371,11 @@ def test_demo_states_the_constants_it_was_simulated_with(tmp_path, capsys):
 def test_a_report_of_measured_data_has_no_simulation_section(demo):
     _, out = demo
     assert 'id="simulated-with"' not in (out / "report.html").read_text(encoding="utf-8")
+
+
+def test_conditions_name_the_screen_margins_in_words(demo):
+    _, out = demo
+    page = (out / "report.html").read_text(encoding="utf-8")
+    conditions = page[page.index("<h2>Conditions") : page.index("<h2>Constants")]
+    assert "n·ΔEp ± 10.0 mV" in conditions and "ipa/ipc ± 0.15" in conditions
+    assert "margin_V" not in conditions

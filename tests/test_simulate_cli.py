@@ -31,7 +31,7 @@ def midpoint(E, i):
 def test_cli_writes_csv_that_round_trips(tmp_path, capsys):
     out = tmp_path / "cv.csv"
     argv = ["--e-half", "0.1", "--start", "0.5", "--switch", "-0.3", "--scan-rate", "0.05",
-            "--concentration", "2", "--k0", "0.05", "--noise", "0.002", "--seed", "3",
+            "--concentration", "2e-3", "--k0", "0.05", "--noise", "0.002", "--seed", "3",
             "--out", str(out)]  # fmt: skip
     assert run(argv) == 0
     printed = capsys.readouterr().out
@@ -83,10 +83,19 @@ def test_cli_bad_values_raise_input_error(tmp_path, argv, key):
     assert not (tmp_path / "x.csv").exists()
 
 
-def test_cli_missing_required_and_simulator_refusal(tmp_path):
-    with pytest.raises(InputError) as err:
-        run(["--out", str(tmp_path / "x.csv")])
-    assert err.value.key == "--e-half"
+def test_cli_missing_required_and_simulator_refusal(tmp_path, capsys):
+    from cvfit.cli import main
+
+    # --e-half is required, and marked so: usage shows it without brackets
+    with pytest.raises(SystemExit) as stop:
+        main(["simulate", "--out", str(tmp_path / "x.csv")])
+    assert stop.value.code == 2
+    err_text = capsys.readouterr().err
+    assert err_text.count("\n") == 1 and "--e-half" in err_text
+    with pytest.raises(SystemExit):
+        main(["simulate", "--help"])
+    usage = capsys.readouterr().out
+    assert "--e-half V" in usage and "[--e-half" not in usage
     with pytest.raises(InputError) as err:
         run(["--e-half", "0"])
     assert err.value.key == "--out"
@@ -176,3 +185,19 @@ def test_cli_series_complexed_diffusion_flag(tmp_path):
     tables = [pd.read_csv(tmp_path / "b" / f"titr_0{k}.csv") for k in (0, 1)]
     ratio = tables[1]["current_A"].min() / tables[0]["current_A"].min()
     assert ratio == pytest.approx(np.sqrt((1e-5 + 5e-6 * 1e3) / 1001 / 1e-5), rel=3e-3)
+
+
+def test_cli_concentration_is_in_mol_per_litre(tmp_path, capsys):
+    """One unit with the manifests: mol/L; a value in mM is refused with the conversion."""
+    with pytest.raises(InputError) as err:
+        run(["--e-half", "0", "--concentration", "2", "--out", str(tmp_path / "x.csv")])
+    assert err.value.key == "--concentration" and "give 0.002" in str(err.value)
+    assert not (tmp_path / "x.csv").exists()
+    from cvfit.cli import main
+
+    with pytest.raises(SystemExit):
+        main(["simulate", "--help"])
+    text = " ".join(capsys.readouterr().out.split())
+    assert "--concentration mol/L" in text and "--concentration mM" not in text
+    assert "total, not per cm²" in text
+    assert "overall log10 β_j of the oxidised form" in text

@@ -14,12 +14,29 @@ from pathlib import Path
 
 from .file_jobs import PARALLEL_MIN_FILES, default_file_jobs
 
+#: Shown under ``cvfit run --help``: where every manifest key is described, and what the
+#: exit status means (the values of :data:`cvfit.cli.EXIT_OK` and its neighbours).
+RUN_EPILOG = """\
+manifest: every key (series, import settings, fit, screen margins) with its unit and
+  default is described in docs/manifest.md of the cvfit source
+  (a [series] table and one [[voltammogram]] table per CSV file).
+
+exit status:
+  0  success, also when no constants could be fitted (they are then null in
+     results.json and a series flag says why)
+  1  internal error (a bug: rerun with --debug and report the traceback)
+  2  bad input: one line on stderr names the file (and line or key) and what to do;
+     in a batch, any series with bad input
+"""
+
 
 def register(sub: argparse._SubParsersAction) -> None:
     p = sub.add_parser(
         "run",
         help="analyse a titration series described by a TOML manifest",
         description="Analyse a titration series: peaks, reversibility screen, Lingane fit.",
+        epilog=RUN_EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     p.add_argument(
         "manifest",

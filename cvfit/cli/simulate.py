@@ -40,7 +40,8 @@ def register(sub: argparse._SubParsersAction) -> None:
         "writes time_s,potential_V,current_A (anodic current positive).",
     )
     a = p.add_argument
-    a("--e-half", metavar="V", help="reversible half-wave potential, V (series: uncomplexed)")
+    a("--e-half", metavar="V", required=True,
+      help="required: reversible half-wave potential, V (series: of the uncomplexed couple)")
     a("--electrons", metavar="N", default="1", help="electrons n (default 1)")
     a("--scan-rate", metavar="V/s", default="0.1", help="scan rate, V/s (default 0.1)")
     a("--start", metavar="V", help="start potential, V (default E½ + 0.3 V; red: E½ − 0.3 V)")
@@ -56,12 +57,15 @@ def register(sub: argparse._SubParsersAction) -> None:
     a("--alpha", default="0.5", help="transfer coefficient (default 0.5)")
     a("--diffusion", metavar="cm2/s", default="1e-5", help="D of the oxidised form, cm²/s")
     a("--diffusion-red", metavar="cm2/s", help="D of the reduced form (default: --diffusion)")
-    a("--concentration", metavar="mM", default="1", help="bulk concentration, mM (default 1)")
+    a("--concentration", metavar="mol/L", default="1e-3",
+      help="bulk concentration, mol/L as in manifests (default 1e-3, i.e. 1 mM)")
     a("--initial", choices=("ox", "red"), default="ox", help="form present at the start")
     a("--area", metavar="cm2", default="0.0707", help="electrode area, cm² (default 0.0707)")
     a("--cycles", default="1", help="number of cycles (default 1)")
     a("--temperature-C", metavar="C", default="25", help="temperature, °C (default 25)")
-    a("--cdl", metavar="F", default="0", help="double-layer capacitance, F (default 0)")
+    a("--cdl", metavar="F", default="0",
+      help="double-layer capacitance of the whole electrode, F — total, not per cm² "
+      "(e.g. 20 µF/cm² × 0.0707 cm² = 1.4e-6; default 0)")
     a("--slope", metavar="A/V", default="0", help="background slope, A/V (default 0)")
     a("--offset", metavar="A", default="0", help="background offset, A (default 0)")
     a("--resistance", metavar="ohm", default="0", help="uncompensated resistance, Ω")
@@ -69,8 +73,11 @@ def register(sub: argparse._SubParsersAction) -> None:
     a("--seed", help="noise seed (whole number)")
     a("--series", action="store_true", help="write a titration series and its manifest")
     a("--ligand-M", metavar="LIST", help="series: ligand concentrations, mol/L, comma list")
-    a("--log-beta-ox", metavar="LIST", default="", help="series: log10 β_j of the ox. form")
-    a("--log-beta-red", metavar="LIST", default="", help="series: log10 β_j of the red. form")
+    a("--log-beta-ox", metavar="LIST", default="",
+      help="series: overall log10 β_j of the oxidised form, j = 1, 2, … (comma list; "
+      "β_j = [MLj]/([M][L]^j), not stepwise K_j; default: not complexed)")
+    a("--log-beta-red", metavar="LIST", default="",
+      help="series: overall log10 β_j of the reduced form, j = 1, 2, … (comma list)")
     a("--diffusion-ox-complexed", metavar="cm2/s", help="series: D of the ox. complexes")
     a("--diffusion-red-complexed", metavar="cm2/s", help="series: D of the red. complexes")
     a("--title", default="simulated titration", help="series: title for the manifest")
@@ -90,6 +97,22 @@ def _number(text: object, flag: str, *, minimum: float | None = None, strict: bo
         rel = ">" if strict else ">="
         raise InputError(f"{flag} must be {rel} {minimum:g}, got {text!r}", source=_CMD, key=flag)
     return x
+
+
+#: Above this a --concentration is taken for a value in mM (the unit before mol/L).
+_MAX_CONCENTRATION_M = 1.0
+
+
+def _concentration(text: object) -> float:
+    """--concentration in mol/L; a value above 1 mol/L is refused as a likely mM value."""
+    c = _number(text, "--concentration", minimum=0, strict=True)
+    if c > _MAX_CONCENTRATION_M:
+        raise InputError(
+            f"--concentration is in mol/L, got {c:g} mol/L; for {c:g} mM give {c * 1e-3:g}",
+            source=_CMD,
+            key="--concentration",
+        )
+    return c
 
 
 def _optional_positive(text: object, flag: str) -> float | None:
@@ -132,8 +155,7 @@ def _settings(args: argparse.Namespace) -> dict:
         "D_red_cm2_s": None
         if args.diffusion_red is None
         else _number(args.diffusion_red, "--diffusion-red", minimum=0.0, strict=True),
-        "concentration_M": _number(args.concentration, "--concentration", minimum=0, strict=True)
-        / 1000.0,
+        "concentration_M": _concentration(args.concentration),
         "initial_species": args.initial,
         "area_cm2": _number(args.area, "--area", minimum=0.0, strict=True),
         "cycles": cycles,

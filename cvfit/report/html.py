@@ -183,6 +183,26 @@ def _flag_list(flags: Sequence[Mapping[str, Any]], *, prefix: str = "") -> str:
     return "".join(items)
 
 
+#: The reversibility screen's margins in words, by results.json key.
+_MARGINS = {
+    "n_delta_Ep_margin_V": "n·ΔEp",
+    "n_peak_width_margin_V": "n·|Ep − Ep/2|",
+    "current_ratio_margin": "ipa/ipc",
+}
+
+
+def _margins(crit: Mapping[str, Any]) -> str:
+    """``n·ΔEp ± 10.0 mV, n·|Ep − Ep/2| ± 10.0 mV, ipa/ipc ± 0.15`` (at 298.15 K)."""
+    parts = []
+    for key, value in crit.items():
+        name = _MARGINS.get(key, extra_header(key).split(" / ")[0])
+        if isinstance(value, (int, float)) and key.endswith("_V"):
+            parts.append(f"{name} ± {value * 1e3:.1f} mV")
+        else:
+            parts.append(f"{name} ± {value}")
+    return ", ".join(parts) + " (potential margins at 298.15 K; they scale with T)"
+
+
 def _conditions(data: Mapping[str, Any]) -> str:
     s = data.get("series", {})
     ref = data.get("reference", {})
@@ -218,7 +238,7 @@ def _conditions(data: Mapping[str, Any]) -> str:
         )
     )
     if crit:
-        rows.append(("screen margins", _e(", ".join(f"{k} = {v}" for k, v in crit.items()))))
+        rows.append(("screen margins", _e(_margins(crit))))
     rows.append(("manifest", _e(data.get("manifest"))))
     return '<dl class="cond">' + "".join(f"<dt>{k}</dt><dd>{v}</dd>" for k, v in rows) + "</dl>"
 
