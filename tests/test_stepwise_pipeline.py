@@ -302,3 +302,15 @@ def test_anodic_first_series_balances_ligand_with_the_reduced_form(tmp_path):
     np.testing.assert_allclose([f.free_ligand_M for f in used], free[1:], rtol=1e-9)
     got = np.array(result.fit.log10_beta_values)
     assert result.fit.n_complexes == 3 and np.all(np.abs(got - TRUTH) < 0.05), got
+
+
+def test_stepwise_report_opens_with_the_beta_table(stepwise_run):
+    """The headline of a stepwise series is its β_j table, then the screen in words."""
+    from cvfit.report.headline import quantity_text
+
+    data, out, _, _ = stepwise_run
+    page = (out / "report.html").read_text(encoding="utf-8")
+    top = page[page.index('<section class="headline"') : page.index("<h2>Conditions")]
+    for j, q in enumerate(data["fit"]["log10_beta"], start=1):
+        assert f"log10 β{j} = {quantity_text(q)}" in top
+    assert "passed the reversibility screen" in top or "failed the reversibility" in top
