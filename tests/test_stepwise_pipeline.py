@@ -304,13 +304,30 @@ def test_anodic_first_series_balances_ligand_with_the_reduced_form(tmp_path):
     assert result.fit.n_complexes == 3 and np.all(np.abs(got - TRUTH) < 0.05), got
 
 
-def test_stepwise_report_opens_with_the_beta_table(stepwise_run):
-    """The headline of a stepwise series is its β_j table, then the screen in words."""
+def test_stepwise_report_opens_with_the_beta_table(stepwise_run, tmp_path, monkeypatch):
+    """The headline of a stepwise series is its β_j table, then the screen in words; the
+    half-wave figure carries the same lines under its title."""
+    from cvfit.io import load_manifest
+    from cvfit.pipeline.series import analyse_series
+    from cvfit.report.figures import stepwise as stepwise_figures
     from cvfit.report.headline import quantity_text
 
     data, out, _, _ = stepwise_run
+    expected = [
+        f"log10 β{j} = {quantity_text(q)}" for j, q in enumerate(data["fit"]["log10_beta"], 1)
+    ]
     page = (out / "report.html").read_text(encoding="utf-8")
     top = page[page.index('<section class="headline"') : page.index("<h2>Conditions")]
-    for j, q in enumerate(data["fit"]["log10_beta"], start=1):
-        assert f"log10 β{j} = {quantity_text(q)}" in top
+    assert all(line in top for line in expected)
     assert "passed the reversibility screen" in top or "failed the reversibility" in top
+    titles = []
+    original = stepwise_figures._save
+
+    def keep(fig, path, **kw):
+        titles.append(fig.axes[0].get_title())
+        return original(fig, path, **kw)
+
+    monkeypatch.setattr(stepwise_figures, "_save", keep)
+    result = analyse_series(load_manifest(data["manifest"]))
+    stepwise_figures.write_stepwise_figures(result, tmp_path)
+    assert titles[0].splitlines()[1:] == expected

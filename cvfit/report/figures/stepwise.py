@@ -85,16 +85,12 @@ def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
         axr.set_ylabel("residual / mV")
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel(f"E½(c) − E½(s) / mV  (E½(s) = {E0 * 1e3:.1f} mV)")
-        # the constants a reader looks for first, on the figure (the legend's title)
-        ax.legend(
-            loc="best",
-            frameon=False,
-            fontsize=8,
-            title="\n".join(constant_lines(fit.to_dict())) or None,
-            title_fontsize=8,
-            alignment="left",
+        ax.legend(loc="best", frameon=False, fontsize=8)
+        # the constants a reader looks for first, on the figure itself: under the title
+        ax.set_title(
+            "\n".join([result.series.title or "half-wave shift", *constant_lines(fit.to_dict())]),
+            fontsize=9,
         )
-        ax.set_title(result.series.title or "half-wave shift", fontsize=9)
         return _save(fig, path)
 
 

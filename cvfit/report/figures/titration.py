@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 import textwrap
+from collections.abc import Sequence
 from pathlib import Path
 
 import matplotlib
@@ -92,11 +93,18 @@ _CHAR_EM = 0.55
 _TITLE_LINE_IN = 0.17
 
 
-def _set_title(ax: plt.Axes, text: str, *, fontsize: float = 9.0) -> float:
-    """Set a title wrapped to the figure's width; return the top margin it needs, inches."""
+def _set_title(
+    ax: plt.Axes, text: str, *, fontsize: float = 9.0, extra: Sequence[str] = ()
+) -> float:
+    """Set a title wrapped to the figure's width; return the top margin it needs, inches.
+
+    *extra* lines (the constants found) follow the title, each wrapped on its own.
+    """
     width_in = float(ax.figure.get_size_inches()[0])
     per_line = max(20, int(0.95 * width_in * 72.0 / (_CHAR_EM * fontsize)))
     lines = textwrap.wrap(text, per_line, break_long_words=True) or [""]
+    for line in extra:
+        lines += textwrap.wrap(line, per_line, break_long_words=True)
     # an explicit y: matplotlib then skips measuring every tick label of the axes to
     # place the title (~20 % of drawing a figure); no axes here has labels on top
     ax.set_title("\n".join(lines), fontsize=fontsize, y=1.0)
@@ -355,15 +363,8 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         _pair_ticks(ax, axr, r_bins=3)
         shown_x = np.concatenate([x, xs]) if fit is not None else x
         shown_y = np.concatenate([y, line]) if fit is not None else y
-        # the result a reader looks for first, on the figure itself (the legend's title)
+        ax.legend(loc=quiet_corner(ax, shown_x, shown_y), frameon=False, fontsize=8)
+        # the result a reader looks for first, on the figure itself: under the title
         headline = constant_lines(fit.to_dict()) if fit is not None else []
-        ax.legend(
-            loc=quiet_corner(ax, shown_x, shown_y),
-            frameon=False,
-            fontsize=8,
-            title="\n".join(headline) or None,
-            title_fontsize=8,
-            alignment="left",
-        )
-        top = _set_title(ax, result.series.title or "half-wave shift")
+        top = _set_title(ax, result.series.title or "half-wave shift", extra=headline)
         return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
