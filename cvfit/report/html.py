@@ -35,8 +35,9 @@ FIGURE_CAPTIONS = {
     "voltammograms.png": "The analysed cycle of every voltammogram, coloured by total ligand "
     "concentration (dashed: no ligand; grey dotted: failed the reversibility screen, as the "
     "figure's legend says).",
-    "half_wave_shift.png": "E½(c) − E½(s) against log10[L] with the fitted Lingane line, its "
-    "95 % band, and the residuals (open markers: flagged, not fitted).",
+    "half_wave_shift.png": "E½(c) − E½(s) against log10[L] with the fitted line (stepwise: "
+    "curve), its 95 % band, and the residuals (open markers: flagged, not fitted); the "
+    "constants found stand under the title.",
     "diagnostics.png": "Reversibility diagnostics of every voltammogram: n·ΔEp and ipa/ipc "
     "against the band the screen allows (filled: used — in the fit or, diamond, as the "
     "ligand-free reference; open: left out of the fit).",
