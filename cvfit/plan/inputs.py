@@ -137,7 +137,8 @@ class PlanInput:
 
 
 def _err(source: str, key: str, message: str) -> InputError:
-    return InputError(message, source=source, key=key)
+    """An InputError whose one line names the key (``section.key: message``)."""
+    return InputError(f"{key}: {message}", source=source, key=key)
 
 
 def _number(src: str, key: str, value: Any, *, positive: bool = False) -> float:
