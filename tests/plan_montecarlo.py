@@ -8,6 +8,10 @@ fit functions ``cvfit run`` applies after the peak analysis (fit_lingane, fit_st
 
 from __future__ import annotations
 
+import contextlib
+import math
+from unittest import mock
+
 import numpy as np
 
 from cvfit.chemistry.complexation import complexed_half_wave_V
@@ -20,6 +24,16 @@ from cvfit.units import nernst_slope_V_per_decade
 E_FREE_V = -0.100
 
 
+def without_profile_intervals():
+    """Context in which fit_stepwise skips its profile-likelihood intervals (NaN).
+
+    They cost ~80 % of a stepwise fit and are not what the Monte-Carlo checks: the fitted
+    values are the least-squares optimum of the model the F-test chose, which does not use
+    them (test_plan_montecarlo checks that the values are identical either way).
+    """
+    return mock.patch("cvfit.fit.stepwise.profile_interval", lambda *a, **k: (math.nan, math.nan))
+
+
 def stepwise_scatter(
     ligand_M,
     log10_beta,
@@ -30,9 +44,11 @@ def stepwise_scatter(
     metal_total_M=None,
     temperature_K=298.15,
     electrons=1,
+    profile=False,
 ):
     """Fitted log10 β_j of ``n_series`` simulated series (rows; series whose chosen N
-    differs from the truth are dropped) and how many were dropped."""
+    differs from the truth are dropped) and how many were dropped. ``profile=False`` skips
+    the profile intervals (see :func:`without_profile_intervals`)."""
     c = np.asarray(ligand_M, dtype=float)
     if metal_total_M is None:
         L = c
@@ -48,26 +64,27 @@ def stepwise_scatter(
     rng = np.random.default_rng(seed)
     cond = SolutionConditions(metal_total_M=metal_total_M)
     rows, dropped = [], 0
-    for _ in range(n_series):
-        y = E + rng.normal(0.0, sigma_V, E.size)
-        ref = E_FREE_V + rng.normal(0.0, sigma_V)
-        pts = [
-            StepwisePoint(f"s{i}", x, v, sigma_V)
-            for i, (x, v) in enumerate(zip(c, y, strict=True))
-        ]
-        fit = fit_stepwise(
-            pts,
-            electrons=electrons,
-            temperature_K=temperature_K,
-            reference_E_half_V=ref,
-            reference_stderr_V=sigma_V,
-            max_complexes=len(log10_beta),
-            conditions=cond,
-        )
-        if isinstance(fit, FitRefused) or fit.n_complexes != len(log10_beta):
-            dropped += 1
-            continue
-        rows.append(fit.log10_beta_values)
+    with contextlib.nullcontext() if profile else without_profile_intervals():
+        for _ in range(n_series):
+            y = E + rng.normal(0.0, sigma_V, E.size)
+            ref = E_FREE_V + rng.normal(0.0, sigma_V)
+            pts = [
+                StepwisePoint(f"s{i}", x, v, sigma_V)
+                for i, (x, v) in enumerate(zip(c, y, strict=True))
+            ]
+            fit = fit_stepwise(
+                pts,
+                electrons=electrons,
+                temperature_K=temperature_K,
+                reference_E_half_V=ref,
+                reference_stderr_V=sigma_V,
+                max_complexes=len(log10_beta),
+                conditions=cond,
+            )
+            if isinstance(fit, FitRefused) or fit.n_complexes != len(log10_beta):
+                dropped += 1
+                continue
+            rows.append(fit.log10_beta_values)
     return np.array(rows), dropped
 
 
