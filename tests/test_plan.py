@@ -380,3 +380,27 @@ def test_plan_command_bad_input_is_one_line_exit_2(tmp_path, text, needle):
     assert len(lines) == 1 and "Traceback" not in proc.stderr
     assert str(plan) in lines[0]
     assert needle in lines[0]
+
+
+# --- the documentation ----------------------------------------------------------------
+
+
+def test_docs_example_plan_is_valid_and_every_key_is_documented():
+    import re
+    import tomllib
+
+    from cvfit.plan.inputs import _SECTIONS
+
+    text = (ROOT / "docs" / "plan.md").read_text(encoding="utf-8")
+    example = re.search(r"```toml\n(.*?)```", text, flags=re.S).group(1)
+    req = plan_from_mapping(tomllib.loads(example), "docs/plan.md")
+    assert req.model == "stepwise" and req.points == 10
+    documented = set(re.findall(r"`(\w+)`", text))
+    allowed = set().union(*_SECTIONS.values()) - {
+        "log10_beta_ratio_range",
+        "delta_ligands_range",
+        "log10_beta_ox_range",
+        "log10_beta_red_range",
+    }
+    assert allowed <= documented, sorted(allowed - documented)
+    assert "<key>_range" in text

@@ -183,11 +183,17 @@ def covariance_from_sums(A: np.ndarray, B: np.ndarray) -> np.ndarray:
 
 
 def constants_covariance(
-    spec: ModelSpec, theta: np.ndarray, total_M: np.ndarray, sigma_V: float
+    spec: ModelSpec,
+    theta: np.ndarray,
+    total_M: np.ndarray,
+    sigma_V: float,
+    *,
+    exact: bool = True,
 ) -> np.ndarray:
     """Predicted covariance of the constants (k × k) for one design and one θ, in their
-    units (log10 for β, plain for p − q); NaN when the design cannot determine them."""
-    J, Jt = jacobian_rows(spec, theta, total_M)
+    units (log10 for β, plain for p − q); NaN when the design cannot determine them.
+    ``exact=False`` takes the free ligand from the table (see :func:`free_ligand`)."""
+    J, Jt = jacobian_rows(spec, theta, total_M, exact=exact)
     r = reference_row(len(theta))
     A = J.T @ Jt + np.outer(r, r)
     B = J.T @ J + np.outer(r, r)
