@@ -12,10 +12,10 @@ every constant given a range, its two ends with the others at their expected val
 star of 2d + 1 points for d ranged constants). The worst scenario is reported as well.
 
 Search: Fedorov-type exchange. The design starts as the log-spaced one; each point in turn
-is moved to the candidate (a grid of ≥ 24 per decade that contains the log-spaced points,
-each used at most once, so the concentrations stay distinct) that lowers the criterion
-most, until a sweep changes nothing. The criterion never rises, so the result is never
-worse than the log-spaced design by the plan's own criterion.
+is moved to the candidate (a grid of ≥ 24 per decade and ≥ 3 per point that contains the
+log-spaced points, each used at most once, so the concentrations stay distinct) that lowers
+the criterion most, until a sweep changes nothing. The criterion never rises, so the
+result is never worse than the log-spaced design by the plan's own criterion.
 
 References
 ----------
@@ -139,7 +139,7 @@ def exchange_design(
     mass balance (:func:`cvfit.plan.information.free_ligand` with ``exact=False``).
     """
     decades = math.log10(hi / lo)
-    m = max(25, int(round(CANDIDATES_PER_DECADE * decades)) + 1)
+    m = max(25, int(round(CANDIDATES_PER_DECADE * decades)) + 1, 3 * n)
     start = log_spaced(lo, hi, n)
     cand = np.unique(np.concatenate([np.geomspace(lo, hi, m), start]))
     S, k = thetas.shape
