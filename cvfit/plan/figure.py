@@ -96,6 +96,11 @@ def plan_figure(result: PlanResult) -> Figure:
         bx.plot(pos, worst, ls="", marker="_", color="black", ms=8)
     if req.target_stderr_log10 is not None:
         bx.axhline(req.target_stderr_log10, color="#a50021", lw=1, ls="--", label="target")
+    tops = [v for d in designs for v in (*d.stderr, *d.stderr_worst) if math.isfinite(v)]
+    if req.target_stderr_log10 is not None:
+        tops.append(req.target_stderr_log10)
+    if tops:
+        bx.set_ylim(0.0, 1.35 * max(tops))  # room for the legend above the bars
     bx.set_xticks(x)
     bx.set_xticklabels(
         [n.replace("log10_beta_", "lg β ") for n in req.names], fontsize=7, rotation=20
