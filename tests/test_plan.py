@@ -404,3 +404,25 @@ def test_docs_example_plan_is_valid_and_every_key_is_documented():
     }
     assert allowed <= documented, sorted(allowed - documented)
     assert "<key>_range" in text
+
+
+def test_never_worse_than_log_spaced_over_random_systems():
+    """20 random systems (1–4 complexes or a line, ranges, metal or not, 2–5 decades)."""
+    rng = np.random.default_rng(2024)
+    for case in range(20):
+        N = int(rng.integers(0, 5))
+        lo = 10.0 ** rng.uniform(-5, -2)
+        hi = lo * 10.0 ** rng.uniform(2, 5)
+        if N == 0:
+            expect = {"log10_beta_ratio": float(rng.uniform(2, 8)), "delta_ligands": 1.0}
+        else:
+            steps = np.cumsum(rng.uniform(0.5, 3.5, N))
+            expect = {
+                "log10_beta_ox": steps.round(2).tolist(),
+                "log10_beta_ox_range": [[b - 0.5, b + 0.5] for b in steps.round(2)],
+            }
+        series = {"metal_total_M": lo / 5} if rng.random() < 0.5 else {}
+        d = doc(expect, {"ligand_min_M": lo, "ligand_max_M": hi, "points": N + 4}, series)
+        res = make_plan(plan_from_mapping(d, f"<random {case}>"))
+        rec, logd = res.design("recommended"), res.design("log_spaced")
+        assert rec.criterion_mean <= logd.criterion_mean + 1e-12, (case, d)
