@@ -16,7 +16,8 @@ PACKAGE = Path(__file__).resolve().parents[1] / "cvfit"
 #: Rank of each part of the package: a module may import its own part and lower ranks.
 #: Foundation records and units (0) → solution chemistry (1) → reading files, the
 #: simulator and the peak analysis (2) → the reversibility screen and the titration fits
-#: (3) → the pipeline and its result records (4) → the outputs (5) → the command line (6).
+#: (3) → the pipeline and its result records (4) → the outputs and the experiment plan (5;
+#: beside each other, neither imports the other) → the command line (6).
 RANKS = {
     "errors": 0,
     "units": 0,
@@ -35,6 +36,7 @@ RANKS = {
     "fit": 3,
     "pipeline": 4,
     "report": 5,
+    "plan": 5,
     "cli": 6,
 }
 #: The public facade and the ``python -m`` entry point sit above everything.

@@ -1,4 +1,4 @@
-"""Command line: ``cvfit run | demo | simulate``.
+"""Command line: ``cvfit run | demo | simulate | plan``.
 
 This package is the only place in cvfit that prints or exits. Each sub-command lives in
 its own module with ``register(subparsers)`` and a handler returning the exit status.
@@ -50,9 +50,9 @@ def build_parser() -> argparse.ArgumentParser:
         "--debug", action="store_true", help="show the traceback of an internal error"
     )
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
-    from . import demo, run, simulate
+    from . import demo, plan, run, simulate
 
-    for module in (run, demo, simulate):
+    for module in (run, demo, simulate, plan):
         module.register(sub)
     return parser
 

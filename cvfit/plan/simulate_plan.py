@@ -1,0 +1,107 @@
+"""Write a planned titration as simulated voltammograms and a manifest (``--simulate``).
+
+The series is the ligand-free reference plus every planned solution, simulated by
+:func:`cvfit.simulate.titration_series.simulate_series` at the expected constants; with
+``metal_total_M`` each voltammogram is simulated at the free ligand of the mass balance and
+the manifest records the total ligand and the metal, as a chemist's manifest would, so
+that ``cvfit run`` applies its own free-ligand correction.
+"""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import numpy as np
+
+from cvfit.chemistry.complexation import complexed_half_wave_V
+from cvfit.simulate.titration_series import simulate_series
+
+from .information import free_ligand
+from .planner import spec_of
+from .result import PlanResult
+
+__all__ = ["simulate_plan", "SIMULATION_MARGIN_V", "LINGANE_LOWER_LOG10_BETA"]
+
+#: Potential window beyond the highest/lowest E½ of the series, V.
+SIMULATION_MARGIN_V = 0.3
+#: log10 β_j given to the complexes below ML_(p−q) when a Lingane plan is simulated (one
+#: complex only; the reduced form is taken as uncomplexed).
+LINGANE_LOWER_LOG10_BETA = -30.0
+
+
+def _constants(result: PlanResult) -> tuple[list[float], list[float]]:
+    req = result.request
+    if req.model == "lingane":
+        ratio, delta = req.values
+        p = max(int(round(delta)), 1)
+        return [LINGANE_LOWER_LOG10_BETA] * (p - 1) + [float(ratio)], []
+    fitted = [float(x) for x in req.values]
+    fixed = [float(x) for x in req.fixed_log10_beta]
+    return (fitted, fixed) if req.fitted_state == "ox" else (fixed, fitted)
+
+
+def simulate_plan(
+    result: PlanResult,
+    out_dir: str | Path,
+    *,
+    design: str = "recommended",
+    noise_fraction: float = 0.002,
+    seed: int | None = 0,
+    overwrite: bool = False,
+) -> Path:
+    """Simulate ``design`` of the plan into ``out_dir``; returns the manifest path.
+
+    Raises
+    ------
+    cvfit.errors.SimulationError
+        A target file exists (without ``overwrite``) or the simulation fails.
+    """
+    req = result.request
+    d = result.design(design)
+    if d is None:
+        raise ValueError(f"the plan has no {design!r} design")
+    total = np.array(d.ligand_M)
+    free = free_ligand(spec_of(req), np.array(req.values), total)
+    beta_ox, beta_red = _constants(result)
+    ligands = [0.0, *(float(x) for x in free)]
+    halves = complexed_half_wave_V(
+        req.E_half_free_V,
+        ligand_M=np.array(ligands),
+        log10_beta_ox=beta_ox,
+        log10_beta_red=beta_red,
+        electrons=req.electrons,
+        temperature_K=req.temperature_K,
+    )
+    manifest = simulate_series(
+        out_dir,
+        ligand_M=ligands,
+        E_half_free_V=req.E_half_free_V,
+        log10_beta_ox=beta_ox,
+        log10_beta_red=beta_red,
+        electrons=req.electrons,
+        title=f"{req.title} ({design} design, simulated)",
+        noise_fraction=noise_fraction,
+        seed=seed,
+        overwrite=overwrite,
+        start_V=float(np.max(halves)) + SIMULATION_MARGIN_V,
+        switch_V=float(np.min(halves)) - SIMULATION_MARGIN_V,
+        temperature_K=req.temperature_K,
+    )
+    text = manifest.read_text(encoding="utf-8")
+    totals = iter([0.0, *(float(x) for x in total)])
+    text = re.sub(r"^ligand_M = .*$", lambda _: f"ligand_M = {next(totals)!r}", text, flags=re.M)
+    extra = []
+    if req.metal_total_M is not None:
+        extra.append(f"metal_total_M = {float(req.metal_total_M)!r}")
+    text = re.sub(
+        r"^(electrons = \d+)$", lambda m: "\n".join([m.group(1), *extra]), text, flags=re.M
+    )
+    fit = ["", "[fit]", f'model = "{req.model}"']
+    if req.model == "stepwise":
+        fit.append(f"max_complexes = {len(req.values)}")
+        if req.fixed_log10_beta:
+            other = "red" if req.fitted_state == "ox" else "ox"
+            fit.append(f"fixed_log10_beta_{other} = {[float(x) for x in req.fixed_log10_beta]}")
+    manifest.write_text(text.rstrip("\n") + "\n" + "\n".join(fit) + "\n", encoding="utf-8")
+    return manifest
