@@ -39,6 +39,7 @@ def _fit(points, manifest: Manifest, reference: ReferenceHalfWave):
         temperature_K=manifest.series.temperature_K,
         reference_E_half_V=reference.E_half_V,
         reference_stderr_V=reference.stderr_V,
+        reference_count=max(len(reference.files), 1) if reference.source == "file" else 1,
     )
 
 

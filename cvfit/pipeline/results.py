@@ -155,12 +155,18 @@ class ReferenceHalfWave:
         ``"file"`` (mean of the ligand-free voltammograms) or ``"manifest"``.
     files : tuple of str
         The ligand-free files it was taken from.
+    spread_V : float or None
+        Standard deviation of those files' E½, V (None with fewer than two).
+    file_E_half_V : tuple of float
+        Their E½ values, V, in the order of ``files``.
     """
 
     E_half_V: float | None
     stderr_V: float | None
     source: str
     files: tuple[str, ...] = ()
+    spread_V: float | None = None
+    file_E_half_V: tuple[float, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -168,6 +174,8 @@ class ReferenceHalfWave:
             "stderr_V": clean_number(self.stderr_V),
             "source": self.source,
             "files": list(self.files),
+            "spread_V": clean_number(self.spread_V),
+            "file_E_half_V": [clean_number(v) for v in self.file_E_half_V],
         }
 
 

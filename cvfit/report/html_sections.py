@@ -1,0 +1,83 @@
+"""Report sections that stand on their own: the error budget and the internal standard.
+
+Each function takes the results.json mapping (``SeriesResult.to_dict``) and returns an HTML
+``<section>`` — or an empty string when the series has nothing to show in it — so the page
+(:mod:`cvfit.report.html`) only places them.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from html import escape
+from typing import Any
+
+__all__ = ["error_budget_section", "BUDGET_ROWS"]
+
+#: Constants shown in the error-budget table: key -> label.
+BUDGET_ROWS = {
+    "log10_beta_ratio": "log10(βox/βred)",
+    "delta_ligands": "p − q",
+    "log10_beta_ratio_at_integer": "log10(βox/βred), p − q whole",
+}
+
+
+def _e(value: object) -> str:
+    return escape("" if value is None else str(value), quote=True)
+
+
+def _cell(x: object, digits: int) -> str:
+    if not isinstance(x, int | float) or not math.isfinite(x):
+        return '<td class="num">n/d</td>'
+    return f'<td class="num" data-value="{x!r}">{x:.{digits}f}</td>'
+
+
+def _digits(total: float | None) -> int:
+    if total is None or not (math.isfinite(total) and total > 0):
+        return 3
+    return max(0, 1 - int(math.floor(math.log10(total))))
+
+
+def error_budget_section(data: Mapping[str, Any]) -> str:
+    """The error budget of the fitted constants as a small table (empty without one)."""
+    fit = data.get("fit") or {}
+    budget = fit.get("error_budget")
+    if not budget:
+        return ""
+    rows = []
+    for key, label in BUDGET_ROWS.items():
+        b = budget.get(key)
+        if not b:
+            continue
+        d = _digits(b.get("total"))
+        rows.append(
+            f'<tr data-key="{_e(key)}"><th scope="row">{_e(label)}</th>'
+            + "".join(
+                _cell(b.get(part), d)
+                for part in ("within_file", "between_solutions", "reference", "total")
+            )
+            + "</tr>"
+        )
+    notes = []
+    chi = fit.get("reduced_chi_square")
+    extra = fit.get("extra_scatter_V")
+    if chi is not None:
+        notes.append(f"reduced χ² of the line with the per-file errors {chi:.2f}")
+    if extra is not None:
+        notes.append(f"scatter between solutions beyond the file noise s = {1e3 * extra:.2f} mV")
+    ref = data.get("reference") or {}
+    values = [v for v in ref.get("file_E_half_V") or [] if v is not None]
+    if len(values) > 1 and ref.get("spread_V") is not None:
+        notes.append(
+            f"E½(s) from {len(values)} ligand-free files, spread (SD) "
+            f"{1e3 * ref['spread_V']:.2f} mV, range {1e3 * (max(values) - min(values)):.2f} mV"
+        )
+    note = f'<p class="refs">{_e("; ".join(notes))}.</p>' if notes else ""
+    return (
+        "<section><h2>Error budget</h2><p>Standard uncertainty of each constant by source; "
+        "the total is the standard error its 95 % interval is built on.</p>"
+        '<div class="scroll"><table class="budget"><thead><tr><th>constant</th>'
+        "<th>within-file noise</th><th>between solutions</th><th>reference E½(s)</th>"
+        "<th>total</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table></div>"
+        f"{note}</section>"
+    )
