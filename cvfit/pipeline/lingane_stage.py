@@ -115,7 +115,7 @@ def run_lingane(
                 )
             )
         shift = slope * math.log10(f.ligand_M / pt.ligand_M)
-        sigma = f.peaks.E_half_stderr_V or scatter
+        sigma = f.E_half_total_stderr_V or scatter
         if share > 0 and sigma is not None and shift > sigma:
             noise = f"{1e3 * sigma:.2f} mV"
             flags.append(

@@ -7,12 +7,17 @@ Each function takes the results.json mapping (``SeriesResult.to_dict``) and retu
 
 from __future__ import annotations
 
+import base64
 import math
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from html import escape
+from pathlib import Path
 from typing import Any
 
-__all__ = ["error_budget_section", "BUDGET_ROWS"]
+__all__ = ["error_budget_section", "internal_standard_section", "BUDGET_ROWS", "STANDARD_FIGURE"]
+
+#: File name of the internal-standard figure, shown in its own section.
+STANDARD_FIGURE = "internal_standard.png"
 
 #: Constants shown in the error-budget table: key -> label.
 BUDGET_ROWS = {
@@ -81,3 +86,72 @@ def error_budget_section(data: Mapping[str, Any]) -> str:
         "<th>total</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table></div>"
         f"{note}</section>"
     )
+
+
+def _mv(x: object, digits: int = 2) -> str:
+    if not isinstance(x, int | float) or not math.isfinite(x):
+        return "n/d"
+    return f"{1e3 * x:.{digits}f}"
+
+
+def internal_standard_section(
+    data: Mapping[str, Any], figures: Sequence[Path]
+) -> tuple[str, list[Path]]:
+    """The internal standard's E½ file by file, with its drift figure.
+
+    Returns the section (empty without an internal standard) and *figures* less the one
+    the section shows.
+    """
+    files = data.get("voltammograms") or []
+    rest = [Path(p) for p in figures if Path(p).name != STANDARD_FIGURE]
+    if not any(f.get("internal_standard") for f in files):
+        return "", list(figures)
+    rows = []
+    values = []
+    for f in files:
+        std = f.get("internal_standard") or {}
+        e = std.get("E_half_V")
+        if isinstance(e, int | float):
+            values.append(e)
+        verdict = {True: "yes", False: "no"}.get(std.get("reversible"), "n/d")
+        rows.append(
+            f"<tr><td>{_e(f.get('label') or f.get('file'))}</td>"
+            f'<td class="num">{_e(_mv(f.get("ligand_M"), 3))}</td>'
+            f'<td class="num" data-value="{e!r}">{_e(_mv(e))}</td>'
+            f'<td class="num">{_e(_mv(std.get("E_half_stderr_V"), 3))}</td>'
+            f'<td class="num">{_e(_mv(std.get("delta_Ep_V"), 1))}</td>'
+            f"<td>{verdict}</td>"
+            f'<td class="num">{_e(_mv(f.get("E_half_V")))}</td></tr>'
+        )
+    drift = (
+        f" The standard's E½ moved over {1e3 * (max(values) - min(values)):.2f} mV along the "
+        "series; quoting the analyte against it removes that drift."
+        if len(values) > 1
+        else ""
+    )
+    figure = ""
+    for p in figures:
+        p = Path(p)
+        if p.name == STANDARD_FIGURE and p.is_file():
+            b64 = base64.b64encode(p.read_bytes()).decode("ascii")
+            caption = (
+                "Top: the internal standard's E½ less its series mean (drift of the reference "
+                "electrode), ±1 standard error. Bottom: the analyte's E½ on the electrode's "
+                "scale and against the standard."
+            )
+            figure = (
+                f'<figure><img alt="{_e(caption)}" src="data:image/png;base64,{b64}">'
+                f'<figcaption>{_e(caption)} <span class="code">{_e(p.name)}</span>'
+                "</figcaption></figure>"
+            )
+    html = (
+        "<section><h2>Internal standard</h2><p>Every file holds an internal reference "
+        "couple; the analyte's E½ (last column, and everywhere else in this report) is "
+        f"quoted against the standard's E½ measured in the same file.{_e(drift)}</p>"
+        '<div class="scroll"><table><thead><tr><th>file</th><th>ligand / mM</th>'
+        "<th>E½ standard / mV (electrode scale)</th><th>± / mV</th><th>ΔEp / mV</th>"
+        "<th>standard reversible</th><th>analyte E½ against it / mV</th></tr></thead><tbody>"
+        + "".join(rows)
+        + f"</tbody></table></div>{figure}</section>"
+    )
+    return html, rest
