@@ -56,7 +56,7 @@ def error_budget_section(data: Mapping[str, Any]) -> str:
             continue
         d = _digits(b.get("total"))
         rows.append(
-            f'<tr data-key="{_e(key)}"><th scope="row">{_e(label)}</th>'
+            f'<tr data-budget="{_e(key)}"><th scope="row">{_e(label)}</th>'
             + "".join(
                 _cell(b.get(part), d)
                 for part in ("within_file", "between_solutions", "reference", "total")
