@@ -210,3 +210,51 @@ def test_demo_report_has_the_budget_table_and_schema_valid_json():
     assert "<h2>Error budget</h2>" in page
     assert page.index("Error budget") > page.index("<h2>Constants</h2>")
     assert f'data-value="{budget["total"]!r}"' in page
+
+
+@pytest.mark.parametrize("offset_mV", [0.0, 2.0])
+def test_stepwise_budget_adds_up_and_sees_the_offsets(offset_mV):
+    # three complexes of the oxidised form (invented constants); 0.2 mV noise per file and
+    # optionally a 1-3 mV offset per solution
+    from cvfit.chemistry.complexation import complexed_half_wave_V
+    from cvfit.fit.stepwise import StepwisePoint, fit_stepwise
+
+    rng = np.random.default_rng(21)
+    truth = (2.0, 3.7, 4.9)
+    lig = np.logspace(-3.5, 0.0, 14)
+    E = complexed_half_wave_V(0.0, ligand_M=lig, log10_beta_ox=truth, log10_beta_red=())
+    hi = offset_mV * 1e-3
+    E = E + rng.normal(0.0, 0.2e-3, lig.size) + offsets(rng, lig.size, hi / 2, hi)
+    pts = [StepwisePoint(f"p{i}", float(c), float(e), 0.2e-3) for i, (c, e) in enumerate(
+        zip(lig, E, strict=True))]  # fmt: skip
+    fit = fit_stepwise(
+        pts,
+        electrons=1,
+        temperature_K=298.15,
+        reference_E_half_V=float(offsets(rng, 1, hi / 2, hi)[0]) if hi else 0.0,
+        reference_stderr_V=0.2e-3,
+        max_complexes=3,
+    )
+    assert fit.error_budget is not None and len(fit.error_budget) == fit.n_complexes
+    for q, b in zip(fit.log10_beta, fit.error_budget, strict=True):
+        assert b.total == pytest.approx(q.stderr, rel=1e-6)
+        assert b.unit == "log10 units"
+    d = fit.to_dict()
+    assert set(d["error_budget"]) == {f"log10_beta_{j}" for j in range(1, fit.n_complexes + 1)}
+    first = fit.error_budget[0]
+    if offset_mV:
+        assert first.between_solutions > first.within_file
+        assert fit.extra_scatter_V > 0.5e-3
+    else:
+        assert fit.extra_scatter_V < 0.4e-3
+
+
+def test_budget_table_lists_stepwise_constants():
+    from cvfit.report.html_sections import error_budget_section
+
+    entry = {"unit": "log10 units", "within_file": 0.01, "between_solutions": 0.02,
+             "reference": 0.0, "total": math.sqrt(5e-4)}  # fmt: skip
+    data = {"fit": {"error_budget": {"log10_beta_2": entry, "log10_beta_1": entry}}}
+    page = error_budget_section(data)
+    assert page.index("log10 β1") < page.index("log10 β2")
+    assert error_budget_section({"fit": {"error_budget": None}}) == ""

@@ -41,6 +41,7 @@ __all__ = [
     "within_file_variance",
     "budget_of",
     "reference_mean",
+    "linearised_budgets",
 ]
 
 
@@ -204,3 +205,31 @@ def reference_mean(
     from_scatter = math.nan if spread is None else spread / math.sqrt(m)
     candidates = [x for x in (from_errors, from_scatter) if math.isfinite(x)]
     return mean, (max(candidates) if candidates else None), spread
+
+
+def linearised_budgets(
+    jacobian: NDArray[np.float64], n_points: int, scale: float, weighted: bool, unit: str
+) -> list[ErrorBudget]:
+    """Budgets of the parameters of a weighted non-linear fit, from its Jacobian.
+
+    *jacobian* is that of the weighted residuals (rows: the *n_points* titration points,
+    then the reference observation; columns: parameters), so ``C = (JᵀJ)⁻¹`` and the fitted
+    covariance is ``scale·C``, ``scale`` = RSS/ν. Linearised, parameter k is ``Σ A_ki y_i``
+    with ``A = C Jᵀ`` and each weighted observation of unit variance: the points give the
+    within-file part ``Σ_points A_ki²`` and the reference row ``A_k,ref²``. The scale
+    factor's excess over 1 is the between-solutions part of the points' share; the
+    reference part takes the same factor (it came from the same peak analysis). Unweighted
+    (``weighted`` false) all of the points' share is counted as between solutions.
+    Returned for every parameter, in *unit*; the totals are ``√(scale·C_kk)``.
+    """
+    J = np.asarray(jacobian, dtype=float)
+    C = np.linalg.inv(J.T @ J)
+    A = C @ J.T
+    points = np.sum(A[:, :n_points] ** 2, axis=1)
+    ref = np.sum(A[:, n_points:] ** 2, axis=1)
+    out = []
+    for k in range(J.shape[1]):
+        fit_var = scale * points[k]
+        within = points[k] if weighted else None
+        out.append(budget_of(unit, fit_var, within, scale * ref[k]))
+    return out

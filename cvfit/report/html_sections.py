@@ -19,7 +19,8 @@ __all__ = ["error_budget_section", "internal_standard_section", "BUDGET_ROWS", "
 #: File name of the internal-standard figure, shown in its own section.
 STANDARD_FIGURE = "internal_standard.png"
 
-#: Constants shown in the error-budget table: key -> label.
+#: Lingane constants shown in the error-budget table: key -> label (a stepwise fit shows
+#: its log10_beta_j).
 BUDGET_ROWS = {
     "log10_beta_ratio": "log10(βox/βred)",
     "delta_ligands": "p − q",
@@ -50,10 +51,13 @@ def error_budget_section(data: Mapping[str, Any]) -> str:
     if not budget:
         return ""
     rows = []
-    for key, label in BUDGET_ROWS.items():
-        b = budget.get(key)
-        if not b:
-            continue
+    keys = [k for k in BUDGET_ROWS if k in budget] + sorted(
+        (k for k in budget if k.removeprefix("log10_beta_").isdigit()),
+        key=lambda k: int(k.rsplit("_")[-1]),
+    )
+    for key in keys:
+        b = budget[key]
+        label = BUDGET_ROWS.get(key) or f"log10 β{key.rsplit('_')[-1]}"
         d = _digits(b.get("total"))
         rows.append(
             f'<tr data-budget="{_e(key)}"><th scope="row">{_e(label)}</th>'
