@@ -219,3 +219,23 @@ def test_manifest_defaults_and_results_without_a_standard(tmp_path):
     assert m.series.analyte_window_V == (-0.5, 0.0)
     plain = load_manifest(_manifest(tmp_path / ".." / tmp_path.name, "", "", file_ok=False))
     assert plain.internal_standard is None and plain.series.analyte_window_V is None
+
+
+def test_series_without_ligand_free_file_states_E_half_free_on_the_standard_scale(tmp_path):
+    series = simulate_internal_standard_series(
+        ligand_M=(0.01, 0.1, 0.3),
+        E_half_free_V=-0.05,
+        log10_beta_ox=(5.0, 9.6),
+        log10_beta_red=(4.2,),
+        standard_E_half_V=0.25,
+        seed=1,
+        out_dir=tmp_path,
+        analyte_window_V=(-0.9, 0.1),
+        standard_window_V=(0.1, 0.8),
+        start_V=0.55,
+        switch_V=-0.7,
+        **CV,
+    )
+    m = load_manifest(series.manifest)
+    assert m.series.E_half_free_V == pytest.approx(-0.30)
+    assert series.drift_V[0] == 0.0 and len(series.records) == 3

@@ -146,8 +146,8 @@ def simulate_internal_standard_series(
     E½ (from :func:`cvfit.chemistry.complexation.complexed_half_wave_V`) and the standard's
     move with it, so E½ against the standard does not. With ``out_dir`` the CSV files and a
     manifest with ``[internal_standard]`` (``E_half_V = 0``: potentials against the
-    standard) are written; the windows default to ±half the distance between the waves
-    around each.
+    standard; without a ligand-free file ``E_half_free_V`` on that scale) are written; the
+    windows default to meeting half-way between the standard and the mean analyte E½.
 
     Returns
     -------
@@ -210,6 +210,9 @@ def simulate_internal_standard_series(
             analyte_window_V=analyte_window_V,
             standard_window_V=standard_window_V,
             overwrite=overwrite,
+            E_half_free_vs_standard_V=None
+            if 0.0 in ligands
+            else float(E_half_free_V) - float(standard_E_half_V),
         )
     return StandardSeries(
         manifest,
@@ -233,6 +236,7 @@ def _write(
     analyte_window_V: tuple[float, float],
     standard_window_V: tuple[float, float],
     overwrite: bool,
+    E_half_free_vs_standard_V: float | None,
 ) -> Path:
     manifest = out / MANIFEST_NAME
     if not overwrite:
@@ -254,6 +258,10 @@ def _write(
         f"temperature_C = {_toml_float(temperature_K - ZERO_CELSIUS_K)}",
         f"electrons = {int(electrons)}",
         f"analyte_window_V = {pair(analyte_window_V)}",
+    ]
+    if E_half_free_vs_standard_V is not None:  # no ligand-free file: E½(s) on the same scale
+        lines.append(f"E_half_free_V = {_toml_float(E_half_free_vs_standard_V)}")
+    lines += [
         "",
         "[internal_standard]",
         f"window_V = {pair(standard_window_V)}",
