@@ -147,6 +147,12 @@ _CATALOGUE = (
              "and none was given; no constants are reported."),
     FlagCode("REFERENCE_NOT_NERNSTIAN", _W, "The ligand-free voltammogram failed the "
              "reversibility screen; its E½ is used as E½(s) all the same."),
+    FlagCode("INTERNAL_STANDARD_NOT_FOUND", _E, "The internal reference couple's E½ could "
+             "not be measured in its window, so the analyte's E½ of this file cannot be "
+             "quoted against it; the file is not fitted."),
+    FlagCode("INTERNAL_STANDARD_NOT_NERNSTIAN", _W, "The internal reference couple failed "
+             "its own reversibility screen in this file; its E½ (peak midpoint) is used as "
+             "the file's reference all the same."),
     FlagCode("REFERENCE_UNCERTAINTY_UNKNOWN", _I, "E½(s) has no standard error; the fit "
              "gives the reference the scatter of the titration points."),
     FlagCode("LOW_LIGAND_EXCESS", _W, "More than 10 % of the ligand is bound to the metal "

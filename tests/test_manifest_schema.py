@@ -12,6 +12,7 @@ import pytest
 from cvfit.errors import InputError
 from cvfit.io import load_manifest
 from cvfit.io.manifest import ENTRY_KEYS, FIT_KEYS, REVERSIBILITY_KEYS, SERIES_KEYS, TABLES
+from cvfit.io.manifest_standard import INTERNAL_STANDARD_KEYS
 from cvfit.io.options import IMPORT_KEYS
 
 SCHEMA_PATH = Path(__file__).resolve().parents[1] / "schemas" / "series.schema.json"
@@ -168,7 +169,7 @@ def _objects(node):
 
 def test_every_object_is_closed_and_documented():
     objects = list(_objects(SCHEMA))
-    assert len(objects) == 6
+    assert len(objects) == 7
     for obj in objects:
         assert obj["additionalProperties"] is False
         assert obj["description"]
@@ -184,3 +185,4 @@ def test_schema_keys_match_loader_keys():
     assert set(props["fit"]["properties"]) == set(FIT_KEYS)
     assert set(props["reversibility"]["properties"]) == set(REVERSIBILITY_KEYS)
     assert set(props["voltammogram"]["items"]["properties"]) == set(ENTRY_KEYS)
+    assert set(props["internal_standard"]["properties"]) == set(INTERNAL_STANDARD_KEYS)

@@ -36,6 +36,7 @@ from cvfit.flags import FitRefused, Flag
 from cvfit.quantity import Quantity, clean_number
 from cvfit.units import nernst_slope_V_per_decade
 
+from .error_budget import ErrorBudget, budget_of, extra_scatter_variance, within_file_variance
 from .lingane_flags import delta_ligand_flags, point_flags, weighting_flag
 from .lingane_intervals import scaled, t_quantity, with_reference
 from .lingane_regression import curvature_p_value, fit_fixed_slope, fit_line, weights_credible
@@ -151,6 +152,14 @@ class LinganeFit:
         Degrees of freedom behind the intercept's interval: N − 2, or with a known
         reference stderr in an unweighted fit the equivalent dof of the combined interval
         (``inf`` means a normal quantile).
+    error_budget : dict of str to ErrorBudget
+        For every fitted constant (the keys of ``to_dict``), its standard uncertainty by
+        source: within-file noise, solution-to-solution scatter, reference E½(s)
+        (:mod:`cvfit.fit.error_budget`); the totals are the reported standard errors.
+    extra_scatter_V : float or None
+        Moment estimate of the solution-to-solution standard deviation s beyond the
+        per-file noise, V (None when the files gave no standard errors: then all the
+        scatter is counted as between solutions).
     """
 
     slope_V_per_decade: Quantity
@@ -169,6 +178,8 @@ class LinganeFit:
     flags: tuple[Flag, ...]
     nernst_slope_V_per_decade: float
     intercept_dof: float
+    error_budget: dict[str, ErrorBudget] | None = None
+    extra_scatter_V: float | None = None
 
     def __post_init__(self) -> None:
         for key in _Q_KEYS:
@@ -209,6 +220,10 @@ class LinganeFit:
             nernst_slope_V_per_decade=self.nernst_slope_V_per_decade,
             intercept_dof=clean_number(self.intercept_dof),
             interval_methods={key: getattr(self, key).method for key in _Q_KEYS},
+            extra_scatter_V=clean_number(self.extra_scatter_V),
+            error_budget=None
+            if self.error_budget is None
+            else {k: b.to_dict() for k, b in self.error_budget.items()},
             flags=[f.to_dict() for f in self.flags],
         )
         return out
@@ -238,6 +253,8 @@ def null_fit_dict(n_points: int, flags: Sequence[Flag]) -> dict[str, Any]:
         nernst_slope_V_per_decade=None,
         intercept_dof=None,
         interval_methods={},
+        extra_scatter_V=None,
+        error_budget=None,
         flags=[f.to_dict() for f in flags],
     )
     return out
@@ -278,6 +295,7 @@ def fit_lingane(
     reference_stderr_V: float | None,
     weighting: Literal["auto", "none", "stderr"] = "auto",
     curvature_alpha: float = 0.01,
+    reference_count: int = 1,
 ) -> LinganeFit | FitRefused:
     """Fit Lingane's line to E½ values of a titration and derive p − q and the β ratio.
 
@@ -302,6 +320,10 @@ def fit_lingane(
         unweighted with a flag.
     curvature_alpha : float
         Level of the curvature F-test below which ``LINE_CURVED`` is raised.
+    reference_count : int
+        Number of ligand-free files averaged into E½(s). When the reference takes the
+        scatter of the points (see Notes), a mean of M files scatters M times less in
+        variance; ``reference_stderr_V`` (which includes their own spread) stays a floor.
 
     Returns
     -------
@@ -327,6 +349,15 @@ def fit_lingane(
     combined_interval`) — conservative at very small N, where Welch–Satterthwaite
     under-covers. The fixed-integer refit follows the same rules on N − 1 dof.
     Monte-Carlo coverage of the 95 % intervals is checked in the tests (93–97 %).
+
+    Error budget: every constant's variance is split into the part the per-file noise
+    explains (``A diag(σ²) Aᵀ`` for the estimator ``A`` actually used), the rest of the
+    fitted variance (solution-to-solution scatter, with its size s estimated by moments)
+    and the reference term (:mod:`cvfit.fit.error_budget`); the parts add up to the
+    variance the interval is built on. When the points scatter less than their own errors
+    predict (reduced χ² < 1) the fitted variance is all within-file. Taking the larger of
+    the two instead (a floor at the file noise) was tried and rejected: with Student-t on
+    N − 2 dof it over-covered (98.5–100 % for a nominal 95 %) in the Monte-Carlo tests.
 
     References
     ----------
@@ -375,6 +406,7 @@ def fit_lingane(
     dof = line.dof
     scale = line.reduced_chi_square
     cov = line.covariance * scale
+    s_ref_given = s_ref
     if weighting == "auto" and have_sigma and not credible:
         # The reference stderr comes from the same per-file analysis whose errors were
         # just shown to understate the scatter: let it scatter like the points instead.
@@ -389,12 +421,28 @@ def fit_lingane(
             )
         )
     typical = None if w_sigma is None else float(np.median(w_sigma**2))
+    m_ref = max(int(reference_count), 1)
+    design = np.column_stack([x, np.ones_like(x)])
+    wts = np.ones_like(x) if w_sigma is None else 1.0 / w_sigma**2
+    within = None if sigma is None else within_file_variance(design, wts, sigma)
+    noise = np.zeros_like(x) if sigma is None else sigma
+    s2_extra = extra_scatter_variance(design, wts, line.residuals, noise)
+
+    def reference_term(value: float, fit_var: float, nu: int, sc: float, typ: float | None):
+        if weighting == "auto" and have_sigma and not credible:
+            # the reference file(s) scatter like the points: their mean M times less,
+            # never less than the spread the reference files show among themselves
+            one = sc * (1.0 if typ is None else typ)
+            ref = max(one / m_ref, 0.0 if s_ref_given is None else s_ref_given**2)
+            return with_reference(value, fit_var, nu, 1.0, None, ref)
+        return with_reference(value, fit_var, nu, sc, s_ref, typ)
+
     slope = line.slope
     slope_se = math.sqrt(cov[0, 0])
     slope_q = t_quantity(slope, slope_se, dof)
     delta_q = scaled(slope_q, -1.0 / slope_nernst)
-    intercept_q, ref_var, intercept_dof = with_reference(
-        line.intercept - e_ref, cov[1, 1], dof, scale, s_ref, typical
+    intercept_q, ref_var, intercept_dof = reference_term(
+        line.intercept - e_ref, cov[1, 1], dof, scale, typical
     )
     ratio_q = scaled(intercept_q, -1.0 / slope_nernst)
     cov_total = cov.copy()
@@ -403,10 +451,25 @@ def fit_lingane(
     k = int(round(delta_q.value))
     a_fix, var_fix_u, chi_fix = fit_fixed_slope(x, y, -k * slope_nernst, w_sigma)
     scale_fix = chi_fix / (n - 1)
-    fixed_q, _, _ = with_reference(
-        a_fix - e_ref, var_fix_u * scale_fix, n - 1, scale_fix, s_ref, typical
-    )
+    var_fix = var_fix_u * scale_fix
+    within_fix = None
+    if sigma is not None:
+        within_fix = float(np.sum(wts**2 * sigma**2) / np.sum(wts) ** 2)
+    fixed_q, ref_var_fix, _ = reference_term(a_fix - e_ref, var_fix, n - 1, scale_fix, typical)
     ratio_int_q = scaled(fixed_q, -1.0 / slope_nernst, f", p - q fixed at {k}")
+    w00 = None if within is None else within[0, 0]
+    w11 = None if within is None else within[1, 1]
+    slope_b = budget_of("V/decade", cov[0, 0], w00, 0.0)
+    intercept_b = budget_of("V", cov[1, 1], w11, ref_var)
+    fixed_b = budget_of("V", var_fix, within_fix, ref_var_fix)
+    to_log = 1.0 / slope_nernst
+    budget = {
+        "slope_V_per_decade": slope_b,
+        "intercept_V": intercept_b,
+        "delta_ligands": slope_b.scaled(to_log, "ligands"),
+        "log10_beta_ratio": intercept_b.scaled(to_log, "log10 units"),
+        "log10_beta_ratio_at_integer": fixed_b.scaled(to_log, "log10 units"),
+    }
     flags.extend(delta_ligand_flags(delta_q, k))
 
     p_curv = curvature_p_value(x, y, line, w_sigma)
@@ -440,4 +503,6 @@ def fit_lingane(
         flags=tuple(flags),
         nernst_slope_V_per_decade=slope_nernst,
         intercept_dof=float(intercept_dof),
+        error_budget=budget,
+        extra_scatter_V=None if sigma is None else math.sqrt(s2_extra),
     )

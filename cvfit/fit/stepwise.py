@@ -53,6 +53,7 @@ from cvfit.flags import FitRefused, Flag
 from cvfit.quantity import Quantity
 from cvfit.units import thermal_voltage
 
+from .error_budget import extra_scatter_variance, linearised_budgets
 from .stepwise_least_squares import StepwiseData, profile_interval
 from .stepwise_model_choice import ALPHA, choose_candidate, fit_all_candidates, summarise
 from .stepwise_result import ConditionalConstants, StepwiseFit, UndeterminedConstant, verdicts
@@ -416,7 +417,23 @@ def fit_stepwise(
                 )
             )
     cov_beta = None if cov is None else tuple(tuple(float(x) for x in r) for r in cov[1:, 1:])
+    budget, extra = None, None
+    if cov is not None:
+        J = data.jacobian(chosen.params)
+        budget = tuple(
+            linearised_budgets(J, len(pts), chosen.scale, weighted, "log10 units")[1:]
+        )
+        if weighted:
+            sig_all = np.concatenate([sig, [ref_sig]])
+            resid = np.concatenate(
+                [y - data.model(chosen.params), [data.reference_V - chosen.params[0]]]
+            )
+            extra = math.sqrt(
+                extra_scatter_variance(J * sig_all[:, None], 1 / sig_all**2, resid, sig_all)
+            )
     return StepwiseFit(
+        error_budget=budget,
+        extra_scatter_V=extra,
         fitted_state=state,
         fixed_log10_beta=fixed,
         n_complexes=N,

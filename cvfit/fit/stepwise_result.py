@@ -12,6 +12,7 @@ from cvfit.chemistry.speciation import fraction_peak_ligand_M, species_fractions
 from cvfit.flags import Flag
 from cvfit.quantity import Quantity, clean_number
 
+from .error_budget import ErrorBudget
 from .stepwise_least_squares import CandidateFit, StepwiseData
 from .stepwise_model_choice import CandidateSummary
 
@@ -77,7 +78,11 @@ class ConditionalConstants:
 class StepwiseFit:
     """Result of :func:`cvfit.fit.stepwise.fit_stepwise` (all constants as log10, [L] in mol/L).
 
-    Per-point tuples follow the order of the points given.
+    Per-point tuples follow the order of the points given. ``error_budget`` holds one
+    :class:`~cvfit.fit.error_budget.ErrorBudget` per log10 β_j (linearised at the optimum;
+    its totals are the standard errors; the intervals are profile-likelihood), or None when
+    the covariance is not available; ``extra_scatter_V`` the moment estimate of the
+    solution-to-solution scatter beyond the per-file noise, V (None unweighted).
     """
 
     fitted_state: str
@@ -106,6 +111,8 @@ class StepwiseFit:
     weighted: bool
     flags: tuple[Flag, ...] = ()
     model: str = "stepwise"
+    error_budget: tuple[ErrorBudget, ...] | None = None
+    extra_scatter_V: float | None = None
 
     def __post_init__(self) -> None:
         if self.fitted_state not in ("ox", "red"):
@@ -130,8 +137,13 @@ class StepwiseFit:
             betas.append(
                 {"j": j, **q.to_dict(), "determined": det, "max_fraction": clean_number(mf)}
             )
+        budget = None
+        if self.error_budget is not None:
+            budget = {f"log10_beta_{j}": b.to_dict() for j, b in enumerate(self.error_budget, 1)}
         return {
             "model": "stepwise",
+            "error_budget": budget,
+            "extra_scatter_V": clean_number(self.extra_scatter_V),
             "fitted_state": self.fitted_state,
             "fixed_log10_beta": list(self.fixed_log10_beta),
             "n_complexes": self.n_complexes,
@@ -260,6 +272,8 @@ def null_stepwise_dict(n_points: int, flags) -> dict[str, Any]:
     """The ``fit`` record of a stepwise series that could not be fitted (flags say why)."""
     return {
         "model": "stepwise",
+        "error_budget": None,
+        "extra_scatter_V": None,
         "fitted_state": None,
         "fixed_log10_beta": [],
         "n_complexes": None,

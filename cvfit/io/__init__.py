@@ -7,6 +7,7 @@
 from __future__ import annotations
 
 from .manifest import FitSettings, Manifest, SeriesSettings, VoltammogramEntry, load_manifest
+from .manifest_standard import InternalStandard
 from .options import ImportOptions
 from .reader import parse_voltammogram_bytes, parse_voltammogram_text, read_voltammogram
 
@@ -19,5 +20,6 @@ __all__ = [
     "Manifest",
     "SeriesSettings",
     "FitSettings",
+    "InternalStandard",
     "VoltammogramEntry",
 ]

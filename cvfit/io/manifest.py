@@ -23,6 +23,7 @@ from cvfit.units import celsius_to_kelvin
 
 from . import manifest_chemistry as _chem
 from . import manifest_electrode as _electrode
+from . import manifest_standard as _standard
 from .options import IMPORT_KEYS, ImportOptions
 from .text import split_lines
 
@@ -36,6 +37,7 @@ SERIES_KEYS = (
     "E_half_free_V",
     "E_half_free_stderr_V",
     "reference_electrode",
+    "analyte_window_V",
     *_chem.SERIES_CHEMISTRY_KEYS,
     *_electrode.SERIES_ELECTRODE_KEYS,
 )
@@ -50,7 +52,7 @@ ENTRY_KEYS = (
     *_electrode.ENTRY_ELECTRODE_KEYS,
     *IMPORT_KEYS,
 )
-TABLES = ("series", "import", "fit", "reversibility", "voltammogram")
+TABLES = ("series", "import", "fit", "reversibility", "internal_standard", "voltammogram")
 MAX_COMPLEXES_LIMIT = 8
 
 
@@ -109,6 +111,9 @@ class SeriesSettings:
         Transfer coefficient assumed, 0 < α < 1 (default 0.5).
     resistance_ohm : float or None
         Uncompensated resistance R_u, Ω (>= 0); potentials are corrected by i·R_u.
+    analyte_window_V : (float, float) or None
+        Potential range of the analyte's wave, V, when a file holds two waves (with an
+        ``[internal_standard]``); its peaks are measured there only.
     """
 
     title: str = ""
@@ -130,10 +135,16 @@ class SeriesSettings:
     diffusion_stderr_cm2_s: float | None = None
     alpha: float = 0.5
     resistance_ohm: float | None = None
+    analyte_window_V: tuple[float, float] | None = None
 
     def __post_init__(self) -> None:
         _chem.clean_series(self)
         _electrode.clean_series(self)
+        object.__setattr__(
+            self,
+            "analyte_window_V",
+            _standard.potential_window(self.analyte_window_V, "analyte_window_V"),
+        )
         _need_text(self.title, "title")
         _need_text(self.reference_electrode, "reference_electrode")
         e = _whole(self.electrons)
@@ -290,6 +301,7 @@ class Manifest:
     fit: FitSettings
     reversibility: ReversibilityCriteria
     voltammograms: tuple[VoltammogramEntry, ...]
+    internal_standard: _standard.InternalStandard | None = None
 
     def __post_init__(self) -> None:
         entries = tuple(self.voltammograms)
@@ -488,6 +500,7 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
                 ld.where.line("reversibility", key),
             )
     criteria = ld.build(ReversibilityCriteria, rev, "reversibility")
+    standard = _load_standard(ld, data, series_settings)
     entries_raw = data.get("voltammogram")
     if entries_raw is None or entries_raw == []:
         raise ld.fail("no [[voltammogram]] tables; list at least one file", "voltammogram", None)
@@ -556,4 +569,33 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
         fit=fit_settings,
         reversibility=criteria,
         voltammograms=tuple(entries),
+        internal_standard=standard,
     )
+
+
+def _load_standard(
+    ld: _Loader, data: dict, series: SeriesSettings
+) -> _standard.InternalStandard | None:
+    """The ``[internal_standard]`` table, checked against ``series.analyte_window_V``."""
+    if "internal_standard" not in data:
+        return None
+    table = ld.table(data, "internal_standard")
+    ld.check_keys(table, _standard.INTERNAL_STANDARD_KEYS, "internal_standard", None)
+    ld.require(table, "window_V", "internal_standard")
+    standard = ld.build(_standard.InternalStandard, table, "internal_standard")
+    analyte = series.analyte_window_V
+    if analyte is None:
+        raise ld.fail(
+            "required with [internal_standard]: give the analyte's potential range [low, high] "
+            "so that its peaks are not confused with the standard's",
+            "series.analyte_window_V",
+            ld.where.line("series"),
+        )
+    if not _standard.windows_apart(analyte, standard.window_V):
+        raise ld.fail(
+            f"the standard's window {list(standard.window_V)} overlaps "
+            f"series.analyte_window_V {list(analyte)}; give two separate potential ranges",
+            "internal_standard.window_V",
+            ld.where.line("internal_standard", "window_V"),
+        )
+    return standard

@@ -39,6 +39,17 @@ current ratio and the reverse peak height are None with ``CURRENT_RATIO_NOT_DETE
 E½ and ΔEp are reported. Measured (n = 1, 2, both directions, C_dl, slope, 0.5 % noise):
 E½ RMS error 0.3 mV on cycles 2–3 (0.2 mV on cycle 1), ΔEp within 0.5 mV of cycle 1's.
 
+*Two waves.* With ``window_V`` only the samples of each sweep inside the window are used
+(an internal reference couple and the analyte in one file). Another wave that peaks before
+the window on a sweep leaves its decaying current under it; that current has the shape of
+a reversible wave over the whole record, the semi-derivative of its Nernstian fraction
+(:func:`cvfit.peaks.baseline.reversible_wave_shape`, E½ from its peak), and its amplitude
+is fitted with the line and the exponential foot from ``OTHER_WAVE_FIT_START_THERMAL`` RT/nF
+past its peak (its decay, never its peak) to the window's foot. On the forward sweep that
+baseline continues under both peaks; on the reverse sweep of the wave nearer the start
+only the fitted current of the other wave is removed. A line plus foot alone, fitted inside
+the window, moved E½ by 0.8–1.4 mV with a second wave 300–400 mV away (docs/methods.md).
+
 *Positions.* A polynomial of degree 7 is fitted to the baseline-corrected current within ±1.1·|Ep −
 Ep/2| of the sampled extremum (recentred once); its stationary point is the peak
 potential (a parabola would be biased by the skew of the peak). The
@@ -92,6 +103,10 @@ SHORT_FOOT_THERMAL = 2.5
 TAIL_ORIGIN_THERMAL = 0.0
 #: The previous sweep's tail is fitted from this many RT/nF past its peak.
 TAIL_FIT_START_THERMAL = 3.0
+#: The other wave's decay enters the joint baseline fit from this many RT/nF past its peak.
+OTHER_WAVE_FIT_START_THERMAL = 2.0
+#: Ep − E½ of a reversible peak in RT/nF (Nicholson & Shain 1964), for another wave's E½.
+_PEAK_OFFSET_THERMAL = 1.109
 #: Fewest points of a foot window; a peak lies at least this many points from the ends.
 _MIN_POINTS = 8
 #: Nicholson (1966) coefficients of the current-ratio relation.
@@ -218,6 +233,67 @@ class _Tail(NamedTuple):
     previous: tuple[np.ndarray, np.ndarray, np.ndarray]  # (E, i, tail) of the sweep before
 
 
+def _inside(E: np.ndarray, low: float, high: float) -> slice:
+    """The run of samples of one sweep from its first to its last point inside [low, high]."""
+    idx = np.flatnonzero((E >= low) & (E <= high))
+    if idx.size == 0:
+        return slice(0, 0)
+    return slice(int(idx[0]), int(idx[-1]) + 1)
+
+
+def _other_peak(oriented: np.ndarray, before: int) -> int | None:
+    """Index of another wave's peak on a sweep, among the samples before index *before*.
+
+    *oriented* is the sweep's current in its own direction; the peak is its largest value
+    at least ``_MIN_POINTS`` from the sweep's start and from *before*, and the current must
+    fall from it into the window. None when there is no such peak.
+    """
+    stop = before - _MIN_POINTS
+    if stop <= _MIN_POINTS:
+        return None
+    k = _MIN_POINTS + int(oriented[_MIN_POINTS:stop].argmax())
+    if oriented[k] <= oriented[before - 1]:
+        return None
+    return k
+
+
+def _other_wave_decay(
+    voltammogram: Voltammogram,
+    sweep: Sweep,
+    oriented: np.ndarray,
+    before: int,
+    direction: int,
+    other_kappa_per_V: float,
+    forward: bool,
+) -> tuple[np.ndarray, int] | None:
+    """Current shape of another wave that peaks on *sweep* before index *before*.
+
+    The shape is that of a reversible wave over the whole record
+    (:func:`cvfit.peaks.baseline.reversible_wave_shape`), placed at the E½ of the other
+    wave from that peak, 1.109 RT/nF beyond E½ in the sweep's direction (Nicholson & Shain
+    1964; *forward* says whether *sweep* is the forward sweep, whose direction is
+    *direction*, or the reverse one). Returns the shape over the whole record and the index
+    on *sweep* ``OTHER_WAVE_FIT_START_THERMAL`` RT/nF past that peak, from which the
+    baseline with this shape is fitted (the other wave's own decay, away from its peak);
+    None without such a peak or with fewer than ten points between there and *before*.
+    """
+    k = _other_peak(oriented, before)
+    if k is None:
+        return None
+    E_all = np.asarray(voltammogram.potential_V)
+    E_sweep = E_all[sweep.start : sweep.stop + 1]
+    rt_nf = 1.0 / other_kappa_per_V
+    past = np.abs(E_sweep[:before] - E_sweep[k])
+    beyond = np.flatnonzero(past[k:] >= OTHER_WAVE_FIT_START_THERMAL * rt_nf)
+    stop = sweep.start + before - 3
+    if beyond.size == 0 or stop - (sweep.start + k + int(beyond[0])) < 10:
+        return None
+    sweep_direction = direction if forward else -direction
+    E_half = float(E_sweep[k]) - sweep_direction * _PEAK_OFFSET_THERMAL * rt_nf
+    shape = pf.reversible_wave_shape(E_all, E_half, other_kappa_per_V, direction)
+    return shape, k + int(beyond[0])
+
+
 def previous_sweep_tail(
     voltammogram: Voltammogram, cycle: Cycle, *, rt_nf_V: float
 ) -> _Tail | None:
@@ -269,6 +345,8 @@ def analyse_peaks(
     cycle: int | Literal["last"] = "last",
     electrons: int = 1,
     temperature_K: float = 298.15,
+    window_V: tuple[float, float] | None = None,
+    other_electrons: int | None = None,
 ) -> PeakAnalysis:
     """Measure the peaks of one cycle of a cyclic voltammogram.
 
@@ -283,6 +361,17 @@ def analyse_peaks(
         baseline fit and the scale of the foot-length warning.
     temperature_K : float
         Temperature, K; used with ``electrons`` as above.
+    window_V : (low, high) or None
+        Potential range of the wave to measure when the record holds more than one wave
+        (an analyte and an internal reference couple). Both peaks, the foot baseline and
+        the vertex fits use only the samples of each sweep inside the window, so the other
+        wave's peaks never enter. The baseline is the same line plus exponential foot,
+        fitted from the window's edge: across a window that starts on the decaying
+        diffusion tail of the other wave, the line absorbs that tail's slope (module
+        docstring, *Two waves*). The charging step is still measured at the true switching
+        potential. When the switch lies outside the window the forward current at the
+        switch belongs to the other wave, so the current ratio (Nicholson) and the reverse
+        half-peak potential are not determined (``CURRENT_RATIO_NOT_DETERMINED``).
 
     Returns
     -------
@@ -309,6 +398,25 @@ def analyse_peaks(
     first: Literal["reduction", "oxidation"] = "oxidation" if s > 0 else "reduction"
     E_f, i_f = _arrays(fwd)
     E_lam = cyc.switching_potential_V
+    E_f_all, i_f_all = E_f, i_f
+    sl_f = sl_r = slice(None)
+    switch_inside = True
+    other_kappa = 1.0 / thermal_voltage(temperature_K, other_electrons or electrons)
+    other_f = None
+    if window_V is not None:
+        low, high = sorted(float(w) for w in window_V)
+        sl_f = _inside(E_f, low, high)
+        switch_inside = low <= E_lam <= high
+        if (sl_f.start or 0) > 0:
+            # another wave peaks before the window on the forward sweep: its current
+            # continues under the window; the baseline takes its shape and is fitted from
+            # its decay onwards (module docstring, *Two waves*)
+            other_f = _other_wave_decay(
+                voltammogram, fwd, s * i_f, sl_f.start, s, other_kappa, forward=True
+            )
+            if other_f is not None:
+                sl_f = slice(other_f[1], sl_f.stop)
+        E_f, i_f = E_f[sl_f], i_f[sl_f]
     flags: list[Flag] = []
     result = dict.fromkeys(_OPTIONAL)
     fwd_name, rev_name = ("anodic", "cathodic") if s > 0 else ("cathodic", "anodic")
@@ -353,7 +461,13 @@ def analyse_peaks(
                 "warning",
             )
         )
-    tail_f = None if tail is None else tail.forward
+    if other_f is not None:
+        # the other wave's current dominates the window's foot; a previous sweep's decay,
+        # which has travelled across the other wave, is left to the line
+        shape = other_f[0]
+        reverse = None if rev is None else shape[rev.start : rev.stop + 1]
+        tail = _Tail(shape[fwd.start : fwd.stop + 1], reverse, None)
+    tail_f = None if tail is None else tail.forward[sl_f]
     tail_r = None if tail is None else tail.reverse
     lo, hi, base, y_f = pf.foot_window(
         E_f,
@@ -414,8 +528,13 @@ def analyse_peaks(
         )
         return finish()
 
-    E_r, i_r = _arrays(rev)
-    pts = max(10, min(E_f.size, E_r.size) // 15)
+    E_r_all, i_r_all = _arrays(rev)
+    E_r, i_r = E_r_all, i_r_all
+    if window_V is not None:
+        sl_r = _inside(E_r, low, high)
+        E_r, i_r = E_r[sl_r], i_r[sl_r]
+        tail_r = None if tail_r is None else tail_r[sl_r]
+    pts = max(10, min(E_f_all.size, E_r_all.size) // 15)
     if E_r.size < 4 * min_points:
         flags.append(
             Flag(
@@ -425,10 +544,39 @@ def analyse_peaks(
             )
         )
         return finish()
-    jump, i_switch, _ = pf.switch_step(E_f, i_f, E_r, i_r, E_lam, points=pts)
-    isp0 = s * (i_switch - float(base(np.array([E_lam]), _sub(tail_f, slice(-1, None)))[0]))
+    jump, i_switch, _ = pf.switch_step(E_f_all, i_f_all, E_r_all, i_r_all, E_lam, points=pts)
+    tail_at_switch = None if tail is None else tail.forward[-1:]
+    isp0 = s * (i_switch - float(base(np.array([E_lam]), tail_at_switch)[0]))
     # zero-faradaic level of the reverse sweep: forward baseline + charging step
     y_r = base.residual(E_r, i_r, -s, tail_r, shift=jump)
+    tail_rev, var_tail = None, 0.0
+    if window_V is not None and not switch_inside and (sl_r.start or 0) > 0:
+        # another wave's reverse peak comes first on the reverse sweep and its decay runs
+        # under this reverse peak: its amplitude is fitted (line, foot and that decay) to
+        # the reverse sweep's own foot inside the window jointly with the other wave's
+        # decay before the window, and the decay alone is removed
+        found = _other_wave_decay(
+            voltammogram, rev, -s * i_r_all, sl_r.start or 0, s, other_kappa, forward=False
+        )
+        if found is not None:
+            shape, begin = found
+            ext = slice(begin, sl_r.stop)
+            shape_r = shape[rev.start : rev.stop + 1]
+            *_, base_r, _ = pf.foot_window(
+                E_r_all[ext],
+                i_r_all[ext],
+                -s,
+                sigma,
+                kappa_per_V=kappa,
+                skip=2,
+                min_points=min_points,
+                foot_fraction=FOOT_FRACTION,
+                tail=shape_r[ext],
+            )
+            if base_r.coef.size == 3:
+                tail_rev = shape_r[sl_r]
+                y_r = y_r + s * float(base_r.coef[2]) * tail_rev
+                var_tail = float(base_r.cov[2, 2])
     peak_r, why = _locate(
         E_r, y_r, sigma, rev_name, half_width_V=half_width, against_baseline=False
     )
@@ -456,8 +604,23 @@ def analyse_peaks(
     var_r_noise = sigma**2 * float(peak_r.grad_y @ peak_r.grad_y)
     g_base = 0.5 * (g_base_f + g_base_r)
     var_half = 0.25 * (var_f_noise + var_r_noise) + float(g_base @ base.cov @ g_base)
+    if tail_rev is not None:  # the other wave's fitted decay, removed under this peak
+        g_tail = s * float(peak_r.grad_y @ tail_rev[peak_r.index])
+        var_half += 0.25 * g_tail**2 * var_tail
 
     at_rest = fwd.start == 0
+    if at_rest and not switch_inside:
+        flags.append(
+            Flag(
+                "CURRENT_RATIO_NOT_DETERMINED",
+                f"the switching potential ({E_lam:.3f} V) lies outside the window "
+                f"[{low:.3f}, {high:.3f}] V, so the forward current at the switch belongs to "
+                f"another wave: the {rev_name} peak height and the current ratio are not "
+                "reported (E½ and ΔEp are)",
+                "warning",
+            )
+        )
+        ratio = i_rev = E_half_peak_r = None
     if not at_rest:
         # Nicholson's relation was derived for a forward sweep that starts at rest
         flags.append(

@@ -39,6 +39,7 @@ def _fit(points, manifest: Manifest, reference: ReferenceHalfWave):
         temperature_K=manifest.series.temperature_K,
         reference_E_half_V=reference.E_half_V,
         reference_stderr_V=reference.stderr_V,
+        reference_count=max(len(reference.files), 1) if reference.source == "file" else 1,
     )
 
 
@@ -114,7 +115,7 @@ def run_lingane(
                 )
             )
         shift = slope * math.log10(f.ligand_M / pt.ligand_M)
-        sigma = f.peaks.E_half_stderr_V or scatter
+        sigma = f.E_half_total_stderr_V or scatter
         if share > 0 and sigma is not None and shift > sigma:
             noise = f"{1e3 * sigma:.2f} mV"
             flags.append(

@@ -24,6 +24,7 @@ from cvfit.screen.switching import corrected_half_wave_V
 from cvfit.voltammogram import Voltammogram
 
 from .curves import cycle_curve, points_per_curve
+from .internal_standard import measure_standard, referenced_half_wave
 from .parallel import new_process_pool, one_blas_thread
 from .results import FileResult
 
@@ -47,7 +48,11 @@ def correct_for_resistance(v: Voltammogram, resistance_ohm: float | None) -> Vol
 
 
 def _ratio_from_first_cycle(
-    peaks: PeakAnalysis, v: Voltammogram, electrons: int, temperature_K: float
+    peaks: PeakAnalysis,
+    v: Voltammogram,
+    electrons: int,
+    temperature_K: float,
+    window_V: tuple[float, float] | None = None,
 ) -> PeakAnalysis:
     """On a later cycle, take the current ratio from cycle 1, which starts at rest.
 
@@ -64,7 +69,9 @@ def _ratio_from_first_cycle(
     first_cycles = v.cycles()
     if not first_cycles or not first_cycles[0].complete:
         return peaks
-    first = analyse_peaks(v, cycle=1, electrons=electrons, temperature_K=temperature_K)
+    first = analyse_peaks(
+        v, cycle=1, electrons=electrons, temperature_K=temperature_K, window_V=window_V
+    )
     if first.current_ratio is None:
         return peaks
     flags = tuple(f for f in peaks.flags if f.code != "CURRENT_RATIO_NOT_DETERMINED")
@@ -97,6 +104,7 @@ def _sign_convention_hint(
         cycle=entry.import_options.cycle,
         electrons=series.electrons,
         temperature_K=series.temperature_K,
+        window_V=series.analyte_window_V,
     )
     clean = mirrored.E_half_V is not None and not any(
         f.severity == "error" for f in mirrored.flags
@@ -138,13 +146,15 @@ def analyse_file(
         v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
     resistance = resistance_for(entry, series)
     v = correct_for_resistance(v, resistance)  # a new record; the input is not changed
+    window = series.analyte_window_V
     peaks = analyse_peaks(
         v,
         cycle=entry.import_options.cycle,
         electrons=series.electrons,
         temperature_K=series.temperature_K,
+        window_V=window,
     )
-    peaks = _ratio_from_first_cycle(peaks, v, series.electrons, series.temperature_K)
+    peaks = _ratio_from_first_cycle(peaks, v, series.electrons, series.temperature_K, window)
     screen = screen_reversibility(
         peaks,
         electrons=series.electrons,
@@ -160,6 +170,11 @@ def analyse_file(
         )
     else:
         e_half, correction = peaks.E_half_V, 0.0
+    standard = None
+    if manifest.internal_standard is not None:
+        standard = measure_standard(v, entry.import_options.cycle, manifest)
+        e_half, std_flags = referenced_half_wave(e_half, standard, manifest)
+        flags += std_flags
     return FileResult(
         file=entry.name,
         ligand_M=entry.ligand_M,
@@ -178,6 +193,7 @@ def analyse_file(
         E_half_V=e_half,
         switching_correction_V=correction,
         resistance_ohm=resistance or None,
+        internal_standard=standard,
     )
 
 

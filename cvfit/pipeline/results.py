@@ -28,6 +28,7 @@ if TYPE_CHECKING:  # imported for annotations only; keeps this module free of he
 
 __all__ = [
     "FileResult",
+    "InternalStandardResult",
     "ReferenceHalfWave",
     "SeriesConditions",
     "SeriesResult",
@@ -42,6 +43,41 @@ TitrationFit: TypeAlias = LinganeFit | StepwiseFit
 #: results.json ``fit`` record of a series that could not be fitted, by model: the keys of
 #: that model's fit with null constants.
 _NULL_FIT_DICT = {"lingane": null_fit_dict, "stepwise": null_stepwise_dict}
+
+
+@dataclass(frozen=True)
+class InternalStandardResult:
+    """The internal reference couple as measured in one voltammogram.
+
+    Attributes
+    ----------
+    E_half_V : float or None
+        The standard's E½ on the electrode's scale, V (switching-corrected when it passed
+        its screen); its changes along the series are the drift of the reference electrode.
+    E_half_stderr_V : float or None
+        Its standard error from the file's noise, V.
+    reversible : bool or None
+        Verdict of the standard's own reversibility screen (its n, its window).
+    delta_Ep_V : float or None
+        Its peak separation, V.
+    flags : tuple of Flag
+        Findings of its peak analysis and screen.
+    """
+
+    E_half_V: float | None
+    E_half_stderr_V: float | None
+    reversible: bool | None
+    delta_Ep_V: float | None = None
+    flags: tuple[Flag, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "E_half_V": clean_number(self.E_half_V),
+            "E_half_stderr_V": clean_number(self.E_half_stderr_V),
+            "reversible": self.reversible,
+            "delta_Ep_V": clean_number(self.delta_Ep_V),
+            "flags": [f.to_dict() for f in self.flags],
+        }
 
 
 @dataclass(frozen=True)
@@ -83,6 +119,10 @@ class FileResult:
         Nicholson's ψ and k0, or why they are not determinable.
     resistance_ohm : float or None
         R_u the potentials were corrected with, Ω.
+    internal_standard : InternalStandardResult or None
+        The reference couple measured in the same file, when the manifest has an
+        ``[internal_standard]``: ``E_half_V`` is then the analyte's E½ against it (plus the
+        value assigned to the standard).
     """
 
     file: str
@@ -100,10 +140,23 @@ class FileResult:
     classification: Classification | None = None
     kinetics: KineticsResult | None = None
     resistance_ohm: float | None = None
+    internal_standard: InternalStandardResult | None = None
 
     @property
     def reversible(self) -> bool | None:
         return self.screen.reversible
+
+    @property
+    def E_half_total_stderr_V(self) -> float | None:
+        """Standard error of ``E_half_V``: the peak analysis', with an internal standard
+        that of the standard's E½ added in quadrature (None when either is unknown)."""
+        own = self.peaks.E_half_stderr_V
+        std = self.internal_standard
+        if std is None or own is None:
+            return own
+        if std.E_half_stderr_V is None:
+            return None
+        return float((own * own + std.E_half_stderr_V**2) ** 0.5)
 
     def to_dict(self) -> dict[str, Any]:
         p = self.peaks
@@ -119,7 +172,7 @@ class FileResult:
             "Epc_V": clean_number(p.Epc_V),
             "Epa_V": clean_number(p.Epa_V),
             "E_half_V": clean_number(self.E_half_V),
-            "E_half_stderr_V": clean_number(p.E_half_stderr_V),
+            "E_half_stderr_V": clean_number(self.E_half_total_stderr_V),
             "E_half_midpoint_V": clean_number(p.E_half_V),
             "switching_correction_V": clean_number(self.switching_correction_V),
             "delta_Ep_V": clean_number(p.delta_Ep_V),
@@ -137,6 +190,9 @@ class FileResult:
             else self.classification.to_dict(),
             "kinetics": None if self.kinetics is None else self.kinetics.to_dict(),
             "resistance_ohm": clean_number(self.resistance_ohm),
+            "internal_standard": None
+            if self.internal_standard is None
+            else self.internal_standard.to_dict(),
             "flags": [f.to_dict() for f in self.flags],
         }
 
@@ -155,12 +211,18 @@ class ReferenceHalfWave:
         ``"file"`` (mean of the ligand-free voltammograms) or ``"manifest"``.
     files : tuple of str
         The ligand-free files it was taken from.
+    spread_V : float or None
+        Standard deviation of those files' E½, V (None with fewer than two).
+    file_E_half_V : tuple of float
+        Their E½ values, V, in the order of ``files``.
     """
 
     E_half_V: float | None
     stderr_V: float | None
     source: str
     files: tuple[str, ...] = ()
+    spread_V: float | None = None
+    file_E_half_V: tuple[float, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -168,6 +230,8 @@ class ReferenceHalfWave:
             "stderr_V": clean_number(self.stderr_V),
             "source": self.source,
             "files": list(self.files),
+            "spread_V": clean_number(self.spread_V),
+            "file_E_half_V": [clean_number(v) for v in self.file_E_half_V],
         }
 
 

@@ -7,7 +7,6 @@ and fits the titration model to the usable points.
 
 from __future__ import annotations
 
-import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import replace
 from pathlib import Path
@@ -15,6 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from cvfit.errors import InputError
+from cvfit.fit.error_budget import reference_mean
 from cvfit.fit.lingane import MIN_POINTS as MIN_FIT_POINTS
 from cvfit.fit.lingane import TitrationPoint, check_points
 from cvfit.flags import FitRefused, Flag
@@ -43,22 +43,19 @@ def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalf
         values = np.array([f.E_half_V for f in usable], dtype=float)
         errs = np.array(
             [
-                np.nan if f.peaks.E_half_stderr_V is None else f.peaks.E_half_stderr_V
+                np.nan if f.E_half_total_stderr_V is None else f.E_half_total_stderr_V
                 for f in usable
             ]
         )
-        mean = float(values.mean())
-        # Standard error of the mean: from the files' own errors, or from their scatter
-        # when several files disagree by more than those errors say.
-        from_errors = float(np.sqrt(np.nansum(errs**2))) / len(values)
-        if np.any(~np.isfinite(errs)):
-            from_errors = math.nan
-        from_scatter = (
-            float(values.std(ddof=1) / math.sqrt(len(values))) if len(values) > 1 else math.nan
+        mean, stderr, spread = reference_mean(values, errs)
+        return ReferenceHalfWave(
+            mean,
+            stderr,
+            "file",
+            tuple(f.file for f in usable),
+            spread_V=spread,
+            file_E_half_V=tuple(float(v) for v in values),
         )
-        candidates = [x for x in (from_errors, from_scatter) if math.isfinite(x)]
-        stderr = max(candidates) if candidates else None
-        return ReferenceHalfWave(mean, stderr, "file", tuple(f.file for f in usable))
     if manifest.series.E_half_free_V is not None:
         return ReferenceHalfWave(
             manifest.series.E_half_free_V,
@@ -169,7 +166,7 @@ def analyse_series(
             )
         if usable:
             points.append(
-                TitrationPoint(f.file, f.free_ligand_M, f.E_half_V, f.peaks.E_half_stderr_V)
+                TitrationPoint(f.file, f.free_ligand_M, f.E_half_V, f.E_half_total_stderr_V)
             )
         final.append(replace(f, used_in_fit=usable, flags=tuple(flags)))
 

@@ -45,7 +45,8 @@ def write_outputs(
     Returns
     -------
     dict of str to Path
-        The files written, by the keys of :data:`OUTPUT_NAMES` (and the stepwise figures).
+        The files written, by the keys of :data:`OUTPUT_NAMES` (and the stepwise figures, and
+        ``internal_standard_figure`` for a series with an internal standard).
     """
     from .figures.diagnostics import plot_diagnostics
     from .figures.titration import plot_lingane, plot_voltammograms
@@ -67,6 +68,10 @@ def write_outputs(
         from .figures.stepwise import write_stepwise_figures
 
         written.update(write_stepwise_figures(result, out))
+    if any(f.internal_standard is not None for f in result.files):
+        from .figures.internal_standard import FILE_NAME, plot_internal_standard
+
+        written["internal_standard_figure"] = plot_internal_standard(result, out / FILE_NAME)
     # The HTML page embeds every figure written above; keep it after them.
     from .html import write_html_report
 

@@ -26,6 +26,7 @@ from cvfit.pipeline.results import SeriesResult
 from .atomic import atomic_write_text
 from .formatting import format_pm, format_value
 from .headline import headline_lines
+from .html_sections import error_budget_section, internal_standard_section
 from .methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
 
 __all__ = ["render_html", "write_html_report", "FIGURE_CAPTIONS"]
@@ -518,6 +519,7 @@ def render_html(
         )
         + f'<div class="verdict {"ok" if ok else "warn"}">{_e(screen)}</div></section>'
     )
+    standard_html, figures = internal_standard_section(data, [Path(p) for p in figures])
     series_flags = list(data.get("flags") or []) + list(fit.get("flags") or [])
     flags_html = _flag_list(series_flags) or "<p>None.</p>"
     body = (
@@ -526,6 +528,7 @@ def render_html(
         f"{verdict}{_simulated_with(simulated_with)}"
         f"<section><h2>Conditions</h2>{_conditions(data)}</section>"
         f"<section><h2>Constants</h2>{_constants(fit)}</section>"
+        f"{error_budget_section(data)}{standard_html}"
         f"<section><h2>Series findings</h2>{flags_html}</section>"
         f"<section><h2>Voltammograms</h2>{_file_table(data.get('voltammograms') or [])}"
         "</section>"

@@ -41,7 +41,7 @@ def format_summary(result: SeriesResult) -> str:
         + f"  (from {ref.source}{': ' + ', '.join(ref.files) if ref.files else ''})"
     )
     lines.append("")
-    e_halves = [format_pm(f.E_half_V, f.peaks.E_half_stderr_V, scale=1e3) for f in result.files]
+    e_halves = [format_pm(f.E_half_V, f.E_half_total_stderr_V, scale=1e3) for f in result.files]
     w = max([16, *map(len, e_halves)])  # "150.1 (uncertainty unknown)" is wider than 16
     header = (
         f"{'file':<22} {'[L]/M':>9} {'E½/mV':>{w}} {'ΔEp/mV':>7} {'Nernst':>7} "

@@ -6,8 +6,10 @@ the demo and the command ``cvfit simulate``.
 - :mod:`.voltammogram` — waveform and :func:`simulate_cv`
 - :mod:`.finite_difference` — the time-marching solver (numba when installed, else NumPy)
 - :mod:`.titration_series` — a series of CSV files and its manifest on disk
+- :mod:`.internal_standard` — two waves in one file, a series with a drifting reference
 """
 
+from .internal_standard import simulate_internal_standard_series, simulate_two_waves
 from .titration_series import simulate_series, write_voltammogram_csv
 from .voltammogram import Waveform, build_waveform, simulate_cv
 
@@ -15,6 +17,8 @@ __all__ = [
     "Waveform",
     "build_waveform",
     "simulate_cv",
+    "simulate_internal_standard_series",
     "simulate_series",
+    "simulate_two_waves",
     "write_voltammogram_csv",
 ]

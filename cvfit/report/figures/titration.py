@@ -313,7 +313,7 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
             return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
         x = np.log10([f.free_ligand_M for f in pts])
         y = np.array([(f.E_half_V - ref) * 1e3 for f in pts])
-        yerr = np.array([(f.peaks.E_half_stderr_V or 0.0) * 1e3 for f in pts])
+        yerr = np.array([(f.E_half_total_stderr_V or 0.0) * 1e3 for f in pts])
         used = np.array([f.used_in_fit for f in pts])
         _points_with_bars(
             ax, x[used], y[used], yerr[used], color="#1f4e79", ms=5, label="used in fit"
