@@ -19,7 +19,7 @@ from cvfit.fit.stepwise_result import StepwiseFit
 from cvfit.pipeline.results import SeriesResult
 from cvfit.units import thermal_voltage
 
-from .titration import _STYLE, COLOUR_MAP, PER_LITRE, _save, _superscript, plt
+from .titration import _STYLE, COLOUR_MAP, PER_LITRE, _save, _superscript, figure_title, plt
 
 __all__ = ["STEPWISE_FIGURES", "write_stepwise_figures"]
 
@@ -85,7 +85,7 @@ def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
         ax.set_ylabel(f"E½(c) − E½(s) / mV  (E½(s) = {E0 * 1e3:.1f} mV)")
         ax.legend(loc="best", frameon=False, fontsize=8)
-        ax.set_title(result.series.title or "half-wave shift", fontsize=9)
+        ax.set_title(figure_title(result.series.title or "half-wave shift"), fontsize=9)
         return _save(fig, path)
 
 
