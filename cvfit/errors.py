@@ -182,6 +182,7 @@ def _hint(errno_: int | None) -> str:
         errno.EROFS: "choose an --out folder on a writable file system",
         errno.EACCES: "check the folder's permissions or choose another --out folder",
         errno.EPERM: "check the folder's permissions or choose another --out folder",
+        errno.ENOTDIR: "a part of the path is a file, not a folder: choose another --out folder",
     }.get(errno_, "check the --out folder or choose another one")
 
 

@@ -65,11 +65,11 @@ def run_manifest(
     manifest_path: Path, out: Path | None, *, quiet: bool = False, jobs: int | None = None
 ) -> int:
     """Analyse the series of *manifest_path* into *out*, print the summary; exit status."""
-    from cvfit.errors import InputError
+    from cvfit.errors import InputError, printable
     from cvfit.io import load_manifest
     from cvfit.pipeline.per_file import check_jobs
     from cvfit.pipeline.series import analyse_series
-    from cvfit.report import format_summary, write_outputs
+    from cvfit.report import check_output_folder, format_summary, write_outputs
 
     from .output_paths import check_outputs_spare_inputs, default_out_dir
 
@@ -82,6 +82,7 @@ def run_manifest(
     check_outputs_spare_inputs(
         out_dir, [manifest.path, *(e.file for e in manifest.voltammograms)], manifest.path
     )
+    check_output_folder(out_dir)  # before the analysis, not after it
     n_files = len(manifest.voltammograms)
     file_jobs = default_file_jobs(n_files) if jobs is None else jobs
     with _progress(n_files, enabled=not quiet) as tick:
@@ -90,7 +91,8 @@ def run_manifest(
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
     sys.stdout.write(
-        f"results written to {out_dir}/ ({', '.join(p.name for p in written.values())})\n"
+        f"results written to {printable(out_dir)}/ "
+        f"({', '.join(p.name for p in written.values())})\n"
     )
     return 0
 
