@@ -41,6 +41,7 @@ from pathlib import Path
 
 CVFIT = [sys.executable, "-m", "cvfit"]
 DATA = [f"titr_{k:02d}.csv" for k in range(5)]
+TEN_MIB_LINE = b"1.0," * (10 * 2**18)
 DATA2 = f'file = "{DATA[2]}"'
 
 
@@ -200,7 +201,7 @@ def named_cases(base: Path) -> list[Case]:
     title = 'title = "simulated titration"'
     cases = [
         # hangs
-        with_data("data: one 10 MB line, no newline", lambda p: p.write_bytes(b"1.0," * 10 * 2**18)),
+        with_data("data: one 10 MiB line, no newline", lambda p: p.write_bytes(TEN_MIB_LINE)),
         with_data(
             "data: a 1 MB line after the header",
             lambda p: p.write_bytes(b"time_s,potential_V,current_A\n" + b"1.0," * 250_000),
