@@ -93,8 +93,11 @@ def check_output_folder(out: Path) -> None:
             source=str(out),
             key="--out",
         )
-    cwd = Path.cwd().resolve()
-    if real == cwd or real in cwd.parents:
+    try:
+        cwd = Path.cwd().resolve()
+    except OSError:  # the current folder was removed: it cannot be the output folder
+        cwd = None
+    if cwd is not None and (real == cwd or real in cwd.parents):
         raise InputError(
             "the output folder is the current folder (or holds it); cvfit replaces its "
             "output folder whole, so name a folder of its own, e.g. --out results",
