@@ -95,7 +95,8 @@ def _positional(table: NumericTable, reason: str, source: str) -> _Columns:
     ncols = values.shape[1]
     usable = [k for k in range(ncols) if not np.all(np.isnan(values[:, k]))]
     skipped = [k for k in usable if _is_counter(values[:, k])]
-    data = [k for k in usable if k not in skipped]
+    skipped_set = set(skipped)  # a list here made a 30 000-column file take minutes
+    data = [k for k in usable if k not in skipped_set]
     if len(data) < 2:
         raise InputError(
             f"found {len(data)} numeric data column(s) ({reason}); a voltammogram needs a "
