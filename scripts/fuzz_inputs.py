@@ -231,6 +231,10 @@ def named_cases(base: Path) -> list[Case]:
         ),
         # limits
         with_data("data: 64 MiB + 1 byte (sparse)", sparse_big),
+        with_data(
+            "data: 64 MB of one-byte fields, 32 000 columns",
+            lambda p: p.write_bytes(b"E,I\n" + (b"1," * 32_000 + b"\n") * 1_000),
+        ),
         special_manifest("manifest: 2 MiB", big_manifest),
         # messages
         special_manifest("manifest name: newline and escape", newline_name),
