@@ -204,7 +204,7 @@ def _digests(folder: Path) -> dict[str, str]:
     }
 
 
-def test_run_into_input_folder_keeps_inputs_and_is_deterministic(tmp_path, capsys):
+def test_run_into_input_folder_is_refused_and_runs_are_deterministic(tmp_path, capsys):
     folder = tmp_path / "data"
     folder.mkdir()
     entries = []
@@ -213,14 +213,19 @@ def test_run_into_input_folder_keeps_inputs_and_is_deterministic(tmp_path, capsy
         entries.append({"file": f"f{k}.csv", "ligand_M": ligand})
     manifest = write_manifest(folder / "series.toml", entries)
     before = _digests(folder)
-    assert main(["run", str(manifest), "--out", str(folder), "--quiet"]) == 0
-    first = json.loads((folder / "results.json").read_text(encoding="utf-8"))
-    after = _digests(folder)
-    assert {k: after[k] for k in before} == before
-    assert main(["run", str(manifest), "--out", str(folder), "--quiet"]) == 0
-    second = json.loads((folder / "results.json").read_text(encoding="utf-8"))
-    first.pop("manifest"), second.pop("manifest")
+    # an output set replaces its folder whole: a folder of the user's files is refused
+    assert main(["run", str(manifest), "--out", str(folder), "--quiet"]) == 2
+    assert "which cvfit did not write" in capsys.readouterr().err
+    assert _digests(folder) == before and sorted(p.name for p in folder.iterdir()) == sorted(
+        before
+    )
+    out = tmp_path / "out"
+    assert main(["run", str(manifest), "--out", str(out), "--quiet"]) == 0
+    first = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    assert main(["run", str(manifest), "--out", str(out), "--quiet"]) == 0
+    second = json.loads((out / "results.json").read_text(encoding="utf-8"))
     assert first == second
+    assert _digests(folder) == before
 
 
 def test_output_never_replaces_an_input(tmp_path, capsys):

@@ -7,12 +7,14 @@ its own module with ``register(subparsers)`` and a handler returning the exit st
 from __future__ import annotations
 
 import argparse
+import errno
 import os
+import signal
 import sys
 import traceback
 from collections.abc import Sequence
 
-from cvfit.errors import CvfitError, InputError
+from cvfit.errors import CvfitError, InputError, OutputError, printable
 from cvfit.version import __version__
 
 #: Environment :func:`main` sets for the numerical libraries, which it imports after (the
@@ -57,10 +59,28 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+#: System errors of writing that are the environment's, not cvfit's: reported as an
+#: :class:`OutputError` (one line, exit 2) wherever they escape a command.
+ENVIRONMENT_ERRNOS = frozenset(
+    getattr(errno, name)
+    for name in ("ENOSPC", "EDQUOT", "EFBIG", "EROFS", "EACCES", "EPERM", "ENOTDIR", "EEXIST")
+    if hasattr(errno, name)
+)
+
+
+def ignore_file_size_signal() -> None:
+    """Let a write past the file-size limit (``ulimit -f``) fail with EFBIG instead of
+    killing the process with SIGXFSZ, so the limit is reported like a full disk. Worker
+    processes inherit the setting."""
+    if hasattr(signal, "SIGXFSZ"):
+        signal.signal(signal.SIGXFSZ, signal.SIG_IGN)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the ``cvfit`` console script; returns the exit status."""
     for name, value in NUMERIC_ENVIRONMENT.items():
         os.environ.setdefault(name, value)
+    ignore_file_size_signal()
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "handler", None):
@@ -68,18 +88,27 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_INPUT
     try:
         return int(args.handler(args))
-    except InputError as exc:
+    except (InputError, OutputError) as exc:
         sys.stderr.write(f"cvfit: error: {exc.one_line()}\n")
         return EXIT_INPUT
     except KeyboardInterrupt:
         sys.stderr.write("cvfit: interrupted\n")
         return 130
+    except OSError as exc:
+        if exc.errno not in ENVIRONMENT_ERRNOS:
+            return _internal(exc, debug=args.debug)
+        sys.stderr.write(f"cvfit: error: {OutputError.from_os_error(exc).one_line()}\n")
+        return EXIT_INPUT
     except (CvfitError, Exception) as exc:  # noqa: BLE001 - last line of defence
-        if args.debug:
-            traceback.print_exc()
-        first = str(exc).splitlines()[0] if str(exc) else ""
-        sys.stderr.write(
-            f"cvfit: internal error: {type(exc).__name__}: {first} (rerun with --debug "
-            "for the traceback and report it)\n"
-        )
-        return EXIT_INTERNAL
+        return _internal(exc, debug=args.debug)
+
+
+def _internal(exc: BaseException, *, debug: bool) -> int:
+    if debug:
+        traceback.print_exc()
+    first = str(exc).splitlines()[0] if str(exc) else ""
+    sys.stderr.write(
+        f"cvfit: internal error: {type(exc).__name__}: {printable(first, limit=500)} (rerun "
+        "with --debug for the traceback and report it)\n"
+    )
+    return EXIT_INTERNAL

@@ -12,7 +12,7 @@ from concurrent.futures import as_completed
 from dataclasses import dataclass
 from pathlib import Path
 
-from cvfit.errors import InputError
+from cvfit.errors import InputError, OutputError, printable
 
 __all__ = [
     "SeriesOutcome",
@@ -26,6 +26,7 @@ __all__ = [
 STATUS_OK = "ok"
 STATUS_INPUT = "bad input"
 STATUS_INTERNAL = "internal error"
+STATUS_OUTPUT = "cannot write"
 
 
 @dataclass(frozen=True)
@@ -53,7 +54,7 @@ class SeriesOutcome:
     screen: str | None = None
 
     def __post_init__(self) -> None:
-        if self.status not in (STATUS_OK, STATUS_INPUT, STATUS_INTERNAL):
+        if self.status not in (STATUS_OK, STATUS_INPUT, STATUS_INTERNAL, STATUS_OUTPUT):
             raise ValueError(f"unknown series status {self.status!r}")
 
 
@@ -110,7 +111,7 @@ def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
     """Analyse one series into *out_dir*; never raises (failures become the outcome)."""
     from cvfit.io import load_manifest
     from cvfit.pipeline.series import analyse_series
-    from cvfit.report import write_outputs
+    from cvfit.report import check_output_folder, write_outputs
 
     from .output_paths import check_outputs_spare_inputs
 
@@ -126,11 +127,16 @@ def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
         check_outputs_spare_inputs(
             out_dir, [manifest.path, *(e.file for e in manifest.voltammograms)], manifest.path
         )
+        check_output_folder(out_dir)
         result = analyse_series(manifest)
         write_outputs(result, out_dir)
     except InputError as exc:
         return SeriesOutcome(
             str(manifest_path), str(out_dir), STATUS_INPUT, title, error=exc.one_line()
+        )
+    except OutputError as exc:
+        return SeriesOutcome(
+            str(manifest_path), str(out_dir), STATUS_OUTPUT, title, error=exc.one_line()
         )
     except Exception as exc:  # noqa: BLE001 - one broken series must not stop the batch
         first = str(exc).splitlines()[0] if str(exc) else ""
@@ -139,7 +145,7 @@ def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
             str(out_dir),
             STATUS_INTERNAL,
             title,
-            error=f"{manifest_path}: {type(exc).__name__}: {first}",
+            error=f"{printable(manifest_path)}: {type(exc).__name__}: {printable(first)}",
         )
     return _outcome(str(manifest_path), str(out_dir), title, result)
 
@@ -255,14 +261,14 @@ def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
         betas = (", ".join(_pm(v, s) for v, s in o.log10_beta) or "n/d",) * stepwise
         rows.append(
             (
-                _clip(o.title or Path(o.manifest).stem, 36),
+                _clip(printable(o.title or Path(o.manifest).stem), 36),
                 o.status,
                 _pm(o.log10_ratio, o.log10_ratio_stderr),
                 _pm(o.delta_ligands, o.delta_ligands_stderr),
                 *betas,
                 "" if o.n_points is None else str(o.n_points),
                 o.screen or "-",
-                o.out_dir if o.status == STATUS_OK else "-",
+                printable(o.out_dir) if o.status == STATUS_OK else "-",
             )
         )
     widths = [max(len(h), *(len(r[k]) for r in rows)) for k, h in enumerate(head)]
@@ -275,13 +281,17 @@ def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
         lines.append("Failed series:")
         for o in failed:
             error = o.error or ""
-            lines.append(f"  {error}" if o.manifest in error else f"  {o.manifest} → {error}")
+            name = printable(o.manifest)
+            lines.append(f"  {error}" if name in error else f"  {name} → {error}")
     n_ok = len(outcomes) - len(failed)
     n_input = sum(o.status == STATUS_INPUT for o in failed)
-    n_internal = len(failed) - n_input
+    n_output = sum(o.status == STATUS_OUTPUT for o in failed)
+    n_internal = len(failed) - n_input - n_output
     tally = f"{n_ok} of {len(outcomes)} series analysed"
     if n_input:
         tally += f"; {n_input} failed on bad input"
+    if n_output:
+        tally += f"; {n_output} could not be written"
     if n_internal:
         tally += f"; {n_internal} failed on an internal error"
     status = batch_exit_status(outcomes)
@@ -291,8 +301,9 @@ def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
 
 
 def batch_exit_status(outcomes: Sequence[SeriesOutcome]) -> int:
-    """0 all succeeded; 2 any failed on bad input; else 1 when any failed internally."""
-    if any(o.status == STATUS_INPUT for o in outcomes):
+    """0 all succeeded; 2 any failed on bad input or could not be written; else 1 when any
+    failed internally."""
+    if any(o.status in (STATUS_INPUT, STATUS_OUTPUT) for o in outcomes):
         return 2
     if any(o.status == STATUS_INTERNAL for o in outcomes):
         return 1

@@ -91,11 +91,11 @@ def run_manifest(
     *simulated_with*: for simulated data (the demo), the constants they were simulated with,
     in words; the HTML report shows them.
     """
-    from cvfit.errors import InputError
+    from cvfit.errors import InputError, printable
     from cvfit.io import load_manifest
     from cvfit.pipeline.per_file import check_jobs
     from cvfit.pipeline.series import analyse_series
-    from cvfit.report import format_summary, write_outputs
+    from cvfit.report import check_output_folder, format_summary, write_outputs
 
     from .output_paths import check_outputs_spare_inputs, default_out_dir
 
@@ -108,6 +108,7 @@ def run_manifest(
     check_outputs_spare_inputs(
         out_dir, [manifest.path, *(e.file for e in manifest.voltammograms)], manifest.path
     )
+    check_output_folder(out_dir)  # before the analysis, not after it
     n_files = len(manifest.voltammograms)
     file_jobs = default_file_jobs(n_files) if jobs is None else jobs
     with _progress(n_files, enabled=not quiet) as tick:
@@ -116,7 +117,8 @@ def run_manifest(
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
     sys.stdout.write(
-        f"results written to {out_dir}/ ({', '.join(p.name for p in written.values())})\n"
+        f"results written to {printable(out_dir)}/ "
+        f"({', '.join(p.name for p in written.values())})\n"
     )
     return 0
 

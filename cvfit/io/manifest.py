@@ -24,6 +24,7 @@ from cvfit.units import celsius_to_kelvin
 from . import manifest_chemistry as _chem
 from . import manifest_electrode as _electrode
 from . import manifest_standard as _standard
+from .limits import MAX_MANIFEST_BYTES, read_regular_file
 from .options import IMPORT_KEYS, ImportOptions
 from .text import split_lines
 
@@ -417,16 +418,13 @@ def _whole_import(table: dict) -> dict:
 
 def _read(path: Path) -> tuple[str, dict[str, Any]]:
     source = str(path)
-    if not path.exists():
-        raise InputError("manifest not found; check the path", source=source)
-    if path.is_dir():
-        raise InputError("this is a folder; name the manifest .toml file", source=source)
-    try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise InputError(
-            f"cannot read the manifest ({exc.strerror or exc})", source=source
-        ) from None
+    raw = read_regular_file(
+        path,
+        limit=MAX_MANIFEST_BYTES,
+        what="manifest",
+        missing="manifest not found; check the path",
+        folder="this is a folder; name the manifest .toml file",
+    )
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
@@ -437,6 +435,12 @@ def _read(path: Path) -> tuple[str, dict[str, Any]]:
         ) from None
     try:
         return text, tomllib.loads(text)
+    except RecursionError:
+        raise InputError(
+            "the TOML is nested too deeply to read (arrays or tables inside one another "
+            "hundreds of levels deep); a manifest needs two levels: fix the manifest",
+            source=source,
+        ) from None
     except tomllib.TOMLDecodeError as exc:
         msg = str(exc)
         m = re.search(r"\(at line (\d+), column (\d+)\)", msg)
@@ -472,6 +476,17 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
     """
     p = Path(path)
     text, data = _read(p)
+    try:
+        return _check(p, text, data)
+    except RecursionError:  # a value nested deeply enough to pass tomllib, not our checks
+        raise InputError(
+            "a value is nested too deeply (arrays inside one another hundreds of levels "
+            "deep); fix the manifest",
+            source=str(p),
+        ) from None
+
+
+def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     ld = _Loader(p, text)
     folder = p.resolve().parent
     ld.check_keys(data, TABLES, "", None)
@@ -525,7 +540,15 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
                 f"voltammogram[{index}].file",
                 ld.where.line("voltammogram", "file", index),
             )
-        resolved = (folder / name).resolve()
+        try:
+            resolved = (folder / name).resolve()
+        except (RuntimeError, OSError, ValueError):  # a symbolic link loop, a NUL byte
+            raise ld.fail(
+                f"file {name!r} cannot be resolved (a symbolic link loop or a bad name); "
+                "name the data file itself",
+                f"voltammogram[{index}].file",
+                ld.where.line("voltammogram", "file", index),
+            ) from None
         entry = ld.build(
             VoltammogramEntry,
             {
@@ -546,6 +569,13 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
             # entry made loading a 1 000-file manifest quadratic
             file_line = ld.where.line("voltammogram", "file", index)
         if not resolved.is_file():
+            if resolved.exists():
+                raise ld.fail(
+                    f"file {name!r} is not a regular file (a folder, FIFO, device or socket: "
+                    f"{resolved}); list the data files themselves",
+                    f"voltammogram[{index}].file",
+                    file_line,
+                )
             raise ld.fail(
                 f"file {name!r} not found (looked for {resolved}); check the name, paths are "
                 "relative to the manifest's folder",

@@ -5,25 +5,29 @@
 - :mod:`.figures` — the figures (matplotlib, imported only when they are drawn)
 - :mod:`.html` — one self-contained HTML page to hand on
 - :mod:`.summary` — the terminal summary (text; the command line prints it)
-- :mod:`.atomic` — files written whole or not at all
+- :mod:`.atomic` — files written whole or not at all; output sets swapped in whole
 """
 
 from __future__ import annotations
 
+import errno
+import os
 from collections.abc import Sequence
 from pathlib import Path
 
+from cvfit.errors import InputError, OutputError
 from cvfit.pipeline.results import SeriesResult
 
-from .atomic import atomic_write_text
+from .atomic import atomic_write_text, output_set
 from .file_table import write_file_table
-from .output_names import OUTPUT_NAMES
+from .output_names import OUTPUT_NAMES, is_output_name
 from .results_json import results_to_json, write_results_json
 from .summary import format_summary
 
 __all__ = [
     "OUTPUT_NAMES",
     "write_outputs",
+    "check_output_folder",
     "write_results_json",
     "results_to_json",
     "write_file_table",
@@ -34,25 +38,104 @@ __all__ = [
 def write_outputs(
     result: SeriesResult, out_dir: str | Path, *, simulated_with: Sequence[str] = ()
 ) -> dict[str, Path]:
-    """Write every output of *result* into *out_dir* (created if needed).
+    """Write every output of *result* as one set: the folder *out_dir* holds that set.
 
-    *simulated_with* — for simulated data, the constants they were simulated with, in
-    words — is shown by the HTML report (the demo passes it).
-
-    Every file is written to a temporary name and renamed into place, and results.json
-    comes last: its presence means the run finished.
+    The set is written into a hidden folder beside *out_dir* and swapped in for it at
+    once (:func:`cvfit.report.atomic.output_set`): after an interruption at any moment
+    *out_dir* holds the complete earlier set or the complete new one, never a mix, and a
+    failed run leaves it as it was. *out_dir* is therefore the set's own folder: one that
+    holds anything cvfit did not write is refused. *simulated_with* — for simulated data,
+    the constants they were simulated with, in words — is shown by the HTML report (the
+    demo passes it).
 
     Returns
     -------
     dict of str to Path
         The files written, by the keys of :data:`OUTPUT_NAMES` (and the stepwise figures, and
         ``internal_standard_figure`` for a series with an internal standard).
+
+    Raises
+    ------
+    InputError
+        *out_dir* holds files cvfit did not write, or is (or holds) the current folder.
+    OutputError
+        The set cannot be written: permission denied, a full disk, a file-size limit ...
     """
+    out = Path(out_dir)
+    check_output_folder(out)
+    try:
+        with output_set(out) as stage:
+            written = _write_set(result, stage, simulated_with)
+    except OSError as exc:
+        raise OutputError.from_os_error(exc, str(out)) from None
+    return {key: out / p.name for key, p in written.items()}
+
+
+def check_output_folder(out: Path) -> None:
+    """Refuse an output folder that a swap would take from the user.
+
+    Raises
+    ------
+    InputError
+        *out* is a file, holds an entry cvfit did not write (see
+        :func:`~cvfit.report.output_names.is_output_name`), or is (or holds) the current
+        folder.
+    OutputError
+        *out* exists but may not be written.
+    """
+    try:
+        if not out.exists():
+            return
+        real = out.resolve(strict=True)
+    except (OSError, RuntimeError) as exc:
+        raise InputError(
+            f"the output folder cannot be resolved ({exc}); name another --out folder",
+            source=str(out),
+            key="--out",
+        ) from None
+    if not real.is_dir():
+        raise InputError(
+            "the output folder exists and is not a folder; name another --out folder",
+            source=str(out),
+            key="--out",
+        )
+    try:
+        cwd = Path.cwd().resolve()
+    except OSError:  # the current folder was removed: it cannot be the output folder
+        cwd = None
+    if cwd is not None and (real == cwd or real in cwd.parents):
+        raise InputError(
+            "the output folder is the current folder (or holds it); cvfit replaces its "
+            "output folder whole, so name a folder of its own, e.g. --out results",
+            source=str(out),
+            key="--out",
+        )
+    foreign = sorted(n for n in os.listdir(real) if not is_output_name(n))
+    if foreign:
+        more = f" and {len(foreign) - 1} more" if len(foreign) > 1 else ""
+        raise InputError(
+            f"the output folder holds {foreign[0]!r}{more}, which cvfit did not write; cvfit "
+            "replaces its output folder whole, so name a folder of its own with --out (new, "
+            "empty, or one cvfit wrote)",
+            source=str(out),
+            key="--out",
+        )
+    if not os.access(real, os.W_OK | os.X_OK):
+        raise OutputError(
+            str(out),
+            "cannot write the outputs (Permission denied); check the folder's permissions or "
+            "choose another --out folder",
+            errno=errno.EACCES,
+        )
+
+
+def _write_set(
+    result: SeriesResult, out: Path, simulated_with: Sequence[str] = ()
+) -> dict[str, Path]:
+    """Every output of *result* into the empty folder *out*; results.json last."""
     from .figures.diagnostics import plot_diagnostics
     from .figures.titration import plot_lingane, plot_voltammograms
 
-    out = Path(out_dir)
-    out.mkdir(parents=True, exist_ok=True)
     json_text = results_to_json(result)
     written: dict[str, Path] = {
         "table": write_file_table(result, out / OUTPUT_NAMES["table"]),
@@ -79,7 +162,6 @@ def write_outputs(
     written["html_report"] = write_html_report(
         result, out / OUTPUT_NAMES["html_report"], figures=figures, simulated_with=simulated_with
     )
-    # results.json last: its presence means the run finished.
     written["results"] = out / OUTPUT_NAMES["results"]
     atomic_write_text(written["results"], json_text)
     return written

@@ -1,15 +1,33 @@
-"""Write output files so a killed run never leaves a torn file."""
+"""Write output files so a killed run never leaves a torn file, nor a mix of two sets.
+
+Each file is written to a temporary name and renamed into place (:func:`atomic_path`); a
+whole output set is written into a hidden folder beside the output folder and swapped in
+for it at once (:func:`output_set`).
+"""
 
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
+import re
+import secrets
+import shutil
+import sys
 import tempfile
 from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import IO
 
-__all__ = ["atomic_write_text", "atomic_path"]
+__all__ = [
+    "atomic_write_text",
+    "atomic_path",
+    "atomic_write_with",
+    "output_set",
+    "set_leftovers",
+    "clean_set_leftovers",
+    "exchange_paths",
+]
 
 
 @contextlib.contextmanager
@@ -49,3 +67,173 @@ def atomic_write_with(path: str | Path, writer: Callable[[IO[str]], None]) -> No
             writer(fh)
             fh.flush()
             os.fsync(fh.fileno())
+
+
+# --- output sets: the whole folder swapped in at once ------------------------------------
+
+#: Marks the hidden folders a run keeps beside its output folder: ``.NAME.cvfit-new-XXXXXXXX``
+#: (a set being written) and ``.NAME.cvfit-old-XXXXXXXX`` (an earlier set being replaced).
+SET_MARK = ".cvfit-"
+_KINDS = ("new", "old")
+
+
+def _leftover_pattern(target: Path) -> re.Pattern[str]:
+    return re.compile(rf"\.{re.escape(target.name)}\.cvfit-(new|old)-[0-9a-f]{{8}}")
+
+
+def set_leftovers(target: str | Path) -> list[Path]:
+    """Hidden folders that interrupted runs into *target* left beside it."""
+    target = Path(target)
+    pattern = _leftover_pattern(target)
+    try:
+        names = os.listdir(target.parent)
+    except FileNotFoundError:
+        return []
+    return sorted(target.parent / n for n in names if pattern.fullmatch(n))
+
+
+def _remove_tree(path: Path) -> None:
+    if path.is_symlink() or not path.is_dir():
+        path.unlink(missing_ok=True)
+    else:
+        shutil.rmtree(path)
+
+
+def clean_set_leftovers(target: str | Path) -> None:
+    """Remove what interrupted runs into *target* left beside it.
+
+    A set moved aside (``-old-``) while the folder was swapped the slow way (two renames,
+    where the system cannot exchange two folders in one step) is put back first when the
+    folder itself is missing: it is the complete earlier set.
+    """
+    target = Path(target)
+    found = set_leftovers(target)
+    if not target.exists():
+        old = [p for p in found if p.name.split(SET_MARK)[-1].startswith("old-")]
+        if old:
+            keep = max(old, key=lambda p: p.stat().st_mtime)
+            os.rename(keep, target)
+            found.remove(keep)
+    for p in found:
+        _remove_tree(p)
+
+
+def _renameat2() -> Callable[..., int] | None:
+    if not sys.platform.startswith("linux"):
+        return None
+    try:
+        import ctypes
+
+        fn = getattr(ctypes.CDLL(None, use_errno=True), "renameat2", None)
+    except (OSError, AttributeError):  # pragma: no cover - no C library to ask
+        return None
+    if fn is not None:
+        fn.argtypes = (ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p, ctypes.c_uint)
+        fn.restype = ctypes.c_int
+    return fn
+
+
+_AT_FDCWD = -100
+_RENAME_EXCHANGE = 2
+
+
+def exchange_paths(a: Path, b: Path) -> bool:
+    """Swap the folders *a* and *b* in one atomic step; False when the system cannot.
+
+    Linux ``renameat2(..., RENAME_EXCHANGE)``: at every instant each name holds one of
+    the two folders, whole.
+    """
+    fn = _renameat2()
+    if fn is None:
+        return False
+    import ctypes
+
+    if fn(_AT_FDCWD, os.fsencode(a), _AT_FDCWD, os.fsencode(b), _RENAME_EXCHANGE) == 0:
+        return True
+    err = ctypes.get_errno()
+    if err in (errno.ENOSYS, errno.EINVAL, errno.EOPNOTSUPP, errno.ENOTSUP):
+        return False  # an old kernel, or a file system that cannot exchange
+    raise OSError(err, os.strerror(err), str(b))
+
+
+def _fsync_path(path: Path, *, directory: bool = False) -> None:
+    flags = os.O_RDONLY | (getattr(os, "O_DIRECTORY", 0) if directory else 0)
+    try:
+        fd = os.open(path, flags)
+    except OSError:  # pragma: no cover - platforms that cannot open a folder
+        if directory:
+            return
+        raise
+    try:
+        os.fsync(fd)
+    except OSError:  # pragma: no cover - file systems without fsync on folders
+        if not directory:
+            raise
+    finally:
+        os.close(fd)
+
+
+def _new_stage(target: Path) -> Path:
+    while True:
+        stage = target.parent / f".{target.name}{SET_MARK}new-{secrets.token_hex(4)}"
+        try:
+            os.mkdir(stage)  # the mode a plain mkdir gives (umask applies)
+        except FileExistsError:  # pragma: no cover - 1 in 4 billion
+            continue
+        return stage
+
+
+def _swap_in(stage: Path, target: Path) -> None:
+    """Put the folder *stage* in the place of *target*; the earlier set is removed."""
+    if not target.exists():
+        os.rename(stage, target)
+    elif exchange_paths(stage, target):
+        _remove_tree(stage)  # now the earlier set
+    else:
+        old = target.parent / f".{target.name}{SET_MARK}old-{secrets.token_hex(4)}"
+        os.rename(target, old)  # a kill here leaves the folder missing: the next run
+        os.rename(stage, target)  # puts the earlier set back (clean_set_leftovers)
+        _remove_tree(old)
+    _fsync_path(target.parent, directory=True)
+
+
+@contextlib.contextmanager
+def output_set(target: str | Path) -> Iterator[Path]:
+    """Yield an empty hidden folder beside *target*; on success it becomes *target*.
+
+    Write the whole output set into the folder yielded. When the block ends without an
+    error, every file is flushed to disk and the folder is swapped in for *target* in one
+    step (the earlier set is removed), so after a kill at any moment *target* holds the
+    complete earlier set or the complete new one, never a mix. When the block fails, the
+    folder is removed and *target* is left as it was. Leftovers of earlier interrupted
+    runs into *target* are removed first (:func:`clean_set_leftovers`).
+
+    Parameters
+    ----------
+    target : path-like
+        The output folder. A symbolic link to a folder is followed (the link stays).
+
+    Raises
+    ------
+    OSError
+        When the folder cannot be created or written; the caller reports it.
+    """
+    target = Path(target)
+    if target.is_symlink():
+        target = target.resolve(strict=True)
+    try:
+        target.parent.mkdir(parents=True, exist_ok=True)
+    except FileExistsError:  # a part of the path is a file
+        raise NotADirectoryError(errno.ENOTDIR, os.strerror(errno.ENOTDIR), str(target)) from None
+    clean_set_leftovers(target)
+    stage = _new_stage(target)
+    try:
+        yield stage
+        for entry in os.scandir(stage):
+            if entry.is_file(follow_symlinks=False):
+                _fsync_path(Path(entry.path))
+        _fsync_path(stage, directory=True)
+        _swap_in(stage, target)
+    except BaseException:
+        shutil.rmtree(stage, ignore_errors=True)
+        raise

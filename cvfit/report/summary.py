@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from cvfit.errors import printable
 from cvfit.fit.lingane import LinganeFit
 from cvfit.fit.stepwise_result import StepwiseFit
 from cvfit.pipeline.results import SeriesResult
@@ -28,7 +29,7 @@ def format_summary(result: SeriesResult) -> str:
     out), conditions, per-file table, the fit in detail, flags."""
     s = result.series
     lines = [*headline_lines(result.to_dict()), ""]
-    title = s.title or "(untitled series)"
+    title = printable(s.title or "(untitled series)", limit=200)  # one safe line
     lines.append(f"cvfit {result.cvfit_version} — {title}")
     cond = f"n = {s.electrons}, T = {s.temperature_K:.2f} K"
     if s.reference_electrode:
@@ -52,7 +53,8 @@ def format_summary(result: SeriesResult) -> str:
     for f, e_half in zip(result.files, e_halves, strict=True):
         p = f.peaks
         rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
-        name = f.file if len(f.file) <= 22 else "…" + f.file[-21:]
+        name = printable(f.file)
+        name = name if len(name) <= 22 else "…" + name[-21:]
         lines.append(
             f"{name:<22} {f.ligand_M:>9.3g} {e_half:>{w}} "
             f"{format_value(p.delta_Ep_V, scale=1e3):>7} "
@@ -87,7 +89,7 @@ def format_summary(result: SeriesResult) -> str:
     else:
         lines.append("No constants: see the series flags below.")
     lines.append("")
-    flagged = [(f.file, fl) for f in result.files for fl in f.flags if fl.severity != "info"]
+    flagged = [(printable(f.file), fl) for f in result.files for fl in f.flags if fl.severity != "info"]
     series_flags = list(result.flags) + (list(fit.flags) if fit is not None else [])
     if flagged or series_flags:
         lines.append("Flags:")

@@ -20,12 +20,13 @@ import numpy as np  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
 
+from ..output_names import INTERNAL_STANDARD_NAME  # noqa: E402
 from .titration import _STYLE, _save, _set_title  # noqa: E402
 
 __all__ = ["plot_internal_standard", "FILE_NAME"]
 
 #: File name of the figure in the output folder.
-FILE_NAME = "internal_standard.png"
+FILE_NAME = INTERNAL_STANDARD_NAME
 _STD_COLOUR = "#2b4c7e"
 _RAW_COLOUR = "#b5532a"
 

@@ -20,7 +20,7 @@ from cvfit.pipeline.results import SeriesResult
 from cvfit.report.headline import constant_lines
 from cvfit.units import thermal_voltage
 
-from .titration import _STYLE, COLOUR_MAP, PER_LITRE, _save, _superscript, plt
+from .titration import _STYLE, COLOUR_MAP, PER_LITRE, _save, _superscript, figure_title, plt
 
 __all__ = ["STEPWISE_FIGURES", "write_stepwise_figures"]
 
@@ -88,7 +88,7 @@ def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
         ax.legend(loc="best", frameon=False, fontsize=8)
         # the constants a reader looks for first, on the figure itself: under the title
         ax.set_title(
-            "\n".join([result.series.title or "half-wave shift", *constant_lines(fit.to_dict())]),
+            "\n".join([figure_title(result.series.title or "half-wave shift"), *constant_lines(fit.to_dict())]),
             fontsize=9,
         )
         return _save(fig, path)

@@ -23,6 +23,7 @@ from matplotlib.collections import LineCollection  # noqa: E402
 from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator, NullLocator  # noqa: E402
 
+from cvfit.errors import printable  # noqa: E402
 from cvfit.fit.lingane import LinganeFit  # noqa: E402
 from cvfit.pipeline.curves import (
     MAX_POINTS_DRAWN,
@@ -93,6 +94,15 @@ _CHAR_EM = 0.55
 _TITLE_LINE_IN = 0.17
 
 
+#: Most lines of a figure title; a longer title is cut with "…" (results.json keeps it all).
+MAX_TITLE_LINES = 3
+
+
+def figure_title(text: str, max_chars: int = 400) -> str:
+    """*text* for a figure: control characters escaped, at most *max_chars* characters."""
+    return printable(text, limit=max_chars)
+
+
 def _set_title(
     ax: plt.Axes, text: str, *, fontsize: float = 9.0, extra: Sequence[str] = ()
 ) -> float:
@@ -102,7 +112,11 @@ def _set_title(
     """
     width_in = float(ax.figure.get_size_inches()[0])
     per_line = max(20, int(0.95 * width_in * 72.0 / (_CHAR_EM * fontsize)))
+    text = figure_title(text, per_line * MAX_TITLE_LINES + 1)
     lines = textwrap.wrap(text, per_line, break_long_words=True) or [""]
+    if len(lines) > MAX_TITLE_LINES:
+        lines = lines[:MAX_TITLE_LINES]
+        lines[-1] = lines[-1][: per_line - 1] + "…"
     for line in extra:
         lines += textwrap.wrap(line, per_line, break_long_words=True)
     # an explicit y: matplotlib then skips measuring every tick label of the axes to
