@@ -89,7 +89,9 @@ def format_summary(result: SeriesResult) -> str:
     else:
         lines.append("No constants: see the series flags below.")
     lines.append("")
-    flagged = [(printable(f.file), fl) for f in result.files for fl in f.flags if fl.severity != "info"]
+    flagged = [
+        (printable(f.file), fl) for f in result.files for fl in f.flags if fl.severity != "info"
+    ]
     series_flags = list(result.flags) + (list(fit.flags) if fit is not None else [])
     if flagged or series_flags:
         lines.append("Flags:")

@@ -88,7 +88,12 @@ def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
         ax.legend(loc="best", frameon=False, fontsize=8)
         # the constants a reader looks for first, on the figure itself: under the title
         ax.set_title(
-            "\n".join([figure_title(result.series.title or "half-wave shift"), *constant_lines(fit.to_dict())]),
+            "\n".join(
+                [
+                    figure_title(result.series.title or "half-wave shift"),
+                    *constant_lines(fit.to_dict()),
+                ]
+            ),
             fontsize=9,
         )
         return _save(fig, path)
