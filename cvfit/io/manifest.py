@@ -39,7 +39,12 @@ SERIES_KEYS = (
     *_chem.SERIES_CHEMISTRY_KEYS,
     *_electrode.SERIES_ELECTRODE_KEYS,
 )
-FIT_KEYS = ("model", "max_complexes", "exclude_non_nernstian", *_chem.FIT_STEPWISE_KEYS)
+FIT_KEYS = (
+    "model", "max_complexes", "exclude_non_nernstian", "half_wave_source",
+    *_chem.FIT_STEPWISE_KEYS,
+)  # fmt: skip
+#: Where E½ of each file comes from (``[fit] half_wave_source``).
+HALF_WAVE_SOURCES = ("peaks", "curve", "auto")
 REVERSIBILITY_KEYS = ("n_delta_Ep_margin_V", "n_peak_width_margin_V", "current_ratio_margin")
 ENTRY_KEYS = (
     "file",
@@ -192,6 +197,9 @@ class FitSettings:
         Stepwise model: known constants of one oxidation state; the other's are fitted.
     current_ratio_correction : bool
         Stepwise model: add DeFord–Hume's ln(Is/Ic) from the peak currents (default true).
+    half_wave_source : {"peaks", "curve", "auto"}
+        E½ from the peaks, from the fit of the whole curve, or (default) the peaks for
+        files that pass the reversibility screen and the curve fit for the others.
     """
 
     model: Literal["lingane", "stepwise"] = "lingane"
@@ -200,9 +208,16 @@ class FitSettings:
     fixed_log10_beta_ox: tuple[float, ...] | None = None
     fixed_log10_beta_red: tuple[float, ...] | None = None
     current_ratio_correction: bool = True
+    half_wave_source: Literal["peaks", "curve", "auto"] = "auto"
 
     def __post_init__(self) -> None:
         _chem.clean_fit(self)
+        if self.half_wave_source not in HALF_WAVE_SOURCES:
+            raise InputError(
+                'half_wave_source must be "peaks", "curve" or "auto", got '
+                f"{self.half_wave_source!r}",
+                key="half_wave_source",
+            )
         if self.model not in ("lingane", "stepwise"):
             raise InputError(
                 f"model must be 'lingane' or 'stepwise', got {self.model!r}", key="model"

@@ -23,6 +23,7 @@ from cvfit.screen.reversibility import screen_reversibility
 from cvfit.screen.switching import corrected_half_wave_V
 from cvfit.voltammogram import Voltammogram
 
+from .curve_stage import curve_fit_for
 from .curves import cycle_curve, points_per_curve
 from .parallel import new_process_pool, one_blas_thread
 from .results import FileResult
@@ -129,6 +130,7 @@ def analyse_file(
     if v is None:
         v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
     resistance = resistance_for(entry, series)
+    raw = v
     v = correct_for_resistance(v, resistance)  # a new record; the input is not changed
     peaks = analyse_peaks(
         v,
@@ -152,6 +154,11 @@ def analyse_file(
         )
     else:
         e_half, correction = peaks.E_half_V, 0.0
+    curve_fit, curve_flags = curve_fit_for(raw, peaks, screen, manifest, resistance)
+    flags += curve_flags
+    source = "peaks"
+    if curve_fit is not None and curve_fit.accepted:
+        e_half, correction, source = curve_fit.E_half_V.value, 0.0, "curve"
     return FileResult(
         file=entry.name,
         ligand_M=entry.ligand_M,
@@ -170,6 +177,8 @@ def analyse_file(
         E_half_V=e_half,
         switching_correction_V=correction,
         resistance_ohm=resistance or None,
+        curve_fit=curve_fit,
+        E_half_source=source,
     )
 
 

@@ -17,6 +17,7 @@ from cvfit.quantity import clean_number
 from cvfit.reversibility_criteria import ReversibilityCriteria
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
+    from cvfit.fit.curve_fit import CurveFit
     from cvfit.io.manifest import SeriesSettings
     from cvfit.peaks.analysis import PeakAnalysis
     from cvfit.screen.classification import Classification
@@ -83,6 +84,10 @@ class FileResult:
         Nicholson's ψ and k0, or why they are not determinable.
     resistance_ohm : float or None
         R_u the potentials were corrected with, Ω.
+    curve_fit : CurveFit or None
+        The fit of the whole curve, when one was made (see :mod:`cvfit.pipeline.curve_stage`).
+    E_half_source : {"peaks", "curve"}
+        Where ``E_half_V`` comes from: the peak midpoint or the accepted curve fit.
     """
 
     file: str
@@ -100,10 +105,19 @@ class FileResult:
     classification: Classification | None = None
     kinetics: KineticsResult | None = None
     resistance_ohm: float | None = None
+    curve_fit: CurveFit | None = field(default=None, compare=False)
+    E_half_source: Literal["peaks", "curve"] = "peaks"
 
     @property
     def reversible(self) -> bool | None:
         return self.screen.reversible
+
+    @property
+    def E_half_stderr_V(self) -> float | None:
+        """Standard error of ``E_half_V``: of the curve fit or of the peak analysis, V."""
+        if self.E_half_source == "curve" and self.curve_fit is not None:
+            return self.curve_fit.E_half_V.stderr
+        return self.peaks.E_half_stderr_V
 
     def to_dict(self) -> dict[str, Any]:
         p = self.peaks
@@ -119,7 +133,8 @@ class FileResult:
             "Epc_V": clean_number(p.Epc_V),
             "Epa_V": clean_number(p.Epa_V),
             "E_half_V": clean_number(self.E_half_V),
-            "E_half_stderr_V": clean_number(p.E_half_stderr_V),
+            "E_half_stderr_V": clean_number(self.E_half_stderr_V),
+            "E_half_source": self.E_half_source,
             "E_half_midpoint_V": clean_number(p.E_half_V),
             "switching_correction_V": clean_number(self.switching_correction_V),
             "delta_Ep_V": clean_number(p.delta_Ep_V),
@@ -132,6 +147,7 @@ class FileResult:
             "noise_A": clean_number(p.noise_A),
             "reversible": self.screen.reversible,
             "used_in_fit": self.used_in_fit,
+            "curve_fit": None if self.curve_fit is None else self.curve_fit.to_dict(),
             "classification": None
             if self.classification is None
             else self.classification.to_dict(),

@@ -43,7 +43,7 @@ def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalf
         values = np.array([f.E_half_V for f in usable], dtype=float)
         errs = np.array(
             [
-                np.nan if f.peaks.E_half_stderr_V is None else f.peaks.E_half_stderr_V
+                np.nan if f.E_half_stderr_V is None else f.E_half_stderr_V
                 for f in usable
             ]
         )
@@ -156,7 +156,7 @@ def analyse_series(
     for f in files:
         usable = f.free_ligand_M > 0 and f.E_half_V is not None
         flags = list(f.flags)
-        if usable and exclude and f.reversible is not True:
+        if usable and exclude and f.reversible is not True and f.E_half_source != "curve":
             usable = False
             excluded.append(f.file)
             flags.append(
@@ -169,7 +169,7 @@ def analyse_series(
             )
         if usable:
             points.append(
-                TitrationPoint(f.file, f.free_ligand_M, f.E_half_V, f.peaks.E_half_stderr_V)
+                TitrationPoint(f.file, f.free_ligand_M, f.E_half_V, f.E_half_stderr_V)
             )
         final.append(replace(f, used_in_fit=usable, flags=tuple(flags)))
 

@@ -131,7 +131,7 @@ def run_stepwise(
             f.file,
             f.ligand_M,
             f.E_half_V,
-            f.peaks.E_half_stderr_V,
+            f.E_half_stderr_V,
             r,
             entries[f.file].pH,
             bulk_form="red" if f.peaks.first_sweep == "oxidation" else "ox",
