@@ -240,7 +240,7 @@ def fit_curve(
             best = (cost, x0[1])
     x0[1] = best[1]
     if fit_R:
-        x0[3] = 0.0
+        x0[3] = 0.002 / i_max  # 2 mV of drop at the largest current: off the bound
 
     def solve(x_start: np.ndarray, free: np.ndarray | None = None):
         """least_squares over the parameters marked in *free* (the others held)."""
