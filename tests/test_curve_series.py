@@ -1,0 +1,139 @@
+"""Series with quasi-reversible files at the highest ligand concentrations, recovered by the
+curve fit (``[fit] half_wave_source = "auto"``), against the same series all reversible.
+
+Truth (tests/seriesfactory.py): p − q = 1, log10(β_ox/β_red) = 6.0. The three highest-[L]
+files have k0 = 1e-2, 5e-3, 2e-3 cm/s (ψ 2.0, 1.0, 0.4 at D = 1e-5 cm²/s, v = 20 mV/s) and
+20 Ω of uncompensated resistance that the manifest does not give. Every file carries
+charging (5 µF), a sloping background and 0.5 % noise. Built twice: with the project's
+simulator and with the independent convolution computation (tests/independent_curves.py).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import jsonschema
+import pytest
+from independent_curves import independent_cv
+from seriesfactory import (
+    E_HALF_FREE_V,
+    LIGAND_M,
+    LOG_BETA_OX,
+    LOG_BETA_RED,
+    TRUE_DELTA_LIGANDS,
+    TRUE_LOG10_RATIO,
+    write_manifest,
+)
+
+from cvfit.chemistry.complexation import complexed_half_wave_V
+from cvfit.io import load_manifest
+from cvfit.pipeline.series import analyse_series
+from cvfit.simulate.voltammogram import simulate_cv
+
+SCHEMA = Path(__file__).resolve().parents[1] / "cvfit" / "schemas" / "results.schema.json"
+V = 0.02
+SLOW = {0.08: 1e-2, 0.15: 5e-3, 0.3: 2e-3}
+IP = 2.69e5 * 0.0707 * 1e-6 * math.sqrt(1e-5) * math.sqrt(V)  # Randles–Ševčík, common practice
+COMMON = dict(
+    start_V=0.25,
+    switch_V=-0.65,
+    scan_rate_V_s=V,
+    step_V=0.0009,
+    double_layer_F=5e-6,
+    background_offset_A=1e-7,
+    background_slope_A_per_V=2e-6,
+)
+
+
+def true_E_half(ligand: float) -> float:
+    return float(
+        complexed_half_wave_V(
+            E_HALF_FREE_V, ligand_M=ligand, log10_beta_ox=LOG_BETA_OX, log10_beta_red=LOG_BETA_RED
+        )
+    )
+
+
+def write_series(folder: Path, *, source: str, slow: bool, fit: dict | None = None) -> Path:
+    entries = []
+    for k, ligand in enumerate(LIGAND_M):
+        k0 = SLOW.get(ligand) if slow else None
+        R = 20.0 if (slow and k0) else 0.0
+        kw = dict(COMMON, E_half_V=true_E_half(ligand), k0_cm_s=k0, resistance_ohm=R)
+        if source == "independent":
+            t, E, i = independent_cv(**kw, noise_A=0.005 * IP, seed=40 + k)
+        else:
+            v = simulate_cv(**kw, noise_fraction=0.005, seed=40 + k)
+            t, E, i = v.time_s, v.potential_V, v.current_A
+        rows = ["time_s,potential_V,current_A"] + [
+            f"{a!r},{b!r},{c!r}"
+            for a, b, c in zip(t.tolist(), E.tolist(), i.tolist(), strict=True)
+        ]
+        (folder / f"f{k}.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
+        entries.append({"file": f"f{k}.csv", "ligand_M": ligand, "scan_rate_V_s": V})
+    series = {"electrons": 1, "diffusion_cm2_s": 1e-5}
+    return write_manifest(folder / "series.toml", entries, series=series, fit=fit)
+
+
+@pytest.fixture(scope="module", params=["project", "independent"])
+def runs(request, tmp_path_factory):
+    out = {}
+    for name, slow, fit in (
+        ("reversible", False, None),
+        ("auto", True, None),
+        ("peaks", True, {"half_wave_source": "peaks"}),
+    ):
+        folder = tmp_path_factory.mktemp(f"{request.param}_{name}")
+        manifest = write_series(folder, source=request.param, slow=slow, fit=fit)
+        out[name] = analyse_series(load_manifest(manifest))
+    return out
+
+
+def test_slow_files_are_recovered_with_E_half_within_1_mV_and_k0_within_15_percent(runs):
+    res = runs["auto"]
+    for f in res.files:
+        if f.ligand_M in SLOW:
+            assert f.reversible is False
+            assert f.E_half_source == "curve" and f.used_in_fit
+            assert abs(f.E_half_V - true_E_half(f.ligand_M)) < 1e-3
+            assert abs(f.curve_fit.k0_cm_s.value / SLOW[f.ligand_M] - 1) < 0.15
+            assert f.E_half_stderr_V == f.curve_fit.E_half_V.stderr
+            assert "CURVE_FIT_USED" in {g.code for g in f.flags}
+        else:
+            assert f.reversible is True and f.E_half_source == "peaks" and f.curve_fit is None
+    assert res.fit.n_points == len(LIGAND_M) - 1
+
+
+def test_constants_lie_within_the_intervals_of_the_all_reversible_series(runs):
+    ref, got = runs["reversible"].fit, runs["auto"].fit
+    for name, truth in (
+        ("delta_ligands", TRUE_DELTA_LIGANDS),
+        ("log10_beta_ratio", TRUE_LOG10_RATIO),
+    ):
+        lo, hi = getattr(ref, name).ci95
+        assert lo <= truth <= hi
+        assert lo <= getattr(got, name).value <= hi
+
+
+def test_peaks_only_leaves_the_slow_files_out(runs):
+    res = runs["peaks"]
+    assert res.fit.n_points == len(LIGAND_M) - 1 - len(SLOW)
+    for f in res.files:
+        if f.ligand_M in SLOW:
+            assert not f.used_in_fit and f.curve_fit is None and f.E_half_source == "peaks"
+
+
+def test_results_json_says_the_source_and_validates(runs):
+    data = runs["auto"].to_dict()
+    schema = json.loads(SCHEMA.read_text(encoding="utf-8"))
+    jsonschema.Draft202012Validator(schema).validate(json.loads(json.dumps(data)))
+    sources = {v["file"]: v["E_half_source"] for v in data["voltammograms"]}
+    assert sources == {
+        f"f{k}.csv": ("curve" if x in SLOW else "peaks") for k, x in enumerate(LIGAND_M)
+    }
+    slow = [v for v in data["voltammograms"] if v["E_half_source"] == "curve"]
+    assert all(v["used_in_fit"] and v["curve_fit"]["accepted"] for v in slow)
+    assert all(
+        set(v["curve_fit"]["k0_cm_s"]) >= {"value", "stderr", "ci95", "lower_bound"} for v in slow
+    )
