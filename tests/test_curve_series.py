@@ -137,3 +137,18 @@ def test_results_json_says_the_source_and_validates(runs):
     assert all(
         set(v["curve_fit"]["k0_cm_s"]) >= {"value", "stderr", "ci95", "lower_bound"} for v in slow
     )
+
+
+def test_outputs_show_the_curve_fits(runs, tmp_path):
+    from cvfit.report import write_outputs
+
+    written = write_outputs(runs["auto"], tmp_path)
+    assert written["curve_fits_figure"].name == "curve_fits.png"
+    html = written["html_report"].read_text(encoding="utf-8")
+    assert "Curve fits: for each voltammogram" in html and "curve" in html
+    table = written["table"].read_text(encoding="utf-8").splitlines()
+    head = table[0].split(",")
+    col = head.index("E_half_source")
+    assert sorted(row.split(",")[col] for row in table[1:]).count("curve") == len(SLOW)
+    # a series without curve fits writes no such figure
+    assert "curve_fits_figure" not in write_outputs(runs["peaks"], tmp_path / "peaks")

@@ -91,6 +91,8 @@ class CurveFit:
         D of the bulk form k0 refers to, cm²/s; ``D_source`` says where it came from.
     scale_A, double_layer_F, background_offset_A, background_slope_A_per_V : float
         The closed-form coefficients at the optimum.
+    sigma_A : float
+        Standard deviation of a current sample the residuals are weighted with, A.
     accepted : bool
         False when the fit was refused (see ``flags``).
     flags : tuple of Flag
@@ -117,6 +119,7 @@ class CurveFit:
     double_layer_F: float
     background_offset_A: float
     background_slope_A_per_V: float
+    sigma_A: float
     accepted: bool
     flags: tuple[Flag, ...]
     simulations: int
@@ -378,6 +381,7 @@ def fit_curve(
         double_layer_F=float(coef[1]),
         background_offset_A=float(coef[2]),
         background_slope_A_per_V=float(coef[3]),
+        sigma_A=data.sigma_A,
         accepted=accepted,
         flags=tuple(flags),
         simulations=model.simulations,

@@ -35,6 +35,9 @@ FIGURE_CAPTIONS = {
     "half_wave_shift.png": "E½(c) − E½(s) against log10[L] with the fitted Lingane line, its "
     "95 % band, and the residuals (open markers: flagged, not fitted).",
     "diagnostics.png": "Reversibility diagnostics of every voltammogram.",
+    "curve_fits.png": "Curve fits: for each voltammogram whose E½ was sought from the whole "
+    "curve, the data (grey), the fitted model (dashed: refused) and the residuals in units "
+    "of the noise σ (band ±2).",
 }
 
 # key -> (label, scale, unit) for the constants of the fit
