@@ -185,7 +185,7 @@ class CurveModel:
         self.simulations = 0
         self.simulation_time_s = 0.0
         self._drop_current_A = data.current_A.copy()
-        self._grids: dict[tuple[float, float], _kernel.Grid] = {}
+        self._grids: dict[tuple[float, float], tuple] = {}
 
     def set_drop_background(self, background_A: np.ndarray) -> None:
         """The background that carries no current through R_u (subtracted for the drop)."""
@@ -197,18 +197,21 @@ class CurveModel:
             return self.data.potential_V
         return self.data.potential_V - resistance_ohm * self._drop_current_A
 
-    def _grid(self, D_ox: float, D_red: float) -> _kernel.Grid:
+    def _grid(self, D_ox: float, D_red: float) -> tuple:
+        """Grid and species operators for this D pair (built once, reused by every run)."""
         key = (D_ox, D_red)
         if key not in self._grids:
             d = self.data
             total = d.dt_s * d.potential_V.size
-            self._grids = {  # keep one: the D ratio changes only when it is fitted
-                key: _kernel.Grid.expanding(
-                    GRID_FIRST_FACTOR * math.sqrt(min(D_ox, D_red) * d.dt_s),
-                    GRID_RATIO,
-                    GRID_LENGTH_FACTOR * math.sqrt(max(D_ox, D_red) * (total + d.dt_s)),
-                )
-            }
+            grid = _kernel.Grid.expanding(
+                GRID_FIRST_FACTOR * math.sqrt(min(D_ox, D_red) * d.dt_s),
+                GRID_RATIO,
+                GRID_LENGTH_FACTOR * math.sqrt(max(D_ox, D_red) * (total + d.dt_s)),
+            )
+            op_O = _kernel.species_operator(grid, D_ox, d.dt_s)
+            op_R = op_O if D_red == D_ox else _kernel.species_operator(grid, D_red, d.dt_s)
+            # keep one: the D ratio changes only when it is fitted
+            self._grids = {key: (grid, (op_O, op_R))}
         return self._grids[key]
 
     def shape(
@@ -235,10 +238,12 @@ class CurveModel:
         drive = self.drive_V(resistance_ohm)
         k0 = 0.0 if math.isinf(log10_k0) else 10.0**log10_k0
         t0 = time.perf_counter()
+        grid, operators = self._grid(D_ox, D_red)
         raw = _kernel.march(
             drive,
             d.dt_s,
-            grid=self._grid(D_ox, D_red),
+            grid=grid,
+            operators=operators,
             D_ox_cm2_s=D_ox,
             D_red_cm2_s=D_red,
             bulk_ox_mol_cm3=1.0 if d.bulk == "ox" else 0.0,
