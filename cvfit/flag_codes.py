@@ -147,7 +147,8 @@ _CATALOGUE = (
     FlagCode("CURVE_FIT_D_ASSUMED", _I, "The curve fit's k0 assumes D = 1e-5 cm²/s (no D, "
              "electrode area or analyte concentration given); k0 scales with √D."),
     FlagCode("CURVE_FIT_IRREVERSIBLE", _I, "The voltammogram is irreversible (no usable "
-             "reverse peak or ψ far below the working curve): no curve fit, left out."),
+             "reverse peak, classified irreversible, or fitted ψ below 0.01): its E½ is not "
+             "taken from the curve fit and it stays out."),
     # --- series and reference ------------------------------------------------------------
     FlagCode("EXCLUDED_NON_NERNSTIAN", _I, "The voltammogram failed the reversibility screen "
              "and was left out of the fit (exclude_non_nernstian = true)."),

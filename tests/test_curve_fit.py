@@ -14,6 +14,7 @@ import numpy as np
 import pytest
 from independent_curves import independent_cv
 
+from cvfit.errors import FitError
 from cvfit.fit.curve_fit import fit_curve
 from cvfit.fit.curve_intervals import runs_test_z
 from cvfit.fit.curve_model import curve_data
@@ -118,3 +119,45 @@ def test_runs_test_separates_white_from_structured_residuals():
     assert abs(runs_test_z(white)) < 4
     assert runs_test_z(np.sin(np.linspace(0, 6, 2000)) + 0.1 * white) < -20
     assert math.isnan(runs_test_z(np.ones(10)))
+
+
+def test_oxidation_first_record_with_the_reduced_form_in_the_bulk():
+    v = simulate_cv(
+        **{**SETTINGS, "start_V": -0.65, "switch_V": 0.25, "resistance_ohm": 0.0},
+        initial_species="red", k0_cm_s=4e-3, alpha=0.6, noise_fraction=0.005, seed=5,
+    )  # fmt: skip
+    data = curve_data(
+        v.potential_V, v.current_A, time_s=v.time_s, scan_rate_V_s=V, stop=v.potential_V.size - 1,
+        electrons=1, temperature_K=298.15, bulk="red", sigma_A=NOISE,
+    )  # fmt: skip
+    fit = fit_curve(data, E_half_start_V=E_HALF - 0.01, D_cm2_s=1e-5)
+    assert fit.accepted
+    assert abs(fit.E_half_V.value - E_HALF) < 1e-3
+    assert abs(fit.k0_cm_s.value / 4e-3 - 1) < 0.15
+    assert abs(fit.alpha.value - 0.6) < 0.03
+
+
+def test_D_from_the_current_scale_and_the_assumed_D_flag():
+    t, E, i = _record("project", 5e-3, 0.5, resistance_ohm=0.0)
+    data = curve_data(
+        E, i, time_s=t, scan_rate_V_s=V, stop=E.size - 1, electrons=1, temperature_K=298.15,
+        bulk="ox", sigma_A=NOISE,
+    )  # fmt: skip
+    scaled = fit_curve(data, E_half_start_V=E_HALF, area_cm2=0.0707, concentration_M=1e-3)
+    assert scaled.D_source == "current scale"
+    assert scaled.D_cm2_s == pytest.approx(1e-5, rel=0.02)
+    assert abs(scaled.k0_cm_s.value / 5e-3 - 1) < 0.15
+    assumed = fit_curve(data, E_half_start_V=E_HALF)
+    assert assumed.D_source == "assumed"
+    assert "CURVE_FIT_D_ASSUMED" in {f.code for f in assumed.flags}
+
+
+def test_unequal_time_steps_cannot_be_curve_fitted():
+    t, E, i = _record("project", 5e-3, 0.5, resistance_ohm=0.0)
+    t = t.copy()
+    t[100:] += 0.5 * (t[1] - t[0])  # one step half as long again
+    with pytest.raises(FitError, match="not equally spaced"):
+        curve_data(
+            E, i, time_s=t, scan_rate_V_s=V, stop=E.size - 1, electrons=1,
+            temperature_K=298.15, bulk="ox", sigma_A=NOISE,
+        )  # fmt: skip

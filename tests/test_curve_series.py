@@ -152,3 +152,24 @@ def test_outputs_show_the_curve_fits(runs, tmp_path):
     assert sorted(row.split(",")[col] for row in table[1:]).count("curve") == len(SLOW)
     # a series without curve fits writes no such figure
     assert "curve_fits_figure" not in write_outputs(runs["peaks"], tmp_path / "peaks")
+
+
+def test_an_irreversible_file_stays_out_with_the_reason(tmp_path):
+    entries = []
+    for k, (ligand, k0) in enumerate(((0.0, None), (0.01, None), (0.02, None), (0.04, None),
+                                      (0.08, 1e-5))):  # fmt: skip
+        v = simulate_cv(
+            **COMMON, E_half_V=true_E_half(ligand), k0_cm_s=k0, noise_fraction=0.005, seed=k
+        )
+        rows = zip(v.time_s.tolist(), v.potential_V.tolist(), v.current_A.tolist(), strict=True)
+        text = "\n".join(f"{a!r},{b!r},{c!r}" for a, b, c in rows)
+        (tmp_path / f"g{k}.csv").write_text(
+            "time_s,potential_V,current_A\n" + text + "\n", encoding="utf-8"
+        )
+        entries.append({"file": f"g{k}.csv", "ligand_M": ligand, "scan_rate_V_s": V})
+    res = analyse_series(load_manifest(write_manifest(tmp_path / "s.toml", entries)))
+    last = res.files[-1]
+    assert not last.used_in_fit and last.E_half_source == "peaks"
+    assert last.curve_fit.accepted and last.curve_fit.psi < 0.01  # fits, but far too slow
+    why = [f for f in last.flags if f.code == "CURVE_FIT_IRREVERSIBLE"]
+    assert why and "irreversible" in why[0].message

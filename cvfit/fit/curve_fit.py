@@ -1,11 +1,13 @@
 """Per-file curve fit: E½, k0 and α of a quasi-reversible voltammogram from the whole curve.
 
 Weighted non-linear least squares (:func:`scipy.optimize.least_squares`, trust-region
-reflective) over the non-linear parameters E½, log10 k0, α and optionally R_u and the
-D_R/D_O ratio; for each trial the current scale, C_dl and the linear background are
-solved in closed form (:class:`cvfit.fit.curve_model.CurveModel`, variable projection), so
-a fit costs tens of simulations. The search starts from the best of a few k0 values
-(Λ = k0/√(D·nFv/RT) from 0.01 to 100) at the peak midpoint E½.
+reflective) over the non-linear parameters E½, log10 k0, α and optionally R_u (the
+D_R/D_O ratio is given, 1 by default: with the scale free it trades off against k0 and
+the search can settle in a second valley, so it is not fitted); for each trial the
+current scale, C_dl and the linear background are solved in closed form
+(:class:`cvfit.fit.curve_model.CurveModel`, variable projection), so a fit costs tens of
+simulations. The search starts from the best of a few k0 values
+(Λ = k0/√(D·nFv/RT) from 0.03 to 30) at the peak midpoint E½.
 
 Intervals: the Jacobian of the projected residual gives the marginal covariance of the
 non-linear parameters (Golub and Pereyra), scaled by the reduced χ² when that exceeds 1.
@@ -78,6 +80,8 @@ class CurveFit:
         95 % lower bound of k0 when the data only say "k0 above this", cm/s.
     alpha : Quantity
         Transfer coefficient of the reduction.
+    psi : float
+        Nicholson's ψ = k0/√(π·D·nFv/RT) at the optimum (independent of the D assumed).
     reduced_chi2 : Quantity
         Σ(residual/σ)²/(N − p); stderr √(2/dof), ci95 the range a correct model gives.
     runs_z : float
@@ -85,8 +89,8 @@ class CurveFit:
         a systematic misfit).
     resistance_ohm : Quantity or None
         R_u when fitted (None when given or not modelled).
-    D_ratio : Quantity or None
-        D_R/D_O when fitted.
+    D_ratio : float
+        D_R/D_O the model used (given, not fitted).
     D_cm2_s : float
         D of the bulk form k0 refers to, cm²/s; ``D_source`` says where it came from.
     scale_A, double_layer_F, background_offset_A, background_slope_A_per_V : float
@@ -109,10 +113,11 @@ class CurveFit:
     k0_cm_s: Quantity
     k0_lower_bound_cm_s: float | None
     alpha: Quantity
+    psi: float
     reduced_chi2: Quantity
     runs_z: float
     resistance_ohm: Quantity | None
-    D_ratio: Quantity | None
+    D_ratio: float
     D_cm2_s: float
     D_source: str
     scale_A: float
@@ -135,12 +140,13 @@ class CurveFit:
             "E_half_V": self.E_half_V.to_dict(),
             "k0_cm_s": k0,
             "alpha": self.alpha.to_dict(),
+            "psi": clean_number(self.psi),
             "reduced_chi2": self.reduced_chi2.to_dict(),
             "runs_z": clean_number(self.runs_z),
             "resistance_ohm": None
             if self.resistance_ohm is None
             else self.resistance_ohm.to_dict(),
-            "D_ratio": None if self.D_ratio is None else self.D_ratio.to_dict(),
+            "D_ratio": clean_number(self.D_ratio),
             "D_cm2_s": clean_number(self.D_cm2_s),
             "D_source": self.D_source,
             "double_layer_F": clean_number(self.double_layer_F),
@@ -164,7 +170,7 @@ def fit_curve(
     area_cm2: float | None = None,
     concentration_M: float | None = None,
     resistance_ohm: float | None = 0.0,
-    fit_D_ratio: bool = False,
+    D_ratio: float = 1.0,
     backend: str = "auto",
 ) -> CurveFit:
     """Fit one voltammogram with the simulator as the model.
@@ -181,8 +187,8 @@ def fit_curve(
         (s = nFAC√D), else 1e-5 cm²/s is assumed and said in a flag.
     resistance_ohm : float or None
         Known R_u, Ω (0: none); None fits it.
-    fit_D_ratio : bool
-        Fit D_R/D_O (else 1).
+    D_ratio : float
+        D_R/D_O (given; 1 unless known).
 
     Returns
     -------
@@ -214,27 +220,19 @@ def fit_curve(
         names.append("resistance_ohm")
         lower.append(0.0)
         upper.append(0.1 / i_max)  # at most 100 mV of ohmic drop at the largest current
-    if fit_D_ratio:
-        names.append("log10_D_ratio")
-        lower.append(-0.5)
-        upper.append(0.5)
+
+    if not (D_ratio > 0 and math.isfinite(D_ratio)):
+        raise FitError(f"D_R/D_O must be positive, got {D_ratio}")
 
     def unpack(x: np.ndarray) -> tuple[float, float, float, float, float]:
-        k = 3
-        R = R_fixed
-        if fit_R:
-            R = float(x[k])
-            k += 1
-        ratio = 10.0 ** float(x[k]) if fit_D_ratio else 1.0
-        return float(x[0]), float(x[1]), float(x[2]), R, ratio
+        R = float(x[3]) if fit_R else R_fixed
+        return float(x[0]), float(x[1]), float(x[2]), R, float(D_ratio)
 
     def residual(x: np.ndarray) -> np.ndarray:
         return model.evaluate(*unpack(x)).residual
 
     # start: the best of a coarse Λ scan at the midpoint E½, α = 0.5
-    x0 = np.array(
-        [E_half_start_V, 0.0, 0.5] + ([0.0] if fit_R else []) + ([0.0] if fit_D_ratio else [])
-    )
+    x0 = np.array([E_half_start_V, 0.0, 0.5] + ([0.0] if fit_R else []))
     best = None
     for lam in (0.03, 0.3, 3.0, 30.0):
         x0[1] = math.log10(lam * sqrt_Ds)
@@ -352,18 +350,7 @@ def fit_curve(
     def q(k: int) -> Quantity:
         return Quantity.from_t(float(x[k]), float(se[k]), math.inf)
 
-    k = 3
-    R_q = None
-    if fit_R:
-        R_q = q(k)
-        k += 1
-    ratio_q = None
-    if fit_D_ratio:
-        r = 10.0 ** float(x[k])
-        ratio_q = Quantity(
-            r, r * math.log(10.0) * float(se[k]),
-            (10.0 ** (x[k] - 1.96 * se[k]), 10.0 ** (x[k] + 1.96 * se[k])), "normal, log",
-        )  # fmt: skip
+    R_q = q(3) if fit_R else None
     chi_lo, chi_hi = (chi2_quantile(p, dof) / dof for p in (0.025, 0.975))
     idx = _thin(FIGURE_POINTS, m)
     return CurveFit(
@@ -371,10 +358,11 @@ def fit_curve(
         k0_cm_s=Quantity(k0, k0_se, k0_ci, "profile χ²" if open_upper else "covariance/profile"),
         k0_lower_bound_cm_s=lower_bound,
         alpha=q(2),
+        psi=10.0**lk / (sqrt_Ds * math.sqrt(math.pi)),
         reduced_chi2=Quantity(chi2, math.sqrt(2.0 / dof), (chi_lo, chi_hi), "χ²/dof"),
         runs_z=z_runs,
         resistance_ohm=R_q,
-        D_ratio=ratio_q,
+        D_ratio=float(D_ratio),
         D_cm2_s=D_used,
         D_source=D_source,
         scale_A=float(coef[0]),

@@ -21,7 +21,13 @@ from cvfit.flags import Flag
 from cvfit.screen.classification import classify_voltammogram
 from cvfit.voltammogram import Voltammogram
 
-__all__ = ["curve_fit_for", "MODEL_PRECISION"]
+__all__ = ["curve_fit_for", "MODEL_PRECISION", "PSI_IRREVERSIBLE"]
+
+#: Fitted ψ below which the curve counts as irreversible and its E½ is not used: a decade
+#: below the end of Nicholson's working curve (ψ = 0.1, Anal. Chem. 37 (1965) 1351). There
+#: E½ rests on the reverse peak alone, hundreds of mV from E½, and on Butler–Volmer
+#: kinetics with one α holding over that range.
+PSI_IRREVERSIBLE = 0.01
 
 #: Floor of the point weight σ as a fraction of the forward peak height: the simulator's
 #: discretisation error (below 0.1 % of the peak against an independent computation,
@@ -99,7 +105,17 @@ def curve_fit_for(
     except FitError as exc:
         return None, [Flag("CURVE_FIT_NOT_POSSIBLE", f"no curve fit: {exc}", "warning")]
     flags = list(fit.flags)
-    if fit.accepted:
+    if fit.accepted and fit.psi < PSI_IRREVERSIBLE:
+        flags.append(
+            Flag(
+                "CURVE_FIT_IRREVERSIBLE",
+                f"curve fit not used: irreversible (fitted ψ = {fit.psi:.2g}, a decade or more "
+                f"below Nicholson's working curve; E½ {fit.E_half_V.value:.4f} V would rest on "
+                "the reverse peak alone)",
+                "info",
+            )
+        )
+    elif fit.accepted:
         e = fit.E_half_V
         flags.append(
             Flag(

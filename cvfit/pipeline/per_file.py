@@ -157,7 +157,7 @@ def analyse_file(
     curve_fit, curve_flags = curve_fit_for(raw, peaks, screen, manifest, resistance)
     flags += curve_flags
     source = "peaks"
-    if curve_fit is not None and curve_fit.accepted:
+    if any(f.code == "CURVE_FIT_USED" for f in curve_flags):
         e_half, correction, source = curve_fit.E_half_V.value, 0.0, "curve"
     return FileResult(
         file=entry.name,
