@@ -173,3 +173,15 @@ def test_an_irreversible_file_stays_out_with_the_reason(tmp_path):
     assert last.curve_fit.accepted and last.curve_fit.psi < 0.01  # fits, but far too slow
     why = [f for f in last.flags if f.code == "CURVE_FIT_IRREVERSIBLE"]
     assert why and "irreversible" in why[0].message
+
+
+def test_an_unknown_half_wave_source_is_a_one_line_input_error(tmp_path):
+    from cvfit.errors import InputError
+
+    path = write_manifest(
+        tmp_path / "s.toml",
+        [{"file": "a.csv", "ligand_M": 0.0}],
+        fit={"half_wave_source": "fit"},
+    )
+    with pytest.raises(InputError, match='half_wave_source must be "peaks", "curve" or "auto"'):
+        load_manifest(path)
