@@ -185,3 +185,49 @@ def test_an_unknown_half_wave_source_is_a_one_line_input_error(tmp_path):
     )
     with pytest.raises(InputError, match='half_wave_source must be "peaks", "curve" or "auto"'):
         load_manifest(path)
+
+
+def test_global_fit_gets_the_constants_straight_from_the_curves(tmp_path):
+    manifest = write_series(tmp_path, source="project", slow=True, fit={"global": True})
+    res = analyse_series(load_manifest(manifest))
+    g = res.global_fit
+    assert g is not None and g.converged
+    assert set(g.files) == {f"f{k}.csv" for k in range(len(LIGAND_M))}
+    for q, truth in (
+        (g.delta_ligands, TRUE_DELTA_LIGANDS),
+        (g.log10_beta_ratio, TRUE_LOG10_RATIO),
+    ):
+        lo, hi = q.ci95
+        assert lo < truth < hi
+        assert q.method == "profile χ²"
+        # the profile interval is about ±1.96 σ here (a near-quadratic χ²)
+        assert 0.7 < (hi - lo) / (2 * 1.96 * q.stderr) < 1.4
+    # the raw curves fix the constants at least as well as the two-step fit
+    assert g.log10_beta_ratio.stderr < res.fit.log10_beta_ratio.stderr
+    assert 0.8 < g.reduced_chi2 < 1.3
+    data = res.to_dict()
+    schema = json.loads(SCHEMA.read_text(encoding="utf-8"))
+    jsonschema.Draft202012Validator(schema).validate(json.loads(json.dumps(data)))
+    assert data["global_fit"]["log10_beta_ratio"]["value"] == pytest.approx(
+        g.log10_beta_ratio.value
+    )
+    from cvfit.report.html import render_html
+
+    html = render_html(data)
+    assert "<h2>Global curve fit</h2>" in html and "two-step" in html
+    assert f"{g.log10_beta_ratio.value:.4f}"[:5] in html
+
+
+def test_global_fit_with_the_stepwise_model_says_why_not(tmp_path):
+    from cvfit.pipeline.global_stage import run_global
+    from cvfit.pipeline.results import ReferenceHalfWave
+
+    manifest = write_series(tmp_path, source="project", slow=False, fit={"global": True})
+    m = load_manifest(manifest)
+    stepwise = type("M", (), {"fit": type("F", (), {"global_fit": True, "model": "stepwise"})})
+    fit, flags = run_global([], stepwise, None, ReferenceHalfWave(0.0, None, "file"))
+    assert fit is None and flags[0].code == "GLOBAL_FIT_NOT_POSSIBLE"
+    assert "Lingane model only" in flags[0].message
+    assert run_global([], m, None, ReferenceHalfWave(None, None, "file"))[1][0].code == (
+        "GLOBAL_FIT_NOT_POSSIBLE"
+    )

@@ -40,7 +40,7 @@ SERIES_KEYS = (
     *_electrode.SERIES_ELECTRODE_KEYS,
 )
 FIT_KEYS = (
-    "model", "max_complexes", "exclude_non_nernstian", "half_wave_source",
+    "model", "max_complexes", "exclude_non_nernstian", "half_wave_source", "global",
     *_chem.FIT_STEPWISE_KEYS,
 )  # fmt: skip
 #: Where E½ of each file comes from (``[fit] half_wave_source``).
@@ -200,6 +200,9 @@ class FitSettings:
     half_wave_source : {"peaks", "curve", "auto"}
         E½ from the peaks, from the fit of the whole curve, or (default) the peaks for
         files that pass the reversibility screen and the curve fit for the others.
+    global_fit : bool
+        ``global`` in the manifest: also fit all curves at once with E½ tied by the
+        Lingane line (default false).
     """
 
     model: Literal["lingane", "stepwise"] = "lingane"
@@ -209,6 +212,7 @@ class FitSettings:
     fixed_log10_beta_red: tuple[float, ...] | None = None
     current_ratio_correction: bool = True
     half_wave_source: Literal["peaks", "curve", "auto"] = "auto"
+    global_fit: bool = False
 
     def __post_init__(self) -> None:
         _chem.clean_fit(self)
@@ -217,6 +221,10 @@ class FitSettings:
                 'half_wave_source must be "peaks", "curve" or "auto", got '
                 f"{self.half_wave_source!r}",
                 key="half_wave_source",
+            )
+        if not isinstance(self.global_fit, bool):
+            raise InputError(
+                f"global must be true or false, got {self.global_fit!r}", key="global"
             )
         if self.model not in ("lingane", "stepwise"):
             raise InputError(
@@ -413,6 +421,11 @@ class _Loader:
             )
 
 
+def _renamed(table: dict, names: dict[str, str]) -> dict:
+    """*table* with keys that are Python keywords renamed to their field names."""
+    return {names.get(k, k): v for k, v in table.items()}
+
+
 def _whole_import(table: dict) -> dict:
     keys = ("potential_column", "current_column", "time_column", "cycle")
     return {k: _whole(v) if k in keys else v for k, v in table.items()}
@@ -492,7 +505,7 @@ def load_manifest(path: str | os.PathLike[str]) -> Manifest:
     import_options = ld.build(ImportOptions, imp, "import")
     fit = ld.table(data, "fit")
     ld.check_keys(fit, FIT_KEYS, "fit", None)
-    fit_settings = ld.build(FitSettings, fit, "fit")
+    fit_settings = ld.build(FitSettings, _renamed(fit, {"global": "global_fit"}), "fit")
     rev = ld.table(data, "reversibility")
     ld.check_keys(rev, REVERSIBILITY_KEYS, "reversibility", None)
     for key, value in rev.items():

@@ -16,12 +16,12 @@ from __future__ import annotations
 
 from cvfit.errors import FitError
 from cvfit.fit.curve_fit import CurveFit, fit_curve
-from cvfit.fit.curve_model import curve_data
+from cvfit.fit.curve_model import CurveData, curve_data
 from cvfit.flags import Flag
 from cvfit.screen.classification import classify_voltammogram
 from cvfit.voltammogram import Voltammogram
 
-__all__ = ["curve_fit_for", "MODEL_PRECISION", "PSI_IRREVERSIBLE"]
+__all__ = ["curve_fit_for", "record_curve_data", "MODEL_PRECISION", "PSI_IRREVERSIBLE"]
 
 #: Fitted ψ below which the curve counts as irreversible and its E½ is not used: a decade
 #: below the end of Nicholson's working curve (ψ = 0.1, Anal. Chem. 37 (1965) 1351). There
@@ -40,6 +40,33 @@ def wants_curve_fit(source: str, reversible: bool | None) -> bool:
     if source == "curve":
         return True
     return source == "auto" and reversible is not True
+
+
+def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveData:
+    """The samples of *v* a curve fit describes: from the start to the analysed cycle's end.
+
+    Raises
+    ------
+    FitError
+        No reverse sweep, unequal time steps, no scan rate.
+    """
+    cycle = v.cycle(peaks.cycle_number)  # type: ignore[attr-defined]
+    if cycle.reverse is None:
+        raise FitError("the analysed cycle has no reverse sweep")
+    height = abs(peaks.forward_height_A or 0.0)  # type: ignore[attr-defined]
+    sigma = max(peaks.noise_A, MODEL_PRECISION * height)  # type: ignore[attr-defined]
+    return curve_data(
+        v.potential_V,
+        v.current_A,
+        time_s=v.time_s,
+        scan_rate_V_s=v.scan_rate_V_s,
+        start=cycle.forward.start,
+        stop=cycle.reverse.stop,
+        electrons=series.electrons,  # type: ignore[attr-defined]
+        temperature_K=series.temperature_K,  # type: ignore[attr-defined]
+        bulk="ox" if peaks.first_sweep == "reduction" else "red",  # type: ignore[attr-defined]
+        sigma_A=sigma,
+    )
 
 
 def curve_fit_for(
@@ -77,23 +104,7 @@ def curve_fit_for(
             Flag("CURVE_FIT_IRREVERSIBLE", f"no curve fit: irreversible ({why})", "info")
         ]
     try:
-        cycle = v.cycle(peaks.cycle_number)  # type: ignore[attr-defined]
-        if cycle.reverse is None:
-            raise FitError("the analysed cycle has no reverse sweep")
-        height = abs(peaks.forward_height_A or 0.0)  # type: ignore[attr-defined]
-        sigma = max(peaks.noise_A, MODEL_PRECISION * height)  # type: ignore[attr-defined]
-        data = curve_data(
-            v.potential_V,
-            v.current_A,
-            time_s=v.time_s,
-            scan_rate_V_s=v.scan_rate_V_s,
-            start=cycle.forward.start,
-            stop=cycle.reverse.stop,
-            electrons=n,
-            temperature_K=T,
-            bulk="ox" if peaks.first_sweep == "reduction" else "red",  # type: ignore[attr-defined]
-            sigma_A=sigma,
-        )
+        data = record_curve_data(v, peaks, series)
         fit = fit_curve(
             data,
             E_half_start_V=float(peaks.E_half_V),  # type: ignore[attr-defined]

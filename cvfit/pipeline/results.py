@@ -18,6 +18,7 @@ from cvfit.reversibility_criteria import ReversibilityCriteria
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
     from cvfit.fit.curve_fit import CurveFit
+    from cvfit.fit.curve_global import GlobalCurveFit
     from cvfit.io.manifest import SeriesSettings
     from cvfit.peaks.analysis import PeakAnalysis
     from cvfit.screen.classification import Classification
@@ -264,6 +265,8 @@ class SeriesResult:
         Number of usable titration points offered to the fit.
     scan_rate_studies : tuple of ScanRateStudy
         One per ligand concentration measured at three or more scan rates.
+    global_fit : GlobalCurveFit or None
+        All curves fitted at once (``[fit] global = true``), beside the two-step fit.
     """
 
     cvfit_version: str
@@ -278,6 +281,7 @@ class SeriesResult:
     flags: tuple[Flag, ...] = ()
     fit_n_points: int = 0
     scan_rate_studies: tuple[ScanRateStudy, ...] = ()
+    global_fit: GlobalCurveFit | None = None
 
     def to_dict(self) -> dict[str, Any]:
         if self.fit is not None:
@@ -296,5 +300,6 @@ class SeriesResult:
             "voltammograms": [f.to_dict() for f in self.files],
             "fit": fit,
             "scan_rate_studies": [st.to_dict() for st in self.scan_rate_studies],
+            "global_fit": None if self.global_fit is None else self.global_fit.to_dict(),
             "flags": [f.to_dict() for f in self.flags],
         }

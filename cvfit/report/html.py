@@ -24,6 +24,7 @@ from cvfit.pipeline.results import SeriesResult
 
 from .atomic import atomic_write_text
 from .formatting import format_pm, format_value
+from .global_fit_html import global_fit_section
 from .methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
 
 __all__ = ["render_html", "write_html_report", "FIGURE_CAPTIONS"]
@@ -394,6 +395,7 @@ def render_html(data: Mapping[str, Any], figures: Sequence[str | Path] = ()) -> 
         f"{verdict}"
         f"<section><h2>Conditions</h2>{_conditions(data)}</section>"
         f"<section><h2>Constants</h2>{_constants(fit)}</section>"
+        f"{global_fit_section(data)}"
         f"<section><h2>Series findings</h2>{flags_html}</section>"
         f"<section><h2>Voltammograms</h2>{_file_table(data.get('voltammograms') or [])}"
         "</section>"
