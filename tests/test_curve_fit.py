@@ -89,6 +89,18 @@ def test_known_resistance_is_used_not_fitted():
     assert wrong.k0_cm_s.value < 0.85 * 5e-3
 
 
+@pytest.mark.parametrize("source", ["project", "independent"])
+def test_a_larger_ohmic_drop_is_fitted_without_bias_from_the_noise(source):
+    # 300 Ω: 2.5 mV of drop at the peak. The drop is taken from the model's own current:
+    # taken from the noisy measured current, it drove R_u to 0 (k0 −18 %)
+    t, E, i = _record(source, 5e-3, 0.5, resistance_ohm=300.0, seed=4)
+    fit = _fit(t, E, i, resistance_ohm=None)
+    R = fit.resistance_ohm
+    assert abs(R.value - 300.0) < 3 * R.stderr and R.stderr < 50
+    assert abs(fit.k0_cm_s.value / 5e-3 - 1) < 0.1
+    assert abs(fit.E_half_V.value - E_HALF) < 1e-3
+
+
 def test_reversible_curve_gives_a_lower_bound_on_k0():
     # 24 substeps: with 8, the independent computation's own first-order error looks like a
     # finite k0 (ψ ≈ 18) to a fit this sensitive

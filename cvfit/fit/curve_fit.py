@@ -61,6 +61,8 @@ REFUSE_RUNS_Z = -5.0
 LAMBDA_RANGE = (1e-3, 1e3)
 #: α searched (common practice: outer values are not physical for one-step transfer).
 ALPHA_RANGE = (0.1, 0.9)
+#: Refits with the ohmic drop taken from the model's own current (R_u given or fitted).
+DROP_ROUNDS = 2
 #: Points of the fitted curve kept for figures.
 FIGURE_POINTS = 600
 
@@ -260,10 +262,13 @@ def fit_curve(
         return sol, x
 
     sol, x = solve(x0)
-    if fit_R:  # the background carries no current through R_u: refit without it
-        lin = model.evaluate(*unpack(x))
-        model.set_drop_background(lin.background_A)
-        sol, x = solve(x)
+    if fit_R or R_fixed > 0.0:
+        # the drop from the model's own current (noise-free, no background), then refit;
+        # twice, so that drop and model agree (see CurveModel.settle_drop)
+        for _ in range(DROP_ROUNDS):
+            p = unpack(x)
+            model.settle_drop(p[0], p[1], p[2], p[3])
+            sol, x = solve(x)
     lin = model.evaluate(*unpack(x))
     m = data.fit_mask
     n_points = int(m.sum())
