@@ -39,6 +39,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.optimize import least_squares
 
+from cvfit.chemistry.randles_sevcik import RANDLES_SEVCIK_CONSTANT
 from cvfit.errors import FitError
 from cvfit.flags import Flag
 from cvfit.quantity import Quantity, chi2_quantile, clean_number
@@ -99,6 +100,10 @@ class CurveFit:
         The closed-form coefficients at the optimum.
     sigma_A : float
         Standard deviation of a current sample the residuals are weighted with, A.
+    reversible_peak_A : float
+        The Randles–Ševčík peak current of the fitted scale, 0.4463·s·√(D·nFv/RT), A: the
+        diffusion-limited peak the couple would give if fast (the measured peak of a slow
+        couple is lower), for current ratios between files.
     accepted : bool
         False when the fit was refused (see ``flags``).
     flags : tuple of Flag
@@ -127,6 +132,7 @@ class CurveFit:
     background_offset_A: float
     background_slope_A_per_V: float
     sigma_A: float
+    reversible_peak_A: float
     accepted: bool
     flags: tuple[Flag, ...]
     simulations: int
@@ -152,6 +158,7 @@ class CurveFit:
             "D_cm2_s": clean_number(self.D_cm2_s),
             "D_source": self.D_source,
             "double_layer_F": clean_number(self.double_layer_F),
+            "reversible_peak_A": clean_number(self.reversible_peak_A),
             "accepted": self.accepted,
             "simulations": self.simulations,
         }
@@ -375,6 +382,7 @@ def fit_curve(
         background_offset_A=float(coef[2]),
         background_slope_A_per_V=float(coef[3]),
         sigma_A=data.sigma_A,
+        reversible_peak_A=RANDLES_SEVCIK_CONSTANT * abs(float(coef[0])) * sqrt_Ds,
         accepted=accepted,
         flags=tuple(flags),
         simulations=model.simulations,
