@@ -215,8 +215,8 @@ class CurveModel:
         The measured current carries noise that does not flow through R_u, and a
         background that is an artefact of the record: a drop computed from it puts the
         noise into the model's potential, correlated with the noise of the data (the fit
-        then prefers R_u = 0). The model current is free of both; after a refit, one more
-        settling makes the drop and the model agree (a fixed point).
+        then prefers R_u = 0). The model current is free of both; settled at a first
+        optimum and refitted, drop and model agree (a fixed point).
         """
         lin = self.evaluate(E_half_V, log10_k0, alpha, resistance_ohm)
         self.set_drop_current(lin.faradaic_A + lin.charging_A)
