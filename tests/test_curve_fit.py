@@ -164,6 +164,24 @@ def test_D_from_the_current_scale_and_the_assumed_D_flag():
     assert "CURVE_FIT_D_ASSUMED" in {f.code for f in assumed.flags}
 
 
+def test_a_record_the_model_cannot_take_is_a_fit_error_not_a_crash():
+    t, E, i = _record("project", 5e-3, 0.5, resistance_ohm=0.0)
+    i = i.copy()
+    i[500] = np.inf
+    with pytest.raises(FitError, match="not a finite number"):
+        curve_data(
+            E, i, time_s=t, scan_rate_V_s=V, stop=E.size - 1, electrons=1,
+            temperature_K=298.15, bulk="ox", sigma_A=NOISE,
+        )  # fmt: skip
+    # an absurd R_u overflows the simulation: refused with the reason, no traceback
+    data = curve_data(
+        E, np.where(np.isfinite(i), i, 0.0), time_s=t, scan_rate_V_s=V,
+        stop=E.size - 1, electrons=1, temperature_K=298.15, bulk="ox", sigma_A=NOISE,
+    )  # fmt: skip
+    fit = fit_curve(data, E_half_start_V=E_HALF, D_cm2_s=1e-5, resistance_ohm=1e9)
+    assert not fit.accepted
+
+
 def test_unequal_time_steps_cannot_be_curve_fitted():
     t, E, i = _record("project", 5e-3, 0.5, resistance_ohm=0.0)
     t = t.copy()

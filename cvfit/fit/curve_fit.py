@@ -247,6 +247,7 @@ def fit_curve(
     for lam in (0.03, 0.3, 3.0, 30.0):
         x0[1] = math.log10(lam * sqrt_Ds)
         cost = float(np.sum(residual(x0) ** 2))
+        cost = cost if math.isfinite(cost) else math.inf
         if best is None or cost < best[0]:
             best = (cost, x0[1])
     x0[1] = best[1]
@@ -264,7 +265,10 @@ def fit_curve(
             return residual(x)
 
         z0 = np.clip(x_start[mask], lo + 1e-12 * (hi - lo), hi - 1e-12 * (hi - lo))
-        sol = least_squares(fun, z0, bounds=(lo, hi), x_scale="jac", method="trf")
+        try:
+            sol = least_squares(fun, z0, bounds=(lo, hi), x_scale="jac", method="trf")
+        except ValueError as exc:  # residuals not finite: the record defeats the model
+            raise FitError(f"the model could not be evaluated on this record ({exc})") from None
         x = x_start.copy()
         x[mask] = sol.x
         return sol, x

@@ -98,6 +98,8 @@ class CurveData:
             raise FitError(f"curve data: sampling interval must be positive, got {self.dt_s}")
         if not (self.sigma_A > 0 and math.isfinite(self.sigma_A)):
             raise FitError(f"curve data: sigma_A must be positive, got {self.sigma_A}")
+        if not (np.all(np.isfinite(self.potential_V)) and np.all(np.isfinite(self.current_A))):
+            raise FitError("curve data: a potential or current is not a finite number")
         if self.bulk not in ("ox", "red"):
             raise FitError(f"curve data: bulk must be 'ox' or 'red', got {self.bulk!r}")
 
