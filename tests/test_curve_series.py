@@ -215,6 +215,11 @@ def test_global_fit_gets_the_constants_straight_from_the_curves(tmp_path):
 
     html = render_html(data)
     assert "<h2>Global curve fit</h2>" in html and "two-step" in html
+    from cvfit.report.summary import format_summary
+
+    text = format_summary(res)
+    assert f"Global curve fit of {len(LIGAND_M)} curves" in text
+    assert text.count("— used") == len(SLOW)
     assert f"{g.log10_beta_ratio.value:.4f}"[:5] in html
 
 

@@ -39,7 +39,7 @@ def format_summary(result: SeriesResult) -> str:
         + f"  (from {ref.source}{': ' + ', '.join(ref.files) if ref.files else ''})"
     )
     lines.append("")
-    e_halves = [format_pm(f.E_half_V, f.peaks.E_half_stderr_V, scale=1e3) for f in result.files]
+    e_halves = [format_pm(f.E_half_V, f.E_half_stderr_V, scale=1e3) for f in result.files]
     w = max([16, *map(len, e_halves)])  # "150.1 (uncertainty unknown)" is wider than 16
     header = (
         f"{'file':<22} {'[L]/M':>9} {'E½/mV':>{w}} {'ΔEp/mV':>7} {'Nernst':>7} "
@@ -62,6 +62,9 @@ def format_summary(result: SeriesResult) -> str:
     from .summary_kinetics import kinetics_lines
 
     lines.extend(kinetics_lines(result))
+    from .summary_curve import curve_lines, global_lines
+
+    lines.extend(curve_lines(result))
     fit = result.fit
     if isinstance(fit, StepwiseFit):
         from .summary_stepwise import stepwise_lines
@@ -84,6 +87,7 @@ def format_summary(result: SeriesResult) -> str:
         lines.append("  (β_ox/β_red in (mol/L)^-(p−q); [L] in mol/L)")
     else:
         lines.append("No constants: see the series flags below.")
+    lines.extend(global_lines(result))
     lines.append("")
     lines.append("Nernstian throughout: " + ("yes" if result.nernstian else "NO — see flags"))
     flagged = [(f.file, fl) for f in result.files for fl in f.flags if fl.severity != "info"]
