@@ -136,6 +136,23 @@ _CATALOGUE = (
              "curve with ψ ∝ v^−½: slow electron transfer."),
     FlagCode("EXCESS_CAUSE_UNDECIDED", _W, "The excess ΔEp fits an iR drop and slow kinetics "
              "alike; widen the scan-rate range."),
+    # --- curve fit ------------------------------------------------------------------------
+    FlagCode("CURVE_FIT_USED", _I, "E½ of this quasi-reversible voltammogram comes from the "
+             "fit of the whole curve; the file rejoins the titration fit with that E½."),
+    FlagCode("CURVE_FIT_REFUSED", _W, "The curve fit does not describe the curve (reduced χ² "
+             "or structured residuals, or no convergence); its numbers are not used."),
+    FlagCode("CURVE_FIT_NOT_POSSIBLE", _W, "The curve could not be fitted (for example, "
+             "unequal time steps or no scan rate); the reason is given."),
+    FlagCode("CURVE_FIT_K0_LOWER_BOUND", _I, "k0 from the curve fit is near the reversible "
+             "limit: the χ² profile gives only a lower bound."),
+    FlagCode("GLOBAL_FIT_NOT_POSSIBLE", _W, "global = true, but the global curve fit could "
+             "not be made (stepwise model, no two-step fit, a file that cannot be fitted); "
+             "the reason is given."),
+    FlagCode("CURVE_FIT_D_ASSUMED", _I, "The curve fit's k0 assumes D = 1e-5 cm²/s (no D, "
+             "electrode area or analyte concentration given); k0 scales with √D."),
+    FlagCode("CURVE_FIT_IRREVERSIBLE", _I, "The voltammogram is irreversible (no usable "
+             "reverse peak, classified irreversible, or fitted ψ below 0.01): its E½ is not "
+             "taken from the curve fit and it stays out."),
     # --- series and reference ------------------------------------------------------------
     FlagCode("EXCLUDED_NON_NERNSTIAN", _I, "The voltammogram failed the reversibility screen "
              "and was left out of the fit (exclude_non_nernstian = true)."),

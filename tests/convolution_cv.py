@@ -25,17 +25,28 @@ from __future__ import annotations
 import math
 
 import numpy as np
+from scipy.optimize import brentq
 
 
 def convolution_cv(
-    *, start: float, switch: float, h: float = 0.005, psi: float | None = None, alpha: float = 0.5
+    *,
+    start: float,
+    switch: float,
+    h: float = 0.005,
+    psi: float | None = None,
+    alpha: float = 0.5,
+    rho: float = 0.0,
 ) -> tuple[np.ndarray, np.ndarray, int]:
     """Dimensionless CV of a reduction-first sweep start → switch → start.
 
     ``start`` and ``switch`` are nF(E − E½)/RT (start > 0 > switch); ``h`` is the step in
     that variable (one dimensionless time unit per unit); ``psi`` None for a Nernstian couple.
-    Returns (ξ, π^½χ, index of the switch): ξ = nF(E − E½)/RT and π^½χ = i/(nFAC*√(Dσ)),
-    the current function (positive for reduction; 0.4463 at a reversible peak).
+    ``rho`` is an uncompensated resistance in dimensionless form, R·nFAC*√(Dσ)·nF/RT: the
+    electrode sees ξ + ρ·π^½χ (a reduction current moves it positive), solved at every
+    step by bracketing (the step equation is then not linear in the new χ).
+    Returns (ξ, π^½χ, index of the switch): ξ = nF(E − E½)/RT of the applied potential and
+    π^½χ = i/(nFAC*√(Dσ)), the current function (positive for reduction; 0.4463 at a
+    reversible peak).
     """
     n_leg = int(round((start - switch) / h))
     xi = np.concatenate([start - h * np.arange(n_leg + 1), switch + h * np.arange(1, n_leg + 1)])
@@ -49,14 +60,26 @@ def convolution_cv(
     for n in range(1, count):
         # memory term: the steps before n, weights w[n − j] for j = 1 .. n − 1
         b = float(np.dot(chi[1:n], w[n - 1 : 0 : -1])) if n > 1 else 0.0
-        if lam is None:
-            m = 1.0 / (1.0 + math.exp(xi[n]))
-            chi[n] = (m - b) / a
-        else:
-            kf = lam * math.exp(-alpha * xi[n])
-            kb = lam * math.exp((1.0 - alpha) * xi[n])
-            chi[n] = (kf * (1.0 - b) - kb * b) / (1.0 + a * (kf + kb))
+        chi[n] = _step(xi[n], a, b, lam, alpha)
+        if rho > 0.0:
+            c0 = chi[n]
+
+            def g(c: float, n: int = n, b: float = b) -> float:
+                return c - _step(xi[n] + rho * c, a, b, lam, alpha)
+
+            if c0 != 0.0 and g(0.0) * g(c0) < 0.0:
+                chi[n] = brentq(g, min(0.0, c0), max(0.0, c0), xtol=1e-15, rtol=1e-13)
     return xi, chi, n_leg
+
+
+def _step(x: float, a: float, b: float, lam: float | None, alpha: float) -> float:
+    """New χ̃ of one step at electrode potential ξ = *x* (memory term *b*)."""
+    if lam is None:
+        m = 1.0 / (1.0 + math.exp(min(x, 700.0)))
+        return (m - b) / a
+    kf = lam * math.exp(min(-alpha * x, 700.0))
+    kb = lam * math.exp(min((1.0 - alpha) * x, 700.0))
+    return (kf * (1.0 - b) - kb * b) / (1.0 + a * (kf + kb))
 
 
 def _vertex(xi: np.ndarray, y: np.ndarray) -> float:

@@ -239,3 +239,21 @@ def test_series_without_ligand_free_file_states_E_half_free_on_the_standard_scal
     m = load_manifest(series.manifest)
     assert m.series.E_half_free_V == pytest.approx(-0.30)
     assert series.drift_V[0] == 0.0 and len(series.records) == 3
+
+
+def test_curve_fits_are_refused_with_a_standard_in_the_file(drifting_series):
+    """The curve model holds one couple: with the standard's wave in every file neither the
+    per-file nor the global curve fit is made, each says why, and E½ stays the peaks'."""
+    series, _, _ = drifting_series
+    text = series.manifest.read_text(encoding="utf-8")
+    assert "[fit]" not in text
+    asked = series.manifest.with_name("curve_asked.toml")
+    asked.write_text(text + '\n[fit]\nhalf_wave_source = "curve"\nglobal = true\n', "utf-8")
+    result = analyse_series(load_manifest(asked))
+    for f in result.files:
+        assert f.E_half_source == "peaks" and f.curve_fit is None
+        why = [fl.message for fl in f.flags if fl.code == "CURVE_FIT_NOT_POSSIBLE"]
+        assert why and "internal standard" in why[0], f.flags
+    assert result.global_fit is None
+    why = [fl.message for fl in result.flags if fl.code == "GLOBAL_FIT_NOT_POSSIBLE"]
+    assert why and "internal standard" in why[0], result.flags

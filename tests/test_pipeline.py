@@ -165,7 +165,9 @@ def test_two_electron_series(tmp_path):
 
 
 def test_slow_high_ligand_file_is_flagged_and_left_out(tmp_path):
-    manifest = write_series(tmp_path, seed=70, slow_at=(0.3,))
+    # peaks only: the behaviour without the curve fit (the default "auto" recovers the file,
+    # tests/test_curve_series.py)
+    manifest = write_series(tmp_path, seed=70, slow_at=(0.3,), fit={"half_wave_source": "peaks"})
     result = analyse_series(load_manifest(manifest))
     last = result.files[-1]
     assert last.reversible is False and not last.used_in_fit
@@ -180,7 +182,10 @@ def test_slow_high_ligand_file_is_flagged_and_left_out(tmp_path):
 
 def test_including_flagged_data_says_so(tmp_path):
     manifest = write_series(
-        tmp_path, seed=70, slow_at=(0.3,), fit={"exclude_non_nernstian": False}
+        tmp_path,
+        seed=70,
+        slow_at=(0.3,),
+        fit={"exclude_non_nernstian": False, "half_wave_source": "peaks"},
     )
     result = analyse_series(load_manifest(manifest))
     assert result.files[-1].used_in_fit
@@ -188,7 +193,9 @@ def test_including_flagged_data_says_so(tmp_path):
 
 
 def test_too_few_usable_points_gives_null_constants_and_exit_0(tmp_path, capsys):
-    manifest = write_series(tmp_path, seed=90, slow_at=(0.02, 0.04, 0.08, 0.15))
+    manifest = write_series(
+        tmp_path, seed=90, slow_at=(0.02, 0.04, 0.08, 0.15), fit={"half_wave_source": "peaks"}
+    )
     out = tmp_path / "out"
     assert main(["run", str(manifest), "--out", str(out), "--quiet"]) == 0
     data = json.loads((out / "results.json").read_text(encoding="utf-8"))

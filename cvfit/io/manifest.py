@@ -42,7 +42,12 @@ SERIES_KEYS = (
     *_chem.SERIES_CHEMISTRY_KEYS,
     *_electrode.SERIES_ELECTRODE_KEYS,
 )
-FIT_KEYS = ("model", "max_complexes", "exclude_non_nernstian", *_chem.FIT_STEPWISE_KEYS)
+FIT_KEYS = (
+    "model", "max_complexes", "exclude_non_nernstian", "half_wave_source", "global",
+    *_chem.FIT_STEPWISE_KEYS,
+)  # fmt: skip
+#: Where E½ of each file comes from (``[fit] half_wave_source``).
+HALF_WAVE_SOURCES = ("peaks", "curve", "auto")
 REVERSIBILITY_KEYS = ("n_delta_Ep_margin_V", "n_peak_width_margin_V", "current_ratio_margin")
 ENTRY_KEYS = (
     "file",
@@ -204,6 +209,12 @@ class FitSettings:
         Stepwise model: known constants of one oxidation state; the other's are fitted.
     current_ratio_correction : bool
         Stepwise model: add DeFord–Hume's ln(Is/Ic) from the peak currents (default true).
+    half_wave_source : {"peaks", "curve", "auto"}
+        E½ from the peaks, from the fit of the whole curve, or (default) the peaks for
+        files that pass the reversibility screen and the curve fit for the others.
+    global_fit : bool
+        ``global`` in the manifest: also fit all curves at once with E½ tied by the
+        Lingane line (default false).
     """
 
     model: Literal["lingane", "stepwise"] = "lingane"
@@ -212,9 +223,21 @@ class FitSettings:
     fixed_log10_beta_ox: tuple[float, ...] | None = None
     fixed_log10_beta_red: tuple[float, ...] | None = None
     current_ratio_correction: bool = True
+    half_wave_source: Literal["peaks", "curve", "auto"] = "auto"
+    global_fit: bool = False
 
     def __post_init__(self) -> None:
         _chem.clean_fit(self)
+        if self.half_wave_source not in HALF_WAVE_SOURCES:
+            raise InputError(
+                'half_wave_source must be "peaks", "curve" or "auto", got '
+                f"{self.half_wave_source!r}",
+                key="half_wave_source",
+            )
+        if not isinstance(self.global_fit, bool):
+            raise InputError(
+                f"global must be true or false, got {self.global_fit!r}", key="global"
+            )
         if self.model not in ("lingane", "stepwise"):
             raise InputError(
                 f"model must be 'lingane' or 'stepwise', got {self.model!r}", key="model"
@@ -411,6 +434,11 @@ class _Loader:
             )
 
 
+def _renamed(table: dict, names: dict[str, str]) -> dict:
+    """*table* with keys that are Python keywords renamed to their field names."""
+    return {names.get(k, k): v for k, v in table.items()}
+
+
 def _whole_import(table: dict) -> dict:
     keys = ("potential_column", "current_column", "time_column", "cycle")
     return {k: _whole(v) if k in keys else v for k, v in table.items()}
@@ -504,7 +532,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     import_options = ld.build(ImportOptions, imp, "import")
     fit = ld.table(data, "fit")
     ld.check_keys(fit, FIT_KEYS, "fit", None)
-    fit_settings = ld.build(FitSettings, fit, "fit")
+    fit_settings = ld.build(FitSettings, _renamed(fit, {"global": "global_fit"}), "fit")
     rev = ld.table(data, "reversibility")
     ld.check_keys(rev, REVERSIBILITY_KEYS, "reversibility", None)
     for key, value in rev.items():

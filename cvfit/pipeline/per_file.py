@@ -23,6 +23,7 @@ from cvfit.screen.reversibility import screen_reversibility
 from cvfit.screen.switching import corrected_half_wave_V
 from cvfit.voltammogram import Voltammogram
 
+from .curve_stage import curve_fit_for
 from .curves import cycle_curve, points_per_curve
 from .internal_standard import measure_standard, referenced_half_wave
 from .parallel import new_process_pool, one_blas_thread
@@ -145,6 +146,7 @@ def analyse_file(
     if v is None:
         v = read_voltammogram(entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s)
     resistance = resistance_for(entry, series)
+    raw = v
     v = correct_for_resistance(v, resistance)  # a new record; the input is not changed
     window = series.analyte_window_V
     peaks = analyse_peaks(
@@ -170,6 +172,11 @@ def analyse_file(
         )
     else:
         e_half, correction = peaks.E_half_V, 0.0
+    curve_fit, curve_flags = curve_fit_for(raw, peaks, screen, manifest, resistance)
+    flags += curve_flags
+    source = "peaks"
+    if any(f.code == "CURVE_FIT_USED" for f in curve_flags):
+        e_half, correction, source = curve_fit.E_half_V.value, 0.0, "curve"
     standard = None
     if manifest.internal_standard is not None:
         standard = measure_standard(v, entry.import_options.cycle, manifest)
@@ -194,6 +201,8 @@ def analyse_file(
         switching_correction_V=correction,
         resistance_ohm=resistance or None,
         internal_standard=standard,
+        curve_fit=curve_fit,
+        E_half_source=source,
     )
 
 

@@ -17,6 +17,8 @@ from cvfit.quantity import clean_number
 from cvfit.reversibility_criteria import ReversibilityCriteria
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
+    from cvfit.fit.curve_fit import CurveFit
+    from cvfit.fit.curve_global import GlobalCurveFit
     from cvfit.io.manifest import SeriesSettings
     from cvfit.peaks.analysis import PeakAnalysis
     from cvfit.screen.classification import Classification
@@ -123,6 +125,10 @@ class FileResult:
         The reference couple measured in the same file, when the manifest has an
         ``[internal_standard]``: ``E_half_V`` is then the analyte's E½ against it (plus the
         value assigned to the standard).
+    curve_fit : CurveFit or None
+        The fit of the whole curve, when one was made (see :mod:`cvfit.pipeline.curve_stage`).
+    E_half_source : {"peaks", "curve"}
+        Where ``E_half_V`` comes from: the peak midpoint or the accepted curve fit.
     """
 
     file: str
@@ -141,16 +147,26 @@ class FileResult:
     kinetics: KineticsResult | None = None
     resistance_ohm: float | None = None
     internal_standard: InternalStandardResult | None = None
+    curve_fit: CurveFit | None = field(default=None, compare=False)
+    E_half_source: Literal["peaks", "curve"] = "peaks"
 
     @property
     def reversible(self) -> bool | None:
         return self.screen.reversible
 
     @property
+    def E_half_stderr_V(self) -> float | None:
+        """Standard error of ``E_half_V``: of the curve fit or of the peak analysis, V."""
+        if self.E_half_source == "curve" and self.curve_fit is not None:
+            return self.curve_fit.E_half_V.stderr
+        return self.peaks.E_half_stderr_V
+
+    @property
     def E_half_total_stderr_V(self) -> float | None:
-        """Standard error of ``E_half_V``: the peak analysis', with an internal standard
-        that of the standard's E½ added in quadrature (None when either is unknown)."""
-        own = self.peaks.E_half_stderr_V
+        """Standard error of ``E_half_V`` as fitted: its own (:attr:`E_half_stderr_V`), with an
+        internal standard that of the standard's E½ added in quadrature (None when either
+        is unknown)."""
+        own = self.E_half_stderr_V
         std = self.internal_standard
         if std is None or own is None:
             return own
@@ -173,6 +189,7 @@ class FileResult:
             "Epa_V": clean_number(p.Epa_V),
             "E_half_V": clean_number(self.E_half_V),
             "E_half_stderr_V": clean_number(self.E_half_total_stderr_V),
+            "E_half_source": self.E_half_source,
             "E_half_midpoint_V": clean_number(p.E_half_V),
             "switching_correction_V": clean_number(self.switching_correction_V),
             "delta_Ep_V": clean_number(p.delta_Ep_V),
@@ -185,6 +202,7 @@ class FileResult:
             "noise_A": clean_number(p.noise_A),
             "reversible": self.screen.reversible,
             "used_in_fit": self.used_in_fit,
+            "curve_fit": None if self.curve_fit is None else self.curve_fit.to_dict(),
             "classification": None
             if self.classification is None
             else self.classification.to_dict(),
@@ -312,6 +330,8 @@ class SeriesResult:
         Number of usable titration points offered to the fit.
     scan_rate_studies : tuple of ScanRateStudy
         One per ligand concentration measured at three or more scan rates.
+    global_fit : GlobalCurveFit or None
+        All curves fitted at once (``[fit] global = true``), beside the two-step fit.
     """
 
     cvfit_version: str
@@ -326,6 +346,7 @@ class SeriesResult:
     flags: tuple[Flag, ...] = ()
     fit_n_points: int = 0
     scan_rate_studies: tuple[ScanRateStudy, ...] = ()
+    global_fit: GlobalCurveFit | None = None
 
     def to_dict(self) -> dict[str, Any]:
         if self.fit is not None:
@@ -344,5 +365,6 @@ class SeriesResult:
             "voltammograms": [f.to_dict() for f in self.files],
             "fit": fit,
             "scan_rate_studies": [st.to_dict() for st in self.scan_rate_studies],
+            "global_fit": None if self.global_fit is None else self.global_fit.to_dict(),
             "flags": [f.to_dict() for f in self.flags],
         }

@@ -22,6 +22,7 @@ from cvfit.io import Manifest, load_manifest
 from cvfit.version import __version__
 from cvfit.voltammogram import Voltammogram
 
+from .global_stage import run_global
 from .lingane_stage import run_lingane
 from .per_file import analyse_files
 from .results import FileResult, ReferenceHalfWave, SeriesConditions, SeriesResult, TitrationFit
@@ -153,7 +154,7 @@ def analyse_series(
     for f in files:
         usable = f.free_ligand_M > 0 and f.E_half_V is not None
         flags = list(f.flags)
-        if usable and exclude and f.reversible is not True:
+        if usable and exclude and f.reversible is not True and f.E_half_source != "curve":
             usable = False
             excluded.append(f.file)
             flags.append(
@@ -218,6 +219,8 @@ def analyse_series(
         series_flags.extend(outcome.flags)
     else:
         fit = outcome
+    global_fit, global_flags = run_global(final, manifest, fit, reference, records)
+    series_flags.extend(global_flags)
 
     return SeriesResult(
         cvfit_version=__version__,
@@ -232,4 +235,5 @@ def analyse_series(
         flags=tuple(series_flags),
         fit_n_points=len(points),
         scan_rate_studies=studies,
+        global_fit=global_fit,
     )

@@ -58,6 +58,8 @@ def _fail_by_trend(f: FileResult, study: ScanRateStudy) -> FileResult:
         "Nernstian at these scan rates, so this file fails the screen with its study",
     )
     screen = replace(f.screen, reversible=False, flags=(*f.screen.flags, flag))
+    if f.E_half_source == "curve":  # an accepted curve fit stands
+        return replace(f, screen=screen, flags=(*f.flags, flag))
     # a file that fails the screen carries the plain midpoint (see cvfit.screen.switching)
     return replace(
         f,

@@ -29,11 +29,18 @@ __all__ = ["run_stepwise", "current_ratios"]
 
 
 def _peak_per_root_v(f: FileResult) -> float | None:
-    """|ipc|/√v (v^½ normalises the Randles–Ševčík peak current), or |ipc| if v is unknown."""
+    """|ipc|/√v (v^½ normalises the Randles–Ševčík peak current), or |ipc| if v is unknown.
+
+    A file whose E½ comes from the curve fit gives the diffusion-limited peak of its fitted
+    current scale instead: slow transfer lowers the measured peak, not the diffusion.
+    """
     if f.peaks.ipc_A is None or f.peaks.first_sweep != "reduction":
         return None
+    ip = abs(f.peaks.ipc_A)
+    if f.E_half_source == "curve" and f.curve_fit is not None:
+        ip = f.curve_fit.reversible_peak_A
     v = f.scan_rate_V_s
-    return abs(f.peaks.ipc_A) / (math.sqrt(v) if v else 1.0)
+    return ip / (math.sqrt(v) if v else 1.0)
 
 
 def current_ratios(

@@ -144,6 +144,12 @@ def _write_set(
         ),
         "diagnostics_figure": plot_diagnostics(result, out / OUTPUT_NAMES["diagnostics_figure"]),
     }
+    from .figures.curve_fits import CURVE_FITS_FIGURE, plot_curve_fits
+
+    # only when some file was curve-fitted
+    curve_fits = plot_curve_fits(result, out / CURVE_FITS_FIGURE)
+    if curve_fits is not None:
+        written["curve_fits_figure"] = curve_fits
     # The figures of the model asked for, also when no fit could be made (they then say so).
     if result.series.model == "lingane":
         written["lingane_figure"] = plot_lingane(result, out / OUTPUT_NAMES["lingane_figure"])

@@ -22,6 +22,7 @@ TABLE_COLUMNS = (
     "Epa_V",
     "E_half_V",
     "E_half_stderr_V",
+    "E_half_source",
     "delta_Ep_V",
     "expected_delta_Ep_V",
     "ipc_A",
@@ -33,6 +34,10 @@ TABLE_COLUMNS = (
     "k0_cm_s",
     "k0_stderr_cm_s",
     "k0_lower_bound_cm_s",
+    "curve_k0_cm_s",
+    "curve_k0_lower_bound_cm_s",
+    "curve_alpha",
+    "curve_reduced_chi2",
     "used_in_fit",
     "flags",
 )
@@ -52,6 +57,19 @@ def _kinetics_cells(d: dict) -> dict:
         "k0_cm_s": value(kin.get("k0_cm_s")),
         "k0_stderr_cm_s": value(kin.get("k0_cm_s"), "stderr"),
         "k0_lower_bound_cm_s": kin.get("k0_lower_bound_cm_s"),
+        **_curve_cells(d.get("curve_fit")),
+    }
+
+
+def _curve_cells(fit: dict | None) -> dict:
+    """k0, its lower bound, α and the reduced χ² of the curve fit (empty without one)."""
+    if not fit:
+        return {}
+    return {
+        "curve_k0_cm_s": fit["k0_cm_s"]["value"],
+        "curve_k0_lower_bound_cm_s": fit["k0_cm_s"]["lower_bound"],
+        "curve_alpha": fit["alpha"]["value"],
+        "curve_reduced_chi2": fit["reduced_chi2"]["value"],
     }
 
 

@@ -25,6 +25,7 @@ from cvfit.pipeline.results import SeriesResult
 
 from .atomic import atomic_write_text
 from .formatting import format_pm, format_value
+from .global_fit_html import global_fit_section
 from .headline import headline_lines
 from .html_sections import error_budget_section, internal_standard_section
 from .methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
@@ -42,6 +43,9 @@ FIGURE_CAPTIONS = {
     "diagnostics.png": "Reversibility diagnostics of every voltammogram: n·ΔEp and ipa/ipc "
     "against the band the screen allows (filled: used — in the fit or, diamond, as the "
     "ligand-free reference; open: left out of the fit).",
+    "curve_fits.png": "Curve fits: for each voltammogram whose E½ was sought from the whole "
+    "curve, the data (grey), the fitted model (dashed: refused) and the residuals in units "
+    "of the noise σ (band ±2).",
 }
 
 # key -> (label, scale, unit) for the constants of the fit
@@ -529,6 +533,7 @@ def render_html(
         f"<section><h2>Conditions</h2>{_conditions(data)}</section>"
         f"<section><h2>Constants</h2>{_constants(fit)}</section>"
         f"{error_budget_section(data)}{standard_html}"
+        f"{global_fit_section(data)}"
         f"<section><h2>Series findings</h2>{flags_html}</section>"
         f"<section><h2>Voltammograms</h2>{_file_table(data.get('voltammograms') or [])}"
         "</section>"

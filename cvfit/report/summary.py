@@ -66,6 +66,9 @@ def format_summary(result: SeriesResult) -> str:
     from .summary_kinetics import kinetics_lines
 
     lines.extend(kinetics_lines(result))
+    from .summary_curve import curve_lines, global_lines
+
+    lines.extend(curve_lines(result))
     fit = result.fit
     if isinstance(fit, StepwiseFit):
         from .summary_stepwise import stepwise_lines
@@ -88,6 +91,7 @@ def format_summary(result: SeriesResult) -> str:
         lines.append("  (β_ox/β_red in (mol/L)^-(p−q); [L] in mol/L)")
     else:
         lines.append("No constants: see the series flags below.")
+    lines.extend(global_lines(result))
     lines.append("")
     flagged = [
         (printable(f.file), fl) for f in result.files for fl in f.flags if fl.severity != "info"

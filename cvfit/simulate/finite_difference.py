@@ -385,11 +385,14 @@ def march(
     nFA_C_per_mol: float,
     backend: str = "auto",
     track_amounts: bool = False,
+    operators: tuple[SpeciesOperator, SpeciesOperator] | None = None,
 ) -> MarchResult:
     """Integrate the diffusion problem over the sampled applied potential ``E_app_V``.
 
     ``k0_cm_s <= 0`` selects the Nernstian boundary. ``backend`` is ``"auto"`` (numba when
-    available), ``"numba"`` or ``"numpy"``.
+    available), ``"numba"`` or ``"numpy"``. ``operators`` = (O, R) from
+    :func:`species_operator` for this grid, D and time step, when the caller reuses them
+    over many runs (a fit); built here otherwise.
     """
     if backend == "auto":
         backend = "numba" if HAVE_NUMBA else "numpy"
@@ -402,8 +405,11 @@ def march(
     x = grid.x_cm
     cO = np.full(x.size, float(bulk_ox_mol_cm3))
     cR = np.full(x.size, float(bulk_red_mol_cm3))
-    opO = species_operator(grid, D_ox_cm2_s, dt_s)
-    opR = opO if D_red_cm2_s == D_ox_cm2_s else species_operator(grid, D_red_cm2_s, dt_s)
+    if operators is not None:
+        opO, opR = operators
+    else:
+        opO = species_operator(grid, D_ox_cm2_s, dt_s)
+        opR = opO if D_red_cm2_s == D_ox_cm2_s else species_operator(grid, D_red_cm2_s, dt_s)
     i_far = np.zeros(M)
     i_cap = np.zeros(M)
     E_true = np.zeros(M)

@@ -1,0 +1,91 @@
+"""Pipeline step of the global curve fit (``[fit] global = true``, Lingane model).
+
+After the two-step analysis: the records of the files that entered the titration fit and
+of the ligand-free reference files are read again (or taken from memory), and all curves
+are fitted at once with E½ tied by the Lingane line, started from the two-step result
+(:func:`cvfit.fit.curve_global.fit_global_lingane`). Files whose E½ came from the curve
+fit keep their own k0 and α; the others are modelled Nernstian. R_u: the manifest value,
+else the file's fitted R_u, else none. Composition only.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+
+from cvfit.errors import CvfitError
+from cvfit.fit.curve_global import GlobalCurveFit, GlobalFile, fit_global_lingane
+from cvfit.fit.curve_model import CurveModel
+from cvfit.fit.lingane import LinganeFit
+from cvfit.flags import Flag
+from cvfit.io import read_voltammogram
+from cvfit.voltammogram import Voltammogram
+
+from .curve_stage import record_curve_data
+from .per_file import resistance_for
+from .results import FileResult, ReferenceHalfWave
+
+__all__ = ["run_global"]
+
+
+def _not_possible(why: str) -> tuple[None, list[Flag]]:
+    return None, [Flag("GLOBAL_FIT_NOT_POSSIBLE", f"no global curve fit: {why}", "warning")]
+
+
+def run_global(
+    files: Sequence[FileResult],
+    manifest: object,
+    fit: object,
+    reference: ReferenceHalfWave,
+    records: Mapping[str, Voltammogram] | None = None,
+) -> tuple[GlobalCurveFit | None, list[Flag]]:
+    """The global fit when the manifest asks for it, else (None, [])."""
+    settings = manifest.fit  # type: ignore[attr-defined]
+    if not settings.global_fit:
+        return None, []
+    if settings.model != "lingane":
+        return _not_possible("it is made for the Lingane model only")
+    if manifest.internal_standard is not None:  # type: ignore[attr-defined]
+        return _not_possible(
+            "the potentials are quoted against the internal standard, whose wave the curve "
+            "model does not hold"
+        )
+    if not isinstance(fit, LinganeFit) or reference.E_half_V is None:
+        return _not_possible("the two-step Lingane fit it starts from could not be made")
+    series = manifest.series  # type: ignore[attr-defined]
+    entries = {e.name: e for e in manifest.voltammograms}  # type: ignore[attr-defined]
+    chosen = [f for f in files if f.used_in_fit or f.file in reference.files]
+    members = []
+    try:
+        for f in chosen:
+            e = entries[f.file]
+            v = (records or {}).get(f.file) or read_voltammogram(
+                e.file, e.import_options, scan_rate_V_s=e.scan_rate_V_s
+            )
+            data = record_curve_data(v, f.peaks, series)
+            D_sim = series.diffusion_cm2_s or 1e-5
+            model = CurveModel(data, D_sim)
+            R = resistance_for(e, series)
+            cf = f.curve_fit
+            if R is None and cf is not None and cf.resistance_ohm is not None:
+                R = cf.resistance_ohm.value
+            log_k0 = alpha = None
+            if f.E_half_source == "curve" and cf is not None:
+                v_scan = abs(float(data.potential_V[1] - data.potential_V[0])) / data.dt_s
+                k0_sim = cf.psi * math.sqrt(math.pi * D_sim * data.nf_per_V * v_scan)
+                log_k0, alpha = math.log10(k0_sim), cf.alpha.value
+            if R:  # the drop from the model's own current at the two-step values
+                model.settle_drop(
+                    f.E_half_V, math.inf if log_k0 is None else log_k0, alpha or 0.5, R
+                )
+            ligand = f.free_ligand_M if f.used_in_fit else 0.0
+            members.append(GlobalFile(f.file, ligand, model, R or 0.0, log_k0, alpha))
+        result = fit_global_lingane(
+            members,
+            electrons=series.electrons,
+            temperature_K=series.temperature_K,
+            start=(reference.E_half_V, fit.delta_ligands.value, fit.log10_beta_ratio.value),
+        )
+    except CvfitError as exc:
+        return _not_possible(str(exc))
+    return result, []

@@ -1,0 +1,66 @@
+"""Voltammograms in physical units from the independent convolution computation (tests only).
+
+Wraps :func:`convolution_cv.convolution_cv` (Butler–Volmer or Nernst, equal D, only O in the
+bulk, uncompensated resistance on the faradaic current) and adds what a measured record
+carries: double-layer charging C_dl·dE/dt, a linear background and white noise. Shares no
+code with :mod:`cvfit.simulate`. Each sample is every ``substeps``-th step of a finer
+computation (the product integration is first order in the step).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from convolution_cv import convolution_cv
+from scipy.constants import R as GAS_R
+from scipy.constants import physical_constants
+
+FARADAY = physical_constants["Faraday constant"][0]
+
+
+def independent_cv(
+    *,
+    E_half_V: float,
+    start_V: float,
+    switch_V: float,
+    k0_cm_s: float | None,
+    alpha: float = 0.5,
+    scan_rate_V_s: float = 0.02,
+    step_V: float = 0.0009,
+    D_cm2_s: float = 1e-5,
+    concentration_M: float = 1e-3,
+    area_cm2: float = 0.0707,
+    temperature_K: float = 298.15,
+    resistance_ohm: float = 0.0,
+    double_layer_F: float = 0.0,
+    background_offset_A: float = 0.0,
+    background_slope_A_per_V: float = 0.0,
+    noise_A: float = 0.0,
+    seed: int = 0,
+    substeps: int = 8,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(time_s, potential_V, current_A) of one reduction-first cycle start → switch → start."""
+    f = FARADAY / (GAS_R * temperature_K)  # n = 1
+    sigma = f * scan_rate_V_s
+    root = math.sqrt(D_cm2_s * sigma)
+    scale = FARADAY * area_cm2 * concentration_M / 1000.0 * root  # A per unit current function
+    psi = None if k0_cm_s is None else k0_cm_s / root / math.sqrt(math.pi)
+    h = step_V * f / substeps
+    xi, chi, _ = convolution_cv(
+        start=(start_V - E_half_V) * f,
+        switch=(switch_V - E_half_V) * f,
+        h=h,
+        psi=psi,
+        alpha=alpha,
+        rho=resistance_ohm * scale * f,
+    )
+    xi, chi = xi[::substeps], chi[::substeps]
+    E = E_half_V + xi / f
+    t = np.arange(E.size) * step_V / scan_rate_V_s
+    dEdt = np.concatenate(([0.0], np.diff(E))) / (step_V / scan_rate_V_s)
+    i = -scale * chi + double_layer_F * dEdt
+    i += background_offset_A + background_slope_A_per_V * E
+    if noise_A > 0:
+        i = i + np.random.default_rng(seed).normal(0.0, noise_A, E.size)
+    return t, E, i
