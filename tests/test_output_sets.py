@@ -306,3 +306,18 @@ def test_batch_reports_a_series_that_cannot_be_written(manifest, tmp_path, monke
     assert outcome.status == STATUS_OUTPUT and "No space left" in outcome.error
     assert batch_exit_status([outcome]) == 2
     assert "1 could not be written" in format_batch_summary([outcome])
+
+
+def test_every_optional_figure_is_an_output_name_and_a_rerun_is_accepted(tmp_path):
+    """A run writes figures only some series need (the whole-curve fits, the internal
+    standard's drift); each must be a name the output folder may hold, or the next run into
+    the same folder would be refused. The demo writes the curve-fit figure."""
+    from cvfit.report.figures.curve_fits import CURVE_FITS_FIGURE
+    from cvfit.report.figures.internal_standard import FILE_NAME
+
+    assert is_output_name(CURVE_FITS_FIGURE) and is_output_name(FILE_NAME)
+    demo = Path(__file__).resolve().parents[1] / "cvfit" / "data" / "demo" / "series.toml"
+    out = tmp_path / "out"
+    for _ in range(2):
+        assert main(["run", str(demo), "--out", str(out), "--quiet"]) == 0
+    assert (out / CURVE_FITS_FIGURE).is_file()

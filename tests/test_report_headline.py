@@ -79,9 +79,10 @@ def test_summary_starts_with_the_constants_and_the_screen_in_words(demo):
     assert lines[1].startswith(f"p − q = {fit.delta_ligands.value:.4f} ± ")
     assert "95 % CI [" in lines[1]
     head = lines[: lines.index("")]
+    # the demo's slowed file is recovered by the whole-curve fit (half_wave_source = "auto")
     assert (
-        f"1 of 8 files failed the reversibility screen and was left out of the fit: {FLAGGED}."
-        in head
+        f"1 of 8 files failed the reversibility screen; E½ of {FLAGGED} came from a fit of "
+        "the whole curve, which rejoined the titration fit." in head
     )
     text = "\n".join(lines)
     assert "Nernstian throughout" not in text
@@ -157,6 +158,19 @@ def test_screen_sentence_says_what_happened():
     assert "b was kept in the fit (exclude_non_nernstian = false)" in text
     assert "a still gave E½(s)" in text
     assert screen_short(kept) == "2 of 3 failed, 1 kept"
+    curve = _files(("a", 0.0, True, False), ("b", 0.1, False, True), ("c", 0.2, False, False))
+    curve["voltammograms"][1]["E_half_source"] = "curve"
+    assert screen_sentence(curve) == (
+        "2 of 3 files failed the reversibility screen: c was left out of the fit; E½ of b "
+        "came from a fit of the whole curve, used in the fit."
+    )
+    assert screen_short(curve) == "2 of 3 failed, 1 by curve fit"
+    curve["voltammograms"][2]["E_half_source"] = "curve"
+    curve["voltammograms"][2]["used_in_fit"] = True
+    assert screen_sentence(curve) == (
+        "2 of 3 files failed the reversibility screen; E½ of b, c came from a fit of the "
+        "whole curve, which rejoined the titration fit."
+    )
 
 
 def test_batch_table_has_the_screen_column():
@@ -219,7 +233,8 @@ def test_flagged_curve_is_grey_dotted_and_named_in_the_legend(demo, tmp_path, mo
         assert is_grey == bad and dotted == bad
     texts = [t.get_text() for t in ax.get_legend().get_texts()]
     assert texts[0] == "no ligand"
-    assert any("failed the screen" in t and "left out of the fit" in t and "0.35 M" in t
+    # the demo's flagged file is recovered by the whole-curve fit, and the legend says so
+    assert any("failed the screen" in t and "E½ from the whole-curve fit" in t and "0.35 M" in t
                for t in texts)  # fmt: skip
     plt.close("all")
 
@@ -246,7 +261,7 @@ def test_diagnostics_legend_matches_the_markers_drawn(demo, tmp_path, monkeypatc
     assert ref[0].get_markerfacecolor() != "none"
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
     assert "ligand-free reference, E½(s)" in labels
-    assert "reversible" in labels and "quasi-reversible, left out of the fit" in labels
+    assert "reversible" in labels and "quasi-reversible, E½ from the curve fit" in labels
     # filled points are most of the figure, and the legend shows them filled
     filled = [h for h in ax.get_legend().legend_handles
               if hasattr(h, "get_marker") and h.get_markerfacecolor() != "none"]  # fmt: skip

@@ -80,13 +80,24 @@ def screen_sentence(data: Mapping[str, Any]) -> str:
         what = f"{len(unknown)} of {n} files could not be screened for reversibility"
     bad = failed + unknown
     reference = [f for f in bad if not (f.get("ligand_M") or 0) > 0]
-    kept = [f for f in bad if f.get("used_in_fit")]
-    left = [f for f in bad if f not in reference and f not in kept]
-    if left and not kept and not reference and not (failed and unknown):
+    used = [f for f in bad if f.get("used_in_fit") and f not in reference]
+    recovered = [f for f in used if f.get("E_half_source") == "curve"]
+    kept = [f for f in used if f not in recovered]
+    left = [f for f in bad if f not in reference and f not in used]
+    if left and not used and not reference and not (failed and unknown):
         return f"{what} and {_was(left)} left out of the fit: {_names(left)}."
+    if recovered and not left and not kept and not reference and not (failed and unknown):
+        return (
+            f"{what}; E½ of {_names(recovered)} came from a fit of the whole curve, which "
+            "rejoined the titration fit."
+        )
     pieces = []
     if left:
         pieces.append(f"{_names(left)} {_was(left)} left out of the fit")
+    if recovered:
+        pieces.append(
+            f"E½ of {_names(recovered)} came from a fit of the whole curve, used in the fit"
+        )
     if kept:
         pieces.append(
             f"{_names(kept)} {_was(kept)} kept in the fit (exclude_non_nernstian = false)"
@@ -102,9 +113,14 @@ def screen_short(data: Mapping[str, Any]) -> str:
     bad = [f for f in files if f.get("reversible") is not True]
     if not bad:
         return f"all {len(files)} passed"
-    kept = [f for f in bad if f.get("used_in_fit")]
-    if kept:
-        return f"{len(bad)} of {len(files)} failed, {len(kept)} kept"
+    recovered = [f for f in bad if f.get("used_in_fit") and f.get("E_half_source") == "curve"]
+    kept = [f for f in bad if f.get("used_in_fit") and f not in recovered]
+    if recovered or kept:
+        parts = [
+            f"{len(recovered)} by curve fit" if recovered else "",
+            f"{len(kept)} kept" if kept else "",
+        ]
+        return f"{len(bad)} of {len(files)} failed, " + ", ".join(p for p in parts if p)
     return f"{len(bad)} of {len(files)} failed, left out"
 
 

@@ -237,12 +237,14 @@ def _conditions(data: Mapping[str, Any]) -> str:
         )
     )
     rows.append(("model", _e(s.get("model", data.get("fit", {}).get("model")))))
-    rows.append(
-        (
-            "flagged files",
-            "left out of the fit" if data.get("exclude_non_nernstian") else "kept in the fit",
-        )
-    )
+    fate = "left out of the fit" if data.get("exclude_non_nernstian") else "kept in the fit"
+    curve = [
+        v for v in data.get("voltammograms") or []
+        if v.get("E_half_source") == "curve" and v.get("used_in_fit")
+    ]  # fmt: skip
+    if curve:
+        fate += f", unless E½ came from a fit of the whole curve ({len(curve)} file(s))"
+    rows.append(("flagged files", fate))
     if crit:
         rows.append(("screen margins", _e(_margins(crit))))
     rows.append(("manifest", _e(data.get("manifest"))))

@@ -43,8 +43,15 @@ METHOD_STEPS: tuple[tuple[str, str, tuple[str, ...]], ...] = (
         "ΔEp is compared with the Nernstian value for the actual switching potential, "
         "|Ep − Ep/2| with 2.20 RT/nF and ipa/ipc with 1. The margins are settings of the "
         "manifest (the defaults are common practice, not a standard) and scale with n and T. "
-        "By default a voltammogram that fails is reported but left out of the fit.",
-        ("R. S. Nicholson, I. Shain, Anal. Chem. 36 (1964) 706",),
+        "A voltammogram that fails is reported; by default (half_wave_source = \"auto\") a "
+        "quasi-reversible one is fitted as a whole curve, with the simulator (Butler–Volmer "
+        "kinetics, charging, background, ohmic drop) as the model, and rejoins the fit with "
+        "that E½ and its own standard error; irreversible files and refused curve fits are "
+        "left out with the reason.",
+        (
+            "R. S. Nicholson, I. Shain, Anal. Chem. 36 (1964) 706",
+            "R. S. Nicholson, Anal. Chem. 37 (1965) 1351",
+        ),
     ),
     (
         "Lingane fit",

@@ -6,6 +6,7 @@ __all__ = [
     "OUTPUT_NAMES",
     "STEPWISE_ONLY_NAMES",
     "INTERNAL_STANDARD_NAME",
+    "CURVE_FITS_NAME",
     "is_output_name",
 ]
 
@@ -25,8 +26,11 @@ STEPWISE_ONLY_NAMES = ("leden_functions.png", "species_distribution.png")
 #: The drift figure, written only for a series with an internal reference couple.
 INTERNAL_STANDARD_NAME = "internal_standard.png"
 
+#: The curve-fit figure, written only when some file was fitted as a whole curve.
+CURVE_FITS_NAME = "curve_fits.png"
+
 _OWNED = frozenset(
-    (*OUTPUT_NAMES.values(), *STEPWISE_ONLY_NAMES, INTERNAL_STANDARD_NAME)
+    (*OUTPUT_NAMES.values(), *STEPWISE_ONLY_NAMES, INTERNAL_STANDARD_NAME, CURVE_FITS_NAME)
 )
 
 

@@ -19,12 +19,13 @@ import numpy as np  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
 
+from ..output_names import CURVE_FITS_NAME  # noqa: E402
 from .titration import _STYLE, _save  # noqa: E402
 
 __all__ = ["plot_curve_fits", "COLUMNS", "CURVE_FITS_FIGURE"]
 
 #: File name of the figure (written only when some file was curve-fitted).
-CURVE_FITS_FIGURE = "curve_fits.png"
+CURVE_FITS_FIGURE = CURVE_FITS_NAME
 
 #: Panel pairs per row of the figure.
 COLUMNS = 3

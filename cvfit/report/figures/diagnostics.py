@@ -44,6 +44,14 @@ _MARKERS = {
 REFERENCE_MARKER = "D"
 
 
+def _role(f: object, used: bool) -> str:
+    """The file's role in the figure: ``fit`` (E½ from the peaks, fitted), ``curve`` (E½
+    from the whole-curve fit, fitted) or ``out`` (left out of the fit)."""
+    if not used:
+        return "out"
+    return "curve" if getattr(f, "E_half_source", "peaks") == "curve" else "fit"
+
+
 def _legend_handles(kinds: list[str], roles: list[str]) -> list[Line2D]:
     """Legend entries that look like the markers drawn: each class present as a filled
     marker, the reference as a filled diamond, and an open marker when files were left out."""
@@ -52,6 +60,10 @@ def _legend_handles(kinds: list[str], roles: list[str]) -> list[Line2D]:
         marker, colour = _MARKERS[kind]
         handles.append(Line2D([], [], marker=marker, color=colour, mfc=colour, ls="none",
                               ms=6, label=kind))  # fmt: skip
+    for kind in dict.fromkeys(k for k, r in zip(kinds, roles, strict=True) if r == "curve"):
+        marker, colour = _MARKERS[kind]
+        handles.append(Line2D([], [], marker=marker, color=colour, mfc=colour, ls="none",
+                              ms=6, label=f"{kind}, E½ from the curve fit"))  # fmt: skip
     for kind in dict.fromkeys(k for k, r in zip(kinds, roles, strict=True) if r == "out"):
         marker, colour = _MARKERS[kind]
         handles.append(Line2D([], [], marker=marker, color=colour, mfc="none", ls="none",
@@ -130,7 +142,7 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
         # one per file, and a legend built to show exactly the looks drawn
         refs = set(result.reference.files) if result.reference.source == "file" else set()
         roles = [
-            "reference" if f.ligand_M == 0 and f.file in refs else ("fit" if u else "out")
+            "reference" if f.ligand_M == 0 and f.file in refs else _role(f, u)
             for f, u in zip(files, used.tolist(), strict=True)
         ]
         groups: list[tuple[str, str]] = []

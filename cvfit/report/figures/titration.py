@@ -169,6 +169,14 @@ def _curves_drawn(files) -> set[int]:
     return {by_ligand[p] for p in np.unique(picks)}
 
 
+def _fate(recovered: list[bool], excluded: bool) -> str:
+    """What became of the curves that failed the screen, for the legend."""
+    if recovered and all(recovered):
+        return "E½ from the whole-curve fit"
+    fate = "left out of the fit" if excluded else "kept in the fit"
+    return f"curve-fitted or {fate}" if any(recovered) else fate
+
+
 def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
     """Overlay the analysed cycle of every file, coloured by ligand concentration."""
     path = Path(path)
@@ -185,7 +193,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
         per_curve = points_per_curve(len(result.files))
         # the titration curves go into one LineCollection (one artist, not one per file);
         # the ligand-free curves stay lines of their own for the legend
-        segments, ligands, flagged = [], [], []
+        segments, ligands, flagged, recovered = [], [], [], []
         drawn = _curves_drawn(result.files)
         free_labelled = False
         for k, f in enumerate(result.files):
@@ -198,6 +206,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                 segments.append(np.column_stack([E, i * 1e6]))
                 ligands.append(f.ligand_M)
                 flagged.append(f.reversible is not True)
+                recovered.append(bool(f.used_in_fit) and f.E_half_source == "curve")
             else:  # one legend entry for the ligand-free curves, however many
                 label = "no ligand" if f.ligand_M == 0 and not free_labelled else None
                 free_labelled = free_labelled or label is not None
@@ -216,7 +225,10 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             )
             ax.autoscale_view()
             if flags.any():
-                fate = "left out of the fit" if result.exclude_non_nernstian else "kept in the fit"
+                fate = _fate(
+                    [r for r, bad in zip(recovered, flagged, strict=True) if bad],
+                    result.exclude_non_nernstian,
+                )
                 levels = sorted({lig for lig, bad in zip(ligands, flagged, strict=True) if bad})
                 which = ", ".join(f"{x:g}" for x in levels[:3]) + (" …" if len(levels) > 3 else "")
                 handles.append(
