@@ -31,8 +31,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from cvfit.errors import FitError
-from cvfit.simulate import finite_difference as _kernel
-from cvfit.simulate.voltammogram import GRID_FIRST_FACTOR, GRID_LENGTH_FACTOR, GRID_RATIO
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 __all__ = ["CurveData", "CurveModel", "LinearSolution", "curve_data"]
@@ -57,6 +55,16 @@ def smoothed(values: np.ndarray, width: int) -> np.ndarray:
 #: marches in equal time steps (common practice: potentiostats sample at a fixed clock).
 MAX_DT_SPREAD = 0.05
 
+
+
+def _simulator() -> tuple:
+    """The simulator's kernel module and its grid constants, imported on first use: the
+    kernel loads numba (~0.15 s), which a series whose files all pass the screen never
+    needs."""
+    from cvfit.simulate import finite_difference
+    from cvfit.simulate.voltammogram import GRID_FIRST_FACTOR, GRID_LENGTH_FACTOR, GRID_RATIO
+
+    return finite_difference, (GRID_FIRST_FACTOR, GRID_RATIO, GRID_LENGTH_FACTOR)
 
 @dataclass(frozen=True)
 class CurveData:
@@ -234,6 +242,7 @@ class CurveModel:
         """Grid and species operators for this D pair (built once, reused by every run)."""
         key = (D_ox, D_red)
         if key not in self._grids:
+            _kernel, (GRID_FIRST_FACTOR, GRID_RATIO, GRID_LENGTH_FACTOR) = _simulator()
             d = self.data
             total = d.dt_s * d.potential_V.size
             grid = _kernel.Grid.expanding(
@@ -272,7 +281,7 @@ class CurveModel:
         k0 = 0.0 if math.isinf(log10_k0) else 10.0**log10_k0
         t0 = time.perf_counter()
         grid, operators = self._grid(D_ox, D_red)
-        raw = _kernel.march(
+        raw = _simulator()[0].march(
             drive,
             d.dt_s,
             grid=grid,

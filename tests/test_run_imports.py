@@ -1,0 +1,45 @@
+"""What a series run loads: only what its files need.
+
+The simulator's kernel (numba, ~0.15 s of start-up) is needed only when some file is
+fitted as a whole curve; a series whose files all pass the reversibility screen — the
+usual case — must not load it. (scipy.stats is checked by test_quantiles.py.)
+"""
+
+from __future__ import annotations
+
+import ast
+import subprocess
+import sys
+
+from seriesfactory import write_small_series
+
+
+def _loaded_after_run(manifest, out, modules) -> list[str]:
+    code = (
+        "import sys\n"
+        "from cvfit.cli import main\n"
+        f"assert main(['run', {str(manifest)!r}, '--out', {str(out)!r}, '--quiet']) == 0\n"
+        f"print('loaded:', [m for m in {list(modules)!r} if m in sys.modules])\n"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    return ast.literal_eval(done.stdout.strip().splitlines()[-1].removeprefix("loaded: "))
+
+
+def test_reversible_series_does_not_load_the_simulator(tmp_path):
+    manifest = write_small_series(tmp_path, 5, seed=3)
+    assert _loaded_after_run(manifest, tmp_path / "out", ["numba"]) == []
+
+
+def test_a_curve_fitted_file_does_load_it(tmp_path):
+    """The other side, so the check above can fail: the demo's slowed file is fitted as a
+    whole curve, which runs the simulator."""
+    from pathlib import Path
+
+    demo = Path(__file__).resolve().parents[1] / "cvfit" / "data" / "demo" / "series.toml"
+    try:
+        import numba  # noqa: F401
+    except ImportError:  # the simulator then runs on NumPy alone
+        module = "cvfit.simulate.finite_difference"
+    else:
+        module = "numba"
+    assert _loaded_after_run(demo, tmp_path / "out", [module]) == [module]
