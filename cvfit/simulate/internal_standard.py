@@ -25,7 +25,13 @@ from cvfit.errors import SimulationError
 from cvfit.units import ZERO_CELSIUS_K
 from cvfit.voltammogram import Voltammogram
 
-from .titration_series import MANIFEST_NAME, _toml_float, toml_string, write_voltammogram_csv
+from .titration_series import (
+    MANIFEST_NAME,
+    _toml_float,
+    toml_string,
+    voltammogram_entries,
+    write_voltammogram_csv,
+)
 from .voltammogram import simulate_cv
 
 __all__ = ["simulate_two_waves", "simulate_internal_standard_series", "StandardSeries"]
@@ -268,13 +274,6 @@ def _write(
         "E_half_V = 0.0",
         f"electrons = {int(standard_electrons)}",
     ]
-    for vg, name, c in zip(records, names, ligands, strict=True):
-        lines += [
-            "",
-            "[[voltammogram]]",
-            f"file = {toml_string(name)}",
-            f"ligand_M = {_toml_float(c)}",
-            f"scan_rate_V_s = {_toml_float(float(vg.scan_rate_V_s or 0.0))}",
-        ]
+    lines += voltammogram_entries(records, names, ligands)
     manifest.write_text("\n".join(lines) + "\n", encoding="utf-8")
     return manifest

@@ -16,7 +16,7 @@ from cvfit.voltammogram import Voltammogram
 
 from .voltammogram import simulate_cv
 
-__all__ = ["simulate_series", "write_voltammogram_csv", "toml_string"]
+__all__ = ["simulate_series", "write_voltammogram_csv", "toml_string", "voltammogram_entries"]
 
 MANIFEST_NAME = "series.toml"
 
@@ -195,6 +195,16 @@ def simulate_series(
     ]
     if 0.0 not in ligands:
         lines.append(f"E_half_free_V = {_toml_float(float(E_half_free_V))}")
+    lines += voltammogram_entries(records, names, ligands)
+    manifest.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return manifest
+
+
+def voltammogram_entries(
+    records: Sequence[Voltammogram], names: Sequence[str], ligands: Sequence[float]
+) -> list[str]:
+    """The manifest's ``[[voltammogram]]`` tables (file, ligand_M, scan rate) as lines."""
+    lines: list[str] = []
     for vg, name, L in zip(records, names, ligands, strict=True):
         lines += [
             "",
@@ -203,5 +213,4 @@ def simulate_series(
             f"ligand_M = {_toml_float(L)}",
             f"scan_rate_V_s = {_toml_float(float(vg.scan_rate_V_s or 0.0))}",
         ]
-    manifest.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    return manifest
+    return lines
