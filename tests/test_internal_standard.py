@@ -9,6 +9,7 @@ where ML2 and ML dominate (Lingane, Chem. Rev. 29 (1941) 1).
 
 from __future__ import annotations
 
+import csv
 import json
 import math
 
@@ -155,6 +156,13 @@ def test_outputs_carry_the_standard_and_its_figure(drifting_series):
     page = written["html_report"].read_text(encoding="utf-8")
     assert "<h2>Internal standard</h2>" in page
     assert page.count("internal_standard.png") == 1  # in its section, not twice
+    # the per-file table carries the standard's E½ beside the analyte's
+    with written["table"].open(encoding="utf-8", newline="") as fh:
+        rows = list(csv.DictReader(fh))
+    for row, f in zip(rows, result.files, strict=True):
+        assert float(row["standard_E_half_V"]) == pytest.approx(f.internal_standard.E_half_V)
+        assert float(row["standard_E_half_stderr_V"]) > 0
+        assert row["standard_reversible"] == "true"
 
 
 def _manifest(tmp_path, series_extra="", table="", file_ok=True):

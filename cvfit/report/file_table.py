@@ -38,6 +38,9 @@ TABLE_COLUMNS = (
     "curve_k0_lower_bound_cm_s",
     "curve_alpha",
     "curve_reduced_chi2",
+    "standard_E_half_V",
+    "standard_E_half_stderr_V",
+    "standard_reversible",
     "used_in_fit",
     "flags",
 )
@@ -58,6 +61,19 @@ def _kinetics_cells(d: dict) -> dict:
         "k0_stderr_cm_s": value(kin.get("k0_cm_s"), "stderr"),
         "k0_lower_bound_cm_s": kin.get("k0_lower_bound_cm_s"),
         **_curve_cells(d.get("curve_fit")),
+        **_standard_cells(d.get("internal_standard")),
+    }
+
+
+def _standard_cells(std: dict | None) -> dict:
+    """The internal standard's E½ on the electrode's scale, its error and its screen verdict
+    (empty without a standard)."""
+    if not std:
+        return {}
+    return {
+        "standard_E_half_V": std["E_half_V"],
+        "standard_E_half_stderr_V": std["E_half_stderr_V"],
+        "standard_reversible": std["reversible"],
     }
 
 
