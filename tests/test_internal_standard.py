@@ -265,3 +265,14 @@ def test_curve_fits_are_refused_with_a_standard_in_the_file(drifting_series):
     assert result.global_fit is None
     why = [fl.message for fl in result.flags if fl.code == "GLOBAL_FIT_NOT_POSSIBLE"]
     assert why and "internal standard" in why[0], result.flags
+
+
+def test_summary_says_potentials_are_against_the_standard_and_its_drift(drifting_series):
+    from cvfit.report.summary import format_summary
+
+    series, result, _ = drifting_series
+    text = format_summary(result)
+    line = next(ln for ln in text.splitlines() if ln.startswith("E½ quoted against"))
+    spans = [f.internal_standard.E_half_V for f in result.files]
+    assert f"spans {1e3 * (max(spans) - min(spans)):.2f} mV" in line
+    assert abs((max(spans) - min(spans)) - np.ptp(series.drift_V)) < 1e-3

@@ -41,6 +41,7 @@ def format_summary(result: SeriesResult) -> str:
         + format_pm(ref.E_half_V, ref.stderr_V, scale=1e3, unit="mV")
         + f"  (from {ref.source}{': ' + ', '.join(ref.files) if ref.files else ''})"
     )
+    lines.extend(_standard_lines(result))
     lines.append("")
     e_halves = [format_pm(f.E_half_V, f.E_half_total_stderr_V, scale=1e3) for f in result.files]
     w = max([16, *map(len, e_halves)])  # "150.1 (uncertainty unknown)" is wider than 16
@@ -106,3 +107,21 @@ def format_summary(result: SeriesResult) -> str:
     while lines and not lines[-1]:
         lines.pop()
     return "\n".join(lines)
+
+
+def _standard_lines(result: SeriesResult) -> list[str]:
+    """With an internal standard: E½ are quoted against it, and how far it drifted."""
+    stds = [f.internal_standard for f in result.files if f.internal_standard is not None]
+    if not stds:
+        return []
+    values = [s.E_half_V for s in stds if s.E_half_V is not None]
+    failed = sum(1 for s in stds if s.reversible is not True)
+    line = "E½ quoted against the internal standard measured in each file"
+    if values:
+        line += (
+            f"; its E½ on the electrode's scale spans {1e3 * (max(values) - min(values)):.2f} mV"
+            " along the series (the electrode's drift, cancelled)"
+        )
+    if failed:
+        line += f"; it failed its own screen in {failed} file(s)"
+    return [line]
