@@ -201,3 +201,34 @@ def test_cli_concentration_is_in_mol_per_litre(tmp_path, capsys):
     assert "--concentration mol/L" in text and "--concentration mM" not in text
     assert "total, not per cm²" in text
     assert "overall log10 β_j of the oxidised form" in text
+
+
+def test_cli_series_with_an_internal_standard(tmp_path, capsys):
+    """--standard-e-half: every file holds the standard's wave too, the manifest quotes
+    potentials against it, and the analysis finds the standard where it was put."""
+    from cvfit.io import load_manifest
+    from cvfit.pipeline.series import analyse_series
+
+    out = tmp_path / "istd"
+    argv = ["--series", "--e-half", "-0.05", "--ligand-M", "0,0.01,0.03,0.1",
+            "--log-beta-ox", "5,9.6", "--log-beta-red", "4.2", "--standard-e-half", "0.25",
+            "--drift-step", "0.003", "--seed", "2", "--out", str(out)]  # fmt: skip
+    assert run(argv) == 0
+    said = capsys.readouterr().out
+    assert "with an internal standard at 0.2500 V" in said
+    data = tomllib.loads((out / "series.toml").read_text(encoding="utf-8"))
+    lo, hi = data["internal_standard"]["window_V"]
+    assert lo < 0.25 < hi
+    result = analyse_series(load_manifest(out / "series.toml"))
+    stds = [f.internal_standard.E_half_V for f in result.files]
+    assert np.ptp(stds) > 1e-3  # the electrode drifted by millivolts ...
+    truth = complexed_half_wave_V(
+        -0.05, ligand_M=[0.0, 0.01, 0.03, 0.1], log10_beta_ox=[5, 9.6], log10_beta_red=[4.2],
+        electrons=1, temperature_K=298.15,
+    )  # fmt: skip
+    # ... and E½ against the standard (E_half_V = 0 for it) does not drift: 1 mV noise-free
+    np.testing.assert_allclose([f.E_half_V for f in result.files], truth - 0.25, atol=1e-3)
+    with pytest.raises(InputError) as err:
+        run([*argv[:-2], "--standard-e-half", "0.6", "--start", "0.55", "--switch", "-0.7",
+             "--out", str(tmp_path / "far")])  # fmt: skip
+    assert err.value.key == "--standard-e-half"

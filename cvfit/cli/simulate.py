@@ -80,6 +80,12 @@ def register(sub: argparse._SubParsersAction) -> None:
       help="series: overall log10 β_j of the reduced form, j = 1, 2, … (comma list)")
     a("--diffusion-ox-complexed", metavar="cm2/s", help="series: D of the ox. complexes")
     a("--diffusion-red-complexed", metavar="cm2/s", help="series: D of the red. complexes")
+    a("--standard-e-half", metavar="V",
+      help="series: add an internal reference couple with this E½ (V, electrode scale) to "
+      "every file; the manifest then quotes potentials against it ([internal_standard])")
+    a("--drift-step", metavar="V", default="0",
+      help="series with --standard-e-half: SD of the reference electrode's random-walk drift "
+      "from one solution to the next, V (default 0)")
     a("--title", default="simulated titration", help="series: title for the manifest")
     a("--out", metavar="FILE|DIR", help="output CSV file (series: output folder)")
     a("--force", action="store_true", help="replace existing output files")
@@ -262,8 +268,16 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
         electrons=settings["electrons"],
         temperature_K=settings["temperature_K"],
     )
-    start, switch = _window(args, float(min(halves)), float(max(halves)))
+    E_lo, E_hi = float(min(halves)), float(max(halves))
+    if args.standard_e_half is not None:  # the default sweep covers the standard's wave too
+        standard = _number(args.standard_e_half, "--standard-e-half")
+        E_lo, E_hi = min(E_lo, standard), max(E_hi, standard)
+    start, switch = _window(args, E_lo, E_hi)
     electrons = settings.pop("electrons")
+    if args.standard_e_half is not None:
+        return _handle_standard_series(
+            args, E_half, settings, electrons, noise, seed, out, ligands, (start, switch)
+        )
     try:
         manifest = simulate_series(
             out,
@@ -292,5 +306,62 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
     sys.stdout.write(
         f"wrote {manifest} and {len(ligands)} voltammograms: E½ from {min(halves):.4f} to "
         f"{max(halves):.4f} V over ligand {min(ligands):g}–{max(ligands):g} M\n"
+    )
+    return 0
+
+
+def _handle_standard_series(
+    args, E_half, settings, electrons, noise, seed, out: Path, ligands, window
+) -> int:
+    """``--series --standard-e-half``: the titration with an internal reference couple."""
+    from cvfit.simulate.internal_standard import simulate_internal_standard_series
+
+    standard = _number(args.standard_e_half, "--standard-e-half")
+    drift = _number(args.drift_step, "--drift-step", minimum=0.0)
+    for flag, given in (
+        ("--diffusion-ox-complexed", args.diffusion_ox_complexed),
+        ("--diffusion-red-complexed", args.diffusion_red_complexed),
+    ):
+        if given is not None:
+            raise InputError(
+                f"{flag} is not available with --standard-e-half (complexes diffuse like the "
+                "free couple there)",
+                source=_CMD,
+                key=flag,
+            )
+    start, switch = window
+    lo, hi = min([start, *switch]), max([start, *switch])
+    if not lo + 0.1 < standard < hi - 0.1:
+        raise InputError(
+            f"--standard-e-half {standard:g} V must lie at least 0.1 V inside the sweep "
+            f"({lo:g} to {hi:g} V); widen it with --start/--switch",
+            source=_CMD,
+            key="--standard-e-half",
+        )
+    try:
+        series = simulate_internal_standard_series(
+            ligand_M=ligands,
+            E_half_free_V=E_half,
+            log10_beta_ox=_list(args.log_beta_ox, "--log-beta-ox"),
+            log10_beta_red=_list(args.log_beta_red, "--log-beta-red"),
+            standard_E_half_V=standard,
+            drift_step_V=drift,
+            electrons=electrons,
+            noise_fraction=noise,
+            seed=seed,
+            out_dir=out,
+            title=args.title,
+            overwrite=bool(args.force),
+            start_V=start,
+            switch_V=switch if len(switch) > 1 else switch[0],
+            **settings,
+        )
+    except SimulationError as exc:
+        hint = "; use --force to replace" if "exists" in str(exc) else ""
+        raise InputError(f"{exc}{hint}", source=_CMD) from None
+    sys.stdout.write(
+        f"wrote {series.manifest} and {len(ligands)} voltammograms with an internal standard "
+        f"at {standard:.4f} V; reference drift from {1e3 * min(series.drift_V):+.2f} to "
+        f"{1e3 * max(series.drift_V):+.2f} mV\n"
     )
     return 0
