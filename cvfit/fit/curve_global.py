@@ -62,6 +62,8 @@ class GlobalFile:
         R_u used for the drop, Ω.
     log10_k0, alpha : float or None
         Start of the kinetic parameters; None for a Nernstian file.
+    D_ratio : float
+        D_R/D_O of the model (given).
     """
 
     name: str
@@ -70,6 +72,7 @@ class GlobalFile:
     resistance_ohm: float
     log10_k0: float | None
     alpha: float | None
+    D_ratio: float = 1.0
 
 
 @dataclass(frozen=True)
@@ -159,7 +162,7 @@ def fit_global_lingane(
 
     def one(k: int, p: tuple[float, float, float]) -> np.ndarray:
         f = files[k]
-        return f.model.evaluate(p[0], p[1], p[2], f.resistance_ohm).residual
+        return f.model.evaluate(p[0], p[1], p[2], f.resistance_ohm, f.D_ratio).residual
 
     cache: dict[bytes, np.ndarray] = {}
 

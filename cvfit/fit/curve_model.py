@@ -210,7 +210,12 @@ class CurveModel:
         self._drop_current_A = np.asarray(current_A, dtype=float).copy()
 
     def settle_drop(
-        self, E_half_V: float, log10_k0: float, alpha: float, resistance_ohm: float
+        self,
+        E_half_V: float,
+        log10_k0: float,
+        alpha: float,
+        resistance_ohm: float,
+        D_ratio: float = 1.0,
     ) -> LinearSolution:
         """Take the drop from this model's own faradaic plus charging current (one run).
 
@@ -220,7 +225,7 @@ class CurveModel:
         then prefers R_u = 0). The model current is free of both; settled at a first
         optimum and refitted, drop and model agree (a fixed point).
         """
-        lin = self.evaluate(E_half_V, log10_k0, alpha, resistance_ohm)
+        lin = self.evaluate(E_half_V, log10_k0, alpha, resistance_ohm, D_ratio)
         self.set_drop_current(lin.faradaic_A + lin.charging_A)
         return lin
 

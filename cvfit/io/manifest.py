@@ -44,6 +44,7 @@ SERIES_KEYS = (
 )
 FIT_KEYS = (
     "model", "max_complexes", "exclude_non_nernstian", "half_wave_source", "global",
+    "curve_diffusion_ratio",
     *_chem.FIT_STEPWISE_KEYS,
 )  # fmt: skip
 #: Where E½ of each file comes from (``[fit] half_wave_source``).
@@ -215,6 +216,9 @@ class FitSettings:
     global_fit : bool
         ``global`` in the manifest: also fit all curves at once with E½ tied by the
         Lingane line (default false).
+    curve_diffusion_ratio : float
+        D_R/D_O of the curve fit's model (default 1). A number only: one curve cannot
+        tell it (see :mod:`cvfit.fit.curve_fit`); it changes k0, not E½.
     """
 
     model: Literal["lingane", "stepwise"] = "lingane"
@@ -225,6 +229,7 @@ class FitSettings:
     current_ratio_correction: bool = True
     half_wave_source: Literal["peaks", "curve", "auto"] = "auto"
     global_fit: bool = False
+    curve_diffusion_ratio: float = 1.0
 
     def __post_init__(self) -> None:
         _chem.clean_fit(self)
@@ -234,6 +239,20 @@ class FitSettings:
                 f"{self.half_wave_source!r}",
                 key="half_wave_source",
             )
+        r = self.curve_diffusion_ratio
+        if r == "fit":
+            raise InputError(
+                'curve_diffusion_ratio cannot be "fit": a single curve at a planar electrode '
+                "does not determine D_R/D_O (it trades exactly against k0); give the ratio as "
+                "a number, or leave it out for 1",
+                key="curve_diffusion_ratio",
+            )
+        if not _is_number(r) or not 0.1 <= float(r) <= 10.0:
+            raise InputError(
+                f"curve_diffusion_ratio must be a number 0.1–10 (D_R/D_O), got {r!r}",
+                key="curve_diffusion_ratio",
+            )
+        object.__setattr__(self, "curve_diffusion_ratio", float(r))
         if not isinstance(self.global_fit, bool):
             raise InputError(
                 f"global must be true or false, got {self.global_fit!r}", key="global"

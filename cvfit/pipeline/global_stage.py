@@ -74,12 +74,13 @@ def run_global(
                 v_scan = abs(float(data.potential_V[1] - data.potential_V[0])) / data.dt_s
                 k0_sim = cf.psi * math.sqrt(math.pi * D_sim * data.nf_per_V * v_scan)
                 log_k0, alpha = math.log10(k0_sim), cf.alpha.value
+            ratio = settings.curve_diffusion_ratio
             if R:  # the drop from the model's own current at the two-step values
                 model.settle_drop(
-                    f.E_half_V, math.inf if log_k0 is None else log_k0, alpha or 0.5, R
+                    f.E_half_V, math.inf if log_k0 is None else log_k0, alpha or 0.5, R, ratio
                 )
             ligand = f.free_ligand_M if f.used_in_fit else 0.0
-            members.append(GlobalFile(f.file, ligand, model, R or 0.0, log_k0, alpha))
+            members.append(GlobalFile(f.file, ligand, model, R or 0.0, log_k0, alpha, ratio))
         result = fit_global_lingane(
             members,
             electrons=series.electrons,
