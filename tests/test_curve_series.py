@@ -267,7 +267,7 @@ def test_a_bad_diffusion_ratio_is_a_one_line_error_naming_the_key(tmp_path, valu
 
     (tmp_path / "a.csv").write_text("potential_V,current_A\n0,0\n", encoding="utf-8")
     text = (
-        f'[series]\nelectrons = 1\n[fit]\ncurve_diffusion_ratio = {value}\n'
+        f"[series]\nelectrons = 1\n[fit]\ncurve_diffusion_ratio = {value}\n"
         '[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.0\n'
     )
     (tmp_path / "s.toml").write_text(text, encoding="utf-8")
