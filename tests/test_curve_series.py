@@ -223,16 +223,23 @@ def test_global_fit_gets_the_constants_straight_from_the_curves(tmp_path):
     assert f"{g.log10_beta_ratio.value:.4f}"[:5] in html
 
 
-def test_global_fit_with_the_stepwise_model_says_why_not(tmp_path):
+def test_global_fit_without_its_two_step_fit_says_why_not(tmp_path):
     from cvfit.pipeline.global_stage import run_global
     from cvfit.pipeline.results import ReferenceHalfWave
 
     manifest = write_series(tmp_path, source="project", slow=False, fit={"global": True})
     m = load_manifest(manifest)
-    stepwise = type("M", (), {"fit": type("F", (), {"global_fit": True, "model": "stepwise"})})
+    stepwise = type(
+        "M",
+        (),
+        {
+            "fit": type("F", (), {"global_fit": True, "model": "stepwise"}),
+            "internal_standard": None,
+        },
+    )
     fit, flags = run_global([], stepwise, None, ReferenceHalfWave(0.0, None, "file"))
     assert fit is None and flags[0].code == "GLOBAL_FIT_NOT_POSSIBLE"
-    assert "Lingane model only" in flags[0].message
+    assert "two-step stepwise fit" in flags[0].message
     assert run_global([], m, None, ReferenceHalfWave(None, None, "file"))[1][0].code == (
         "GLOBAL_FIT_NOT_POSSIBLE"
     )
