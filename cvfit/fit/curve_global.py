@@ -9,10 +9,12 @@ a :class:`Tie`. The Lingane tie (:func:`lingane_tie`) is
 :mod:`cvfit.fit.curve_global_stepwise`. Each file keeps its own closed-form current scale,
 C_dl and background (variable projection, :class:`cvfit.fit.curve_model.CurveModel`); the
 kinetic files (those the two-step analysis took from the curve fit) keep their own log10 k0
-and α, the others are Nernstian. The search is over the tie's parameters and those kinetic
-parameters, started from the two-step result. The Jacobian is built file by file: the
-shared parameters act only through E½ of each file, so a derivative costs one simulation per
-file for E½ and one per kinetic parameter.
+and α, the others are Nernstian; an R_u the per-file fit estimated (not given) is a
+parameter again, so its uncertainty reaches the constants and a shared α. The search is
+over the tie's parameters and those per-file parameters, started from the two-step
+result. The Jacobian is built file by file: the shared parameters act only through E½ of
+each file, so a derivative costs one simulation per file for E½ and one per per-file
+parameter.
 
 Sharing (``share``): ``"alpha"`` — one α for all kinetic files (its column collects each
 file's derivative); ``"charging"`` — one double-layer capacitance for all files. C_dl is
@@ -60,8 +62,11 @@ __all__ = [
     "lingane_tie",
 ]
 
-#: Step of the finite-difference derivatives: E½ in V, log10 k0, α.
-_STEP = (1e-6, 1e-5, 1e-5)
+#: Step of the finite-difference derivatives: E½ in V, log10 k0, α, R_u in Ω.
+_STEP = (1e-6, 1e-5, 1e-5, 1e-2)
+#: Largest ohmic drop a fitted R_u may give at the record's largest current, V (as the
+#: per-file fit).
+_MAX_DROP_V = 0.1
 #: What ``[fit] global_shared`` may name.
 SHARED_NAMES = ("alpha", "charging")
 
@@ -83,6 +88,9 @@ class GlobalFile:
         Start of the kinetic parameters; None for a Nernstian file.
     D_ratio : float
         D_R/D_O of the model (given).
+    fit_resistance : bool
+        R_u is a parameter of the global search (started at *resistance_ohm*): the
+        per-file fit estimated it and the manifest does not give it.
     """
 
     name: str
@@ -92,6 +100,7 @@ class GlobalFile:
     log10_k0: float | None
     alpha: float | None
     D_ratio: float = 1.0
+    fit_resistance: bool = False
 
 
 @dataclass(frozen=True)
@@ -303,20 +312,33 @@ def fit_global(
             lo.append(ALPHA_RANGE[0])
             hi.append(ALPHA_RANGE[1])
             slot[k] = (j, j + 1)
+    r_slot: dict[int, int] = {}
+    for k, f in enumerate(files):
+        if f.fit_resistance:
+            r_slot[k] = len(x0)
+            x0.append(f.resistance_ohm)
+            lo.append(0.0)
+            i_max = float(np.max(np.abs(f.model.data.current_A))) or 1.0
+            hi.append(max(f.resistance_ohm, 0.0) + _MAX_DROP_V / i_max)
     lo_a, hi_a = np.array(lo, float), np.array(hi, float)
     x0 = np.clip(np.array(x0, float), lo_a + 1e-9, hi_a - 1e-9)
     sizes = [int(f.model.data.fit_mask.sum()) for f in files]
     offsets = np.concatenate(([0], np.cumsum(sizes)))
 
-    def file_params(x: np.ndarray, k: int, e_half: np.ndarray) -> tuple[float, float, float]:
+    def file_params(x: np.ndarray, k: int, e_half: np.ndarray) -> list[float]:
+        R = float(x[r_slot[k]]) if k in r_slot else files[k].resistance_ohm
         if k in slot:
             a, b = slot[k]
-            return float(e_half[k]), float(x[a]), float(x[b])
-        return float(e_half[k]), math.inf, 0.5
+            return [float(e_half[k]), float(x[a]), float(x[b]), R]
+        return [float(e_half[k]), math.inf, 0.5, R]
 
-    def one(k: int, p: tuple[float, float, float], C: float | None):
-        f = files[k]
-        return f.model.evaluate(p[0], p[1], p[2], f.resistance_ohm, f.D_ratio, C)
+    def one(k: int, p: list[float], C: float | None):
+        return files[k].model.evaluate(p[0], p[1], p[2], p[3], files[k].D_ratio, C)
+
+    def moved(k: int, p: list[float], i: int, C: float | None) -> np.ndarray:
+        q = list(p)
+        q[i] += _STEP[i]
+        return one(k, q, C).residual
 
     cache: dict[bytes, np.ndarray] = {}
 
@@ -343,14 +365,16 @@ def fit_global(
             p = file_params(x, k, e)
             base = one(k, p, C)
             r0 = base.residual
-            dE = (one(k, (p[0] + _STEP[0], p[1], p[2]), C).residual - r0) / _STEP[0]
+            dE = (moved(k, p, 0, C) - r0) / _STEP[0]
             J[rows, :m] = dE[:, None] * G[k][None, :]
             if share_C:
                 J[rows, i_C] = -base.charging_projected
             if k in slot:
                 a, b = slot[k]
-                J[rows, a] = (one(k, (p[0], p[1] + _STEP[1], p[2]), C).residual - r0) / _STEP[1]
-                J[rows, b] += (one(k, (p[0], p[1], p[2] + _STEP[2]), C).residual - r0) / _STEP[2]
+                J[rows, a] = (moved(k, p, 1, C) - r0) / _STEP[1]
+                J[rows, b] += (moved(k, p, 2, C) - r0) / _STEP[2]
+            if k in r_slot:
+                J[rows, r_slot[k]] = (moved(k, p, 3, C) - r0) / _STEP[3]
         return J
 
     bounds = (lo_a, hi_a)

@@ -101,7 +101,8 @@ def run_global(
             model = CurveModel(data, D_sim)
             R = resistance_for(e, series)
             cf = f.curve_fit
-            if R is None and cf is not None and cf.resistance_ohm is not None:
+            refit_R = R is None and cf is not None and cf.resistance_ohm is not None
+            if refit_R:
                 R = cf.resistance_ohm.value
             log_k0 = alpha = None
             if f.E_half_source == "curve" and cf is not None:
@@ -114,7 +115,9 @@ def run_global(
                     f.E_half_V, math.inf if log_k0 is None else log_k0, alpha or 0.5, R, ratio
                 )
             ligand = f.free_ligand_M if f.used_in_fit else 0.0
-            members.append(GlobalFile(f.file, ligand, model, R or 0.0, log_k0, alpha, ratio))
+            members.append(
+                GlobalFile(f.file, ligand, model, R or 0.0, log_k0, alpha, ratio, refit_R)
+            )
         share = settings.global_shared
         if stepwise:
             tie = stepwise_tie(
