@@ -218,7 +218,7 @@ class FitSettings:
         files that pass the reversibility screen and the curve fit for the others.
     global_fit : bool
         ``global`` in the manifest: also fit all curves at once with E½ tied by the
-        Lingane line (default false).
+        Lingane line or the DeFord–Hume model (default false).
     global_shared : tuple of str
         Global fit: ``"alpha"`` (one α for the kinetic files) and/or ``"charging"`` (one
         double-layer capacitance for all files); default none.
