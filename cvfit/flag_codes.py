@@ -146,7 +146,8 @@ _CATALOGUE = (
     FlagCode("CURVE_FIT_K0_LOWER_BOUND", _I, "k0 from the curve fit is near the reversible "
              "limit: the χ² profile gives only a lower bound."),
     FlagCode("GLOBAL_FIT_NOT_POSSIBLE", _W, "global = true, but the global curve fit could "
-             "not be made (stepwise model, no two-step fit, a file that cannot be fitted); "
+             "not be made (no two-step fit, an internal standard, a file that cannot be "
+             "fitted); "
              "the reason is given."),
     FlagCode("CURVE_FIT_D_ASSUMED", _I, "The curve fit's k0 assumes D = 1e-5 cm²/s (no D, "
              "electrode area or analyte concentration given); k0 scales with √D."),

@@ -204,3 +204,23 @@ def test_intervals_cover_the_truth_at_their_level():
                                         (fit.alpha, 0.5))):  # fmt: skip
             hits[k] += q.ci95[0] < truth < q.ci95[1]
     assert np.all(np.abs(hits / 200 - 0.95) < 0.04), hits
+
+
+@pytest.mark.parametrize(("k0", "alpha"), CASES)
+def test_a_given_diffusion_ratio_gives_k0_and_a_wrong_one_biases_k0_not_E_half(k0, alpha):
+    # D_R/D_O = 0.6 in the simulation. Given: E½ within 1 mV, k0 within 15 %. Left at 1:
+    # the curve is the same one (the ratio trades exactly against k0, cvfit.fit.curve_fit),
+    # so E½ and χ² do not move and k0 is off by (1/0.6)^(α/2), 11–17 % here
+    v = simulate_cv(
+        **SETTINGS, k0_cm_s=k0, alpha=alpha, noise_fraction=0.005, seed=1, D_red_cm2_s=0.6e-5
+    )
+    given = _fit(v.time_s, v.potential_V, v.current_A, resistance_ohm=None, D_ratio=0.6)
+    wrong = _fit(v.time_s, v.potential_V, v.current_A, resistance_ohm=None)
+    assert given.accepted and wrong.accepted and given.D_ratio == 0.6
+    assert abs(given.E_half_V.value - E_HALF) < 1e-3
+    assert abs(given.k0_cm_s.value / k0 - 1.0) < 0.15
+    assert abs(wrong.E_half_V.value - given.E_half_V.value) < 2e-4
+    assert wrong.reduced_chi2.value == pytest.approx(given.reduced_chi2.value, rel=0.01)
+    bias = wrong.k0_cm_s.value / given.k0_cm_s.value
+    assert bias == pytest.approx((1 / 0.6) ** (alpha / 2), rel=0.02)
+    assert given.to_dict()["D_ratio"] == 0.6

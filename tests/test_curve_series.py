@@ -223,16 +223,23 @@ def test_global_fit_gets_the_constants_straight_from_the_curves(tmp_path):
     assert f"{g.log10_beta_ratio.value:.4f}"[:5] in html
 
 
-def test_global_fit_with_the_stepwise_model_says_why_not(tmp_path):
+def test_global_fit_without_its_two_step_fit_says_why_not(tmp_path):
     from cvfit.pipeline.global_stage import run_global
     from cvfit.pipeline.results import ReferenceHalfWave
 
     manifest = write_series(tmp_path, source="project", slow=False, fit={"global": True})
     m = load_manifest(manifest)
-    stepwise = type("M", (), {"fit": type("F", (), {"global_fit": True, "model": "stepwise"})})
+    stepwise = type(
+        "M",
+        (),
+        {
+            "fit": type("F", (), {"global_fit": True, "model": "stepwise"}),
+            "internal_standard": None,
+        },
+    )
     fit, flags = run_global([], stepwise, None, ReferenceHalfWave(0.0, None, "file"))
     assert fit is None and flags[0].code == "GLOBAL_FIT_NOT_POSSIBLE"
-    assert "Lingane model only" in flags[0].message
+    assert "two-step stepwise fit" in flags[0].message
     assert run_global([], m, None, ReferenceHalfWave(None, None, "file"))[1][0].code == (
         "GLOBAL_FIT_NOT_POSSIBLE"
     )
@@ -251,3 +258,38 @@ def test_a_recovered_file_offers_its_diffusion_limited_peak_for_current_ratios(r
             assert abs(f.peaks.ipc_A) < 0.97 * ip
             assert f.curve_fit.reversible_peak_A == pytest.approx(ip, rel=0.01)
             assert _peak_per_root_v(f) == pytest.approx(ip / math.sqrt(V), rel=0.01)
+
+
+@pytest.mark.parametrize(
+    ("value", "message"),
+    [
+        ('"fit"', 'curve_diffusion_ratio cannot be "fit": a single curve'),
+        ("0.0", "curve_diffusion_ratio must be a number 0.1–10"),
+        ('"one"', "curve_diffusion_ratio must be a number 0.1–10"),
+        ("20", "curve_diffusion_ratio must be a number 0.1–10"),
+    ],
+)
+def test_a_bad_diffusion_ratio_is_a_one_line_error_naming_the_key(tmp_path, value, message):
+    from cvfit.errors import InputError
+
+    (tmp_path / "a.csv").write_text("potential_V,current_A\n0,0\n", encoding="utf-8")
+    text = (
+        f"[series]\nelectrons = 1\n[fit]\ncurve_diffusion_ratio = {value}\n"
+        '[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.0\n'
+    )
+    (tmp_path / "s.toml").write_text(text, encoding="utf-8")
+    with pytest.raises(InputError, match=message) as err:
+        load_manifest(tmp_path / "s.toml")
+    assert "\n" not in str(err.value) and "curve_diffusion_ratio" in str(err.value)
+
+
+def test_the_diffusion_ratio_reaches_the_curve_fit(tmp_path):
+    from cvfit.io.manifest import FitSettings
+
+    assert FitSettings().curve_diffusion_ratio == 1.0
+    manifest = write_series(
+        tmp_path, source="project", slow=True, fit={"curve_diffusion_ratio": 0.8}
+    )
+    res = analyse_series(load_manifest(manifest))
+    fitted = [f.curve_fit for f in res.files if f.curve_fit is not None]
+    assert fitted and all(cf.D_ratio == 0.8 for cf in fitted)

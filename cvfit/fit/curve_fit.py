@@ -2,8 +2,8 @@
 
 Weighted non-linear least squares (:func:`scipy.optimize.least_squares`, trust-region
 reflective) over the non-linear parameters E½, log10 k0, α and optionally R_u (the
-D_R/D_O ratio is given, 1 by default: with the scale free it trades off against k0 and
-the search can settle in a second valley, so it is not fitted); for each trial the
+D_R/D_O ratio is given, 1 by default, ``[fit] curve_diffusion_ratio``; it is not fitted,
+see below); for each trial the
 current scale, C_dl and the linear background are solved in closed form
 (:class:`cvfit.fit.curve_model.CurveModel`, variable projection), so a fit costs tens of
 simulations. The search starts from the best of a few k0 values
@@ -14,6 +14,16 @@ non-linear parameters (Golub and Pereyra), scaled by the reduced χ² when that 
 Where k0 approaches the reversible limit the covariance is poor, and the interval of
 log10 k0 comes from the profile of χ² (:mod:`cvfit.fit.curve_intervals`): an open upper
 side is reported as a lower bound on k0.
+
+D_R/D_O cannot be fitted from a curve at a planar electrode: with the concentration of R
+scaled by √(D_R/D_O) the diffusion problem becomes the equal-D one, and the Butler–Volmer
+boundary of ratio r, formal potential E°' and k0 is identical to that of ratio 1 with
+formal potential E½ = E°' + (RT/2nF)·ln r and rate constant k0·r^(−α/2). The curve (and
+so χ²) depends on E½, k0·r^(−α/2) and α only: a fitted ratio walks a flat valley to
+whichever limit it is given. Consequences: E½ (the reversible half-wave potential fitted
+here) does not depend on the ratio assumed; k0 does, by the factor (r_assumed/r)^(α/2)
+— a ratio of 0.6 left at 1 raises k0 by 13 % at α = 0.5 — which is why the ratio is a
+manifest key.
 
 Goodness of fit: the reduced χ² against the noise of the record and the Wald–Wolfowitz
 runs test of the residual signs. The fit is refused (flag ``CURVE_FIT_REFUSED`` with the
@@ -198,7 +208,7 @@ def fit_curve(
     resistance_ohm : float or None
         Known R_u, Ω (0: none); None fits it.
     D_ratio : float
-        D_R/D_O (given; 1 unless known).
+        D_R/D_O (given; 1 unless known). It changes k0 only (see the module notes).
 
     Returns
     -------
@@ -279,7 +289,7 @@ def fit_curve(
         # (see CurveModel.settle_drop)
         for _ in range(DROP_ROUNDS):
             p = unpack(x)
-            model.settle_drop(p[0], p[1], p[2], p[3])
+            model.settle_drop(*p)
             sol, x = solve(x)
     lin = model.evaluate(*unpack(x))
     m = data.fit_mask

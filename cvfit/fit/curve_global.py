@@ -1,20 +1,31 @@
-"""Global curve fit of a titration series: every curve at once, E½ tied by the Lingane line.
+"""Global curve fit of a titration series: every curve at once, E½ tied by the titration model.
 
-The E½ of every voltammogram is not a free parameter but follows from the constants,
+The E½ of every voltammogram is not a free parameter but follows from the constants through
+a :class:`Tie`. The Lingane tie (:func:`lingane_tie`) is
 
     E½(c_i) = E½(s) − S·[log10(β_ox/β_red) + (p − q)·log10[L]_i],   S = ln10·RT/nF,
 
-(E½(s) for the ligand-free files). Each file keeps its own closed-form current scale, C_dl
-and background (variable projection, :class:`cvfit.fit.curve_model.CurveModel`); the
-kinetic files (those the two-step analysis took from the curve fit) keep their own log10
-k0 and α, the others are Nernstian. The search is over E½(s), p − q, log10(β_ox/β_red) and
-those kinetic parameters, started from the two-step result. The Jacobian is built file by
-file: the shared parameters act only through E½ of each file, so a derivative costs one
-simulation per file for E½ and one per kinetic parameter.
+(E½(s) for the ligand-free files); the DeFord–Hume tie of the stepwise model is in
+:mod:`cvfit.fit.curve_global_stepwise`. Each file keeps its own closed-form current scale,
+C_dl and background (variable projection, :class:`cvfit.fit.curve_model.CurveModel`); the
+kinetic files (those the two-step analysis took from the curve fit) keep their own log10 k0
+and α, the others are Nernstian; an R_u the per-file fit estimated (not given) is a
+parameter again, so its uncertainty reaches the constants and a shared α. The search is
+over the tie's parameters and those per-file parameters, started from the two-step
+result. The Jacobian is built file by file: the shared parameters act only through E½ of
+each file, so a derivative costs one simulation per file for E½ and one per per-file
+parameter.
+
+Sharing (``share``): ``"alpha"`` — one α for all kinetic files (its column collects each
+file's derivative); ``"charging"`` — one double-layer capacitance for all files. C_dl is
+linear: held at the shared value, each file solves its scale and background in closed form,
+and the residual is exactly linear in C_dl with derivative −(the weighted charging column
+with its projection on the file's other linear terms removed), so the shared C_dl is a
+parameter of the search with an analytic Jacobian column.
 
 Intervals: covariance of the Jacobian (scaled by the reduced χ² when above 1), and the χ²
-profile of p − q and of log10(β_ox/β_red) (the other parameters refitted; Δχ² = 3.84).
-The D term of Lingane's equation is neglected, as in the two-step fit.
+profile of the tie's constants (the other parameters refitted; Δχ² = 3.84). The D term of
+Lingane's equation is neglected, as in the two-step fit.
 
 References
 ----------
@@ -28,7 +39,7 @@ from __future__ import annotations
 
 import math
 import time
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -41,10 +52,23 @@ from cvfit.units import FARADAY, GAS_CONSTANT
 from .curve_fit import ALPHA_RANGE
 from .curve_model import CurveModel
 
-__all__ = ["GlobalFile", "GlobalCurveFit", "fit_global_lingane"]
+__all__ = [
+    "GlobalFile",
+    "GlobalCurveFit",
+    "Tie",
+    "SHARED_NAMES",
+    "fit_global",
+    "fit_global_lingane",
+    "lingane_tie",
+]
 
-#: Step of the finite-difference derivatives: E½ in V, log10 k0, α.
-_STEP = (1e-6, 1e-5, 1e-5)
+#: Step of the finite-difference derivatives: E½ in V, log10 k0, α, R_u in Ω.
+_STEP = (1e-6, 1e-5, 1e-5, 1e-2)
+#: Largest ohmic drop a fitted R_u may give at the record's largest current, V (as the
+#: per-file fit).
+_MAX_DROP_V = 0.1
+#: What ``[fit] global_shared`` may name.
+SHARED_NAMES = ("alpha", "charging")
 
 
 @dataclass(frozen=True)
@@ -62,6 +86,11 @@ class GlobalFile:
         R_u used for the drop, Ω.
     log10_k0, alpha : float or None
         Start of the kinetic parameters; None for a Nernstian file.
+    D_ratio : float
+        D_R/D_O of the model (given).
+    fit_resistance : bool
+        R_u is a parameter of the global search (started at *resistance_ohm*): the
+        per-file fit estimated it and the manifest does not give it.
     """
 
     name: str
@@ -70,6 +99,40 @@ class GlobalFile:
     resistance_ohm: float
     log10_k0: float | None
     alpha: float | None
+    D_ratio: float = 1.0
+    fit_resistance: bool = False
+
+
+@dataclass(frozen=True)
+class Tie:
+    """How the series' constants set the E½ of every file.
+
+    Attributes
+    ----------
+    model : {"lingane", "stepwise"}
+    names : tuple of str
+        Names of the tie's parameters (the first is E½(s), V).
+    start, lower, upper : ndarray
+        Start (the two-step result) and bounds.
+    e_half : callable
+        ``e_half(p) -> ndarray``: E½ of every file, V.
+    gradient : callable
+        ``gradient(p) -> ndarray (files, parameters)``: ∂E½/∂p.
+    profiled : tuple of int
+        Parameters whose 95 % interval comes from the χ² profile.
+    fitted_state : str or None
+        Stepwise: the form whose constants are fitted.
+    """
+
+    model: str
+    names: tuple[str, ...]
+    start: np.ndarray
+    lower: np.ndarray
+    upper: np.ndarray
+    e_half: Callable[[np.ndarray], np.ndarray]
+    gradient: Callable[[np.ndarray], np.ndarray]
+    profiled: tuple[int, ...]
+    fitted_state: str | None = None
 
 
 @dataclass(frozen=True)
@@ -78,8 +141,21 @@ class GlobalCurveFit:
 
     Attributes
     ----------
-    E_half_free_V, delta_ligands, log10_beta_ratio : Quantity
-        E½(s), p − q and log10(β_ox/β_red); the constants' intervals from the χ² profile.
+    model : {"lingane", "stepwise"}
+    E_half_free_V : Quantity
+        E½(s), V.
+    delta_ligands, log10_beta_ratio : Quantity or None
+        Lingane model: p − q and log10(β_ox/β_red), intervals from the χ² profile.
+    log10_beta : tuple of Quantity
+        Stepwise model: log10 β_1 … β_N of the fitted form (profile intervals); () else.
+    fitted_state : str or None
+        Stepwise model: the form whose constants are fitted ("ox" or "red").
+    shared : tuple of str
+        What was shared (:data:`SHARED_NAMES`).
+    alpha : Quantity or None
+        The shared α of the kinetic files.
+    double_layer_F : Quantity or None
+        The shared double-layer capacitance, F.
     reduced_chi2 : float
     files : tuple of str
     simulations : int
@@ -88,25 +164,70 @@ class GlobalCurveFit:
     """
 
     E_half_free_V: Quantity
-    delta_ligands: Quantity
-    log10_beta_ratio: Quantity
+    delta_ligands: Quantity | None
+    log10_beta_ratio: Quantity | None
     reduced_chi2: float
     files: tuple[str, ...]
     simulations: int
     fit_time_s: float
     converged: bool
+    model: str = "lingane"
+    log10_beta: tuple[Quantity, ...] = ()
+    fitted_state: str | None = None
+    shared: tuple[str, ...] = ()
+    alpha: Quantity | None = None
+    double_layer_F: Quantity | None = None
 
     def to_dict(self) -> dict[str, object]:
+        def opt(q: Quantity | None) -> object:
+            return None if q is None else q.to_dict()
+
         return {
-            "model": "lingane",
+            "model": self.model,
             "E_half_free_V": self.E_half_free_V.to_dict(),
-            "delta_ligands": self.delta_ligands.to_dict(),
-            "log10_beta_ratio": self.log10_beta_ratio.to_dict(),
+            "delta_ligands": opt(self.delta_ligands),
+            "log10_beta_ratio": opt(self.log10_beta_ratio),
+            "log10_beta": [{"j": j, **q.to_dict()} for j, q in enumerate(self.log10_beta, 1)],
+            "fitted_state": self.fitted_state,
+            "shared": list(self.shared),
+            "alpha": opt(self.alpha),
+            "double_layer_F": opt(self.double_layer_F),
             "reduced_chi2": clean_number(self.reduced_chi2),
             "files": list(self.files),
             "simulations": self.simulations,
             "converged": self.converged,
         }
+
+
+def lingane_tie(
+    files: Sequence[GlobalFile],
+    *,
+    electrons: int,
+    temperature_K: float,
+    start: tuple[float, float, float],
+) -> Tie:
+    """The Lingane line as a tie: parameters E½(s), p − q, log10(β_ox/β_red)."""
+    S = math.log(10.0) * GAS_CONSTANT * temperature_K / (electrons * FARADAY)
+    logL = np.array([math.log10(f.ligand_M) if f.ligand_M > 0 else 0.0 for f in files])
+    has_L = np.array([f.ligand_M > 0 for f in files], float)
+
+    def e_half(p: np.ndarray) -> np.ndarray:
+        return p[0] - S * has_L * (p[2] + p[1] * logL)
+
+    def gradient(p: np.ndarray) -> np.ndarray:
+        return np.column_stack([np.ones(len(files)), -S * has_L * logL, -S * has_L])
+
+    s = np.array(start, float)
+    return Tie(
+        "lingane",
+        ("E_half_free_V", "delta_ligands", "log10_beta_ratio"),
+        s,
+        s - np.array([0.2, 3.0, 5.0]),
+        s + np.array([0.2, 3.0, 5.0]),
+        e_half,
+        gradient,
+        (1, 2),
+    )
 
 
 def fit_global_lingane(
@@ -115,6 +236,7 @@ def fit_global_lingane(
     electrons: int,
     temperature_K: float,
     start: tuple[float, float, float],
+    share: Sequence[str] = (),
 ) -> GlobalCurveFit:
     """Fit all curves with E½ tied by the Lingane line.
 
@@ -125,74 +247,142 @@ def fit_global_lingane(
     electrons, temperature_K
     start : (float, float, float)
         E½(s) (V), p − q and log10(β_ox/β_red) to start from (the two-step fit).
+    share : sequence of str
+        Names from :data:`SHARED_NAMES`.
 
     Raises
     ------
     FitError
         Too few files.
     """
-    t0 = time.perf_counter()
     if not any(f.ligand_M == 0 for f in files) or len({f.ligand_M for f in files}) < 3:
         raise FitError("the global fit needs a ligand-free file and two ligand concentrations")
-    S = math.log(10.0) * GAS_CONSTANT * temperature_K / (electrons * FARADAY)
+    tie = lingane_tie(files, electrons=electrons, temperature_K=temperature_K, start=start)
+    return fit_global(files, tie, share=share)
+
+
+def fit_global(
+    files: Sequence[GlobalFile], tie: Tie, *, share: Sequence[str] = ()
+) -> GlobalCurveFit:
+    """Fit all curves with E½ tied by *tie* (see the module notes).
+
+    Raises
+    ------
+    FitError
+        An unknown name in *share*.
+    """
+    t0 = time.perf_counter()
+    bad = [s for s in share if s not in SHARED_NAMES]
+    if bad:
+        raise FitError(f"cannot share {bad[0]!r}: choose from {', '.join(SHARED_NAMES)}")
+    m = tie.start.size
     kinetic = [k for k, f in enumerate(files) if f.log10_k0 is not None]
-    slot = {k: 3 + 2 * j for j, k in enumerate(kinetic)}
-    x0 = [*start]
-    lo = [start[0] - 0.2, start[1] - 3.0, start[2] - 5.0]
-    hi = [start[0] + 0.2, start[1] + 3.0, start[2] + 5.0]
+    share_alpha = "alpha" in share and len(kinetic) > 0
+    share_C = "charging" in share
+    x0 = list(tie.start)
+    lo, hi = list(tie.lower), list(tie.upper)
+    i_alpha = i_C = -1
+    if share_alpha:
+        i_alpha = len(x0)
+        x0.append(float(np.mean([files[k].alpha for k in kinetic])))
+        lo.append(ALPHA_RANGE[0])
+        hi.append(ALPHA_RANGE[1])
+    if share_C:
+        i_C = len(x0)
+        starts = []
+        e0 = tie.e_half(tie.start)
+        for k, f in enumerate(files):
+            lk = math.inf if f.log10_k0 is None else f.log10_k0
+            lin = f.model.evaluate(e0[k], lk, f.alpha or 0.5, f.resistance_ohm, f.D_ratio)
+            starts.append(lin.coefficients[1])
+        x0.append(float(np.mean(starts)))
+        lo.append(-np.inf)
+        hi.append(np.inf)
+    slot: dict[int, tuple[int, int]] = {}
     for k in kinetic:
         f = files[k]
-        x0 += [f.log10_k0, f.alpha]
-        lo += [f.log10_k0 - 3.0, ALPHA_RANGE[0]]
-        hi += [f.log10_k0 + 3.0, ALPHA_RANGE[1]]
-    x0 = np.clip(np.array(x0, float), np.array(lo) + 1e-9, np.array(hi) - 1e-9)
-    logL = np.array([math.log10(f.ligand_M) if f.ligand_M > 0 else 0.0 for f in files])
-    has_L = np.array([f.ligand_M > 0 for f in files], float)
+        j = len(x0)
+        x0.append(f.log10_k0)
+        lo.append(f.log10_k0 - 3.0)
+        hi.append(f.log10_k0 + 3.0)
+        if share_alpha:
+            slot[k] = (j, i_alpha)
+        else:
+            x0.append(f.alpha)
+            lo.append(ALPHA_RANGE[0])
+            hi.append(ALPHA_RANGE[1])
+            slot[k] = (j, j + 1)
+    r_slot: dict[int, int] = {}
+    for k, f in enumerate(files):
+        if f.fit_resistance:
+            r_slot[k] = len(x0)
+            x0.append(f.resistance_ohm)
+            lo.append(0.0)
+            i_max = float(np.max(np.abs(f.model.data.current_A))) or 1.0
+            hi.append(max(f.resistance_ohm, 0.0) + _MAX_DROP_V / i_max)
+    lo_a, hi_a = np.array(lo, float), np.array(hi, float)
+    x0 = np.clip(np.array(x0, float), lo_a + 1e-9, hi_a - 1e-9)
     sizes = [int(f.model.data.fit_mask.sum()) for f in files]
     offsets = np.concatenate(([0], np.cumsum(sizes)))
 
-    def file_params(x: np.ndarray, k: int) -> tuple[float, float, float]:
-        e_half = x[0] - S * has_L[k] * (x[2] + x[1] * logL[k])
+    def file_params(x: np.ndarray, k: int, e_half: np.ndarray) -> list[float]:
+        R = float(x[r_slot[k]]) if k in r_slot else files[k].resistance_ohm
         if k in slot:
-            return e_half, float(x[slot[k]]), float(x[slot[k] + 1])
-        return e_half, math.inf, 0.5
+            a, b = slot[k]
+            return [float(e_half[k]), float(x[a]), float(x[b]), R]
+        return [float(e_half[k]), math.inf, 0.5, R]
 
-    def one(k: int, p: tuple[float, float, float]) -> np.ndarray:
-        f = files[k]
-        return f.model.evaluate(p[0], p[1], p[2], f.resistance_ohm).residual
+    def one(k: int, p: list[float], C: float | None):
+        return files[k].model.evaluate(p[0], p[1], p[2], p[3], files[k].D_ratio, C)
+
+    def moved(k: int, p: list[float], i: int, C: float | None) -> np.ndarray:
+        q = list(p)
+        q[i] += _STEP[i]
+        return one(k, q, C).residual
 
     cache: dict[bytes, np.ndarray] = {}
+
+    def C_of(x: np.ndarray) -> float | None:
+        return float(x[i_C]) if share_C else None
 
     def fun(x: np.ndarray) -> np.ndarray:
         key = x.tobytes()
         if key not in cache:
             cache.clear()
-            cache[key] = np.concatenate([one(k, file_params(x, k)) for k in range(len(files))])
+            e = tie.e_half(x[:m])
+            cache[key] = np.concatenate(
+                [one(k, file_params(x, k, e), C_of(x)).residual for k in range(len(files))]
+            )
         return cache[key]
 
     def jac(x: np.ndarray) -> np.ndarray:
-        base = fun(x)
-        J = np.zeros((base.size, x.size))
+        e = tie.e_half(x[:m])
+        G = tie.gradient(x[:m])
+        C = C_of(x)
+        J = np.zeros((int(offsets[-1]), x.size))
         for k in range(len(files)):
             rows = slice(offsets[k], offsets[k + 1])
-            p = file_params(x, k)
-            r0 = base[rows]
-            dE = (one(k, (p[0] + _STEP[0], p[1], p[2])) - r0) / _STEP[0]
-            J[rows, 0] = dE
-            J[rows, 1] = dE * (-S * has_L[k] * logL[k])
-            J[rows, 2] = dE * (-S * has_L[k])
+            p = file_params(x, k, e)
+            base = one(k, p, C)
+            r0 = base.residual
+            dE = (moved(k, p, 0, C) - r0) / _STEP[0]
+            J[rows, :m] = dE[:, None] * G[k][None, :]
+            if share_C:
+                J[rows, i_C] = -base.charging_projected
             if k in slot:
-                j = slot[k]
-                J[rows, j] = (one(k, (p[0], p[1] + _STEP[1], p[2])) - r0) / _STEP[1]
-                J[rows, j + 1] = (one(k, (p[0], p[1], p[2] + _STEP[2])) - r0) / _STEP[2]
+                a, b = slot[k]
+                J[rows, a] = (moved(k, p, 1, C) - r0) / _STEP[1]
+                J[rows, b] += (moved(k, p, 2, C) - r0) / _STEP[2]
+            if k in r_slot:
+                J[rows, r_slot[k]] = (moved(k, p, 3, C) - r0) / _STEP[3]
         return J
 
-    bounds = (np.array(lo), np.array(hi))
+    bounds = (lo_a, hi_a)
     sol = least_squares(fun, x0, jac=jac, bounds=bounds, x_scale="jac", method="trf")
     x = sol.x
     ssr = float(np.sum(fun(x) ** 2))
-    n_par = x.size + 4 * len(files)
-    dof = int(offsets[-1]) - n_par
+    n_linear = (3 if share_C else 4) * len(files)
+    dof = int(offsets[-1]) - x.size - n_linear
     chi2 = ssr / dof
     inflate = max(1.0, chi2)
     J = jac(x)
@@ -221,8 +411,9 @@ def fit_global_lingane(
                 full[free] = z
                 return jac(full)[:, free]
 
+            z0 = np.clip(xs[free], bounds[0][free] + 1e-9, bounds[1][free] - 1e-9)
             s = least_squares(
-                f_sub, xs[free], jac=j_sub, bounds=(bounds[0][free], bounds[1][free]),
+                f_sub, z0, jac=j_sub, bounds=(bounds[0][free], bounds[1][free]),
                 x_scale="jac", method="trf",
             )  # fmt: skip
             out = xs.copy()
@@ -249,13 +440,25 @@ def fit_global_lingane(
             return Quantity.from_t(float(x[k]), float(se[k]), math.inf)
         return Quantity(float(x[k]), float(se[k]), ci, "profile χ²")
 
-    return GlobalCurveFit(
+    constants = {k: q(k, profile(k)) for k in tie.profiled}
+    common = dict(
         E_half_free_V=q(0),
-        delta_ligands=q(1, profile(1)),
-        log10_beta_ratio=q(2, profile(2)),
         reduced_chi2=chi2,
         files=tuple(f.name for f in files),
         simulations=sum(f.model.simulations for f in files),
         fit_time_s=time.perf_counter() - t0,
         converged=sol.status > 0,
+        model=tie.model,
+        shared=tuple(s for s in SHARED_NAMES if s in share),
+        alpha=q(i_alpha) if share_alpha else None,
+        double_layer_F=q(i_C) if share_C else None,
+    )
+    if tie.model == "lingane":
+        return GlobalCurveFit(delta_ligands=constants[1], log10_beta_ratio=constants[2], **common)
+    return GlobalCurveFit(
+        delta_ligands=None,
+        log10_beta_ratio=None,
+        log10_beta=tuple(constants[k] for k in tie.profiled),
+        fitted_state=tie.fitted_state,
+        **common,
     )

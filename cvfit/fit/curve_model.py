@@ -176,6 +176,10 @@ class LinearSolution:
         The three parts of the model current on every sample.
     residual : ndarray
         (data − model)/σ on the fitted samples.
+    charging_projected : ndarray or None
+        With C_dl given (shared by several records): the weighted charging column
+        dE/dt/σ with its projection on the other linear terms removed, so that
+        ∂residual/∂C_dl = −charging_projected (exact: the residual is linear in C_dl).
     """
 
     coefficients: np.ndarray
@@ -183,6 +187,7 @@ class LinearSolution:
     charging_A: np.ndarray
     background_A: np.ndarray
     residual: np.ndarray
+    charging_projected: np.ndarray | None = None
 
     @property
     def model_A(self) -> np.ndarray:
@@ -218,7 +223,12 @@ class CurveModel:
         self._drop_current_A = np.asarray(current_A, dtype=float).copy()
 
     def settle_drop(
-        self, E_half_V: float, log10_k0: float, alpha: float, resistance_ohm: float
+        self,
+        E_half_V: float,
+        log10_k0: float,
+        alpha: float,
+        resistance_ohm: float,
+        D_ratio: float = 1.0,
     ) -> LinearSolution:
         """Take the drop from this model's own faradaic plus charging current (one run).
 
@@ -228,7 +238,7 @@ class CurveModel:
         then prefers R_u = 0). The model current is free of both; settled at a first
         optimum and refitted, drop and model agree (a fixed point).
         """
-        lin = self.evaluate(E_half_V, log10_k0, alpha, resistance_ohm)
+        lin = self.evaluate(E_half_V, log10_k0, alpha, resistance_ohm, D_ratio)
         self.set_drop_current(lin.faradaic_A + lin.charging_A)
         return lin
 
@@ -303,24 +313,44 @@ class CurveModel:
         self.simulations += 1
         return raw.faradaic_A, drive
 
-    def solve_linear(self, shape: np.ndarray, drive_V: np.ndarray) -> LinearSolution:
-        """Least-squares s, C_dl, b0, b1 for a given shape (QR on the fitted samples)."""
+    def solve_linear(
+        self, shape: np.ndarray, drive_V: np.ndarray, double_layer_F: float | None = None
+    ) -> LinearSolution:
+        """Least-squares s, C_dl, b0, b1 for a given shape (QR on the fitted samples).
+
+        With *double_layer_F* given, C_dl is held at it (a capacitance shared by several
+        records, fitted outside) and s, b0, b1 are solved.
+        """
         d = self.data
         charging = np.empty_like(drive_V)
         charging[0] = 0.0
         # backward difference: exact for the piecewise-linear sweep, as the simulator
         charging[1:] = np.diff(drive_V) / d.dt_s
-        basis = np.column_stack([shape, charging, np.ones_like(shape), d.potential_V])
         m = d.fit_mask
-        A = basis[m] / d.sigma_A
         y = d.current_A[m] / d.sigma_A
-        coef, *_ = np.linalg.lstsq(A, y, rcond=None)
+        if double_layer_F is None:
+            basis = np.column_stack([shape, charging, np.ones_like(shape), d.potential_V])
+            A = basis[m] / d.sigma_A
+            coef, *_ = np.linalg.lstsq(A, y, rcond=None)
+            projected = None
+            residual = y - A @ coef
+        else:
+            basis = np.column_stack([shape, np.ones_like(shape), d.potential_V])
+            A = basis[m] / d.sigma_A
+            c = charging[m] / d.sigma_A
+            Q, _ = np.linalg.qr(A)
+            projected = c - Q @ (Q.T @ c)
+            yc = y - double_layer_F * c
+            part, *_ = np.linalg.lstsq(A, yc, rcond=None)
+            coef = np.array([part[0], double_layer_F, part[1], part[2]])
+            residual = yc - A @ part
         return LinearSolution(
             coefficients=coef,
             faradaic_A=coef[0] * shape,
             charging_A=coef[1] * charging,
             background_A=coef[2] + coef[3] * d.potential_V,
-            residual=y - A @ coef,
+            residual=residual,
+            charging_projected=projected,
         )
 
     def evaluate(
@@ -330,7 +360,8 @@ class CurveModel:
         alpha: float,
         resistance_ohm: float = 0.0,
         D_ratio: float = 1.0,
+        double_layer_F: float | None = None,
     ) -> LinearSolution:
-        """One simulation and the closed-form linear coefficients."""
+        """One simulation and the closed-form linear coefficients (C_dl held if given)."""
         shape, drive = self.shape(E_half_V, log10_k0, alpha, resistance_ohm, D_ratio)
-        return self.solve_linear(shape, drive)
+        return self.solve_linear(shape, drive, double_layer_F)

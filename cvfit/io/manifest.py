@@ -44,10 +44,14 @@ SERIES_KEYS = (
 )
 FIT_KEYS = (
     "model", "max_complexes", "exclude_non_nernstian", "half_wave_source", "global",
+    "curve_diffusion_ratio", "global_shared",
     *_chem.FIT_STEPWISE_KEYS,
 )  # fmt: skip
 #: Where E½ of each file comes from (``[fit] half_wave_source``).
 HALF_WAVE_SOURCES = ("peaks", "curve", "auto")
+#: What the global curve fit may share between files (``[fit] global_shared``; the same
+#: names as cvfit.fit.curve_global.SHARED_NAMES, tested).
+GLOBAL_SHARED_NAMES = ("alpha", "charging")
 REVERSIBILITY_KEYS = ("n_delta_Ep_margin_V", "n_peak_width_margin_V", "current_ratio_margin")
 ENTRY_KEYS = (
     "file",
@@ -214,7 +218,13 @@ class FitSettings:
         files that pass the reversibility screen and the curve fit for the others.
     global_fit : bool
         ``global`` in the manifest: also fit all curves at once with E½ tied by the
-        Lingane line (default false).
+        Lingane line or the DeFord–Hume model (default false).
+    global_shared : tuple of str
+        Global fit: ``"alpha"`` (one α for the kinetic files) and/or ``"charging"`` (one
+        double-layer capacitance for all files); default none.
+    curve_diffusion_ratio : float
+        D_R/D_O of the curve fit's model (default 1). A number only: one curve cannot
+        tell it (see :mod:`cvfit.fit.curve_fit`); it changes k0, not E½.
     """
 
     model: Literal["lingane", "stepwise"] = "lingane"
@@ -225,6 +235,8 @@ class FitSettings:
     current_ratio_correction: bool = True
     half_wave_source: Literal["peaks", "curve", "auto"] = "auto"
     global_fit: bool = False
+    curve_diffusion_ratio: float = 1.0
+    global_shared: tuple[str, ...] = ()
 
     def __post_init__(self) -> None:
         _chem.clean_fit(self)
@@ -233,6 +245,35 @@ class FitSettings:
                 'half_wave_source must be "peaks", "curve" or "auto", got '
                 f"{self.half_wave_source!r}",
                 key="half_wave_source",
+            )
+        r = self.curve_diffusion_ratio
+        if r == "fit":
+            raise InputError(
+                'curve_diffusion_ratio cannot be "fit": a single curve at a planar electrode '
+                "does not determine D_R/D_O (it trades exactly against k0); give the ratio as "
+                "a number, or leave it out for 1",
+                key="curve_diffusion_ratio",
+            )
+        if not _is_number(r) or not 0.1 <= float(r) <= 10.0:
+            raise InputError(
+                f"curve_diffusion_ratio must be a number 0.1–10 (D_R/D_O), got {r!r}",
+                key="curve_diffusion_ratio",
+            )
+        object.__setattr__(self, "curve_diffusion_ratio", float(r))
+        shared = self.global_shared
+        if not isinstance(shared, list | tuple) or not all(
+            isinstance(x, str) and x in GLOBAL_SHARED_NAMES for x in shared
+        ):
+            raise InputError(
+                f'global_shared must be a list of "alpha" and/or "charging", got {shared!r}',
+                key="global_shared",
+            )
+        object.__setattr__(self, "global_shared", tuple(dict.fromkeys(shared)))
+        if shared and self.global_fit is not True:
+            raise InputError(
+                "global_shared applies to the global curve fit: set global = true too, or "
+                "leave global_shared out",
+                key="global_shared",
             )
         if not isinstance(self.global_fit, bool):
             raise InputError(

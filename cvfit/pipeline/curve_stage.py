@@ -122,6 +122,7 @@ def curve_fit_for(
             area_cm2=series.electrode_area_cm2,
             concentration_M=series.analyte_M,
             resistance_ohm=resistance_ohm,
+            D_ratio=fit_settings.curve_diffusion_ratio,
         )
     except FitError as exc:
         return None, [Flag("CURVE_FIT_NOT_POSSIBLE", f"no curve fit: {exc}", "warning")]

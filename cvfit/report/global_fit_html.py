@@ -23,6 +23,42 @@ def _interval(q: Mapping[str, Any] | None) -> str:
     return f"[{ci[0]:.4f}, {ci[1]:.4f}]"
 
 
+def _pairs(g: Mapping[str, Any], fit: Mapping[str, Any]) -> list[tuple[str, str, Any, Any]]:
+    """(key, label, global quantity, two-step quantity) of every constant compared."""
+    if g.get("model") == "stepwise":
+        two = {b.get("j"): b for b in fit.get("log10_beta") or []}
+        form = g.get("fitted_state") or "ox"
+        return [
+            (f"log10_beta_{b['j']}", f"log10 β_{b['j']} ({form})", b, two.get(b["j"]))
+            for b in g.get("log10_beta") or []
+        ]
+    return [(key, label, g.get(key), fit.get(key)) for key, label in _ROWS]
+
+
+def _shared_rows(g: Mapping[str, Any]) -> list[str]:
+    rows = []
+    for key, label, scale in (
+        ("alpha", "α (shared)", 1.0),
+        ("double_layer_F", "C_dl (shared), µF", 1e6),
+    ):
+        q = g.get(key)
+        if not q:
+            continue
+        ci = q.get("ci95") or [None, None]
+        interval = "n/d" if None in ci else f"[{scale * ci[0]:.4g}, {scale * ci[1]:.4g}]"
+        value = format_pm(_scaled(q.get("value"), scale), _scaled(q.get("stderr"), scale))
+        rows.append(
+            f'<tr data-key="global-{escape(key)}"><th scope="row">{escape(label)}</th>'
+            f'<td class="num">{escape(value)}</td><td class="num">{escape(interval)}</td>'
+            '<td class="num">—</td><td class="num">—</td></tr>'
+        )
+    return rows
+
+
+def _scaled(x: Any, scale: float) -> Any:
+    return None if x is None else scale * x
+
+
 def global_fit_section(data: Mapping[str, Any]) -> str:
     """``<section>`` comparing the global fit with the two-step fit; "" without one."""
     g = data.get("global_fit")
@@ -30,8 +66,8 @@ def global_fit_section(data: Mapping[str, Any]) -> str:
         return ""
     fit = data.get("fit") or {}
     rows = []
-    for key, label in _ROWS:
-        one, two = g.get(key) or {}, fit.get(key) or {}
+    for key, label, one, two in _pairs(g, fit):
+        one, two = one or {}, two or {}
         rows.append(
             f'<tr data-key="global-{escape(key)}"><th scope="row">{escape(label)}</th>'
             f'<td class="num">{escape(format_pm(one.get("value"), one.get("stderr")))}</td>'
@@ -39,9 +75,11 @@ def global_fit_section(data: Mapping[str, Any]) -> str:
             f'<td class="num">{escape(format_pm(two.get("value"), two.get("stderr")))}</td>'
             f'<td class="num">{escape(_interval(two))}</td></tr>'
         )
+    rows += _shared_rows(g)
     chi2 = g.get("reduced_chi2")
+    tie = "DeFord–Hume model" if g.get("model") == "stepwise" else "Lingane line"
     note = (
-        f"All {len(g.get('files') or [])} curves fitted at once, E½ tied by the Lingane line "
+        f"All {len(g.get('files') or [])} curves fitted at once, E½ tied by the {tie} "
         f"({g.get('simulations')} simulations, reduced χ² "
         f"{'n/d' if chi2 is None else f'{chi2:.2f}'}); intervals of the global fit from the "
         "χ² profile."

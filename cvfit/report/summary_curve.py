@@ -40,9 +40,20 @@ def global_lines(result: SeriesResult) -> list[str]:
     def q(x) -> str:
         return f"{format_pm(x.value, x.stderr)}   95 % [{x.ci95[0]:.4f}, {x.ci95[1]:.4f}]"
 
-    return [
-        f"Global curve fit of {len(g.files)} curves (E½ tied by the Lingane line, "
+    tie = "the DeFord–Hume model" if g.model == "stepwise" else "the Lingane line"
+    lines = [
+        f"Global curve fit of {len(g.files)} curves (E½ tied by {tie}, "
         f"{g.simulations} simulations, reduced χ² {g.reduced_chi2:.2f}):",
-        "  p − q                 " + q(g.delta_ligands),
-        "  log10(β_ox/β_red)     " + q(g.log10_beta_ratio),
     ]
+    if g.model == "stepwise":
+        for j, b in enumerate(g.log10_beta, start=1):
+            lines.append(f"  log10 β_{j} ({g.fitted_state})".ljust(24) + q(b))
+    else:
+        lines.append("  p − q                 " + q(g.delta_ligands))
+        lines.append("  log10(β_ox/β_red)     " + q(g.log10_beta_ratio))
+    if g.alpha is not None:
+        lines.append("  α (shared)            " + q(g.alpha))
+    if g.double_layer_F is not None:
+        c = g.double_layer_F
+        lines.append(f"  C_dl (shared)         {format_pm(c.value, c.stderr, scale=1e6)} µF")
+    return lines
