@@ -21,8 +21,9 @@ of runs taken side by side:
 The series are simulated once (``cvfit.simulate.simulate_series``, see ``_timing.py``)
 into ``--cache`` (default: the system temporary folder, not the repository), and every
 file is read once before timing so that both sides find it in the page cache. Each side
-runs once untimed first (byte-code caches, page cache of the libraries). No assertions:
-numbers depend on the machine and its load.
+runs once untimed first (byte-code caches — allowed even where the machine sets
+PYTHONDONTWRITEBYTECODE, see ``_timing.child_environment`` — and the page cache of the
+libraries). No assertions: numbers depend on the machine and its load.
 """
 
 from __future__ import annotations

@@ -22,13 +22,12 @@ depend on the machine and its load.
 from __future__ import annotations
 
 import argparse
-import os
 import subprocess
 import sys
 import tempfile
 
 import numpy as np
-from _timing import alternate, median
+from _timing import alternate, child_environment, median
 
 from cvfit.simulate import finite_difference
 from cvfit.simulate.voltammogram import _simulate_raw
@@ -53,7 +52,7 @@ print(t1 - t0, t2 - t1, t3 - t2)
 
 def first_call(mode: str, step_V: float, cache_dir: str) -> list[float]:
     """(import s, first simulation s, second simulation s) in a fresh process."""
-    env = dict(os.environ, NUMBA_CACHE_DIR=cache_dir)
+    env = dict(child_environment(), NUMBA_CACHE_DIR=cache_dir)
     out = subprocess.run(
         [sys.executable, "-c", FIRST_CALL, mode, repr(step_V)],
         env=env,
