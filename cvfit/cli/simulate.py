@@ -301,8 +301,7 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
             **settings,
         )
     except SimulationError as exc:
-        hint = "; use --force to replace" if "exists" in str(exc) else ""
-        raise InputError(f"{exc}{hint}", source=_CMD) from None
+        raise _refused(exc) from None
     sys.stdout.write(
         f"wrote {manifest} and {len(ligands)} voltammograms: E½ from {min(halves):.4f} to "
         f"{max(halves):.4f} V over ligand {min(ligands):g}–{max(ligands):g} M\n"
@@ -357,11 +356,17 @@ def _handle_standard_series(
             **settings,
         )
     except SimulationError as exc:
-        hint = "; use --force to replace" if "exists" in str(exc) else ""
-        raise InputError(f"{exc}{hint}", source=_CMD) from None
+        raise _refused(exc) from None
     sys.stdout.write(
         f"wrote {series.manifest} and {len(ligands)} voltammograms with an internal standard "
         f"at {standard:.4f} V; reference drift from {1e3 * min(series.drift_V):+.2f} to "
         f"{1e3 * max(series.drift_V):+.2f} mV\n"
     )
     return 0
+
+
+def _refused(exc: SimulationError) -> InputError:
+    """The simulator's refusal of a series as a command-line error (with the way out when
+    the files exist)."""
+    hint = "; use --force to replace" if "exists" in str(exc) else ""
+    return InputError(f"{exc}{hint}", source=_CMD)

@@ -103,7 +103,7 @@ def fit_line(
 
     References
     ----------
-    Moré, J. J. In Numerical Analysis; Watson, G. A., Ed.; Lecture Notes in Mathematics
+    Moré, J. J. In Numerical Analysis; Watson, G. A., Ed.; Lect. Notes Math.
     630; Springer, 1978; pp 105–116 (the Levenberg–Marquardt implementation of MINPACK).
     """
     x = np.asarray(x, dtype=float)

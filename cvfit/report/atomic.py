@@ -71,8 +71,9 @@ def atomic_write_with(path: str | Path, writer: Callable[[IO[str]], None]) -> No
 
 # --- output sets: the whole folder swapped in at once ------------------------------------
 
-#: Marks the hidden folders a run keeps beside its output folder: ``.NAME.cvfit-new-XXXXXXXX``
-#: (a set being written) and ``.NAME.cvfit-old-XXXXXXXX`` (an earlier set being replaced).
+#: Marks the hidden folders a run keeps beside its output folder: ``.NAME.cvfit-new-RANDOM``
+#: (a set being written) and ``.NAME.cvfit-old-RANDOM`` (an earlier set being replaced),
+#: RANDOM being 8 random characters.
 SET_MARK = ".cvfit-"
 _KINDS = ("new", "old")
 

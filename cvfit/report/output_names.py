@@ -36,7 +36,7 @@ _OWNED = frozenset(
 
 def is_output_name(name: str) -> bool:
     """True for a file name cvfit writes into an output folder, or the hidden temporary
-    name (``.NAME.XXXX``) a killed writer of an earlier version left there."""
+    name (``.NAME.<random>``) a killed writer of an earlier version left there."""
     if name in _OWNED:
         return True
     return name.startswith(".") and any(name.startswith(f".{n}.") for n in _OWNED)
