@@ -21,7 +21,13 @@ from cvfit.flags import Flag
 from cvfit.screen.classification import classify_voltammogram
 from cvfit.voltammogram import Voltammogram
 
-__all__ = ["curve_fit_for", "record_curve_data", "MODEL_PRECISION", "PSI_IRREVERSIBLE"]
+__all__ = [
+    "curve_fit_for",
+    "curve_fit_used",
+    "record_curve_data",
+    "MODEL_PRECISION",
+    "PSI_IRREVERSIBLE",
+]
 
 #: Fitted ψ below which the curve counts as irreversible and its E½ is not used: a decade
 #: below the end of Nicholson's working curve (ψ = 0.1, Anal. Chem. 37 (1965) 1351). There
@@ -127,17 +133,7 @@ def curve_fit_for(
     except FitError as exc:
         return None, [Flag("CURVE_FIT_NOT_POSSIBLE", f"no curve fit: {exc}", "warning")]
     flags = list(fit.flags)
-    if fit.accepted and fit.psi < PSI_IRREVERSIBLE:
-        flags.append(
-            Flag(
-                "CURVE_FIT_IRREVERSIBLE",
-                f"curve fit not used: irreversible (fitted ψ = {fit.psi:.2g}, a decade or more "
-                f"below Nicholson's working curve; E½ {fit.E_half_V.value:.4f} V would rest on "
-                "the reverse peak alone)",
-                "info",
-            )
-        )
-    elif fit.accepted:
+    if curve_fit_used(fit):
         e = fit.E_half_V
         flags.append(
             Flag(
@@ -148,4 +144,20 @@ def curve_fit_for(
                 "info",
             )
         )
+    elif fit.accepted:  # accepted, but too slow for its E½ to be trusted
+        flags.append(
+            Flag(
+                "CURVE_FIT_IRREVERSIBLE",
+                f"curve fit not used: irreversible (fitted ψ = {fit.psi:.2g}, a decade or more "
+                f"below Nicholson's working curve; E½ {fit.E_half_V.value:.4f} V would rest on "
+                "the reverse peak alone)",
+                "info",
+            )
+        )
     return fit, flags
+
+
+def curve_fit_used(fit: CurveFit | None) -> bool:
+    """Whether the file's E½ is taken from *fit*: accepted, and not so slow that its E½
+    would rest on the reverse peak alone (ψ below :data:`PSI_IRREVERSIBLE`)."""
+    return fit is not None and fit.accepted and not fit.psi < PSI_IRREVERSIBLE

@@ -23,7 +23,7 @@ from cvfit.screen.reversibility import screen_reversibility
 from cvfit.screen.switching import corrected_half_wave_V
 from cvfit.voltammogram import Voltammogram
 
-from .curve_stage import curve_fit_for
+from .curve_stage import curve_fit_for, curve_fit_used
 from .curves import cycle_curve, points_per_curve
 from .internal_standard import measure_standard, referenced_half_wave
 from .parallel import new_process_pool, one_blas_thread
@@ -175,7 +175,7 @@ def analyse_file(
     curve_fit, curve_flags = curve_fit_for(raw, peaks, screen, manifest, resistance)
     flags += curve_flags
     source = "peaks"
-    if any(f.code == "CURVE_FIT_USED" for f in curve_flags):
+    if curve_fit_used(curve_fit):
         e_half, correction, source = curve_fit.E_half_V.value, 0.0, "curve"
     standard = None
     if manifest.internal_standard is not None:
