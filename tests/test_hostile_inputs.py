@@ -13,6 +13,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import numpy as np
 import pytest
 from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_csv
 
@@ -79,6 +80,27 @@ def test_data_file_of_one_10_mb_line_is_refused_quickly(tmp_path, good):
     line = assert_clean_error(proc, "p2.csv:1:", "64 KiB")
     assert "10000000 bytes" in line
     assert not (tmp_path / "out").exists()
+
+
+@pytest.mark.parametrize("kind", [bytes, str])
+def test_the_quick_line_scan_never_misses_a_long_line(monkeypatch, kind):
+    """The block scan that spares most files the exact search finds every line over the
+    limit (a small limit here, so that many lengths around it are tried)."""
+    import re
+
+    from cvfit.io import limits
+
+    monkeypatch.setattr(limits, "MAX_LINE_BYTES", 64)
+    rng = np.random.default_rng(11)
+    for _ in range(3000):
+        lengths = rng.integers(0, 160, size=rng.integers(1, 12))
+        breaks = rng.choice(["\n", "\r\n", "\r"], size=lengths.size)
+        text = "".join("x" * int(n) + b for n, b in zip(lengths, breaks, strict=True))
+        text = text[: rng.integers(1, len(text) + 1)]  # maybe no break at the end
+        longest = max(len(run) for run in re.split(r"[\r\n]", text))
+        content = text if kind is str else text.encode("ascii")
+        if longest > 64:
+            assert limits._may_hold_a_long_line(content), repr(text)
 
 
 def test_a_long_line_after_a_header_names_its_line(tmp_path):
@@ -180,6 +202,48 @@ def test_data_file_over_the_size_limit_is_refused_unread(tmp_path, good):
         fh.truncate(MAX_DATA_FILE_BYTES + 1)
     proc = run_cli("run", str(manifest), "--out", str(tmp_path / "out"), cwd=tmp_path)
     assert_clean_error(proc, "p1.csv:", "64 MiB", "per data file")
+
+
+def _stat_reporting(size: int, real):
+    """*real* (os.stat or os.fstat) as if the file held *size* bytes (it grew since)."""
+
+    def fake(target):
+        st = real(target)
+        return os.stat_result((st.st_mode, *tuple(st)[1:6], size, *tuple(st)[7:10]))
+
+    return fake
+
+
+def _grown_since_looked(monkeypatch, size: int) -> None:
+    from cvfit.io import limits
+
+    monkeypatch.setattr(limits.os, "stat", _stat_reporting(size, os.stat))
+    monkeypatch.setattr(limits.os, "fstat", _stat_reporting(size, os.fstat))
+
+
+def test_a_file_that_grew_after_its_size_was_taken_is_read_whole(tmp_path, monkeypatch):
+    from cvfit.io import limits
+
+    data = b"0.1,2.0\n" * 1000
+    (tmp_path / "f.csv").write_bytes(data)
+    _grown_since_looked(monkeypatch, 10)
+    got = limits.read_regular_file(
+        tmp_path / "f.csv", limit=len(data), what="data file", missing="m", folder="f"
+    )
+    assert got == data
+
+
+def test_a_file_that_grew_past_the_limit_after_its_size_was_taken_is_refused(
+    tmp_path, monkeypatch
+):
+    from cvfit.io import limits
+
+    (tmp_path / "f.csv").write_bytes(b"0.1,2.0\n" * 1000)
+    _grown_since_looked(monkeypatch, 10)
+    with pytest.raises(InputError, match="more than 3.9 KiB"):
+        limits.read_regular_file(
+            tmp_path / "f.csv", limit=4000, what="data file", missing="m", folder="f"
+        )
 
 
 def test_manifest_over_the_size_limit_is_refused(tmp_path):

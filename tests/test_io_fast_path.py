@@ -43,9 +43,21 @@ def _edit(rows: list[str], at: int, line: str, *, replace: bool = False) -> list
 
 
 def _same(text: str, **kw) -> None:
-    """Both paths give equal tables, or both raise the same message at the same line."""
+    """Both paths give equal tables, or both raise the same message at the same line.
+
+    ASCII text is read a second time from its bytes (``ascii_bytes``, as a file is read),
+    which must give the same again.
+    """
+    if text.isascii():
+        _same_one(text, **kw)
+        kw = {**kw, "ascii_bytes": text.encode("ascii")}
+    _same_one(text, **kw)
+
+
+def _same_one(text: str, **kw) -> None:
+    line_kw = {k: v for k, v in kw.items() if k != "ascii_bytes"}
     try:
-        slow = read_table(split_lines(text), source="f.csv", **kw)
+        slow = read_table(split_lines(text), source="f.csv", **line_kw)
     except InputError as exc:
         with pytest.raises(InputError) as got:
             read_table_text(text, source="f.csv", **kw)
@@ -175,3 +187,31 @@ def test_turning_points_cached_once_and_record_unchanged():
     # the cache is no field: records compare, copy and pickle as before
     assert "_turns" not in {f.name for f in fields(v)}
     assert [(s.start, s.stop) for s in replace(v, source="x").sweeps()] == [(0, 499), (499, 998)]
+
+
+def test_bytes_that_are_not_the_text_are_refused():
+    text = _csv(_rows())
+    with pytest.raises(ValueError, match="ascii_bytes"):
+        read_table_text(text, source="f.csv", ascii_bytes=text.encode()[:-1])
+
+
+@pytest.mark.parametrize(
+    "header",
+    ["time/s,E/V,I/A", "time/s,E/V,I/µA", "t,E,I"],
+    ids=["ascii", "utf-8", "minus-sign"],
+)
+def test_file_bytes_read_as_their_text(header):
+    """A file's bytes give the record its decoded text gives (ASCII bytes go to pandas
+    as they are; other text is encoded again)."""
+    from cvfit.io import parse_voltammogram_bytes, parse_voltammogram_text
+
+    rows = _rows()
+    if header == "t,E,I":  # a typographic minus, as some localised exports write it
+        rows = [r.replace("-", "\u2212") for r in rows]
+    text = _csv(rows, header=header)
+    data = text.encode("utf-8")
+    a = parse_voltammogram_bytes(data, source="f.csv")
+    b = parse_voltammogram_text(text, source="f.csv")
+    np.testing.assert_array_equal(a.potential_V, b.potential_V)
+    np.testing.assert_array_equal(a.current_A, b.current_A)
+    assert a.metadata["import.encoding"] == "utf-8"

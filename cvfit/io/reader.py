@@ -349,6 +349,7 @@ def _parse_text(
     options: ImportOptions | None,
     scan_rate_V_s: float | None,
     extra: dict[str, str] | None = None,
+    ascii_bytes: bytes | None = None,
 ) -> Voltammogram:
     opts = options or ImportOptions()
     if not isinstance(text, str):
@@ -363,6 +364,7 @@ def _parse_text(
         source=source,
         delimiter=opts.delimiter,
         decimal=opts.decimal,
+        ascii_bytes=ascii_bytes,
     )
     return _build(table, opts, source, scan_rate_V_s, extra)
 
@@ -377,9 +379,17 @@ def parse_voltammogram_bytes(
     """As :func:`parse_voltammogram_text`, from raw bytes (encoding detected)."""
     check_line_lengths(data, source=source)
     decoded = decode_bytes(data, source=source)
+    # ASCII data decoded as UTF-8 is the text byte for byte (and holds no U+2212): its
+    # numeric block goes to pandas as it is, not encoded again
+    same = decoded.encoding == "utf-8" and data.isascii()
     # one record built, with the encoding in its metadata (no second copy of the arrays)
     return _parse_text(
-        decoded.text, source, options, scan_rate_V_s, {"import.encoding": decoded.encoding}
+        decoded.text,
+        source,
+        options,
+        scan_rate_V_s,
+        {"import.encoding": decoded.encoding},
+        ascii_bytes=data if same else None,
     )
 
 

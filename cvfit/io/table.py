@@ -366,6 +366,7 @@ def read_table_text(
     source: str,
     delimiter: str | None = None,
     decimal: str | None = None,
+    ascii_bytes: bytes | None = None,
 ) -> NumericTable:
     """As :func:`read_table`, from the whole decoded text, parsing it once.
 
@@ -375,11 +376,17 @@ def read_table_text(
     lines, a lone ``\\r`` line end (``\\r\\n`` is fine), a row pandas cannot read, an
     empty cell — sends the file to :func:`read_table`, which scans line by line and names
     the line and cell, so the result and every message are those of :func:`read_table`.
+
+    *ascii_bytes*, when given, are the bytes *text* was decoded from, all ASCII (so a
+    character's offset is its byte's): the block goes to pandas as they are, without
+    encoding the text again (~0.5 ms of the ~3 ms a 20 000-line file takes).
     """
+    if ascii_bytes is not None and len(ascii_bytes) != len(text):
+        raise ValueError("ascii_bytes must be the ASCII bytes the text was decoded from")
     # Windows line ends (every \r followed by \n) are fine for pandas; a lone \r is not
     crlf = "\r" in text and text.count("\r") == text.count("\r\n")
     if "\r" not in text or crlf:
-        fast = _one_call(text, crlf, source, delimiter, decimal)
+        fast = _one_call(text, crlf, source, delimiter, decimal, ascii_bytes)
         if fast is not None:
             return fast
     return read_table(split_lines(text), source=source, delimiter=delimiter, decimal=decimal)
@@ -391,6 +398,7 @@ def _one_call(
     source: str,
     delimiter: str | None,
     decimal: str | None,
+    ascii_bytes: bytes | None,
 ) -> NumericTable | None:
     """The table from one parse of the numeric block, or None for the line-by-line path."""
     n = _SAMPLE + 100
@@ -402,13 +410,16 @@ def _one_call(
             head = [ln[:-1] if ln.endswith("\r") else ln for ln in head]
         start = _find_data_start(head)
         if start is not None and start + _SAMPLE + 20 < len(head):
-            return _fast_table(content, head, ends, start, source, delimiter, decimal, crlf)
+            return _fast_table(
+                ascii_bytes if ascii_bytes is not None else content,
+                head, ends, start, source, delimiter, decimal, crlf,
+            )  # fmt: skip
         n *= 8
     return None
 
 
 def _fast_table(
-    content: str,
+    content: str | bytes,
     head: list[str],
     ends: list[int],
     start: int,
@@ -417,7 +428,10 @@ def _fast_table(
     decimal: str | None,
     crlf: bool,
 ) -> NumericTable | None:
-    """The happy path of :func:`read_table_text`; None to take the line-by-line path."""
+    """The happy path of :func:`read_table_text`; None to take the line-by-line path.
+
+    *content*: the text, or its ASCII bytes (offsets in *ends* are then byte offsets too).
+    """
     _, header_key = _header_of(head, start)
     sample = head[start : start + _SAMPLE]
     # every sampled row as read_table would see it: no blank, no surrounding blanks, no
@@ -425,7 +439,7 @@ def _fast_table(
     if any(not ln or ln != ln.strip() or ln == header_key for ln in sample):
         return None
     offset = ends[start - 1] if start else 0
-    rest = content[offset:].encode("utf-8")
+    rest = content[offset:] if isinstance(content, bytes) else content[offset:].encode("utf-8")
     lay = _layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
     values = _pandas_block(rest, lay, crlf)
     if values is None:
