@@ -105,6 +105,7 @@ def _series(
     series_extra=None,
     entry_extra=None,
     study_only_free=False,
+    fit=None,
 ):
     """Titration files at 0.1 V/s, plus (study) ligand-free files at several scan rates."""
     entries = []
@@ -145,7 +146,7 @@ def _series(
         entries.append({"file": name, "ligand_M": 0.0})  # scan rate from the time column
     series = {"electrons": electrons, "title": "diagnostics"}
     series.update(series_extra or {})
-    return write_manifest(folder / "series.toml", entries, series=series)
+    return write_manifest(folder / "series.toml", entries, series=series, fit=fit)
 
 
 @pytest.mark.parametrize("n", [1, 2])
@@ -214,6 +215,26 @@ def test_growing_delta_Ep_fails_the_whole_study(tmp_path):
     assert all("DELTA_EP_GROWS_WITH_SCAN_RATE" in {fl.code for fl in f.flags} for f in study_files)
     assert all(f.classification.kind == "quasi-reversible" for f in study_files)
     assert "DELTA_EP_GROWS_WITH_SCAN_RATE" in {f.code for f in result.flags}
+    # half_wave_source = "auto" (the default): every file of the failed study is
+    # curve-fitted, also those that passed on their own and failed only with the study
+    # (rate0, rate1); E½ simulated 0 V, k0 0.02 cm/s
+    passed_alone = [f for f in study_files if f.file in ("rate0.csv", "rate1.csv")]
+    assert all("DELTA_EP_TOO_LARGE" not in {fl.code for fl in f.flags} for f in passed_alone)
+    for f in study_files:
+        assert f.E_half_source == "curve" and "CURVE_FIT_USED" in {fl.code for fl in f.flags}
+        assert abs(f.E_half_V) < 3 * f.E_half_total_stderr_V + 2e-5
+        assert f.curve_fit.k0_cm_s.value == pytest.approx(0.02, rel=0.15)
+    assert abs(result.reference.E_half_V) < 5e-5
+
+
+def test_a_study_failure_gets_no_curve_fit_when_e_half_comes_from_the_peaks(tmp_path):
+    manifest = _series(
+        tmp_path, study={"k0": 0.02}, study_only_free=True, fit={"half_wave_source": "peaks"}
+    )
+    result = analyse_series(load_manifest(manifest))
+    study_files = [f for f in result.files if f.file.startswith("rate")]
+    assert all(f.reversible is False and f.curve_fit is None for f in study_files)
+    assert all(f.E_half_source == "peaks" for f in study_files)
 
 
 def test_resistance_key_corrects_potentials_and_iR_study_is_recognised(tmp_path):

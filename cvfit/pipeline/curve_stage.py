@@ -6,7 +6,9 @@ or ``"auto"`` (default: the peaks for files that pass the reversibility screen, 
 fit for the others). Irreversible files — no usable reverse peak, or classified
 irreversible — get no curve fit and stay out of the titration fit with the reason.
 
-The fit runs in the per-file stage (in the worker that holds the whole record) on the
+The fit runs in the per-file stage (in the worker that holds the whole record); a file
+that the scan-rate study fails afterwards is read again and fitted after the study
+(:func:`cvfit.pipeline.per_file.curve_fit_failed_by_study`). The fit uses the
 record as measured: R_u from the manifest enters the model as the ohmic drop of the cell
 current (the peak analysis uses the corrected record instead); without it R_u is fitted.
 Composition only; the mathematics is in :mod:`cvfit.fit.curve_fit`.
@@ -25,6 +27,7 @@ __all__ = [
     "curve_fit_for",
     "curve_fit_used",
     "record_curve_data",
+    "wants_curve_fit",
     "MODEL_PRECISION",
     "PSI_IRREVERSIBLE",
 ]

@@ -10,7 +10,7 @@ cycle thinned for figures), never the whole record.
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import replace
 from functools import partial
 
@@ -23,7 +23,7 @@ from cvfit.screen.reversibility import screen_reversibility
 from cvfit.screen.switching import corrected_half_wave_V
 from cvfit.voltammogram import Voltammogram
 
-from .curve_stage import curve_fit_for, curve_fit_used
+from .curve_stage import curve_fit_for, curve_fit_used, wants_curve_fit
 from .curves import cycle_curve, points_per_curve
 from .internal_standard import measure_standard, referenced_half_wave
 from .parallel import new_process_pool, one_blas_thread
@@ -33,6 +33,7 @@ __all__ = [
     "analyse_file",
     "analyse_files",
     "check_jobs",
+    "curve_fit_failed_by_study",
 ]
 
 def resistance_for(entry: object, series: object) -> float | None:
@@ -204,6 +205,45 @@ def analyse_file(
         curve_fit=curve_fit,
         E_half_source=source,
     )
+
+
+def curve_fit_failed_by_study(
+    files: Sequence[FileResult],
+    manifest: Manifest,
+    records: Mapping[str, Voltammogram] | None = None,
+) -> list[FileResult]:
+    """*files* after the scan-rate studies, with the curve fit of each file that passed its
+    own screen but failed with its study (ΔEp growing with the scan rate).
+
+    The per-file stage decides on a curve fit from the file's own verdict, before the
+    studies; a file the study fails afterwards is quasi-reversible all the same, so under
+    ``half_wave_source = "auto"`` it is read again and fitted like the others (a handful of
+    files: the study fails the files of one solution). Files that were fitted, or that no
+    curve fit is wanted for, come back unchanged.
+    """
+    records = records or {}
+    source = manifest.fit.half_wave_source
+    out = list(files)
+    for k, (f, entry) in enumerate(zip(files, manifest.voltammograms, strict=True)):
+        failed_by_study = any(fl.code == "DELTA_EP_GROWS_WITH_SCAN_RATE" for fl in f.flags)
+        tried = f.curve_fit is not None or any(fl.code.startswith("CURVE_FIT") for fl in f.flags)
+        if not failed_by_study or tried or not wants_curve_fit(source, f.reversible):
+            continue
+        v = records.get(entry.name)
+        if v is None:
+            v = read_voltammogram(
+                entry.file, entry.import_options, scan_rate_V_s=entry.scan_rate_V_s
+            )
+        fit, flags = curve_fit_for(
+            v, f.peaks, f.screen, manifest, resistance_for(entry, manifest.series)
+        )
+        g = replace(f, curve_fit=fit, flags=(*f.flags, *flags))
+        if curve_fit_used(fit):
+            g = replace(
+                g, E_half_V=fit.E_half_V.value, switching_correction_V=0.0, E_half_source="curve"
+            )
+        out[k] = g
+    return out
 
 
 def _analyse_entry(manifest: Manifest, series_files: int, entry: VoltammogramEntry) -> FileResult:

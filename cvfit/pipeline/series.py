@@ -24,7 +24,7 @@ from cvfit.voltammogram import Voltammogram
 
 from .global_stage import run_global
 from .lingane_stage import run_lingane
-from .per_file import analyse_files
+from .per_file import analyse_files, curve_fit_failed_by_study
 from .results import FileResult, ReferenceHalfWave, SeriesConditions, SeriesResult, TitrationFit
 from .series_screen import diagnose_files
 
@@ -144,6 +144,7 @@ def analyse_series(
         )
     files = analyse_files(manifest, records=dict(records or {}), jobs=jobs, progress=progress)
     files, studies, study_flags = diagnose_files(files, manifest)
+    files = curve_fit_failed_by_study(files, manifest, records)
     reference = _reference(files, manifest)
     exclude = manifest.fit.exclude_non_nernstian
     series_flags: list[Flag] = list(study_flags)
