@@ -209,25 +209,27 @@ def analyse_file(
 
 def curve_fit_failed_by_study(
     files: Sequence[FileResult],
+    own_verdicts: Sequence[bool | None],
     manifest: Manifest,
     records: Mapping[str, Voltammogram] | None = None,
 ) -> list[FileResult]:
-    """*files* after the scan-rate studies, with the curve fit of each file that passed its
-    own screen but failed with its study (ΔEp growing with the scan rate).
+    """*files* after the scan-rate studies, with the curve fit of each file whose own
+    verdict (*own_verdicts*, from the per-file stage) asked for none but whose verdict
+    after the studies does: a file that passed its own screen and failed with its study
+    (ΔEp growing with the scan rate).
 
     The per-file stage decides on a curve fit from the file's own verdict, before the
     studies; a file the study fails afterwards is quasi-reversible all the same, so under
     ``half_wave_source = "auto"`` it is read again and fitted like the others (a handful of
-    files: the study fails the files of one solution). Files that were fitted, or that no
-    curve fit is wanted for, come back unchanged.
+    files: the study fails the files of one solution). The other files come back unchanged.
     """
     records = records or {}
     source = manifest.fit.half_wave_source
     out = list(files)
-    for k, (f, entry) in enumerate(zip(files, manifest.voltammograms, strict=True)):
-        failed_by_study = any(fl.code == "DELTA_EP_GROWS_WITH_SCAN_RATE" for fl in f.flags)
-        tried = f.curve_fit is not None or any(fl.code.startswith("CURVE_FIT") for fl in f.flags)
-        if not failed_by_study or tried or not wants_curve_fit(source, f.reversible):
+    for k, (f, own, entry) in enumerate(
+        zip(files, own_verdicts, manifest.voltammograms, strict=True)
+    ):
+        if wants_curve_fit(source, own) or not wants_curve_fit(source, f.reversible):
             continue
         v = records.get(entry.name)
         if v is None:

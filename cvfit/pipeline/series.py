@@ -143,8 +143,9 @@ def analyse_series(
             key="voltammogram",
         )
     files = analyse_files(manifest, records=dict(records or {}), jobs=jobs, progress=progress)
+    own_verdicts = [f.reversible for f in files]
     files, studies, study_flags = diagnose_files(files, manifest)
-    files = curve_fit_failed_by_study(files, manifest, records)
+    files = curve_fit_failed_by_study(files, own_verdicts, manifest, records)
     reference = _reference(files, manifest)
     exclude = manifest.fit.exclude_non_nernstian
     series_flags: list[Flag] = list(study_flags)
