@@ -326,6 +326,8 @@ def test_delta_ligands_flags():
     half = lingane_E_half(L, log10_ratio=3.0, delta=1.5, electrons=1) + rng.normal(0, 1e-4, 7)
     r = fit(points(L, half, 1e-4), ref_sd=1e-4)
     assert "DELTA_LIGANDS_NOT_WHOLE" in codes(r)
+    msg = next(f.message for f in r.flags if f.code == "DELTA_LIGANDS_NOT_WHOLE")
+    assert 'model = "stepwise"' in msg  # the remedy, not only the diagnosis
     wide = lingane_E_half(L, log10_ratio=3.0, delta=1, electrons=1) + rng.normal(0, 0.1, 7)
     assert "DELTA_LIGANDS_AMBIGUOUS" in codes(fit(points(L, wide), ref_sd=1e-3))
     flat = lingane_E_half(L, log10_ratio=0.5, delta=0, electrons=1) + rng.normal(0, 1e-4, 7)

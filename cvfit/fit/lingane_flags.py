@@ -108,7 +108,8 @@ def delta_ligand_flags(delta: Quantity, integer: int) -> tuple[Flag, ...]:
                 "DELTA_LIGANDS_NOT_WHOLE",
                 f"p − q = {v:.2f} ± {se:.2f} is {abs(v - integer) / se:.1f} standard errors "
                 f"from the nearest whole number {integer}: the simple Lingane model may not "
-                "hold (mixed complexes, non-Nernstian points, wrong n)",
+                "hold (mixed complexes, non-Nernstian points, wrong n); where several "
+                'complexes form in turn, try [fit] model = "stepwise"',
             )
         )
     if integer <= 0:
