@@ -19,16 +19,16 @@ import pytest
 
 from cvfit.cli import main as cvfit_main
 from cvfit.io import load_manifest
-from cvfit.peaks.analysis import analyse_peaks
 from cvfit.pipeline.series import analyse_series
 from cvfit.report import write_outputs
 from cvfit.report.results_json import load_schema
-from cvfit.screen.switching import corrected_half_wave_V
 from cvfit.simulate.internal_standard import (
     simulate_internal_standard_series,
     simulate_two_waves,
 )
 from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
+from cvfit.techniques.cv.screen.switching import corrected_half_wave_V
 
 CV = dict(scan_rate_V_s=0.1, step_V=0.001, double_layer_F=5e-6, background_slope_A_per_V=2e-6)
 

@@ -93,9 +93,9 @@ def test_round_trip_through_many_dialects(dialect_series):
 def test_series_conditions_and_criteria_are_records(dialect_series):
     """series and criteria are typed records; their JSON form is the [series] table as
     given (plus T in K and the model) and the three screen margins."""
-    from cvfit.fit.lingane import LinganeFit
     from cvfit.pipeline.results import SeriesConditions
     from cvfit.reversibility_criteria import ReversibilityCriteria
+    from cvfit.titration.lingane import LinganeFit
 
     manifest, result = dialect_series
     loaded = load_manifest(manifest)

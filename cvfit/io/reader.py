@@ -8,14 +8,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from cvfit.errors import InputError
+from cvfit.io.columns import ColumnLabel, parse_label, time_scale
+from cvfit.io.limits import MAX_DATA_FILE_BYTES, check_line_lengths, read_regular_file
+from cvfit.io.options import ImportOptions
+from cvfit.io.table import NumericTable, read_table_text
+from cvfit.io.text import decode_bytes
 from cvfit.units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
 from cvfit.voltammogram import MIN_POINTS, Voltammogram
-
-from .columns import ColumnLabel, parse_label, time_scale
-from .limits import MAX_DATA_FILE_BYTES, check_line_lengths, read_regular_file
-from .options import ImportOptions
-from .table import NumericTable, read_table_text
-from .text import decode_bytes
 
 __all__ = ["read_voltammogram", "parse_voltammogram_text", "parse_voltammogram_bytes"]
 

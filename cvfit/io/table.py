@@ -15,9 +15,8 @@ import numpy as np
 import pandas as pd
 
 from cvfit.errors import InputError
-
-from .columns import is_unit
-from .text import head_lines, split_lines
+from cvfit.io.columns import is_unit
+from cvfit.io.text import head_lines, split_lines
 
 __all__ = ["NumericTable", "read_table", "read_table_text"]
 

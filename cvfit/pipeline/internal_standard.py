@@ -1,7 +1,8 @@
 """Per-file step of an internal reference couple: its E½, and the analyte's E½ against it.
 
 With ``[internal_standard]`` in the manifest every voltammogram holds two waves. The
-standard's peaks are measured in its own window (:func:`cvfit.peaks.analysis.analyse_peaks`
+standard's peaks are measured in its own window
+(:func:`cvfit.techniques.cv.peaks.analysis.analyse_peaks`
 with ``window_V``), screened for reversibility with its own n, and its E½ is corrected for
 the switching potential like the analyte's when it passes. The analyte's E½ is then quoted
 as ``E½,analyte − E½,standard + E_half_V`` (``E_half_V`` the value assigned to the standard,
@@ -16,12 +17,11 @@ from typing import Literal
 
 from cvfit.flags import Flag
 from cvfit.io import Manifest
-from cvfit.peaks.analysis import analyse_peaks
-from cvfit.screen.reversibility import screen_reversibility
-from cvfit.screen.switching import corrected_half_wave_V
+from cvfit.pipeline.results import InternalStandardResult
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
+from cvfit.techniques.cv.screen.reversibility import screen_reversibility
+from cvfit.techniques.cv.screen.switching import corrected_half_wave_V
 from cvfit.voltammogram import Voltammogram
-
-from .results import InternalStandardResult
 
 __all__ = ["measure_standard", "referenced_half_wave"]
 

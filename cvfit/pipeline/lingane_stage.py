@@ -22,11 +22,10 @@ from collections.abc import Sequence
 from dataclasses import replace
 
 from cvfit.chemistry.speciation import BOUND_LIGAND_SHARE_MAX
-from cvfit.fit.lingane import LinganeFit, TitrationPoint, fit_lingane
 from cvfit.flags import FitRefused, Flag
 from cvfit.io import Manifest
-
-from .results import FileResult, ReferenceHalfWave
+from cvfit.pipeline.results import FileResult, ReferenceHalfWave
+from cvfit.titration.lingane import LinganeFit, TitrationPoint, fit_lingane
 
 __all__ = ["run_lingane"]
 _MAX_ROUNDS = 50

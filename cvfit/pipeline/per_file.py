@@ -17,17 +17,16 @@ from functools import partial
 from cvfit.errors import InputError
 from cvfit.flags import Flag
 from cvfit.io import Manifest, VoltammogramEntry, read_voltammogram
-from cvfit.peaks.analysis import PeakAnalysis, analyse_peaks
-from cvfit.screen.ohmic_drop import correct_ohmic_drop, ohmic_flags
-from cvfit.screen.reversibility import screen_reversibility
-from cvfit.screen.switching import corrected_half_wave_V
+from cvfit.pipeline.internal_standard import measure_standard, referenced_half_wave
+from cvfit.pipeline.parallel import new_process_pool, one_blas_thread
+from cvfit.pipeline.results import FileResult
+from cvfit.techniques.cv.curve.stage import curve_fit_for, curve_fit_used, wants_curve_fit
+from cvfit.techniques.cv.curves import cycle_curve, points_per_curve
+from cvfit.techniques.cv.peaks.analysis import PeakAnalysis, analyse_peaks
+from cvfit.techniques.cv.screen.ohmic_drop import correct_ohmic_drop, ohmic_flags
+from cvfit.techniques.cv.screen.reversibility import screen_reversibility
+from cvfit.techniques.cv.screen.switching import corrected_half_wave_V
 from cvfit.voltammogram import Voltammogram
-
-from .curve_stage import curve_fit_for, curve_fit_used, wants_curve_fit
-from .curves import cycle_curve, points_per_curve
-from .internal_standard import measure_standard, referenced_half_wave
-from .parallel import new_process_pool, one_blas_thread
-from .results import FileResult
 
 __all__ = [
     "analyse_file",
@@ -35,6 +34,7 @@ __all__ = [
     "check_jobs",
     "curve_fit_failed_by_study",
 ]
+
 
 def resistance_for(entry: object, series: object) -> float | None:
     """R_u of one file: its own ``resistance_ohm``, else the series value, else None."""

@@ -10,23 +10,22 @@ from __future__ import annotations
 from dataclasses import asdict, dataclass, field, fields
 from typing import TYPE_CHECKING, Any, Literal, TypeAlias
 
-from cvfit.fit.lingane import LinganeFit, null_fit_dict
-from cvfit.fit.stepwise_result import StepwiseFit, null_stepwise_dict
 from cvfit.flags import Flag
 from cvfit.quantity import clean_number
 from cvfit.reversibility_criteria import ReversibilityCriteria
+from cvfit.titration.lingane import LinganeFit, null_fit_dict
+from cvfit.titration.stepwise_result import StepwiseFit, null_stepwise_dict
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
-    from cvfit.fit.curve_fit import CurveFit
-    from cvfit.fit.curve_global import GlobalCurveFit
     from cvfit.io.manifest import SeriesSettings
-    from cvfit.peaks.analysis import PeakAnalysis
-    from cvfit.screen.classification import Classification
-    from cvfit.screen.kinetics import KineticsResult
-    from cvfit.screen.reversibility import ReversibilityScreen
-    from cvfit.screen.scan_rate import ScanRateStudy
-
-    from .curves import CycleCurve
+    from cvfit.techniques.cv.curve.fit import CurveFit
+    from cvfit.techniques.cv.curve.global_fit import GlobalCurveFit
+    from cvfit.techniques.cv.curves import CycleCurve
+    from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
+    from cvfit.techniques.cv.screen.classification import Classification
+    from cvfit.techniques.cv.screen.kinetics import KineticsResult
+    from cvfit.techniques.cv.screen.reversibility import ReversibilityScreen
+    from cvfit.techniques.cv.screen.scan_rate import ScanRateStudy
 
 __all__ = [
     "FileResult",
@@ -112,7 +111,8 @@ class FileResult:
         Optional label from the manifest.
     E_half_V : float or None
         E½ used downstream, V: the peak midpoint less the switching correction for a
-        voltammogram that passed the screen (see :mod:`cvfit.screen.switching`), else the midpoint.
+        voltammogram that passed the screen (see :mod:`cvfit.techniques.cv.screen.switching`),
+        else the midpoint.
     switching_correction_V : float
         The correction applied, V (0 when none).
     classification : Classification or None
@@ -126,7 +126,7 @@ class FileResult:
         ``[internal_standard]``: ``E_half_V`` is then the analyte's E½ against it (plus the
         value assigned to the standard).
     curve_fit : CurveFit or None
-        The fit of the whole curve, when one was made (see :mod:`cvfit.pipeline.curve_stage`).
+        The fit of the whole curve, when one was made (see :mod:`cvfit.techniques.cv.curve.stage`).
     E_half_source : {"peaks", "curve"}
         Where ``E_half_V`` comes from: the peak midpoint or the accepted curve fit.
     """

@@ -14,19 +14,24 @@ from pathlib import Path
 import numpy as np
 
 from cvfit.errors import InputError
-from cvfit.fit.error_budget import reference_mean
-from cvfit.fit.lingane import MIN_POINTS as MIN_FIT_POINTS
-from cvfit.fit.lingane import TitrationPoint, check_points
 from cvfit.flags import FitRefused, Flag
 from cvfit.io import Manifest, load_manifest
+from cvfit.pipeline.global_stage import run_global
+from cvfit.pipeline.lingane_stage import run_lingane
+from cvfit.pipeline.per_file import analyse_files, curve_fit_failed_by_study
+from cvfit.pipeline.results import (
+    FileResult,
+    ReferenceHalfWave,
+    SeriesConditions,
+    SeriesResult,
+    TitrationFit,
+)
+from cvfit.pipeline.series_screen import diagnose_files
+from cvfit.titration.error_budget import reference_mean
+from cvfit.titration.lingane import MIN_POINTS as MIN_FIT_POINTS
+from cvfit.titration.lingane import TitrationPoint, check_points
 from cvfit.version import __version__
 from cvfit.voltammogram import Voltammogram
-
-from .global_stage import run_global
-from .lingane_stage import run_lingane
-from .per_file import analyse_files, curve_fit_failed_by_study
-from .results import FileResult, ReferenceHalfWave, SeriesConditions, SeriesResult, TitrationFit
-from .series_screen import diagnose_files
 
 __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS"]
 
@@ -99,7 +104,7 @@ def _fit_titration(
     if why or any(f.severity == "error" for f in checks):
         return FitRefused((*why, *checks)), files
     if manifest.fit.model == "stepwise":
-        from .stepwise_stage import run_stepwise
+        from cvfit.pipeline.stepwise_stage import run_stepwise
 
         return run_stepwise(files, manifest, reference)
     return run_lingane(points, files, manifest, reference)

@@ -1,7 +1,8 @@
 """Pipeline step after the per-file screen: scan-rate studies, class of transfer, k0.
 
-Composition only (the mathematics is in :mod:`cvfit.screen.scan_rate`,
-:mod:`cvfit.screen.classification` and :mod:`cvfit.screen.kinetics`). Used by
+Composition only (the mathematics is in :mod:`cvfit.techniques.cv.screen.scan_rate`,
+:mod:`cvfit.techniques.cv.screen.classification` and :mod:`cvfit.techniques.cv.screen.kinetics`).
+Used by
 :mod:`cvfit.pipeline.series`.
 """
 
@@ -14,20 +15,20 @@ from dataclasses import replace
 import numpy as np
 
 from cvfit.flags import Flag
+from cvfit.pipeline.results import FileResult
 from cvfit.quantity import Quantity
-from cvfit.screen.classification import classify_voltammogram
-from cvfit.screen.kinetics import diffusion_from_peak_current, estimate_kinetics
-from cvfit.screen.rate_constant import delta_Ep_stderr_V
-from cvfit.screen.scan_rate import (
+from cvfit.techniques.cv.screen.classification import classify_voltammogram
+from cvfit.techniques.cv.screen.kinetics import diffusion_from_peak_current, estimate_kinetics
+from cvfit.techniques.cv.screen.rate_constant import delta_Ep_stderr_V
+from cvfit.techniques.cv.screen.scan_rate import (
     ScanRatePoint,
     ScanRateStudy,
     analyse_scan_rate_study,
     scan_rate_groups,
 )
 
-from .results import FileResult
-
 __all__ = ["diagnose_files"]
+
 
 def _point(f: FileResult, n: int) -> ScanRatePoint:
     p, s = f.peaks, f.screen
@@ -60,7 +61,8 @@ def _fail_by_trend(f: FileResult, study: ScanRateStudy) -> FileResult:
     screen = replace(f.screen, reversible=False, flags=(*f.screen.flags, flag))
     if f.E_half_source == "curve":  # an accepted curve fit stands
         return replace(f, screen=screen, flags=(*f.flags, flag))
-    # a file that fails the screen carries the plain midpoint (see cvfit.screen.switching)
+    # a file that fails the screen carries the plain midpoint (see
+    # cvfit.techniques.cv.screen.switching)
     return replace(
         f,
         screen=screen,

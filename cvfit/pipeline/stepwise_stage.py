@@ -1,7 +1,7 @@
 """Pipeline step of the stepwise model: file results → stepwise fit → corrected free ligand.
 
 Composition only: the DeFord–Hume current ratio from the files' peak currents, the
-solution chemistry from the manifest, and the fit of :mod:`cvfit.fit.stepwise`.
+solution chemistry from the manifest, and the fit of :mod:`cvfit.titration.stepwise`.
 """
 
 from __future__ import annotations
@@ -14,16 +14,15 @@ import numpy as np
 
 from cvfit.chemistry.speciation import BOUND_LIGAND_SHARE_MAX
 from cvfit.errors import InputError
-from cvfit.fit.stepwise import (
+from cvfit.flags import FitRefused, Flag
+from cvfit.io import Manifest
+from cvfit.pipeline.results import FileResult, ReferenceHalfWave
+from cvfit.titration.stepwise import (
     SolutionConditions,
     StepwiseFit,
     StepwisePoint,
     fit_stepwise,
 )
-from cvfit.flags import FitRefused, Flag
-from cvfit.io import Manifest
-
-from .results import FileResult, ReferenceHalfWave
 
 __all__ = ["run_stepwise", "current_ratios"]
 

@@ -3,13 +3,12 @@
 from __future__ import annotations
 
 from cvfit.errors import printable
-from cvfit.fit.lingane import LinganeFit
-from cvfit.fit.stepwise_result import StepwiseFit
 from cvfit.pipeline.results import SeriesResult
 from cvfit.quantity import Quantity
-
-from .formatting import format_pm, format_value
-from .headline import headline_lines
+from cvfit.report.formatting import format_pm, format_value
+from cvfit.report.headline import headline_lines
+from cvfit.titration.lingane import LinganeFit
+from cvfit.titration.stepwise_result import StepwiseFit
 
 __all__ = ["format_summary"]
 
@@ -64,15 +63,15 @@ def format_summary(result: SeriesResult) -> str:
             f"{'yes' if f.used_in_fit else '-':>4}"
         )
     lines.append("")
-    from .summary_kinetics import kinetics_lines
+    from cvfit.report.summary_kinetics import kinetics_lines
 
     lines.extend(kinetics_lines(result))
-    from .summary_curve import curve_lines, global_lines
+    from cvfit.report.summary_curve import curve_lines, global_lines
 
     lines.extend(curve_lines(result))
     fit = result.fit
     if isinstance(fit, StepwiseFit):
-        from .summary_stepwise import stepwise_lines
+        from cvfit.report.summary_stepwise import stepwise_lines
 
         lines.extend(stepwise_lines(fit))
     elif isinstance(fit, LinganeFit):

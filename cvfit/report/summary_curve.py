@@ -3,8 +3,7 @@
 from __future__ import annotations
 
 from cvfit.pipeline.results import SeriesResult
-
-from .formatting import format_pm
+from cvfit.report.formatting import format_pm
 
 __all__ = ["curve_lines", "global_lines"]
 

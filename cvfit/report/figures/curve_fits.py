@@ -18,9 +18,8 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
-
-from ..output_names import CURVE_FITS_NAME  # noqa: E402
-from .titration import _STYLE, _save  # noqa: E402
+from cvfit.report.figures.titration import _STYLE, _save  # noqa: E402
+from cvfit.report.output_names import CURVE_FITS_NAME  # noqa: E402
 
 __all__ = ["plot_curve_fits", "COLUMNS", "CURVE_FITS_FIGURE"]
 

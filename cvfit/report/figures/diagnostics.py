@@ -21,9 +21,8 @@ from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
-
-from .legend_placement import quiet_corner  # noqa: E402
-from .titration import _STYLE, _save, _set_title  # noqa: E402
+from cvfit.report.figures.legend_placement import quiet_corner  # noqa: E402
+from cvfit.report.figures.titration import _STYLE, _save, _set_title  # noqa: E402
 
 __all__ = ["plot_diagnostics"]
 

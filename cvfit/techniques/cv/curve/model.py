@@ -56,7 +56,6 @@ def smoothed(values: np.ndarray, width: int) -> np.ndarray:
 MAX_DT_SPREAD = 0.05
 
 
-
 def _simulator() -> tuple:
     """The simulator's kernel module and its grid constants, imported on first use: the
     kernel loads numba (~0.15 s), which a series whose files all pass the screen never
@@ -65,6 +64,7 @@ def _simulator() -> tuple:
     from cvfit.simulate.voltammogram import GRID_FIRST_FACTOR, GRID_LENGTH_FACTOR, GRID_RATIO
 
     return finite_difference, (GRID_FIRST_FACTOR, GRID_RATIO, GRID_LENGTH_FACTOR)
+
 
 @dataclass(frozen=True)
 class CurveData:
@@ -202,7 +202,7 @@ class CurveModel:
     data : CurveData
     D_cm2_s : float
         Diffusion coefficient assumed for the simulation (of the bulk form); the shape
-        depends on k0/√D only, so k0 scales with √D (see :mod:`cvfit.fit.curve_fit`).
+        depends on k0/√D only, so k0 scales with √D (see :mod:`cvfit.techniques.cv.curve.fit`).
     backend : str
         Simulator back end (``"auto"``: numba when installed).
     """

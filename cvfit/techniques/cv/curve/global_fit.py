@@ -6,8 +6,9 @@ a :class:`Tie`. The Lingane tie (:func:`lingane_tie`) is
     E½(c_i) = E½(s) − S·[log10(β_ox/β_red) + (p − q)·log10[L]_i],   S = ln10·RT/nF,
 
 (E½(s) for the ligand-free files); the DeFord–Hume tie of the stepwise model is in
-:mod:`cvfit.fit.curve_global_stepwise`. Each file keeps its own closed-form current scale,
-C_dl and background (variable projection, :class:`cvfit.fit.curve_model.CurveModel`); the
+:mod:`cvfit.techniques.cv.curve.global_stepwise`. Each file keeps its own closed-form current
+scale,
+C_dl and background (variable projection, :class:`cvfit.techniques.cv.curve.model.CurveModel`); the
 kinetic files (those the two-step analysis took from the curve fit) keep their own log10 k0
 and α, the others are Nernstian; an R_u the per-file fit estimated (not given) is a
 parameter again, so its uncertainty reaches the constants and a shared α. The search is
@@ -47,10 +48,9 @@ from scipy.optimize import least_squares
 
 from cvfit.errors import FitError
 from cvfit.quantity import Quantity, chi2_quantile, clean_number
+from cvfit.techniques.cv.curve.fit import ALPHA_RANGE
+from cvfit.techniques.cv.curve.model import CurveModel
 from cvfit.units import FARADAY, GAS_CONSTANT
-
-from .curve_fit import ALPHA_RANGE
-from .curve_model import CurveModel
 
 __all__ = [
     "GlobalFile",

@@ -11,10 +11,9 @@ applied only to voltammograms that passed it.
 
 from __future__ import annotations
 
-from cvfit.peaks.analysis import PeakAnalysis
+from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
+from cvfit.techniques.cv.screen.reversibility import nernstian_delta_Ep_V
 from cvfit.units import STANDARD_TEMPERATURE_K
-
-from .reversibility import nernstian_delta_Ep_V
 
 __all__ = ["switching_correction_V", "corrected_half_wave_V", "N_DELTA_EP_LIMIT_V"]
 

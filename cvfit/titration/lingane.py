@@ -34,12 +34,21 @@ import numpy as np
 from cvfit.errors import InputError
 from cvfit.flags import FitRefused, Flag
 from cvfit.quantity import Quantity, clean_number
+from cvfit.titration.error_budget import (
+    ErrorBudget,
+    budget_of,
+    extra_scatter_variance,
+    within_file_variance,
+)
+from cvfit.titration.lingane_flags import delta_ligand_flags, point_flags, weighting_flag
+from cvfit.titration.lingane_intervals import scaled, t_quantity, with_reference
+from cvfit.titration.lingane_regression import (
+    curvature_p_value,
+    fit_fixed_slope,
+    fit_line,
+    weights_credible,
+)
 from cvfit.units import nernst_slope_V_per_decade
-
-from .error_budget import ErrorBudget, budget_of, extra_scatter_variance, within_file_variance
-from .lingane_flags import delta_ligand_flags, point_flags, weighting_flag
-from .lingane_intervals import scaled, t_quantity, with_reference
-from .lingane_regression import curvature_p_value, fit_fixed_slope, fit_line, weights_credible
 
 __all__ = [
     "TitrationPoint",
@@ -155,7 +164,7 @@ class LinganeFit:
     error_budget : dict of str to ErrorBudget
         For every fitted constant (the keys of ``to_dict``), its standard uncertainty by
         source: within-file noise, solution-to-solution scatter, reference E½(s)
-        (:mod:`cvfit.fit.error_budget`); the totals are the reported standard errors.
+        (:mod:`cvfit.titration.error_budget`); the totals are the reported standard errors.
     extra_scatter_V : float or None
         Moment estimate of the solution-to-solution standard deviation s beyond the
         per-file noise, V (None when the files gave no standard errors: then all the
@@ -316,8 +325,8 @@ def fit_lingane(
     weighting : {"auto", "none", "stderr"}
         ``"none"``: ordinary least squares. ``"stderr"``: weights 1/σᵢ² (every point needs
         a standard error > 0). ``"auto"``: weights when every point has one and the
-        weighted reduced χ² passes :func:`cvfit.fit.lingane_regression.weights_credible`, else
-        unweighted with a flag.
+        weighted reduced χ² passes :func:`cvfit.titration.lingane_regression.weights_credible`,
+        else unweighted with a flag.
     curvature_alpha : float
         Level of the curvature F-test below which ``LINE_CURVED`` is raised.
     reference_count : int
@@ -345,7 +354,7 @@ def fit_lingane(
     σᵢ, so it takes the same scale factor and the intercept's interval is Student-t on
     N − 2 dof (exact under that model). In an unweighted fit σ_s is taken as known (its
     file has hundreds of samples) and is combined with the fitted variance by adding
-    t(N − 2) and normal half-widths in quadrature (:func:`cvfit.fit.lingane_regression.
+    t(N − 2) and normal half-widths in quadrature (:func:`cvfit.titration.lingane_regression.
     combined_interval`) — conservative at very small N, where Welch–Satterthwaite
     under-covers. The fixed-integer refit follows the same rules on N − 1 dof.
     Monte-Carlo coverage of the 95 % intervals is checked in the tests (93–97 %).
@@ -353,7 +362,7 @@ def fit_lingane(
     Error budget: every constant's variance is split into the part the per-file noise
     explains (``A diag(σ²) Aᵀ`` for the estimator ``A`` actually used), the rest of the
     fitted variance (solution-to-solution scatter, with its size s estimated by moments)
-    and the reference term (:mod:`cvfit.fit.error_budget`); the parts add up to the
+    and the reference term (:mod:`cvfit.titration.error_budget`); the parts add up to the
     variance the interval is built on. When the points scatter less than their own errors
     predict (reduced χ² < 1) the fitted variance is all within-file. Taking the larger of
     the two instead (a floor at the file noise) was tried and rejected: with Student-t on

@@ -5,14 +5,14 @@ reflective) over the non-linear parameters E½, log10 k0, α and optionally R_u 
 D_R/D_O ratio is given, 1 by default, ``[fit] curve_diffusion_ratio``; it is not fitted,
 see below); for each trial the
 current scale, C_dl and the linear background are solved in closed form
-(:class:`cvfit.fit.curve_model.CurveModel`, variable projection), so a fit costs tens of
+(:class:`cvfit.techniques.cv.curve.model.CurveModel`, variable projection), so a fit costs tens of
 simulations. The search starts from the best of a few k0 values
 (Λ = k0/√(D·nFv/RT) from 0.03 to 30) at the peak midpoint E½.
 
 Intervals: the Jacobian of the projected residual gives the marginal covariance of the
 non-linear parameters (Golub and Pereyra), scaled by the reduced χ² when that exceeds 1.
 Where k0 approaches the reversible limit the covariance is poor, and the interval of
-log10 k0 comes from the profile of χ² (:mod:`cvfit.fit.curve_intervals`): an open upper
+log10 k0 comes from the profile of χ² (:mod:`cvfit.techniques.cv.curve.intervals`): an open upper
 side is reported as a lower bound on k0.
 
 D_R/D_O cannot be fitted from a curve at a planar electrode: with the concentration of R
@@ -53,10 +53,9 @@ from cvfit.chemistry.randles_sevcik import RANDLES_SEVCIK_CONSTANT
 from cvfit.errors import FitError
 from cvfit.flags import Flag
 from cvfit.quantity import Quantity, chi2_quantile, clean_number
+from cvfit.techniques.cv.curve.intervals import log_k0_interval, runs_test_z
+from cvfit.techniques.cv.curve.model import CurveData, CurveModel
 from cvfit.units import FARADAY
-
-from .curve_intervals import log_k0_interval, runs_test_z
-from .curve_model import CurveData, CurveModel
 
 __all__ = ["CurveFit", "fit_curve", "REFUSE_REDUCED_CHI2", "REFUSE_RUNS_Z"]
 
@@ -198,7 +197,7 @@ def fit_curve(
     Parameters
     ----------
     data : CurveData
-        The record (see :func:`cvfit.fit.curve_model.curve_data`).
+        The record (see :func:`cvfit.techniques.cv.curve.model.curve_data`).
     E_half_start_V : float
         Starting E½ (the peak midpoint), V.
     D_cm2_s : float, optional

@@ -1,9 +1,10 @@
 """Array-level helpers of the peak analysis: noise, baselines, switch step, tail, crossings.
 
 Everything here takes and returns plain arrays or small tuples; nothing knows about
-voltammograms, flags or files. :mod:`cvfit.peaks.analysis` composes these pieces; the peak vertex
-is fitted in :mod:`cvfit.peaks.location`, the small linear algebra is in
-:mod:`cvfit.peaks.least_squares`.
+voltammograms, flags or files. :mod:`cvfit.techniques.cv.peaks.analysis` composes these pieces;
+the peak vertex
+is fitted in :mod:`cvfit.techniques.cv.peaks.location`, the small linear algebra is in
+:mod:`cvfit.techniques.cv.peaks.least_squares`.
 """
 
 from __future__ import annotations
@@ -13,7 +14,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from . import least_squares as la
+from cvfit.techniques.cv.peaks import least_squares as la
 
 __all__ = [
     "noise_sd",

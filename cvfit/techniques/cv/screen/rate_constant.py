@@ -211,8 +211,8 @@ def switch_corrected_delta_Ep_V(
     """ΔEp moved to the table's switching potential (112.5/n mV beyond E½).
 
     The Nernstian shift of ΔEp with the switching potential (Nicholson & Shain's table,
-    :func:`cvfit.screen.reversibility.nernstian_delta_Ep_V`) is added as a correction,
-    scaled by the weight w = (141 − n·ΔEp)/(141 − 57) (mV at 25 °C, clipped to 0…1):
+    :func:`cvfit.techniques.cv.screen.reversibility.nernstian_delta_Ep_V`) is added as a
+    correction, scaled by the weight w = (141 − n·ΔEp)/(141 − 57) (mV at 25 °C, clipped to 0…1):
     ΔEp + w·[ΔEp_N(table switch) − ΔEp_N(actual switch)]. In the reversible limit w = 1;
     from ψ = 0.25 (n·ΔEp = 141 mV) on, where ΔEp hardly moves with the switch, w = 0 (see
     the module notes for the independent computation behind the weight).
@@ -233,7 +233,7 @@ def switch_corrected_delta_Ep_V(
     Nicholson, R. S.; Shain, I. Anal. Chem. 36 (1964) 706 (the reversible dependence).
     Nicholson, R. S. Anal. Chem. 37 (1965) 1351.
     """
-    from .reversibility import nernstian_delta_Ep_V
+    from cvfit.techniques.cv.screen.reversibility import nernstian_delta_Ep_V
 
     scale = temperature_K / STANDARD_TEMPERATURE_K
     weight = switch_effect_weight(electrons * delta_Ep_V, temperature_K=temperature_K)

@@ -7,11 +7,9 @@ from dataclasses import dataclass
 
 from cvfit.chemistry.randles_sevcik import randles_sevcik_peak_current_A
 from cvfit.flags import Flag
-from cvfit.peaks.analysis import PeakAnalysis
 from cvfit.quantity import Quantity
-from cvfit.units import STANDARD_TEMPERATURE_K
-
-from .rate_constant import (
+from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
+from cvfit.techniques.cv.screen.rate_constant import (
     PSI_TABLE,
     TABLE_RANGE_MV,
     TABLE_ROUNDING_SD_MV,
@@ -23,6 +21,7 @@ from .rate_constant import (
     psi_lavagnini,
     switch_corrected_delta_Ep_V,
 )
+from cvfit.units import STANDARD_TEMPERATURE_K
 
 __all__ = ["KineticsResult", "estimate_kinetics", "diffusion_from_peak_current"]
 
@@ -103,6 +102,7 @@ def _lognormal(value: float, rel_sd: float, method: str, *, upper_open: bool = F
     hi = math.inf if upper_open else value * math.exp(1.96 * rel_sd)
     return Quantity(value, value * rel_sd, (lo, hi), method)
 
+
 #: Relative SD of ψ for the method itself, in quadrature with the ΔEp term. Table: ψ from
 #: noise-free simulated CVs deviates from the simulated truth by up to ~5 % for ψ = 0.2–5
 #: (interpolation between entries, the table recalled from memory); Lavagnini: its ~7 %
@@ -162,7 +162,7 @@ def estimate_kinetics(
     Parameters
     ----------
     peaks : PeakAnalysis
-        Output of :func:`cvfit.peaks.analysis.analyse_peaks`.
+        Output of :func:`cvfit.techniques.cv.peaks.analysis.analyse_peaks`.
     electrons : int
         n of the couple.
     temperature_K : float

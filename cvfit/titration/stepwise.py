@@ -6,8 +6,8 @@ binding reduced state) DeFord and Hume's relation
     F0([L]) = exp{(nF/RT)[E½(s) − E½(c)] + ln(Is/Ic)} = Σ_{j≥0} β_j [L]^j
 
 is fitted as E½ itself (weighted non-linear least squares, see
-:mod:`cvfit.fit.stepwise_least_squares`), with N chosen by an F-test
-(:mod:`cvfit.fit.stepwise_model_choice`). In the general ratio model both
+:mod:`cvfit.titration.stepwise_least_squares`), with N chosen by an F-test
+(:mod:`cvfit.titration.stepwise_model_choice`). In the general ratio model both
 forms are complexed, E½ shift = −(RT/nF) ln(F0,ox/F0,red) + (RT/2nF)
 ln[(D_O,s·D_R,c)/(D_R,s·D_O,c)], and the constants of one form are given to obtain the
 other's; ln(Is/Ic) measures the D_O half of the diffusion term, the D_R half is modelled
@@ -51,12 +51,21 @@ from cvfit.chemistry.speciation import (
 )
 from cvfit.flags import FitRefused, Flag
 from cvfit.quantity import Quantity
+from cvfit.titration.error_budget import extra_scatter_variance, linearised_budgets
+from cvfit.titration.stepwise_least_squares import StepwiseData, profile_interval
+from cvfit.titration.stepwise_model_choice import (
+    ALPHA,
+    choose_candidate,
+    fit_all_candidates,
+    summarise,
+)
+from cvfit.titration.stepwise_result import (
+    ConditionalConstants,
+    StepwiseFit,
+    UndeterminedConstant,
+    verdicts,
+)
 from cvfit.units import thermal_voltage
-
-from .error_budget import extra_scatter_variance, linearised_budgets
-from .stepwise_least_squares import StepwiseData, profile_interval
-from .stepwise_model_choice import ALPHA, choose_candidate, fit_all_candidates, summarise
-from .stepwise_result import ConditionalConstants, StepwiseFit, UndeterminedConstant, verdicts
 
 __all__ = [
     "StepwisePoint",
@@ -264,9 +273,7 @@ def fit_stepwise(
 
     def data_for(L_free: np.ndarray, y_obs: np.ndarray) -> StepwiseData:
         other = log_leden_F0(L_free, fixed)
-        return StepwiseData(
-            L_free, y_obs, sig, float(reference_E_half_V), ref_sig, k, sign, other
-        )
+        return StepwiseData(L_free, y_obs, sig, float(reference_E_half_V), ref_sig, k, sign, other)
 
     # Both forms complexed: the reduction peaks measure only D_O,c/D_O,s; the reduced form's
     # ratio comes from the shared complex-to-free ratio r (see _diffusion_term).
@@ -420,9 +427,7 @@ def fit_stepwise(
     budget, extra = None, None
     if cov is not None:
         J = data.jacobian(chosen.params)
-        budget = tuple(
-            linearised_budgets(J, len(pts), chosen.scale, weighted, "log10 units")[1:]
-        )
+        budget = tuple(linearised_budgets(J, len(pts), chosen.scale, weighted, "log10 units")[1:])
         if weighted:
             sig_all = np.concatenate([sig, [ref_sig]])
             resid = np.concatenate(

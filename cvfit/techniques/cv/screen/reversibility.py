@@ -9,8 +9,9 @@ on n-scaled values and with every mV margin scaled by T/298.15 K:
 * the reverse/forward peak-current ratio (Nicholson 1966) against 1.
 
 The margins live in :class:`cvfit.reversibility_criteria.ReversibilityCriteria` (defaults
-10 mV, 10 mV and 0.15, common practice). :mod:`cvfit.screen.classification` turns the
-screen into a class of electron transfer; ψ and k0 are in :mod:`cvfit.screen.rate_constant`.
+10 mV, 10 mV and 0.15, common practice). :mod:`cvfit.techniques.cv.screen.classification` turns the
+screen into a class of electron transfer; ψ and k0 are in
+:mod:`cvfit.techniques.cv.screen.rate_constant`.
 
 References
 ----------
@@ -27,8 +28,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from cvfit.flags import Flag
-from cvfit.peaks.analysis import PeakAnalysis
 from cvfit.reversibility_criteria import ReversibilityCriteria
+from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
 from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K, thermal_voltage
 
 __all__ = [
@@ -191,7 +192,7 @@ def screen_reversibility(
     Parameters
     ----------
     peaks : PeakAnalysis
-        Output of :func:`cvfit.peaks.analysis.analyse_peaks`.
+        Output of :func:`cvfit.techniques.cv.peaks.analysis.analyse_peaks`.
     electrons : int
         n of the couple.
     temperature_K : float

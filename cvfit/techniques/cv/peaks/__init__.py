@@ -6,6 +6,6 @@
 - :mod:`.least_squares` — the small least-squares solves behind them
 """
 
-from .analysis import PeakAnalysis, analyse_peaks
+from cvfit.techniques.cv.peaks.analysis import PeakAnalysis, analyse_peaks
 
 __all__ = ["PeakAnalysis", "analyse_peaks"]

@@ -11,16 +11,16 @@ that the scan-rate study fails afterwards is read again and fitted after the stu
 (:func:`cvfit.pipeline.per_file.curve_fit_failed_by_study`). The fit uses the
 record as measured: R_u from the manifest enters the model as the ohmic drop of the cell
 current (the peak analysis uses the corrected record instead); without it R_u is fitted.
-Composition only; the mathematics is in :mod:`cvfit.fit.curve_fit`.
+Composition only; the mathematics is in :mod:`cvfit.techniques.cv.curve.fit`.
 """
 
 from __future__ import annotations
 
 from cvfit.errors import FitError
-from cvfit.fit.curve_fit import CurveFit, fit_curve
-from cvfit.fit.curve_model import CurveData, curve_data
 from cvfit.flags import Flag
-from cvfit.screen.classification import classify_voltammogram
+from cvfit.techniques.cv.curve.fit import CurveFit, fit_curve
+from cvfit.techniques.cv.curve.model import CurveData, curve_data
+from cvfit.techniques.cv.screen.classification import classify_voltammogram
 from cvfit.voltammogram import Voltammogram
 
 __all__ = [
@@ -92,8 +92,8 @@ def curve_fit_for(
     v : Voltammogram
         The record as imported (not corrected for R_u).
     peaks, screen
-        The file's :class:`~cvfit.peaks.analysis.PeakAnalysis` and
-        :class:`~cvfit.screen.reversibility.ReversibilityScreen`.
+        The file's :class:`~cvfit.techniques.cv.peaks.analysis.PeakAnalysis` and
+        :class:`~cvfit.techniques.cv.screen.reversibility.ReversibilityScreen`.
     manifest : Manifest
     resistance_ohm : float or None
         R_u of the file from the manifest (None: fitted).

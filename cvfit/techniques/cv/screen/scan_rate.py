@@ -11,9 +11,10 @@ by comparing two one-parameter models of the excess n·ΔEp:
 * iR: excess = c · i_p + e · v, e >= 0 (the drop of the forward peak current and of the
   charging current through R_u);
 * kinetics: excess = X(K / √v) − X_rev + (1 − w)·(X_rev − X_N), with X(ψ) Nicholson's
-  working curve at the table's switch (:mod:`cvfit.screen.rate_constant`), X_rev its
+  working curve at the table's switch (:mod:`cvfit.techniques.cv.screen.rate_constant`), X_rev its
   reversible limit, X_N the Nernstian n·ΔEp at the file's own switch, w the share of the
-  switch effect that survives at X (:func:`cvfit.screen.rate_constant.switch_effect_weight`)
+  switch effect that survives at X
+  (:func:`cvfit.techniques.cv.screen.rate_constant.switch_effect_weight`)
   and K = k0/(π D n F/RT)^½ the one free parameter.
 
 References
@@ -35,10 +36,13 @@ from scipy import optimize
 from cvfit.chemistry.randles_sevcik import randles_sevcik_peak_current_A
 from cvfit.flags import Flag
 from cvfit.quantity import Quantity, chi2_upper_quantile, clean_number, t_quantile
+from cvfit.techniques.cv.screen.rate_constant import (
+    PSI_TABLE,
+    TABLE_SWITCH_PAST_E_HALF_V,
+    switch_effect_weight,
+)
+from cvfit.techniques.cv.screen.reversibility import nernstian_delta_Ep_V
 from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K
-
-from .rate_constant import PSI_TABLE, TABLE_SWITCH_PAST_E_HALF_V, switch_effect_weight
-from .reversibility import nernstian_delta_Ep_V
 
 __all__ = [
     "ScanRatePoint",

@@ -9,13 +9,21 @@
 - :mod:`.ohmic_drop` — correction for the uncompensated resistance
 """
 
-from .classification import Classification, classify_voltammogram
-from .kinetics import KineticsResult, diffusion_from_peak_current, estimate_kinetics
-from .ohmic_drop import correct_ohmic_drop
-from .rate_constant import k0_from_psi_cm_s, psi_from_table
-from .reversibility import ReversibilityScreen, nernstian_delta_Ep_V, screen_reversibility
-from .scan_rate import ScanRateStudy, analyse_scan_rate_study
-from .switching import corrected_half_wave_V, switching_correction_V
+from cvfit.techniques.cv.screen.classification import Classification, classify_voltammogram
+from cvfit.techniques.cv.screen.kinetics import (
+    KineticsResult,
+    diffusion_from_peak_current,
+    estimate_kinetics,
+)
+from cvfit.techniques.cv.screen.ohmic_drop import correct_ohmic_drop
+from cvfit.techniques.cv.screen.rate_constant import k0_from_psi_cm_s, psi_from_table
+from cvfit.techniques.cv.screen.reversibility import (
+    ReversibilityScreen,
+    nernstian_delta_Ep_V,
+    screen_reversibility,
+)
+from cvfit.techniques.cv.screen.scan_rate import ScanRateStudy, analyse_scan_rate_study
+from cvfit.techniques.cv.screen.switching import corrected_half_wave_V, switching_correction_V
 
 __all__ = [
     "Classification",

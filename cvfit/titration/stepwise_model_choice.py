@@ -25,8 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from cvfit.quantity import clean_number, f_upper_tail
-
-from .stepwise_least_squares import CandidateFit, StepwiseData, fit_candidate
+from cvfit.titration.stepwise_least_squares import CandidateFit, StepwiseData, fit_candidate
 
 __all__ = ["CandidateSummary", "fit_all_candidates", "choose_candidate", "summarise", "ALPHA"]
 

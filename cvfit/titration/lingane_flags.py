@@ -9,8 +9,7 @@ import numpy as np
 
 from cvfit.flags import Flag
 from cvfit.quantity import Quantity
-
-from .lingane_regression import LineFit
+from cvfit.titration.lingane_regression import LineFit
 
 __all__ = ["point_flags", "weighting_flag", "delta_ligand_flags", "SHORT_RANGE_DECADES"]
 

@@ -21,7 +21,7 @@ from dataclasses import replace
 import numpy as np
 
 from cvfit.flags import Flag
-from cvfit.peaks.analysis import PeakAnalysis
+from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
 from cvfit.voltammogram import Voltammogram
 
 __all__ = ["correct_ohmic_drop", "ohmic_flags"]

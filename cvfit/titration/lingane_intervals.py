@@ -5,8 +5,7 @@ from __future__ import annotations
 import math
 
 from cvfit.quantity import Quantity, t_interval
-
-from .lingane_regression import combined_interval
+from cvfit.titration.lingane_regression import combined_interval
 
 __all__ = ["t_quantity", "scaled", "with_reference"]
 

@@ -5,7 +5,8 @@ Method
 *Forward peak.* The current before the wave rises is charging current plus a sloping
 background: a straight line, extrapolated under the wave as the baseline of the forward
 peak. It is fitted to the foot of the wave (window found by
-:func:`cvfit.peaks.baseline.foot_window`, from the start of the sweep to where a Nernstian wave
+:func:`cvfit.techniques.cv.peaks.baseline.foot_window`, from the start of the sweep to where a
+Nernstian wave
 carries ~5 % of its peak) together with the exponential foot of the wave, exp(nF|E − E½|/RT)
 — the leading term of the reversible current far ahead of E½ — because the scan often
 starts only 150–200 mV before E½, and a window free of faradaic current would then be too
@@ -14,8 +15,8 @@ short for a stable slope. A foot shorter than 2.5 RT/nF is flagged ``SHORT_BASEL
 *Reverse peak.* On the reverse sweep the charging current C·dE/dt changes sign, so the
 level of zero faradaic current is the forward baseline shifted by the current step at the
 switching potential (twice the charging current, measured by extrapolating both sweeps
-to the switch, :func:`cvfit.peaks.baseline.switch_step`); the sloping background, a function of
-potential, is common to both sweeps. Against that level the reverse peak (ipa)0 and the
+to the switch, :func:`cvfit.techniques.cv.peaks.baseline.switch_step`); the sloping background, a
+function of potential, is common to both sweeps. Against that level the reverse peak (ipa)0 and the
 forward current at the switch (isp)0 are read, and the reverse/forward ratio follows from
 Nicholson's relation, which accounts for the still-decaying forward current under the
 reverse peak. The reverse peak height is reported as ratio × forward height — that is,
@@ -43,7 +44,8 @@ E½ RMS error 0.3 mV on cycles 2–3 (0.2 mV on cycle 1), ΔEp within 0.5 mV of 
 (an internal reference couple and the analyte in one file). Another wave that peaks before
 the window on a sweep leaves its decaying current under it; that current has the shape of
 a reversible wave over the whole record, the semi-derivative of its Nernstian fraction
-(:func:`cvfit.peaks.baseline.reversible_wave_shape`, E½ from its peak), and its amplitude
+(:func:`cvfit.techniques.cv.peaks.baseline.reversible_wave_shape`, E½ from its peak), and its
+amplitude
 is fitted with the line and the exponential foot from ``OTHER_WAVE_FIT_START_THERMAL`` RT/nF
 past its peak (its decay, never its peak) to the window's foot. On the forward sweep that
 baseline continues under both peaks; on the reverse sweep of the wave nearer the start
@@ -62,8 +64,8 @@ noise): E½ within 0.5 mV in ~96 % of files (SD 0.19 mV for n = 1); forward heig
 not corrected because they belong to the definitions: (Epa + Epc)/2 of a reversible couple
 lies (n·ΔEp_N(Eλ) − 57.0 mV)/(2n) beyond E½ — ≤ 0.4 mV/n for n·|Eλ − E½| ≥ 300 mV, but
 1.75/n mV at 100 mV (71.5 mV past the forward peak) — because Epa moves with the
-switching potential (corrected downstream, :mod:`cvfit.screen.switching`); and Nicholson's
-relation, an empirical fit, reads ~0.01 high at n·|Eλ − E½| = 300 mV and ~0.03 high at
+switching potential (corrected downstream, :mod:`cvfit.techniques.cv.screen.switching`); and
+Nicholson's relation, an empirical fit, reads ~0.01 high at n·|Eλ − E½| = 300 mV and ~0.03 high at
 600 mV (1.00 ± 0.01 at 100–250 mV).
 
 References
@@ -83,11 +85,10 @@ from typing import Literal, NamedTuple
 import numpy as np
 
 from cvfit.flags import Flag
+from cvfit.techniques.cv.peaks import baseline as pf
+from cvfit.techniques.cv.peaks.location import locate_peak
 from cvfit.units import thermal_voltage
 from cvfit.voltammogram import Cycle, Sweep, Voltammogram
-
-from . import baseline as pf
-from .location import locate_peak
 
 __all__ = ["analyse_peaks", "PeakAnalysis"]
 
@@ -269,8 +270,8 @@ def _other_wave_decay(
     """Current shape of another wave that peaks on *sweep* before index *before*.
 
     The shape is that of a reversible wave over the whole record
-    (:func:`cvfit.peaks.baseline.reversible_wave_shape`), placed at the E½ of the other
-    wave from that peak, 1.109 RT/nF beyond E½ in the sweep's direction (Nicholson & Shain
+    (:func:`cvfit.techniques.cv.peaks.baseline.reversible_wave_shape`), placed at the E½ of the
+    other wave from that peak, 1.109 RT/nF beyond E½ in the sweep's direction (Nicholson & Shain
     1964; *forward* says whether *sweep* is the forward sweep, whose direction is
     *direction*, or the reverse one). Returns the shape over the whole record and the index
     on *sweep* ``OTHER_WAVE_FIT_START_THERMAL`` RT/nF past that peak, from which the

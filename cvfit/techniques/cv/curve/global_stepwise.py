@@ -1,7 +1,7 @@
 """DeFord–Hume tie of the global curve fit: E½ of every file from log10 β_j and free [L].
 
 The E½ of file i is the stepwise fit's own model function
-(:meth:`cvfit.fit.stepwise_least_squares.StepwiseData.model`, with its analytic Jacobian),
+(:meth:`cvfit.titration.stepwise_least_squares.StepwiseData.model`, with its analytic Jacobian),
 
     E½_i = E½(s) − s·(RT/nF)·[ln F0(L_i; β) − ln F0_other(L_i)] + δ_i,
 
@@ -28,11 +28,10 @@ import numpy as np
 
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.errors import FitError
+from cvfit.techniques.cv.curve.global_fit import Tie
+from cvfit.titration.stepwise_least_squares import StepwiseData
+from cvfit.titration.stepwise_result import StepwiseFit
 from cvfit.units import thermal_voltage
-
-from .curve_global import Tie
-from .stepwise_least_squares import StepwiseData
-from .stepwise_result import StepwiseFit
 
 __all__ = ["stepwise_tie", "BETA_SEARCH_DECADES"]
 

@@ -6,8 +6,8 @@
   (:mod:`.stepwise_least_squares`, :mod:`.stepwise_model_choice`, :mod:`.stepwise_result`)
 """
 
-from .lingane import LinganeFit, TitrationPoint, fit_lingane
-from .stepwise import SolutionConditions, StepwiseFit, StepwisePoint, fit_stepwise
+from cvfit.titration.lingane import LinganeFit, TitrationPoint, fit_lingane
+from cvfit.titration.stepwise import SolutionConditions, StepwiseFit, StepwisePoint, fit_stepwise
 
 __all__ = [
     "LinganeFit",

@@ -11,10 +11,9 @@ import numpy as np
 from cvfit.chemistry.speciation import fraction_peak_ligand_M, species_fractions
 from cvfit.flags import Flag
 from cvfit.quantity import Quantity, clean_number
-
-from .error_budget import ErrorBudget
-from .stepwise_least_squares import CandidateFit, StepwiseData
-from .stepwise_model_choice import CandidateSummary
+from cvfit.titration.error_budget import ErrorBudget
+from cvfit.titration.stepwise_least_squares import CandidateFit, StepwiseData
+from cvfit.titration.stepwise_model_choice import CandidateSummary
 
 __all__ = [
     "StepwiseFit",
@@ -76,10 +75,11 @@ class ConditionalConstants:
 
 @dataclass(frozen=True, kw_only=True)
 class StepwiseFit:
-    """Result of :func:`cvfit.fit.stepwise.fit_stepwise` (all constants as log10, [L] in mol/L).
+    """Result of :func:`cvfit.titration.stepwise.fit_stepwise` (all constants as log10, [L] in
+    mol/L).
 
     Per-point tuples follow the order of the points given. ``error_budget`` holds one
-    :class:`~cvfit.fit.error_budget.ErrorBudget` per log10 β_j (linearised at the optimum;
+    :class:`~cvfit.titration.error_budget.ErrorBudget` per log10 β_j (linearised at the optimum;
     its totals are the standard errors; the intervals are profile-likelihood), or None when
     the covariance is not available; ``extra_scatter_V`` the moment estimate of the
     solution-to-solution scatter beyond the per-file noise, V (None unweighted).

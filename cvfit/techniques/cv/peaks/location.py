@@ -1,7 +1,7 @@
 """Locating one peak on an oriented, baseline-corrected sweep, or saying why there is none.
 
-Used by :func:`cvfit.peaks.analysis.analyse_peaks` for the forward and the reverse peak: the
-largest current away from the ends of the sweep, its height over the noise, the
+Used by :func:`cvfit.techniques.cv.peaks.analysis.analyse_peaks` for the forward and the reverse
+peak: the largest current away from the ends of the sweep, its height over the noise, the
 half-peak potential on its rising side, and the vertex of a degree-7 polynomial fitted around it
 (:func:`peak_vertex`) with the sensitivities of its position.
 """
@@ -13,8 +13,8 @@ from typing import NamedTuple
 
 import numpy as np
 
-from . import baseline as pf
-from . import least_squares as la
+from cvfit.techniques.cv.peaks import baseline as pf
+from cvfit.techniques.cv.peaks import least_squares as la
 
 __all__ = ["LocatedPeak", "locate_peak", "Vertex", "peak_vertex"]
 

@@ -18,11 +18,15 @@ import math
 from dataclasses import dataclass
 
 from cvfit.flags import Flag
-from cvfit.peaks.analysis import PeakAnalysis
 from cvfit.reversibility_criteria import ReversibilityCriteria
+from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
+from cvfit.techniques.cv.screen.reversibility import (
+    PEAK_WIDTH_THERMAL,
+    ReversibilityScreen,
+    _check_n_T,
+    _mV,
+)
 from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K, thermal_voltage
-
-from .reversibility import PEAK_WIDTH_THERMAL, ReversibilityScreen, _check_n_T, _mV
 
 __all__ = ["Classification", "classify_voltammogram", "CLASSES", "IRREVERSIBLE_WIDTH_THERMAL"]
 
@@ -101,7 +105,8 @@ def classify_voltammogram(
 
     * both peaks, screen passed → reversible;
     * both peaks, ΔEp too large (or growing with v in a scan-rate study) → quasi-reversible,
-      or irreversible when Nicholson's ψ (from ΔEp, :mod:`cvfit.screen.rate_constant`) puts
+      or irreversible when Nicholson's ψ (from ΔEp,
+      :mod:`cvfit.techniques.cv.screen.rate_constant`) puts
       Λ = √π·ψ at or below 10^(−2(1+α)) (Matsuda & Ayabe's regime boundary);
     * no reverse peak, forward peak wider than 2.20 RT/nF by more than the width margin →
       irreversible (its width is compared with 1.857 RT/(αnF) and αn is reported);
@@ -114,7 +119,10 @@ def classify_voltammogram(
     Matsuda, H.; Ayabe, Y. Z. Elektrochem. 59 (1955) 494 (regimes by Λ; from memory).
     Nicholson, R. S. Anal. Chem. 37 (1965) 1351 (ψ).
     """
-    from .rate_constant import psi_from_table, switch_corrected_delta_Ep_V
+    from cvfit.techniques.cv.screen.rate_constant import (
+        psi_from_table,
+        switch_corrected_delta_Ep_V,
+    )
 
     _check_n_T(electrons, temperature_K)
     if not 0.0 < alpha < 1.0:

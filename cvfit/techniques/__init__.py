@@ -1,0 +1,1 @@
+"""Techniques: each turns one recorded file into a measurement of E½ with its own screen."""
