@@ -27,7 +27,14 @@ from cvfit.io.text import split_lines
 from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.units import celsius_to_kelvin
 
-__all__ = ["Manifest", "SeriesSettings", "FitSettings", "VoltammogramEntry", "load_manifest"]
+__all__ = [
+    "Manifest",
+    "SeriesSettings",
+    "FitSettings",
+    "VoltammogramEntry",
+    "load_manifest",
+    "resistance_for",
+]
 
 SERIES_KEYS = (
     "title",
@@ -698,3 +705,9 @@ def _load_standard(
             ld.where.line("internal_standard", "window_V"),
         )
     return standard
+
+
+def resistance_for(entry: object, series: object) -> float | None:
+    """R_u of one file: its own ``resistance_ohm``, else the series value, else None."""
+    own = getattr(entry, "resistance_ohm", None)
+    return own if own is not None else getattr(series, "resistance_ohm", None)

@@ -19,8 +19,7 @@ from collections.abc import Mapping, Sequence
 
 from cvfit.errors import CvfitError
 from cvfit.flags import Flag
-from cvfit.io import read_voltammogram
-from cvfit.pipeline.per_file import resistance_for
+from cvfit.io import read_voltammogram, resistance_for
 from cvfit.pipeline.results import FileResult, ReferenceHalfWave
 from cvfit.techniques.cv.curve.global_fit import (
     GlobalCurveFit,
@@ -101,11 +100,11 @@ def run_global(
             v = (records or {}).get(f.file) or read_voltammogram(
                 e.file, e.import_options, scan_rate_V_s=e.scan_rate_V_s
             )
-            data = record_curve_data(v, f.peaks, series)
+            data = record_curve_data(v, f.measurement.peaks, series)
             D_sim = series.diffusion_cm2_s or 1e-5
             model = CurveModel(data, D_sim)
             R = resistance_for(e, series)
-            cf = f.curve_fit
+            cf = f.measurement.curve_fit
             refit_R = R is None and cf is not None and cf.resistance_ohm is not None
             if refit_R:
                 R = cf.resistance_ohm.value

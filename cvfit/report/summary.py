@@ -51,14 +51,14 @@ def format_summary(result: SeriesResult) -> str:
     lines.append(header)
     lines.append("-" * len(header))
     for f, e_half in zip(result.files, e_halves, strict=True):
-        p = f.peaks
+        p = f.measurement.peaks
         rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
         name = printable(f.file)
         name = name if len(name) <= 22 else "…" + name[-21:]
         lines.append(
             f"{name:<22} {f.ligand_M:>9.3g} {e_half:>{w}} "
             f"{format_value(p.delta_Ep_V, scale=1e3):>7} "
-            f"{format_value(f.screen.expected_delta_Ep_V, scale=1e3):>7} "
+            f"{format_value(f.measurement.screen.expected_delta_Ep_V, scale=1e3):>7} "
             f"{format_value(p.current_ratio, digits=2):>7} {rev:>4} "
             f"{'yes' if f.used_in_fit else '-':>4}"
         )
