@@ -9,7 +9,7 @@ from seriesfactory import write_small_series
 from cvfit.io import load_manifest
 from cvfit.pipeline.series import analyse_series
 from cvfit.report import format_summary
-from cvfit.report.formatting import format_pm
+from cvfit.formatting import format_pm
 
 
 def _table(text: str) -> list[str]:

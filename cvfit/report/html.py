@@ -21,9 +21,10 @@ from pathlib import Path
 from typing import Any
 
 from cvfit.flag_codes import FLAG_CODES
+from cvfit.formatting import format_pm, format_value
 from cvfit.pipeline.results import SeriesResult
 from cvfit.report.atomic import atomic_write_text
-from cvfit.report.formatting import format_pm, format_value
+from cvfit.report.figures.registry import FIGURES
 from cvfit.report.global_fit_html import global_fit_section
 from cvfit.report.headline import headline_lines
 from cvfit.report.html_sections import error_budget_section, internal_standard_section
@@ -31,21 +32,9 @@ from cvfit.report.methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPW
 
 __all__ = ["render_html", "write_html_report", "FIGURE_CAPTIONS"]
 
-#: Captions of the figures cvfit writes, by file name; other figures get their file stem.
-FIGURE_CAPTIONS = {
-    "voltammograms.png": "The analysed cycle of every voltammogram, coloured by total ligand "
-    "concentration (dashed: no ligand; grey dotted: failed the reversibility screen, as the "
-    "figure's legend says).",
-    "half_wave_shift.png": "E½(c) − E½(s) against log10[L] with the fitted line (stepwise: "
-    "curve), its 95 % band, and the residuals (open markers: flagged, not fitted); the "
-    "constants found stand under the title.",
-    "diagnostics.png": "Reversibility diagnostics of every voltammogram: n·ΔEp and ipa/ipc "
-    "against the band the screen allows (filled: used — in the fit or, diamond, as the "
-    "ligand-free reference; open: left out of the fit).",
-    "curve_fits.png": "Curve fits: for each voltammogram whose E½ was sought from the whole "
-    "curve, the data (grey), the fitted model (dashed: refused) and the residuals in units "
-    "of the noise σ (band ±2).",
-}
+#: Captions of the figures cvfit writes, by file name (from the figure registry); other
+#: figures get their file stem.
+FIGURE_CAPTIONS = {e.file_name: e.caption for e in FIGURES.values()}
 
 # key -> (label, scale, unit) for the constants of the fit
 _Q_LABELS = {

@@ -3,24 +3,11 @@
 from __future__ import annotations
 
 from cvfit.errors import printable
+from cvfit.formatting import format_pm, format_value
 from cvfit.pipeline.results import SeriesResult
-from cvfit.quantity import Quantity
-from cvfit.report.formatting import format_pm, format_value
 from cvfit.report.headline import headline_lines
-from cvfit.titration.lingane import LinganeFit
-from cvfit.titration.stepwise_result import StepwiseFit
 
 __all__ = ["format_summary"]
-
-
-def _q(q: Quantity, *, scale: float = 1.0, unit: str = "", digits: int | None = None) -> str:
-    text = format_pm(q.value, q.stderr, scale=scale, unit=unit)
-    lo, hi = q.ci95
-    if text == "n/d":
-        return text
-    if digits is None:
-        digits = max(0, len(text.split(" ± ")[0].split(".")[-1])) if "." in text else 0
-    return f"{text}   95 % CI [{lo * scale:.{digits}f}, {hi * scale:.{digits}f}]"
 
 
 def format_summary(result: SeriesResult) -> str:
@@ -70,25 +57,8 @@ def format_summary(result: SeriesResult) -> str:
 
     lines.extend(curve_lines(result))
     fit = result.fit
-    if isinstance(fit, StepwiseFit):
-        from cvfit.report.summary_stepwise import stepwise_lines
-
-        lines.extend(stepwise_lines(fit))
-    elif isinstance(fit, LinganeFit):
-        lines.append(
-            f"Lingane fit on {fit.n_points} points ({fit.dof} degrees of freedom, "
-            f"{'weighted by per-file E½ errors' if fit.weighted else 'unweighted'}):"
-        )
-        lines.append(
-            "  slope                 " + _q(fit.slope_V_per_decade, scale=1e3, unit="mV/decade")
-        )
-        lines.append("  p − q                 " + _q(fit.delta_ligands))
-        lines.append("  log10(β_ox/β_red)     " + _q(fit.log10_beta_ratio))
-        lines.append(
-            f"  with p − q = {fit.delta_ligands_integer}:       "
-            + _q(fit.log10_beta_ratio_at_integer)
-        )
-        lines.append("  (β_ox/β_red in (mol/L)^-(p−q); [L] in mol/L)")
+    if fit is not None:
+        lines.extend(fit.summary_lines())
     else:
         lines.append("No constants: see the series flags below.")
     lines.extend(global_lines(result))

@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
+from cvfit.formatting import format_pm
 from cvfit.pipeline.results import SeriesResult
-from cvfit.report.formatting import format_pm
 
 __all__ = ["curve_lines", "global_lines"]
 

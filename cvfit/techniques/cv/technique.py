@@ -156,6 +156,8 @@ class CyclicVoltammetry:
     """Cyclic voltammetry behind the technique seam (:class:`cvfit.techniques.base.Technique`)."""
 
     name = "cv"
+    #: Its figures (keys of :mod:`cvfit.report.figures.registry`).
+    figures = ("diagnostics", "curve_fits")
 
     analyse = staticmethod(analyse)
     study_series = staticmethod(study_series)
