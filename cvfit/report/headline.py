@@ -13,6 +13,7 @@ from collections.abc import Mapping, Sequence
 from typing import Any
 
 from cvfit.formatting import format_pm
+from cvfit.titration.registry import MODEL_NAMES, model_named
 
 __all__ = [
     "headline_lines",
@@ -168,10 +169,8 @@ def headline_lines(data: Mapping[str, Any]) -> list[str]:
     lines = constant_lines(fit)
     if lines:
         n, model = fit.get("n_points"), fit.get("model", "")
-        lines.append(
-            f"({'Lingane' if model == 'lingane' else 'stepwise'} fit on {n} files; "
-            "± standard error)"
-        )
+        title = model_named(model).title if model in MODEL_NAMES else model
+        lines.append(f"({title} fit on {n} files; ± standard error)")
     else:
         lines.append(_no_constants(data))
     lines.append(screen_sentence(data))

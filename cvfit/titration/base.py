@@ -213,8 +213,12 @@ class TitrationModel(Protocol):
     """A way of turning E½ against a titration variable into constants."""
 
     name: str
+    #: How the reports name it ("Lingane", "stepwise").
+    title: str
     variable: str
     figures: tuple[str, ...]
+    #: Its steps of the method as the report states them: (heading, text, sources).
+    method_steps: tuple[tuple[str, str, tuple[str, ...]], ...]
 
     def fit(self, data: TitrationData, manifest: Manifest) -> ModelOutcome:
         """The fit of *data* under the manifest's settings."""

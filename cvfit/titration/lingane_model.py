@@ -104,7 +104,11 @@ class LinganeModel:
     """Lingane's line of E½ against log10[L] (:mod:`cvfit.titration.lingane`)."""
 
     name = "lingane"
+    title = "Lingane"
     variable = "ligand_M"
+    #: Its step of the method beyond the common ones (the report's method section states
+    #: the Lingane line itself).
+    method_steps: tuple[tuple[str, str, tuple[str, ...]], ...] = ()
     #: Its figures (keys of :mod:`cvfit.report.figures.registry`), drawn also without a fit.
     figures = ("lingane",)
 

@@ -135,11 +135,27 @@ def _excess_flag(p: TitrationPoint, free_M: float, log10_alpha_L: float, metal: 
     )
 
 
+#: The model's step of the method, as the report states it: (heading, text, sources).
+METHOD_STEP: tuple[str, str, tuple[str, ...]] = (
+    "Stepwise complexes",
+    "When the reduced form is not complexed, F0([L]) = exp{(nF/RT)[E½(s) − E½(c)]} = "
+    "Σ βj [L]^j (β0 = 1) is fitted directly by weighted least squares to give the overall "
+    "constants βj with their standard errors; Leden's graphical functions F1, F2, … serve "
+    "only as a check.",
+    (
+        "D. D. DeFord, D. N. Hume, J. Am. Chem. Soc. 73 (1951) 5321",
+        "I. Leden, Z. phys. Chem. A188 (1941) 160",
+    ),
+)
+
+
 class StepwiseModel:
     """Overall constants β_1 … β_N of both oxidation states (DeFord–Hume, Leden)."""
 
     name = "stepwise"
+    title = "stepwise"
     variable = "ligand_M"
+    method_steps = (METHOD_STEP,)
     #: Its figures (keys of :mod:`cvfit.report.figures.registry`), drawn also without a fit.
     figures = ("stepwise_shift", "stepwise_leden", "stepwise_species")
 

@@ -24,6 +24,7 @@ from cvfit.techniques.cv.peaks.analysis import PeakAnalysis, analyse_peaks
 from cvfit.techniques.cv.screen.ohmic_drop import correct_for_resistance, ohmic_flags
 from cvfit.techniques.cv.screen.reversibility import screen_reversibility
 from cvfit.techniques.cv.series_study import study_series
+from cvfit.techniques.cv.summary import HIDDEN_KEYS, REPORT_COLUMNS, summary_lines
 from cvfit.voltammogram import Voltammogram
 
 __all__ = ["CV", "CyclicVoltammetry", "analyse", "drawn_curve"]
@@ -158,10 +159,13 @@ class CyclicVoltammetry:
     name = "cv"
     #: Its figures (keys of :mod:`cvfit.report.figures.registry`).
     figures = ("diagnostics", "curve_fits")
+    report_columns = REPORT_COLUMNS
+    hidden_keys = HIDDEN_KEYS
 
     analyse = staticmethod(analyse)
     study_series = staticmethod(study_series)
     drawn_curve = staticmethod(drawn_curve)
+    summary_lines = staticmethod(summary_lines)
 
 
 #: The technique object the pipeline uses for ``[series] technique = "cv"``.
