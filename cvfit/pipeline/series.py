@@ -43,6 +43,15 @@ def analyse_manifest_file(path: str | Path, *, jobs: int = 1) -> SeriesResult:
     return analyse_series(load_manifest(path), jobs=jobs)
 
 
+#: The series flag of a run without ligand: the couple characterised, no titration fitted.
+_NO_TITRATION = Flag(
+    "NO_TITRATION",
+    "every file is ligand-free (ligand_M = 0): the couple is characterised — E½, ΔEp, "
+    "ipa/ipc, k0, D and the scan-rate studies — and no constants are fitted",
+    "info",
+)
+
+
 def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
     """E½(s): mean of the ligand-free files whose E½ the decision accepted, else the
     manifest value."""
@@ -229,10 +238,11 @@ def analyse_series(
         (``None`` with a series flag when fewer than three usable points remain).
     """
     titrating = [e for e in manifest.voltammograms if e.ligand_M > 0]
-    if len(titrating) < MIN_FIT_POINTS:
+    if 0 < len(titrating) < MIN_FIT_POINTS:
         raise InputError(
             f"the manifest lists {len(titrating)} voltammogram(s) with ligand_M > 0; a "
-            f"titration fit needs at least {MIN_FIT_POINTS} — add more [[voltammogram]] tables",
+            f"titration fit needs at least {MIN_FIT_POINTS} — add more [[voltammogram]] tables "
+            "(or list only ligand-free files to characterise the couple without a titration)",
             source=str(manifest.path),
             key="voltammogram",
         )
@@ -273,12 +283,15 @@ def analyse_series(
         )
     series_flags += _reference_flags(reference, final)
 
-    outcome, final = _fit_titration(final, manifest, reference)
     fit = None
-    if isinstance(outcome, FitRefused):
-        series_flags.extend(outcome.flags)
+    if not titrating:
+        series_flags.append(_NO_TITRATION)
     else:
-        fit = outcome
+        outcome, final = _fit_titration(final, manifest, reference)
+        if isinstance(outcome, FitRefused):
+            series_flags.extend(outcome.flags)
+        else:
+            fit = outcome
     global_fit, global_flags = run_global(final, manifest, fit, reference, records)
     series_flags.extend(global_flags)
 

@@ -127,6 +127,8 @@ def screen_short(data: Mapping[str, Any]) -> str:
 
 def _no_constants(data: Mapping[str, Any]) -> str:
     fit = data.get("fit") or {}
+    if any(fl.get("code") == "NO_TITRATION" for fl in data.get("flags") or []):
+        return "No titration: every file is ligand-free, so the couple is characterised only."
     why = [
         fl
         for fl in [*(data.get("flags") or []), *(fit.get("flags") or [])]

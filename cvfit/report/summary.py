@@ -37,6 +37,8 @@ def format_summary(result: SeriesResult) -> str:
     fit = result.fit
     if fit is not None:
         lines.extend(fit.summary_lines())
+    elif any(fl.code == "NO_TITRATION" for fl in result.flags):
+        lines.append("No titration (every file is ligand-free): no constants.")
     else:
         lines.append("No constants: see the series flags below.")
     from cvfit.report.summary_global import global_lines
