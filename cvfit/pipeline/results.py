@@ -13,7 +13,7 @@ from typing import TYPE_CHECKING, Any, Literal, TypeAlias
 from cvfit.flags import Flag
 from cvfit.quantity import clean_number
 from cvfit.reversibility_criteria import ReversibilityCriteria
-from cvfit.techniques.base import StandardMeasurement
+from cvfit.techniques.base import Measurement, StandardMeasurement
 from cvfit.titration.base import ReferenceHalfWave
 from cvfit.titration.lingane import LinganeFit
 from cvfit.titration.registry import MODEL_NAMES, model_named
@@ -25,7 +25,6 @@ if TYPE_CHECKING:  # imported for annotations only; keeps this module free of he
     from cvfit.io.manifest import SeriesSettings
     from cvfit.techniques.curves import CycleCurve
     from cvfit.techniques.cv.curve.global_fit import GlobalCurveFit
-    from cvfit.techniques.cv.measurement import CVMeasurement
     from cvfit.techniques.cv.screen.scan_rate import ScanRateStudy
 
 __all__ = [
@@ -92,7 +91,7 @@ class FileResult:
     ligand_M: float
     free_ligand_M: float
     scan_rate_V_s: float | None
-    measurement: CVMeasurement
+    measurement: Measurement
     half_wave: HalfWaveDecision
     used_in_fit: bool = False
     series_flags: tuple[Flag, ...] = ()

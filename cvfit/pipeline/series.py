@@ -130,10 +130,12 @@ def _no_reference(reference: ReferenceHalfWave, files: Sequence[FileResult]) -> 
 def _point(f: FileResult, x: float) -> TitrationPoint:
     """A file as a titration point at *x*: its decided E½ and what its technique knows."""
     m = f.measurement
+    if f.E_half_V is None:
+        raise ValueError(f"{f.file} has no E½ to fit")  # only accepted files are points
     return TitrationPoint(
         f.file,
         x,
-        f.E_half_V,  # type: ignore[arg-type]  (accepted files carry an E½)
+        f.E_half_V,
         f.E_half_total_stderr_V,
         bulk_form=m.bulk_form,
         diffusion_current_A=m.diffusion_current_A,

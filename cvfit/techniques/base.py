@@ -136,13 +136,34 @@ class StandardMeasurement:
 class Measurement(Protocol):
     """What a technique found in one file (a frozen record of the technique's own)."""
 
-    technique: str
-    flags: tuple[Flag, ...]
-    standard: StandardMeasurement | None
+    @property
+    def technique(self) -> str:
+        """The technique's name (``[series] technique``)."""
+        ...
+
+    @property
+    def flags(self) -> tuple[Flag, ...]:
+        """Its findings, as flags."""
+        ...
+
+    @property
+    def standard(self) -> StandardMeasurement | None:
+        """An internal reference couple measured in the same record, if any."""
+        ...
 
     @property
     def reversible(self) -> bool | None:
         """The technique's Nernstian verdict (None: could not be judged)."""
+        ...
+
+    @property
+    def bulk_form(self) -> Literal["ox", "red"] | None:
+        """The form of the couple in the bulk of the solution, when it can tell."""
+        ...
+
+    @property
+    def diffusion_current_A(self) -> float | None:
+        """The diffusion-controlled current of the bulk oxidised form, A, or None."""
         ...
 
     def half_wave_estimate(self) -> HalfWaveEstimate:
@@ -167,10 +188,17 @@ class FileView(Protocol):
     """One file of an analysed series as a technique's report sees it (the pipeline's
     per-file result satisfies it)."""
 
-    file: str
-    ligand_M: float
-    used_in_fit: bool
-    measurement: Any
+    @property
+    def file(self) -> str: ...
+
+    @property
+    def ligand_M(self) -> float: ...
+
+    @property
+    def used_in_fit(self) -> bool: ...
+
+    @property
+    def measurement(self) -> Any: ...
 
     @property
     def E_half_source(self) -> str: ...

@@ -197,8 +197,10 @@ class ModelOutcome:
 class TitrationResult(Protocol):
     """The fitted result of a titration model (a frozen record of the model's own)."""
 
-    model: str
-    flags: tuple[Flag, ...]
+    @property
+    def flags(self) -> tuple[Flag, ...]:
+        """Its findings, as flags."""
+        ...
 
     def to_dict(self) -> dict[str, Any]:
         """The results.json ``fit`` record."""

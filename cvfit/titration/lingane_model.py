@@ -36,8 +36,12 @@ __all__ = ["LinganeModel", "LINGANE"]
 _MAX_ROUNDS = 50
 
 
-def _line(points: Sequence[TitrationPoint], data: TitrationData, manifest: Manifest):
+def _line(
+    points: Sequence[TitrationPoint], data: TitrationData, manifest: Manifest
+) -> LinganeFit | FitRefused:
     ref = data.reference
+    if ref.E_half_V is None:
+        raise ValueError("the Lingane line needs E½(s)")  # the pipeline refuses before
     return fit_lingane(
         points,
         electrons=manifest.series.electrons,
@@ -110,7 +114,7 @@ class LinganeModel:
     #: the Lingane line itself).
     method_steps: tuple[tuple[str, str, tuple[str, ...]], ...] = ()
     #: Its figures (keys of :mod:`cvfit.report.figures.registry`), drawn also without a fit.
-    figures = ("lingane",)
+    figures: tuple[str, ...] = ("lingane",)
 
     def fit(self, data: TitrationData, manifest: Manifest) -> ModelOutcome:
         """The line; with ``metal_total_M``, on the free ligand (module docstring)."""

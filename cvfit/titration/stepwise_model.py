@@ -97,7 +97,7 @@ def _check_inputs(points: Sequence[TitrationPoint], manifest: Manifest) -> None:
             )
     n_bound, metal = series.bound_ligand_number, series.metal_total_M
     for p in points:
-        if n_bound is not None and p.x - n_bound * metal <= 0:
+        if n_bound is not None and metal is not None and p.x - n_bound * metal <= 0:
             raise InputError(
                 f"bound_ligand_number × metal_total_M ({n_bound * metal:.3g} M) is not below "
                 f"the total ligand of {p.label} ({p.x:.3g} M); check the two values or "
@@ -120,9 +120,11 @@ def _conditions(manifest: Manifest) -> SolutionConditions:
     )
 
 
-def _excess_flag(p: TitrationPoint, free_M: float, log10_alpha_L: float, metal: float):
+def _excess_flag(
+    p: TitrationPoint, free_M: float, log10_alpha_L: float, metal: float | None
+) -> tuple[Flag, ...]:
     share = 1.0 - free_M / (10.0**log10_alpha_L * p.x)
-    if share <= BOUND_LIGAND_SHARE_MAX:
+    if metal is None or share <= BOUND_LIGAND_SHARE_MAX:
         return ()
     return (
         Flag(
@@ -155,9 +157,9 @@ class StepwiseModel:
     name = "stepwise"
     title = "stepwise"
     variable = "ligand_M"
-    method_steps = (METHOD_STEP,)
+    method_steps: tuple[tuple[str, str, tuple[str, ...]], ...] = (METHOD_STEP,)
     #: Its figures (keys of :mod:`cvfit.report.figures.registry`), drawn also without a fit.
-    figures = ("stepwise_shift", "stepwise_leden", "stepwise_species")
+    figures: tuple[str, ...] = ("stepwise_shift", "stepwise_leden", "stepwise_species")
 
     def fit(self, data: TitrationData, manifest: Manifest) -> ModelOutcome:
         """The stepwise fit of *data*; the notes give each point's free ligand.
@@ -169,6 +171,8 @@ class StepwiseModel:
             leaves no free ligand.
         """
         series, settings = manifest.series, manifest.fit
+        if data.reference.E_half_V is None:
+            raise ValueError("the stepwise fit needs E½(s)")  # the pipeline refuses before
         used = data.points
         _check_inputs(used, manifest)
         flags: list[Flag] = []
