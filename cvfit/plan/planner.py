@@ -260,6 +260,9 @@ def _warnings(req: PlanInput, thetas: np.ndarray, designs, needed) -> list[PlanW
                     "stepwise model",
                 )
             )
+    second = _second_reference_warning(req, thetas, rec)
+    if second is not None:
+        out.append(second)
     if req.target_stderr_log10 is not None and needed is None:
         out.append(
             PlanWarning(
@@ -271,6 +274,35 @@ def _warnings(req: PlanInput, thetas: np.ndarray, designs, needed) -> list[PlanW
             )
         )
     return out
+
+
+def _second_reference_warning(
+    req: PlanInput, thetas: np.ndarray, rec: DesignAssessment
+) -> PlanWarning | None:
+    """How much a second ligand-free solution would narrow the constants tied to E½(s)."""
+    spec = spec_of(req)
+    c = np.array(rec.ligand_M)
+    one = _stderrs(spec, thetas[0], c, req.E_half_stderr_V)
+    cov = constants_covariance(spec, thetas[0], c, req.E_half_stderr_V, references=2)
+    two = np.sqrt(np.abs(np.diagonal(cov)))
+    gains = [
+        (n, a, b)
+        for n, a, b in zip(req.names, one, two, strict=True)
+        if math.isfinite(a) and math.isfinite(b) and b < a * 0.99
+    ]
+    if not gains:
+        return None
+    said = "; ".join(
+        f"{n} {a:.3g} → {b:.3g} ({100 * (1 - b / a):.0f} % narrower)" for n, a, b in gains
+    )
+    return PlanWarning(
+        "second_reference",
+        "measure a second ligand-free solution (one before and one after the titration): "
+        "E½(s) is one more solution, and a single one that is off (a drifting reference "
+        "electrode, a different junction potential) moves every constant tied to it "
+        "unseen, while two show it as their difference; with the planned noise alone the "
+        f"predicted standard errors would shrink: {said}",
+    )
 
 
 def _model_range_warnings(req: PlanInput, thetas: np.ndarray, designs) -> list[PlanWarning]:
