@@ -146,3 +146,36 @@ def test_recommended_designs_through_simulated_voltammograms(doc):
     # 95 % coverage: 17 or more of 20 with probability 98 % (binomial)
     assert hits.min() >= 17, hits
     assert float(np.median(sigmas)) == pytest.approx(doc["design"]["E_half_stderr_V"], rel=0.15)
+
+
+def test_a_second_reference_is_advised_with_its_gain():
+    # two ligand-free solutions are two observations of E½(s): computed here from the
+    # planned Lingane design by weighted least squares (Draper & Smith 1998, ch. 1), the
+    # intercept-tied log10 ratio narrows by the factor the plan states
+    res = _plan({**ISSUE, "series": {"electrons": 1, "temperature_C": 25.0}})
+    said = [w.message for w in res.warnings if w.kind == "second_reference"]
+    assert said and "before and one after" in said[0]
+    c = np.log10(res.design("recommended").ligand_M)
+    S = math.log(10.0) * RT_F
+    rows = [np.column_stack([-np.ones_like(c), np.full_like(c, S), S * c])]
+    for refs in (1, 2):
+        X = np.vstack(rows + [[[-1.0, 0.0, 0.0]]] * refs)
+        se = 5e-4 * math.sqrt(np.linalg.inv(X.T @ X)[1, 1])
+        assert f"{se:.3g}" in said[0]
+
+
+def test_report_says_what_a_second_reference_would_give():
+    from cvfit.report.html_sections import error_budget_section
+
+    budget = {"unit": "log10 units", "within_file": 0.004, "between_solutions": 0.0}
+    data = {
+        "fit": {
+            "error_budget": {"log10_beta_ratio": {**budget, "reference": 0.003, "total": 0.005}}
+        },
+        "reference": {"file_E_half_V": [-0.1]},
+    }
+    html = error_budget_section(data)
+    # √(0.005² − 0.003²/2) = 0.00453: the reference variance halves with two files
+    assert "second one, before and after" in html and "0.00453" in html
+    data["reference"] = {"file_E_half_V": [-0.1, -0.1002], "spread_V": 1.4e-4}
+    assert "second one" not in error_budget_section(data)
