@@ -100,6 +100,17 @@ def test_standard_potential_refuses_celsius_and_fractional_n():
     assert two == pytest.approx(one / 2, rel=1e-12)
 
 
+def test_ligand_for_a_fraction_of_the_metal():
+    from cvfit.chemistry.speciation import ligand_for_fraction_M
+
+    # one complex: α1 = β[L]/(1 + β[L]) = f at [L] = f/((1 − f)β) (Leden 1941)
+    assert ligand_for_fraction_M([3.0], 1, 0.2) == pytest.approx(0.25e-3, rel=1e-8)
+    # an intermediate complex peaks at [L] = β2^-1/2 with α1 = r/(2 + r), r = β1/√β2:
+    # log β = (3, 7) gives 0.137 at most, so 20 % is never reached
+    assert ligand_for_fraction_M([3.0, 7.0], 1, 0.2) is None
+    assert ligand_for_fraction_M([3.0, 7.0], 1, 0.13) is not None
+
+
 def test_fraction_unprotonated_against_explicit_acid_constants():
     # Ringbom, Complexation in Analytical Chemistry, Interscience, New York (1963):
     # α_L = Ka1Ka2/([H]² + Ka1[H] + Ka1Ka2)
