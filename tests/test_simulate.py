@@ -152,16 +152,27 @@ def test_quasi_reversible_peak_separation_against_psi_table():
     # psi = (D_O/D_R)^(alpha/2) k0 / (pi D_O n F v / RT)^1/2 (Nicholson 1965, from memory).
     # The switch is placed 112.5 mV beyond E½ (the table's switch is not recalled; an
     # independent convolution-integral computation, tests/convolution_cv.py, reproduces the
-    # table there, see tests/test_kinetics.py).
+    # table there, see tests/test_kinetics.py). Two checks: against that independent
+    # computation at the same switch (measured: the simulator, 1 mV steps, lies 0.055-0.065
+    # mV above it at every ψ — its first-order time step), and against the published table,
+    # given to 1 mV, which both computations match within 1.1 mV (0.93 mV at ψ = 0.75,
+    # 1.08 mV at ψ = 0.25; 1.86 mV at ψ = 0.1, beyond the convolution's window; was a 3 %
+    # tolerance, up to 6.4 mV).
     f = FARADAY / (GAS_CONSTANT * 298.15)
-    errors = []
+    f_mV = 1e3 / f
+    dEp = []
     for psi, ref_mV in PSI_TABLE:
         k0 = psi * math.sqrt(math.pi * D * f * V)
         vg = simulate_cv(E_half_V=0.0, start_V=0.5, switch_V=-0.1125, k0_cm_s=k0)
         Epc, _, Epa, _ = cathodic_then_anodic(vg.potential_V, vg.current_A)
-        errors.append((Epa - Epc) * 1e3 / ref_mV - 1)
-    assert max(abs(e) for e in errors) < 0.03, errors
-    dEp = [ref * (1 + e) for (_, ref), e in zip(PSI_TABLE, errors, strict=True)]
+        got = (Epa - Epc) * 1e3
+        assert got == pytest.approx(ref_mV, abs=1.2 if psi >= 0.25 else 2.0), psi
+        dEp.append(got)
+        if psi in (20, 2, 0.5, 0.25):
+            xi = -112.5 / f_mV
+            seps = [np.subtract(*peak_potentials(start=12.0, switch=xi, h=h, psi=psi)[::-1])
+                    for h in (0.008, 0.004)]  # fmt: skip
+            assert got == pytest.approx(f_mV * (2 * seps[1] - seps[0]), abs=0.1), psi
     assert np.all(np.diff(dEp) > 0)  # slower kinetics, wider separation
 
 
