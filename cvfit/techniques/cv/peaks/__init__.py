@@ -3,7 +3,6 @@
 - :mod:`.analysis` — :func:`analyse_peaks` and its record :class:`PeakAnalysis`
 - :mod:`.location` — one peak (or the reason there is none) on a baseline-corrected sweep
 - :mod:`.baseline` — noise, baselines, the switch step, decay tails, crossings
-- :mod:`.least_squares` — the small least-squares solves behind them
 """
 
 from cvfit.techniques.cv.peaks.analysis import PeakAnalysis, analyse_peaks
