@@ -394,7 +394,7 @@ def fit_stepwise(
         pHs = sorted({p.pH if p.pH is not None else cond.pH for p in pts})
         for pH in pHs:
             la = float(np.log10(ligand_fraction_unprotonated(pH, cond.ligand_pKa)))
-            qs = [_shift(b, j * la) for j, b in enumerate(betas, start=1)]
+            qs = [b.shifted(j * la) for j, b in enumerate(betas, start=1)]
             conditional.append(ConditionalConstants(pH, la, tuple(qs)))
     thermo = None
     if (
@@ -413,7 +413,7 @@ def fit_stepwise(
                 ionic_strength_M=cond.ionic_strength_M,
                 A=debye_huckel_A(temperature_K),
             )
-            thermo = tuple(_shift(b, tv - b.value) for b, tv in zip(betas, t, strict=True))
+            thermo = tuple(b.shifted(tv - b.value) for b, tv in zip(betas, t, strict=True))
         else:
             flags.append(
                 Flag(
@@ -503,11 +503,6 @@ def _diffusion_term(
     r = min(max(r, 1e-3), 1e3)
     rho_red = f_red + r * (1.0 - f_red)
     return ln_ratio_ox + 0.5 * np.log(rho_red), r
-
-
-def _shift(q: Quantity, delta: float) -> Quantity:
-    lo, hi = q.ci95
-    return Quantity(q.value + delta, q.stderr, (lo + delta, hi + delta), q.method)
 
 
 __all__ += ["UndeterminedConstant", "ConditionalConstants"]
