@@ -9,6 +9,8 @@ docstring).
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 import pytest
 
@@ -162,6 +164,29 @@ def test_fixed_reduced_constants_give_the_oxidised_ones():
     fit_red = _fit(_points(L3, E), ref, max_complexes=2, fixed_log10_beta_ox=THREE)
     assert fit_red.fitted_state == "red" and fit_red.n_complexes == 1
     assert fit_red.log10_beta[0].value == pytest.approx(4.2, abs=0.05)
+
+
+def test_lmfit_parameters_hold_the_optimum_and_the_given_constants():
+    """The fit's lmfit.Parameters: the given constants held (vary=False), the fitted ones
+    within their bounds, and lmfit's own standard errors (from its covariance of the
+    final Jacobian) equal to the fit's, computed separately."""
+    rng = np.random.default_rng(9)
+    red = (4.2,)
+    E, ref = _series(THREE, L3, rng, red=red)
+    fit = _fit(_points(L3, E), ref, max_complexes=3, fixed_log10_beta_red=red)
+    params = fit.lmfit_params
+    held = params["log10_beta_red_1"]
+    assert held.vary is False and held.value == 4.2
+    names = [f"log10_beta_ox_{j}" for j in (1, 2, 3)]
+    assert list(params) == ["E_half_free_V", *names, "log10_beta_red_1"]
+    for name, q in zip(names, fit.log10_beta, strict=True):
+        p = params[name]
+        assert p.vary and p.min < p.value < p.max
+        assert p.value == q.value
+        assert p.stderr == pytest.approx(q.stderr, rel=1e-6)
+    assert params["E_half_free_V"].stderr == pytest.approx(fit.E_half_free.stderr, rel=1e-6)
+    assert fit == replace(fit, lmfit_params=None)  # not compared
+    assert "lmfit" not in str(fit.to_dict())
 
 
 def test_free_ligand_self_consistent_with_low_excess():
