@@ -17,13 +17,11 @@ second. No assertions: numbers depend on the machine and its load.
 from __future__ import annotations
 
 import argparse
-import subprocess
-import sys
 import tempfile
 from pathlib import Path
 
 import numpy as np
-from _timing import child_environment
+from _timing import numbers_from_code
 
 from cvfit.simulate import simulate_cv
 
@@ -53,15 +51,7 @@ SETTINGS = dict(
 
 def first_fit(record: Path, cache_dir: str) -> list[float]:
     """(import s, first fit s, second fit s) in a fresh process."""
-    env = dict(child_environment(), NUMBA_CACHE_DIR=cache_dir)
-    out = subprocess.run(
-        [sys.executable, "-c", FIRST_FIT, str(record)],
-        env=env,
-        capture_output=True,
-        text=True,
-        check=True,
-    ).stdout.split()
-    return [float(x) for x in out]
+    return numbers_from_code(FIRST_FIT, str(record), numba_cache_dir=cache_dir)
 
 
 def main() -> None:

@@ -20,11 +20,9 @@ assertions: numbers depend on the machine and its load.
 from __future__ import annotations
 
 import argparse
-import subprocess
-import sys
 import tempfile
 
-from _timing import alternate, child_environment, median
+from _timing import alternate, median, numbers_from_code
 
 from cvfit.simulate.voltammogram import _simulate_raw
 
@@ -46,15 +44,7 @@ print(t1 - t0, t2 - t1, t3 - t2)
 
 def first_call(step_V: float, cache_dir: str) -> list[float]:
     """(import s, first simulation s, second simulation s) in a fresh process."""
-    env = dict(child_environment(), NUMBA_CACHE_DIR=cache_dir)
-    out = subprocess.run(
-        [sys.executable, "-c", FIRST_CALL, repr(step_V)],
-        env=env,
-        capture_output=True,
-        text=True,
-        check=True,
-    ).stdout.split()
-    return [float(x) for x in out]
+    return numbers_from_code(FIRST_CALL, repr(step_V), numba_cache_dir=cache_dir)
 
 
 def main() -> None:
