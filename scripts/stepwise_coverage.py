@@ -92,8 +92,15 @@ def voltammogram_series(s: Scenario, rng: np.random.Generator):
                       "scan_rate_V_s = 0.1"]  # fmt: skip
         manifest = Path(tmp) / "m.toml"
         manifest.write_text("\n".join(lines) + "\n", encoding="utf-8")
-        fit = analyse_manifest_file(manifest).fit
-    return fit if hasattr(fit, "log10_beta") else None
+        result = analyse_manifest_file(manifest)
+    fit = result.fit
+    if not hasattr(fit, "log10_beta"):
+        return None
+    # each file's E½ error against the labile-limit truth, V (the first: ligand-free)
+    truth = complexed_half_wave_V(0.0, ligand_M=free, log10_beta_ox=TRUTH, log10_beta_red=s.red)
+    errors = [f.E_half_V - t if f.E_half_V is not None else np.nan
+              for f, t in zip(result.files, truth, strict=True)]  # fmt: skip
+    return fit, np.array(errors)
 
 
 def one_series(s: Scenario, rng: np.random.Generator):
@@ -154,9 +161,14 @@ def run(s: Scenario, n: int, seed: int) -> str:
     hits = np.zeros(len(TRUTH))
     opened = np.zeros(len(TRUTH))
     total = np.zeros(len(TRUTH))
-    chi2 = []
-    for _ in range(n):
+    chi2, errors = [], []
+    for k in range(n):
         fit = voltammogram_series(s, rng) if s.name == "voltammograms" else one_series(s, rng)
+        if isinstance(fit, tuple):
+            fit, err = fit
+            errors.append(err)
+        if (k + 1) % 25 == 0:
+            print(f"  {s.name}: {k + 1} series", file=sys.stderr, flush=True)
         if fit is None:
             continue
         chi2.append(fit.candidates[-1].reduced_chi_square)
@@ -172,10 +184,17 @@ def run(s: Scenario, n: int, seed: int) -> str:
         f"β{j + 1} {100 * hits[j] / max(total[j], 1):5.1f} %" for j in range(len(TRUTH))
     )
     open_ = " ".join(f"{int(x)}" for x in opened)
-    return (
+    text = (
         f"{s.name:<11} n={int(total[0]):4d}  {cover}   open {open_}   "
         f"median χ²/ν {np.median(chi2):.2f}"
     )
+    if errors:
+        bias = np.nanmean(np.array(errors), axis=0)
+        sd = np.nanstd(np.array(errors), axis=0)
+        text += "\n  E½ error per file, mean ± SD, mV (ligand-free first): " + ", ".join(
+            f"{1e3 * b:+.3f}±{1e3 * d:.3f}" for b, d in zip(bias, sd, strict=True)
+        )
+    return text
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -113,6 +113,32 @@ def test_profile_intervals_cover_the_truth_at_about_the_nominal_rate():
     assert 0.89 <= hits / total <= 0.995
 
 
+def test_profile_intervals_cover_with_both_forms_complexed():
+    """Both forms complexed (reduced log10 β1 = 1.5 given), three complexes, ten points: the
+    F(1, ν) profile intervals at N = 3 cover the truth at the nominal rate. The fast
+    version of scripts/stepwise_coverage.py (which measures ≥ 200 series per β_j):
+    45 series × 3 constants, binomial SD 1.9 %, so 89-99.5 % is about a ±3 SD band."""
+    from cvfit.chemistry.complexation import log_leden_F0
+    from cvfit.titration.stepwise_least_squares import fit_candidate, profile_interval
+
+    rng = np.random.default_rng(24)
+    red = (1.5,)
+    L = np.logspace(-2.6, 0.0, 10)
+    k = thermal_voltage(298.15, 1)
+    hits = total = 0
+    for _ in range(45):
+        E, ref = _series(THREE, L, rng, red=red)
+        data = StepwiseData(
+            L, E, np.full(L.size, SIGMA_V), ref, SIGMA_V, k, 1.0, log_leden_F0(L, red), red
+        )
+        fit = fit_candidate(data, 3)
+        for j, t in enumerate(THREE, start=1):
+            lo, hi = profile_interval(data, fit, j)
+            hits += lo <= t <= hi
+            total += 1
+    assert 0.89 <= hits / total <= 0.995, hits / total
+
+
 def test_range_that_cannot_determine_beta3_says_so():
     rng = np.random.default_rng(5)
     L = np.logspace(-3.5, -2.2, 10)  # ML3 below 1 % of the metal throughout
