@@ -93,7 +93,9 @@ def clean_number(x: float | None) -> float | None:
     return x if math.isfinite(x) else None
 
 
-def t_interval(value: float, stderr: float, dof: int, level: float = 0.95) -> tuple[float, float]:
+def t_interval(
+    value: float, stderr: float, dof: float, level: float = 0.95
+) -> tuple[float, float]:
     """Two-sided Student-t confidence interval ``value ± t(dof) · stderr``.
 
     With ``dof`` = ``math.inf`` (or <= 0 treated as undefined) the normal quantile is used
