@@ -23,14 +23,24 @@ reflective least squares within bounds).
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, Protocol
 
 import numpy as np
 
 if TYPE_CHECKING:  # pragma: no cover
     import lmfit
 
-    from cvfit.titration.stepwise_least_squares import StepwiseData
+
+class StepwiseData(Protocol):
+    """What is needed of :class:`cvfit.titration.stepwise_least_squares.StepwiseData`."""
+
+    sign: float
+    fixed_log10_beta: tuple[float, ...]
+
+    def residuals(self, p: np.ndarray) -> np.ndarray: ...
+
+    def jacobian(self, p: np.ndarray) -> np.ndarray: ...
+
 
 __all__ = ["E_HALF_NAME", "beta_names", "parameters", "values", "minimise"]
 
