@@ -510,7 +510,10 @@ def fit_curve(
             "model_A": lin.model_A[idx].copy(),
         },
         E_half_model_spread_V=spread,
-        E_half_variants_V=variants.E_half_V,
+        E_half_variants_V={
+            (f"{k} (rejected by the F test, not counted)" if k in variants.not_counted else k): e
+            for k, e in variants.E_half_V.items()
+        },
         systematic_residuals=systematic,
         bulk_form=data.bulk,
         bulk_form_source=data.bulk_source,
@@ -563,10 +566,14 @@ def _verdict(
         f"{E_HALF_STABLE_RT_F:g}·RT/nF)"
     )
     if not misfit_fraction <= MAX_MISFIT_FRACTION:
-        return False, True, (
-            f"{misfit}: the misfit beyond the noise is {100 * misfit_fraction:.1f} % of the "
-            f"peak (more than {100 * MAX_MISFIT_FRACTION:g} %: another process, not a "
-            "non-ideal electrode)"
+        return (
+            False,
+            True,
+            (
+                f"{misfit}: the misfit beyond the noise is {100 * misfit_fraction:.1f} % of the "
+                f"peak (more than {100 * MAX_MISFIT_FRACTION:g} %: another process, not a "
+                "non-ideal electrode)"
+            ),
         )
     if not spread_V <= stable_V:
         if math.isnan(spread_V):

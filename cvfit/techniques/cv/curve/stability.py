@@ -12,7 +12,11 @@ fit is repeated with
 * the outer fifth of the potential range on each side of E½ left out (where the
   background's curvature weighs most),
 
-and the largest move of E½ among these variants is the model spread. Each variant is one
+and the largest move of E½ among these variants is the model spread. The lower order
+counts only where it describes the record about as well as the fit's own order: where
+the F test of the terms it drops (their Δχ² against the fit's reduced χ²) rejects it at
+:data:`LOWER_ORDER_REJECT_P`, it is no plausible alternative and its E½ is reported but not
+counted. Each variant is one
 Gauss–Newton step of the variable-projection problem from the fit's optimum: the
 derivatives of the faradaic shape by the non-linear parameters are taken once (one
 simulation per parameter), and each variant costs only its linear solve — exact to second
@@ -31,6 +35,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from cvfit.quantity import f_upper_tail
 from cvfit.techniques.cv.curve.model import CurveModel
 
 __all__ = ["Variant", "ModelSpread", "fit_variants", "model_spread"]
@@ -39,6 +44,8 @@ __all__ = ["Variant", "ModelSpread", "fit_variants", "model_spread"]
 START_SHARE = 0.10
 #: Share of the potential excursion from E½ kept by the narrow-window variant.
 KEPT_EXCURSION = 0.80
+#: F-test level below which the lower-order background is rejected (common practice).
+LOWER_ORDER_REJECT_P = 0.01
 #: Finite-difference steps of the non-linear parameters (E½ V, log10 k0, α, R_u Ω).
 STEPS = (1e-5, 1e-4, 1e-4, 0.5)
 
@@ -54,10 +61,12 @@ class Variant:
 
 @dataclass(frozen=True)
 class ModelSpread:
-    """E½ of each variant and the largest move from the fit's E½, V."""
+    """E½ of each variant, the largest move from the fit's E½ among those counted, V, and
+    the labels of the variants not counted (a lower order the F test rejects)."""
 
     E_half_V: dict[str, float]
     spread_V: float
+    not_counted: tuple[str, ...] = ()
 
 
 def fit_variants(model: CurveModel, E_half_V: float) -> list[Variant]:
@@ -112,6 +121,10 @@ def model_spread(
         derivs.append((j, (shape_j - shape0) / STEPS[j]))
     sig = model.data.sigma_A
     moves: dict[str, float] = {}
+    ssr: dict[str, tuple[float, int]] = {}
+    main = model.solve_linear(shape0, drive0)
+    n_main = int(model.data.fit_mask.sum())
+    p_main = len(derivs) + 1 + sum(o + 1 for o in model.orders)
     for v in fit_variants(model, float(base[0])):
         lin = model.solve_linear(shape0, drive0, mask=v.mask, orders=v.orders)
         if not derivs:
@@ -132,5 +145,18 @@ def model_spread(
         step, *_ = np.linalg.lstsq(J, lin.residual, rcond=None)
         moved = dict(zip([j for j, _ in derivs], step, strict=True))
         moves[v.label] = float(base[0] + moved.get(0, 0.0))
-    spread = max((abs(e - float(base[0])) for e in moves.values()), default=0.0)
-    return ModelSpread(moves, spread)
+        left = float(np.sum((lin.residual - J @ step) ** 2))
+        ssr[v.label] = (left, sum(o + 1 for o in v.orders))
+    dropped = []
+    lower = "background one order lower"
+    if lower in ssr:
+        ssr_main = float(np.sum(main.residual**2))
+        dof = n_main - p_main
+        extra = sum(o + 1 for o in model.orders) - ssr[lower][1]
+        if extra > 0 and dof > 0 and ssr_main > 0:
+            F = (ssr[lower][0] - ssr_main) / extra / (ssr_main / dof)
+            if f_upper_tail(F, extra, dof) < LOWER_ORDER_REJECT_P:
+                dropped.append(lower)
+    counted = [e for k, e in moves.items() if k not in dropped]
+    spread = max((abs(e - float(base[0])) for e in counted), default=0.0)
+    return ModelSpread(moves, spread, tuple(dropped))

@@ -82,7 +82,7 @@ def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveDa
     return initial_state(
         data,
         time_s=v.time_s,
-        first_stop=v.cycles()[0].forward.stop,
+        first_stop=_first_cycle_stop(v),
         E_half_V=float(
             peaks.E_half_V  # type: ignore[attr-defined]
             if peaks.E_half_V is not None  # type: ignore[attr-defined]
@@ -92,6 +92,12 @@ def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveDa
         bulk_form=getattr(series, "bulk_form", None),
         quiet_time_s=getattr(series, "quiet_time_s", None),
     )
+
+
+def _first_cycle_stop(v: Voltammogram) -> int:
+    """Last sample of the record's first cycle (of its first sweep when it has no other)."""
+    first = v.cycles()[0]
+    return first.forward.stop if first.reverse is None else first.reverse.stop
 
 
 def curve_fit_for(
