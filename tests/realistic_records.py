@@ -87,19 +87,23 @@ def realistic_record(
     alpha: float = ALPHA,
     resistance_ohm: float = RESISTANCE_OHM,
     quiet_time_s: float = QUIET_TIME_S,
-    start_V: float = E_HALF_V + 0.25,
-    switch_V: float = E_HALF_V - 0.30,
+    start_V: float | None = None,
+    switch_V: float | None = None,
     background: bool = True,
+    E_half_V: float = E_HALF_V,
 ) -> RealisticRecord:
     """One record with the reduced form in the bulk (module notes).
 
     The default starts 250 mV positive of E½ (the reduced form is oxidised there, at the
-    diffusion limit, during the quiet time) and sweeps negative first.
+    diffusion limit, during the quiet time) and sweeps negative first, to 300 mV negative
+    of E½.
     """
+    start_V = E_half_V + 0.25 if start_V is None else start_V
+    switch_V = E_half_V - 0.30 if switch_V is None else switch_V
     D_ox = D_RED_CM2_S / D_RATIO
     if source == "project":
         v = simulate_cv(
-            E_half_V=E_HALF_V, start_V=start_V, switch_V=switch_V, scan_rate_V_s=scan_rate_V_s,
+            E_half_V=E_half_V, start_V=start_V, switch_V=switch_V, scan_rate_V_s=scan_rate_V_s,
             cycles=cycles, step_V=STEP_V, k0_cm_s=k0_cm_s, alpha=alpha, D_ox_cm2_s=D_ox,
             D_red_cm2_s=D_RED_CM2_S, concentration_M=CONCENTRATION_M, initial_species="red",
             area_cm2=AREA_CM2, double_layer_F=DOUBLE_LAYER_F, resistance_ohm=resistance_ohm,
@@ -110,7 +114,7 @@ def realistic_record(
         if cycles != 1:
             raise ValueError("the independent computation makes one cycle")
         t, E, i = independent_cv(
-            E_half_V=E_HALF_V, start_V=start_V, switch_V=switch_V, k0_cm_s=k0_cm_s,
+            E_half_V=E_half_V, start_V=start_V, switch_V=switch_V, k0_cm_s=k0_cm_s,
             alpha=alpha, scan_rate_V_s=scan_rate_V_s, step_V=STEP_V, D_cm2_s=D_RED_CM2_S,
             concentration_M=CONCENTRATION_M, area_cm2=AREA_CM2, resistance_ohm=resistance_ohm,
             double_layer_F=DOUBLE_LAYER_F, bulk="red", D_ratio=D_RATIO,
@@ -126,7 +130,7 @@ def realistic_record(
         rng = np.random.default_rng(seed)
         current = current + rng.normal(0.0, noise_fraction * rec.peak_A, current.size)
     truth = {
-        "E_half_V": E_HALF_V,
+        "E_half_V": E_half_V,
         "k0_cm_s": k0_cm_s,
         "alpha": alpha,
         "D_red_cm2_s": D_RED_CM2_S,
