@@ -37,6 +37,7 @@ def main() -> None:
     ap.add_argument("--psi", type=float, default=10.0)
     ap.add_argument("--resistance", type=float, default=20.0, help="true R_u, Ω")
     ap.add_argument("--noise", type=float, default=0.005, help="noise, fraction of the peak")
+    ap.add_argument("--first-seed", type=int, default=1000)
     args = ap.parse_args()
     f = FARADAY / (GAS_CONSTANT * 298.15)
     k0 = args.psi * math.sqrt(math.pi * D * f * V)
@@ -44,7 +45,7 @@ def main() -> None:
     hits = np.zeros(2)
     open_up = 0
     corr = []
-    for seed in range(1000, 1000 + args.seeds):
+    for seed in range(args.first_seed, args.first_seed + args.seeds):
         kw = {**SETTINGS, "resistance_ohm": args.resistance}
         v = simulate_cv(**kw, k0_cm_s=k0, noise_fraction=args.noise, seed=seed)
         data = curve_data(
