@@ -180,7 +180,7 @@ def test_capacitance_is_never_negative_against_bounded_least_squares():
     assert ours.scale == pytest.approx(ref.x[0], abs=1e-8)
 
 
-def test_a_fit_without_resistance_gives_an_R_interval_from_zero_and_no_chi2_range_beside_a_misfit():
+def test_R_interval_starts_at_zero_and_no_chi2_range_stands_beside_a_misfit():
     rec = realistic_record(scan_rate_V_s=0.02, seed=9, resistance_ohm=0.0, cycles=1)
     _, fit = fitted(rec)
     R = fit.resistance_ohm
