@@ -153,8 +153,8 @@ _CATALOGUE = (
              "the bulk form (given or detected from the record's start) and the quiet time "
              "at the first potential (given, from the time column, or assumed)."),
     FlagCode("CURVE_FIT_K0_NEEDS_RU", _I, "k0 is near the reversible end with R_u fitted: the "
-             "two trade against each other, so k0's interval comes from the χ² profile; give "
-             "resistance_ohm for a sharper k0."),
+             "two trade against each other, so k0 rests on the R_u the curve fixes; give "
+             "resistance_ohm for k0 to mean more than that."),
     FlagCode("CURVE_FIT_K0_LOWER_BOUND", _I, "k0 from the curve fit is near the reversible "
              "limit: the χ² profile gives only a lower bound."),
     FlagCode("GLOBAL_FIT_NOT_POSSIBLE", _W, "global = true, but the global curve fit could "

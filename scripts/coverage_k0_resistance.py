@@ -69,7 +69,7 @@ def main() -> None:
     print(f"  E½ interval covers the truth: {hits[1] / n:.3f}")
     print(f"  open upwards (lower bound only): {open_up}")
     if corr:
-        print(f"  profile used on {len(corr)} fits, mean correlation {np.mean(corr):.3f}")
+        print(f"  flagged CURVE_FIT_K0_NEEDS_RU: {len(corr)}, mean r {np.mean(corr):.3f}")
 
 
 if __name__ == "__main__":

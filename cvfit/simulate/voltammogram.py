@@ -23,7 +23,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 
@@ -179,8 +179,8 @@ def _simulate_raw(
     )
     bulk_O = C if initial_species == "ox" else 0.0
     bulk_R = 0.0 if initial_species == "ox" else C
-    kinetic = dict(E_formal_V=E_formal, nf_per_V=nf, k0_cm_s=k0, alpha=a)
-    start_state: dict[str, np.ndarray | None] = {}
+    kinetic: dict[str, Any] = dict(E_formal_V=E_formal, nf_per_V=nf, k0_cm_s=k0, alpha=a)
+    start_state: dict[str, Any] = {}
     held_A = 0.0
     if quiet > 0.0:
         held = _kernel.hold(

@@ -69,7 +69,6 @@ def log_k0_interval(
     *,
     bounds: tuple[float, float],
     level: float = 0.95,
-    force_profile: bool = False,
 ) -> tuple[float, float, bool]:
     """95 % interval (lo, hi) of log10 k0 and whether the upper side is open.
 
@@ -89,14 +88,11 @@ def log_k0_interval(
     bounds : (float, float)
         The search range of log10 k0; reaching its upper end below the threshold means an
         open upper side.
-    force_profile : bool
-        Take the profile whatever the standard error (a parameter that trades against
-        log10 k0 makes χ² far from quadratic in it).
     """
     lo_b, hi_b = bounds
     near_top = best > hi_b - 1.0
     quadratic = math.isfinite(stderr) and stderr < PROFILE_WHEN_STDERR
-    if quadratic and not near_top and not force_profile:
+    if quadratic and not near_top:
         h = 1.959963984540054 * stderr
         return best - h, best + h, False
     threshold = float(chi2_quantile(level, 1))

@@ -95,7 +95,7 @@ def model_spread(
     model: CurveModel,
     params: Sequence[float],
     free: Sequence[bool],
-    evaluate_shape: Callable[[Sequence[float]], tuple[np.ndarray, np.ndarray]],
+    evaluate_shape: Callable[[np.ndarray], tuple[np.ndarray, np.ndarray]],
 ) -> ModelSpread:
     """E½ of every variant by one Gauss–Newton step from the optimum *params*.
 
