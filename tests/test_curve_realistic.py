@@ -210,3 +210,37 @@ def test_systematic_residuals_with_a_stable_E_half_are_used_with_the_spread_in_t
     assert fit.E_half_V.stderr >= fit.E_half_model_spread_V > 0
     assert abs(fit.E_half_V.value - E_HALF_V) < 1e-3
     assert math.isnan(fit.reduced_chi2.ci95[0])
+
+
+def test_k0_near_the_reversible_end_with_R_u_fitted_says_R_u_must_be_given():
+    # ψ 10 at 20 mV/s, 100 Ω fitted: k0 and R_u trade (r ≈ 0.98). The small version of
+    # scripts/coverage_k0_resistance.py (320 seeds: 95.0 %): 8 seeds, at least 7 covered
+    # (at 95 % coverage fewer happen with probability 6 %); R_u given: no flag
+    from scipy.constants import R as gas_constant
+    from scipy.constants import physical_constants
+
+    from cvfit.simulate.voltammogram import simulate_cv
+    from cvfit.techniques.cv.curve.model import curve_data
+
+    f = physical_constants["Faraday constant"][0] / (gas_constant * 298.15)
+    k0 = 10 * math.sqrt(math.pi * 1e-5 * f * 0.02)
+    ip = 2.69e5 * 0.0707 * 1e-6 * math.sqrt(1e-5 * 0.02)  # Randles–Ševčík, common practice
+    covered = 0
+    for seed in range(8):
+        v = simulate_cv(
+            E_half_V=-0.2, start_V=0.2, switch_V=-0.6, scan_rate_V_s=0.02, step_V=0.0009,
+            k0_cm_s=k0, resistance_ohm=100.0, double_layer_F=5e-6, noise_fraction=0.005,
+            seed=300 + seed,
+        )  # fmt: skip
+        data = curve_data(
+            v.potential_V, v.current_A, time_s=v.time_s, scan_rate_V_s=0.02,
+            stop=v.potential_V.size - 1, electrons=1, temperature_K=298.15, bulk="ox",
+            sigma_A=0.005 * ip,
+        )  # fmt: skip
+        R = None if seed else 100.0
+        fit = fit_curve(data, E_half_start_V=-0.19, D_cm2_s=1e-5, resistance_ohm=R)
+        flagged = "CURVE_FIT_K0_NEEDS_RU" in {g.code for g in fit.flags}
+        assert flagged == (R is None)
+        lo, hi = fit.k0_cm_s.ci95
+        covered += lo <= k0 <= (math.inf if math.isnan(hi) else hi)
+    assert covered >= 7

@@ -20,7 +20,7 @@ log10 k0 comes from the profile of χ² (:mod:`cvfit.techniques.cv.curve.interva
 side is reported as a lower bound on k0. Where R_u is fitted and trades against k0
 (correlation above :data:`K0_RU_CORRELATION`, near the reversible end) a flag says that
 R_u must be given for k0 to mean more than the R_u the curve fixes; there the covariance
-interval of k0 covered the truth in 94.7 % of 320 noise seeds (ψ 10, 100 Ω), the χ²
+interval of k0 covered the truth in 95.0 % of 320 noise seeds (ψ 10, 100 Ω), the χ²
 profile in 93.1 % (scripts/coverage_k0_resistance.py): the profile is not used. A fitted
 R_u's interval never reaches below zero (its lower side from the χ² profile at R_u = 0).
 The reduced χ²'s own interval (the range a correct model gives) is stated only where the
