@@ -44,8 +44,10 @@ from cvfit.units import FARADAY, GAS_CONSTANT
 
 __all__ = ["CurveData", "CurveModel", "LinearSolution", "curve_data"]
 
-#: nF(E − E°')/RT beyond which the bulk form is at rest at a potential (e^−25 ≈ 1e-11).
-REST_EXPONENT = 25.0
+#: nF(E − E°')/RT beyond which the hold at a potential is skipped: the bulk form's share
+#: that reacts there at equilibrium, e^−9 ≈ 1e-4, gives a hold current below 1e-4 of the
+#: diffusion-limited one, ten times under the model's precision floor (1e-3 of the peak).
+REST_EXPONENT = 9.0
 
 #: Orders of the old model: a linear background and one constant capacitance.
 LINEAR_ORDERS = (1, 0)
@@ -227,6 +229,20 @@ class LinearSolution:
         return self.faradaic_A + self.charging_A + self.background_A
 
 
+@dataclass(frozen=True)
+class _Fixed:
+    """Weighted data, background columns on the fitted samples and the potential's
+    centring (:meth:`CurveModel.solve_linear`)."""
+
+    y: np.ndarray
+    common: np.ndarray
+    capacitance: np.ndarray
+    capacitance_mean: np.ndarray
+    dE: np.ndarray
+    dE2: float
+    E_mean: float
+
+
 class CurveModel:
     """Evaluator of the curve model on one record (counts its simulations).
 
@@ -264,6 +280,7 @@ class CurveModel:
         E_fit = data.potential_V[data.fit_mask]
         self.window_V = (float(E_fit.min()), float(E_fit.max()))
         self._bases: dict[tuple[int, int], BackgroundBasis] = {}
+        self._fixed_parts: dict[int, _Fixed] = {}
 
     def set_drop_current(self, current_A: np.ndarray) -> None:
         """The cell current whose ohmic drop the electrode sees (faradaic plus charging)."""
@@ -356,7 +373,7 @@ class CurveModel:
         start: dict = {}
         held_A = 0.0
         # at rest the hold changes nothing: skip it where the bulk form is stable at the
-        # first potential to within e^−25 (its equilibrium share of the other form)
+        # first potential to within e^−9 (its equilibrium share of the other form)
         at_rest = (1.0 if d.bulk == "ox" else -1.0) * nf * (
             float(drive[0]) - common["E_formal_V"]
         ) > REST_EXPONENT
@@ -409,34 +426,34 @@ class CurveModel:
         rate[1:] = np.diff(drive_V) / d.dt_s
         m = d.fit_mask if mask is None else mask
         basis = self.basis(orders)
+        fixed = self._fixed(basis, m, cache=mask is None)
         sig = d.sigma_A
         if double_layer_F is not None:
-            charging_cols = rate[:, None]
+            charging_w = (rate[m] / sig)[:, None]
         else:
-            charging_cols = basis.capacitance * rate[:, None]
-        y = d.current_A[m] / sig
-        common_w = basis.common[m] / sig
-        charging_w = charging_cols[m] / sig
+            charging_w = fixed.capacitance * (rate[m] / sig)[:, None]
+        shape_w = shape[m] / sig
         terms = solve_terms(
-            y, shape[m] / sig, common_w, charging_w, held_capacitance_F=double_layer_F
+            fixed.y, shape_w, fixed.common, charging_w, held_capacitance_F=double_layer_F
         )
         projected = None
         if double_layer_F is not None:
-            Q, _ = np.linalg.qr(np.column_stack([shape[m] / sig, common_w]))
+            Q, _ = np.linalg.qr(np.column_stack([shape_w, fixed.common]))
             c = charging_w[:, 0]
             projected = c - Q @ (Q.T @ c)
         background = basis.common @ terms.common
-        charging = charging_cols @ terms.capacitance
-        cap_curve = (
-            np.full(1, terms.capacitance[0])
-            if double_layer_F is not None
-            else basis.capacitance[m] @ terms.capacitance
-        )
-        coefficients = np.array(
-            [terms.scale, float(np.mean(cap_curve)), *self._tangent(background, m)]
-        )
+        if double_layer_F is not None:
+            charging = double_layer_F * rate
+            mean_C = double_layer_F
+        else:
+            charging = (basis.capacitance @ terms.capacitance) * rate
+            mean_C = float(fixed.capacitance_mean @ terms.capacitance)
+        # the background's straight-line part on the fitted samples (least-squares line)
+        b = background[m]
+        slope = float(fixed.dE @ b) / fixed.dE2 if fixed.dE2 > 0 else 0.0
+        offset = float(b.mean()) - slope * fixed.E_mean
         return LinearSolution(
-            coefficients=coefficients,
+            coefficients=np.array([terms.scale, mean_C, offset, slope]),
             faradaic_A=terms.scale * shape,
             charging_A=charging,
             background_A=background,
@@ -445,13 +462,27 @@ class CurveModel:
             capacitance_F=terms.capacitance,
         )
 
-    def _tangent(self, background: np.ndarray, mask: np.ndarray) -> tuple[float, float]:
-        """Offset (A) and slope (A/V) of the background's straight-line part on *mask*."""
-        E = self.data.potential_V[mask]
-        b = background[mask]
-        dE = E - E.mean()
-        slope = float(dE @ (b - b.mean()) / (dE @ dE)) if dE.any() else 0.0
-        return float(b.mean() - slope * E.mean()), slope
+    def _fixed(self, basis: BackgroundBasis, mask: np.ndarray, *, cache: bool) -> _Fixed:
+        """The parts of the linear solve that do not change between trials (kept for the
+        fitted samples and each order)."""
+        key = id(basis)
+        if cache and key in self._fixed_parts:
+            return self._fixed_parts[key]
+        d = self.data
+        E = d.potential_V[mask]
+        cap = basis.capacitance[mask]
+        fixed = _Fixed(
+            y=d.current_A[mask] / d.sigma_A,
+            common=basis.common[mask] / d.sigma_A,
+            capacitance=cap,
+            capacitance_mean=cap.mean(axis=0),
+            dE=E - E.mean(),
+            dE2=float(np.sum((E - E.mean()) ** 2)),
+            E_mean=float(E.mean()),
+        )
+        if cache:
+            self._fixed_parts[key] = fixed
+        return fixed
 
     def evaluate(
         self,
