@@ -244,3 +244,35 @@ def test_k0_near_the_reversible_end_with_R_u_fitted_says_R_u_must_be_given():
         lo, hi = fit.k0_cm_s.ci95
         covered += lo <= k0 <= (math.inf if math.isnan(hi) else hi)
     assert covered >= 7
+
+
+def test_a_titration_of_realistic_exports_runs_as_written(tmp_path):
+    # four records written as instrument exports (a metadata block, a header with units,
+    # current in µA), E½ shifted by the Lingane line with log10(β_ox/β_red) = 3, p − q = 1
+    # (Lingane, Chem. Rev. 29 (1941) 1); default settings: every file is quasi-reversible
+    # at 50 mV/s, so every E½ comes from the curve fit, with the reduced form detected
+    from realistic_records import write_export
+    from scipy.constants import R as gas_constant
+    from scipy.constants import physical_constants
+    from seriesfactory import write_manifest
+
+    from cvfit.io import load_manifest
+    from cvfit.pipeline.series import analyse_series
+
+    faraday = physical_constants["Faraday constant"][0]
+    slope = math.log(10) * gas_constant * 298.15 / faraday
+    entries = []
+    for k, ligand in enumerate((0.0, 0.01, 0.03, 0.1)):
+        shift = 0.0 if ligand == 0 else slope * (3.0 + math.log10(ligand))
+        rec = realistic_record(scan_rate_V_s=0.05, seed=20 + k, E_half_V=E_HALF_V - shift)
+        write_export(tmp_path / f"r{k}.csv", rec)
+        entries.append({"file": f"r{k}.csv", "ligand_M": ligand, "scan_rate_V_s": 0.05})
+    series = {"electrons": 1, "electrode_area_cm2": AREA_CM2, "analyte_M": CONCENTRATION_M}
+    res = analyse_series(
+        load_manifest(write_manifest(tmp_path / "s.toml", entries, series=series))
+    )
+    for f in res.files:
+        assert f.E_half_source == "curve" and f.curve_fit.bulk_form == "red"
+    for name, truth in (("delta_ligands", 1.0), ("log10_beta_ratio", 3.0)):
+        q = getattr(res.fit, name)
+        assert q.ci95[0] <= truth <= q.ci95[1], (name, q)
