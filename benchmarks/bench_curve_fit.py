@@ -95,7 +95,7 @@ def main() -> None:
             max(1, args.repeats // 2),
         )
         res = analyse_series(manifests["curve"], jobs=args.jobs)
-        fitted = sum(f.curve_fit is not None for f in res.files)
+        fitted = sum(f.measurement.curve_fit is not None for f in res.files)
         base = median(times["peaks"])
         print(f"series of {args.files} files ({fitted} curve fits), --jobs {args.jobs}")
         print(f"  peaks only (baseline)         {median(times['peaks']):8.2f} s")

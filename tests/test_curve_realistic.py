@@ -272,7 +272,7 @@ def test_a_titration_of_realistic_exports_runs_as_written(tmp_path):
         load_manifest(write_manifest(tmp_path / "s.toml", entries, series=series))
     )
     for f in res.files:
-        assert f.E_half_source == "curve" and f.curve_fit.bulk_form == "red"
+        assert f.E_half_source == "curve" and f.measurement.curve_fit.bulk_form == "red"
     for name, truth in (("delta_ligands", 1.0), ("log10_beta_ratio", 3.0)):
         q = getattr(res.fit, name)
         assert q.ci95[0] <= truth <= q.ci95[1], (name, q)

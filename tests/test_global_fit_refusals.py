@@ -29,9 +29,10 @@ def series(tmp_path_factory):
 
 def test_a_file_with_a_refused_curve_fit_is_left_out(series):
     manifest, res = series
-    slow = next(f for f in res.files if f.ligand_M in SLOW and f.curve_fit is not None)
+    slow = next(f for f in res.files if f.ligand_M in SLOW and f.measurement.curve_fit is not None)
+    cf = dataclasses.replace(slow.measurement.curve_fit, accepted=False)
     refused = dataclasses.replace(
-        slow, curve_fit=dataclasses.replace(slow.curve_fit, accepted=False)
+        slow, measurement=dataclasses.replace(slow.measurement, curve_fit=cf)
     )
     # four files keep the global fit short: the reference, two Nernstian ones, the slow one
     kept = [f for f in res.files if f.ligand_M not in SLOW][:3] + [refused]
@@ -43,12 +44,13 @@ def test_a_file_with_a_refused_curve_fit_is_left_out(series):
 
 def test_a_global_fit_far_above_the_noise_gives_no_constants(series):
     manifest, res = series
+
     # every file's noise said 3× smaller than it is: the same curves, reduced χ² ≈ 9
-    files = [
-        dataclasses.replace(f, peaks=dataclasses.replace(f.peaks, noise_A=f.peaks.noise_A / 3))
-        for f in res.files
-        if f.ligand_M not in SLOW
-    ][:4]
+    def quieter(f):
+        peaks = dataclasses.replace(f.measurement.peaks, noise_A=f.measurement.peaks.noise_A / 3)
+        return dataclasses.replace(f, measurement=dataclasses.replace(f.measurement, peaks=peaks))
+
+    files = [quieter(f) for f in res.files if f.ligand_M not in SLOW][:4]
     g, flags = run_global(files, manifest, res.fit, res.reference)
     assert g is None
     refused = [f for f in flags if f.code == "GLOBAL_FIT_REFUSED"]

@@ -136,7 +136,7 @@ def test_standard_tracks_the_drift_and_the_analyte_is_quoted_against_it(drifting
         assert std.E_half_V - 0.250 == pytest.approx(drift, abs=0.6e-3)
         # 0.5 % noise: SD of a file's E½ about 0.25 mV; 4 SD
         assert f.E_half_V == pytest.approx(truth, abs=1.0e-3)
-        own, s = f.peaks.E_half_stderr_V, std.E_half_stderr_V
+        own, s = f.measurement.peaks.E_half_stderr_V, std.E_half_stderr_V
         assert f.E_half_total_stderr_V == pytest.approx(math.hypot(own, s))
     fit = result.fit
     lo, hi = fit.log10_beta_ratio.ci95
@@ -259,7 +259,7 @@ def test_curve_fits_are_refused_with_a_standard_in_the_file(drifting_series):
     asked.write_text(text + '\n[fit]\nhalf_wave_source = "curve"\nglobal = true\n', "utf-8")
     result = analyse_series(load_manifest(asked))
     for f in result.files:
-        assert f.E_half_source == "peaks" and f.curve_fit is None
+        assert f.E_half_source == "peaks" and f.measurement.curve_fit is None
         why = [fl.message for fl in f.flags if fl.code == "CURVE_FIT_NOT_POSSIBLE"]
         assert why and "internal standard" in why[0], f.flags
     assert result.global_fit is None

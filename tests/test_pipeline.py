@@ -107,7 +107,7 @@ def test_series_conditions_and_criteria_are_records(dialect_series):
     data = result.to_dict()
     assert data["series"]["title"] == result.series.title == "simulated n=1"
     assert data["series"]["temperature_K"] == pytest.approx(298.15)
-    assert list(data["series"])[-2:] == ["temperature_K", "model"]
+    assert list(data["series"])[-3:] == ["temperature_K", "model", "technique"]
     assert data["reversibility_criteria"] == {
         "n_delta_Ep_margin_V": 0.010,
         "n_peak_width_margin_V": 0.010,
@@ -277,9 +277,11 @@ def test_later_cycle_takes_its_current_ratio_from_cycle_1():
     }
     result = analyse_series(manifest, records=records)
     for f in result.files:
-        assert f.peaks.cycle_number == 3
+        assert f.measurement.peaks.cycle_number == 3
         assert "CURRENT_RATIO_FROM_FIRST_CYCLE" in {g.code for g in f.flags}
-        assert abs(f.peaks.current_ratio - 1.0) < 0.05  # ratio drifts up at far switches
+        assert (
+            abs(f.measurement.peaks.current_ratio - 1.0) < 0.05
+        )  # ratio drifts up at far switches
         assert f.reversible is True
     assert abs(result.fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) < 0.03
 
@@ -296,6 +298,6 @@ def test_k0_of_a_slow_file_uses_D_of_the_reversible_files(tmp_path):
     result = analyse_series(load_manifest(manifest))
     slow = result.files[-1]
     assert "D_FROM_REVERSIBLE_FILES" in {f.code for f in slow.flags}
-    k0 = slow.kinetics.k0_cm_s
+    k0 = slow.measurement.kinetics.k0_cm_s
     assert abs(k0.value / 0.002 - 1) < 0.15
     assert k0.ci95[0] <= 0.002 <= k0.ci95[1]

@@ -12,6 +12,7 @@ from cvfit.io.manifest import (
     SeriesSettings,
     VoltammogramEntry,
     load_manifest,
+    resistance_for,
 )
 from cvfit.io.manifest_standard import InternalStandard
 from cvfit.io.options import ImportOptions
@@ -28,4 +29,5 @@ __all__ = [
     "FitSettings",
     "InternalStandard",
     "VoltammogramEntry",
+    "resistance_for",
 ]

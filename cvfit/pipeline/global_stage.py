@@ -26,8 +26,7 @@ from collections.abc import Mapping, Sequence
 
 from cvfit.errors import CvfitError
 from cvfit.flags import Flag
-from cvfit.io import read_voltammogram
-from cvfit.pipeline.per_file import resistance_for
+from cvfit.io import read_voltammogram, resistance_for
 from cvfit.pipeline.results import FileResult, ReferenceHalfWave
 from cvfit.techniques.cv.curve.fit import CURVE_ORDERS, REFUSE_REDUCED_CHI2
 from cvfit.techniques.cv.curve.global_fit import (
@@ -77,6 +76,12 @@ def _current_terms(
     return {m.name: k * math.log(s_ref / scale[m.name]) for m in members if m.ligand_M > 0}
 
 
+def _refused(f: FileResult) -> bool:
+    """Whether the file's own curve fit was made and refused."""
+    cf = getattr(f.measurement, "curve_fit", None)
+    return cf is not None and not cf.accepted
+
+
 def _not_possible(why: str) -> tuple[None, list[Flag]]:
     return None, [Flag("GLOBAL_FIT_NOT_POSSIBLE", f"no global curve fit: {why}", "warning")]
 
@@ -114,9 +119,9 @@ def run_global(
             "info",
         )
         for f in chosen
-        if f.curve_fit is not None and not f.curve_fit.accepted
+        if _refused(f)
     ]
-    chosen = [f for f in chosen if f.curve_fit is None or f.curve_fit.accepted]
+    chosen = [f for f in chosen if not _refused(f)]
     share = settings.global_shared
     members = []
     try:
@@ -125,9 +130,9 @@ def run_global(
             v = (records or {}).get(f.file) or read_voltammogram(
                 e.file, e.import_options, scan_rate_V_s=e.scan_rate_V_s
             )
-            data = record_curve_data(v, f.peaks, series)
+            data = record_curve_data(v, f.measurement.peaks, series)
             D_sim = series.diffusion_cm2_s or 1e-5
-            cf = f.curve_fit
+            cf = f.measurement.curve_fit
             P, Q = CURVE_ORDERS if cf is None else cf.background_orders
             model = CurveModel(data, D_sim, orders=(P, 0 if "charging" in share else Q))
             R = resistance_for(e, series)

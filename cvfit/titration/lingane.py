@@ -33,7 +33,9 @@ import numpy as np
 
 from cvfit.errors import InputError
 from cvfit.flags import FitRefused, Flag
+from cvfit.formatting import format_q
 from cvfit.quantity import Quantity, clean_number
+from cvfit.titration.base import TitrationPoint, finite_number, optional_stderr
 from cvfit.titration.error_budget import (
     ErrorBudget,
     budget_of,
@@ -69,57 +71,6 @@ _Q_KEYS = (
     "log10_beta_ratio",
     "log10_beta_ratio_at_integer",
 )
-
-
-def _finite(name: str, value: float) -> float:
-    v = float(value)
-    if not math.isfinite(v):
-        raise ValueError(f"{name} must be a finite number, got {value!r}")
-    return v
-
-
-def _optional_stderr(name: str, value: float | None) -> float | None:
-    if value is None:
-        return None
-    v = float(value)
-    if math.isnan(v):
-        return None
-    if not (math.isfinite(v) and v >= 0.0):
-        raise ValueError(f"{name} must be >= 0 and finite (or None if unknown), got {value!r}")
-    return v
-
-
-@dataclass(frozen=True)
-class TitrationPoint:
-    """One E½ of the titration, as it enters the Lingane fit.
-
-    Attributes
-    ----------
-    label : str
-        Where the point came from (file name), used in messages.
-    ligand_M : float
-        Free ligand concentration, mol/L; must be > 0 for the fit (>= 0 accepted here).
-    E_half_V : float
-        Half-wave potential, V.
-    E_half_stderr_V : float or None
-        Standard error of ``E_half_V`` from the file's noise, V; ``None`` (NaN is turned
-        into ``None``) when unknown.
-    """
-
-    label: str
-    ligand_M: float
-    E_half_V: float
-    E_half_stderr_V: float | None = None
-
-    def __post_init__(self) -> None:
-        object.__setattr__(self, "label", str(self.label))
-        c = _finite(f"{self.label}: ligand_M", self.ligand_M)
-        if c < 0.0:
-            raise ValueError(f"{self.label}: ligand_M must be >= 0, got {c}")
-        object.__setattr__(self, "ligand_M", c)
-        object.__setattr__(self, "E_half_V", _finite(f"{self.label}: E_half_V", self.E_half_V))
-        s = _optional_stderr(f"{self.label}: E_half_stderr_V", self.E_half_stderr_V)
-        object.__setattr__(self, "E_half_stderr_V", s)
 
 
 @dataclass(frozen=True)
@@ -208,6 +159,21 @@ class LinganeFit:
         object.__setattr__(self, "flags", tuple(self.flags))
         if not all(isinstance(f, Flag) for f in self.flags):
             raise TypeError("flags must be Flag instances")
+
+    def summary_lines(self) -> list[str]:
+        """Its lines in the terminal summary: slope, p − q and log10(β_ox/β_red) with intervals."""
+        lines = [
+            f"Lingane fit on {self.n_points} points ({self.dof} degrees of freedom, "
+            f"{'weighted by per-file E½ errors' if self.weighted else 'unweighted'}):",
+            "  slope                 "
+            + format_q(self.slope_V_per_decade, scale=1e3, unit="mV/decade"),
+            "  p − q                 " + format_q(self.delta_ligands),
+            "  log10(β_ox/β_red)     " + format_q(self.log10_beta_ratio),
+            f"  with p − q = {self.delta_ligands_integer}:       "
+            + format_q(self.log10_beta_ratio_at_integer),
+            "  (β_ox/β_red in (mol/L)^-(p−q); [L] in mol/L)",
+        ]
+        return lines
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready mapping with the results.json ``fit`` keys (NaN/inf → None)."""
@@ -382,8 +348,8 @@ def fit_lingane(
         raise ValueError(f"weighting must be 'auto', 'none' or 'stderr', got {weighting!r}")
     if not 0.0 < curvature_alpha < 1.0:
         raise ValueError(f"curvature_alpha must lie in (0, 1), got {curvature_alpha}")
-    e_ref = _finite("reference_E_half_V", reference_E_half_V)
-    s_ref = _optional_stderr("reference_stderr_V", reference_stderr_V)
+    e_ref = finite_number("reference_E_half_V", reference_E_half_V)
+    s_ref = optional_stderr("reference_stderr_V", reference_stderr_V)
     slope_nernst = nernst_slope_V_per_decade(temperature_K, electrons)
 
     x = np.log10(np.array([p.ligand_M for p in pts]))

@@ -29,7 +29,7 @@ from cvfit.quantity import t_quantile  # noqa: E402
 from cvfit.report.atomic import atomic_path  # noqa: E402
 from cvfit.report.figures.legend_placement import quiet_corner  # noqa: E402
 from cvfit.report.headline import constant_lines  # noqa: E402
-from cvfit.techniques.cv.curves import (
+from cvfit.techniques.curves import (
     MAX_POINTS_DRAWN,
     MAX_POINTS_PER_FIGURE,
     MIN_POINTS_DRAWN,

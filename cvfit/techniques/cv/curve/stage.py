@@ -8,7 +8,7 @@ irreversible — get no curve fit and stay out of the titration fit with the rea
 
 The fit runs in the per-file stage (in the worker that holds the whole record); a file
 that the scan-rate study fails afterwards is read again and fitted after the study
-(:func:`cvfit.pipeline.per_file.curve_fit_failed_by_study`). The fit uses the
+(:func:`cvfit.techniques.cv.series_study.study_series`). The fit uses the
 record as measured: R_u from the manifest enters the model as the ohmic drop of the cell
 current (the peak analysis uses the corrected record instead); without it R_u is fitted.
 Composition only; the mathematics is in :mod:`cvfit.techniques.cv.curve.fit`.

@@ -24,7 +24,7 @@ from cvfit.flags import Flag
 from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
 from cvfit.voltammogram import Voltammogram
 
-__all__ = ["correct_ohmic_drop", "ohmic_flags"]
+__all__ = ["correct_ohmic_drop", "correct_for_resistance", "ohmic_flags"]
 
 
 def correct_ohmic_drop(voltammogram: Voltammogram, *, resistance_ohm: float) -> Voltammogram:
@@ -82,3 +82,10 @@ def ohmic_flags(peaks: PeakAnalysis, resistance_ohm: float | None) -> list[Flag]
             )
         )
     return flags
+
+
+def correct_for_resistance(v: Voltammogram, resistance_ohm: float | None) -> Voltammogram:
+    """The record corrected by i·R_u (a new record), or the record itself without R_u."""
+    if not resistance_ohm:
+        return v
+    return correct_ohmic_drop(v, resistance_ohm=resistance_ohm)

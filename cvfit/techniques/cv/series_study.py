@@ -1,22 +1,29 @@
-"""Pipeline step after the per-file screen: scan-rate studies, class of transfer, k0.
+"""What only a series of cyclic voltammograms can tell: scan-rate studies, class, k0.
 
-Composition only (the mathematics is in :mod:`cvfit.techniques.cv.screen.scan_rate`,
-:mod:`cvfit.techniques.cv.screen.classification` and :mod:`cvfit.techniques.cv.screen.kinetics`).
-Used by
-:mod:`cvfit.pipeline.series`.
+After every file was measured on its own (:func:`cvfit.techniques.cv.technique.analyse`):
+the scan-rate studies of the solutions recorded at three or more scan rates (a file whose
+ΔEp grows with v fails the screen with its study), the curve fit of a file whose verdict
+the study changed (under ``half_wave_source = "auto"``, read again), and the class of
+transfer and the kinetics (ψ, k0, with the best D the series offers) of every file.
+Composition only: the mathematics is in :mod:`cvfit.techniques.cv.screen.scan_rate`,
+:mod:`cvfit.techniques.cv.screen.classification` and :mod:`cvfit.techniques.cv.screen.kinetics`.
+The measurements come back new; the pipeline then decides every file's E½ again.
 """
 
 from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from cvfit.flags import Flag
-from cvfit.pipeline.results import FileResult
+from cvfit.io import resistance_for
 from cvfit.quantity import Quantity
+from cvfit.techniques.base import Reread, SeriesStudy, StudyItem
+from cvfit.techniques.cv.curve.stage import curve_fit_for, wants_curve_fit
+from cvfit.techniques.cv.measurement import CVMeasurement
 from cvfit.techniques.cv.screen.classification import classify_voltammogram
 from cvfit.techniques.cv.screen.kinetics import diffusion_from_peak_current, estimate_kinetics
 from cvfit.techniques.cv.screen.rate_constant import delta_Ep_stderr_V
@@ -27,10 +34,37 @@ from cvfit.techniques.cv.screen.scan_rate import (
     scan_rate_groups,
 )
 
-__all__ = ["diagnose_files"]
+__all__ = ["study_series"]
 
 
-def _point(f: FileResult, n: int) -> ScanRatePoint:
+@dataclass(frozen=True)
+class _Row:
+    """One file as the study sees it: its name, solution and measurement."""
+
+    file: str
+    ligand_M: float
+    scan_rate_V_s: float | None
+    m: CVMeasurement
+
+    @property
+    def peaks(self):  # noqa: ANN201 (the measurement's PeakAnalysis)
+        return self.m.peaks
+
+    @property
+    def screen(self):  # noqa: ANN201 (the measurement's ReversibilityScreen)
+        return self.m.screen
+
+    @property
+    def reversible(self) -> bool | None:
+        return self.m.reversible
+
+    def with_flags(self, *flags: Flag, **changes: object) -> _Row:
+        """This row with *flags* added to its measurement (and other measurement fields)."""
+        m = replace(self.m, flags=(*self.m.flags, *flags), **changes)  # type: ignore[arg-type]
+        return replace(self, m=m)
+
+
+def _point(f: _Row, n: int) -> ScanRatePoint:
     p, s = f.peaks, f.screen
     excess = None
     if p.delta_Ep_V is not None and s.expected_delta_Ep_V is not None:
@@ -50,7 +84,7 @@ def _point(f: FileResult, n: int) -> ScanRatePoint:
     )
 
 
-def _fail_by_trend(f: FileResult, study: ScanRateStudy) -> FileResult:
+def _fail_by_trend(f: _Row, study: ScanRateStudy) -> _Row:
     slope = study.delta_Ep_slope_V_per_decade
     flag = Flag(
         "DELTA_EP_GROWS_WITH_SCAN_RATE",
@@ -59,17 +93,7 @@ def _fail_by_trend(f: FileResult, study: ScanRateStudy) -> FileResult:
         "Nernstian at these scan rates, so this file fails the screen with its study",
     )
     screen = replace(f.screen, reversible=False, flags=(*f.screen.flags, flag))
-    if f.E_half_source == "curve":  # an accepted curve fit stands
-        return replace(f, screen=screen, flags=(*f.flags, flag))
-    # a file that fails the screen carries the plain midpoint (see
-    # cvfit.techniques.cv.screen.switching)
-    return replace(
-        f,
-        screen=screen,
-        flags=(*f.flags, flag),
-        E_half_V=f.peaks.E_half_V,
-        switching_correction_V=0.0,
-    )
+    return f.with_flags(flag, screen=screen)
 
 
 def _manifest_D(series: object) -> Quantity | None:
@@ -80,9 +104,7 @@ def _manifest_D(series: object) -> Quantity | None:
     return Quantity(D, sd, (D - 1.96 * sd, D + 1.96 * sd), "manifest")
 
 
-def _file_D(
-    f: FileResult, n: int, T: float, area: float | None, conc: float | None
-) -> Quantity | None:
+def _file_D(f: _Row, n: int, T: float, area: float | None, conc: float | None) -> Quantity | None:
     """D from this file's forward peak by Randles–Ševčík, or None if it cannot be had."""
     ip = f.peaks.forward_height_A
     if area is None or conc is None or not ip or not f.scan_rate_V_s:
@@ -99,7 +121,7 @@ def _file_D(
 
 
 def _D_from_reversible_files(
-    files: Sequence[FileResult], n: int, T: float, area: float | None, conc: float | None
+    files: Sequence[_Row], n: int, T: float, area: float | None, conc: float | None
 ) -> Quantity | None:
     """Mean Randles–Ševčík D of the reversible files, with the larger of the standard
     error from their scatter and from their own errors; None without area and analyte_M."""
@@ -122,18 +144,15 @@ def _D_from_reversible_files(
     return Quantity.from_t(mean, se, k - 1 if k > 1 else math.inf)
 
 
-def diagnose_files(
-    files: Sequence[FileResult], manifest: object
-) -> tuple[tuple[FileResult, ...], tuple[ScanRateStudy, ...], tuple[Flag, ...]]:
-    """Scan-rate studies, then the class and the kinetics of every file.
-
-    Returns the updated file records, the studies and series-level flags.
-    """
+def _diagnose(
+    rows: Sequence[_Row], manifest: object
+) -> tuple[list[_Row], tuple[ScanRateStudy, ...], tuple[Flag, ...]]:
+    """Scan-rate studies, then the class and the kinetics of every file."""
     series = manifest.series  # type: ignore[attr-defined]
     criteria = manifest.reversibility  # type: ignore[attr-defined]
     n, T = series.electrons, series.temperature_K
     area, conc = series.electrode_area_cm2, series.analyte_M
-    out = list(files)
+    out = list(rows)
     studies: list[ScanRateStudy] = []
     study_of: dict[int, ScanRateStudy] = {}
     series_flags: list[Flag] = []
@@ -219,8 +238,44 @@ def diagnose_files(
                 )
             )
         extra += _implausible(D, source, kin.k0_cm_s)
-        out[k] = replace(f, classification=cls, kinetics=kin, flags=(*f.flags, cls.flag, *extra))
-    return tuple(out), tuple(studies), tuple(series_flags)
+        out[k] = f.with_flags(cls.flag, *extra, classification=cls, kinetics=kin)
+    return out, tuple(studies), tuple(series_flags)
+
+
+def _fit_after_study(
+    rows: list[_Row], own_verdicts: Sequence[bool | None], manifest: object, reread: Reread
+) -> list[_Row]:
+    """The curve fit of each file whose own verdict asked for none but whose verdict after
+    the studies does: a file that passed its own screen and failed with its study (ΔEp
+    growing with the scan rate), read again (a handful of files: one solution's)."""
+    source = manifest.fit.half_wave_source  # type: ignore[attr-defined]
+    entries = manifest.voltammograms  # type: ignore[attr-defined]
+    out = list(rows)
+    for k, (f, own) in enumerate(zip(rows, own_verdicts, strict=True)):
+        if wants_curve_fit(source, own) or not wants_curve_fit(source, f.reversible):
+            continue
+        resistance = resistance_for(entries[k], manifest.series)  # type: ignore[attr-defined]
+        fit, flags = curve_fit_for(reread(k), f.peaks, f.screen, manifest, resistance)
+        out[k] = f.with_flags(*flags, curve_fit=fit)
+    return out
+
+
+def study_series(items: Sequence[StudyItem], manifest: object, reread: Reread) -> SeriesStudy:
+    """The series-level study of cyclic voltammetry (module docstring).
+
+    Parameters
+    ----------
+    items : sequence of StudyItem
+        Every file of the series in manifest order, with its :class:`CVMeasurement`.
+    manifest : Manifest
+    reread : callable
+        ``reread(k)`` gives the record of file *k* again (for a curve fit after the study).
+    """
+    rows = [_Row(it.name, it.ligand_M, it.scan_rate_V_s, it.measurement) for it in items]
+    own = [r.reversible for r in rows]
+    rows, studies, flags = _diagnose(rows, manifest)
+    rows = _fit_after_study(rows, own, manifest, reread)
+    return SeriesStudy(tuple(r.m for r in rows), studies, flags)
 
 
 #: Physically possible diffusion coefficients in solution, cm²/s (common practice: small
