@@ -111,6 +111,26 @@ def test_profile_intervals_cover_the_truth_at_about_the_nominal_rate():
     assert 0.89 <= hits / total <= 0.995
 
 
+def test_undetermined_advice_is_computed_from_the_model():
+    # a series that already reaches 2 M, ML3 weak (1.5 % of the metal at 2 M): before,
+    # "extend the series to [L] ≳ 42 M"; now the concentration where ML3 would reach 20 %
+    # at its upper limit, from α3 = β3[L]³/F0 (Leden 1941) solved here independently
+    rng = np.random.default_rng(5)
+    L = np.logspace(-3, np.log10(2.0), 12)
+    E, ref = _series((2.0, 3.6, 1.5), L, rng)
+    fit = _fit(_points(L, E), ref, max_complexes=3)
+    assert fit.n_complexes == 2
+    u = {u.j: u for u in fit.undetermined}[3]
+    b1, b2, b3 = 10.0 ** np.array([1.99, 3.6, u.upper_limit_95])
+    b1, b2 = (10.0**q.value for q in fit.log10_beta)
+    grid = np.logspace(0, 2, 20001)
+    a3 = b3 * grid**3 / (1 + b1 * grid + b2 * grid**2 + b3 * grid**3)
+    need = grid[np.argmax(a3 >= 0.2)]  # about 11 M: beyond any solution
+    assert need > 10.0 and u.suggested_ligand_M is None
+    message = next(f.message for f in fit.flags if f.code == "BETA_UNDETERMINED")
+    assert f"{need:.2g} M" in message and "no ligand range will determine it" in message
+
+
 def test_range_that_cannot_determine_beta3_says_so():
     rng = np.random.default_rng(5)
     L = np.logspace(-3.5, -2.2, 10)  # ML3 below 1 % of the metal throughout

@@ -43,7 +43,7 @@ from cvfit.chemistry.activity import (
     debye_huckel_A,
     thermodynamic_log10_beta,
 )
-from cvfit.chemistry.complexation import log_leden_F0
+from cvfit.chemistry.complexation import complex_standard_potential_V, log_leden_F0
 from cvfit.chemistry.speciation import (
     BOUND_LIGAND_SHARE_MAX,
     free_ligand_M,
@@ -513,25 +513,5 @@ def _shift(q: Quantity, delta: float) -> Quantity:
 __all__ += ["UndeterminedConstant", "ConditionalConstants"]
 
 
-def complex_standard_potential_V(
-    E_standard_V: float,
-    *,
-    log10_beta_ox: float = 0.0,
-    log10_beta_red: float = 0.0,
-    electrons: int = 1,
-    temperature_K: float = 298.15,
-) -> float:
-    """Standard potential of the couple of two complexes from the free couple's.
-
-    E°(ML_p/ML_q) = E°(M/M) − (RT/nF)·ln(β_p,ox/β_q,red), all species at unit activity
-    (unit ligand activity too); a form that is not complexed has log10 β = 0.
-
-    References
-    ----------
-    Lingane, J. J. Chem. Rev. 1941, 29, 1.
-    """
-    k = thermal_voltage(temperature_K, electrons)
-    return float(E_standard_V) - k * math.log(10.0) * (log10_beta_ox - log10_beta_red)
-
-
+# the Hess-cycle potential lives with the chemistry; kept importable from here
 __all__ += ["complex_standard_potential_V"]

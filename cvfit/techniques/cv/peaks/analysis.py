@@ -7,7 +7,7 @@ background: a straight line, extrapolated under the wave as the baseline of the 
 peak. It is fitted to the foot of the wave (window found by
 :func:`cvfit.techniques.cv.peaks.baseline.foot_window`, from the start of the sweep to where a
 Nernstian wave
-carries ~5 % of its peak) together with the exponential foot of the wave, exp(nF|E − E½|/RT)
+carries ~5 % of its peak) together with the exponential foot of the wave, exp(−nF|E − E½|/RT)
 — the leading term of the reversible current far ahead of E½ — because the scan often
 starts only 150–200 mV before E½, and a window free of faradaic current would then be too
 short for a stable slope. A foot shorter than 2.5 RT/nF is flagged ``SHORT_BASELINE``.
@@ -62,8 +62,8 @@ Accuracy (simulated reversible CVs with charging current, sloping background and
 noise): E½ within 0.5 mV in ~96 % of files (SD 0.19 mV for n = 1); forward height within
 1 % of Randles–Ševčík when the scan starts ≥ 200/n mV before E½. Two systematic effects are
 not corrected because they belong to the definitions: (Epa + Epc)/2 of a reversible couple
-lies (n·ΔEp_N(Eλ) − 57.0 mV)/(2n) beyond E½ — ≤ 0.4 mV/n for n·|Eλ − E½| ≥ 300 mV, but
-1.75/n mV at 100 mV (71.5 mV past the forward peak) — because Epa moves with the
+lies (n·ΔEp_N(Eλ) − 57.0 mV)/(2n) beyond E½ — ≤ 0.33 mV/n for n·|Eλ − E½| ≥ 300 mV, but
+1.60/n mV at 100 mV (71.5 mV past the forward peak) — because Epa moves with the
 switching potential (corrected downstream, :mod:`cvfit.techniques.cv.screen.switching`); and
 Nicholson's relation, an empirical fit, reads ~0.01 high at n·|Eλ − E½| = 300 mV and ~0.03 high at
 600 mV (1.00 ± 0.01 at 100–250 mV).
