@@ -23,7 +23,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 
@@ -145,6 +145,7 @@ def _simulate_raw(
     grid_ratio: float = GRID_RATIO,
     backend: str = "auto",
     track_amounts: bool = False,
+    quiet_time_s: float = 0.0,
 ) -> tuple[Waveform, _kernel.MarchResult, dict[str, str]]:
     """Waveform, raw kernel output (profiles, amounts) and settings; no background/noise."""
     n = _whole("electrons", electrons)
@@ -166,6 +167,7 @@ def _simulate_raw(
         raise SimulationError(f"alpha must lie strictly between 0 and 1, got {alpha!r}")
     if initial_species not in ("ox", "red"):
         raise SimulationError(f"initial_species must be 'ox' or 'red', got {initial_species!r}")
+    quiet = _positive("quiet_time_s", quiet_time_s, allow_zero=True)
     wave = build_waveform(start_V, switch_V, cycles=cycles, step_V=step, scan_rate_V_s=v)
     nf = n * FARADAY / (GAS_CONSTANT * T)
     E_formal = E_half_V - 0.5 / nf * math.log(DR / DO)
@@ -173,26 +175,38 @@ def _simulate_raw(
     grid = _kernel.Grid.expanding(
         _positive("grid_first_factor", grid_first_factor) * math.sqrt(min(DO, DR) * wave.dt_s),
         _positive("grid_ratio", grid_ratio),
-        GRID_LENGTH_FACTOR * math.sqrt(max(DO, DR) * (total_time + wave.dt_s)),
+        GRID_LENGTH_FACTOR * math.sqrt(max(DO, DR) * (total_time + wave.dt_s + quiet)),
     )
+    bulk_O = C if initial_species == "ox" else 0.0
+    bulk_R = 0.0 if initial_species == "ox" else C
+    kinetic: dict[str, Any] = dict(E_formal_V=E_formal, nf_per_V=nf, k0_cm_s=k0, alpha=a)
+    start_state: dict[str, Any] = {}
+    held_A = 0.0
+    if quiet > 0.0:
+        held = _kernel.hold(
+            start_V, quiet, wave.dt_s, grid=grid, D_ox_cm2_s=DO, D_red_cm2_s=DR,
+            bulk_ox_mol_cm3=bulk_O, bulk_red_mol_cm3=bulk_R, nFA_C_per_mol=n * FARADAY * A,
+            backend=backend, **kinetic,
+        )  # fmt: skip
+        start_state, held_A = held.march_start(), held.current_A
     result = _kernel.march(
         wave.potential_V,
         wave.dt_s,
         grid=grid,
         D_ox_cm2_s=DO,
         D_red_cm2_s=DR,
-        bulk_ox_mol_cm3=C if initial_species == "ox" else 0.0,
-        bulk_red_mol_cm3=0.0 if initial_species == "ox" else C,
-        E_formal_V=E_formal,
-        nf_per_V=nf,
-        k0_cm_s=k0,
-        alpha=a,
+        bulk_ox_mol_cm3=bulk_O,
+        bulk_red_mol_cm3=bulk_R,
         resistance_ohm=Ru,
         double_layer_F=Cdl,
         nFA_C_per_mol=n * FARADAY * A,
         backend=backend,
         track_amounts=track_amounts,
+        **kinetic,
+        **start_state,
     )
+    # the first sample carries the current the hold ended on (the march starts at rest)
+    result.faradaic_A[0] = held_A
     settings = {
         "generator": "cvfit.simulate.voltammogram",
         "E_half_V": repr(E_half_V),
@@ -214,6 +228,7 @@ def _simulate_raw(
         "temperature_K": repr(T),
         "double_layer_F": repr(Cdl),
         "resistance_ohm": repr(Ru),
+        "quiet_time_s": repr(quiet),
         "grid_points": str(grid.x_cm.size),
     }
     return wave, result, settings
@@ -243,6 +258,7 @@ def simulate_cv(
     noise_fraction: float = 0.0,
     seed: int | None = None,
     source: str = "<simulated>",
+    quiet_time_s: float = 0.0,
 ) -> Voltammogram:
     """Simulate one cyclic voltammogram.
 
@@ -252,8 +268,11 @@ def simulate_cv(
         Reversible half-wave potential, V. The formal potential follows from
         E½ = E°' + (RT/2nF)·ln(D_R/D_O).
     start_V : float
-        Initial potential, V (the current is zero there: the solution is at its bulk
-        composition when the sweep starts).
+        Initial potential, V. The solution is at its bulk composition when the potential
+        steps to start_V; with ``quiet_time_s`` = 0 the sweep starts at once (the current
+        of the first sample is zero), else the electrode is held at start_V for that time
+        first, and where the bulk form reacts at start_V the record opens on the decaying
+        current of that hold.
     switch_V : float or sequence of float
         One switching potential (start → switch → start per cycle) or several vertices
         (start → v1 → v2 → … → start per cycle), V.
@@ -288,6 +307,10 @@ def simulate_cv(
         Noise seed.
     source : str
         Name given to the Voltammogram.
+    quiet_time_s : float
+        Time the electrode is held at start_V before the sweep, s (exponentially expanding
+        time steps, :func:`cvfit.simulate.finite_difference.hold`; the hold's own ohmic
+        drop and charging are neglected: both have died away long before its end).
 
     Returns
     -------
@@ -326,6 +349,7 @@ def simulate_cv(
         temperature_K=temperature_K,
         double_layer_F=double_layer_F,
         resistance_ohm=resistance_ohm,
+        quiet_time_s=quiet_time_s,
     )
     current = raw.faradaic_A + raw.charging_A + offset + slope * wave.potential_V
     if noise > 0.0:

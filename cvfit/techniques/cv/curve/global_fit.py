@@ -382,7 +382,11 @@ def fit_global(
     sol = least_squares(fun, x0, jac=jac, bounds=bounds, x_scale="jac", method="trf")
     x = sol.x
     ssr = float(np.sum(fun(x) ** 2))
-    n_linear = (3 if share_C else 4) * len(files)
+    # closed-form terms per file: the scale, the common background and (unless shared)
+    # the capacitance's coefficients
+    n_linear = sum(
+        1 + f.model.orders[0] + 1 + (0 if share_C else f.model.orders[1] + 1) for f in files
+    )
     dof = int(offsets[-1]) - x.size - n_linear
     chi2 = ssr / dof
     inflate = max(1.0, chi2)
