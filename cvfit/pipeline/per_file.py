@@ -17,6 +17,7 @@ from functools import partial
 from cvfit.errors import InputError
 from cvfit.flags import Flag
 from cvfit.io import Manifest, VoltammogramEntry, read_voltammogram
+from cvfit.io.notes import import_flags, imported_columns
 from cvfit.peaks.analysis import PeakAnalysis, analyse_peaks
 from cvfit.screen.ohmic_drop import correct_ohmic_drop, ohmic_flags
 from cvfit.screen.reversibility import screen_reversibility
@@ -164,7 +165,7 @@ def analyse_file(
         temperature_K=series.temperature_K,
         criteria=manifest.reversibility,
     )
-    flags = _sign_convention_hint(list(peaks.flags), v, entry, series)
+    flags = import_flags(raw.metadata) + _sign_convention_hint(list(peaks.flags), v, entry, series)
     flags += [f for f in screen.flags if f.code not in {g.code for g in flags}]
     flags += ohmic_flags(peaks, resistance)
     if screen.reversible is True:
@@ -204,6 +205,7 @@ def analyse_file(
         internal_standard=standard,
         curve_fit=curve_fit,
         E_half_source=source,
+        imported_columns=imported_columns(raw.metadata),
     )
 
 

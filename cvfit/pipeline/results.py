@@ -7,6 +7,7 @@ missing values become ``null``).
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import asdict, dataclass, field, fields
 from typing import TYPE_CHECKING, Any, Literal, TypeAlias
 
@@ -129,6 +130,9 @@ class FileResult:
         The fit of the whole curve, when one was made (see :mod:`cvfit.pipeline.curve_stage`).
     E_half_source : {"peaks", "curve"}
         Where ``E_half_V`` comes from: the peak midpoint or the accepted curve fit.
+    imported_columns : mapping of str to str, or None
+        The columns read from the file and their units
+        (:func:`cvfit.io.notes.imported_columns`); None for a record not read from a file.
     """
 
     file: str
@@ -149,6 +153,7 @@ class FileResult:
     internal_standard: InternalStandardResult | None = None
     curve_fit: CurveFit | None = field(default=None, compare=False)
     E_half_source: Literal["peaks", "curve"] = "peaks"
+    imported_columns: Mapping[str, str] | None = field(default=None, compare=False)
 
     @property
     def reversible(self) -> bool | None:
@@ -212,6 +217,9 @@ class FileResult:
             if self.internal_standard is None
             else self.internal_standard.to_dict(),
             "flags": [f.to_dict() for f in self.flags],
+            "imported_columns": None
+            if self.imported_columns is None
+            else dict(self.imported_columns),
         }
 
 
