@@ -28,6 +28,7 @@ from .formatting import format_pm, format_value
 from .global_fit_html import global_fit_section
 from .headline import headline_lines
 from .html_sections import error_budget_section, internal_standard_section
+from .imported_columns import columns_html
 from .methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
 
 __all__ = ["render_html", "write_html_report", "FIGURE_CAPTIONS"]
@@ -537,7 +538,8 @@ def render_html(
         f"{error_budget_section(data)}{standard_html}"
         f"{global_fit_section(data)}"
         f"<section><h2>Series findings</h2>{flags_html}</section>"
-        f"<section><h2>Voltammograms</h2>{_file_table(data.get('voltammograms') or [])}"
+        f"<section><h2>Voltammograms</h2>{columns_html(data.get('voltammograms') or [])}"
+        f"{_file_table(data.get('voltammograms') or [])}"
         "</section>"
         f"<section><h2>Figures</h2>{_figures([Path(p) for p in figures])}</section>"
         f"<section><h2>Method and sources</h2>{_method(fit)}</section>"

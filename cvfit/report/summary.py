@@ -10,6 +10,7 @@ from cvfit.quantity import Quantity
 
 from .formatting import format_pm, format_value
 from .headline import headline_lines
+from .imported_columns import columns_lines
 
 __all__ = ["format_summary"]
 
@@ -63,6 +64,7 @@ def format_summary(result: SeriesResult) -> str:
             f"{format_value(p.current_ratio, digits=2):>7} {rev:>4} "
             f"{'yes' if f.used_in_fit else '-':>4}"
         )
+    lines.extend(columns_lines([(f.file, f.imported_columns) for f in result.files]))
     lines.append("")
     from .summary_kinetics import kinetics_lines
 

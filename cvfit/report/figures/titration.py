@@ -35,6 +35,7 @@ from cvfit.pipeline.results import SeriesResult  # noqa: E402
 from cvfit.quantity import t_quantile  # noqa: E402
 from cvfit.report.atomic import atomic_path  # noqa: E402
 from cvfit.report.headline import constant_lines  # noqa: E402
+from cvfit.report.imported_columns import potential_kind  # noqa: E402
 
 from .legend_placement import quiet_corner  # noqa: E402
 
@@ -235,8 +236,9 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                     Line2D([], [], color=FLAGGED_COLOUR, ls=FLAGGED_STYLE, lw=1.5,
                            label=f"failed the screen,\n{fate} ({which} M)")  # fmt: skip
                 )
+        kind = potential_kind([f.imported_columns for f in result.files])
         ax.set_xlabel(
-            "E / V"
+            (f"E ({kind}) / V" if kind else "E / V")
             + (
                 f" vs {result.series.reference_electrode}"
                 if result.series.reference_electrode
