@@ -241,15 +241,18 @@ def potential_spikes(potential_V: np.ndarray) -> np.ndarray:
     E = np.asarray(potential_V, dtype=float)
     if E.size < 3:
         return np.zeros(0, dtype=int)
-    steps = np.diff(E)
-    size = np.abs(steps)
-    limit = max(0.005 * float(np.ptp(E)), 4.0 * float(size.mean()))
-    big = np.flatnonzero(size[:-1] > limit)  # the step into sample k + 1 is large
-    if big.size == 0:
-        return big
-    into, out = steps[big], steps[big + 1]
-    smaller = np.minimum(np.abs(into), np.abs(out))
-    back = (into * out < 0) & (smaller > limit) & (np.abs(into + out) < 0.5 * smaller)
+    # absurd values (1e308) overflow to infinity, which makes no glitch: no warning
+    with np.errstate(over="ignore", invalid="ignore"):
+        steps = np.diff(E)
+        size = np.abs(steps)
+        limit = max(0.005 * float(np.ptp(E)), 4.0 * float(size.mean()))
+        big = np.flatnonzero(size[:-1] > limit)  # the step into sample k + 1 is large
+        if big.size == 0:
+            return big
+        into, out = steps[big], steps[big + 1]
+        smaller = np.minimum(np.abs(into), np.abs(out))
+        back = (np.sign(into) != np.sign(out)) & (smaller > limit)
+        back &= np.abs(into + out) < 0.5 * smaller
     return big[back] + 1
 
 

@@ -126,8 +126,10 @@ def stated_scan_rate(metadata: Mapping[str, str]) -> tuple[float, str] | None:
 
 
 def _derived_V_s(potential_V: np.ndarray, time_s: np.ndarray) -> float | None:
-    dt = float(time_s[-1] - time_s[0])
-    return float(np.sum(np.abs(np.diff(potential_V)))) / dt if dt > 0 else None
+    with np.errstate(over="ignore", invalid="ignore"):
+        dt = float(time_s[-1] - time_s[0])
+        swept = float(np.sum(np.abs(np.diff(potential_V))))
+    return swept / dt if dt > 0 and math.isfinite(swept / dt) else None
 
 
 def scan_rate_notes(

@@ -64,8 +64,9 @@ def format_summary(result: SeriesResult) -> str:
             f"{format_value(p.current_ratio, digits=2):>7} {rev:>4} "
             f"{'yes' if f.used_in_fit else '-':>4}"
         )
-    lines.extend(columns_lines([(f.file, f.imported_columns) for f in result.files]))
     lines.append("")
+    read = columns_lines([(f.file, f.imported_columns) for f in result.files])
+    lines.extend([*read, ""] if read else [])
     from .summary_kinetics import kinetics_lines
 
     lines.extend(kinetics_lines(result))
