@@ -98,9 +98,10 @@ def glitch_note(potential_V: np.ndarray, line_numbers: np.ndarray) -> str | None
     )
 
 
-def unit_doubt_note(potential_V: np.ndarray, column: str, unit: str) -> str | None:
-    """A note when potentials read in volts span more than any window can: probably mV."""
-    span = float(np.ptp(potential_V))
+def unit_doubt_note(span_V: float, column: str, unit: str) -> str | None:
+    """A note when potentials read in volts span (*span_V*) more than any window can:
+    probably mV."""
+    span = span_V
     if not unit.endswith("(assumed)") or span <= MAX_SPAN_V:
         return None
     return (

@@ -138,7 +138,8 @@ def _settings_cells(
     if delimiter == "whitespace" or is_numeric_line(line):
         return None
     cells = split_cells(line, delimiter)
-    if len(cells) > ncols:
+    # a header has at most one number among its cells: most files stop here
+    if len(cells) > ncols or sum(bool(c) and is_number(c, decimal) for c in cells) < 2:
         return None
     filled = {k for row in sample for k, c in enumerate(split_cells(row, delimiter)) if c}
     if len(filled) < 2 or any(k >= len(cells) for k in filled):

@@ -173,7 +173,8 @@ def _build(
     i = values[:, cols.current] * i_scale
     if options.anodic_current == "negative":
         np.negative(i, out=i)  # i is this function's own array
-    if float(np.ptp(E)) <= 0.0:
+    span = float(np.ptp(E))
+    if span <= 0.0:
         raise InputError(
             f"the potential (column {_name(table, cols.potential)}) does not change (flat at "
             f"{E[0]:g} V over lines {lines[0]}–{lines[-1]}); check potential_column",
@@ -190,7 +191,10 @@ def _build(
     metadata["import.anodic_current"] = options.anodic_current or "positive"
     for key, note in (
         ("import.potential_glitches", glitch_note(E, lines)),
-        ("import.potential_unit_doubt", unit_doubt_note(E, _name(table, cols.potential), e_unit)),
+        (
+            "import.potential_unit_doubt",
+            unit_doubt_note(span, _name(table, cols.potential), e_unit),
+        ),
     ):
         if note is not None:
             metadata[key] = note
