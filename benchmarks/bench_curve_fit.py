@@ -3,9 +3,9 @@
 Run: ``python benchmarks/bench_curve_fit.py [--repeats 5] [--jobs 2]``.
 
 * one quasi-reversible cycle (2 001 points, k0 = 5e-3 cm/s, charging, background, noise):
-  the whole fit (:func:`cvfit.fit.curve_fit.fit_curve`, R_u known and R_u fitted), the
+  the whole fit (:func:`cvfit.techniques.cv.curve.fit.fit_curve`, R_u known and R_u fitted), the
   number of simulations it takes and the time per simulation, against the peak analysis
-  of the same record (:func:`cvfit.peaks.analysis.analyse_peaks`);
+  of the same record (:func:`cvfit.techniques.cv.peaks.analysis.analyse_peaks`);
 * a 20-file series of such cycles analysed with ``half_wave_source = "curve"`` (a curve
   fit for every file) and ``"peaks"``, the two runs alternated, on ``--jobs`` processes.
 
@@ -23,12 +23,12 @@ from pathlib import Path
 import numpy as np
 from _timing import alternate, best_of, median
 
-from cvfit.fit.curve_fit import fit_curve
-from cvfit.fit.curve_model import curve_data
 from cvfit.io import load_manifest
-from cvfit.peaks.analysis import analyse_peaks
 from cvfit.pipeline.series import analyse_series
 from cvfit.simulate import simulate_cv, write_voltammogram_csv
+from cvfit.techniques.cv.curve.fit import fit_curve
+from cvfit.techniques.cv.curve.model import curve_data
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
 
 SETTINGS = dict(
     start_V=0.25, switch_V=-0.65, scan_rate_V_s=0.02, step_V=0.0009, double_layer_F=5e-6,
@@ -95,7 +95,7 @@ def main() -> None:
             max(1, args.repeats // 2),
         )
         res = analyse_series(manifests["curve"], jobs=args.jobs)
-        fitted = sum(f.curve_fit is not None for f in res.files)
+        fitted = sum(f.measurement.curve_fit is not None for f in res.files)
         base = median(times["peaks"])
         print(f"series of {args.files} files ({fitted} curve fits), --jobs {args.jobs}")
         print(f"  peaks only (baseline)         {median(times['peaks']):8.2f} s")

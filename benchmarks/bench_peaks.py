@@ -6,7 +6,7 @@ Loads the records of a series once (:func:`cvfit.io.read_voltammogram`), then ti
 this one process, best of ``--repeats`` runs each:
 
 * the baseline: ``pandas.read_csv`` of the same files;
-* :func:`cvfit.peaks.analysis.analyse_peaks` over every record;
+* :func:`cvfit.techniques.cv.peaks.analysis.analyse_peaks` over every record;
 * :func:`cvfit.pipeline.series.analyse_series` with the records already in memory (peaks, screen,
   switching correction, diagnostics and the titration fit; no import, no outputs).
 
@@ -26,8 +26,8 @@ import pandas as pd
 from _timing import best_of, cache_root, simulated_series
 
 from cvfit.io import load_manifest, read_voltammogram
-from cvfit.peaks.analysis import analyse_peaks
 from cvfit.pipeline.series import analyse_series
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
 
 
 def main() -> None:

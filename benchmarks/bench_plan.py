@@ -4,7 +4,7 @@ Run: ``python benchmarks/bench_plan.py``. Times, alternating round by round,
 
 * :func:`cvfit.plan.make_plan` for 10 solutions over 1e-4 … 3 M, four constants each
   with a range (9 scenarios), without and with 1 mM metal (mass balance),
-* one :func:`cvfit.fit.stepwise.fit_stepwise` of the same size (10 points, N = 1 … 4),
+* one :func:`cvfit.titration.stepwise.fit_stepwise` of the same size (10 points, N = 1 … 4),
 
 and prints the medians and the ratios to the single fit. No assertions: numbers depend on
 the machine and its load.
@@ -16,9 +16,9 @@ import numpy as np
 from _timing import alternate, median
 
 from cvfit.chemistry.complexation import complexed_half_wave_V
-from cvfit.fit.stepwise import StepwisePoint, fit_stepwise
 from cvfit.plan import make_plan
 from cvfit.plan.inputs import plan_from_mapping
+from cvfit.titration.stepwise import StepwisePoint, fit_stepwise
 
 TRUTH = [2.0, 3.8, 5.0, 5.5]
 SIGMA = 5e-4

@@ -3,7 +3,7 @@
 Run: ``python benchmarks/bench_stepwise.py``. Prints the time of
 
 * the model choice alone (candidates N = 1 … 4, no intervals),
-* the full :func:`cvfit.fit.stepwise.fit_stepwise` (choice, profile intervals, upper limit of
+* the full :func:`cvfit.titration.stepwise.fit_stepwise` (choice, profile intervals, upper limit of
   the next constant, free-ligand iteration off and on),
 * the Lingane line on the same points,
 
@@ -17,10 +17,10 @@ from _timing import best_of
 
 from cvfit.chemistry.complexation import complexed_half_wave_V
 from cvfit.chemistry.speciation import free_ligand_M
-from cvfit.fit.lingane import TitrationPoint, fit_lingane
-from cvfit.fit.stepwise import SolutionConditions, StepwisePoint, fit_stepwise
-from cvfit.fit.stepwise_least_squares import StepwiseData
-from cvfit.fit.stepwise_model_choice import choose_candidate, fit_all_candidates
+from cvfit.titration.lingane import TitrationPoint, fit_lingane
+from cvfit.titration.stepwise import SolutionConditions, StepwisePoint, fit_stepwise
+from cvfit.titration.stepwise_least_squares import StepwiseData
+from cvfit.titration.stepwise_model_choice import choose_candidate, fit_all_candidates
 from cvfit.units import thermal_voltage
 
 TRUTH = (2.0, 3.7, 4.9)

@@ -11,9 +11,9 @@ from __future__ import annotations
 import importlib
 from typing import Any
 
-from .errors import CvfitError, FitError, InputError, SimulationError
-from .flags import Flag
-from .version import __version__
+from cvfit.errors import CvfitError, FitError, InputError, SimulationError
+from cvfit.flags import Flag
+from cvfit.version import __version__
 
 _LAZY = {
     "Quantity": "cvfit.quantity",
@@ -28,15 +28,15 @@ _LAZY = {
     "analyse_manifest_file": "cvfit.pipeline",
     "SeriesResult": "cvfit.pipeline",
     "FileResult": "cvfit.pipeline",
-    "analyse_peaks": "cvfit.peaks",
-    "screen_reversibility": "cvfit.screen",
-    "fit_lingane": "cvfit.fit",
-    "TitrationPoint": "cvfit.fit",
-    "LinganeFit": "cvfit.fit",
-    "fit_stepwise": "cvfit.fit",
-    "StepwisePoint": "cvfit.fit",
-    "StepwiseFit": "cvfit.fit",
-    "SolutionConditions": "cvfit.fit",
+    "analyse_peaks": "cvfit.techniques.cv.peaks",
+    "screen_reversibility": "cvfit.techniques.cv.screen",
+    "fit_lingane": "cvfit.titration",
+    "TitrationPoint": "cvfit.titration",
+    "LinganeFit": "cvfit.titration",
+    "fit_stepwise": "cvfit.titration",
+    "StepwisePoint": "cvfit.titration",
+    "StepwiseFit": "cvfit.titration",
+    "SolutionConditions": "cvfit.titration",
     "simulate_cv": "cvfit.simulate",
     "simulate_series": "cvfit.simulate",
     "randles_sevcik_peak_current_A": "cvfit.chemistry",

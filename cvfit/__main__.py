@@ -1,5 +1,5 @@
 """``python -m cvfit``."""
 
-from .cli import main
+from cvfit.cli import main
 
 raise SystemExit(main())

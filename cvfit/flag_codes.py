@@ -172,16 +172,20 @@ _CATALOGUE = (
              "reverse peak, classified irreversible, or fitted ψ below 0.01): its E½ is not "
              "taken from the curve fit and it stays out."),
     # --- series and reference ------------------------------------------------------------
-    FlagCode("EXCLUDED_NON_NERNSTIAN", _I, "The voltammogram failed the reversibility screen "
-             "and was left out of the fit (exclude_non_nernstian = true)."),
+    FlagCode("EXCLUDED_NON_NERNSTIAN", _I, "The file failed the reversibility screen and its "
+             "E½ was left out of the fits — as a titration point and as the reference E½(s) "
+             "(exclude_non_nernstian = true)."),
     FlagCode("FILES_EXCLUDED", _W, "Some voltammograms failed the reversibility screen and "
              "were not fitted; they are named."),
     FlagCode("FIT_USES_FLAGGED_DATA", _W, "exclude_non_nernstian = false: the constants rest "
              "on voltammograms that failed the reversibility screen."),
     FlagCode("NO_REFERENCE_E_HALF", _E, "E½ of the ligand-free couple could not be measured "
              "and none was given; no constants are reported."),
-    FlagCode("REFERENCE_NOT_NERNSTIAN", _W, "The ligand-free voltammogram failed the "
-             "reversibility screen; its E½ is used as E½(s) all the same."),
+    FlagCode("REFERENCE_NOT_NERNSTIAN", _W, "E½(s) rests on ligand-free files that failed the "
+             "reversibility screen (exclude_non_nernstian = false, or an approximate E½ with "
+             "its extra error); it may bias every shift."),
+    FlagCode("REFERENCE_FILES_LEFT_OUT", _I, "Ligand-free files whose E½ the decision did not "
+             "accept were left out of E½(s); they are named."),
     FlagCode("INTERNAL_STANDARD_NOT_FOUND", _E, "The internal reference couple's E½ could "
              "not be measured in its window, so the analyte's E½ of this file cannot be "
              "quoted against it; the file is not fitted."),

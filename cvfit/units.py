@@ -10,7 +10,7 @@ import re
 
 from scipy import constants as _sc
 
-from .errors import InputError
+from cvfit.errors import InputError
 
 __all__ = [
     "FARADAY",

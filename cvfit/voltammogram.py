@@ -16,7 +16,7 @@ from typing import Literal
 
 import numpy as np
 
-from .errors import InputError
+from cvfit.errors import InputError
 
 __all__ = ["Voltammogram", "Sweep", "Cycle", "turning_points", "potential_spikes"]
 

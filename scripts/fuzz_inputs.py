@@ -71,9 +71,25 @@ class Outcome:
 def make_base(root: Path) -> Path:
     base = root / "base"
     subprocess.run(
-        [*CVFIT, "simulate", "--series", "--out", str(base), "--e-half", "0.10",
-         "--ligand-M", "0,1e-3,1e-2,3e-2,0.1", "--log-beta-ox", "4.0,7.5",
-         "--log-beta-red", "2.0", "--noise", "0.01", "--seed", "1"],  # fmt: skip
+        [
+            *CVFIT,
+            "simulate",
+            "--series",
+            "--out",
+            str(base),
+            "--e-half",
+            "0.10",
+            "--ligand-M",
+            "0,1e-3,1e-2,3e-2,0.1",
+            "--log-beta-ox",
+            "4.0,7.5",
+            "--log-beta-red",
+            "2.0",
+            "--noise",
+            "0.01",
+            "--seed",
+            "1",
+        ],  # fmt: skip
         check=True,
         capture_output=True,
     )

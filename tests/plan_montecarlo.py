@@ -16,9 +16,9 @@ import numpy as np
 
 from cvfit.chemistry.complexation import complexed_half_wave_V
 from cvfit.chemistry.speciation import free_ligand_M
-from cvfit.fit.lingane import TitrationPoint, fit_lingane
-from cvfit.fit.stepwise import SolutionConditions, StepwisePoint, fit_stepwise
 from cvfit.flags import FitRefused
+from cvfit.titration.lingane import TitrationPoint, fit_lingane
+from cvfit.titration.stepwise import SolutionConditions, StepwisePoint, fit_stepwise
 from cvfit.units import nernst_slope_V_per_decade
 
 E_FREE_V = -0.100
@@ -31,7 +31,9 @@ def without_profile_intervals():
     values are the least-squares optimum of the model the F-test chose, which does not use
     them (test_plan_montecarlo checks that the values are identical either way).
     """
-    return mock.patch("cvfit.fit.stepwise.profile_interval", lambda *a, **k: (math.nan, math.nan))
+    return mock.patch(
+        "cvfit.titration.stepwise.profile_interval", lambda *a, **k: (math.nan, math.nan)
+    )
 
 
 def stepwise_scatter(

@@ -14,10 +14,10 @@ from dataclasses import replace
 import pytest
 
 from cvfit.flags import Flag
-from cvfit.peaks.analysis import analyse_peaks
-from cvfit.screen.classification import Classification, classify_voltammogram
-from cvfit.screen.reversibility import screen_reversibility
 from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
+from cvfit.techniques.cv.screen.classification import Classification, classify_voltammogram
+from cvfit.techniques.cv.screen.reversibility import screen_reversibility
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 T = 298.15

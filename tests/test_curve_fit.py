@@ -15,10 +15,10 @@ import pytest
 from independent_curves import independent_cv
 
 from cvfit.errors import FitError
-from cvfit.fit.curve_fit import fit_curve
-from cvfit.fit.curve_intervals import runs_test_z
-from cvfit.fit.curve_model import curve_data
 from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.curve.fit import fit_curve
+from cvfit.techniques.cv.curve.intervals import runs_test_z
+from cvfit.techniques.cv.curve.model import curve_data
 
 E_HALF = -0.2
 V = 0.02
@@ -209,7 +209,8 @@ def test_intervals_cover_the_truth_at_their_level():
 @pytest.mark.parametrize(("k0", "alpha"), CASES)
 def test_a_given_diffusion_ratio_gives_k0_and_a_wrong_one_biases_k0_not_E_half(k0, alpha):
     # D_R/D_O = 0.6 in the simulation. Given: E½ within 1 mV, k0 within 15 %. Left at 1:
-    # the curve is the same one (the ratio trades exactly against k0, cvfit.fit.curve_fit),
+    # the curve is the same one (the ratio trades exactly against k0,
+    # cvfit.techniques.cv.curve.fit),
     # so E½ and χ² do not move and k0 is off by (1/0.6)^(α/2), 11–17 % here
     v = simulate_cv(
         **SETTINGS, k0_cm_s=k0, alpha=alpha, noise_fraction=0.005, seed=1, D_red_cm2_s=0.6e-5

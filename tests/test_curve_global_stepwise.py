@@ -162,7 +162,7 @@ def test_the_shared_alpha_interval_covers_the_truth(tmp_path):
 
 def test_the_shared_capacitance_derivative_is_exact():
     # the residual is linear in a held C_dl: −charging_projected is its derivative
-    from cvfit.fit.curve_model import CurveModel, curve_data
+    from cvfit.techniques.cv.curve.model import CurveModel, curve_data
 
     v = simulate_cv(**COMMON, E_half_V=-0.2, k0_cm_s=5e-3, noise_fraction=0.005, seed=3)
     data = curve_data(
@@ -200,7 +200,7 @@ def test_bad_global_shared_is_a_one_line_error_naming_the_key(tmp_path, fit, mes
 
 
 def test_the_shared_names_are_the_same_in_the_manifest_and_the_fit():
-    from cvfit.fit.curve_global import SHARED_NAMES
     from cvfit.io.manifest import GLOBAL_SHARED_NAMES
+    from cvfit.techniques.cv.curve.global_fit import SHARED_NAMES
 
     assert SHARED_NAMES == GLOBAL_SHARED_NAMES

@@ -97,11 +97,15 @@ def test_slow_files_are_recovered_with_E_half_within_1_mV_and_k0_within_15_perce
             assert f.reversible is False
             assert f.E_half_source == "curve" and f.used_in_fit
             assert abs(f.E_half_V - true_E_half(f.ligand_M)) < 1e-3
-            assert abs(f.curve_fit.k0_cm_s.value / SLOW[f.ligand_M] - 1) < 0.15
-            assert f.E_half_stderr_V == f.curve_fit.E_half_V.stderr
+            assert abs(f.measurement.curve_fit.k0_cm_s.value / SLOW[f.ligand_M] - 1) < 0.15
+            assert f.E_half_stderr_V == f.measurement.curve_fit.E_half_V.stderr
             assert "CURVE_FIT_USED" in {g.code for g in f.flags}
         else:
-            assert f.reversible is True and f.E_half_source == "peaks" and f.curve_fit is None
+            assert (
+                f.reversible is True
+                and f.E_half_source == "peaks"
+                and f.measurement.curve_fit is None
+            )
     assert res.fit.n_points == len(LIGAND_M) - 1
 
 
@@ -121,7 +125,11 @@ def test_peaks_only_leaves_the_slow_files_out(runs):
     assert res.fit.n_points == len(LIGAND_M) - 1 - len(SLOW)
     for f in res.files:
         if f.ligand_M in SLOW:
-            assert not f.used_in_fit and f.curve_fit is None and f.E_half_source == "peaks"
+            assert (
+                not f.used_in_fit
+                and f.measurement.curve_fit is None
+                and f.E_half_source == "peaks"
+            )
 
 
 def test_results_json_says_the_source_and_validates(runs):
@@ -170,7 +178,9 @@ def test_an_irreversible_file_stays_out_with_the_reason(tmp_path):
     res = analyse_series(load_manifest(write_manifest(tmp_path / "s.toml", entries)))
     last = res.files[-1]
     assert not last.used_in_fit and last.E_half_source == "peaks"
-    assert last.curve_fit.accepted and last.curve_fit.psi < 0.01  # fits, but far too slow
+    assert (
+        last.measurement.curve_fit.accepted and last.measurement.curve_fit.psi < 0.01
+    )  # fits, but far too slow
     why = [f for f in last.flags if f.code == "CURVE_FIT_IRREVERSIBLE"]
     assert why and "irreversible" in why[0].message
 
@@ -255,8 +265,8 @@ def test_a_recovered_file_offers_its_diffusion_limited_peak_for_current_ratios(r
     for f in runs["auto"].files:
         if f.ligand_M in SLOW:
             # the measured peak of a slow couple is low; the fitted scale's is not
-            assert abs(f.peaks.ipc_A) < 0.97 * ip
-            assert f.curve_fit.reversible_peak_A == pytest.approx(ip, rel=0.01)
+            assert abs(f.measurement.peaks.ipc_A) < 0.97 * ip
+            assert f.measurement.curve_fit.reversible_peak_A == pytest.approx(ip, rel=0.01)
             assert _peak_per_root_v(f) == pytest.approx(ip / math.sqrt(V), rel=0.01)
 
 
@@ -291,5 +301,5 @@ def test_the_diffusion_ratio_reaches_the_curve_fit(tmp_path):
         tmp_path, source="project", slow=True, fit={"curve_diffusion_ratio": 0.8}
     )
     res = analyse_series(load_manifest(manifest))
-    fitted = [f.curve_fit for f in res.files if f.curve_fit is not None]
+    fitted = [f.measurement.curve_fit for f in res.files if f.measurement.curve_fit is not None]
     assert fitted and all(cf.D_ratio == 0.8 for cf in fitted)

@@ -9,11 +9,11 @@ import pytest
 from seriesfactory import write_small_series
 
 from cvfit.io import load_manifest
-from cvfit.pipeline.curves import CycleCurve, cycle_curve, points_per_curve
 from cvfit.pipeline.series import analyse_series
 from cvfit.report import OUTPUT_NAMES, write_outputs
 from cvfit.report.figures import titration as figures_module
 from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.curves import CycleCurve, cycle_curve, points_per_curve
 
 
 def test_cycle_curve_keeps_the_analysed_cycle_thinned():

@@ -20,16 +20,16 @@ from dataclasses import replace
 import pytest
 from convolution_cv import peak_potentials
 
-from cvfit.peaks.analysis import PeakAnalysis, analyse_peaks
 from cvfit.reversibility_criteria import ReversibilityCriteria
-from cvfit.screen.reversibility import (
+from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.peaks.analysis import PeakAnalysis, analyse_peaks
+from cvfit.techniques.cv.screen.reversibility import (
     MIN_TABULATED_OFFSET_V,
     ReversibilityScreen,
     nernstian_delta_Ep_V,
     screen_reversibility,
 )
-from cvfit.screen.switching import corrected_half_wave_V
-from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.screen.switching import corrected_half_wave_V
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 # (n·|Eλ − Ep| beyond the forward peak, n·ΔEp), V, as published (from memory)

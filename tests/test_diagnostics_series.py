@@ -14,10 +14,10 @@ import math
 import numpy as np
 import pytest
 
-from cvfit.peaks.analysis import analyse_peaks
-from cvfit.screen.classification import classify_voltammogram
-from cvfit.screen.reversibility import screen_reversibility
 from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
+from cvfit.techniques.cv.screen.classification import classify_voltammogram
+from cvfit.techniques.cv.screen.reversibility import screen_reversibility
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 T = 298.15
@@ -157,10 +157,12 @@ def test_slow_kinetics_at_high_ligand_flags_exactly_those_files(tmp_path, n):
     )
     for f in result.files:
         if f.ligand_M in slow:
-            assert f.classification.kind == "quasi-reversible", f.classification.reason
+            assert f.measurement.classification.kind == "quasi-reversible", (
+                f.measurement.classification.reason
+            )
             # recovered by the curve fit (half_wave_source = "auto", the default)
             assert f.used_in_fit and f.E_half_source == "curve"
-            assert abs(f.curve_fit.k0_cm_s.value / (0.002 / n) - 1) < 0.15
+            assert abs(f.measurement.curve_fit.k0_cm_s.value / (0.002 / n) - 1) < 0.15
             codes = {fl.code for fl in f.flags}
             assert {
                 "DELTA_EP_TOO_LARGE",
@@ -169,9 +171,14 @@ def test_slow_kinetics_at_high_ligand_flags_exactly_those_files(tmp_path, n):
             } <= codes
             msg = next(fl.message for fl in f.flags if fl.code == "CLASS_QUASI_REVERSIBLE")
             assert "n·ΔEp" in msg and "mV" in msg and "slow electron transfer" in msg
-            assert f.kinetics.status == "determined" and f.kinetics.psi.value < 1.0
+            assert (
+                f.measurement.kinetics.status == "determined"
+                and f.measurement.kinetics.psi.value < 1.0
+            )
         else:
-            assert f.classification.kind == "reversible", f.classification.reason
+            assert f.measurement.classification.kind == "reversible", (
+                f.measurement.classification.reason
+            )
             assert f.reversible is True
     assert result.fit is not None and result.fit.n_points == len(LIGAND_M) - 1
 
@@ -192,10 +199,10 @@ def test_scan_rate_study_gives_D_and_k0_in_results(tmp_path):
     assert st.D_cm2_s.value == pytest.approx(D, rel=0.03)
     assert not st.delta_Ep_grows
     slow = result.files[len(LIGAND_M) - 1]
-    assert slow.kinetics.D_source.startswith("scan-rate study")
+    assert slow.measurement.kinetics.D_source.startswith("scan-rate study")
     assert "D_FROM_OTHER_SOLUTION" in {fl.code for fl in slow.flags}
     # k0 = 0.002 cm/s simulated (ψ ≈ 0.18): recovered within 15 %
-    assert slow.kinetics.k0_cm_s.value == pytest.approx(0.002, rel=0.15)
+    assert slow.measurement.kinetics.k0_cm_s.value == pytest.approx(0.002, rel=0.15)
     data = json.loads(results_to_json(result))
     validate(data, "results.schema.json")
     assert data["scan_rate_studies"][0]["D_cm2_s"]["value"] == pytest.approx(D, rel=0.03)
@@ -213,7 +220,7 @@ def test_growing_delta_Ep_fails_the_whole_study(tmp_path):
     study_files = [f for f in result.files if f.file.startswith("rate")]
     assert all(f.reversible is False for f in study_files)
     assert all("DELTA_EP_GROWS_WITH_SCAN_RATE" in {fl.code for fl in f.flags} for f in study_files)
-    assert all(f.classification.kind == "quasi-reversible" for f in study_files)
+    assert all(f.measurement.classification.kind == "quasi-reversible" for f in study_files)
     assert "DELTA_EP_GROWS_WITH_SCAN_RATE" in {f.code for f in result.flags}
     # half_wave_source = "auto" (the default): every file of the failed study is
     # curve-fitted, also those that passed on their own and failed only with the study
@@ -223,7 +230,7 @@ def test_growing_delta_Ep_fails_the_whole_study(tmp_path):
     for f in study_files:
         assert f.E_half_source == "curve" and "CURVE_FIT_USED" in {fl.code for fl in f.flags}
         assert abs(f.E_half_V) < 3 * f.E_half_total_stderr_V + 2e-5
-        assert f.curve_fit.k0_cm_s.value == pytest.approx(0.02, rel=0.15)
+        assert f.measurement.curve_fit.k0_cm_s.value == pytest.approx(0.02, rel=0.15)
     assert abs(result.reference.E_half_V) < 5e-5
 
 
@@ -233,7 +240,7 @@ def test_a_study_failure_gets_no_curve_fit_when_e_half_comes_from_the_peaks(tmp_
     )
     result = analyse_series(load_manifest(manifest))
     study_files = [f for f in result.files if f.file.startswith("rate")]
-    assert all(f.reversible is False and f.curve_fit is None for f in study_files)
+    assert all(f.reversible is False and f.measurement.curve_fit is None for f in study_files)
     assert all(f.E_half_source == "peaks" for f in study_files)
 
 
@@ -263,7 +270,7 @@ def test_resistance_key_corrects_potentials_and_iR_study_is_recognised(tmp_path)
     assert fixed.files[0].resistance_ohm is None  # per-file 0 overrides the series value
     codes = {fl.code for fl in fix_fast.flags}
     assert {"OHMIC_DROP_CORRECTED", "OHMIC_CORRECTION_INCOMPLETE"} <= codes
-    assert fix_fast.peaks.delta_Ep_V < raw_fast.peaks.delta_Ep_V - 0.02
+    assert fix_fast.measurement.peaks.delta_Ep_V < raw_fast.measurement.peaks.delta_Ep_V - 0.02
     validate(json.loads(results_to_json(fixed)), "results.schema.json")
 
 

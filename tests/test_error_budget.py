@@ -15,14 +15,14 @@ import math
 import numpy as np
 import pytest
 
-from cvfit.fit.error_budget import (
+from cvfit.titration.error_budget import (
     ErrorBudget,
     budget_of,
     extra_scatter_variance,
     reference_mean,
     within_file_variance,
 )
-from cvfit.fit.lingane import TitrationPoint, fit_lingane
+from cvfit.titration.lingane import TitrationPoint, fit_lingane
 from cvfit.units import nernst_slope_V_per_decade
 
 TRUE_RATIO = 4.6  # invented log10(β_ox/β_red)
@@ -217,7 +217,7 @@ def test_stepwise_budget_adds_up_and_sees_the_offsets(offset_mV):
     # three complexes of the oxidised form (invented constants); 0.2 mV noise per file and
     # optionally a 1-3 mV offset per solution
     from cvfit.chemistry.complexation import complexed_half_wave_V
-    from cvfit.fit.stepwise import StepwisePoint, fit_stepwise
+    from cvfit.titration.stepwise import StepwisePoint, fit_stepwise
 
     rng = np.random.default_rng(21)
     truth = (2.0, 3.7, 4.9)

@@ -116,7 +116,7 @@ def test_diagnostics_labels_at_most_the_cap(result, tmp_path, monkeypatch):
     # every file is still plotted: one marker per file with a measured ΔEp
     top = fig.axes[0]
     plotted = sum(len(ln.get_xdata()) for ln in top.get_lines() if ln.get_linestyle() == "None")
-    assert plotted == sum(f.peaks.delta_Ep_V is not None for f in many.files)
+    assert plotted == sum(f.measurement.peaks.delta_Ep_V is not None for f in many.files)
     plt.close("all")
 
 

@@ -36,7 +36,7 @@ def _flag_calls() -> list[tuple[str, ast.Call]]:
 
 def _classification_codes() -> set[str]:
     """The codes the classification builds from its kinds (``CLASS_`` + kind)."""
-    from cvfit.screen.classification import CLASSES
+    from cvfit.techniques.cv.screen.classification import CLASSES
 
     return {"CLASS_" + k.upper().replace("-", "_").replace(" ", "_") for k in CLASSES}
 

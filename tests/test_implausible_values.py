@@ -3,8 +3,8 @@ water 1e-7–1e-3 cm²/s, about 1e-5 for small ions; k0 above 10 cm/s is not mea
 
 from __future__ import annotations
 
-from cvfit.pipeline.series_screen import _implausible
 from cvfit.quantity import Quantity
+from cvfit.techniques.cv.series_study import _implausible
 
 
 def _q(x: float) -> Quantity:

@@ -19,16 +19,16 @@ import pytest
 
 from cvfit.cli import main as cvfit_main
 from cvfit.io import load_manifest
-from cvfit.peaks.analysis import analyse_peaks
 from cvfit.pipeline.series import analyse_series
 from cvfit.report import write_outputs
 from cvfit.report.results_json import load_schema
-from cvfit.screen.switching import corrected_half_wave_V
 from cvfit.simulate.internal_standard import (
     simulate_internal_standard_series,
     simulate_two_waves,
 )
 from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
+from cvfit.techniques.cv.screen.switching import corrected_half_wave_V
 
 CV = dict(scan_rate_V_s=0.1, step_V=0.001, double_layer_F=5e-6, background_slope_A_per_V=2e-6)
 
@@ -136,7 +136,7 @@ def test_standard_tracks_the_drift_and_the_analyte_is_quoted_against_it(drifting
         assert std.E_half_V - 0.250 == pytest.approx(drift, abs=0.6e-3)
         # 0.5 % noise: SD of a file's E½ about 0.25 mV; 4 SD
         assert f.E_half_V == pytest.approx(truth, abs=1.0e-3)
-        own, s = f.peaks.E_half_stderr_V, std.E_half_stderr_V
+        own, s = f.measurement.peaks.E_half_stderr_V, std.E_half_stderr_V
         assert f.E_half_total_stderr_V == pytest.approx(math.hypot(own, s))
     fit = result.fit
     lo, hi = fit.log10_beta_ratio.ci95
@@ -259,7 +259,7 @@ def test_curve_fits_are_refused_with_a_standard_in_the_file(drifting_series):
     asked.write_text(text + '\n[fit]\nhalf_wave_source = "curve"\nglobal = true\n', "utf-8")
     result = analyse_series(load_manifest(asked))
     for f in result.files:
-        assert f.E_half_source == "peaks" and f.curve_fit is None
+        assert f.E_half_source == "peaks" and f.measurement.curve_fit is None
         why = [fl.message for fl in f.flags if fl.code == "CURVE_FIT_NOT_POSSIBLE"]
         assert why and "internal standard" in why[0], f.flags
     assert result.global_fit is None

@@ -18,10 +18,15 @@ import numpy as np
 import pytest
 from convolution_cv import peak_potentials
 
-from cvfit.peaks.analysis import analyse_peaks
 from cvfit.quantity import Quantity
-from cvfit.screen.kinetics import KineticsResult, diffusion_from_peak_current, estimate_kinetics
-from cvfit.screen.rate_constant import (
+from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
+from cvfit.techniques.cv.screen.kinetics import (
+    KineticsResult,
+    diffusion_from_peak_current,
+    estimate_kinetics,
+)
+from cvfit.techniques.cv.screen.rate_constant import (
     delta_Ep_stderr_V,
     k0_from_psi_cm_s,
     k0_klingler_kochi_cm_s,
@@ -29,7 +34,6 @@ from cvfit.screen.rate_constant import (
     psi_lavagnini,
     switch_corrected_delta_Ep_V,
 )
-from cvfit.simulate.voltammogram import simulate_cv
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 T = 298.15
@@ -61,7 +65,7 @@ def _k0(psi: float, n: int) -> float:
 def _sim(n, psi, *, noise, seed, switch="table", alpha=0.5):
     k0 = None if psi is None else _k0(psi, n)
     if switch == "table":
-        # the table's switch: 112.5/n mV beyond E½ (see cvfit.screen.rate_constant)
+        # the table's switch: 112.5/n mV beyond E½ (see cvfit.techniques.cv.screen.rate_constant)
         sw = -0.1125 / n
     else:
         sw = -float(switch) / n

@@ -14,10 +14,11 @@ import pytest
 PACKAGE = Path(__file__).resolve().parents[1] / "cvfit"
 
 #: Rank of each part of the package: a module may import its own part and lower ranks.
-#: Foundation records and units (0) → solution chemistry (1) → reading files, the
-#: simulator and the peak analysis (2) → the reversibility screen and the titration fits
-#: (3) → the pipeline and its result records (4) → the outputs and the experiment plan (5;
-#: beside each other, neither imports the other) → the command line (6).
+#: Foundation records and units (0) → solution chemistry (1) → reading files and the
+#: simulator (2) → the titration models (3) → the techniques, which turn one file into a
+#: measurement of E½ (4; the whole-curve global fit ties curves by a titration model) →
+#: the pipeline and its result records (5) → the outputs and the experiment plan (6;
+#: beside each other, neither imports the other) → the command line (7).
 RANKS = {
     "errors": 0,
     "units": 0,
@@ -31,13 +32,12 @@ RANKS = {
     "chemistry": 1,
     "io": 2,
     "simulate": 2,
-    "peaks": 2,
-    "screen": 3,
-    "fit": 3,
-    "pipeline": 4,
-    "report": 5,
-    "plan": 5,
-    "cli": 6,
+    "titration": 3,
+    "techniques": 4,
+    "pipeline": 5,
+    "report": 6,
+    "plan": 6,
+    "cli": 7,
 }
 #: The public facade and the ``python -m`` entry point sit above everything.
 ABOVE_ALL = {"cvfit", "cvfit.__main__"}
@@ -154,9 +154,9 @@ def test_the_check_catches_an_upward_import(tmp_path):
     """The rule itself: a screen module importing the pipeline is refused."""
     fake = tmp_path / "x.py"
     fake.write_text("from cvfit.pipeline.results import FileResult\n")
-    targets = _imports("cvfit.screen.x", fake)
+    targets = _imports("cvfit.techniques.cv.screen.x", fake)
     assert targets == {"cvfit.pipeline.results"}
-    assert _rank("cvfit.pipeline.results") > _rank("cvfit.screen.x")
+    assert _rank("cvfit.pipeline.results") > _rank("cvfit.techniques.cv.screen.x")
 
 
 def test_command_line_imports_no_numerical_library():

@@ -22,8 +22,8 @@ import numpy as np
 import pytest
 
 from cvfit.errors import InputError
-from cvfit.peaks.analysis import PeakAnalysis, analyse_peaks
 from cvfit.simulate.voltammogram import randles_sevcik_peak_current_A, simulate_cv
+from cvfit.techniques.cv.peaks.analysis import PeakAnalysis, analyse_peaks
 from cvfit.units import thermal_voltage
 from cvfit.voltammogram import Voltammogram
 
@@ -345,7 +345,7 @@ def test_later_cycles_E_half_and_delta_Ep_with_noise(later_runs, n, first):
 
 @pytest.mark.parametrize(("n", "first"), LATER)
 def test_later_cycles_pass_the_reversibility_screen(later_runs, n, first):
-    from cvfit.screen.reversibility import screen_reversibility
+    from cvfit.techniques.cv.screen.reversibility import screen_reversibility
 
     for runs in later_runs[n, first]:
         for p in runs:

@@ -9,7 +9,8 @@ reused). None of that may change a reported number beyond rounding. Checked here
   SVD of the whole design for the coefficients with ``np.linalg.lstsq``'s cut-off and for
   (XᵀX)⁺ with ``np.linalg.pinv``'s; ``np.linalg.pinv`` of the vertex design; designs built
   with ``np.column_stack``), including rank-deficient and badly scaled designs;
-* :func:`cvfit.peaks.analysis.analyse_peaks` with those plain forms patched in against the fast
+* :func:`cvfit.techniques.cv.peaks.analysis.analyse_peaks` with those plain forms patched in
+against the fast
   path, on simulated and synthetic voltammograms;
 * ``STORED``: the values :func:`analyse_peaks` gave with the plain forms (same
   closed-form synthetic records, built below without the simulator, so a change to the
@@ -23,11 +24,11 @@ import math
 import numpy as np
 import pytest
 
-from cvfit.peaks import baseline as pf
-from cvfit.peaks import least_squares as la
-from cvfit.peaks import location as pl
-from cvfit.peaks.analysis import _OPTIONAL, analyse_peaks
 from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.peaks import baseline as pf
+from cvfit.techniques.cv.peaks import least_squares as la
+from cvfit.techniques.cv.peaks import location as pl
+from cvfit.techniques.cv.peaks.analysis import _OPTIONAL, analyse_peaks
 from cvfit.units import thermal_voltage
 from cvfit.voltammogram import Voltammogram
 

@@ -93,9 +93,9 @@ def test_round_trip_through_many_dialects(dialect_series):
 def test_series_conditions_and_criteria_are_records(dialect_series):
     """series and criteria are typed records; their JSON form is the [series] table as
     given (plus T in K and the model) and the three screen margins."""
-    from cvfit.fit.lingane import LinganeFit
     from cvfit.pipeline.results import SeriesConditions
     from cvfit.reversibility_criteria import ReversibilityCriteria
+    from cvfit.titration.lingane import LinganeFit
 
     manifest, result = dialect_series
     loaded = load_manifest(manifest)
@@ -277,9 +277,11 @@ def test_later_cycle_takes_its_current_ratio_from_cycle_1():
     }
     result = analyse_series(manifest, records=records)
     for f in result.files:
-        assert f.peaks.cycle_number == 3
+        assert f.measurement.peaks.cycle_number == 3
         assert "CURRENT_RATIO_FROM_FIRST_CYCLE" in {g.code for g in f.flags}
-        assert abs(f.peaks.current_ratio - 1.0) < 0.05  # ratio drifts up at far switches
+        assert (
+            abs(f.measurement.peaks.current_ratio - 1.0) < 0.05
+        )  # ratio drifts up at far switches
         assert f.reversible is True
     assert abs(result.fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) < 0.03
 
@@ -296,6 +298,6 @@ def test_k0_of_a_slow_file_uses_D_of_the_reversible_files(tmp_path):
     result = analyse_series(load_manifest(manifest))
     slow = result.files[-1]
     assert "D_FROM_REVERSIBLE_FILES" in {f.code for f in slow.flags}
-    k0 = slow.kinetics.k0_cm_s
+    k0 = slow.measurement.kinetics.k0_cm_s
     assert abs(k0.value / 0.002 - 1) < 0.15
     assert k0.ci95[0] <= 0.002 <= k0.ci95[1]

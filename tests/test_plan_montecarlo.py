@@ -167,7 +167,7 @@ def test_lingane_through_simulated_voltammograms_and_the_series_pipeline():
             manifest = simulate_plan(res, Path(tmp) / f"s{k}", seed=1000 + k, noise_fraction=0.01)
             r = analyse_series(load_manifest(manifest), jobs=1)
             values.append([r.fit.log10_beta_ratio.value, r.fit.delta_ligands.value])
-            errs.extend(f.peaks.E_half_stderr_V for f in r.files)
+            errs.extend(f.measurement.peaks.E_half_stderr_V for f in r.files)
     sigma = float(np.median(errs))
     predicted = np.array(res.design("recommended").stderr) * sigma  # planned at σ = 1 V
     ratio = np.std(values, axis=0, ddof=1) / predicted

@@ -18,7 +18,7 @@ import pytest
 from dialects import write_dialect
 from seriesfactory import TRUE_LOG10_RATIO, simulate_point, write_manifest, write_plain_csv
 
-from cvfit.peaks import analyse_peaks
+from cvfit.techniques.cv.peaks import analyse_peaks
 
 ROOT = Path(__file__).resolve().parents[1]
 TIMEOUT_S = 120

@@ -27,8 +27,6 @@ from matplotlib.collections import LineCollection
 from cvfit.cli.batch import SeriesOutcome, format_batch_summary
 from cvfit.cli.demo import copy_demo_inputs
 from cvfit.io import load_manifest
-from cvfit.peaks.analysis import analyse_peaks
-from cvfit.pipeline.per_file import _ratio_from_first_cycle
 from cvfit.pipeline.series import analyse_series
 from cvfit.report import format_summary, write_outputs
 from cvfit.report.figures import diagnostics as figures_diagnostics
@@ -36,6 +34,8 @@ from cvfit.report.figures import titration as figures
 from cvfit.report.headline import constant_lines, screen_sentence, screen_short
 from cvfit.report.html import extra_header, render_html, series_notes
 from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
+from cvfit.techniques.cv.technique import _ratio_from_first_cycle
 
 FLAGGED = "tazine_07.csv"  # the demo's slowed file (k0 = 0.004 cm/s), failing the screen
 

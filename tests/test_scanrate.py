@@ -13,17 +13,17 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from cvfit.peaks.analysis import analyse_peaks
-from cvfit.screen.ohmic_drop import correct_ohmic_drop
-from cvfit.screen.rate_constant import delta_Ep_stderr_V
-from cvfit.screen.reversibility import screen_reversibility
-from cvfit.screen.scan_rate import (
+from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.techniques.cv.peaks.analysis import analyse_peaks
+from cvfit.techniques.cv.screen.ohmic_drop import correct_ohmic_drop
+from cvfit.techniques.cv.screen.rate_constant import delta_Ep_stderr_V
+from cvfit.techniques.cv.screen.reversibility import screen_reversibility
+from cvfit.techniques.cv.screen.scan_rate import (
     ScanRatePoint,
     analyse_scan_rate_study,
     scan_rate_groups,
     working_curve_n_delta_Ep_V,
 )
-from cvfit.simulate.voltammogram import simulate_cv
 
 T = 298.15
 RATES = (0.02, 0.05, 0.1, 0.2, 0.5, 1.0)

@@ -19,7 +19,7 @@ from cvfit.chemistry.speciation import (
     mean_ligand_number,
     species_fractions,
 )
-from cvfit.fit.stepwise import complex_standard_potential_V
+from cvfit.titration.stepwise import complex_standard_potential_V
 from cvfit.units import thermal_voltage
 
 BETA = (2.0, 3.7, 4.9)

@@ -3,7 +3,8 @@
 Simulated E½ values come from cvfit.chemistry.complexation.complexed_half_wave_V, the labile-limit
 relation E½(c) = E½(s) − (RT/nF) ln(F0,ox/F0,red) (DeFord & Hume, J. Am. Chem. Soc. 73
 (1951) 5321; Lingane, Chem. Rev. 29 (1941) 1). Noise 0.2 mV per E½ is about the SD the
-peak analysis measures for reversible simulated files (cvfit.peaks.analysis docstring).
+peak analysis measures for reversible simulated files (cvfit.techniques.cv.peaks.analysis
+docstring).
 """
 
 from __future__ import annotations
@@ -13,14 +14,14 @@ import pytest
 
 from cvfit.chemistry.complexation import complexed_half_wave_V
 from cvfit.chemistry.speciation import free_ligand_M, ligand_fraction_unprotonated
-from cvfit.fit.stepwise import (
+from cvfit.titration.stepwise import (
     SolutionConditions,
     StepwisePoint,
     complex_standard_potential_V,
     fit_stepwise,
 )
-from cvfit.fit.stepwise_least_squares import StepwiseData
-from cvfit.fit.stepwise_model_choice import choose_candidate, fit_all_candidates
+from cvfit.titration.stepwise_least_squares import StepwiseData
+from cvfit.titration.stepwise_model_choice import choose_candidate, fit_all_candidates
 from cvfit.units import thermal_voltage
 
 SIGMA_V = 0.2e-3
@@ -224,8 +225,8 @@ def test_davies_thermodynamic_constants_reported_when_charges_given():
 
 
 def test_too_few_points_is_a_refusal_not_an_exception():
-    from cvfit.fit.stepwise import MIN_STEPWISE_POINTS
     from cvfit.flags import FitRefused
+    from cvfit.titration.stepwise import MIN_STEPWISE_POINTS
 
     refused = _fit(_points([1e-2], [-0.1]), 0.0)
     assert MIN_STEPWISE_POINTS == 2

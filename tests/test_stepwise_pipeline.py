@@ -173,8 +173,8 @@ def test_bound_ligand_number_leaving_no_free_ligand_is_an_input_error(tmp_path, 
 
 
 def test_null_stepwise_record_follows_the_schema():
-    from cvfit.fit.stepwise_result import null_stepwise_dict
     from cvfit.flags import Flag
+    from cvfit.titration.stepwise_result import null_stepwise_dict
 
     schema = json.loads((SCHEMAS / "results.schema.json").read_text(encoding="utf-8"))
     sub = {"$defs": schema["$defs"], "$ref": "#/$defs/stepwise_fit"}

@@ -23,12 +23,13 @@ def test_rows_line_up_with_the_header_also_for_a_wide_cell(tmp_path):
     result = analyse_series(load_manifest(write_small_series(tmp_path, 4, seed=310)))
     # one E½ without its standard error prints "… (uncertainty unknown)": 25+ characters
     files = list(result.files)
-    files[2] = replace(files[2], peaks=replace(files[2].peaks, E_half_stderr_V=None))
+    hw = files[2].half_wave
+    files[2] = replace(files[2], half_wave=replace(hw, stderr_V=None, own_stderr_V=None))
     text = format_summary(replace(result, files=tuple(files)))
     header, *rows = _table(text)
     assert any("(uncertainty unknown)" in row for row in rows)
     assert {len(row) for row in rows} == {len(header)}
     column_end = header.index("E½/mV") + len("E½/mV")
     for row, f in zip(rows, files, strict=True):
-        cell = format_pm(f.E_half_V, f.peaks.E_half_stderr_V, scale=1e3)
+        cell = format_pm(f.E_half_V, f.E_half_total_stderr_V, scale=1e3)
         assert row[column_end - len(cell) : column_end] == cell, row  # ends under "E½/mV"

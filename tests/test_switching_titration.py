@@ -46,7 +46,7 @@ def test_every_E_half_within_0p3_mV_of_truth(series):
     offsets = np.abs(truth - switch_V)
     assert offsets.min() == pytest.approx(0.101) and offsets.max() > 0.39
     for f, E_true in zip(result.files, truth, strict=True):
-        assert f.screen.reversible is True
+        assert f.measurement.screen.reversible is True
         assert abs(f.E_half_V - E_true) < 0.3e-3, (f.E_half_V - E_true) * 1e3
 
 

@@ -9,8 +9,14 @@ import numpy as np
 import pytest
 
 from cvfit.errors import InputError
-from cvfit.fit.lingane import LinganeFit, TitrationPoint, check_points, fit_lingane, null_fit_dict
 from cvfit.flags import FitRefused, Flag
+from cvfit.titration.lingane import (
+    LinganeFit,
+    TitrationPoint,
+    check_points,
+    fit_lingane,
+    null_fit_dict,
+)
 from cvfit.units import thermal_voltage
 
 T25 = 298.15

@@ -11,7 +11,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from cvfit.fit.lingane import TitrationPoint, fit_lingane
+from cvfit.titration.lingane import TitrationPoint, fit_lingane
 from cvfit.units import nernst_slope_V_per_decade
 
 pytestmark = pytest.mark.slow  # Monte-Carlo runs: deselect with -m 'not slow'

@@ -8,15 +8,15 @@ Pure functions of concentrations and constants; no voltammogram is read here.
 - :mod:`.randles_sevcik` — the reversible peak current
 """
 
-from .activity import davies_log10_gamma, thermodynamic_log10_beta
-from .complexation import (
+from cvfit.chemistry.activity import davies_log10_gamma, thermodynamic_log10_beta
+from cvfit.chemistry.complexation import (
     complexed_half_wave_V,
     effective_diffusion_cm2_s,
     leden_F0,
     log_leden_F0,
 )
-from .randles_sevcik import RANDLES_SEVCIK_CONSTANT, randles_sevcik_peak_current_A
-from .speciation import (
+from cvfit.chemistry.randles_sevcik import RANDLES_SEVCIK_CONSTANT, randles_sevcik_peak_current_A
+from cvfit.chemistry.speciation import (
     absolute_log10_beta,
     conditional_log10_beta,
     free_ligand_M,

@@ -22,7 +22,7 @@ from collections.abc import Sequence
 import numpy as np
 from scipy import optimize
 
-from .complexation import log_leden_F0
+from cvfit.chemistry.complexation import log_leden_F0
 
 #: Share of the analytical ligand bound to the metal above which a point is flagged
 #: (common practice: a >= 10-fold ligand excess per bound ligand).

@@ -52,7 +52,7 @@ def build_parser() -> argparse.ArgumentParser:
         "--debug", action="store_true", help="show the traceback of an internal error"
     )
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
-    from . import demo, plan, run, simulate
+    from cvfit.cli import demo, plan, run, simulate
 
     for module in (run, demo, simulate, plan):
         module.register(sub)

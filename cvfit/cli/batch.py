@@ -91,7 +91,7 @@ def batch_out_dirs(manifests: Sequence[Path], out: Path | None) -> list[Path]:
 
     Stems that collide under *out* get ``-2``, ``-3`` … in command-line order.
     """
-    from .output_paths import default_out_dir
+    from cvfit.cli.output_paths import default_out_dir
 
     if out is None:
         return [default_out_dir(m) for m in manifests]
@@ -109,11 +109,10 @@ def batch_out_dirs(manifests: Sequence[Path], out: Path | None) -> list[Path]:
 
 def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
     """Analyse one series into *out_dir*; never raises (failures become the outcome)."""
+    from cvfit.cli.output_paths import check_outputs_spare_inputs
     from cvfit.io import load_manifest
     from cvfit.pipeline.series import analyse_series
     from cvfit.report import check_output_folder, write_outputs
-
-    from .output_paths import check_outputs_spare_inputs
 
     manifest_path, out_dir = Path(manifest_path), Path(out_dir)
     title = None
@@ -152,9 +151,9 @@ def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
 
 def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOutcome:
     """The outcome of an analysed series: its constants, by the type of its fit."""
-    from cvfit.fit.lingane import LinganeFit
-    from cvfit.fit.stepwise_result import StepwiseFit
     from cvfit.report.headline import screen_short
+    from cvfit.titration.lingane import LinganeFit
+    from cvfit.titration.stepwise_result import StepwiseFit
 
     fit = result.fit
     screen = screen_short(result.to_dict())

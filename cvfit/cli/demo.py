@@ -13,7 +13,7 @@ import sys
 from importlib import resources
 from pathlib import Path
 
-from .run import run_manifest
+from cvfit.cli.run import run_manifest
 
 DEMO_PACKAGE = "cvfit.data.demo"
 DEMO_MANIFEST = "series.toml"

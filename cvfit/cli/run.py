@@ -12,7 +12,7 @@ import sys
 from collections.abc import Callable, Iterator, Sequence
 from pathlib import Path
 
-from .file_jobs import PARALLEL_MIN_FILES, default_file_jobs
+from cvfit.cli.file_jobs import PARALLEL_MIN_FILES, default_file_jobs
 
 #: Shown under ``cvfit run --help``: where every manifest key is described, and what the
 #: exit status means (the values of :data:`cvfit.cli.EXIT_OK` and its neighbours).
@@ -91,13 +91,12 @@ def run_manifest(
     *simulated_with*: for simulated data (the demo), the constants they were simulated with,
     in words; the HTML report shows them.
     """
+    from cvfit.cli.output_paths import check_outputs_spare_inputs, default_out_dir
     from cvfit.errors import InputError, printable
     from cvfit.io import load_manifest
     from cvfit.pipeline.per_file import check_jobs
     from cvfit.pipeline.series import analyse_series
     from cvfit.report import check_output_folder, format_summary, write_outputs
-
-    from .output_paths import check_outputs_spare_inputs, default_out_dir
 
     if jobs is not None:
         check_jobs(jobs)
@@ -127,7 +126,7 @@ def handle(args: argparse.Namespace) -> int:
     out = Path(args.out) if args.out else None
     if len(args.manifest) == 1 and not Path(args.manifest[0]).is_dir():
         return run_manifest(Path(args.manifest[0]), out, quiet=args.quiet, jobs=args.jobs)
-    from .batch import expand_manifests, handle_batch
+    from cvfit.cli.batch import expand_manifests, handle_batch
 
     manifests = expand_manifests(args.manifest)
     if len(manifests) == 1:

@@ -40,8 +40,12 @@ def register(sub: argparse._SubParsersAction) -> None:
         "writes time_s,potential_V,current_A (anodic current positive).",
     )
     a = p.add_argument
-    a("--e-half", metavar="V", required=True,
-      help="required: reversible half-wave potential, V (series: of the uncomplexed couple)")
+    a(
+        "--e-half",
+        metavar="V",
+        required=True,
+        help="required: reversible half-wave potential, V (series: of the uncomplexed couple)",
+    )
     a("--electrons", metavar="N", default="1", help="electrons n (default 1)")
     a("--scan-rate", metavar="V/s", default="0.1", help="scan rate, V/s (default 0.1)")
     a("--start", metavar="V", help="start potential, V (default E½ + 0.3 V; red: E½ − 0.3 V)")
@@ -57,15 +61,23 @@ def register(sub: argparse._SubParsersAction) -> None:
     a("--alpha", default="0.5", help="transfer coefficient (default 0.5)")
     a("--diffusion", metavar="cm2/s", default="1e-5", help="D of the oxidised form, cm²/s")
     a("--diffusion-red", metavar="cm2/s", help="D of the reduced form (default: --diffusion)")
-    a("--concentration", metavar="mol/L", default="1e-3",
-      help="bulk concentration, mol/L as in manifests (default 1e-3, i.e. 1 mM)")
+    a(
+        "--concentration",
+        metavar="mol/L",
+        default="1e-3",
+        help="bulk concentration, mol/L as in manifests (default 1e-3, i.e. 1 mM)",
+    )
     a("--initial", choices=("ox", "red"), default="ox", help="form present at the start")
     a("--area", metavar="cm2", default="0.0707", help="electrode area, cm² (default 0.0707)")
     a("--cycles", default="1", help="number of cycles (default 1)")
     a("--temperature-C", metavar="C", default="25", help="temperature, °C (default 25)")
-    a("--cdl", metavar="F", default="0",
-      help="double-layer capacitance of the whole electrode, F — total, not per cm² "
-      "(e.g. 20 µF/cm² × 0.0707 cm² = 1.4e-6; default 0)")
+    a(
+        "--cdl",
+        metavar="F",
+        default="0",
+        help="double-layer capacitance of the whole electrode, F — total, not per cm² "
+        "(e.g. 20 µF/cm² × 0.0707 cm² = 1.4e-6; default 0)",
+    )
     a("--slope", metavar="A/V", default="0", help="background slope, A/V (default 0)")
     a("--offset", metavar="A", default="0", help="background offset, A (default 0)")
     a("--resistance", metavar="ohm", default="0", help="uncompensated resistance, Ω")
@@ -73,19 +85,34 @@ def register(sub: argparse._SubParsersAction) -> None:
     a("--seed", help="noise seed (whole number)")
     a("--series", action="store_true", help="write a titration series and its manifest")
     a("--ligand-M", metavar="LIST", help="series: ligand concentrations, mol/L, comma list")
-    a("--log-beta-ox", metavar="LIST", default="",
-      help="series: overall log10 β_j of the oxidised form, j = 1, 2, … (comma list; "
-      "β_j = [MLj]/([M][L]^j), not stepwise K_j; default: not complexed)")
-    a("--log-beta-red", metavar="LIST", default="",
-      help="series: overall log10 β_j of the reduced form, j = 1, 2, … (comma list)")
+    a(
+        "--log-beta-ox",
+        metavar="LIST",
+        default="",
+        help="series: overall log10 β_j of the oxidised form, j = 1, 2, … (comma list; "
+        "β_j = [MLj]/([M][L]^j), not stepwise K_j; default: not complexed)",
+    )
+    a(
+        "--log-beta-red",
+        metavar="LIST",
+        default="",
+        help="series: overall log10 β_j of the reduced form, j = 1, 2, … (comma list)",
+    )
     a("--diffusion-ox-complexed", metavar="cm2/s", help="series: D of the ox. complexes")
     a("--diffusion-red-complexed", metavar="cm2/s", help="series: D of the red. complexes")
-    a("--standard-e-half", metavar="V",
-      help="series: add an internal reference couple with this E½ (V, electrode scale) to "
-      "every file; the manifest then quotes potentials against it ([internal_standard])")
-    a("--drift-step", metavar="V", default="0",
-      help="series with --standard-e-half: SD of the reference electrode's random-walk drift "
-      "from one solution to the next, V (default 0)")
+    a(
+        "--standard-e-half",
+        metavar="V",
+        help="series: add an internal reference couple with this E½ (V, electrode scale) to "
+        "every file; the manifest then quotes potentials against it ([internal_standard])",
+    )
+    a(
+        "--drift-step",
+        metavar="V",
+        default="0",
+        help="series with --standard-e-half: SD of the reference electrode's random-walk drift "
+        "from one solution to the next, V (default 0)",
+    )
     a("--title", default="simulated titration", help="series: title for the manifest")
     a("--out", metavar="FILE|DIR", help="output CSV file (series: output folder)")
     a("--force", action="store_true", help="replace existing output files")

@@ -6,10 +6,17 @@
 
 from __future__ import annotations
 
-from .manifest import FitSettings, Manifest, SeriesSettings, VoltammogramEntry, load_manifest
-from .manifest_standard import InternalStandard
-from .options import ImportOptions
-from .reader import parse_voltammogram_bytes, parse_voltammogram_text, read_voltammogram
+from cvfit.io.manifest import (
+    FitSettings,
+    Manifest,
+    SeriesSettings,
+    VoltammogramEntry,
+    load_manifest,
+    resistance_for,
+)
+from cvfit.io.manifest_standard import InternalStandard
+from cvfit.io.options import ImportOptions
+from cvfit.io.reader import parse_voltammogram_bytes, parse_voltammogram_text, read_voltammogram
 
 __all__ = [
     "ImportOptions",
@@ -22,4 +29,5 @@ __all__ = [
     "FitSettings",
     "InternalStandard",
     "VoltammogramEntry",
+    "resistance_for",
 ]

@@ -13,10 +13,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from cvfit.errors import InputError
-
-from .columns import ColumnLabel, is_unit, parse_label
-from .options import ImportOptions
-from .table import NumericTable
+from cvfit.io.columns import ColumnLabel, is_unit, parse_label
+from cvfit.io.options import ImportOptions
+from cvfit.io.table import NumericTable
 
 __all__ = ["Columns", "ROLE_OPTION", "choose_columns", "describe"]
 

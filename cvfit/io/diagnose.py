@@ -3,8 +3,7 @@
 from __future__ import annotations
 
 from cvfit.errors import InputError
-
-from .cells import DELIMITER_NAMES, cell_value, is_number, split_cells
+from cvfit.io.cells import DELIMITER_NAMES, cell_value, is_number, split_cells
 
 __all__ = ["locate_bad_cell", "no_rows"]
 

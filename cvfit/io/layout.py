@@ -11,9 +11,8 @@ import re
 from dataclasses import dataclass
 
 from cvfit.errors import InputError
-
-from .cells import KEY_VALUE, is_number, is_numeric_line, split_cells
-from .columns import is_unit
+from cvfit.io.cells import KEY_VALUE, is_number, is_numeric_line, split_cells
+from cvfit.io.columns import is_unit
 
 __all__ = ["Layout", "find_data_start", "header_of", "layout", "metadata_of", "SAMPLE"]
 

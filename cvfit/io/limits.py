@@ -16,8 +16,7 @@ import stat
 import numpy as np
 
 from cvfit.errors import InputError
-
-from .text import split_lines
+from cvfit.io.text import split_lines
 
 __all__ = [
     "MAX_DATA_FILE_BYTES",

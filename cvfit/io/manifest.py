@@ -18,17 +18,23 @@ from pathlib import Path
 from typing import Any, Literal
 
 from cvfit.errors import InputError
+from cvfit.io import manifest_chemistry as _chem
+from cvfit.io import manifest_electrode as _electrode
+from cvfit.io import manifest_standard as _standard
+from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
+from cvfit.io.options import IMPORT_KEYS, ImportOptions
+from cvfit.io.text import split_lines
 from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.units import celsius_to_kelvin
 
-from . import manifest_chemistry as _chem
-from . import manifest_electrode as _electrode
-from . import manifest_standard as _standard
-from .limits import MAX_MANIFEST_BYTES, read_regular_file
-from .options import IMPORT_KEYS, ImportOptions
-from .text import split_lines
-
-__all__ = ["Manifest", "SeriesSettings", "FitSettings", "VoltammogramEntry", "load_manifest"]
+__all__ = [
+    "Manifest",
+    "SeriesSettings",
+    "FitSettings",
+    "VoltammogramEntry",
+    "load_manifest",
+    "resistance_for",
+]
 
 SERIES_KEYS = (
     "title",
@@ -50,7 +56,7 @@ FIT_KEYS = (
 #: Where E½ of each file comes from (``[fit] half_wave_source``).
 HALF_WAVE_SOURCES = ("peaks", "curve", "auto")
 #: What the global curve fit may share between files (``[fit] global_shared``; the same
-#: names as cvfit.fit.curve_global.SHARED_NAMES, tested).
+#: names as cvfit.techniques.cv.curve.global_fit.SHARED_NAMES, tested).
 GLOBAL_SHARED_NAMES = ("alpha", "charging")
 REVERSIBILITY_KEYS = ("n_delta_Ep_margin_V", "n_peak_width_margin_V", "current_ratio_margin")
 ENTRY_KEYS = (
@@ -110,7 +116,8 @@ class SeriesSettings:
     reference_electrode : str or None
         Free text, echoed in reports.
     ligand_pKa, pH, ionic_strength_M, metal_charge, ligand_charge, bound_ligand_number
-        Solution chemistry for the stepwise model (see cvfit.fit.stepwise.SolutionConditions).
+        Solution chemistry for the stepwise model (see
+        cvfit.titration.stepwise.SolutionConditions).
     electrode_area_cm2, analyte_M : float or None
         Electrode area, cm², and bulk concentration of the electroactive species, mol/L
         (D from Randles–Ševčík peak currents).
@@ -224,7 +231,7 @@ class FitSettings:
         double-layer capacitance for all files); default none.
     curve_diffusion_ratio : float
         D_R/D_O of the curve fit's model (default 1). A number only: one curve cannot
-        tell it (see :mod:`cvfit.fit.curve_fit`); it changes k0, not E½.
+        tell it (see :mod:`cvfit.techniques.cv.curve.fit`); it changes k0, not E½.
     """
 
     model: Literal["lingane", "stepwise"] = "lingane"
@@ -698,3 +705,9 @@ def _load_standard(
             ld.where.line("internal_standard", "window_V"),
         )
     return standard
+
+
+def resistance_for(entry: object, series: object) -> float | None:
+    """R_u of one file: its own ``resistance_ohm``, else the series value, else None."""
+    own = getattr(entry, "resistance_ohm", None)
+    return own if own is not None else getattr(series, "resistance_ohm", None)

@@ -8,10 +8,12 @@ reports the columns read with :func:`imported_columns`.
 from __future__ import annotations
 
 from collections.abc import Mapping
+from dataclasses import dataclass
 
 from cvfit.flags import Flag
 
-__all__ = ["IMPORTED_COLUMN_KEYS", "import_flags", "imported_columns"]
+__all__ = ["IMPORTED_COLUMN_KEYS", "ImportedFile", "import_flags", "imported_columns",
+           "imported_file"]  # fmt: skip
 
 #: Keys of :func:`imported_columns`, in order (``time_*`` and ``potential_kind`` only when
 #: there is one).
@@ -65,3 +67,32 @@ def imported_columns(metadata: Mapping[str, str]) -> dict[str, str] | None:
     if "time_column" not in out:
         out.pop("time_unit", None)
     return out
+
+
+@dataclass(frozen=True)
+class ImportedFile:
+    """What the importer read from one file: the columns and the flags its notes raise.
+
+    Attributes
+    ----------
+    column_items : tuple of (str, str)
+        :func:`imported_columns` as pairs (a frozen record holds no dict).
+    flags : tuple of Flag
+        :func:`import_flags`.
+    """
+
+    column_items: tuple[tuple[str, str], ...]
+    flags: tuple[Flag, ...] = ()
+
+    @property
+    def columns(self) -> dict[str, str]:
+        """The columns read and their units (keys :data:`IMPORTED_COLUMN_KEYS`)."""
+        return dict(self.column_items)
+
+
+def imported_file(metadata: Mapping[str, str]) -> ImportedFile | None:
+    """The import record of a record read from a file (None for one made otherwise)."""
+    columns = imported_columns(metadata)
+    if columns is None:
+        return None
+    return ImportedFile(tuple(columns.items()), tuple(import_flags(metadata)))

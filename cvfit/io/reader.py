@@ -7,16 +7,21 @@ import os
 import numpy as np
 
 from cvfit.errors import InputError
+from cvfit.io.checks import (
+    check_finite,
+    glitch_note,
+    padding_rows,
+    scan_rate_notes,
+    unit_doubt_note,
+)
+from cvfit.io.choice import Columns, choose_columns
+from cvfit.io.columns import ColumnLabel, time_scale
+from cvfit.io.limits import MAX_DATA_FILE_BYTES, check_line_lengths, read_regular_file
+from cvfit.io.options import CURRENT_UNIT_NAMES, POTENTIAL_UNIT_NAMES, ImportOptions
+from cvfit.io.table import NumericTable, read_table_text
+from cvfit.io.text import decode_bytes
 from cvfit.units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
 from cvfit.voltammogram import MIN_POINTS, Voltammogram
-
-from .checks import check_finite, glitch_note, padding_rows, scan_rate_notes, unit_doubt_note
-from .choice import Columns, choose_columns
-from .columns import ColumnLabel, time_scale
-from .limits import MAX_DATA_FILE_BYTES, check_line_lengths, read_regular_file
-from .options import CURRENT_UNIT_NAMES, POTENTIAL_UNIT_NAMES, ImportOptions
-from .table import NumericTable, read_table_text
-from .text import decode_bytes
 
 __all__ = ["read_voltammogram", "parse_voltammogram_text", "parse_voltammogram_bytes"]
 

@@ -14,11 +14,10 @@ import numpy as np
 import pandas as pd
 
 from cvfit.errors import InputError
-
-from .cells import DELIMITER_NAMES, cell_value, is_number, parse_number, split_cells, trim
-from .diagnose import locate_bad_cell, no_rows
-from .layout import SAMPLE, Layout, find_data_start, header_of, layout, metadata_of
-from .text import head_lines, split_lines
+from cvfit.io.cells import DELIMITER_NAMES, cell_value, is_number, parse_number, split_cells, trim
+from cvfit.io.diagnose import locate_bad_cell, no_rows
+from cvfit.io.layout import SAMPLE, Layout, find_data_start, header_of, layout, metadata_of
+from cvfit.io.text import head_lines, split_lines
 
 __all__ = ["NumericTable", "read_table", "read_table_text"]
 

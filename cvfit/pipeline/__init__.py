@@ -9,8 +9,8 @@
 - :mod:`.parallel` — process pools and the BLAS-thread limit
 """
 
-from .results import FileResult, ReferenceHalfWave, SeriesResult
-from .series import analyse_manifest_file, analyse_series
+from cvfit.pipeline.results import FileResult, ReferenceHalfWave, SeriesResult
+from cvfit.pipeline.series import analyse_manifest_file, analyse_series
 
 __all__ = [
     "FileResult",

@@ -3,9 +3,10 @@
 After the two-step analysis: the records of the files that entered the titration fit and
 of the ligand-free reference files are read again (or taken from memory), and all curves
 are fitted at once with E½ tied by the Lingane line
-(:func:`cvfit.fit.curve_global.fit_global_lingane`) or, with ``model = "stepwise"``, by the
-DeFord–Hume model (:func:`cvfit.fit.curve_global_stepwise.stepwise_tie`), started from the
-two-step result. Files whose E½ came from the curve fit keep their own k0 and α (one α
+(:func:`cvfit.techniques.cv.curve.global_fit.fit_global_lingane`) or, with ``model = "stepwise"``,
+by the
+DeFord–Hume model (:func:`cvfit.techniques.cv.curve.global_stepwise.stepwise_tie`), started from
+the two-step result. Files whose E½ came from the curve fit keep their own k0 and α (one α
 for all of them with ``global_shared = ["alpha"]``); the others are modelled Nernstian.
 ``"charging"`` in ``global_shared`` makes one C_dl for all files. R_u: the manifest value,
 else the file's fitted R_u, else none. Composition only.
@@ -17,19 +18,22 @@ import math
 from collections.abc import Mapping, Sequence
 
 from cvfit.errors import CvfitError
-from cvfit.fit.curve_global import GlobalCurveFit, GlobalFile, fit_global, fit_global_lingane
-from cvfit.fit.curve_global_stepwise import stepwise_tie
-from cvfit.fit.curve_model import CurveModel
-from cvfit.fit.lingane import LinganeFit
-from cvfit.fit.stepwise import StepwiseFit
 from cvfit.flags import Flag
-from cvfit.io import read_voltammogram
+from cvfit.io import read_voltammogram, resistance_for
+from cvfit.pipeline.results import FileResult, ReferenceHalfWave
+from cvfit.techniques.cv.curve.global_fit import (
+    GlobalCurveFit,
+    GlobalFile,
+    fit_global,
+    fit_global_lingane,
+)
+from cvfit.techniques.cv.curve.global_stepwise import stepwise_tie
+from cvfit.techniques.cv.curve.model import CurveModel
+from cvfit.techniques.cv.curve.stage import record_curve_data
+from cvfit.titration.lingane import LinganeFit
+from cvfit.titration.stepwise import StepwiseFit
 from cvfit.units import thermal_voltage
 from cvfit.voltammogram import Voltammogram
-
-from .curve_stage import record_curve_data
-from .per_file import resistance_for
-from .results import FileResult, ReferenceHalfWave
 
 __all__ = ["run_global"]
 
@@ -96,11 +100,11 @@ def run_global(
             v = (records or {}).get(f.file) or read_voltammogram(
                 e.file, e.import_options, scan_rate_V_s=e.scan_rate_V_s
             )
-            data = record_curve_data(v, f.peaks, series)
+            data = record_curve_data(v, f.measurement.peaks, series)
             D_sim = series.diffusion_cm2_s or 1e-5
             model = CurveModel(data, D_sim)
             R = resistance_for(e, series)
-            cf = f.curve_fit
+            cf = f.measurement.curve_fit
             refit_R = R is None and cf is not None and cf.resistance_ohm is not None
             if refit_R:
                 R = cf.resistance_ohm.value

@@ -22,11 +22,10 @@ from collections.abc import Sequence
 from dataclasses import replace
 
 from cvfit.chemistry.speciation import BOUND_LIGAND_SHARE_MAX
-from cvfit.fit.lingane import LinganeFit, TitrationPoint, fit_lingane
 from cvfit.flags import FitRefused, Flag
 from cvfit.io import Manifest
-
-from .results import FileResult, ReferenceHalfWave
+from cvfit.pipeline.results import FileResult, ReferenceHalfWave
+from cvfit.titration.lingane import LinganeFit, TitrationPoint, fit_lingane
 
 __all__ = ["run_lingane"]
 _MAX_ROUNDS = 50
@@ -58,7 +57,7 @@ def run_lingane(
     if metal is None or isinstance(fit, FitRefused):
         return fit, files
     given = manifest.series.bound_ligand_number
-    bulk_red = {f.file for f in files if f.peaks.first_sweep == "oxidation"}
+    bulk_red = {f.file for f in files if f.measurement.bulk_form == "red"}
 
     def bound(label: str, p: float) -> float:
         if given is not None:
@@ -104,7 +103,7 @@ def run_lingane(
             continue
         n = bound(f.file, p_fit)
         share = n * metal / f.ligand_M
-        flags = list(f.flags)
+        flags: list[Flag] = []
         if share > BOUND_LIGAND_SHARE_MAX:
             flags.append(
                 Flag(
@@ -126,5 +125,5 @@ def run_lingane(
                     f"({noise}); fitted at the free ligand {pt.ligand_M:.4g} M",
                 )
             )
-        out.append(replace(f, free_ligand_M=pt.ligand_M, flags=tuple(flags)))
+        out.append(replace(f, free_ligand_M=pt.ligand_M, series_flags=(*f.series_flags, *flags)))
     return fit, out

@@ -7,27 +7,25 @@ missing values become ``null``).
 
 from __future__ import annotations
 
-from collections.abc import Mapping
 from dataclasses import asdict, dataclass, field, fields
 from typing import TYPE_CHECKING, Any, Literal, TypeAlias
 
-from cvfit.fit.lingane import LinganeFit, null_fit_dict
-from cvfit.fit.stepwise_result import StepwiseFit, null_stepwise_dict
 from cvfit.flags import Flag
+from cvfit.io.notes import ImportedFile
 from cvfit.quantity import clean_number
 from cvfit.reversibility_criteria import ReversibilityCriteria
+from cvfit.techniques.base import StandardMeasurement
+from cvfit.titration.lingane import LinganeFit, null_fit_dict
+from cvfit.titration.stepwise_result import StepwiseFit, null_stepwise_dict
+
+from .half_wave import HalfWaveDecision
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
-    from cvfit.fit.curve_fit import CurveFit
-    from cvfit.fit.curve_global import GlobalCurveFit
     from cvfit.io.manifest import SeriesSettings
-    from cvfit.peaks.analysis import PeakAnalysis
-    from cvfit.screen.classification import Classification
-    from cvfit.screen.kinetics import KineticsResult
-    from cvfit.screen.reversibility import ReversibilityScreen
-    from cvfit.screen.scan_rate import ScanRateStudy
-
-    from .curves import CycleCurve
+    from cvfit.techniques.curves import CycleCurve
+    from cvfit.techniques.cv.curve.global_fit import GlobalCurveFit
+    from cvfit.techniques.cv.measurement import CVMeasurement
+    from cvfit.techniques.cv.screen.scan_rate import ScanRateStudy
 
 __all__ = [
     "FileResult",
@@ -48,44 +46,18 @@ TitrationFit: TypeAlias = LinganeFit | StepwiseFit
 _NULL_FIT_DICT = {"lingane": null_fit_dict, "stepwise": null_stepwise_dict}
 
 
-@dataclass(frozen=True)
-class InternalStandardResult:
-    """The internal reference couple as measured in one voltammogram.
-
-    Attributes
-    ----------
-    E_half_V : float or None
-        The standard's E½ on the electrode's scale, V (switching-corrected when it passed
-        its screen); its changes along the series are the drift of the reference electrode.
-    E_half_stderr_V : float or None
-        Its standard error from the file's noise, V.
-    reversible : bool or None
-        Verdict of the standard's own reversibility screen (its n, its window).
-    delta_Ep_V : float or None
-        Its peak separation, V.
-    flags : tuple of Flag
-        Findings of its peak analysis and screen.
-    """
-
-    E_half_V: float | None
-    E_half_stderr_V: float | None
-    reversible: bool | None
-    delta_Ep_V: float | None = None
-    flags: tuple[Flag, ...] = ()
-
-    def to_dict(self) -> dict[str, Any]:
-        return {
-            "E_half_V": clean_number(self.E_half_V),
-            "E_half_stderr_V": clean_number(self.E_half_stderr_V),
-            "reversible": self.reversible,
-            "delta_Ep_V": clean_number(self.delta_Ep_V),
-            "flags": [f.to_dict() for f in self.flags],
-        }
+#: The internal reference couple as measured in one file (defined with the techniques).
+InternalStandardResult = StandardMeasurement
 
 
 @dataclass(frozen=True)
 class FileResult:
-    """Everything found for one voltammogram of the series.
+    """Everything found for one file of the series.
+
+    The generic fields — which solution, the E½ the file contributes and whether it was
+    fitted — sit beside the technique's own :attr:`measurement` (for cyclic voltammetry a
+    :class:`~cvfit.techniques.cv.measurement.CVMeasurement`: peaks, screen, curve fit,
+    kinetics). The E½ is made in one place only, :func:`cvfit.pipeline.half_wave.decide_half_wave`.
 
     Attributes
     ----------
@@ -97,129 +69,108 @@ class FileResult:
         Free ligand concentration used in the fit, mol/L.
     scan_rate_V_s : float or None
         Scan rate, V/s (manifest, else from the time column).
-    peaks : PeakAnalysis
-        Peak positions and heights.
-    screen : ReversibilityScreen
-        Outcome of the reversibility screen.
+    measurement : Measurement
+        What the technique found in the file.
+    half_wave : HalfWaveDecision
+        The E½ the file contributes, its standard error, where it came from and whether a
+        fit may take it.
     used_in_fit : bool
         Whether the point entered the titration fit.
-    flags : tuple of Flag
-        Findings of the peak analysis, the screen and the pipeline.
+    series_flags : tuple of Flag
+        What the series-level steps found for this file (exclusion, bound ligand ...);
+        :attr:`flags` adds them to the technique's and the decision's.
     curve : CycleCurve or None
-        The analysed cycle, thinned for figures (not written to results.json); the
-        whole record is not kept, so a large series stays small in memory and results
-        made in worker processes travel back cheaply.
+        The analysed part of the record, thinned for figures (not written to
+        results.json); the whole record is not kept, so a large series stays small in
+        memory and results made in worker processes travel back cheaply.
     label : str or None
         Optional label from the manifest.
-    E_half_V : float or None
-        E½ used downstream, V: the peak midpoint less the switching correction for a
-        voltammogram that passed the screen (see :mod:`cvfit.screen.switching`), else the midpoint.
-    switching_correction_V : float
-        The correction applied, V (0 when none).
-    classification : Classification or None
-        Class of the electron transfer (reversible, quasi-reversible, ...) and why.
-    kinetics : KineticsResult or None
-        Nicholson's ψ and k0, or why they are not determinable.
     resistance_ohm : float or None
         R_u the potentials were corrected with, Ω.
-    internal_standard : InternalStandardResult or None
-        The reference couple measured in the same file, when the manifest has an
-        ``[internal_standard]``: ``E_half_V`` is then the analyte's E½ against it (plus the
-        value assigned to the standard).
-    curve_fit : CurveFit or None
-        The fit of the whole curve, when one was made (see :mod:`cvfit.pipeline.curve_stage`).
-    E_half_source : {"peaks", "curve"}
-        Where ``E_half_V`` comes from: the peak midpoint or the accepted curve fit.
-    imported_columns : mapping of str to str, or None
-        The columns read from the file and their units
-        (:func:`cvfit.io.notes.imported_columns`); None for a record not read from a file.
+    imported : ImportedFile or None
+        The columns read from the file and the importer's flags
+        (:func:`cvfit.io.notes.imported_file`); None for a record not read from a file.
     """
 
     file: str
     ligand_M: float
     free_ligand_M: float
     scan_rate_V_s: float | None
-    peaks: PeakAnalysis
-    screen: ReversibilityScreen
-    used_in_fit: bool
-    flags: tuple[Flag, ...]
+    measurement: CVMeasurement
+    half_wave: HalfWaveDecision
+    used_in_fit: bool = False
+    series_flags: tuple[Flag, ...] = ()
     curve: CycleCurve | None = field(default=None, repr=False, compare=False)
     label: str | None = None
-    E_half_V: float | None = None
-    switching_correction_V: float = 0.0
-    classification: Classification | None = None
-    kinetics: KineticsResult | None = None
     resistance_ohm: float | None = None
-    internal_standard: InternalStandardResult | None = None
-    curve_fit: CurveFit | None = field(default=None, compare=False)
-    E_half_source: Literal["peaks", "curve"] = "peaks"
-    imported_columns: Mapping[str, str] | None = field(default=None, compare=False)
+    imported: ImportedFile | None = field(default=None, compare=False)
+
+    @property
+    def flags(self) -> tuple[Flag, ...]:
+        """Every finding for this file: the importer's, the technique's, the decision's,
+        the series'."""
+        read = self.imported.flags if self.imported is not None else ()
+        return (*read, *self.measurement.flags, *self.half_wave.flags, *self.series_flags)
+
+    @property
+    def imported_columns(self) -> dict[str, str] | None:
+        """The columns read from the file and their units (None when not read from one)."""
+        return self.imported.columns if self.imported is not None else None
 
     @property
     def reversible(self) -> bool | None:
-        return self.screen.reversible
+        """The technique's Nernstian verdict."""
+        return self.measurement.reversible
+
+    @property
+    def E_half_V(self) -> float | None:
+        """The E½ the file contributes, V (see :attr:`half_wave`)."""
+        return self.half_wave.E_half_V
+
+    @property
+    def E_half_source(self) -> str:
+        return self.half_wave.source
+
+    @property
+    def switching_correction_V(self) -> float:
+        return self.half_wave.correction_V
 
     @property
     def E_half_stderr_V(self) -> float | None:
-        """Standard error of ``E_half_V``: of the curve fit or of the peak analysis, V."""
-        if self.E_half_source == "curve" and self.curve_fit is not None:
-            return self.curve_fit.E_half_V.stderr
-        return self.peaks.E_half_stderr_V
+        """Standard error of the technique's E½ alone, V."""
+        return self.half_wave.own_stderr_V
 
     @property
     def E_half_total_stderr_V(self) -> float | None:
-        """Standard error of ``E_half_V`` as fitted: its own (:attr:`E_half_stderr_V`), with an
-        internal standard that of the standard's E½ added in quadrature (None when either
-        is unknown)."""
-        own = self.E_half_stderr_V
-        std = self.internal_standard
-        if std is None or own is None:
-            return own
-        if std.E_half_stderr_V is None:
-            return None
-        return float((own * own + std.E_half_stderr_V**2) ** 0.5)
+        """Standard error of ``E_half_V`` as fitted (with an internal standard, the
+        standard's added in quadrature), V."""
+        return self.half_wave.stderr_V
+
+    @property
+    def internal_standard(self) -> StandardMeasurement | None:
+        return self.measurement.standard
 
     def to_dict(self) -> dict[str, Any]:
-        p = self.peaks
+        own = self.measurement.to_dict()
         return {
             "file": self.file,
             "label": self.label,
             "ligand_M": clean_number(self.ligand_M),
             "free_ligand_M": clean_number(self.free_ligand_M),
             "scan_rate_V_s": clean_number(self.scan_rate_V_s),
-            "cycle": p.cycle_number,
-            "first_sweep": p.first_sweep,
-            "switching_potential_V": clean_number(p.switching_potential_V),
-            "Epc_V": clean_number(p.Epc_V),
-            "Epa_V": clean_number(p.Epa_V),
+            **own,
+            "technique": self.measurement.technique,
             "E_half_V": clean_number(self.E_half_V),
             "E_half_stderr_V": clean_number(self.E_half_total_stderr_V),
             "E_half_source": self.E_half_source,
-            "E_half_midpoint_V": clean_number(p.E_half_V),
             "switching_correction_V": clean_number(self.switching_correction_V),
-            "delta_Ep_V": clean_number(p.delta_Ep_V),
-            "expected_delta_Ep_V": clean_number(self.screen.expected_delta_Ep_V),
-            "Ep_half_c_V": clean_number(p.Ep_half_c_V),
-            "Ep_half_a_V": clean_number(p.Ep_half_a_V),
-            "ipc_A": clean_number(p.ipc_A),
-            "ipa_A": clean_number(p.ipa_A),
-            "current_ratio": clean_number(p.current_ratio),
-            "noise_A": clean_number(p.noise_A),
-            "reversible": self.screen.reversible,
             "used_in_fit": self.used_in_fit,
-            "curve_fit": None if self.curve_fit is None else self.curve_fit.to_dict(),
-            "classification": None
-            if self.classification is None
-            else self.classification.to_dict(),
-            "kinetics": None if self.kinetics is None else self.kinetics.to_dict(),
             "resistance_ohm": clean_number(self.resistance_ohm),
             "internal_standard": None
             if self.internal_standard is None
             else self.internal_standard.to_dict(),
             "flags": [f.to_dict() for f in self.flags],
-            "imported_columns": None
-            if self.imported_columns is None
-            else dict(self.imported_columns),
+            "imported_columns": self.imported_columns,
         }
 
 

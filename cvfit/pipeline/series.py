@@ -14,19 +14,25 @@ from pathlib import Path
 import numpy as np
 
 from cvfit.errors import InputError
-from cvfit.fit.error_budget import reference_mean
-from cvfit.fit.lingane import MIN_POINTS as MIN_FIT_POINTS
-from cvfit.fit.lingane import TitrationPoint, check_points
 from cvfit.flags import FitRefused, Flag
 from cvfit.io import Manifest, load_manifest
+from cvfit.pipeline.global_stage import run_global
+from cvfit.pipeline.lingane_stage import run_lingane
+from cvfit.pipeline.per_file import analyse_files, read_entry, with_measurement
+from cvfit.pipeline.results import (
+    FileResult,
+    ReferenceHalfWave,
+    SeriesConditions,
+    SeriesResult,
+    TitrationFit,
+)
+from cvfit.techniques import technique_of
+from cvfit.techniques.base import StudyItem
+from cvfit.titration.error_budget import reference_mean
+from cvfit.titration.lingane import MIN_POINTS as MIN_FIT_POINTS
+from cvfit.titration.lingane import TitrationPoint, check_points
 from cvfit.version import __version__
 from cvfit.voltammogram import Voltammogram
-
-from .global_stage import run_global
-from .lingane_stage import run_lingane
-from .per_file import analyse_files, curve_fit_failed_by_study
-from .results import FileResult, ReferenceHalfWave, SeriesConditions, SeriesResult, TitrationFit
-from .series_screen import diagnose_files
 
 __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS"]
 
@@ -37,9 +43,10 @@ def analyse_manifest_file(path: str | Path, *, jobs: int = 1) -> SeriesResult:
 
 
 def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
-    """E½(s): mean of the usable ligand-free files, else the manifest value."""
+    """E½(s): mean of the ligand-free files whose E½ the decision accepted, else the
+    manifest value."""
     free = [f for f in files if f.ligand_M == 0.0]
-    usable = [f for f in free if f.E_half_V is not None]
+    usable = [f for f in free if f.half_wave.accepted]
     if usable:
         values = np.array([f.E_half_V for f in usable], dtype=float)
         errs = np.array(
@@ -73,6 +80,43 @@ def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalf
     )
 
 
+def _study(
+    files: list[FileResult], manifest: Manifest, records: Mapping[str, Voltammogram] | None
+) -> tuple[list[FileResult], tuple, tuple[Flag, ...]]:
+    """The technique's series-level study; every file's E½ is decided again after it."""
+    entries = manifest.voltammograms
+    records = records or {}
+
+    def reread(k: int) -> Voltammogram:
+        return records.get(entries[k].name) or read_entry(entries[k])
+
+    items = [StudyItem(f.file, f.ligand_M, f.scan_rate_V_s, f.measurement) for f in files]
+    study = technique_of(manifest).study_series(items, manifest, reread)
+    out = [
+        with_measurement(f, m, manifest) for f, m in zip(files, study.measurements, strict=True)
+    ]
+    return out, study.studies, study.flags
+
+
+def _no_reference(reference: ReferenceHalfWave, files: Sequence[FileResult]) -> Flag:
+    """Why E½(s) is missing, and what to do about it."""
+    free = {f.file: f for f in files if f.file in reference.files}
+    measured = [name for name, f in free.items() if f.E_half_V is not None]
+    if measured:
+        why = "; ".join(f"{name}: {free[name].half_wave.why}" for name in measured)
+        text = (
+            f"no ligand-free E½ was accepted ({why}); record the ligand-free solution again, "
+            "give E_half_free_V in [series], or set exclude_non_nernstian = false in [fit] "
+            "to use it all the same"
+        )
+    else:
+        text = (
+            f"E½ of the ligand-free couple could not be measured ({', '.join(reference.files)}); "
+            "record the ligand-free solution again or give E_half_free_V in [series]"
+        )
+    return Flag("NO_REFERENCE_E_HALF", text, "error")
+
+
 def _fit_titration(
     points: Sequence[TitrationPoint],
     files: list[FileResult],
@@ -88,21 +132,52 @@ def _fit_titration(
     checks = check_points(points)
     why: list[Flag] = []
     if reference.E_half_V is None:
-        why.append(
-            Flag(
-                "NO_REFERENCE_E_HALF",
-                "E½ of the ligand-free couple could not be measured "
-                f"({', '.join(reference.files)}); give E_half_free_V in [series]",
-                "error",
-            )
-        )
+        why.append(_no_reference(reference, files))
     if why or any(f.severity == "error" for f in checks):
         return FitRefused((*why, *checks)), files
     if manifest.fit.model == "stepwise":
-        from .stepwise_stage import run_stepwise
+        from cvfit.pipeline.stepwise_stage import run_stepwise
 
         return run_stepwise(files, manifest, reference)
     return run_lingane(points, files, manifest, reference)
+
+
+def _reference_flags(reference: ReferenceHalfWave, files: Sequence[FileResult]) -> list[Flag]:
+    """What the series must say about E½(s): the files it rests on and those it left out."""
+    out: list[Flag] = []
+    if reference.E_half_V is None:
+        return out
+    from_files = reference.source == "file"
+    used = [f for f in files if from_files and f.file in reference.files]
+    doubtful = [f.file for f in used if f.half_wave.kind not in ("nernstian", "kinetic_model")]
+    if doubtful:
+        out.append(
+            Flag(
+                "REFERENCE_NOT_NERNSTIAN",
+                "E½(s) rests on ligand-free voltammograms that failed the reversibility "
+                f"screen ({', '.join(doubtful)}); it may bias every shift",
+            )
+        )
+    left_out = [f.file for f in files if f.ligand_M == 0.0 and not f.half_wave.accepted]
+    if left_out and from_files:
+        out.append(
+            Flag(
+                "REFERENCE_FILES_LEFT_OUT",
+                f"ligand-free file(s) left out of E½(s): {', '.join(left_out)} "
+                "(their E½ was not accepted; see their flags)",
+                "info",
+            )
+        )
+    if reference.stderr_V is None:
+        out.append(
+            Flag(
+                "REFERENCE_UNCERTAINTY_UNKNOWN",
+                "no standard error for E½(s) (give E_half_free_stderr_V); the fit gives the "
+                "reference the scatter of the titration points instead",
+                "info",
+            )
+        )
+    return out
 
 
 def analyse_series(
@@ -143,9 +218,7 @@ def analyse_series(
             key="voltammogram",
         )
     files = analyse_files(manifest, records=dict(records or {}), jobs=jobs, progress=progress)
-    own_verdicts = [f.reversible for f in files]
-    files, studies, study_flags = diagnose_files(files, manifest)
-    files = curve_fit_failed_by_study(files, own_verdicts, manifest, records)
+    files, studies, study_flags = _study(files, manifest, records)
     reference = _reference(files, manifest)
     exclude = manifest.fit.exclude_non_nernstian
     series_flags: list[Flag] = list(study_flags)
@@ -154,24 +227,14 @@ def analyse_series(
     points: list[TitrationPoint] = []
     excluded: list[str] = []
     for f in files:
-        usable = f.free_ligand_M > 0 and f.E_half_V is not None
-        flags = list(f.flags)
-        if usable and exclude and f.reversible is not True and f.E_half_source != "curve":
-            usable = False
+        usable = f.free_ligand_M > 0 and f.half_wave.accepted
+        if f.free_ligand_M > 0 and not f.half_wave.accepted and f.E_half_V is not None:
             excluded.append(f.file)
-            flags.append(
-                Flag(
-                    "EXCLUDED_NON_NERNSTIAN",
-                    "left out of the fit because it failed the reversibility screen "
-                    "(set exclude_non_nernstian = false in [fit] to include it)",
-                    "info",
-                )
-            )
         if usable:
             points.append(
                 TitrationPoint(f.file, f.free_ligand_M, f.E_half_V, f.E_half_total_stderr_V)
             )
-        final.append(replace(f, used_in_fit=usable, flags=tuple(flags)))
+        final.append(replace(f, used_in_fit=usable))
 
     nernstian = all(f.reversible is True for f in final)
     if excluded:
@@ -191,29 +254,7 @@ def analyse_series(
                 f"failed the reversibility screen ({', '.join(bad)}); treat them with caution",
             )
         )
-    ref_ok = reference.E_half_V is not None
-    if (
-        ref_ok
-        and reference.source == "file"
-        and exclude
-        and any(f.reversible is not True for f in final if f.file in reference.files)
-    ):
-        series_flags.append(
-            Flag(
-                "REFERENCE_NOT_NERNSTIAN",
-                "the ligand-free voltammogram failed the reversibility screen; its E½ is "
-                "used as E½(s) all the same, which may bias every shift",
-            )
-        )
-    if ref_ok and reference.stderr_V is None:
-        series_flags.append(
-            Flag(
-                "REFERENCE_UNCERTAINTY_UNKNOWN",
-                "no standard error for E½(s) (give E_half_free_stderr_V); the fit gives the "
-                "reference the scatter of the titration points instead",
-                "info",
-            )
-        )
+    series_flags += _reference_flags(reference, final)
 
     outcome, final = _fit_titration(points, final, manifest, reference)
     fit = None

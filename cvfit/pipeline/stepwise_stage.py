@@ -1,7 +1,7 @@
 """Pipeline step of the stepwise model: file results → stepwise fit → corrected free ligand.
 
 Composition only: the DeFord–Hume current ratio from the files' peak currents, the
-solution chemistry from the manifest, and the fit of :mod:`cvfit.fit.stepwise`.
+solution chemistry from the manifest, and the fit of :mod:`cvfit.titration.stepwise`.
 """
 
 from __future__ import annotations
@@ -14,31 +14,25 @@ import numpy as np
 
 from cvfit.chemistry.speciation import BOUND_LIGAND_SHARE_MAX
 from cvfit.errors import InputError
-from cvfit.fit.stepwise import (
+from cvfit.flags import FitRefused, Flag
+from cvfit.io import Manifest
+from cvfit.pipeline.results import FileResult, ReferenceHalfWave
+from cvfit.titration.stepwise import (
     SolutionConditions,
     StepwiseFit,
     StepwisePoint,
     fit_stepwise,
 )
-from cvfit.flags import FitRefused, Flag
-from cvfit.io import Manifest
-
-from .results import FileResult, ReferenceHalfWave
 
 __all__ = ["run_stepwise", "current_ratios"]
 
 
 def _peak_per_root_v(f: FileResult) -> float | None:
-    """|ipc|/√v (v^½ normalises the Randles–Ševčík peak current), or |ipc| if v is unknown.
-
-    A file whose E½ comes from the curve fit gives the diffusion-limited peak of its fitted
-    current scale instead: slow transfer lowers the measured peak, not the diffusion.
-    """
-    if f.peaks.ipc_A is None or f.peaks.first_sweep != "reduction":
+    """The diffusion current over √v (v^½ normalises the Randles–Ševčík peak current), or the
+    current itself if v is unknown; None when the technique gives none."""
+    ip = f.measurement.diffusion_current_A
+    if ip is None:
         return None
-    ip = abs(f.peaks.ipc_A)
-    if f.E_half_source == "curve" and f.curve_fit is not None:
-        ip = f.curve_fit.reversible_peak_A
     v = f.scan_rate_V_s
     return ip / (math.sqrt(v) if v else 1.0)
 
@@ -141,7 +135,7 @@ def run_stepwise(
             f.E_half_total_stderr_V,
             r,
             entries[f.file].pH,
-            bulk_form="red" if f.peaks.first_sweep == "oxidation" else "ox",
+            bulk_form=f.measurement.bulk_form,
         )
         for f, r in zip(used, ratios, strict=True)
     ]
@@ -173,7 +167,7 @@ def run_stepwise(
     alpha = dict(zip(fit.labels, fit.log10_alpha_L, strict=True))
     out = []
     for f in files:
-        new_flags = list(f.flags)
+        new_flags: list[Flag] = []
         if f.file in free:
             share = 1.0 - free[f.file] / (10.0 ** alpha[f.file] * f.ligand_M)
             if share > BOUND_LIGAND_SHARE_MAX:
@@ -187,6 +181,10 @@ def run_stepwise(
                     )
                 )
         out.append(
-            replace(f, free_ligand_M=free.get(f.file, f.free_ligand_M), flags=tuple(new_flags))
+            replace(
+                f,
+                free_ligand_M=free.get(f.file, f.free_ligand_M),
+                series_flags=(*f.series_flags, *new_flags),
+            )
         )
     return fit, out

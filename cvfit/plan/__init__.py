@@ -9,8 +9,8 @@ written by :mod:`cvfit.plan.figure`, :mod:`cvfit.plan.html` and
 
 from __future__ import annotations
 
-from .inputs import PlanInput, load_plan
-from .planner import make_plan
-from .result import DesignAssessment, PlanResult, PlanWarning
+from cvfit.plan.inputs import PlanInput, load_plan
+from cvfit.plan.planner import make_plan
+from cvfit.plan.result import DesignAssessment, PlanResult, PlanWarning
 
 __all__ = ["PlanInput", "load_plan", "make_plan", "PlanResult", "DesignAssessment", "PlanWarning"]

@@ -34,7 +34,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from .information import ModelSpec, covariance_from_sums, jacobian_rows, reference_row
+from cvfit.plan.information import ModelSpec, covariance_from_sums, jacobian_rows, reference_row
 
 __all__ = [
     "scenarios",

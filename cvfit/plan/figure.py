@@ -16,10 +16,9 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from cvfit.chemistry.speciation import species_fractions
-
-from .information import free_ligand
-from .planner import spec_of
-from .result import PlanResult
+from cvfit.plan.information import free_ligand
+from cvfit.plan.planner import spec_of
+from cvfit.plan.result import PlanResult
 
 __all__ = ["plan_figure", "DESIGN_STYLE"]
 

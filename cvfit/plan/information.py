@@ -4,8 +4,8 @@ The observations are the E½ of every planned solution plus the ligand-free refe
 E½(s), all with the same per-file standard error σ. The parameters are E½(s) and the
 constants the fit reports: (log10 β_ox/β_red, p − q) for the Lingane line, log10 β_1 … β_N
 of the fitted form for the stepwise model. Rows of the weighted Jacobian come from the
-project's own model functions: :class:`cvfit.fit.stepwise_least_squares.StepwiseData`
-(the stepwise fit's model and Jacobian) and the line of :mod:`cvfit.fit.lingane`.
+project's own model functions: :class:`cvfit.titration.stepwise_least_squares.StepwiseData`
+(the stepwise fit's model and Jacobian) and the line of :mod:`cvfit.titration.lingane`.
 
 Without bound ligand the covariance is the inverse Fisher information σ²(JᵀJ)⁻¹. With
 ``metal_total_M`` both fits use the free ligand [L](θ) from the mass balance with the
@@ -32,7 +32,7 @@ import numpy as np
 
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import free_ligand_M, mean_ligand_number, species_fractions
-from cvfit.fit.stepwise_least_squares import StepwiseData
+from cvfit.titration.stepwise_least_squares import StepwiseData
 from cvfit.units import nernst_slope_V_per_decade, thermal_voltage
 
 __all__ = ["ModelSpec", "free_ligand", "jacobian_rows", "covariance_from_sums"]

@@ -19,12 +19,11 @@ from cvfit.chemistry.speciation import (
     fraction_peak_ligand_M,
     mean_ligand_number,
 )
-
-from .design import exchange_design, log_spaced, scenarios, stretched_design
-from .information import ModelSpec, constants_covariance, free_ligand, reference_row
-from .information import jacobian_rows as _rows
-from .inputs import PlanInput
-from .result import DesignAssessment, PlanResult, PlanWarning
+from cvfit.plan.design import exchange_design, log_spaced, scenarios, stretched_design
+from cvfit.plan.information import ModelSpec, constants_covariance, free_ligand, reference_row
+from cvfit.plan.information import jacobian_rows as _rows
+from cvfit.plan.inputs import PlanInput
+from cvfit.plan.result import DesignAssessment, PlanResult, PlanWarning
 
 __all__ = ["make_plan", "spec_of", "assess", "MAX_POINTS_SEARCHED", "IMPRECISE_LOG10"]
 
@@ -56,8 +55,8 @@ def _stderrs(
 
 
 def _criterion(spec, theta, c, interest, kind) -> float:
-    from .design import criterion_values
-    from .information import covariance_from_sums
+    from cvfit.plan.design import criterion_values
+    from cvfit.plan.information import covariance_from_sums
 
     J, Jt = _rows(spec, theta, c)
     r = reference_row(theta.size)

@@ -6,10 +6,9 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
+from cvfit.plan.inputs import PlanInput
 from cvfit.quantity import clean_number
 from cvfit.version import __version__
-
-from .inputs import PlanInput
 
 __all__ = ["DesignAssessment", "PlanWarning", "PlanResult", "WARNING_KINDS"]
 

@@ -15,11 +15,10 @@ from pathlib import Path
 import numpy as np
 
 from cvfit.chemistry.complexation import complexed_half_wave_V
+from cvfit.plan.information import free_ligand
+from cvfit.plan.planner import spec_of
+from cvfit.plan.result import PlanResult
 from cvfit.simulate.titration_series import simulate_series
-
-from .information import free_ligand
-from .planner import spec_of
-from .result import PlanResult
 
 __all__ = ["simulate_plan", "SIMULATION_MARGIN_V", "LINGANE_LOWER_LOG10_BETA"]
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-from .result import PlanResult
+from cvfit.plan.result import PlanResult
 
 __all__ = ["plan_table"]
 

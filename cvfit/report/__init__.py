@@ -17,12 +17,11 @@ from pathlib import Path
 
 from cvfit.errors import InputError, OutputError
 from cvfit.pipeline.results import SeriesResult
-
-from .atomic import atomic_write_text, output_set
-from .file_table import write_file_table
-from .output_names import OUTPUT_NAMES, is_output_name
-from .results_json import results_to_json, write_results_json
-from .summary import format_summary
+from cvfit.report.atomic import atomic_write_text, output_set
+from cvfit.report.file_table import write_file_table
+from cvfit.report.output_names import OUTPUT_NAMES, is_output_name
+from cvfit.report.results_json import results_to_json, write_results_json
+from cvfit.report.summary import format_summary
 
 __all__ = [
     "OUTPUT_NAMES",
@@ -133,8 +132,8 @@ def _write_set(
     result: SeriesResult, out: Path, simulated_with: Sequence[str] = ()
 ) -> dict[str, Path]:
     """Every output of *result* into the empty folder *out*; results.json last."""
-    from .figures.diagnostics import plot_diagnostics
-    from .figures.titration import plot_lingane, plot_voltammograms
+    from cvfit.report.figures.diagnostics import plot_diagnostics
+    from cvfit.report.figures.titration import plot_lingane, plot_voltammograms
 
     json_text = results_to_json(result)
     written: dict[str, Path] = {
@@ -144,7 +143,7 @@ def _write_set(
         ),
         "diagnostics_figure": plot_diagnostics(result, out / OUTPUT_NAMES["diagnostics_figure"]),
     }
-    from .figures.curve_fits import CURVE_FITS_FIGURE, plot_curve_fits
+    from cvfit.report.figures.curve_fits import CURVE_FITS_FIGURE, plot_curve_fits
 
     # only when some file was curve-fitted
     curve_fits = plot_curve_fits(result, out / CURVE_FITS_FIGURE)
@@ -154,15 +153,15 @@ def _write_set(
     if result.series.model == "lingane":
         written["lingane_figure"] = plot_lingane(result, out / OUTPUT_NAMES["lingane_figure"])
     else:
-        from .figures.stepwise import write_stepwise_figures
+        from cvfit.report.figures.stepwise import write_stepwise_figures
 
         written.update(write_stepwise_figures(result, out))
     if any(f.internal_standard is not None for f in result.files):
-        from .figures.internal_standard import FILE_NAME, plot_internal_standard
+        from cvfit.report.figures.internal_standard import FILE_NAME, plot_internal_standard
 
         written["internal_standard_figure"] = plot_internal_standard(result, out / FILE_NAME)
     # The HTML page embeds every figure written above; keep it after them.
-    from .html import write_html_report
+    from cvfit.report.html import write_html_report
 
     figures = [p for p in written.values() if p.suffix.lower() == ".png"]
     written["html_report"] = write_html_report(

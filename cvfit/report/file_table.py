@@ -7,8 +7,7 @@ from pathlib import Path
 from typing import IO
 
 from cvfit.pipeline.results import SeriesResult
-
-from .atomic import atomic_write_with
+from cvfit.report.atomic import atomic_write_with
 
 __all__ = ["TABLE_COLUMNS", "write_file_table"]
 

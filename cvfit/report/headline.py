@@ -12,7 +12,7 @@ import math
 from collections.abc import Mapping, Sequence
 from typing import Any
 
-from .formatting import format_pm
+from cvfit.report.formatting import format_pm
 
 __all__ = [
     "headline_lines",

@@ -22,14 +22,13 @@ from typing import Any
 
 from cvfit.flag_codes import FLAG_CODES
 from cvfit.pipeline.results import SeriesResult
-
-from .atomic import atomic_write_text
-from .formatting import format_pm, format_value
-from .global_fit_html import global_fit_section
-from .headline import headline_lines
-from .html_sections import error_budget_section, internal_standard_section
-from .imported_columns import columns_html
-from .methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
+from cvfit.report.atomic import atomic_write_text
+from cvfit.report.formatting import format_pm, format_value
+from cvfit.report.global_fit_html import global_fit_section
+from cvfit.report.headline import headline_lines
+from cvfit.report.html_sections import error_budget_section, internal_standard_section
+from cvfit.report.imported_columns import columns_html
+from cvfit.report.methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
 
 __all__ = ["render_html", "write_html_report", "FIGURE_CAPTIONS"]
 

@@ -11,7 +11,7 @@ from __future__ import annotations
 __all__ = ["BASELINE_SENTENCE", "METHOD_STEPS", "STEPWISE_STEP", "ASSUMPTIONS", "CAUTIONS"]
 
 #: How the peaks are measured, in one sentence: the report, the README and docs/methods.md
-#: say exactly this (see :mod:`cvfit.peaks.analysis` for the method in full).
+#: say exactly this (see :mod:`cvfit.techniques.cv.peaks.analysis` for the method in full).
 BASELINE_SENTENCE = (
     "The forward peak is measured against a baseline made of a straight line (charging "
     "current and sloping background) plus the exponential foot of the wave itself, fitted "
@@ -43,7 +43,7 @@ METHOD_STEPS: tuple[tuple[str, str, tuple[str, ...]], ...] = (
         "ΔEp is compared with the Nernstian value for the actual switching potential, "
         "|Ep − Ep/2| with 2.20 RT/nF and ipa/ipc with 1. The margins are settings of the "
         "manifest (the defaults are common practice, not a standard) and scale with n and T. "
-        "A voltammogram that fails is reported; by default (half_wave_source = \"auto\") a "
+        'A voltammogram that fails is reported; by default (half_wave_source = "auto") a '
         "quasi-reversible one is fitted as a whole curve, with the simulator (Butler–Volmer "
         "kinetics, charging, background, ohmic drop) as the model, and rejoins the fit with "
         "that E½ and its own standard error; irreversible files and refused curve fits are "

@@ -8,8 +8,7 @@ from pathlib import Path
 from typing import Any, Literal
 
 from cvfit.pipeline.results import SeriesResult
-
-from .atomic import atomic_write_text
+from cvfit.report.atomic import atomic_write_text
 
 __all__ = ["load_schema", "results_to_json", "write_results_json"]
 

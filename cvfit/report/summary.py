@@ -3,14 +3,13 @@
 from __future__ import annotations
 
 from cvfit.errors import printable
-from cvfit.fit.lingane import LinganeFit
-from cvfit.fit.stepwise_result import StepwiseFit
 from cvfit.pipeline.results import SeriesResult
 from cvfit.quantity import Quantity
-
-from .formatting import format_pm, format_value
-from .headline import headline_lines
-from .imported_columns import columns_lines
+from cvfit.report.formatting import format_pm, format_value
+from cvfit.report.headline import headline_lines
+from cvfit.report.imported_columns import columns_lines
+from cvfit.titration.lingane import LinganeFit
+from cvfit.titration.stepwise_result import StepwiseFit
 
 __all__ = ["format_summary"]
 
@@ -53,29 +52,29 @@ def format_summary(result: SeriesResult) -> str:
     lines.append(header)
     lines.append("-" * len(header))
     for f, e_half in zip(result.files, e_halves, strict=True):
-        p = f.peaks
+        p = f.measurement.peaks
         rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
         name = printable(f.file)
         name = name if len(name) <= 22 else "…" + name[-21:]
         lines.append(
             f"{name:<22} {f.ligand_M:>9.3g} {e_half:>{w}} "
             f"{format_value(p.delta_Ep_V, scale=1e3):>7} "
-            f"{format_value(f.screen.expected_delta_Ep_V, scale=1e3):>7} "
+            f"{format_value(f.measurement.screen.expected_delta_Ep_V, scale=1e3):>7} "
             f"{format_value(p.current_ratio, digits=2):>7} {rev:>4} "
             f"{'yes' if f.used_in_fit else '-':>4}"
         )
     lines.append("")
     read = columns_lines([(f.file, f.imported_columns) for f in result.files])
     lines.extend([*read, ""] if read else [])
-    from .summary_kinetics import kinetics_lines
+    from cvfit.report.summary_kinetics import kinetics_lines
 
     lines.extend(kinetics_lines(result))
-    from .summary_curve import curve_lines, global_lines
+    from cvfit.report.summary_curve import curve_lines, global_lines
 
     lines.extend(curve_lines(result))
     fit = result.fit
     if isinstance(fit, StepwiseFit):
-        from .summary_stepwise import stepwise_lines
+        from cvfit.report.summary_stepwise import stepwise_lines
 
         lines.extend(stepwise_lines(fit))
     elif isinstance(fit, LinganeFit):

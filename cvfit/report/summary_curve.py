@@ -3,20 +3,19 @@
 from __future__ import annotations
 
 from cvfit.pipeline.results import SeriesResult
-
-from .formatting import format_pm
+from cvfit.report.formatting import format_pm
 
 __all__ = ["curve_lines", "global_lines"]
 
 
 def curve_lines(result: SeriesResult) -> list[str]:
     """One line per curve-fitted file: the E½ used (or why not), k0, α, reduced χ²."""
-    fitted = [f for f in result.files if f.curve_fit is not None]
+    fitted = [f for f in result.files if f.measurement.curve_fit is not None]
     if not fitted:
         return []
     lines = ["Curve fits (E½ of these files from the whole curve where marked 'used'):"]
     for f in fitted:
-        c = f.curve_fit
+        c = f.measurement.curve_fit
         if c.k0_lower_bound_cm_s is not None:
             k0 = f"k0 > {c.k0_lower_bound_cm_s:.3g} cm/s"
         else:

@@ -27,13 +27,13 @@ def _psi(q: Quantity) -> str:
 
 def kinetics_lines(result: SeriesResult) -> list[str]:
     """A few lines: class of every file, ψ and k0 where determined, each scan-rate study."""
-    files = [f for f in result.files if f.classification is not None]
+    files = [f for f in result.files if f.measurement.classification is not None]
     if not files:
         return []
     lines = ["Electron transfer at the scan rate used (ψ and k0 from ΔEp, Nicholson 1965):"]
     for f in files:
         name = f.file if len(f.file) <= 22 else "…" + f.file[-21:]
-        kin = f.kinetics
+        kin = f.measurement.kinetics
         what = ""
         if kin is not None and kin.status == "determined":
             what = f"ψ = {_psi(kin.psi)}"
@@ -44,7 +44,7 @@ def kinetics_lines(result: SeriesResult) -> list[str]:
             what = "k0 not determinable (ψ > 20)"
             if kin.k0_lower_bound_cm_s is not None:
                 what += f", k0 ≥ {kin.k0_lower_bound_cm_s:.2g} cm/s"
-        lines.append(f"  {name:<22} {f.classification.kind:<17} {what}".rstrip())
+        lines.append(f"  {name:<22} {f.measurement.classification.kind:<17} {what}".rstrip())
     for st in result.scan_rate_studies:
         v = st.scan_rates_V_s
         text = (

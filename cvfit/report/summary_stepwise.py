@@ -4,9 +4,8 @@ from __future__ import annotations
 
 import math
 
-from cvfit.fit.stepwise_result import StepwiseFit
-
-from .formatting import format_pm
+from cvfit.report.formatting import format_pm
+from cvfit.titration.stepwise_result import StepwiseFit
 
 __all__ = ["stepwise_lines"]
 

@@ -9,9 +9,9 @@ the demo and the command ``cvfit simulate``.
 - :mod:`.internal_standard` — two waves in one file, a series with a drifting reference
 """
 
-from .internal_standard import simulate_internal_standard_series, simulate_two_waves
-from .titration_series import simulate_series, write_voltammogram_csv
-from .voltammogram import Waveform, build_waveform, simulate_cv
+from cvfit.simulate.internal_standard import simulate_internal_standard_series, simulate_two_waves
+from cvfit.simulate.titration_series import simulate_series, write_voltammogram_csv
+from cvfit.simulate.voltammogram import Waveform, build_waveform, simulate_cv
 
 __all__ = [
     "Waveform",

@@ -22,17 +22,16 @@ import numpy as np
 
 from cvfit.chemistry.complexation import complexed_half_wave_V
 from cvfit.errors import SimulationError
-from cvfit.units import ZERO_CELSIUS_K
-from cvfit.voltammogram import Voltammogram
-
-from .titration_series import (
+from cvfit.simulate.titration_series import (
     MANIFEST_NAME,
     _toml_float,
     toml_string,
     voltammogram_entries,
     write_voltammogram_csv,
 )
-from .voltammogram import simulate_cv
+from cvfit.simulate.voltammogram import simulate_cv
+from cvfit.units import ZERO_CELSIUS_K
+from cvfit.voltammogram import Voltammogram
 
 __all__ = ["simulate_two_waves", "simulate_internal_standard_series", "StandardSeries"]
 

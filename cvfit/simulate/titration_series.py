@@ -11,10 +11,9 @@ import numpy as np
 
 from cvfit.chemistry.complexation import complexed_half_wave_V, effective_diffusion_cm2_s
 from cvfit.errors import SimulationError
+from cvfit.simulate.voltammogram import simulate_cv
 from cvfit.units import ZERO_CELSIUS_K
 from cvfit.voltammogram import Voltammogram
-
-from .voltammogram import simulate_cv
 
 __all__ = ["simulate_series", "write_voltammogram_csv", "toml_string", "voltammogram_entries"]
 

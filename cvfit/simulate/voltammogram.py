@@ -29,10 +29,9 @@ import numpy as np
 
 from cvfit.chemistry.randles_sevcik import RANDLES_SEVCIK_CONSTANT, randles_sevcik_peak_current_A
 from cvfit.errors import SimulationError
+from cvfit.simulate import finite_difference as _kernel
 from cvfit.units import FARADAY, GAS_CONSTANT
 from cvfit.voltammogram import Voltammogram
-
-from . import finite_difference as _kernel
 
 __all__ = [
     "simulate_cv",
@@ -354,4 +353,3 @@ def simulate_cv(
         source=source,
         metadata=settings,
     )
-

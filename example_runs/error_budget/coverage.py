@@ -22,8 +22,8 @@ matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
-from cvfit.fit.error_budget import reference_mean  # noqa: E402
-from cvfit.fit.lingane import TitrationPoint, fit_lingane  # noqa: E402
+from cvfit.titration.error_budget import reference_mean  # noqa: E402
+from cvfit.titration.lingane import TitrationPoint, fit_lingane  # noqa: E402
 from cvfit.units import nernst_slope_V_per_decade  # noqa: E402
 
 HERE = Path(__file__).resolve().parent

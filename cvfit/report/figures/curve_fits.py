@@ -18,9 +18,8 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
-
-from ..output_names import CURVE_FITS_NAME  # noqa: E402
-from .titration import _STYLE, _save  # noqa: E402
+from cvfit.report.figures.titration import _STYLE, _save  # noqa: E402
+from cvfit.report.output_names import CURVE_FITS_NAME  # noqa: E402
 
 __all__ = ["plot_curve_fits", "COLUMNS", "CURVE_FITS_FIGURE"]
 
@@ -33,7 +32,11 @@ COLUMNS = 3
 
 def plot_curve_fits(result: SeriesResult, path: str | Path) -> Path | None:
     """Write the curve-fit figure of *result* to *path* (PNG); None when no file has one."""
-    fitted = [f for f in result.files if f.curve_fit is not None and f.curve_fit.figure]
+    fitted = [
+        f
+        for f in result.files
+        if f.measurement.curve_fit is not None and f.measurement.curve_fit.figure
+    ]
     if not fitted:
         return None
     path = Path(path)
@@ -46,7 +49,7 @@ def plot_curve_fits(result: SeriesResult, path: str | Path) -> Path | None:
             r, c = divmod(k, cols)
             ax = fig.add_subplot(grid[2 * r, c])
             axr = fig.add_subplot(grid[2 * r + 1, c], sharex=ax)
-            fit = f.curve_fit
+            fit = f.measurement.curve_fit
             d = fit.figure
             E = 1e3 * np.asarray(d["potential_V"])
             i = 1e6 * np.asarray(d["current_A"])

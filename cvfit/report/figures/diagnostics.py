@@ -21,9 +21,8 @@ from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
-
-from .legend_placement import quiet_corner  # noqa: E402
-from .titration import _STYLE, _save, _set_title  # noqa: E402
+from cvfit.report.figures.legend_placement import quiet_corner  # noqa: E402
+from cvfit.report.figures.titration import _STYLE, _save, _set_title  # noqa: E402
 
 __all__ = ["plot_diagnostics"]
 
@@ -77,7 +76,11 @@ def _legend_handles(kinds: list[str], roles: list[str]) -> list[Line2D]:
 
 
 def _kind(f) -> str:
-    return "not determinable" if f.classification is None else f.classification.kind
+    return (
+        "not determinable"
+        if f.measurement.classification is None
+        else f.measurement.classification.kind
+    )
 
 
 def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
@@ -101,8 +104,8 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
         exp = np.array(
             [
                 np.nan
-                if f.screen.expected_delta_Ep_V is None
-                else 1e3 * n * f.screen.expected_delta_Ep_V
+                if f.measurement.screen.expected_delta_Ep_V is None
+                else 1e3 * n * f.measurement.screen.expected_delta_Ep_V
                 for f in files
             ]
         )
@@ -132,10 +135,20 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
         kinds = [_kind(f) for f in files]
         used = np.array([bool(f.used_in_fit) for f in files])
         dEp = np.array(
-            [np.nan if f.peaks.delta_Ep_V is None else f.peaks.delta_Ep_V for f in files]
+            [
+                np.nan
+                if f.measurement.peaks.delta_Ep_V is None
+                else f.measurement.peaks.delta_Ep_V
+                for f in files
+            ]
         )
         ratio = np.array(
-            [np.nan if f.peaks.current_ratio is None else f.peaks.current_ratio for f in files]
+            [
+                np.nan
+                if f.measurement.peaks.current_ratio is None
+                else f.measurement.peaks.current_ratio
+                for f in files
+            ]
         )
         # each file's role: fitted (filled), the ligand-free reference that gives E½(s)
         # (filled diamond), or left out (open); one call per (class, role) group instead of

@@ -19,9 +19,8 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
-
-from ..output_names import INTERNAL_STANDARD_NAME  # noqa: E402
-from .titration import _STYLE, _save, _set_title  # noqa: E402
+from cvfit.report.figures.titration import _STYLE, _save, _set_title  # noqa: E402
+from cvfit.report.output_names import INTERNAL_STANDARD_NAME  # noqa: E402
 
 __all__ = ["plot_internal_standard", "FILE_NAME"]
 

@@ -15,12 +15,19 @@ import numpy as np
 
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import leden_F_functions, mean_ligand_number, species_fractions
-from cvfit.fit.stepwise_result import StepwiseFit
 from cvfit.pipeline.results import SeriesResult
+from cvfit.report.figures.titration import (
+    _STYLE,
+    COLOUR_MAP,
+    PER_LITRE,
+    _save,
+    _superscript,
+    figure_title,
+    plt,
+)
 from cvfit.report.headline import constant_lines
+from cvfit.titration.stepwise_result import StepwiseFit
 from cvfit.units import thermal_voltage
-
-from .titration import _STYLE, COLOUR_MAP, PER_LITRE, _save, _superscript, figure_title, plt
 
 __all__ = ["STEPWISE_FIGURES", "write_stepwise_figures"]
 

@@ -24,20 +24,19 @@ from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator, NullLocator  # noqa: E402
 
 from cvfit.errors import printable  # noqa: E402
-from cvfit.fit.lingane import LinganeFit  # noqa: E402
-from cvfit.pipeline.curves import (
+from cvfit.pipeline.results import SeriesResult  # noqa: E402
+from cvfit.quantity import t_quantile  # noqa: E402
+from cvfit.report.atomic import atomic_path  # noqa: E402
+from cvfit.report.figures.legend_placement import quiet_corner  # noqa: E402
+from cvfit.report.headline import constant_lines  # noqa: E402
+from cvfit.report.imported_columns import potential_kind  # noqa: E402
+from cvfit.techniques.curves import (
     MAX_POINTS_DRAWN,
     MAX_POINTS_PER_FIGURE,
     MIN_POINTS_DRAWN,
     points_per_curve,
 )
-from cvfit.pipeline.results import SeriesResult  # noqa: E402
-from cvfit.quantity import t_quantile  # noqa: E402
-from cvfit.report.atomic import atomic_path  # noqa: E402
-from cvfit.report.headline import constant_lines  # noqa: E402
-from cvfit.report.imported_columns import potential_kind  # noqa: E402
-
-from .legend_placement import quiet_corner  # noqa: E402
+from cvfit.titration.lingane import LinganeFit  # noqa: E402
 
 __all__ = [
     "plot_voltammograms",
@@ -233,8 +232,14 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                 levels = sorted({lig for lig, bad in zip(ligands, flagged, strict=True) if bad})
                 which = ", ".join(f"{x:g}" for x in levels[:3]) + (" …" if len(levels) > 3 else "")
                 handles.append(
-                    Line2D([], [], color=FLAGGED_COLOUR, ls=FLAGGED_STYLE, lw=1.5,
-                           label=f"failed the screen,\n{fate} ({which} M)")  # fmt: skip
+                    Line2D(
+                        [],
+                        [],
+                        color=FLAGGED_COLOUR,
+                        ls=FLAGGED_STYLE,
+                        lw=1.5,
+                        label=f"failed the screen,\n{fate} ({which} M)",
+                    )  # fmt: skip
                 )
         kind = potential_kind([f.imported_columns for f in result.files])
         ax.set_xlabel(

@@ -1,0 +1,218 @@
+"""The technique seam: what every technique gives for one file, and what it is asked to do.
+
+A technique turns one record into a *measurement*: the E½ it stands behind with its
+standard error, its own verdict on whether the couple behaved Nernstian, its own
+diagnostics (peak potentials, widths, a wave's limiting current ...), its table cells and
+its flags. Everything after that — the one E½ decision of the pipeline
+(:mod:`cvfit.pipeline.half_wave`), the titration models, the error budget and the reports —
+is shared by all techniques.
+
+A technique is an object with
+
+* ``name`` — the value of ``[series] technique`` that selects it;
+* ``analyse(record, settings) -> Measurement`` — one file on its own;
+* ``study_series(items, settings, reread) -> SeriesStudy`` — what only the whole series can
+  tell (for cyclic voltammetry: the scan-rate study, the class of transfer and k0); it
+  returns new measurements whose verdicts may have changed, and the pipeline then decides
+  every file's E½ again.
+
+A measurement offers :meth:`Measurement.half_wave_estimate`: the E½ the technique offers
+under its current verdicts. It never applies an internal standard or decides whether the
+file enters a fit: that is the pipeline's one decision.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any, Literal, Protocol, runtime_checkable
+
+from cvfit.flags import Flag
+from cvfit.quantity import clean_number
+
+if TYPE_CHECKING:
+    from cvfit.io.manifest import Manifest, VoltammogramEntry
+    from cvfit.voltammogram import Voltammogram
+
+__all__ = [
+    "HalfWaveEstimate",
+    "EstimateKind",
+    "StandardMeasurement",
+    "Measurement",
+    "Technique",
+    "FileSettings",
+    "StudyItem",
+    "SeriesStudy",
+]
+
+#: How a technique's E½ was obtained, in decreasing order of trust:
+#: ``"nernstian"`` — read from a response that passed the technique's Nernstian screen;
+#: ``"kinetic_model"`` — from a model of the whole response that includes slow electron
+#: transfer (the curve fit of a quasi-reversible CV), accepted by its own tests;
+#: ``"approximate"`` — read from a response that failed the screen, with an extra error for
+#: what the failure leaves unknown (e.g. the transfer coefficient), usable with a flag;
+#: ``"unusable"`` — no E½ that a titration fit should take.
+EstimateKind = Literal["nernstian", "kinetic_model", "approximate", "unusable"]
+
+
+@dataclass(frozen=True)
+class HalfWaveEstimate:
+    """The E½ a technique offers for one file under its current verdicts.
+
+    Attributes
+    ----------
+    E_half_V : float or None
+        E½ on the electrode's scale, V (None when none could be read).
+    stderr_V : float or None
+        Its standard error, V, including any extra term the technique adds for an
+        approximate reading.
+    source : str
+        How it was read, in the technique's words (``"peaks"``, ``"curve"``,
+        ``"midpoint"`` for cyclic voltammetry); written to results.json as
+        ``E_half_source``.
+    kind : EstimateKind
+        How far it may be trusted (see :data:`EstimateKind`).
+    correction_V : float
+        A correction the technique applied to its raw reading, V (the switching
+        correction of a CV peak midpoint), 0 when none.
+    why : str
+        For ``"approximate"`` and ``"unusable"``: the reason, in words.
+    """
+
+    E_half_V: float | None
+    stderr_V: float | None
+    source: str
+    kind: EstimateKind
+    correction_V: float = 0.0
+    why: str = ""
+
+    def __post_init__(self) -> None:
+        if self.kind not in ("nernstian", "kinetic_model", "approximate", "unusable"):
+            raise ValueError(f"unknown estimate kind {self.kind!r}")
+        if self.E_half_V is not None and not math.isfinite(self.E_half_V):
+            raise ValueError(f"E_half_V must be finite, got {self.E_half_V}")
+        if self.stderr_V is not None and not self.stderr_V >= 0:
+            raise ValueError(f"stderr_V must be >= 0, got {self.stderr_V}")
+
+
+@dataclass(frozen=True)
+class StandardMeasurement:
+    """An internal reference couple as measured in one file.
+
+    Attributes
+    ----------
+    E_half_V : float or None
+        The standard's E½ on the electrode's scale, V (switching-corrected when it passed
+        its screen); its changes along the series are the drift of the reference electrode.
+    E_half_stderr_V : float or None
+        Its standard error from the file's noise, V.
+    reversible : bool or None
+        Verdict of the standard's own reversibility screen (its n, its window).
+    delta_Ep_V : float or None
+        Its peak separation, V (cyclic voltammetry; None for other techniques).
+    flags : tuple of Flag
+        Findings of its peak analysis and screen.
+    """
+
+    E_half_V: float | None
+    E_half_stderr_V: float | None
+    reversible: bool | None
+    delta_Ep_V: float | None = None
+    flags: tuple[Flag, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "E_half_V": clean_number(self.E_half_V),
+            "E_half_stderr_V": clean_number(self.E_half_stderr_V),
+            "reversible": self.reversible,
+            "delta_Ep_V": clean_number(self.delta_Ep_V),
+            "flags": [f.to_dict() for f in self.flags],
+        }
+
+
+@runtime_checkable
+class Measurement(Protocol):
+    """What a technique found in one file (a frozen record of the technique's own)."""
+
+    technique: str
+    flags: tuple[Flag, ...]
+    standard: StandardMeasurement | None
+
+    @property
+    def reversible(self) -> bool | None:
+        """The technique's Nernstian verdict (None: could not be judged)."""
+        ...
+
+    def half_wave_estimate(self) -> HalfWaveEstimate:
+        """The E½ the technique offers under its current verdicts."""
+        ...
+
+    def to_dict(self) -> dict[str, Any]:
+        """The technique's own results.json fields of the file record."""
+        ...
+
+    def table_cells(self) -> dict[str, object]:
+        """The technique's own columns of the per-file table (name → value)."""
+        ...
+
+
+@dataclass(frozen=True)
+class FileSettings:
+    """What a technique may know about one file: its manifest entry and the manifest."""
+
+    entry: VoltammogramEntry
+    manifest: Manifest
+
+
+@dataclass(frozen=True)
+class StudyItem:
+    """One file as a series-level study sees it (generic fields and its measurement)."""
+
+    name: str
+    ligand_M: float
+    scan_rate_V_s: float | None
+    measurement: Any
+
+
+@dataclass(frozen=True)
+class SeriesStudy:
+    """What a technique's series-level study found.
+
+    Attributes
+    ----------
+    measurements : tuple
+        One per file, in the order given (changed where a verdict changed).
+    studies : tuple
+        The technique's study records (for cyclic voltammetry: scan-rate studies).
+    flags : tuple of Flag
+        Series-level findings.
+    """
+
+    measurements: tuple[Any, ...]
+    studies: tuple[Any, ...] = ()
+    flags: tuple[Flag, ...] = ()
+
+
+#: Reads a file's record again (by its index in the manifest), for a study that needs it.
+Reread = Callable[[int], "Voltammogram"]
+
+
+class Technique(Protocol):
+    """A way of recording a voltammogram, and how to get E½ from it."""
+
+    name: str
+
+    def analyse(self, record: Voltammogram, settings: FileSettings) -> Measurement:
+        """Measure one file on its own."""
+        ...
+
+    def study_series(
+        self,
+        items: Sequence[StudyItem],
+        manifest: Manifest,
+        reread: Reread,
+        records: Mapping[str, Voltammogram] | None = None,
+    ) -> SeriesStudy:
+        """What only the whole series can tell; verdicts may change."""
+        ...

@@ -1,0 +1,166 @@
+"""Pipeline step of the curve fit: which files get one, and the fit of one file.
+
+``[fit] half_wave_source`` chooses where E½ comes from: ``"peaks"`` (the peak midpoint,
+never a curve fit), ``"curve"`` (the curve fit for every file that is not irreversible)
+or ``"auto"`` (default: the peaks for files that pass the reversibility screen, the curve
+fit for the others). Irreversible files — no usable reverse peak, or classified
+irreversible — get no curve fit and stay out of the titration fit with the reason.
+
+The fit runs in the per-file stage (in the worker that holds the whole record); a file
+that the scan-rate study fails afterwards is read again and fitted after the study
+(:func:`cvfit.techniques.cv.series_study.study_series`). The fit uses the
+record as measured: R_u from the manifest enters the model as the ohmic drop of the cell
+current (the peak analysis uses the corrected record instead); without it R_u is fitted.
+Composition only; the mathematics is in :mod:`cvfit.techniques.cv.curve.fit`.
+"""
+
+from __future__ import annotations
+
+from cvfit.errors import FitError
+from cvfit.flags import Flag
+from cvfit.techniques.cv.curve.fit import CurveFit, fit_curve
+from cvfit.techniques.cv.curve.model import CurveData, curve_data
+from cvfit.techniques.cv.screen.classification import classify_voltammogram
+from cvfit.voltammogram import Voltammogram
+
+__all__ = [
+    "curve_fit_for",
+    "curve_fit_used",
+    "record_curve_data",
+    "wants_curve_fit",
+    "MODEL_PRECISION",
+    "PSI_IRREVERSIBLE",
+]
+
+#: Fitted ψ below which the curve counts as irreversible and its E½ is not used: a decade
+#: below the end of Nicholson's working curve (ψ = 0.1, Anal. Chem. 37 (1965) 1351). There
+#: E½ rests on the reverse peak alone, hundreds of mV from E½, and on Butler–Volmer
+#: kinetics with one α holding over that range.
+PSI_IRREVERSIBLE = 0.01
+
+#: Floor of the point weight σ as a fraction of the forward peak height: the simulator's
+#: discretisation error (below 0.1 % of the peak against an independent computation,
+#: tests/test_curve_fit.py), so a record without noise is not judged on rounding.
+MODEL_PRECISION = 1e-3
+
+
+def wants_curve_fit(source: str, reversible: bool | None) -> bool:
+    """Whether a file with this screen verdict is curve-fitted under *source*."""
+    if source == "curve":
+        return True
+    return source == "auto" and reversible is not True
+
+
+def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveData:
+    """The samples of *v* a curve fit describes: from the start to the analysed cycle's end.
+
+    Raises
+    ------
+    FitError
+        No reverse sweep, unequal time steps, no scan rate.
+    """
+    cycle = v.cycle(peaks.cycle_number)  # type: ignore[attr-defined]
+    if cycle.reverse is None:
+        raise FitError("the analysed cycle has no reverse sweep")
+    height = abs(peaks.forward_height_A or 0.0)  # type: ignore[attr-defined]
+    sigma = max(peaks.noise_A, MODEL_PRECISION * height)  # type: ignore[attr-defined]
+    return curve_data(
+        v.potential_V,
+        v.current_A,
+        time_s=v.time_s,
+        scan_rate_V_s=v.scan_rate_V_s,
+        start=cycle.forward.start,
+        stop=cycle.reverse.stop,
+        electrons=series.electrons,  # type: ignore[attr-defined]
+        temperature_K=series.temperature_K,  # type: ignore[attr-defined]
+        bulk="ox" if peaks.first_sweep == "reduction" else "red",  # type: ignore[attr-defined]
+        sigma_A=sigma,
+    )
+
+
+def curve_fit_for(
+    v: Voltammogram,
+    peaks: object,
+    screen: object,
+    manifest: object,
+    resistance_ohm: float | None,
+) -> tuple[CurveFit | None, list[Flag]]:
+    """The curve fit of one file (None when none is made) and its flags.
+
+    Parameters
+    ----------
+    v : Voltammogram
+        The record as imported (not corrected for R_u).
+    peaks, screen
+        The file's :class:`~cvfit.techniques.cv.peaks.analysis.PeakAnalysis` and
+        :class:`~cvfit.techniques.cv.screen.reversibility.ReversibilityScreen`.
+    manifest : Manifest
+    resistance_ohm : float or None
+        R_u of the file from the manifest (None: fitted).
+    """
+    fit_settings = manifest.fit  # type: ignore[attr-defined]
+    series = manifest.series  # type: ignore[attr-defined]
+    if not wants_curve_fit(fit_settings.half_wave_source, screen.reversible):  # type: ignore[attr-defined]
+        return None, []
+    if manifest.internal_standard is not None:  # type: ignore[attr-defined]
+        # the model holds one couple; the standard's wave would be fitted as the analyte's
+        return None, [
+            Flag(
+                "CURVE_FIT_NOT_POSSIBLE",
+                "no curve fit: the file also holds the internal standard's wave, and the "
+                "curve model describes one couple",
+                "warning",
+            )
+        ]
+    n, T = series.electrons, series.temperature_K
+    cls = classify_voltammogram(
+        peaks, screen, electrons=n, temperature_K=T, alpha=series.alpha,
+        criteria=manifest.reversibility,  # type: ignore[attr-defined]
+    )  # fmt: skip
+    if peaks.E_half_V is None or cls.kind == "irreversible":  # type: ignore[attr-defined]
+        why = "no usable reverse peak" if peaks.E_half_V is None else cls.reason  # type: ignore[attr-defined]
+        return None, [
+            Flag("CURVE_FIT_IRREVERSIBLE", f"no curve fit: irreversible ({why})", "info")
+        ]
+    try:
+        data = record_curve_data(v, peaks, series)
+        fit = fit_curve(
+            data,
+            E_half_start_V=float(peaks.E_half_V),  # type: ignore[attr-defined]
+            D_cm2_s=series.diffusion_cm2_s,
+            area_cm2=series.electrode_area_cm2,
+            concentration_M=series.analyte_M,
+            resistance_ohm=resistance_ohm,
+            D_ratio=fit_settings.curve_diffusion_ratio,
+        )
+    except FitError as exc:
+        return None, [Flag("CURVE_FIT_NOT_POSSIBLE", f"no curve fit: {exc}", "warning")]
+    flags = list(fit.flags)
+    if curve_fit_used(fit):
+        e = fit.E_half_V
+        flags.append(
+            Flag(
+                "CURVE_FIT_USED",
+                f"E½ {e.value:.4f} V ± {1e3 * e.stderr:.2f} mV from the fit of the whole curve "
+                f"(k0 {fit.k0_cm_s.value:.3g} cm/s, α {fit.alpha.value:.2f}, reduced χ² "
+                f"{fit.reduced_chi2.value:.2f})",
+                "info",
+            )
+        )
+    elif fit.accepted:  # accepted, but too slow for its E½ to be trusted
+        flags.append(
+            Flag(
+                "CURVE_FIT_IRREVERSIBLE",
+                f"curve fit not used: irreversible (fitted ψ = {fit.psi:.2g}, a decade or more "
+                f"below Nicholson's working curve; E½ {fit.E_half_V.value:.4f} V would rest on "
+                "the reverse peak alone)",
+                "info",
+            )
+        )
+    return fit, flags
+
+
+def curve_fit_used(fit: CurveFit | None) -> bool:
+    """Whether the file's E½ is taken from *fit*: accepted, and not so slow that its E½
+    would rest on the reverse peak alone (ψ below :data:`PSI_IRREVERSIBLE`)."""
+    return fit is not None and fit.accepted and not fit.psi < PSI_IRREVERSIBLE

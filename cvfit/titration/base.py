@@ -1,0 +1,243 @@
+"""The titration-model seam: points in, a result that serialises and describes itself out.
+
+A titration model turns the E½ of a series — one :class:`TitrationPoint` per accepted file,
+its titration variable ``x`` (a ligand concentration today; pH or temperature are the same
+kind of point) — and the reference E½(s) (:class:`ReferenceHalfWave`) into constants.
+
+A model is an object with
+
+* ``name`` — the value of ``[fit] model`` that selects it;
+* ``variable`` — what ``x`` is, with its unit in the name (``"ligand_M"``);
+* ``fit(data, manifest) -> ModelOutcome`` — the fit, or why none can be made, with what it
+  found about each point (:class:`PointNote`: the free ligand it used, flags).
+
+Its result (:class:`TitrationResult`) serialises itself (``to_dict``; ``null_dict`` for a
+series it could not fit), and lists its summary lines, its report rows and its figures, so
+that the reports need no branch on the model. :func:`model_named` is the one registry.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any, Literal, Protocol
+
+from cvfit.flags import FitRefused, Flag
+from cvfit.quantity import clean_number
+
+if TYPE_CHECKING:
+    from cvfit.io.manifest import Manifest
+
+__all__ = [
+    "TitrationPoint",
+    "ReferenceHalfWave",
+    "TitrationData",
+    "PointNote",
+    "ModelOutcome",
+    "TitrationModel",
+    "TitrationResult",
+    "model_named",
+    "MODEL_NAMES",
+]
+
+
+def finite_number(name: str, value: float) -> float:
+    v = float(value)
+    if not math.isfinite(v):
+        raise ValueError(f"{name} must be a finite number, got {value!r}")
+    return v
+
+
+def optional_stderr(name: str, value: float | None) -> float | None:
+    if value is None:
+        return None
+    v = float(value)
+    if math.isnan(v):
+        return None
+    if not (math.isfinite(v) and v >= 0.0):
+        raise ValueError(f"{name} must be >= 0 and finite (or None if unknown), got {value!r}")
+    return v
+
+
+@dataclass(frozen=True)
+class TitrationPoint:
+    """One E½ of a titration, as it enters a model.
+
+    Attributes
+    ----------
+    label : str
+        Where the point came from (file name), used in messages.
+    x : float
+        The titration variable in the model's unit (:attr:`TitrationModel.variable`): for a
+        ligand titration the free ligand concentration, mol/L (>= 0 here; > 0 to be fitted).
+    E_half_V : float
+        Half-wave potential, V.
+    E_half_stderr_V : float or None
+        Standard error of ``E_half_V`` from the file's noise, V; ``None`` (NaN is turned
+        into ``None``) when unknown.
+    bulk_form : {"ox", "red"} or None
+        The form of the couple in the bulk of the solution, when the technique knows it
+        (which form binds the ligand that the mass balance removes).
+    diffusion_current : float or None
+        The technique's diffusion-controlled current of the bulk oxidised form, scaled to
+        compare solutions (cyclic voltammetry: peak current over √v), or None.
+    pH : float or None
+        The solution's pH, when given (ligand protonation).
+    """
+
+    label: str
+    x: float
+    E_half_V: float
+    E_half_stderr_V: float | None = None
+    bulk_form: Literal["ox", "red"] | None = None
+    diffusion_current: float | None = None
+    pH: float | None = None
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "label", str(self.label))
+        c = finite_number(f"{self.label}: x", self.x)
+        if c < 0.0:
+            raise ValueError(f"{self.label}: ligand_M must be >= 0, got {c}")
+        object.__setattr__(self, "x", c)
+        object.__setattr__(
+            self, "E_half_V", finite_number(f"{self.label}: E_half_V", self.E_half_V)
+        )
+        s = optional_stderr(f"{self.label}: E_half_stderr_V", self.E_half_stderr_V)
+        object.__setattr__(self, "E_half_stderr_V", s)
+
+    @property
+    def ligand_M(self) -> float:
+        """``x`` of a ligand titration: the free ligand concentration, mol/L."""
+        return self.x
+
+
+@dataclass(frozen=True)
+class ReferenceHalfWave:
+    """E½ of the uncomplexed couple, E½(s), and where it came from.
+
+    Attributes
+    ----------
+    E_half_V : float or None
+        Reference half-wave potential, V (None when it could not be measured).
+    stderr_V : float or None
+        Its standard error, V (None when unknown).
+    source : str
+        ``"file"`` (mean of the accepted ligand-free files) or ``"manifest"``.
+    files : tuple of str
+        The ligand-free files it was taken from.
+    spread_V : float or None
+        Standard deviation of those files' E½, V (None with fewer than two).
+    file_E_half_V : tuple of float
+        Their E½ values, V, in the order of ``files``.
+    """
+
+    E_half_V: float | None
+    stderr_V: float | None
+    source: str
+    files: tuple[str, ...] = ()
+    spread_V: float | None = None
+    file_E_half_V: tuple[float, ...] = ()
+
+    @property
+    def count(self) -> int:
+        """How many solutions E½(s) averages (1 for a value from the manifest)."""
+        return max(len(self.files), 1) if self.source == "file" else 1
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "E_half_V": clean_number(self.E_half_V),
+            "stderr_V": clean_number(self.stderr_V),
+            "source": self.source,
+            "files": list(self.files),
+            "spread_V": clean_number(self.spread_V),
+            "file_E_half_V": [clean_number(v) for v in self.file_E_half_V],
+        }
+
+
+@dataclass(frozen=True)
+class TitrationData:
+    """What a model is given: the titration points, the reference and its own points.
+
+    Attributes
+    ----------
+    points : tuple of TitrationPoint
+        The accepted files with the titration variable set (x > 0 for a ligand), in order.
+    reference : ReferenceHalfWave
+        E½(s).
+    reference_points : tuple of TitrationPoint
+        The files E½(s) was taken from (x = 0), for terms that compare them with the
+        titration points (the DeFord–Hume current ratio).
+    """
+
+    points: tuple[TitrationPoint, ...]
+    reference: ReferenceHalfWave
+    reference_points: tuple[TitrationPoint, ...] = ()
+
+
+@dataclass(frozen=True)
+class PointNote:
+    """What a model found about one point: the x it fitted at and flags for its file."""
+
+    x: float
+    flags: tuple[Flag, ...] = ()
+
+
+@dataclass(frozen=True)
+class ModelOutcome:
+    """A model's fit (or why none was made) and its notes on the points, by label."""
+
+    fit: TitrationResult | FitRefused
+    notes: Mapping[str, PointNote] = field(default_factory=dict)
+
+
+class TitrationResult(Protocol):
+    """The fitted result of a titration model (a frozen record of the model's own)."""
+
+    model: str
+    flags: tuple[Flag, ...]
+
+    def to_dict(self) -> dict[str, Any]:
+        """The results.json ``fit`` record."""
+        ...
+
+    def summary_lines(self) -> list[str]:
+        """Its lines in the terminal summary (the fit in detail)."""
+        ...
+
+    def figures(self) -> tuple[str, ...]:
+        """Keys of its figures in the figure registry (:mod:`cvfit.report.figures`)."""
+        ...
+
+
+class TitrationModel(Protocol):
+    """A way of turning E½ against a titration variable into constants."""
+
+    name: str
+    variable: str
+
+    def fit(self, data: TitrationData, manifest: Manifest) -> ModelOutcome:
+        """The fit of *data* under the manifest's settings."""
+        ...
+
+    def null_dict(self, n_points: int, flags: Sequence[Flag]) -> dict[str, Any]:
+        """The results.json ``fit`` record of a series this model could not fit."""
+        ...
+
+
+#: The models ``[fit] model`` may name.
+MODEL_NAMES = ("lingane", "stepwise")
+
+
+def model_named(name: str) -> TitrationModel:
+    """The titration model called *name* (imported on first use: a Lingane run does not
+    load the stepwise model's libraries)."""
+    if name == "lingane":
+        from cvfit.titration.lingane_model import LINGANE
+
+        return LINGANE
+    if name == "stepwise":
+        from cvfit.titration.stepwise_model import STEPWISE
+
+        return STEPWISE
+    raise ValueError(f"unknown titration model {name!r}; one of {', '.join(MODEL_NAMES)}")

@@ -1,0 +1,294 @@
+"""Result record of the stepwise fit, its verdicts on each constant and its JSON form."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from cvfit.chemistry.speciation import fraction_peak_ligand_M, species_fractions
+from cvfit.flags import Flag
+from cvfit.quantity import Quantity, clean_number
+from cvfit.titration.error_budget import ErrorBudget
+from cvfit.titration.stepwise_least_squares import CandidateFit, StepwiseData
+from cvfit.titration.stepwise_model_choice import CandidateSummary
+
+__all__ = [
+    "StepwiseFit",
+    "UndeterminedConstant",
+    "ConditionalConstants",
+    "verdicts",
+    "null_stepwise_dict",
+]
+
+#: A complex whose largest fraction over the measured range stays below this is flagged.
+MIN_MAX_FRACTION = 0.05
+
+
+@dataclass(frozen=True)
+class UndeterminedConstant:
+    """A β_j the measured ligand range does not determine.
+
+    Attributes
+    ----------
+    j : int
+    upper_limit_95 : float or None
+        One-sided 95 % profile upper limit of log10 β_j, when the data give one.
+    reason : str
+    suggested_ligand_M : float or None
+        Free ligand concentration the series should reach (or centre on) to determine it.
+    """
+
+    j: int
+    upper_limit_95: float | None
+    reason: str
+    suggested_ligand_M: float | None
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "j": self.j,
+            "upper_limit_95": clean_number(self.upper_limit_95),
+            "reason": self.reason,
+            "suggested_ligand_M": clean_number(self.suggested_ligand_M),
+        }
+
+
+@dataclass(frozen=True)
+class ConditionalConstants:
+    """Conditional constants at one pH: log10 β'_j = log10 β_j + j log10 α_L."""
+
+    pH: float
+    log10_alpha_L: float
+    log10_beta: tuple[Quantity, ...]
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "pH": self.pH,
+            "log10_alpha_L": clean_number(self.log10_alpha_L),
+            "log10_beta": [
+                {"j": j, **q.to_dict()} for j, q in enumerate(self.log10_beta, start=1)
+            ],
+        }
+
+
+@dataclass(frozen=True, kw_only=True)
+class StepwiseFit:
+    """Result of :func:`cvfit.titration.stepwise.fit_stepwise` (all constants as log10, [L] in
+    mol/L).
+
+    Per-point tuples follow the order of the points given. ``error_budget`` holds one
+    :class:`~cvfit.titration.error_budget.ErrorBudget` per log10 β_j (linearised at the optimum;
+    its totals are the standard errors; the intervals are profile-likelihood), or None when
+    the covariance is not available; ``extra_scatter_V`` the moment estimate of the
+    solution-to-solution scatter beyond the per-file noise, V (None unweighted).
+    """
+
+    fitted_state: str
+    fixed_log10_beta: tuple[float, ...]
+    n_complexes: int
+    log10_beta: tuple[Quantity, ...]
+    determined: tuple[bool, ...]
+    max_fraction: tuple[float, ...]
+    covariance: tuple[tuple[float, ...], ...] | None
+    E_half_free: Quantity
+    candidates: tuple[CandidateSummary, ...]
+    alpha: float
+    undetermined: tuple[UndeterminedConstant, ...]
+    labels: tuple[str, ...]
+    free_ligand_M: tuple[float, ...]
+    log10_alpha_L: tuple[float, ...]
+    ln_F0_observed: tuple[float, ...]
+    ln_F0_stderr: tuple[float, ...]
+    residuals_V: tuple[float, ...]
+    conditional: tuple[ConditionalConstants, ...]
+    thermodynamic_log10_beta: tuple[Quantity, ...] | None
+    ionic_strength_M: float | None
+    free_ligand_iterations: int
+    n_points: int
+    dof: int
+    weighted: bool
+    flags: tuple[Flag, ...] = ()
+    model: str = "stepwise"
+    error_budget: tuple[ErrorBudget, ...] | None = None
+    extra_scatter_V: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.fitted_state not in ("ox", "red"):
+            raise ValueError(f"fitted_state must be 'ox' or 'red', got {self.fitted_state!r}")
+        n = len(self.labels)
+        for name in ("free_ligand_M", "log10_alpha_L", "ln_F0_observed", "residuals_V"):
+            if len(getattr(self, name)) != n:
+                raise ValueError(f"{name} needs one value per point")
+        if len(self.log10_beta) != self.n_complexes:
+            raise ValueError("log10_beta needs one Quantity per complex")
+
+    @property
+    def log10_beta_values(self) -> list[float]:
+        return [q.value for q in self.log10_beta]
+
+    def to_dict(self) -> dict[str, Any]:
+        """The results.json ``fit`` record of the stepwise model."""
+        betas = []
+        for j, (q, det, mf) in enumerate(
+            zip(self.log10_beta, self.determined, self.max_fraction, strict=True), start=1
+        ):
+            betas.append(
+                {"j": j, **q.to_dict(), "determined": det, "max_fraction": clean_number(mf)}
+            )
+        budget = None
+        if self.error_budget is not None:
+            budget = {f"log10_beta_{j}": b.to_dict() for j, b in enumerate(self.error_budget, 1)}
+        return {
+            "model": "stepwise",
+            "error_budget": budget,
+            "extra_scatter_V": clean_number(self.extra_scatter_V),
+            "fitted_state": self.fitted_state,
+            "fixed_log10_beta": list(self.fixed_log10_beta),
+            "n_complexes": self.n_complexes,
+            "log10_beta": betas,
+            "covariance": None
+            if self.covariance is None
+            else [[clean_number(x) for x in row] for row in self.covariance],
+            "E_half_free_V": self.E_half_free.to_dict(),
+            "selection": {
+                "criterion": "extra-sum-of-squares F-test",
+                "alpha": self.alpha,
+                "candidates": [c.to_dict() for c in self.candidates],
+            },
+            "undetermined": [u.to_dict() for u in self.undetermined],
+            "points": [
+                {
+                    "file": lab,
+                    "free_ligand_M": clean_number(L),
+                    "log10_alpha_L": clean_number(a),
+                    "ln_F0": clean_number(f),
+                    "ln_F0_stderr": clean_number(s),
+                    "residual_V": clean_number(r),
+                }
+                for lab, L, a, f, s, r in zip(
+                    self.labels,
+                    self.free_ligand_M,
+                    self.log10_alpha_L,
+                    self.ln_F0_observed,
+                    self.ln_F0_stderr,
+                    self.residuals_V,
+                    strict=True,
+                )
+            ],
+            "conditional": [c.to_dict() for c in self.conditional],
+            "thermodynamic_log10_beta": None
+            if self.thermodynamic_log10_beta is None
+            else [
+                {"j": j, **q.to_dict()}
+                for j, q in enumerate(self.thermodynamic_log10_beta, start=1)
+            ],
+            "ionic_strength_M": clean_number(self.ionic_strength_M),
+            "free_ligand_iterations": self.free_ligand_iterations,
+            "n_points": self.n_points,
+            "dof": self.dof,
+            "weighted": self.weighted,
+            "flags": [f.to_dict() for f in self.flags],
+        }
+
+
+def verdicts(
+    data: StepwiseData,
+    chosen: CandidateFit,
+    intervals: list[tuple[float, float]],
+    larger: list[CandidateFit],
+    uppers: list[float],
+):
+    """Which constants the range determines, their largest fractions, and advice.
+
+    A constant is determined when its profile interval is closed on both sides; the
+    largest fraction of each complex over the measured free-ligand range is reported and
+    flagged below ``MIN_MAX_FRACTION``. For the first complex beyond the chosen N the
+    complexes beyond the chosen N (every larger candidate fitted) the profile of that
+    candidate's top constant gives a one-sided upper limit, and the ligand concentration
+    where that complex would be half-formed at its upper limit is suggested.
+    """
+    N = chosen.N
+    vals = [float(x) for x in chosen.params[1:]]
+    grid = np.geomspace(float(data.ligand_M.min()), float(data.ligand_M.max()), 200)
+    frac = species_fractions(grid, vals)[1:]
+    max_frac = [float(frac[j].max()) for j in range(N)]
+    determined, undetermined, flags = [], [], []
+    for j in range(1, N + 1):
+        lo, hi = intervals[j - 1]
+        ok = math.isfinite(lo) and math.isfinite(hi) and not chosen.at_bound[j - 1]
+        determined.append(ok)
+        if not ok:
+            target = fraction_peak_ligand_M(vals, j)
+            why = "its profile-likelihood interval is open (runs into the bound)"
+            undetermined.append(UndeterminedConstant(j, clean_number(hi), why, target))
+        elif max_frac[j - 1] < MIN_MAX_FRACTION:
+            flags.append(
+                Flag(
+                    "COMPLEX_BARELY_FORMED",
+                    f"ML{j} never exceeds {100 * max_frac[j - 1]:.1f} % of the metal over the "
+                    f"measured range; β{j} rests on a small effect (centre the range near "
+                    f"[L] = {fraction_peak_ligand_M(vals, j):.2g} M)",
+                )
+            )
+    for fit_j, up in zip(larger, uppers, strict=True):
+        j = fit_j.N
+        up = clean_number(up)
+        target = None
+        if up is not None:
+            target = fraction_peak_ligand_M([*vals, *[up] * (j - N)], j)
+            target = max(target, float(data.ligand_M.max()))
+        why = (
+            f"adding ML{j} does not improve the fit significantly over the measured "
+            f"range (up to {float(data.ligand_M.max()):.3g} M free ligand)"
+        )
+        undetermined.append(UndeterminedConstant(j, up, why, target))
+    if undetermined:
+        parts = []
+        for u in undetermined:
+            lim = (
+                f"log10 β{u.j} < {u.upper_limit_95:.2f}"
+                if u.upper_limit_95 is not None
+                else "no upper limit"
+            )
+            sug = (
+                f"; extend the series to [L] ≳ {u.suggested_ligand_M:.2g} M"
+                if u.suggested_ligand_M
+                else ""
+            )
+            parts.append(f"β{u.j} ({lim}{sug})")
+        flags.append(
+            Flag(
+                "BETA_UNDETERMINED",
+                "not determined by the ligand range measured: " + "; ".join(parts),
+                "info" if all(u.j > N for u in undetermined) else "warning",
+            )
+        )
+    return determined, max_frac, undetermined, flags
+
+
+def null_stepwise_dict(n_points: int, flags) -> dict[str, Any]:
+    """The ``fit`` record of a stepwise series that could not be fitted (flags say why)."""
+    return {
+        "model": "stepwise",
+        "error_budget": None,
+        "extra_scatter_V": None,
+        "fitted_state": None,
+        "fixed_log10_beta": [],
+        "n_complexes": None,
+        "log10_beta": [],
+        "covariance": None,
+        "E_half_free_V": {"value": None, "stderr": None, "ci95": [None, None]},
+        "selection": {"criterion": "extra-sum-of-squares F-test", "alpha": None, "candidates": []},
+        "undetermined": [],
+        "points": [],
+        "conditional": [],
+        "thermodynamic_log10_beta": None,
+        "ionic_strength_M": None,
+        "free_ligand_iterations": 0,
+        "n_points": int(n_points),
+        "dof": None,
+        "weighted": False,
+        "flags": [f.to_dict() for f in flags],
+    }
