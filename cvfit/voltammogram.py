@@ -246,9 +246,9 @@ def potential_spikes(potential_V: np.ndarray) -> np.ndarray:
         steps = np.diff(E)
         size = np.abs(steps)
         limit = max(0.005 * float(np.ptp(E)), 4.0 * float(size.mean()))
+        if not float(size.max()) > limit:  # the common case: no step large enough
+            return np.zeros(0, dtype=int)
         big = np.flatnonzero(size[:-1] > limit)  # the step into sample k + 1 is large
-        if big.size == 0:
-            return big
         into, out = steps[big], steps[big + 1]
         smaller = np.minimum(np.abs(into), np.abs(out))
         back = (np.sign(into) != np.sign(out)) & (smaller > limit)

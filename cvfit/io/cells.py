@@ -14,6 +14,7 @@ import re
 __all__ = [
     "DELIMITER_NAMES",
     "KEY_VALUE",
+    "NOT_TAB",
     "cell_value",
     "is_number",
     "is_numeric_line",
@@ -31,8 +32,8 @@ _CELL_COMMA = re.compile(r"^[+-]?(?:\d+,?\d*|,\d+)(?:[eE][+-]?\d+)?$")
 _CELL_SPECIAL = re.compile(r"(?i)^[+-]?(?:nan|inf|infinity)$")
 #: The delimiter in words, for messages.
 DELIMITER_NAMES = {",": "comma", ";": "semicolon", "\t": "tab", "whitespace": "whitespace"}
-# blanks other than the tab: what a tab-separated line may lose at its start
-_NOT_TAB = " \r\n\x0b\x0c"
+#: Blanks other than the tab: what a tab-separated line may lose at its start.
+NOT_TAB = " \r\n\x0b\x0c"
 
 
 def is_numeric_line(line: str) -> bool:
@@ -44,7 +45,7 @@ def is_numeric_line(line: str) -> bool:
 def trim(line: str, delimiter: str) -> str:
     """*line* without surrounding blanks; a tab-separated line keeps its leading tabs."""
     if delimiter == "\t":
-        return line.rstrip().lstrip(_NOT_TAB)
+        return line.rstrip().lstrip(NOT_TAB)
     return line.strip()
 
 
