@@ -184,6 +184,8 @@ _CATALOGUE = (
     FlagCode("REFERENCE_NOT_NERNSTIAN", _W, "E½(s) rests on ligand-free files that failed the "
              "reversibility screen (exclude_non_nernstian = false, or an approximate E½ with "
              "its extra error); it may bias every shift."),
+    FlagCode("NO_TITRATION", _I, "Every file is ligand-free: the couple is characterised "
+             "(E½, ΔEp, ipa/ipc, k0, D, scan-rate studies) and no constants are fitted."),
     FlagCode("REFERENCE_FILES_LEFT_OUT", _I, "Ligand-free files whose E½ the decision did not "
              "accept were left out of E½(s); they are named."),
     FlagCode("INTERNAL_STANDARD_NOT_FOUND", _E, "The internal reference couple's E½ could "

@@ -257,7 +257,6 @@ def test_global_fit_without_its_two_step_fit_says_why_not(tmp_path):
 
 def test_a_recovered_file_offers_its_diffusion_limited_peak_for_current_ratios(runs):
     from cvfit.chemistry.randles_sevcik import randles_sevcik_peak_current_A
-    from cvfit.pipeline.stepwise_stage import _peak_per_root_v
 
     ip = randles_sevcik_peak_current_A(
         electrons=1, concentration_M=1e-3, area_cm2=0.0707, D_cm2_s=1e-5, scan_rate_V_s=V
@@ -267,7 +266,7 @@ def test_a_recovered_file_offers_its_diffusion_limited_peak_for_current_ratios(r
             # the measured peak of a slow couple is low; the fitted scale's is not
             assert abs(f.measurement.peaks.ipc_A) < 0.97 * ip
             assert f.measurement.curve_fit.reversible_peak_A == pytest.approx(ip, rel=0.01)
-            assert _peak_per_root_v(f) == pytest.approx(ip / math.sqrt(V), rel=0.01)
+            assert f.measurement.diffusion_current_A == pytest.approx(ip, rel=0.01)
 
 
 @pytest.mark.parametrize(

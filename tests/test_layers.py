@@ -28,6 +28,7 @@ RANKS = {
     "reversibility_criteria": 0,
     "voltammogram": 0,
     "version": 0,
+    "formatting": 0,
     "data": 0,
     "chemistry": 1,
     "io": 2,

@@ -329,5 +329,5 @@ def test_stepwise_report_opens_with_the_beta_table(stepwise_run, tmp_path, monke
 
     monkeypatch.setattr(stepwise_figures, "_save", keep)
     result = analyse_series(load_manifest(data["manifest"]))
-    stepwise_figures.write_stepwise_figures(result, tmp_path)
+    stepwise_figures.plot_stepwise_shift(result, tmp_path / "shift.png")
     assert titles[0].splitlines()[1:] == expected

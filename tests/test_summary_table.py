@@ -6,10 +6,10 @@ from dataclasses import replace
 
 from seriesfactory import write_small_series
 
+from cvfit.formatting import format_pm
 from cvfit.io import load_manifest
 from cvfit.pipeline.series import analyse_series
 from cvfit.report import format_summary
-from cvfit.report.formatting import format_pm
 
 
 def _table(text: str) -> list[str]:

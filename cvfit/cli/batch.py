@@ -238,7 +238,7 @@ def run_batch(
 
 
 def _pm(value: float | None, stderr: float | None) -> str:
-    from cvfit.report.formatting import format_pm
+    from cvfit.formatting import format_pm
 
     return format_pm(value, stderr) if value is not None else "n/d"
 

@@ -13,7 +13,7 @@ import math
 import os
 import re
 import tomllib
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any, Literal
 
@@ -602,7 +602,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
             ld.where.line("voltammogram"),
         )
     entries = []
-    seen: dict[Path, int] = {}
+    seen: dict[tuple[Path, object], int] = {}
     for index, raw in enumerate(entries_raw, start=1):
         ld.check_keys(raw, ENTRY_KEYS, "voltammogram", index)
         ld.require(raw, "file", "voltammogram", index)
@@ -640,7 +640,8 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
             "voltammogram",
             index,
         )
-        if not resolved.is_file() or resolved in seen:
+        key = (resolved, options.cycle)
+        if not resolved.is_file() or key in seen:
             # the line is looked up only for the message: scanning the manifest for every
             # entry made loading a 1 000-file manifest quadratic
             file_line = ld.where.line("voltammogram", "file", index)
@@ -658,15 +659,17 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
                 f"voltammogram[{index}].file",
                 file_line,
             )
-        if resolved in seen:
+        if key in seen:
             raise ld.fail(
-                f"file {name!r} is listed twice (also voltammogram[{seen[resolved]}]); list "
-                "each file once",
+                f"file {name!r} is listed twice with the same cycle (also "
+                f"voltammogram[{seen[key]}]); list each file once, or each cycle of it once "
+                "with its own cycle = N",
                 f"voltammogram[{index}].file",
                 file_line,
             )
-        seen[resolved] = index
+        seen[key] = index
         entries.append(entry)
+    entries = _name_cycles(entries)
     return Manifest(
         path=p.resolve(),
         folder=folder,
@@ -677,6 +680,18 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         voltammograms=tuple(entries),
         internal_standard=standard,
     )
+
+
+def _name_cycles(entries: list[VoltammogramEntry]) -> list[VoltammogramEntry]:
+    """Entries of one file listed once per cycle get names that tell them apart
+    (``"run.csv [cycle 2]"``); every other entry keeps its file name."""
+    count: dict[Path, int] = {}
+    for e in entries:
+        count[e.file] = count.get(e.file, 0) + 1
+    return [
+        replace(e, name=f"{e.name} [cycle {e.import_options.cycle}]") if count[e.file] > 1 else e
+        for e in entries
+    ]
 
 
 def _load_standard(

@@ -1,11 +1,10 @@
 """Manifest → results: the composition of the layers, and the result records.
 
 - :mod:`.series` — :func:`analyse_series`, :func:`analyse_manifest_file`
-- :mod:`.per_file` — import, peaks, screen and E½ of each file
-- :mod:`.series_screen` — scan-rate studies, class and k0 across the series
-- :mod:`.stepwise_stage` — the stepwise model's free-ligand iteration
+- :mod:`.per_file` — import, the technique's measurement and the E½ of each file
+- :mod:`.half_wave` — the one decision of the E½ a file contributes
+- :mod:`.global_stage` — the global curve fit (``[fit] global = true``)
 - :mod:`.results` — :class:`FileResult`, :class:`SeriesResult` and their JSON form
-- :mod:`.curves` — the analysed cycle thinned for figures
 - :mod:`.parallel` — process pools and the BLAS-thread limit
 """
 

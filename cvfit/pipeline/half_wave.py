@@ -123,7 +123,8 @@ def decide_half_wave(
         out of the fits (True) or enters them all the same (False, a series flag says so).
     """
     est = measurement.half_wave_estimate()
-    E, own, flags = est.E_half_V, est.stderr_V, []
+    E, own = est.E_half_V, est.stderr_V
+    flags: list[Flag] = []
     total = own
     if internal_standard is not None:
         E, total, flags = _on_standard_scale(E, own, measurement.standard, internal_standard)

@@ -87,6 +87,7 @@ def analyse_file(
         curve=technique.drawn_curve(v, measurement, max_points),
         label=entry.label,
         resistance_ohm=resistance or None,
+        pH=entry.pH,
         imported=imported_file(v.metadata),
     )
 

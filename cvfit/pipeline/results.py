@@ -14,9 +14,11 @@ from cvfit.flags import Flag
 from cvfit.io.notes import ImportedFile
 from cvfit.quantity import clean_number
 from cvfit.reversibility_criteria import ReversibilityCriteria
-from cvfit.techniques.base import StandardMeasurement
-from cvfit.titration.lingane import LinganeFit, null_fit_dict
-from cvfit.titration.stepwise_result import StepwiseFit, null_stepwise_dict
+from cvfit.techniques.base import Measurement, StandardMeasurement
+from cvfit.titration.base import ReferenceHalfWave
+from cvfit.titration.lingane import LinganeFit
+from cvfit.titration.registry import MODEL_NAMES, model_named
+from cvfit.titration.stepwise_result import StepwiseFit
 
 from .half_wave import HalfWaveDecision
 
@@ -24,7 +26,6 @@ if TYPE_CHECKING:  # imported for annotations only; keeps this module free of he
     from cvfit.io.manifest import SeriesSettings
     from cvfit.techniques.curves import CycleCurve
     from cvfit.techniques.cv.curve.global_fit import GlobalCurveFit
-    from cvfit.techniques.cv.measurement import CVMeasurement
     from cvfit.techniques.cv.screen.scan_rate import ScanRateStudy
 
 __all__ = [
@@ -37,13 +38,9 @@ __all__ = [
     "clean_number",
 ]
 
-#: The fit of a titration series: one type per model (``[fit] model`` of the manifest).
-#: Consumers tell them apart with ``isinstance``.
+#: The fit of a titration series: one type per model (``[fit] model`` of the manifest),
+#: each a :class:`~cvfit.titration.base.TitrationResult`.
 TitrationFit: TypeAlias = LinganeFit | StepwiseFit
-
-#: results.json ``fit`` record of a series that could not be fitted, by model: the keys of
-#: that model's fit with null constants.
-_NULL_FIT_DICT = {"lingane": null_fit_dict, "stepwise": null_stepwise_dict}
 
 
 #: The internal reference couple as measured in one file (defined with the techniques).
@@ -87,6 +84,8 @@ class FileResult:
         Optional label from the manifest.
     resistance_ohm : float or None
         R_u the potentials were corrected with, Ω.
+    pH : float or None
+        The solution's pH, when the manifest gives one for the file.
     imported : ImportedFile or None
         The columns read from the file and the importer's flags
         (:func:`cvfit.io.notes.imported_file`); None for a record not read from a file.
@@ -96,13 +95,14 @@ class FileResult:
     ligand_M: float
     free_ligand_M: float
     scan_rate_V_s: float | None
-    measurement: CVMeasurement
+    measurement: Measurement
     half_wave: HalfWaveDecision
     used_in_fit: bool = False
     series_flags: tuple[Flag, ...] = ()
     curve: CycleCurve | None = field(default=None, repr=False, compare=False)
     label: str | None = None
     resistance_ohm: float | None = None
+    pH: float | None = None
     imported: ImportedFile | None = field(default=None, compare=False)
 
     @property
@@ -175,44 +175,6 @@ class FileResult:
 
 
 @dataclass(frozen=True)
-class ReferenceHalfWave:
-    """E½ of the uncomplexed couple, E½(s), and where it came from.
-
-    Attributes
-    ----------
-    E_half_V : float or None
-        Reference half-wave potential, V (None when it could not be measured).
-    stderr_V : float or None
-        Its standard error, V (None when unknown).
-    source : str
-        ``"file"`` (mean of the ligand-free voltammograms) or ``"manifest"``.
-    files : tuple of str
-        The ligand-free files it was taken from.
-    spread_V : float or None
-        Standard deviation of those files' E½, V (None with fewer than two).
-    file_E_half_V : tuple of float
-        Their E½ values, V, in the order of ``files``.
-    """
-
-    E_half_V: float | None
-    stderr_V: float | None
-    source: str
-    files: tuple[str, ...] = ()
-    spread_V: float | None = None
-    file_E_half_V: tuple[float, ...] = ()
-
-    def to_dict(self) -> dict[str, Any]:
-        return {
-            "E_half_V": clean_number(self.E_half_V),
-            "stderr_V": clean_number(self.stderr_V),
-            "source": self.source,
-            "files": list(self.files),
-            "spread_V": clean_number(self.spread_V),
-            "file_E_half_V": [clean_number(v) for v in self.file_E_half_V],
-        }
-
-
-@dataclass(frozen=True)
 class SeriesConditions:
     """The conditions a series was analysed under: its ``[series]`` settings and the model.
 
@@ -226,10 +188,11 @@ class SeriesConditions:
 
     settings: SeriesSettings
     model: Literal["lingane", "stepwise"]
+    technique: str = "cv"
 
     def __post_init__(self) -> None:
-        if self.model not in ("lingane", "stepwise"):
-            raise ValueError(f"model must be 'lingane' or 'stepwise', got {self.model!r}")
+        if self.model not in MODEL_NAMES:
+            raise ValueError(f"model must be one of {MODEL_NAMES}, got {self.model!r}")
 
     @property
     def title(self) -> str:
@@ -256,6 +219,7 @@ class SeriesConditions:
             record[f.name] = list(value) if isinstance(value, tuple) else value
         record["temperature_K"] = self.temperature_K
         record["model"] = self.model
+        record["technique"] = self.technique
         return record
 
 
@@ -312,7 +276,7 @@ class SeriesResult:
             fit = self.fit.to_dict()
         else:
             why = [f for f in self.flags if f.severity == "error"]
-            fit = _NULL_FIT_DICT[self.series.model](self.fit_n_points, why)
+            fit = model_named(self.series.model).null_dict(self.fit_n_points, why)
         return {
             "cvfit_version": self.cvfit_version,
             "manifest": self.manifest,

@@ -17,7 +17,6 @@ from cvfit.errors import InputError
 from cvfit.flags import FitRefused, Flag
 from cvfit.io import Manifest, load_manifest
 from cvfit.pipeline.global_stage import run_global
-from cvfit.pipeline.lingane_stage import run_lingane
 from cvfit.pipeline.per_file import analyse_files, read_entry, with_measurement
 from cvfit.pipeline.results import (
     FileResult,
@@ -28,9 +27,11 @@ from cvfit.pipeline.results import (
 )
 from cvfit.techniques import technique_of
 from cvfit.techniques.base import StudyItem
+from cvfit.titration.base import TitrationData, TitrationPoint
 from cvfit.titration.error_budget import reference_mean
 from cvfit.titration.lingane import MIN_POINTS as MIN_FIT_POINTS
-from cvfit.titration.lingane import TitrationPoint, check_points
+from cvfit.titration.lingane import check_points
+from cvfit.titration.registry import model_named
 from cvfit.version import __version__
 from cvfit.voltammogram import Voltammogram
 
@@ -40,6 +41,15 @@ __all__ = ["analyse_series", "analyse_manifest_file", "MIN_FIT_POINTS"]
 def analyse_manifest_file(path: str | Path, *, jobs: int = 1) -> SeriesResult:
     """Load a manifest and analyse its series (*jobs* processes share the files)."""
     return analyse_series(load_manifest(path), jobs=jobs)
+
+
+#: The series flag of a run without ligand: the couple characterised, no titration fitted.
+_NO_TITRATION = Flag(
+    "NO_TITRATION",
+    "every file is ligand-free (ligand_M = 0): the couple is characterised — E½, ΔEp, "
+    "ipa/ipc, k0, D and the scan-rate studies — and no constants are fitted",
+    "info",
+)
 
 
 def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
@@ -117,29 +127,49 @@ def _no_reference(reference: ReferenceHalfWave, files: Sequence[FileResult]) -> 
     return Flag("NO_REFERENCE_E_HALF", text, "error")
 
 
+def _point(f: FileResult, x: float) -> TitrationPoint:
+    """A file as a titration point at *x*: its decided E½ and what its technique knows."""
+    m = f.measurement
+    if f.E_half_V is None:
+        raise ValueError(f"{f.file} has no E½ to fit")  # only accepted files are points
+    return TitrationPoint(
+        f.file,
+        x,
+        f.E_half_V,
+        f.E_half_total_stderr_V,
+        bulk_form=m.bulk_form,
+        diffusion_current_A=m.diffusion_current_A,
+        scan_rate_V_s=f.scan_rate_V_s,
+        pH=f.pH,
+    )
+
+
 def _fit_titration(
-    points: Sequence[TitrationPoint],
-    files: list[FileResult],
-    manifest: Manifest,
-    reference: ReferenceHalfWave,
+    files: list[FileResult], manifest: Manifest, reference: ReferenceHalfWave
 ) -> tuple[TitrationFit | FitRefused, list[FileResult]]:
     """The fit of the model asked for, or why none can be made; the files come back with
-    the free ligand the fit used.
+    the x the model fitted them at (the free ligand) and its notes on them.
 
-    Both models need what the Lingane line needs (:func:`check_points`: three points over
+    Every model needs what the Lingane line needs (:func:`check_points`: three points over
     more than one ligand concentration) and a reference E½(s).
     """
+    points = tuple(_point(f, f.free_ligand_M) for f in files if f.used_in_fit)
     checks = check_points(points)
     why: list[Flag] = []
     if reference.E_half_V is None:
         why.append(_no_reference(reference, files))
     if why or any(f.severity == "error" for f in checks):
         return FitRefused((*why, *checks)), files
-    if manifest.fit.model == "stepwise":
-        from cvfit.pipeline.stepwise_stage import run_stepwise
-
-        return run_stepwise(files, manifest, reference)
-    return run_lingane(points, files, manifest, reference)
+    refs = tuple(_point(f, 0.0) for f in files if f.file in reference.files)
+    data = TitrationData(points, reference, refs)
+    outcome = model_named(manifest.fit.model).fit(data, manifest)
+    out = []
+    for f in files:
+        note = outcome.notes.get(f.file)
+        if note is not None:
+            f = replace(f, free_ligand_M=note.x, series_flags=(*f.series_flags, *note.flags))
+        out.append(f)
+    return outcome.fit, out  # type: ignore[return-value]
 
 
 def _reference_flags(reference: ReferenceHalfWave, files: Sequence[FileResult]) -> list[Flag]:
@@ -210,10 +240,11 @@ def analyse_series(
         (``None`` with a series flag when fewer than three usable points remain).
     """
     titrating = [e for e in manifest.voltammograms if e.ligand_M > 0]
-    if len(titrating) < MIN_FIT_POINTS:
+    if 0 < len(titrating) < MIN_FIT_POINTS:
         raise InputError(
             f"the manifest lists {len(titrating)} voltammogram(s) with ligand_M > 0; a "
-            f"titration fit needs at least {MIN_FIT_POINTS} — add more [[voltammogram]] tables",
+            f"titration fit needs at least {MIN_FIT_POINTS} — add more [[voltammogram]] tables "
+            "(or list only ligand-free files to characterise the couple without a titration)",
             source=str(manifest.path),
             key="voltammogram",
         )
@@ -224,16 +255,14 @@ def analyse_series(
     series_flags: list[Flag] = list(study_flags)
 
     final: list[FileResult] = []
-    points: list[TitrationPoint] = []
+    n_points = 0
     excluded: list[str] = []
     for f in files:
         usable = f.free_ligand_M > 0 and f.half_wave.accepted
         if f.free_ligand_M > 0 and not f.half_wave.accepted and f.E_half_V is not None:
             excluded.append(f.file)
         if usable:
-            points.append(
-                TitrationPoint(f.file, f.free_ligand_M, f.E_half_V, f.E_half_total_stderr_V)
-            )
+            n_points += 1
         final.append(replace(f, used_in_fit=usable))
 
     nernstian = all(f.reversible is True for f in final)
@@ -256,19 +285,22 @@ def analyse_series(
         )
     series_flags += _reference_flags(reference, final)
 
-    outcome, final = _fit_titration(points, final, manifest, reference)
     fit = None
-    if isinstance(outcome, FitRefused):
-        series_flags.extend(outcome.flags)
+    if not titrating:
+        series_flags.append(_NO_TITRATION)
     else:
-        fit = outcome
+        outcome, final = _fit_titration(final, manifest, reference)
+        if isinstance(outcome, FitRefused):
+            series_flags.extend(outcome.flags)
+        else:
+            fit = outcome
     global_fit, global_flags = run_global(final, manifest, fit, reference, records)
     series_flags.extend(global_flags)
 
     return SeriesResult(
         cvfit_version=__version__,
         manifest=str(manifest.path),
-        series=SeriesConditions(manifest.series, manifest.fit.model),
+        series=SeriesConditions(manifest.series, manifest.fit.model, technique_of(manifest).name),
         files=tuple(final),
         reference=reference,
         fit=fit,
@@ -276,7 +308,7 @@ def analyse_series(
         exclude_non_nernstian=exclude,
         criteria=manifest.reversibility,
         flags=tuple(series_flags),
-        fit_n_points=len(points),
+        fit_n_points=n_points,
         scan_rate_studies=studies,
         global_fit=global_fit,
     )

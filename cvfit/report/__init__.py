@@ -132,34 +132,16 @@ def _write_set(
     result: SeriesResult, out: Path, simulated_with: Sequence[str] = ()
 ) -> dict[str, Path]:
     """Every output of *result* into the empty folder *out*; results.json last."""
-    from cvfit.report.figures.diagnostics import plot_diagnostics
-    from cvfit.report.figures.titration import plot_lingane, plot_voltammograms
+    from cvfit.report.figures.registry import draw_figure, figures_for
 
     json_text = results_to_json(result)
     written: dict[str, Path] = {
         "table": write_file_table(result, out / OUTPUT_NAMES["table"]),
-        "voltammograms_figure": plot_voltammograms(
-            result, out / OUTPUT_NAMES["voltammograms_figure"]
-        ),
-        "diagnostics_figure": plot_diagnostics(result, out / OUTPUT_NAMES["diagnostics_figure"]),
     }
-    from cvfit.report.figures.curve_fits import CURVE_FITS_FIGURE, plot_curve_fits
-
-    # only when some file was curve-fitted
-    curve_fits = plot_curve_fits(result, out / CURVE_FITS_FIGURE)
-    if curve_fits is not None:
-        written["curve_fits_figure"] = curve_fits
-    # The figures of the model asked for, also when no fit could be made (they then say so).
-    if result.series.model == "lingane":
-        written["lingane_figure"] = plot_lingane(result, out / OUTPUT_NAMES["lingane_figure"])
-    else:
-        from cvfit.report.figures.stepwise import write_stepwise_figures
-
-        written.update(write_stepwise_figures(result, out))
-    if any(f.internal_standard is not None for f in result.files):
-        from cvfit.report.figures.internal_standard import FILE_NAME, plot_internal_standard
-
-        written["internal_standard_figure"] = plot_internal_standard(result, out / FILE_NAME)
+    for entry in figures_for(result):
+        path = draw_figure(entry, result, out)
+        if path is not None:
+            written[entry.output_key] = path
     # The HTML page embeds every figure written above; keep it after them.
     from cvfit.report.html import write_html_report
 

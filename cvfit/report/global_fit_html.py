@@ -6,7 +6,7 @@ from collections.abc import Mapping
 from html import escape
 from typing import Any
 
-from cvfit.report.formatting import format_pm
+from cvfit.formatting import format_pm
 
 __all__ = ["global_fit_section"]
 

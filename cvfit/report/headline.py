@@ -12,7 +12,8 @@ import math
 from collections.abc import Mapping, Sequence
 from typing import Any
 
-from cvfit.report.formatting import format_pm
+from cvfit.formatting import format_pm
+from cvfit.titration.registry import MODEL_NAMES, model_named
 
 __all__ = [
     "headline_lines",
@@ -126,6 +127,8 @@ def screen_short(data: Mapping[str, Any]) -> str:
 
 def _no_constants(data: Mapping[str, Any]) -> str:
     fit = data.get("fit") or {}
+    if any(fl.get("code") == "NO_TITRATION" for fl in data.get("flags") or []):
+        return "No titration: every file is ligand-free, so the couple is characterised only."
     why = [
         fl
         for fl in [*(data.get("flags") or []), *(fit.get("flags") or [])]
@@ -168,10 +171,8 @@ def headline_lines(data: Mapping[str, Any]) -> list[str]:
     lines = constant_lines(fit)
     if lines:
         n, model = fit.get("n_points"), fit.get("model", "")
-        lines.append(
-            f"({'Lingane' if model == 'lingane' else 'stepwise'} fit on {n} files; "
-            "± standard error)"
-        )
+        title = model_named(model).title if model in MODEL_NAMES else model
+        lines.append(f"({title} fit on {n} files; ± standard error)")
     else:
         lines.append(_no_constants(data))
     lines.append(screen_sentence(data))

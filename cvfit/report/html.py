@@ -21,32 +21,23 @@ from pathlib import Path
 from typing import Any
 
 from cvfit.flag_codes import FLAG_CODES
+from cvfit.formatting import format_pm, format_value
 from cvfit.pipeline.results import SeriesResult
 from cvfit.report.atomic import atomic_write_text
-from cvfit.report.formatting import format_pm, format_value
+from cvfit.report.figures.registry import FIGURES
 from cvfit.report.global_fit_html import global_fit_section
 from cvfit.report.headline import headline_lines
 from cvfit.report.html_sections import error_budget_section, internal_standard_section
 from cvfit.report.imported_columns import columns_html
-from cvfit.report.methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS, STEPWISE_STEP
+from cvfit.report.methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS
+from cvfit.techniques import technique_of_name
+from cvfit.titration.registry import MODEL_NAMES, model_named
 
 __all__ = ["render_html", "write_html_report", "FIGURE_CAPTIONS"]
 
-#: Captions of the figures cvfit writes, by file name; other figures get their file stem.
-FIGURE_CAPTIONS = {
-    "voltammograms.png": "The analysed cycle of every voltammogram, coloured by total ligand "
-    "concentration (dashed: no ligand; grey dotted: failed the reversibility screen, as the "
-    "figure's legend says).",
-    "half_wave_shift.png": "E½(c) − E½(s) against log10[L] with the fitted line (stepwise: "
-    "curve), its 95 % band, and the residuals (open markers: flagged, not fitted); the "
-    "constants found stand under the title.",
-    "diagnostics.png": "Reversibility diagnostics of every voltammogram: n·ΔEp and ipa/ipc "
-    "against the band the screen allows (filled: used — in the fit or, diamond, as the "
-    "ligand-free reference; open: left out of the fit).",
-    "curve_fits.png": "Curve fits: for each voltammogram whose E½ was sought from the whole "
-    "curve, the data (grey), the fitted model (dashed: refused) and the residuals in units "
-    "of the noise σ (band ±2).",
-}
+#: Captions of the figures cvfit writes, by file name (from the figure registry); other
+#: figures get their file stem.
+FIGURE_CAPTIONS = {e.file_name: e.caption for e in FIGURES.values()}
 
 # key -> (label, scale, unit) for the constants of the fit
 _Q_LABELS = {
@@ -251,6 +242,8 @@ def _conditions(data: Mapping[str, Any]) -> str:
     return '<dl class="cond">' + "".join(f"<dt>{k}</dt><dd>{v}</dd>" for k, v in rows) + "</dl>"
 
 
+#: Generic keys of a file record the per-file table shows in its fixed columns (the
+#: technique adds its own, :attr:`Technique.report_columns`).
 _FILE_COLUMNS = (
     "file",
     "label",
@@ -259,25 +252,11 @@ _FILE_COLUMNS = (
     "scan_rate_V_s",
     "E_half_V",
     "E_half_stderr_V",
-    "delta_Ep_V",
-    "expected_delta_Ep_V",
-    "current_ratio",
     "reversible",
     "used_in_fit",
     "flags",
+    "technique",
 )
-_NOT_SHOWN = {
-    "cycle",
-    "first_sweep",
-    "switching_potential_V",
-    "Epc_V",
-    "Epa_V",
-    "Ep_half_c_V",
-    "Ep_half_a_V",
-    "ipc_A",
-    "ipa_A",
-    "noise_A",
-}
 
 
 def _yes_no(x: object) -> str:
@@ -335,12 +314,20 @@ def _number(x: object) -> str:
     return "0" if x == 0 else _e(f"{x:.4g}")
 
 
-def _file_table(files: Sequence[Mapping[str, Any]]) -> str:
+def _technique(data: Mapping[str, Any]) -> str:
+    """The technique of the series a results.json mapping describes (cv when not said)."""
+    return str((data.get("series") or {}).get("technique") or "cv")
+
+
+def _file_table(files: Sequence[Mapping[str, Any]], technique: str = "cv") -> str:
+    own_columns = technique_of_name(technique).report_columns
+    shown = {*_FILE_COLUMNS, *technique_of_name(technique).hidden_keys}
+    shown |= {key for _, key, _, _ in own_columns}
     extra: list[str] = []
     for f in files:
         for k, v in f.items():
             scalar = v is None or isinstance(v, (str, int, float, bool))
-            if k not in _FILE_COLUMNS and k not in _NOT_SHOWN and scalar and k not in extra:
+            if k not in shown and scalar and k not in extra:
                 extra.append(k)
     heads = [
         "file",
@@ -348,9 +335,7 @@ def _file_table(files: Sequence[Mapping[str, Any]]) -> str:
         "free [L] / mol L⁻¹",
         "v / V s⁻¹",
         "E½ / mV",
-        "ΔEp / mV",
-        "Nernstian ΔEp / mV",
-        "ipa/ipc",
+        *(head for head, _, _, _ in own_columns),
         "Nernstian",
         "in fit",
     ]
@@ -368,9 +353,10 @@ def _file_table(files: Sequence[Mapping[str, Any]]) -> str:
             _number(f.get("free_ligand_M")),
             _number(f.get("scan_rate_V_s")),
             _e(format_pm(f.get("E_half_V"), f.get("E_half_stderr_V"), scale=1e3)),
-            _e(format_value(f.get("delta_Ep_V"), scale=1e3)),
-            _e(format_value(f.get("expected_delta_Ep_V"), scale=1e3)),
-            _e(format_value(f.get("current_ratio"), digits=2)),
+            *(
+                _e(format_value(f.get(key), scale=scale, digits=digits))
+                for _, key, scale, digits in own_columns
+            ),
             _yes_no(f.get("reversible")),
             _yes_no(f.get("used_in_fit")),
         ]
@@ -461,8 +447,8 @@ def _figures(figures: Sequence[Path]) -> str:
 
 def _method(fit: Mapping[str, Any]) -> str:
     steps = list(METHOD_STEPS)
-    if fit.get("log10_beta") or fit.get("model") == "stepwise":
-        steps.append(STEPWISE_STEP)
+    if fit.get("model") in MODEL_NAMES:
+        steps += model_named(fit["model"]).method_steps
     out = []
     for heading, text, refs in steps:
         out.append(f"<h3>{_e(heading)}</h3><p>{_e(text)}</p>")
@@ -528,6 +514,7 @@ def render_html(
     standard_html, figures = internal_standard_section(data, [Path(p) for p in figures])
     series_flags = list(data.get("flags") or []) + list(fit.get("flags") or [])
     flags_html = _flag_list(series_flags) or "<p>None.</p>"
+    file_table = _file_table(data.get("voltammograms") or [], _technique(data))
     body = (
         f'<header><h1>{_e(title)}</h1><div class="sub">Voltammetric titration analysed by '
         f"cvfit {_e(data.get('cvfit_version'))}</div></header>"
@@ -538,7 +525,7 @@ def render_html(
         f"{global_fit_section(data)}"
         f"<section><h2>Series findings</h2>{flags_html}</section>"
         f"<section><h2>Voltammograms</h2>{columns_html(data.get('voltammograms') or [])}"
-        f"{_file_table(data.get('voltammograms') or [])}"
+        f"{file_table}"
         "</section>"
         f"<section><h2>Figures</h2>{_figures([Path(p) for p in figures])}</section>"
         f"<section><h2>Method and sources</h2>{_method(fit)}</section>"

@@ -8,7 +8,7 @@ change them together. :data:`BASELINE_SENTENCE` is quoted word for word by the R
 
 from __future__ import annotations
 
-__all__ = ["BASELINE_SENTENCE", "METHOD_STEPS", "STEPWISE_STEP", "ASSUMPTIONS", "CAUTIONS"]
+__all__ = ["BASELINE_SENTENCE", "METHOD_STEPS", "ASSUMPTIONS", "CAUTIONS"]
 
 #: How the peaks are measured, in one sentence: the report, the README and docs/methods.md
 #: say exactly this (see :mod:`cvfit.techniques.cv.peaks.analysis` for the method in full).
@@ -69,19 +69,6 @@ METHOD_STEPS: tuple[tuple[str, str, tuple[str, ...]], ...] = (
         "Constants",
         "F and R are taken from scipy.constants (CODATA 2018).",
         (),
-    ),
-)
-
-#: Shown when the results carry stepwise overall constants (a ``log10_beta`` list).
-STEPWISE_STEP: tuple[str, str, tuple[str, ...]] = (
-    "Stepwise complexes",
-    "When the reduced form is not complexed, F0([L]) = exp{(nF/RT)[E½(s) − E½(c)]} = "
-    "Σ βj [L]^j (β0 = 1) is fitted directly by weighted least squares to give the overall "
-    "constants βj with their standard errors; Leden's graphical functions F1, F2, … serve "
-    "only as a check.",
-    (
-        "D. D. DeFord, D. N. Hume, J. Am. Chem. Soc. 73 (1951) 5321",
-        "I. Leden, Z. phys. Chem. A188 (1941) 160",
     ),
 )
 

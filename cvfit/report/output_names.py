@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from cvfit.report.figures.registry import FIGURES, figure_names
+
 __all__ = [
     "OUTPUT_NAMES",
     "STEPWISE_ONLY_NAMES",
@@ -10,28 +12,28 @@ __all__ = [
     "is_output_name",
 ]
 
-#: File names written into the output folder.
+#: File names written into the output folder of every (cyclic-voltammetry, Lingane)
+#: series; the figures' names come from the figure registry.
 OUTPUT_NAMES = {
     "results": "results.json",
     "table": "voltammograms.csv",
-    "voltammograms_figure": "voltammograms.png",
-    "lingane_figure": "half_wave_shift.png",
-    "diagnostics_figure": "diagnostics.png",
+    **{
+        FIGURES[k].output_key: FIGURES[k].file_name
+        for k in ("voltammograms", "lingane", "diagnostics")
+    },
     "html_report": "report.html",
 }
 
-#: Figures written only for the stepwise model (``cvfit.report.figures.stepwise``).
-STEPWISE_ONLY_NAMES = ("leden_functions.png", "species_distribution.png")
+#: Figures written only for the stepwise model.
+STEPWISE_ONLY_NAMES = (FIGURES["stepwise_leden"].file_name, FIGURES["stepwise_species"].file_name)
 
 #: The drift figure, written only for a series with an internal reference couple.
-INTERNAL_STANDARD_NAME = "internal_standard.png"
+INTERNAL_STANDARD_NAME = FIGURES["internal_standard"].file_name
 
 #: The curve-fit figure, written only when some file was fitted as a whole curve.
-CURVE_FITS_NAME = "curve_fits.png"
+CURVE_FITS_NAME = FIGURES["curve_fits"].file_name
 
-_OWNED = frozenset(
-    (*OUTPUT_NAMES.values(), *STEPWISE_ONLY_NAMES, INTERNAL_STANDARD_NAME, CURVE_FITS_NAME)
-)
+_OWNED = frozenset((*OUTPUT_NAMES.values(), *figure_names()))
 
 
 def is_output_name(name: str) -> bool:

@@ -3,25 +3,13 @@
 from __future__ import annotations
 
 from cvfit.errors import printable
+from cvfit.formatting import format_pm
 from cvfit.pipeline.results import SeriesResult
-from cvfit.quantity import Quantity
-from cvfit.report.formatting import format_pm, format_value
 from cvfit.report.headline import headline_lines
 from cvfit.report.imported_columns import columns_lines
-from cvfit.titration.lingane import LinganeFit
-from cvfit.titration.stepwise_result import StepwiseFit
+from cvfit.techniques import technique_of_name
 
 __all__ = ["format_summary"]
-
-
-def _q(q: Quantity, *, scale: float = 1.0, unit: str = "", digits: int | None = None) -> str:
-    text = format_pm(q.value, q.stderr, scale=scale, unit=unit)
-    lo, hi = q.ci95
-    if text == "n/d":
-        return text
-    if digits is None:
-        digits = max(0, len(text.split(" ± ")[0].split(".")[-1])) if "." in text else 0
-    return f"{text}   95 % CI [{lo * scale:.{digits}f}, {hi * scale:.{digits}f}]"
 
 
 def format_summary(result: SeriesResult) -> str:
@@ -43,57 +31,21 @@ def format_summary(result: SeriesResult) -> str:
     )
     lines.extend(_standard_lines(result))
     lines.append("")
-    e_halves = [format_pm(f.E_half_V, f.E_half_total_stderr_V, scale=1e3) for f in result.files]
-    w = max([16, *map(len, e_halves)])  # "150.1 (uncertainty unknown)" is wider than 16
-    header = (
-        f"{'file':<22} {'[L]/M':>9} {'E½/mV':>{w}} {'ΔEp/mV':>7} {'Nernst':>7} "
-        f"{'ipa/ipc':>7} {'rev':>4} {'fit':>4}"
-    )
-    lines.append(header)
-    lines.append("-" * len(header))
-    for f, e_half in zip(result.files, e_halves, strict=True):
-        p = f.measurement.peaks
-        rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
-        name = printable(f.file)
-        name = name if len(name) <= 22 else "…" + name[-21:]
-        lines.append(
-            f"{name:<22} {f.ligand_M:>9.3g} {e_half:>{w}} "
-            f"{format_value(p.delta_Ep_V, scale=1e3):>7} "
-            f"{format_value(f.measurement.screen.expected_delta_Ep_V, scale=1e3):>7} "
-            f"{format_value(p.current_ratio, digits=2):>7} {rev:>4} "
-            f"{'yes' if f.used_in_fit else '-':>4}"
-        )
+    lines.extend(_file_table(result))
     lines.append("")
     read = columns_lines([(f.file, f.imported_columns) for f in result.files])
     lines.extend([*read, ""] if read else [])
-    from cvfit.report.summary_kinetics import kinetics_lines
-
-    lines.extend(kinetics_lines(result))
-    from cvfit.report.summary_curve import curve_lines, global_lines
-
-    lines.extend(curve_lines(result))
+    technique = technique_of_name(result.series.technique)
+    lines.extend(technique.summary_lines(result.files, result.scan_rate_studies))
     fit = result.fit
-    if isinstance(fit, StepwiseFit):
-        from cvfit.report.summary_stepwise import stepwise_lines
-
-        lines.extend(stepwise_lines(fit))
-    elif isinstance(fit, LinganeFit):
-        lines.append(
-            f"Lingane fit on {fit.n_points} points ({fit.dof} degrees of freedom, "
-            f"{'weighted by per-file E½ errors' if fit.weighted else 'unweighted'}):"
-        )
-        lines.append(
-            "  slope                 " + _q(fit.slope_V_per_decade, scale=1e3, unit="mV/decade")
-        )
-        lines.append("  p − q                 " + _q(fit.delta_ligands))
-        lines.append("  log10(β_ox/β_red)     " + _q(fit.log10_beta_ratio))
-        lines.append(
-            f"  with p − q = {fit.delta_ligands_integer}:       "
-            + _q(fit.log10_beta_ratio_at_integer)
-        )
-        lines.append("  (β_ox/β_red in (mol/L)^-(p−q); [L] in mol/L)")
+    if fit is not None:
+        lines.extend(fit.summary_lines())
+    elif any(fl.code == "NO_TITRATION" for fl in result.flags):
+        lines.append("No titration (every file is ligand-free): no constants.")
     else:
         lines.append("No constants: see the series flags below.")
+    from cvfit.report.summary_global import global_lines
+
     lines.extend(global_lines(result))
     lines.append("")
     flagged = [
@@ -109,6 +61,28 @@ def format_summary(result: SeriesResult) -> str:
     while lines and not lines[-1]:
         lines.pop()
     return "\n".join(lines)
+
+
+def _file_table(result: SeriesResult) -> list[str]:
+    """The per-file table: solution, E½ ± σ, the technique's columns, verdict, use."""
+    e_halves = [format_pm(f.E_half_V, f.E_half_total_stderr_V, scale=1e3) for f in result.files]
+    w = max([16, *map(len, e_halves)])  # "150.1 (uncertainty unknown)" is wider than 16
+    cells = [f.measurement.summary_cells() for f in result.files]
+    heads = list(cells[0]) if cells else []
+    widths = {h: max([len(h), *(len(c[h]) for c in cells)]) for h in heads}
+    own = " ".join(f"{h:>{widths[h]}}" for h in heads)
+    header = f"{'file':<22} {'[L]/M':>9} {'E½/mV':>{w}} {own} {'rev':>4} {'fit':>4}"
+    lines = [header, "-" * len(header)]
+    for f, e_half, c in zip(result.files, e_halves, cells, strict=True):
+        rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
+        name = printable(f.file)
+        name = name if len(name) <= 22 else "…" + name[-21:]
+        row = " ".join(f"{c[h]:>{widths[h]}}" for h in heads)
+        lines.append(
+            f"{name:<22} {f.ligand_M:>9.3g} {e_half:>{w}} {row} {rev:>4} "
+            f"{'yes' if f.used_in_fit else '-':>4}"
+        )
+    return lines
 
 
 def _standard_lines(result: SeriesResult) -> list[str]:

@@ -24,7 +24,7 @@ file enters a fit: that is the pipeline's one decision.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal, Protocol, runtime_checkable
 
@@ -44,6 +44,7 @@ __all__ = [
     "FileSettings",
     "StudyItem",
     "SeriesStudy",
+    "FileView",
 ]
 
 #: How a technique's E½ was obtained, in decreasing order of trust:
@@ -135,13 +136,34 @@ class StandardMeasurement:
 class Measurement(Protocol):
     """What a technique found in one file (a frozen record of the technique's own)."""
 
-    technique: str
-    flags: tuple[Flag, ...]
-    standard: StandardMeasurement | None
+    @property
+    def technique(self) -> str:
+        """The technique's name (``[series] technique``)."""
+        ...
+
+    @property
+    def flags(self) -> tuple[Flag, ...]:
+        """Its findings, as flags."""
+        ...
+
+    @property
+    def standard(self) -> StandardMeasurement | None:
+        """An internal reference couple measured in the same record, if any."""
+        ...
 
     @property
     def reversible(self) -> bool | None:
         """The technique's Nernstian verdict (None: could not be judged)."""
+        ...
+
+    @property
+    def bulk_form(self) -> Literal["ox", "red"] | None:
+        """The form of the couple in the bulk of the solution, when it can tell."""
+        ...
+
+    @property
+    def diffusion_current_A(self) -> float | None:
+        """The diffusion-controlled current of the bulk oxidised form, A, or None."""
         ...
 
     def half_wave_estimate(self) -> HalfWaveEstimate:
@@ -153,8 +175,33 @@ class Measurement(Protocol):
         ...
 
     def table_cells(self) -> dict[str, object]:
-        """The technique's own columns of the per-file table (name → value)."""
+        """The technique's own columns of the per-file CSV table (name → value)."""
         ...
+
+    def summary_cells(self) -> dict[str, str]:
+        """The technique's own columns of the terminal's per-file table (header → text,
+        right-aligned under a header as wide as the widest cell)."""
+        ...
+
+
+class FileView(Protocol):
+    """One file of an analysed series as a technique's report sees it (the pipeline's
+    per-file result satisfies it)."""
+
+    @property
+    def file(self) -> str: ...
+
+    @property
+    def ligand_M(self) -> float: ...
+
+    @property
+    def used_in_fit(self) -> bool: ...
+
+    @property
+    def measurement(self) -> Any: ...
+
+    @property
+    def E_half_source(self) -> str: ...
 
 
 @dataclass(frozen=True)
@@ -202,17 +249,27 @@ class Technique(Protocol):
     """A way of recording a voltammogram, and how to get E½ from it."""
 
     name: str
+    #: Its figures (keys of :mod:`cvfit.report.figures.registry`).
+    figures: tuple[str, ...]
+    #: Its columns of the HTML per-file table, (header, results.json key, scale, decimals),
+    #: and the keys of its measurement the table leaves out.
+    report_columns: tuple[tuple[str, str, float, int], ...]
+    hidden_keys: frozenset[str]
 
     def analyse(self, record: Voltammogram, settings: FileSettings) -> Measurement:
         """Measure one file on its own."""
         ...
 
     def study_series(
-        self,
-        items: Sequence[StudyItem],
-        manifest: Manifest,
-        reread: Reread,
-        records: Mapping[str, Voltammogram] | None = None,
+        self, items: Sequence[StudyItem], manifest: Manifest, reread: Reread
     ) -> SeriesStudy:
         """What only the whole series can tell; verdicts may change."""
+        ...
+
+    def drawn_curve(self, record: Voltammogram, measurement: Any, max_points: int) -> Any:
+        """The analysed part of *record*, thinned for figures."""
+        ...
+
+    def summary_lines(self, files: Sequence[FileView], studies: Sequence[Any]) -> list[str]:
+        """Its lines of the terminal summary for the whole series."""
         ...

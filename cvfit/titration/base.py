@@ -11,9 +11,11 @@ A model is an object with
 * ``fit(data, manifest) -> ModelOutcome`` — the fit, or why none can be made, with what it
   found about each point (:class:`PointNote`: the free ligand it used, flags).
 
-Its result (:class:`TitrationResult`) serialises itself (``to_dict``; ``null_dict`` for a
-series it could not fit), and lists its summary lines, its report rows and its figures, so
-that the reports need no branch on the model. :func:`model_named` is the one registry.
+Its result (:class:`TitrationResult`) serialises itself (``to_dict``; the model's
+``null_dict`` for a series it could not fit) and gives its summary lines; the model lists
+its figures (keys of :mod:`cvfit.report.figures.registry`, drawn also without a fit), so
+that the reports need no branch on the model. :func:`cvfit.titration.registry.model_named`
+is the one registry.
 """
 
 from __future__ import annotations
@@ -37,8 +39,6 @@ __all__ = [
     "ModelOutcome",
     "TitrationModel",
     "TitrationResult",
-    "model_named",
-    "MODEL_NAMES",
 ]
 
 
@@ -79,9 +79,11 @@ class TitrationPoint:
     bulk_form : {"ox", "red"} or None
         The form of the couple in the bulk of the solution, when the technique knows it
         (which form binds the ligand that the mass balance removes).
-    diffusion_current : float or None
-        The technique's diffusion-controlled current of the bulk oxidised form, scaled to
-        compare solutions (cyclic voltammetry: peak current over √v), or None.
+    diffusion_current_A : float or None
+        The technique's diffusion-controlled current of the bulk oxidised form, A (cyclic
+        voltammetry: the forward reduction peak), or None.
+    scan_rate_V_s : float or None
+        The scan rate the current was recorded at, V/s (None when unknown).
     pH : float or None
         The solution's pH, when given (ligand protonation).
     """
@@ -91,7 +93,8 @@ class TitrationPoint:
     E_half_V: float
     E_half_stderr_V: float | None = None
     bulk_form: Literal["ox", "red"] | None = None
-    diffusion_current: float | None = None
+    diffusion_current_A: float | None = None
+    scan_rate_V_s: float | None = None
     pH: float | None = None
 
     def __post_init__(self) -> None:
@@ -194,8 +197,10 @@ class ModelOutcome:
 class TitrationResult(Protocol):
     """The fitted result of a titration model (a frozen record of the model's own)."""
 
-    model: str
-    flags: tuple[Flag, ...]
+    @property
+    def flags(self) -> tuple[Flag, ...]:
+        """Its findings, as flags."""
+        ...
 
     def to_dict(self) -> dict[str, Any]:
         """The results.json ``fit`` record."""
@@ -205,16 +210,17 @@ class TitrationResult(Protocol):
         """Its lines in the terminal summary (the fit in detail)."""
         ...
 
-    def figures(self) -> tuple[str, ...]:
-        """Keys of its figures in the figure registry (:mod:`cvfit.report.figures`)."""
-        ...
-
 
 class TitrationModel(Protocol):
     """A way of turning E½ against a titration variable into constants."""
 
     name: str
+    #: How the reports name it ("Lingane", "stepwise").
+    title: str
     variable: str
+    figures: tuple[str, ...]
+    #: Its steps of the method as the report states them: (heading, text, sources).
+    method_steps: tuple[tuple[str, str, tuple[str, ...]], ...]
 
     def fit(self, data: TitrationData, manifest: Manifest) -> ModelOutcome:
         """The fit of *data* under the manifest's settings."""
@@ -223,21 +229,3 @@ class TitrationModel(Protocol):
     def null_dict(self, n_points: int, flags: Sequence[Flag]) -> dict[str, Any]:
         """The results.json ``fit`` record of a series this model could not fit."""
         ...
-
-
-#: The models ``[fit] model`` may name.
-MODEL_NAMES = ("lingane", "stepwise")
-
-
-def model_named(name: str) -> TitrationModel:
-    """The titration model called *name* (imported on first use: a Lingane run does not
-    load the stepwise model's libraries)."""
-    if name == "lingane":
-        from cvfit.titration.lingane_model import LINGANE
-
-        return LINGANE
-    if name == "stepwise":
-        from cvfit.titration.stepwise_model import STEPWISE
-
-        return STEPWISE
-    raise ValueError(f"unknown titration model {name!r}; one of {', '.join(MODEL_NAMES)}")

@@ -33,6 +33,7 @@ import numpy as np
 
 from cvfit.errors import InputError
 from cvfit.flags import FitRefused, Flag
+from cvfit.formatting import format_q
 from cvfit.quantity import Quantity, clean_number
 from cvfit.titration.base import TitrationPoint, finite_number, optional_stderr
 from cvfit.titration.error_budget import (
@@ -158,6 +159,21 @@ class LinganeFit:
         object.__setattr__(self, "flags", tuple(self.flags))
         if not all(isinstance(f, Flag) for f in self.flags):
             raise TypeError("flags must be Flag instances")
+
+    def summary_lines(self) -> list[str]:
+        """Its lines in the terminal summary: slope, p − q and log10(β_ox/β_red) with intervals."""
+        lines = [
+            f"Lingane fit on {self.n_points} points ({self.dof} degrees of freedom, "
+            f"{'weighted by per-file E½ errors' if self.weighted else 'unweighted'}):",
+            "  slope                 "
+            + format_q(self.slope_V_per_decade, scale=1e3, unit="mV/decade"),
+            "  p − q                 " + format_q(self.delta_ligands),
+            "  log10(β_ox/β_red)     " + format_q(self.log10_beta_ratio),
+            f"  with p − q = {self.delta_ligands_integer}:       "
+            + format_q(self.log10_beta_ratio_at_integer),
+            "  (β_ox/β_red in (mol/L)^-(p−q); [L] in mol/L)",
+        ]
+        return lines
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready mapping with the results.json ``fit`` keys (NaN/inf → None)."""

@@ -10,6 +10,7 @@ import numpy as np
 
 from cvfit.chemistry.speciation import fraction_peak_ligand_M, species_fractions
 from cvfit.flags import Flag
+from cvfit.formatting import format_pm
 from cvfit.quantity import Quantity, clean_number
 from cvfit.titration.error_budget import ErrorBudget
 from cvfit.titration.stepwise_least_squares import CandidateFit, StepwiseData
@@ -127,6 +128,11 @@ class StepwiseFit:
     @property
     def log10_beta_values(self) -> list[float]:
         return [q.value for q in self.log10_beta]
+
+    def summary_lines(self) -> list[str]:
+        """Its lines in the terminal summary: the chosen N and why, each log10 β_j with its
+        interval, the rest."""
+        return _summary_lines(self)
 
     def to_dict(self) -> dict[str, Any]:
         """The results.json ``fit`` record of the stepwise model."""
@@ -292,3 +298,41 @@ def null_stepwise_dict(n_points: int, flags) -> dict[str, Any]:
         "weighted": False,
         "flags": [f.to_dict() for f in flags],
     }
+
+
+def _ci(lo: float, hi: float) -> str:
+    def side(x: float) -> str:
+        return f"{x:.2f}" if math.isfinite(x) else "open"
+
+    return f"[{side(lo)}, {side(hi)}]"
+
+
+def _summary_lines(fit: StepwiseFit) -> list[str]:
+    """A few lines: chosen N and why, each log10 β_j with its interval, the rest."""
+    form = "oxidised" if fit.fitted_state == "ox" else "reduced"
+    other = (
+        "other form fixed at log10 β = " + ", ".join(f"{b:g}" for b in fit.fixed_log10_beta)
+        if fit.fixed_log10_beta
+        else "other form not complexed"
+    )
+    lines = [
+        f"Stepwise fit ({form} form; {other}) on {fit.n_points} points, "
+        f"N = {fit.n_complexes} complexes chosen by an F-test at {fit.alpha:g} "
+        f"({fit.dof} degrees of freedom):"
+    ]
+    for j, (q, det) in enumerate(zip(fit.log10_beta, fit.determined, strict=True), start=1):
+        text = format_pm(q.value, q.stderr)
+        mark = "" if det else "   NOT DETERMINED by this ligand range"
+        lines.append(f"  log10 β{j:<2}  {text:>16}   95 % CI {_ci(*q.ci95)}{mark}")
+    for u in fit.undetermined:
+        if u.j > fit.n_complexes:
+            lim = f"< {u.upper_limit_95:.2f}" if u.upper_limit_95 is not None else "no limit"
+            lines.append(f"  log10 β{u.j:<2}  not resolved ({lim})")
+    for c in fit.conditional:
+        vals = ", ".join(f"{q.value:.2f}" for q in c.log10_beta)
+        lines.append(f"  conditional at pH {c.pH:g} (log10 α_L = {c.log10_alpha_L:.2f}): {vals}")
+    if fit.thermodynamic_log10_beta is not None:
+        vals = ", ".join(f"{q.value:.2f}" for q in fit.thermodynamic_log10_beta)
+        lines.append(f"  at I → 0 (Davies, approximate; I = {fit.ionic_strength_M:g} M): {vals}")
+    lines.append("  (β_j in (mol/L)^-j; [L] = free ligand in mol/L)")
+    return lines

@@ -29,14 +29,8 @@ from cvfit.report.headline import constant_lines
 from cvfit.titration.stepwise_result import StepwiseFit
 from cvfit.units import thermal_voltage
 
-__all__ = ["STEPWISE_FIGURES", "write_stepwise_figures"]
+__all__ = ["plot_stepwise_shift", "plot_leden", "plot_species"]
 
-#: Output key → file name of the figures written for the stepwise model.
-STEPWISE_FIGURES = {
-    "lingane_figure": "half_wave_shift.png",
-    "leden_figure": "leden_functions.png",
-    "species_figure": "species_distribution.png",
-}
 _BLUE = "#1f4e79"
 
 
@@ -182,15 +176,20 @@ def _species(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
         return _save(fig, path)
 
 
-def write_stepwise_figures(result: SeriesResult, out: Path) -> dict[str, Path]:
-    """Write the stepwise figures into *out*; a note instead when there is no fit."""
-    out = Path(out)
-    paths = {key: out / name for key, name in STEPWISE_FIGURES.items()}
-    fit = result.fit
-    if not isinstance(fit, StepwiseFit):
-        return {key: _message(p, "no stepwise fit: see the flags") for key, p in paths.items()}
-    return {
-        "lingane_figure": _shift(result, fit, paths["lingane_figure"]),
-        "leden_figure": _leden(result, fit, paths["leden_figure"]),
-        "species_figure": _species(result, fit, paths["species_figure"]),
-    }
+def _drawn(draw):
+    """A figure of the stepwise fit of *result*, or a note when there is no fit."""
+
+    def plot(result: SeriesResult, path: str | Path) -> Path:
+        fit = result.fit
+        if not isinstance(fit, StepwiseFit):
+            return _message(Path(path), "no stepwise fit: see the flags")
+        return draw(result, fit, Path(path))
+
+    plot.__doc__ = f"The stepwise figure drawn by ``{draw.__name__}``, or a note without a fit."
+    return plot
+
+
+#: The stepwise model's figures (entries of :mod:`cvfit.report.figures.registry`).
+plot_stepwise_shift = _drawn(_shift)
+plot_leden = _drawn(_leden)
+plot_species = _drawn(_species)

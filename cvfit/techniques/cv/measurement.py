@@ -21,6 +21,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal
 
 from cvfit.flags import Flag
+from cvfit.formatting import format_value
 from cvfit.quantity import clean_number
 from cvfit.techniques.base import HalfWaveEstimate, StandardMeasurement
 from cvfit.techniques.cv.curve.stage import curve_fit_used
@@ -141,6 +142,15 @@ class CVMeasurement:
             if self.classification is None
             else self.classification.to_dict(),
             "kinetics": None if self.kinetics is None else self.kinetics.to_dict(),
+        }
+
+    def summary_cells(self) -> dict[str, str]:
+        """The terminal table's technique columns: ΔEp, its Nernstian value, ipa/ipc."""
+        p = self.peaks
+        return {
+            "ΔEp/mV": format_value(p.delta_Ep_V, scale=1e3),
+            "Nernst": format_value(self.screen.expected_delta_Ep_V, scale=1e3),
+            "ipa/ipc": format_value(p.current_ratio, digits=2),
         }
 
     def table_cells(self) -> dict[str, object]:

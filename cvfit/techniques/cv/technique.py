@@ -14,7 +14,7 @@ from __future__ import annotations
 from dataclasses import replace
 
 from cvfit.flags import Flag
-from cvfit.io import VoltammogramEntry, resistance_for
+from cvfit.io import SeriesSettings, VoltammogramEntry, resistance_for
 from cvfit.techniques.base import FileSettings
 from cvfit.techniques.curves import CycleCurve, cycle_curve
 from cvfit.techniques.cv.curve.stage import curve_fit_for
@@ -24,6 +24,7 @@ from cvfit.techniques.cv.peaks.analysis import PeakAnalysis, analyse_peaks
 from cvfit.techniques.cv.screen.ohmic_drop import correct_for_resistance, ohmic_flags
 from cvfit.techniques.cv.screen.reversibility import screen_reversibility
 from cvfit.techniques.cv.series_study import study_series
+from cvfit.techniques.cv.summary import HIDDEN_KEYS, REPORT_COLUMNS, summary_lines
 from cvfit.voltammogram import Voltammogram
 
 __all__ = ["CV", "CyclicVoltammetry", "analyse", "drawn_curve"]
@@ -65,16 +66,16 @@ def _ratio_from_first_cycle(
         "forward height",
         "info",
     )
-    reverse = "ipa_A" if peaks.first_sweep == "reduction" else "ipc_A"
     forward = peaks.forward_height_A
     height = None if forward is None else first.current_ratio * forward
-    return replace(
-        peaks, current_ratio=first.current_ratio, flags=(*flags, note), **{reverse: height}
-    )
+    peaks = replace(peaks, current_ratio=first.current_ratio, flags=(*flags, note))
+    if peaks.first_sweep == "reduction":
+        return replace(peaks, ipa_A=height)
+    return replace(peaks, ipc_A=height)
 
 
 def _sign_convention_hint(
-    flags: list[Flag], v: Voltammogram, entry: VoltammogramEntry, series: object
+    flags: list[Flag], v: Voltammogram, entry: VoltammogramEntry, series: SeriesSettings
 ) -> list[Flag]:
     """When the forward peak is missing but the mirrored record (current × −1) has a clean
     one, say that the file may use the other current-sign convention."""
@@ -156,10 +157,15 @@ class CyclicVoltammetry:
     """Cyclic voltammetry behind the technique seam (:class:`cvfit.techniques.base.Technique`)."""
 
     name = "cv"
+    #: Its figures (keys of :mod:`cvfit.report.figures.registry`).
+    figures: tuple[str, ...] = ("diagnostics", "curve_fits")
+    report_columns = REPORT_COLUMNS
+    hidden_keys = HIDDEN_KEYS
 
     analyse = staticmethod(analyse)
     study_series = staticmethod(study_series)
     drawn_curve = staticmethod(drawn_curve)
+    summary_lines = staticmethod(summary_lines)
 
 
 #: The technique object the pipeline uses for ``[series] technique = "cv"``.

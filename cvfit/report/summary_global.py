@@ -1,33 +1,11 @@
-"""Terminal-summary lines of the curve fits and of the global curve fit."""
+"""Terminal-summary lines of the global curve fit."""
 
 from __future__ import annotations
 
+from cvfit.formatting import format_pm
 from cvfit.pipeline.results import SeriesResult
-from cvfit.report.formatting import format_pm
 
-__all__ = ["curve_lines", "global_lines"]
-
-
-def curve_lines(result: SeriesResult) -> list[str]:
-    """One line per curve-fitted file: the E½ used (or why not), k0, α, reduced χ²."""
-    fitted = [f for f in result.files if f.measurement.curve_fit is not None]
-    if not fitted:
-        return []
-    lines = ["Curve fits (E½ of these files from the whole curve where marked 'used'):"]
-    for f in fitted:
-        c = f.measurement.curve_fit
-        if c.k0_lower_bound_cm_s is not None:
-            k0 = f"k0 > {c.k0_lower_bound_cm_s:.3g} cm/s"
-        else:
-            k0 = "k0 " + format_pm(c.k0_cm_s.value, c.k0_cm_s.stderr, unit="cm/s")
-        state = "used" if f.E_half_source == "curve" else "not used"
-        name = f.file if len(f.file) <= 22 else "…" + f.file[-21:]
-        lines.append(
-            f"  {name:<22} E½ {format_pm(c.E_half_V.value, c.E_half_V.stderr, scale=1e3)} mV, "
-            f"{k0}, α {c.alpha.value:.2f}, reduced χ² {c.reduced_chi2.value:.2f} — {state}"
-        )
-    lines.append("")
-    return lines
+__all__ = ["global_lines"]
 
 
 def global_lines(result: SeriesResult) -> list[str]:

@@ -3,8 +3,12 @@
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
-__all__ = ["format_pm", "format_value"]
+if TYPE_CHECKING:
+    from cvfit.quantity import Quantity
+
+__all__ = ["format_pm", "format_q", "format_value"]
 
 
 def _digits_for(stderr: float) -> int:
@@ -37,3 +41,14 @@ def format_value(
         return "n/d"
     tail = f" {unit}" if unit else ""
     return f"{value * scale:.{digits}f}{tail}"
+
+
+def format_q(q: Quantity, *, scale: float = 1.0, unit: str = "", digits: int | None = None) -> str:
+    """value ± stderr with the 95 % interval, digits matching the standard error."""
+    text = format_pm(q.value, q.stderr, scale=scale, unit=unit)
+    lo, hi = q.ci95
+    if text == "n/d":
+        return text
+    if digits is None:
+        digits = max(0, len(text.split(" ± ")[0].split(".")[-1])) if "." in text else 0
+    return f"{text}   95 % CI [{lo * scale:.{digits}f}, {hi * scale:.{digits}f}]"
