@@ -229,7 +229,9 @@ _CATALOGUE = (
              "ligand concentrations and the sign of the shift."),
     # --- stepwise fit --------------------------------------------------------------------
     FlagCode("BETA_UNDETERMINED", _W, "Some β_j are not determined by the ligand range "
-             "measured (info when they all lie beyond the number of complexes chosen).",
+             "measured (info when they all lie beyond the number of complexes chosen); the "
+             "message names the ligand concentration where ML_j would reach 20 % of the "
+             "metal, or says that no reachable concentration will do.",
              also=(_I,)),
     FlagCode("COMPLEX_BARELY_FORMED", _W, "A complex never reaches a notable fraction of the "
              "metal over the measured range; its β_j rests on a small effect."),

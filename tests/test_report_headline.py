@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import csv
 import json
+import math
 import re
 from dataclasses import replace
 from html.parser import HTMLParser
@@ -23,6 +24,7 @@ import matplotlib.pyplot as plt
 import numpy as np
 import pytest
 from matplotlib.collections import LineCollection
+from scipy import constants as sc
 
 from cvfit.cli.batch import SeriesOutcome, format_batch_summary
 from cvfit.cli.demo import copy_demo_inputs
@@ -193,9 +195,10 @@ def test_table_ipa_is_filled_and_equals_results_json(demo):
     for row, v in zip(rows, data["voltammograms"], strict=True):
         assert row["ipa_A"] != ""
         assert float(row["ipa_A"]) == pytest.approx(v["ipa_A"], rel=1e-9)
-        # ipa/ipc of the table is the reported current ratio
-        assert v["ipa_A"] / v["ipc_A"] == pytest.approx(v["current_ratio"], rel=1e-12)
-        assert 0.98 < v["ipa_A"] / v["ipc_A"] < 1.05  # a diffusing couple: ≈ 1 (Nicholson 1966)
+        # a diffusing reversible couple: ipa/ipc = 1 (Nicholson, Anal. Chem. 38 (1966) 1406);
+        # his relation, an empirical fit, reads up to 0.03 high when the switch lies 300-600
+        # mV past E½ as here (measured 1.010-1.033)
+        assert 0.98 < v["ipa_A"] / v["ipc_A"] < 1.05
 
 
 def test_oxidation_first_later_cycle_gets_its_ipc():
@@ -205,7 +208,12 @@ def test_oxidation_first_later_cycle_gets_its_ipc():
     assert peaks.ipc_A is None and peaks.current_ratio is None  # later cycle: not at rest
     got = _ratio_from_first_cycle(peaks, v, 1, 298.15)
     assert got.ipa_A == peaks.ipa_A  # the forward (anodic) height is untouched
-    assert got.ipc_A == pytest.approx(got.current_ratio * got.ipa_A)
+    # the reverse height of a reversible couple equals the forward one, both the
+    # Randles–Ševčík current 0.4463 nFAC(nFvD/RT)^½ (Nicholson & Shain, Anal. Chem. 36
+    # (1964) 706), computed here from CODATA constants: 1 mM, 0.0707 cm², 1e-5 cm²/s, 0.1 V/s
+    F = sc.physical_constants["Faraday constant"][0]
+    ip = 0.4463 * F * 0.0707 * 1e-6 * math.sqrt(F / (sc.R * 298.15) * 0.1 * 1e-5)
+    assert got.ipc_A == pytest.approx(ip, rel=0.03)  # 0.3 % noise on a later cycle
     assert 0.97 < got.current_ratio < 1.05
 
 

@@ -6,7 +6,9 @@ points) so these checks do not depend on the project's peak module.
 
 from __future__ import annotations
 
+import functools
 import math
+import os
 import subprocess
 import sys
 
@@ -100,9 +102,18 @@ def test_unequal_diffusion_coefficients_keep_the_reversible_wave_on_E_half():
 # Nicholson & Shain, Anal. Chem. 36 (1964) 706; Bard & Faulkner, Electrochemical Methods, 2nd
 # ed., Wiley (2001), Table 6.2.1 (from memory): switch beyond the forward PEAK, n·|Eλ − Ep|
 # (mV) -> n·ΔEp (mV) at 25 °C. The forward peak lies 28.5/n mV beyond E½, so these switches
-# lie 100, 150, 200, 300 mV beyond E½.
+# lie 100, 150, 200, 300 mV beyond E½. Given to 0.1 mV and 0.1-0.4 mV high (1964 numerics):
+# a coarse check; the fine one is the independent convolution integral.
 SWITCH_TABLE = [(71.5, 60.5), (121.5, 59.2), (171.5, 58.3), (271.5, 57.8)]
 PEAK_PAST_E_HALF_MV = 28.5  # 1.109 RT/F at 25 °C (Nicholson & Shain 1964, from memory)
+
+
+@functools.cache
+def _convolution_n_delta_Ep_mV(switch_mV: float) -> float:
+    """n·ΔEp of tests/convolution_cv.py (no code shared), steps 0.008, 0.004 extrapolated."""
+    f_mV = 1e3 * RT_F
+    xi = [peak_potentials(start=10.0, switch=-switch_mV / f_mV, h=h) for h in (0.008, 0.004)]
+    return f_mV * (2.0 * (xi[1][1] - xi[1][0]) - (xi[0][1] - xi[0][0]))
 
 
 @pytest.mark.parametrize(("past_peak_mV", "dEp_mV"), SWITCH_TABLE)
@@ -112,21 +123,23 @@ def test_reversible_peak_separation_against_switching_table(past_peak_mV, dEp_mV
     vg = simulate_cv(E_half_V=0.0, electrons=n, start_V=0.4 / n, switch_V=-switch_mV / n * 1e-3,
                      step_V=0.0005 / n)  # fmt: skip
     Epc, _, Epa, _ = cathodic_then_anodic(vg.potential_V, vg.current_A)
-    assert n * (Epa - Epc) * 1e3 == pytest.approx(dEp_mV, abs=0.5)
+    got = n * (Epa - Epc) * 1e3
+    assert got == pytest.approx(dEp_mV, abs=0.5)  # the published table, coarse
+    # measured: 0.019 mV above the convolution integral at every switch (first-order time
+    # steps at 0.5/n mV; 0.0001 mV at 0.025 mV steps, scripts/switching_table.py)
+    assert got == pytest.approx(_convolution_n_delta_Ep_mV(switch_mV), abs=0.03)
 
 
 def test_reversible_peak_separation_closer_than_the_table():
-    # A switch 71.5 mV beyond E½ (43 mV beyond the peak), closer than the table reaches: the
-    # independent convolution-integral computation of tests/convolution_cv.py (no shared
-    # code) gives n·ΔEp = 62.0 mV there (step-extrapolated), against 60.5 mV the table gives
+    # A switch 71.5 mV beyond E½ (43 mV beyond the peak), closer than the published table
+    # reaches: the independent convolution-integral computation of tests/convolution_cv.py
+    # (no shared code) gives n·ΔEp = 62.0 mV there, against 60.5 mV the published table gives
     # for a switch 100 mV beyond E½.
-    f_mV = 1e3 * RT_F
-    xi = [peak_potentials(start=0.4e3 / f_mV, switch=-71.5 / f_mV, h=h) for h in (0.004, 0.002)]
-    independent = f_mV * (2.0 * (xi[1][1] - xi[1][0]) - (xi[0][1] - xi[0][0]))
+    independent = _convolution_n_delta_Ep_mV(71.5)
     assert independent == pytest.approx(62.0, abs=0.15)
     vg = simulate_cv(E_half_V=0.0, start_V=0.4, switch_V=-0.0715, step_V=0.0005)
     Epc, _, Epa, _ = cathodic_then_anodic(vg.potential_V, vg.current_A)
-    assert (Epa - Epc) * 1e3 == pytest.approx(independent, abs=0.2)
+    assert (Epa - Epc) * 1e3 == pytest.approx(independent, abs=0.03)
 
 
 # Nicholson, Anal. Chem. 37 (1965) 1351 / Bard & Faulkner, Electrochemical Methods, 2nd ed.,
@@ -140,16 +153,27 @@ def test_quasi_reversible_peak_separation_against_psi_table():
     # psi = (D_O/D_R)^(alpha/2) k0 / (pi D_O n F v / RT)^1/2 (Nicholson 1965, from memory).
     # The switch is placed 112.5 mV beyond E½ (the table's switch is not recalled; an
     # independent convolution-integral computation, tests/convolution_cv.py, reproduces the
-    # table there, see tests/test_kinetics.py).
+    # table there, see tests/test_kinetics.py). Two checks: against that independent
+    # computation at the same switch (measured: the simulator, 1 mV steps, lies 0.055-0.065
+    # mV above it at every ψ — its first-order time step), and against the published table,
+    # given to 1 mV, which both computations match within 1.1 mV (0.93 mV at ψ = 0.75,
+    # 1.08 mV at ψ = 0.25; 1.86 mV at ψ = 0.1, beyond the convolution's window; was a 3 %
+    # tolerance, up to 6.4 mV).
     f = FARADAY / (GAS_CONSTANT * 298.15)
-    errors = []
+    f_mV = 1e3 / f
+    dEp = []
     for psi, ref_mV in PSI_TABLE:
         k0 = psi * math.sqrt(math.pi * D * f * V)
         vg = simulate_cv(E_half_V=0.0, start_V=0.5, switch_V=-0.1125, k0_cm_s=k0)
         Epc, _, Epa, _ = cathodic_then_anodic(vg.potential_V, vg.current_A)
-        errors.append((Epa - Epc) * 1e3 / ref_mV - 1)
-    assert max(abs(e) for e in errors) < 0.03, errors
-    dEp = [ref * (1 + e) for (_, ref), e in zip(PSI_TABLE, errors, strict=True)]
+        got = (Epa - Epc) * 1e3
+        assert got == pytest.approx(ref_mV, abs=1.2 if psi >= 0.25 else 2.0), psi
+        dEp.append(got)
+        if psi in (20, 2, 0.5, 0.25):
+            xi = -112.5 / f_mV
+            seps = [np.subtract(*peak_potentials(start=12.0, switch=xi, h=h, psi=psi)[::-1])
+                    for h in (0.008, 0.004)]  # fmt: skip
+            assert got == pytest.approx(f_mV * (2 * seps[1] - seps[0]), abs=0.1), psi
     assert np.all(np.diff(dEp) > 0)  # slower kinetics, wider separation
 
 
@@ -240,16 +264,13 @@ def test_double_layer_charging_and_its_rc_response():
     assert np.max(np.abs(vg.current_A[after] - expected)) < 1e-2 * Cdl * V
 
 
-@pytest.mark.parametrize("backend", ["numpy", "numba"])
-def test_charging_current_steps_exactly_at_every_vertex(backend):
+def test_charging_current_steps_exactly_at_every_vertex():
     # capacitor only, R_u = 0: i_c = C·dE/dt is −C·v, then +C·v, then −C·v on the points on
     # both sides of each vertex (no one-point spike of 2·C·v from reaching across the kink)
-    if backend == "numba" and not _sim_kernel.HAVE_NUMBA:
-        pytest.skip("numba not installed")
     Cdl = 1e-5
     wave, raw, _ = _simulate_raw(
         E_half_V=0.0, start_V=0.3, switch_V=[-0.3, 0.35], cycles=2, double_layer_F=Cdl,
-        concentration_M=1e-12, backend=backend,
+        concentration_M=1e-12,
     )  # fmt: skip
     E = wave.potential_V
     rate = np.sign(np.diff(E)) * V  # applied dE/dt on each interval
@@ -261,18 +282,15 @@ def test_charging_current_steps_exactly_at_every_vertex(backend):
         assert raw.charging_A[k + 1] == pytest.approx(Cdl * rate[k], rel=1e-9)
 
 
-@pytest.mark.parametrize("backend", ["numpy", "numba"])
-def test_charging_relaxes_with_time_constant_RC_after_start_and_switch(backend):
+def test_charging_relaxes_with_time_constant_RC_after_start_and_switch():
     # series R_u–C_dl driven by a ramp (elementary circuit analysis): from rest at t = 0,
     # i_c = −C v (1 − exp(−t/RC)) on the cathodic sweep; after the switch at t_s, where
     # i_c ≈ −C v, i_c = C v (1 − 2 exp(−(t − t_s)/RC)); dt = RC/20
-    if backend == "numba" and not _sim_kernel.HAVE_NUMBA:
-        pytest.skip("numba not installed")
     Cdl, Ru = 2e-6, 2000.0
     RC = Ru * Cdl
     wave, raw, _ = _simulate_raw(
         E_half_V=-3.0, start_V=0.3, switch_V=0.2, double_layer_F=Cdl, resistance_ohm=Ru,
-        step_V=V * RC / 20, concentration_M=1e-12, backend=backend,
+        step_V=V * RC / 20, concentration_M=1e-12,
     )  # fmt: skip
     t, i_c = wave.time_s, raw.charging_A
     t_s = 0.1 / V
@@ -314,17 +332,6 @@ def test_oxidation_first_mirrors_reduction_first(k0):
     np.testing.assert_allclose(red.current_A, -ox.current_A, rtol=0, atol=1e-10 * scale)
     first_sweep = red.current_A[: red.n_points // 4]
     assert np.max(first_sweep) > 0.5 * rs()  # the first peak is anodic
-
-
-@pytest.mark.skipif(not _sim_kernel.HAVE_NUMBA, reason="numba not installed")
-def test_numpy_and_compiled_back_ends_agree():
-    kw = dict(E_half_V=0.0, start_V=0.3, switch_V=[-0.3, 0.1], k0_cm_s=2e-3, alpha=0.4)
-    kw.update(D_red_cm2_s=7e-6, resistance_ohm=300.0, double_layer_F=1e-6, step_V=0.002)
-    _, fast, _ = _simulate_raw(**kw, backend="numba")
-    _, ref, _ = _simulate_raw(**kw, backend="numpy")
-    scale = np.max(np.abs(ref.faradaic_A))
-    np.testing.assert_allclose(fast.faradaic_A, ref.faradaic_A, rtol=0, atol=1e-9 * scale)
-    np.testing.assert_allclose(fast.E_true_V, ref.E_true_V, rtol=0, atol=1e-12)
 
 
 def test_waveform_with_vertices_cycles_and_metadata():
@@ -370,16 +377,20 @@ def test_invalid_settings_raise(bad):
         simulate_cv(**kw)
 
 
-def test_runs_without_numba():
-    # The pure-NumPy path must work where numba is not installed (blocked in a subprocess).
+def test_runs_where_no_cache_folder_is_writable():
+    # numba refuses to cache when none of its cache locations is usable (a read-only
+    # install and no writable home); restricting it to the zip-file locator, which never
+    # applies to a plain module, reproduces that. The kernel must then compile in memory
+    # and give the same current, not fail to import.
     code = (
-        "import sys; sys.modules['numba'] = None\n"
-        "from cvfit.simulate import finite_difference as _sim_kernel\n"
         "from cvfit.simulate.voltammogram import simulate_cv\n"
-        "assert not _sim_kernel.HAVE_NUMBA\n"
         "vg = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=-0.3, step_V=0.004)\n"
         "print(repr(float(vg.current_A.min())))\n"
     )
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    env = dict(os.environ, NUMBA_CACHE_LOCATOR_CLASSES="numba.core.caching.ZipCacheLocator")
+    env.pop("NUMBA_CACHE_DIR", None)
+    done = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True, env=env
+    )
     compiled = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=-0.3, step_V=0.004)
-    assert float(done.stdout) == pytest.approx(float(compiled.current_A.min()), rel=1e-10)
+    assert float(done.stdout) == float(compiled.current_A.min())

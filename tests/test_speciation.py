@@ -19,6 +19,7 @@ from cvfit.chemistry.speciation import (
     mean_ligand_number,
     species_fractions,
 )
+from cvfit.errors import InputError
 from cvfit.titration.stepwise import complex_standard_potential_V
 from cvfit.units import thermal_voltage
 
@@ -82,6 +83,34 @@ def test_silver_ammine_standard_potential():
     assert E_leden == pytest.approx(0.373, abs=0.002)
 
 
+def test_standard_potential_refuses_celsius_and_fractional_n():
+    # 25 "K" is 25 °C given as kelvin: no electrolyte solution is liquid below ~200 K
+    with pytest.raises(InputError, match=r"298.15 K"):
+        complex_standard_potential_V(0.7996, log10_beta_ox=7.21, temperature_K=25.0)
+    for bad_n in (1.5, 0, True, float("nan")):
+        with pytest.raises(InputError, match="whole number"):
+            complex_standard_potential_V(0.7996, log10_beta_ox=7.21, electrons=bad_n)
+    with pytest.raises(InputError, match="finite"):
+        complex_standard_potential_V(0.7996, log10_beta_ox=float("inf"))
+    with pytest.raises(InputError, match="kelvin"):
+        complexed_half_wave_V(0.0, ligand_M=0.1, log10_beta_ox=[3.0], temperature_K=37.0)
+    # a whole n given as 2.0 and a warm cell are fine: the Nernst slope halves with n
+    one = complex_standard_potential_V(0.0, log10_beta_ox=2.0, temperature_K=310.0)
+    two = complex_standard_potential_V(0.0, log10_beta_ox=2.0, electrons=2.0, temperature_K=310.0)
+    assert two == pytest.approx(one / 2, rel=1e-12)
+
+
+def test_ligand_for_a_fraction_of_the_metal():
+    from cvfit.chemistry.speciation import ligand_for_fraction_M
+
+    # one complex: α1 = β[L]/(1 + β[L]) = f at [L] = f/((1 − f)β) (Leden 1941)
+    assert ligand_for_fraction_M([3.0], 1, 0.2) == pytest.approx(0.25e-3, rel=1e-8)
+    # an intermediate complex peaks at [L] = β2^-1/2 with α1 = r/(2 + r), r = β1/√β2:
+    # log β = (3, 7) gives 0.137 at most, so 20 % is never reached
+    assert ligand_for_fraction_M([3.0, 7.0], 1, 0.2) is None
+    assert ligand_for_fraction_M([3.0, 7.0], 1, 0.13) is not None
+
+
 def test_fraction_unprotonated_against_explicit_acid_constants():
     # Ringbom, Complexation in Analytical Chemistry, Interscience, New York (1963):
     # α_L = Ka1Ka2/([H]² + Ka1[H] + Ka1Ka2)
@@ -114,8 +143,22 @@ def test_davies_check_values():
     # log γ = −A z² [√I/(1 + √I) − 0.3 I], A = 0.509 at 25 °C; values calculated from it:
     # I = 0.1 M → γ(1) = 0.7816, γ(2) = 0.3732, γ(3) = 0.1089.
     for z, g in ((1, 0.7816), (2, 0.3732), (3, 0.1089)):
-        assert 10.0 ** davies_log10_gamma(z, 0.1) == pytest.approx(g, abs=5e-5)
+        assert 10.0 ** davies_log10_gamma(z, 0.1, A=0.509) == pytest.approx(g, abs=5e-5)
     assert davies_log10_gamma(2, 0.0) == 0.0
+
+
+def test_one_debye_huckel_A_for_the_api_and_the_command():
+    # Robinson & Stokes, Electrolyte Solutions 2nd ed. (1959), Appendix 7.1 (from memory):
+    # A = 0.5115 (mol/kg)^-1/2 for water at 25 °C (0.5116 on the molar scale, calculated).
+    # The default of the Python API is that value, not Davies' older 0.509, so that it
+    # matches `cvfit run` (which takes A at the series' temperature).
+    r = math.sqrt(0.1)
+    default = -davies_log10_gamma(1, 0.1) / (r / (1.0 + r) - 0.03)
+    assert default == pytest.approx(0.5115, abs=2e-4)
+    t = thermodynamic_log10_beta([3.0], metal_charge=2, ligand_charge=-1, ionic_strength_M=0.1)
+    assert t[0] == pytest.approx(3.0 + default * 4 * (r / (1.0 + r) - 0.03), abs=1e-12)
+    hot = -davies_log10_gamma(1, 0.1, temperature_K=333.15) / (r / (1.0 + r) - 0.03)
+    assert hot > default + 0.02  # A grows with T: ε_r·T falls (Malmberg & Maryott 1956)
 
 
 def test_thermodynamic_constant_of_a_neutral_ligand_complex():
@@ -124,7 +167,9 @@ def test_thermodynamic_constant_of_a_neutral_ligand_complex():
         [3.0, 5.0], metal_charge=2, ligand_charge=0, ionic_strength_M=0.1
     ) == pytest.approx([3.0, 5.0])
     # M²⁺ + L⁻ → ML⁺: log β° = log β + log γ(1) - log γ(2) - log γ(1) = log β - log γ(2).
-    t = thermodynamic_log10_beta([3.0], metal_charge=2, ligand_charge=-1, ionic_strength_M=0.1)
+    t = thermodynamic_log10_beta(
+        [3.0], metal_charge=2, ligand_charge=-1, ionic_strength_M=0.1, A=0.509
+    )
     assert t[0] == pytest.approx(3.0 - math.log10(0.3732), abs=1e-4)
 
 

@@ -60,15 +60,17 @@ def test_noise_free_slope_and_constants(electrons, delta):
     # ln(10)·RT/F = 59.159 mV per decade at 298.15 K (calculated, CODATA 2018 R and F), so the
     # Lingane slope is −59.16 (p − q)/n mV/decade (Lingane, Chem. Rev. 29 (1941) 1, from
     # memory).
+    # β·[L]^Δ >= 10^3.3 at the lowest point: a real series would be straight here too
     L = np.logspace(-3.0, -1.0, 7)
-    E = lingane_E_half(L, log10_ratio=4.3, delta=delta, electrons=electrons)
+    ratio = 3.3 + 3.0 * delta
+    E = lingane_E_half(L, log10_ratio=ratio, delta=delta, electrons=electrons)
     r = fit(points(L, E), electrons=electrons, ref_sd=0.0)
     assert r.slope_V_per_decade.value == pytest.approx(-0.059159 * delta / electrons, rel=2e-5)
     assert r.delta_ligands.value == pytest.approx(delta, abs=1e-9)
     assert r.delta_ligands_integer == delta
-    assert r.log10_beta_ratio.value == pytest.approx(4.3, abs=1e-9)
-    assert r.log10_beta_ratio_at_integer.value == pytest.approx(4.3, abs=1e-9)
-    assert r.intercept_V.value == pytest.approx(-4.3 * r.nernst_slope_V_per_decade, abs=1e-12)
+    assert r.log10_beta_ratio.value == pytest.approx(ratio, abs=1e-9)
+    assert r.log10_beta_ratio_at_integer.value == pytest.approx(ratio, abs=1e-9)
+    assert r.intercept_V.value == pytest.approx(-ratio * r.nernst_slope_V_per_decade, abs=1e-12)
     assert max(abs(x) for x in r.residuals_V) < 1e-12
     assert r.curvature_p_value == 1.0
     assert codes(r) <= {"WEIGHTS_UNAVAILABLE"}
@@ -158,24 +160,39 @@ def test_reference_uncertainty_enters_intercept_only():
         assert b.delta_ligands.ci95 == pytest.approx(a.delta_ligands.ci95, rel=1e-12)
         assert b.covariance[0][1] == pytest.approx(a.covariance[0][1], rel=1e-12)
         assert b.covariance[1][1] == pytest.approx(b.intercept_V.stderr**2, rel=1e-12)
-    # Unweighted: var(intercept) = var(a') + σ_s², σ_s known (independent measurement);
-    # the interval adds t(N − 2) and normal half-widths in quadrature (GUM-style).
-    a = fit(pts, ref_sd=0.0, weighting="none")
+    # Unweighted: var(intercept) = var(a') + σ_s² + s², the reference being one more
+    # solution: its own error σ_s (known, independent measurement) plus the between-solution
+    # variance s² the points show, here computed from the closed-form OLS line (Draper &
+    # Smith, Applied Regression Analysis 3rd ed. (1998) ch. 1, from memory) and the moment
+    # estimate Σ(rᵢ² − (1 − hᵢᵢ)σᵢ²)/(N − 2) (Searle, Casella & McCulloch, Variance
+    # Components (1992) ch. 4). The interval adds t(N − 2) and normal half-widths in
+    # quadrature (GUM-style).
+    x = np.log10([p.ligand_M for p in pts])
+    y = np.array([p.E_half_V for p in pts])
+    sig = np.array([p.E_half_stderr_V for p in pts])
+    slope, icpt = np.polyfit(x, y, 1)
+    res = y - (icpt + slope * x)
+    sxx = np.sum((x - x.mean()) ** 2)
+    h = 1 / x.size + (x - x.mean()) ** 2 / sxx
+    s2 = max(0.0, float(np.sum(res**2 - (1 - h) * sig**2)) / (x.size - 2))
+    var_a = res @ res / (x.size - 2) * (1 / x.size + x.mean() ** 2 / sxx)
     b = fit(pts, ref_sd=2e-3, weighting="none")
-    assert b.intercept_V.stderr**2 == pytest.approx(a.intercept_V.stderr**2 + 4e-6, rel=1e-9)
-    half_a = np.diff(a.intercept_V.ci95)[0] / 2
+    assert b.intercept_V.stderr**2 == pytest.approx(var_a + 4e-6 + s2, rel=1e-9)
     half_b = np.diff(b.intercept_V.ci95)[0] / 2
-    assert half_b == pytest.approx(math.hypot(half_a, 1.959964 * 2e-3), rel=1e-6)
-    assert a.dof < b.intercept_dof < math.inf
+    t5 = 2.570582  # Student t, 5 dof, 97.5 % (any statistics table)
+    assert half_b == pytest.approx(
+        math.hypot(t5 * math.sqrt(var_a), 1.959964 * math.sqrt(4e-6 + s2)), rel=1e-6
+    )
+    assert b.dof < b.intercept_dof < math.inf
     assert "quadrature" in b.log10_beta_ratio.method
-    # Weighted: the reference stderr takes the fit's scale factor (reduced χ²), t(N − 2).
+    # Weighted: the reference keeps its own variance, not scaled by the reduced χ²; the
+    # interval combines t(N − 2) for the fit with the normal reference part
     a = fit(pts, ref_sd=0.0)
     b = fit(pts, ref_sd=2e-3)
     assert a.weighted and b.weighted
-    expected = a.intercept_V.stderr**2 + b.reduced_chi_square * 4e-6
-    assert b.intercept_V.stderr**2 == pytest.approx(expected, rel=1e-9)
-    assert b.intercept_dof == b.dof == 5
-    assert b.log10_beta_ratio.method.startswith("student-t, dof=5")
+    assert b.intercept_V.stderr**2 == pytest.approx(a.intercept_V.stderr**2 + 4e-6, rel=1e-9)
+    assert b.dof == 5 < b.intercept_dof < math.inf
+    assert "quadrature" in b.log10_beta_ratio.method
 
 
 def test_covariance_matches_closed_form_ols():
@@ -192,8 +209,10 @@ def test_covariance_matches_closed_form_ols():
     sxx = np.sum((x - x.mean()) ** 2)
     assert r.slope_V_per_decade.value == pytest.approx(b, rel=1e-9)
     assert r.slope_V_per_decade.stderr == pytest.approx(math.sqrt(s2 / sxx), rel=1e-6)
+    # the intercept of the shift adds E½(s) as one more solution: with no per-file errors
+    # the points' whole scatter s² is its between-solution variance
     assert r.intercept_V.stderr == pytest.approx(
-        math.sqrt(s2 * (1 / 6 + x.mean() ** 2 / sxx)), rel=1e-6
+        math.sqrt(s2 * (1 / 6 + x.mean() ** 2 / sxx) + s2), rel=1e-6
     )
     assert r.residuals_V == pytest.approx(tuple(res), abs=1e-12)
 
@@ -254,11 +273,12 @@ def test_two_complex_curve_is_flagged_curved():
 @pytest.mark.parametrize("weighting", ["auto", "none"])
 def test_straight_line_not_flagged_curved(weighting):
     # Under the null the F-test p-value is uniform: about 1 % of straight lines flagged.
+    # β·[L] >= 1000 here, so the free ion the line neglects moves E½ by <= 0.03 mV.
     rng = np.random.default_rng(99)
     L = np.logspace(-3.0, -1.0, 7)
     flagged = 0
     for _ in range(300):
-        E = lingane_E_half(L, log10_ratio=3.0, delta=1, electrons=1)
+        E = lingane_E_half(L, log10_ratio=6.0, delta=1, electrons=1)
         r = fit(
             points(L, E + rng.normal(0, 0.7e-3, 7), 0.7e-3), ref_sd=0.5e-3, weighting=weighting
         )
@@ -319,8 +339,16 @@ def test_unknown_reference_stderr_is_flagged_and_counted():
     known = fit(points(L, E), ref_sd=0.0, weighting="none")
     unknown = fit(points(L, E), ref_sd=None, weighting="none")
     assert "REFERENCE_STDERR_FROM_SCATTER" in codes(unknown)
-    s2 = sum(r * r for r in known.residuals_V) / known.dof
-    assert unknown.intercept_V.stderr**2 == pytest.approx(known.intercept_V.stderr**2 + s2)
+    # closed-form OLS (Draper & Smith 1998, ch. 1, from memory): the reference scatters like
+    # one more point, var = var(a') + s²; a reference given as exact (σ_s = 0) is still one
+    # more solution and carries the same s² (no per-file errors: all scatter is between)
+    x = np.log10(L)
+    slope, icpt = np.polyfit(x, E, 1)
+    res = E - (icpt + slope * x)
+    s2 = res @ res / 4
+    var_a = s2 * (1 / 6 + x.mean() ** 2 / np.sum((x - x.mean()) ** 2))
+    assert unknown.intercept_V.stderr**2 == pytest.approx(var_a + s2, rel=1e-9)
+    assert known.intercept_V.stderr**2 == pytest.approx(var_a + s2, rel=1e-9)
 
 
 # --- flags on p − q and the ligand range -----------------------------------------------

@@ -87,8 +87,11 @@ def test_ci95_coverage(weighting, electrons, delta, ref_sd, noise, hetero):
     assert BAND[0] <= ratio <= BAND[1], cov
     assert BAND[0] <= delta_cov <= BAND[1], cov
     # The fixed-integer interval is exact only while the integer is right (it is here,
-    # p − q is resolved to ±0.03), so the same band applies.
-    assert BAND[0] <= at_integer <= BAND[1], cov
+    # p − q is resolved to ±0.03). Its variance is mostly the reference's, which counts
+    # E½(s) as one more solution: own error plus the between-solution scatter estimated
+    # from the points, truncated at zero, so with no real scatter it runs slightly
+    # conservative (measured 95.3-97.3 %).
+    assert BAND[0] <= at_integer <= 0.98, cov
 
 
 @pytest.mark.parametrize("weighting", ["none", "auto"])

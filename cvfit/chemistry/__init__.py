@@ -2,7 +2,8 @@
 
 Pure functions of concentrations and constants; no voltammogram is read here.
 
-- :mod:`.complexation` — Leden F0 and the half-wave potential of a complexed couple
+- :mod:`.complexation` — Leden F0, the half-wave potential of a complexed couple and the
+  standard potential of a couple of complexes
 - :mod:`.speciation` — F-functions, species fractions, mean ligand number, free ligand
 - :mod:`.activity` — Davies activity coefficients, thermodynamic constants
 - :mod:`.randles_sevcik` — the reversible peak current
@@ -10,6 +11,7 @@ Pure functions of concentrations and constants; no voltammogram is read here.
 
 from cvfit.chemistry.activity import davies_log10_gamma, thermodynamic_log10_beta
 from cvfit.chemistry.complexation import (
+    complex_standard_potential_V,
     complexed_half_wave_V,
     effective_diffusion_cm2_s,
     leden_F0,
@@ -29,6 +31,7 @@ from cvfit.chemistry.speciation import (
 __all__ = [
     "RANDLES_SEVCIK_CONSTANT",
     "absolute_log10_beta",
+    "complex_standard_potential_V",
     "complexed_half_wave_V",
     "conditional_log10_beta",
     "davies_log10_gamma",

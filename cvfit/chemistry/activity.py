@@ -31,8 +31,8 @@ __all__ = [
     "water_relative_permittivity",
 ]
 
-#: Debye–Hückel A for water at 25 °C, (mol/L)^-1/2 (Davies 1962).
-DAVIES_A_25C = 0.509
+#: Celsius zero and 25 °C, K (scipy.constants).
+_T25_K = sc.zero_Celsius + 25.0
 
 
 #: Temperatures (K) over which the permittivity fit of water holds (0–100 °C).
@@ -75,7 +75,23 @@ def debye_huckel_A(temperature_K: float) -> float:
     return math.sqrt(2 * math.pi * sc.N_A * 1000.0) * bjerrum_m**1.5 / math.log(10.0)
 
 
-def davies_log10_gamma(charge: int, ionic_strength_M: float, *, A: float = DAVIES_A_25C) -> float:
+#: Debye–Hückel A for water at 25 °C, (mol/L)^-1/2: :func:`debye_huckel_A` there (0.5116).
+#: Davies (1962) used 0.509, which goes with the older ε_r = 78.54; cvfit uses one value
+#: from one function everywhere, the Python API and ``cvfit run`` alike.
+DAVIES_A_25C = debye_huckel_A(_T25_K)
+
+
+def _A_at(A: float | None, temperature_K: float) -> float:
+    return debye_huckel_A(temperature_K) if A is None else float(A)
+
+
+def davies_log10_gamma(
+    charge: int,
+    ionic_strength_M: float,
+    *,
+    A: float | None = None,
+    temperature_K: float = _T25_K,
+) -> float:
     """log10 γ = −A z² [√I/(1 + √I) − 0.3 I] (Davies equation; an approximation).
 
     Parameters
@@ -84,13 +100,17 @@ def davies_log10_gamma(charge: int, ionic_strength_M: float, *, A: float = DAVIE
         Charge number z of the ion.
     ionic_strength_M : float
         Ionic strength I, mol/L (>= 0).
-    A : float
-        Debye–Hückel constant, 0.509 at 25 °C.
+    A : float or None
+        Debye–Hückel constant, (mol/L)^-1/2; None (the default): :func:`debye_huckel_A` at
+        ``temperature_K`` (0.5116 at 25 °C).
+    temperature_K : float
+        Temperature, K, for the default A (25 °C).
 
     References
     ----------
     Davies, C. W. Ion Association; Butterworths: London, 1962; p 41.
     """
+    A = _A_at(A, temperature_K)
     I = float(ionic_strength_M)  # noqa: E741 - the conventional symbol
     if not (math.isfinite(I) and I >= 0):
         raise ValueError(f"ionic strength must be >= 0 mol/L, got {ionic_strength_M!r}")
@@ -104,16 +124,19 @@ def thermodynamic_log10_beta(
     metal_charge: int,
     ligand_charge: int,
     ionic_strength_M: float,
-    A: float = DAVIES_A_25C,
+    A: float | None = None,
+    temperature_K: float = _T25_K,
 ) -> list[float]:
     """Constants at I → 0 from concentration constants at ionic strength I (Davies).
 
-    β°_j = β_j · γ(ML_j) / (γ(M) γ(L)^j), with z(ML_j) = z_M + j z_L.
+    β°_j = β_j · γ(ML_j) / (γ(M) γ(L)^j), with z(ML_j) = z_M + j z_L. A defaults to
+    :func:`debye_huckel_A` at ``temperature_K`` (0.5116 at 25 °C), as in ``cvfit run``.
 
     References
     ----------
     Davies, C. W. Ion Association; Butterworths: London, 1962; p 41.
     """
+    A = _A_at(A, temperature_K)
     gM = davies_log10_gamma(metal_charge, ionic_strength_M, A=A)
     gL = davies_log10_gamma(ligand_charge, ionic_strength_M, A=A)
     out = []

@@ -27,9 +27,22 @@ from collections.abc import Sequence
 import numpy as np
 
 from cvfit.errors import InputError
-from cvfit.units import FARADAY, GAS_CONSTANT
+from cvfit.units import FARADAY, GAS_CONSTANT, thermal_voltage
 
-__all__ = ["leden_F0", "log_leden_F0", "effective_diffusion_cm2_s", "complexed_half_wave_V"]
+__all__ = [
+    "leden_F0",
+    "log_leden_F0",
+    "effective_diffusion_cm2_s",
+    "complexed_half_wave_V",
+    "complex_standard_potential_V",
+    "MIN_TEMPERATURE_K",
+]
+
+#: Lowest temperature accepted, K. No electrolyte solution used for voltammetry is liquid
+#: below about 200 K (water freezes at 273 K, acetonitrile at 229 K, DMF at 212 K; CRC
+#: Handbook of Chemistry and Physics, melting points, from memory), while a Celsius value
+#: given as kelvin (25 for 298.15) falls far below it.
+MIN_TEMPERATURE_K = 200.0
 
 _SOURCE = "<complexation>"
 
@@ -175,15 +188,8 @@ def complexed_half_wave_V(
     E0 = float(E_half_free_V)
     if not math.isfinite(E0):
         raise InputError("E_half_free_V must be finite", source=_SOURCE, key="E_half_free_V")
-    if (
-        isinstance(electrons, bool)
-        or not isinstance(electrons, (int, np.integer))
-        or electrons < 1
-    ):
-        raise InputError("electrons must be a whole number >= 1", source=_SOURCE, key="electrons")
-    T = float(temperature_K)
-    if not (math.isfinite(T) and T > 0):
-        raise InputError("temperature_K must be positive", source=_SOURCE, key="temperature_K")
+    electrons = _whole_electrons(electrons)
+    T = _kelvin(temperature_K)
     _log_betas(log10_beta_ox, "log10_beta_ox")
     _log_betas(log10_beta_red, "log10_beta_red")
     slope = GAS_CONSTANT * T / (int(electrons) * FARADAY)
@@ -207,3 +213,75 @@ def complexed_half_wave_V(
         )
         E = E + sign * 0.5 * slope * np.log(D_eff / float(D_free))
     return float(E) if np.ndim(E) == 0 else E
+
+
+def _whole_electrons(electrons: object) -> int:
+    if (
+        isinstance(electrons, bool)
+        or not isinstance(electrons, (int, np.integer, float))
+        or not math.isfinite(electrons)
+        or electrons != int(electrons)
+        or electrons < 1
+    ):
+        raise InputError(
+            f"electrons must be a whole number >= 1 (electrons transferred by the couple), "
+            f"got {electrons!r}",
+            source=_SOURCE,
+            key="electrons",
+        )
+    return int(electrons)
+
+
+def _kelvin(temperature_K: object) -> float:
+    try:
+        T = float(temperature_K)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        raise InputError(
+            f"temperature_K must be a number, got {temperature_K!r}",
+            source=_SOURCE,
+            key="temperature_K",
+        ) from None
+    if not math.isfinite(T) or T < MIN_TEMPERATURE_K:
+        hint = f" (did you mean {T + 273.15:.2f} K?)" if -50.0 <= T <= 150.0 else ""
+        raise InputError(
+            f"temperature_K = {temperature_K!r} is below {MIN_TEMPERATURE_K:.0f} K, where no "
+            f"electrolyte solution is liquid: give the temperature in kelvin{hint}",
+            source=_SOURCE,
+            key="temperature_K",
+        )
+    return T
+
+
+def complex_standard_potential_V(
+    E_standard_V: float,
+    *,
+    log10_beta_ox: float = 0.0,
+    log10_beta_red: float = 0.0,
+    electrons: int = 1,
+    temperature_K: float = 298.15,
+) -> float:
+    """Standard potential of the couple of two complexes from the free couple's (Hess cycle).
+
+    E°(ML_p/ML_q) = E°(M/M) − (RT/nF)·ln(β_p,ox/β_q,red), all species at unit activity
+    (unit ligand activity too); a form that is not complexed has log10 β = 0.
+
+    Raises
+    ------
+    InputError
+        When n is not a whole number >= 1 (a fractional n has no meaning for one couple),
+        when the temperature is below :data:`MIN_TEMPERATURE_K` (a Celsius value given as
+        kelvin) or not finite, or when a potential or constant is not finite.
+
+    References
+    ----------
+    Lingane, J. J. Chem. Rev. 1941, 29, 1.
+    """
+    n = _whole_electrons(electrons)
+    T = _kelvin(temperature_K)
+    values = {"E_standard_V": E_standard_V, "log10_beta_ox": log10_beta_ox}
+    values["log10_beta_red"] = log10_beta_red
+    for key, value in values.items():
+        if not math.isfinite(float(value)):
+            raise InputError(f"{key} must be finite, got {value!r}", source=_SOURCE, key=key)
+    k = thermal_voltage(T, n)
+    return float(E_standard_V) - k * math.log(10.0) * (log10_beta_ox - log10_beta_red)

@@ -38,6 +38,7 @@ __all__ = [
     "absolute_log10_beta",
     "free_ligand_M",
     "fraction_peak_ligand_M",
+    "ligand_for_fraction_M",
 ]
 
 
@@ -226,3 +227,36 @@ def fraction_peak_ligand_M(log10_beta: Sequence[float], j: int) -> float:
     if g(hi) < 0:
         return 10.0**hi
     return 10.0 ** optimize.brentq(g, lo, hi, xtol=1e-10)
+
+
+def ligand_for_fraction_M(
+    log10_beta: Sequence[float], j: int, fraction: float = 0.2
+) -> float | None:
+    """Lowest free ligand concentration at which ML_j makes up ``fraction`` of the metal.
+
+    α_j = β_j[L]^j / F0([L]) (Leden) is followed up the ligand axis (log10 [L] from −30 to
+    +5 in steps of 0.01, then refined by root finding). ``None`` when α_j never reaches
+    ``fraction`` — an intermediate complex squeezed between its neighbours.
+
+    References
+    ----------
+    Leden, I. Z. Phys. Chem. A 1941, 188, 160.
+    """
+    N = len(log10_beta)
+    if not 1 <= j <= N:
+        raise ValueError(f"j must lie in 1..{N}, got {j}")
+    if not 0.0 < fraction < 1.0:
+        raise ValueError(f"fraction must lie in (0, 1), got {fraction}")
+    log_L = np.arange(-30.0, 5.0 + 1e-9, 0.01)
+    alpha = species_fractions(10.0**log_L, log10_beta)[j]
+    above = np.nonzero(alpha >= fraction)[0]
+    if above.size == 0:
+        return None
+    k = int(above[0])
+    if k == 0:
+        return float(10.0 ** log_L[0])
+
+    def g(x: float) -> float:
+        return float(species_fractions(10.0**x, log10_beta)[j]) - fraction
+
+    return float(10.0 ** optimize.brentq(g, log_L[k - 1], log_L[k], xtol=1e-10))

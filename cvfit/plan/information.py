@@ -189,14 +189,17 @@ def constants_covariance(
     sigma_V: float,
     *,
     exact: bool = True,
+    references: int = 1,
 ) -> np.ndarray:
     """Predicted covariance of the constants (k × k) for one design and one θ, in their
     units (log10 for β, plain for p − q); NaN when the design cannot determine them.
-    ``exact=False`` takes the free ligand from the table (see :func:`free_ligand`)."""
+    ``exact=False`` takes the free ligand from the table (see :func:`free_ligand`);
+    ``references`` ligand-free solutions are measured (each one more observation of
+    E½(s))."""
     J, Jt = jacobian_rows(spec, theta, total_M, exact=exact)
     r = reference_row(len(theta))
-    A = J.T @ Jt + np.outer(r, r)
-    B = J.T @ J + np.outer(r, r)
+    A = J.T @ Jt + references * np.outer(r, r)
+    B = J.T @ J + references * np.outer(r, r)
     cov = covariance_from_sums(A, B)
     return float(sigma_V) ** 2 * cov[1:, 1:]
 

@@ -34,6 +34,42 @@ MAX_POINTS_SEARCHED = 2000
 IMPRECISE_LOG10 = 0.3
 #: β·[L]^Δ below which the Lingane complex does not dominate (1 % free; common practice).
 _DOMINANT = 100.0
+#: Largest shift of E½ by the free ion, as a share of the per-file noise σ, at which the
+#: Lingane line is still taken to hold: the recommended design stays where
+#: (RT/nF)·ln(1 + 1/(β·[L]^Δ)) <= this·σ (with 0.2 the bend moves p − q by at most about a
+#: third of its standard error even with half the points at the low end).
+LINGANE_BEND_SHARE = 0.2
+
+
+def lingane_valid_min_M(req: PlanInput, thetas: np.ndarray) -> float:
+    """Lowest total ligand at which the Lingane line holds for every scenario, mol/L.
+
+    The line neglects the free ion: E½ lies (RT/nF)·ln(1 + 1/(β·[L]^Δ)) above it (the
+    reduced form taken as uncomplexed). That shift must stay below
+    ``LINGANE_BEND_SHARE``·σ; the bound ligand Δ·c_M is added as the Lingane fit's mass
+    balance does. NaN when no scenario has Δ > 0.
+    """
+    from cvfit.units import thermal_voltage
+
+    rt_nf = thermal_voltage(req.temperature_K, req.electrons)
+    level = -math.log10(math.expm1(LINGANE_BEND_SHARE * req.E_half_stderr_V / rt_nf))
+    out = []
+    for ratio, delta in thetas:
+        if delta > 0:
+            free = 10.0 ** ((level - ratio) / delta)
+            out.append(free + delta * (req.metal_total_M or 0.0))
+    return max(out) if out else math.nan
+
+
+def _design_range(req: PlanInput, thetas: np.ndarray) -> tuple[float, float]:
+    """The range the recommended design is searched in: the plan's, raised for a Lingane
+    plan to where the fitted model holds (:func:`lingane_valid_min_M`)."""
+    lo, hi = req.ligand_min_M, req.ligand_max_M
+    if req.model == "lingane":
+        valid = lingane_valid_min_M(req, thetas)
+        if math.isfinite(valid) and lo < valid < hi / 1.5:
+            lo = valid
+    return lo, hi
 
 
 def spec_of(req: PlanInput) -> ModelSpec:
@@ -176,6 +212,7 @@ def _warnings(req: PlanInput, thetas: np.ndarray, designs, needed) -> list[PlanW
                 )
             )
     rec = designs[0]
+    out.extend(_model_range_warnings(req, thetas, designs))
     if req.model == "stepwise":
         betas = [float(x) for x in theta]
         L_lo = float(free_ligand(spec, theta, np.array([req.ligand_min_M]))[0])
@@ -197,7 +234,9 @@ def _warnings(req: PlanInput, thetas: np.ndarray, designs, needed) -> list[PlanW
                     )
                 )
     for n, s in zip(names, rec.stderr_worst, strict=True):
-        if not (math.isfinite(s) and s <= IMPRECISE_LOG10):
+        if not math.isfinite(s):
+            continue  # said by no_free_ligand or proposed_singular with the reason
+        if not s <= IMPRECISE_LOG10:
             out.append(
                 PlanWarning(
                     "imprecise_constant",
@@ -221,6 +260,9 @@ def _warnings(req: PlanInput, thetas: np.ndarray, designs, needed) -> list[PlanW
                     "stepwise model",
                 )
             )
+    second = _second_reference_warning(req, thetas, rec)
+    if second is not None:
+        out.append(second)
     if req.target_stderr_log10 is not None and needed is None:
         out.append(
             PlanWarning(
@@ -229,6 +271,82 @@ def _warnings(req: PlanInput, thetas: np.ndarray, designs, needed) -> list[PlanW
                 f"interest a standard error <= {req.target_stderr_log10:g}; the ligand-free "
                 "reference limits constants tied to E½(s) — replicate it, or widen the "
                 "ligand range",
+            )
+        )
+    return out
+
+
+def _second_reference_warning(
+    req: PlanInput, thetas: np.ndarray, rec: DesignAssessment
+) -> PlanWarning | None:
+    """How much a second ligand-free solution would narrow the constants tied to E½(s)."""
+    spec = spec_of(req)
+    c = np.array(rec.ligand_M)
+    one = _stderrs(spec, thetas[0], c, req.E_half_stderr_V)
+    cov = constants_covariance(spec, thetas[0], c, req.E_half_stderr_V, references=2)
+    two = np.sqrt(np.abs(np.diagonal(cov)))
+    gains = [
+        (n, a, b)
+        for n, a, b in zip(req.names, one, two, strict=True)
+        if math.isfinite(a) and math.isfinite(b) and b < a * 0.99
+    ]
+    if not gains:
+        return None
+    said = "; ".join(
+        f"{n} {a:.3g} → {b:.3g} ({100 * (1 - b / a):.0f} % narrower)" for n, a, b in gains
+    )
+    return PlanWarning(
+        "second_reference",
+        "measure a second ligand-free solution (one before and one after the titration): "
+        "E½(s) is one more solution, and a single one that is off (a drifting reference "
+        "electrode, a different junction potential) moves every constant tied to it "
+        "unseen, while two show it as their difference; with the planned noise alone the "
+        f"predicted standard errors would shrink: {said}",
+    )
+
+
+def _model_range_warnings(req: PlanInput, thetas: np.ndarray, designs) -> list[PlanWarning]:
+    """Where the fitted model cannot hold: no free ligand left, or a Lingane line that bends."""
+    out: list[PlanWarning] = []
+    for d in designs:
+        c = np.array(d.ligand_M)
+        dry = c[~np.isfinite(np.array(d.free_ligand_M))]
+        if dry.size and req.metal_total_M is not None:
+            bound = float(thetas[0][1]) if req.model == "lingane" else len(req.values)
+            out.append(
+                PlanWarning(
+                    "no_free_ligand",
+                    f"{d.name}: by the mass balance no ligand is left free at {dry.size} "
+                    f"point(s) ({', '.join(map(_fmt, dry))}): {req.metal_total_M:.3g} M metal "
+                    f"binds up to {bound:g} ligand(s) each, {bound * req.metal_total_M:.3g} M; "
+                    "those points determine nothing and the constants cannot be predicted "
+                    "(every error is n.d.): raise ligand_min_M above "
+                    f"{bound * req.metal_total_M:.3g} M or lower the metal concentration",
+                )
+            )
+    if req.model != "lingane":
+        return out
+    valid = lingane_valid_min_M(req, thetas)
+    if not math.isfinite(valid) or valid <= req.ligand_min_M:
+        return out
+    if valid < req.ligand_max_M / 1.5:
+        out.append(
+            PlanWarning(
+                "lingane_range_restricted",
+                f"recommended: placed from {_fmt(valid)} up, not from ligand_min_M = "
+                f"{_fmt(req.ligand_min_M)}: below it the free ion shifts E½ by more than "
+                f"{LINGANE_BEND_SHARE:g}·σ ({1e3 * LINGANE_BEND_SHARE * req.E_half_stderr_V:.2f}"
+                " mV) off the Lingane line (worst scenario), and points there would bias "
+                "p − q; to use the lower concentrations, plan and fit the stepwise model",
+            )
+        )
+    else:
+        out.append(
+            PlanWarning(
+                "lingane_range_restricted",
+                f"the Lingane line holds only from about {_fmt(valid)} total ligand (the free "
+                f"ion shifts E½ by more than {LINGANE_BEND_SHARE:g}·σ below it), above most of "
+                "the planned range: plan and fit the stepwise model instead",
             )
         )
     return out
@@ -258,20 +376,15 @@ def make_plan(req: PlanInput) -> PlanResult:
     points a target needs, and the warnings (see docs/plan.md)."""
     spec = spec_of(req)
     thetas = scenarios(req.values, req.ranges)
-    rec = exchange_design(
-        spec,
-        thetas,
-        req.ligand_min_M,
-        req.ligand_max_M,
-        req.points,
-        req.interest,
-        req.criterion,
-    )
+    lo, hi = _design_range(req, thetas)
+    rec = exchange_design(spec, thetas, lo, hi, req.points, req.interest, req.criterion)
     logd = log_spaced(req.ligand_min_M, req.ligand_max_M, req.points)
     designs = [assess("recommended", req, thetas, rec), assess("log_spaced", req, thetas, logd)]
-    if designs[1].criterion_mean < designs[0].criterion_mean:
+    habit = assess("recommended", req, thetas, log_spaced(lo, hi, req.points))
+    if habit.criterion_mean < designs[0].criterion_mean:
         # the search runs on the tabulated free ligand; never recommend worse than habit
-        designs[0] = assess("recommended", req, thetas, logd)
+        # (log-spaced over the range where the fitted model holds)
+        designs[0] = habit
     if req.proposed_ligand_M:
         designs.append(assess("proposed", req, thetas, np.array(req.proposed_ligand_M)))
     needed = _points_needed(req, thetas, np.array(designs[0].ligand_M))

@@ -20,6 +20,9 @@ WARNING_KINDS = {
     "imprecise_constant": "a constant's predicted standard error exceeds 0.3 log10 units",
     "target_unreachable": "no number of points up to the search limit reaches the target",
     "line_bends": "the complex does not dominate at the low end, so the Lingane line bends",
+    "lingane_range_restricted": "the recommended design keeps to where the Lingane line holds",
+    "no_free_ligand": "the metal binds all the ligand at some points: nothing is determined",
+    "second_reference": "a second ligand-free solution and how much it would narrow E½(s)",
     "short_ligand_range": "the ligand range spans less than one decade",
     "proposed_singular": "the proposed design cannot determine every constant",
 }

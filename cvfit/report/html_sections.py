@@ -81,6 +81,9 @@ def error_budget_section(data: Mapping[str, Any]) -> str:
             f"E½(s) from {len(values)} ligand-free files, spread (SD) "
             f"{1e3 * ref['spread_V']:.2f} mV, range {1e3 * (max(values) - min(values)):.2f} mV"
         )
+    second = _second_reference_note(budget.get("log10_beta_ratio"), len(values))
+    if second:
+        notes.append(second)
     note = f'<p class="refs">{_e("; ".join(notes))}.</p>' if notes else ""
     return (
         "<section><h2>Error budget</h2><p>Standard uncertainty of each constant by source; "
@@ -89,6 +92,23 @@ def error_budget_section(data: Mapping[str, Any]) -> str:
         "<th>within-file noise</th><th>between solutions</th><th>reference E½(s)</th>"
         "<th>total</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table></div>"
         f"{note}</section>"
+    )
+
+
+def _second_reference_note(ratio: Mapping[str, Any] | None, n_files: int) -> str:
+    """With one ligand-free file: what a second would protect and how much it would narrow."""
+    if n_files != 1 or not ratio:
+        return ""
+    ref, total = ratio.get("reference"), ratio.get("total")
+    if not (isinstance(ref, int | float) and isinstance(total, int | float) and ref > 0):
+        return ""
+    # E½(s) is one more solution: two ligand-free files halve its variance
+    after = math.sqrt(max(total**2 - ref**2 / 2.0, 0.0))
+    return (
+        "E½(s) comes from one ligand-free solution, counted as one more solution (its own "
+        "error plus the scatter between solutions); a second one, before and after the "
+        "titration, would show an offset of either as their difference and narrow the "
+        f"standard error of log10(β_ox/β_red) from {total:.3g} to about {after:.3g}"
     )
 
 

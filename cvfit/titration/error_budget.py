@@ -13,8 +13,11 @@ constant splits exactly::
 and ``s²`` is estimated from the residuals ``r = (I − X A) y`` by the method of moments,
 ``s² = max(0, (rᵀr − tr(M diag(σ²) Mᵀ)) / tr(M Mᵀ))`` with ``M = I − X A`` (unbiased before
 the truncation at zero; for an unweighted line it is ``Σ(rᵢ² − (1 − hᵢᵢ)σᵢ²)/(N − 2)``).
-The reference E½(s) is a third, separate part: the variance of the ligand-free mean,
-including the spread of several ligand-free files.
+The reference E½(s) is a third, separate part. It is one more solution: the variance of
+the ligand-free mean of M files is its own standard error (its file noise, including the
+spread of several ligand-free files; never scaled below it, even when the titration points
+happen to agree better than their errors predict) plus the solution-to-solution variance
+s² the points show, divided by M (:func:`reference_solution_variance`).
 
 References
 ----------
@@ -41,6 +44,7 @@ __all__ = [
     "within_file_variance",
     "budget_of",
     "reference_mean",
+    "reference_solution_variance",
     "linearised_budgets",
 ]
 
@@ -205,6 +209,36 @@ def reference_mean(
     from_scatter = math.nan if spread is None else spread / math.sqrt(m)
     candidates = [x for x in (from_errors, from_scatter) if math.isfinite(x)]
     return mean, (max(candidates) if candidates else None), spread
+
+
+def reference_solution_variance(
+    own_stderr_V: float, between_variance_V2: float, count: int = 1
+) -> float:
+    """Variance of E½(s) as one more solution: ``σ_s² + s²/M``, V².
+
+    Parameters
+    ----------
+    own_stderr_V : float
+        Standard error of the ligand-free mean from its own files (their noise and, with
+        several files, their spread: :func:`reference_mean`). Used as given, never scaled.
+    between_variance_V2 : float
+        Solution-to-solution variance s² the titration points show beyond their own noise
+        (:func:`extra_scatter_variance`), V².
+    count : int
+        Number M of ligand-free files averaged: each carries its own solution's offset,
+        so their mean carries s²/M.
+
+    Notes
+    -----
+    Before, a weighted fit multiplied σ_s² by the points' reduced χ²: a series whose points
+    agreed well (χ² ≈ 0.2) counted a ligand-free file 2.7σ off at 0.06 mV instead of its
+    own 0.14 mV, and log10(β_ox/β_red) landed 6.2 standard errors from the truth.
+    """
+    own = float(own_stderr_V)
+    between = float(between_variance_V2)
+    if not (math.isfinite(own) and own >= 0.0 and math.isfinite(between) and between >= 0.0):
+        raise ValueError(f"need finite σ_s >= 0 and s² >= 0, got {own_stderr_V}, {between}")
+    return own * own + between / max(int(count), 1)
 
 
 def linearised_budgets(

@@ -40,9 +40,15 @@ from cvfit.titration.error_budget import (
     ErrorBudget,
     budget_of,
     extra_scatter_variance,
+    reference_solution_variance,
     within_file_variance,
 )
-from cvfit.titration.lingane_flags import delta_ligand_flags, point_flags, weighting_flag
+from cvfit.titration.lingane_flags import (
+    delta_ligand_flags,
+    free_ion_bend_flag,
+    point_flags,
+    weighting_flag,
+)
 from cvfit.titration.lingane_intervals import scaled, t_quantity, with_reference
 from cvfit.titration.lingane_regression import (
     curvature_p_value,
@@ -404,13 +410,19 @@ def fit_lingane(
     s2_extra = extra_scatter_variance(design, wts, line.residuals, noise)
 
     def reference_term(value: float, fit_var: float, nu: int, sc: float, typ: float | None):
+        # E½(s) is one more solution: its own error plus the points' between-solution
+        # scatter (error_budget.reference_solution_variance), never scaled below its own
+        ref = None
+        if s_ref_given is not None:
+            ref = reference_solution_variance(s_ref_given, s2_extra, m_ref)
         if weighting == "auto" and have_sigma and not credible:
-            # the reference file(s) scatter like the points: their mean M times less,
-            # never less than the spread the reference files show among themselves
-            one = sc * (1.0 if typ is None else typ)
-            ref = max(one / m_ref, 0.0 if s_ref_given is None else s_ref_given**2)
-            return with_reference(value, fit_var, nu, 1.0, None, ref)
-        return with_reference(value, fit_var, nu, sc, s_ref, typ)
+            # the reference file(s) scatter like the points: their mean M times less
+            one = sc * (1.0 if typ is None else typ) / m_ref
+            return with_reference(value, fit_var, nu, 1.0, None, max(one, ref or 0.0))
+        if ref is None:
+            return with_reference(value, fit_var, nu, sc, None, typ)
+        # known own error plus the between part: t(ν) and normal half-widths in quadrature
+        return with_reference(value, fit_var, nu, 1.0, math.sqrt(ref), None)
 
     slope = line.slope
     slope_se = math.sqrt(cov[0, 0])
@@ -448,6 +460,11 @@ def fit_lingane(
     flags.extend(delta_ligand_flags(delta_q, k))
 
     p_curv = curvature_p_value(x, y, line, w_sigma)
+    bend = free_ion_bend_flag(
+        x, wts, log10_ratio=ratio_q, delta=delta_q, nernst_slope_V=slope_nernst
+    )
+    if bend is not None and not (p_curv is not None and p_curv < curvature_alpha):
+        flags.append(bend)
     if p_curv is not None and p_curv < curvature_alpha:
         flags.append(
             Flag(

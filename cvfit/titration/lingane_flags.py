@@ -11,7 +11,20 @@ from cvfit.flags import Flag
 from cvfit.quantity import Quantity
 from cvfit.titration.lingane_regression import LineFit
 
-__all__ = ["point_flags", "weighting_flag", "delta_ligand_flags", "SHORT_RANGE_DECADES"]
+__all__ = [
+    "point_flags",
+    "weighting_flag",
+    "delta_ligand_flags",
+    "free_ion_bend_flag",
+    "SHORT_RANGE_DECADES",
+    "BEND_BIAS_SHARE",
+]
+
+#: The neglected free-ion term is flagged when the bias it predicts in p − q or in
+#: log10(β_ox/β_red) exceeds this share of the constant's standard error.
+BEND_BIAS_SHARE = 0.5
+#: ... and exceeds this (log10 units or ligands).
+BEND_BIAS_FLOOR = 1e-3
 
 #: Below this span of log10[L] the slope, hence p − q, is poorly determined (common practice).
 SHORT_RANGE_DECADES = 1.0
@@ -121,3 +134,52 @@ def delta_ligand_flags(delta: Quantity, integer: int) -> tuple[Flag, ...]:
             )
         )
     return tuple(out)
+
+
+def free_ion_bend_flag(
+    log10_ligand: np.ndarray,
+    weights: np.ndarray,
+    *,
+    log10_ratio: Quantity,
+    delta: Quantity,
+    nernst_slope_V: float,
+) -> Flag | None:
+    """``LINE_CURVED`` when the free ion the line neglects biases the fitted constants.
+
+    Lingane's line drops the 1 of 1 + β·[L]^Δ: the E½ lie (RT/nF)·ln(1 + 1/(β·[L]^Δ)) off
+    it (the reduced form taken as uncomplexed), most at the lowest ligand. At the fitted
+    constants that shift is carried through the fit's own linear estimator; when the bias
+    it predicts in p − q or in log10(β_ox/β_red) exceeds ``BEND_BIAS_SHARE`` of its
+    standard error the flag is raised. Unlike the quadratic F-test this sees a bend
+    confined to a cluster of points at the low end.
+
+    References
+    ----------
+    Lingane, J. J. Chem. Rev. 29 (1941) 1.
+    """
+    x = np.asarray(log10_ligand, dtype=float)
+    w = np.asarray(weights, dtype=float)
+    level = log10_ratio.value + delta.value * x  # log10(β·[L]^Δ) at each point
+    shift = nernst_slope_V / math.log(10.0) * np.log1p(10.0 ** -np.clip(level, -300, 300))
+    design = np.column_stack([x, np.ones_like(x)])
+    xtw = design.T * w
+    d_slope, d_icpt = np.linalg.solve(xtw @ design, xtw @ shift)
+    bias_delta = float(d_slope / nernst_slope_V)
+    bias_ratio = float(d_icpt / nernst_slope_V)
+    # in standard errors, with a floor of 0.001 (log10 units, ligands): below it a bias is
+    # chemically meaningless, and exact data have standard errors of zero
+    worst = max(
+        abs(bias_delta) / max(delta.stderr, BEND_BIAS_FLOOR / BEND_BIAS_SHARE),
+        abs(bias_ratio) / max(log10_ratio.stderr, BEND_BIAS_FLOOR / BEND_BIAS_SHARE),
+    )
+    if not (math.isfinite(worst) and worst > BEND_BIAS_SHARE):
+        return None
+    low = float(10.0 ** x.min())
+    return Flag(
+        "LINE_CURVED",
+        f"at the fitted constants the free ion is not negligible at the lowest ligand "
+        f"({low:.3g} M: E½ {1e3 * float(shift.max()):.2f} mV off the line, reduced form "
+        f"taken as uncomplexed), which biases p − q by about {bias_delta:+.3g} and "
+        f"log10(β_ox/β_red) by {bias_ratio:+.3g} (up to {worst:.1f} standard errors): drop the "
+        'lowest points or try model = "stepwise"',
+    )

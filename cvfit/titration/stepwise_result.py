@@ -3,12 +3,16 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
 
-from cvfit.chemistry.speciation import fraction_peak_ligand_M, species_fractions
+from cvfit.chemistry.speciation import (
+    fraction_peak_ligand_M,
+    ligand_for_fraction_M,
+    species_fractions,
+)
 from cvfit.flags import Flag
 from cvfit.formatting import format_pm
 from cvfit.quantity import Quantity, clean_number
@@ -26,6 +30,35 @@ __all__ = [
 
 #: A complex whose largest fraction over the measured range stays below this is flagged.
 MIN_MAX_FRACTION = 0.05
+#: Share of the metal a complex must reach for its constant to be determined: the advice
+#: of BETA_UNDETERMINED names the ligand concentration where it does (common practice).
+DETERMINING_FRACTION = 0.2
+#: Highest free ligand concentration taken as reachable, mol/L: a neat liquid ligand is
+#: about 10–20 mol/L, and solutions beyond ~10 M are not a titration (common practice).
+REACHABLE_LIGAND_M = 10.0
+
+
+def _advice(u: UndeterminedConstant, log10_beta: list[float], measured_max_M: float) -> str:
+    """What would determine β_j, computed from the model: where ML_j reaches 20 %."""
+    j, share = u.j, f"{100 * DETERMINING_FRACTION:g} %"
+    need = u.suggested_ligand_M
+    if need is None:
+        peak = float(np.max(species_fractions(np.geomspace(1e-30, 1e5, 3501), log10_beta)[j]))
+        return (
+            f"ML{j} never exceeds {100 * peak:.1f} % of the metal at any ligand concentration "
+            "(its neighbours dominate): no ligand range will determine it"
+        )
+    if need > REACHABLE_LIGAND_M:
+        return (
+            f"ML{j} would reach {share} of the metal only at [L] ≈ {need:.2g} M, beyond any "
+            "reachable concentration: no ligand range will determine it"
+        )
+    if need > measured_max_M:
+        return f"extend the series to [L] ≈ {need:.2g} M, where ML{j} reaches {share} of the metal"
+    return (
+        f"ML{j} reaches {share} of the metal at [L] ≈ {need:.2g} M, inside the measured range: "
+        "more points near there or less E½ noise, not a wider range"
+    )
 
 
 @dataclass(frozen=True)
@@ -39,7 +72,9 @@ class UndeterminedConstant:
         One-sided 95 % profile upper limit of log10 β_j, when the data give one.
     reason : str
     suggested_ligand_M : float or None
-        Free ligand concentration the series should reach (or centre on) to determine it.
+        Free ligand concentration at which ML_j reaches 20 % of the metal (at the fitted
+        constants, or at its upper limit beyond the chosen N): what the series should
+        reach to determine it. None when no reachable concentration (<= 10 M) will do.
     """
 
     j: int
@@ -114,6 +149,10 @@ class StepwiseFit:
     model: str = "stepwise"
     error_budget: tuple[ErrorBudget, ...] | None = None
     extra_scatter_V: float | None = None
+    #: The chosen optimum as :class:`lmfit.Parameters` (E½(s), the fitted log10 β_j with
+    #: their bounds and lmfit's standard errors, the other form's given constants with
+    #: ``vary=False``), for Python users; not compared, not written to results.json.
+    lmfit_params: Any = field(default=None, compare=False, repr=False)
 
     def __post_init__(self) -> None:
         if self.fitted_state not in ("ox", "red"):
@@ -226,7 +265,7 @@ def verdicts(
         ok = math.isfinite(lo) and math.isfinite(hi) and not chosen.at_bound[j - 1]
         determined.append(ok)
         if not ok:
-            target = fraction_peak_ligand_M(vals, j)
+            target = ligand_for_fraction_M(vals, j, DETERMINING_FRACTION)
             why = "its profile-likelihood interval is open (runs into the bound)"
             undetermined.append(UndeterminedConstant(j, clean_number(hi), why, target))
         elif max_frac[j - 1] < MIN_MAX_FRACTION:
@@ -242,9 +281,8 @@ def verdicts(
         j = fit_j.N
         up = clean_number(up)
         target = None
-        if up is not None:
-            target = fraction_peak_ligand_M([*vals, *[up] * (j - N)], j)
-            target = max(target, float(data.ligand_M.max()))
+        if up is not None:  # at its upper limit: the least ligand that could do
+            target = ligand_for_fraction_M([*vals, *[up] * (j - N)], j, DETERMINING_FRACTION)
         why = (
             f"adding ML{j} does not improve the fit significantly over the measured "
             f"range (up to {float(data.ligand_M.max()):.3g} M free ligand)"
@@ -252,18 +290,23 @@ def verdicts(
         undetermined.append(UndeterminedConstant(j, up, why, target))
     if undetermined:
         parts = []
+        top = float(data.ligand_M.max())
         for u in undetermined:
             lim = (
                 f"log10 β{u.j} < {u.upper_limit_95:.2f}"
                 if u.upper_limit_95 is not None
                 else "no upper limit"
             )
-            sug = (
-                f"; extend the series to [L] ≳ {u.suggested_ligand_M:.2g} M"
-                if u.suggested_ligand_M
-                else ""
-            )
+            model = vals if u.j <= N else [*vals, *[u.upper_limit_95 or 0.0] * (u.j - N)]
+            sug = "" if u.upper_limit_95 is None and u.j > N else f"; {_advice(u, model, top)}"
             parts.append(f"β{u.j} ({lim}{sug})")
+        # a concentration no solution can reach is no suggestion
+        undetermined = [
+            replace(u, suggested_ligand_M=None)
+            if (u.suggested_ligand_M or 0.0) > REACHABLE_LIGAND_M
+            else u
+            for u in undetermined
+        ]
         flags.append(
             Flag(
                 "BETA_UNDETERMINED",

@@ -19,6 +19,7 @@ from collections.abc import Callable
 
 import numpy as np
 
+from cvfit.likelihood import ProfileSide, profile_side
 from cvfit.quantity import chi2_quantile
 
 __all__ = ["log_k0_interval", "runs_test_z", "PROFILE_WHEN_STDERR"]
@@ -48,13 +49,6 @@ def runs_test_z(residual: np.ndarray) -> float:
     mean = 2.0 * n1 * n2 / n + 1.0
     var = 2.0 * n1 * n2 * (2.0 * n1 * n2 - n) / (n * n * (n - 1.0))
     return (runs - mean) / math.sqrt(var) if var > 0 else math.nan
-
-
-def _crossing(a: float, da: float, b: float, db: float, level: float) -> float:
-    """Where the profile (linear between a and b) reaches *level*."""
-    if db == da:
-        return b
-    return a + (level - da) * (b - a) / (db - da)
 
 
 def log_k0_interval(
@@ -94,21 +88,16 @@ def log_k0_interval(
         return best - h, best + h, False
     threshold = float(chi2_quantile(level, 1))
 
-    def walk(step: float, limit: float) -> tuple[float, bool]:
-        prev_l, prev_d = best, 0.0
-        x = x_best
-        for _ in range(_MAX_STEPS):
-            lk = prev_l + step
-            if (step > 0 and lk >= limit) or (step < 0 and lk <= limit):
-                lk = limit
-            ssr, x = profile_cost(lk, x)
-            d = max(ssr - ssr_min, 0.0) / inflate
-            if d >= threshold:
-                return _crossing(prev_l, prev_d, lk, d, threshold), False
-            if lk == limit:
-                return limit, True
-            prev_l, prev_d = lk, d
-        return prev_l, True
+    def rise(lk: float, x: np.ndarray) -> tuple[float, np.ndarray]:
+        ssr, x = profile_cost(lk, x)
+        return max(ssr - ssr_min, 0.0) / inflate, x
+
+    def walk(step: float, limit: float) -> ProfileSide:
+        direction = 1.0 if step > 0 else -1.0
+        return profile_side(
+            rise, best, x_best, threshold, direction=direction, step=abs(step), bound=limit,
+            grow=1.0, max_steps=_MAX_STEPS, crossing="linear",
+        )  # fmt: skip
 
     hi, open_upper = walk(_STEP_UP, hi_b)
     lo, _ = walk(-_STEP_DOWN, lo_b)

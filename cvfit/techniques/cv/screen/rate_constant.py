@@ -23,7 +23,10 @@ reversible limit only: as the electron transfer slows, the dependence fades. The
 computation gives, for the switch moved from 112.5 to 200 mV beyond E½, n·ΔEp falling by
 1.54 mV (reversible), 1.34 (ψ = 2), 1.13 (ψ = 1), 0.69 (ψ = 0.5), 0.31 (ψ = 0.35) and
 −0.18 mV (ψ = 0.25) — about the reversible shift times (141 − n·ΔEp)/(141 − 57). The
-Nernstian correction is scaled by that weight (mV at 25 °C, clipped to 0…1).
+Nernstian correction is scaled by that weight (mV at 25 °C, clipped to 0…1). The Nernstian
+shift itself is the simulated switching table
+(:mod:`cvfit.techniques.cv.screen.switching_table`), whose reversible shift from 112.5 to
+200 mV is the same 1.54 mV; the reversible n·ΔEp at the table's switch is 59.70 mV.
 
 References
 ----------

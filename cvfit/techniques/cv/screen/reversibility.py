@@ -4,7 +4,8 @@ Three criteria of a reversible (Nernstian) couple are compared with the measured
 on n-scaled values and with every mV margin scaled by T/298.15 K:
 
 * ΔEp = Epa − Epc against the Nernstian value for the actual switching potential
-  (Nicholson–Shain table, :func:`nernstian_delta_Ep_V`);
+  (:func:`nernstian_delta_Ep_V`, from the simulated table of
+  :mod:`cvfit.techniques.cv.screen.switching_table`);
 * the width |Ep − Ep/2| of the forward peak against 2.20 RT/nF;
 * the reverse/forward peak-current ratio (Nicholson 1966) against 1.
 
@@ -25,11 +26,10 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-import numpy as np
-
 from cvfit.flags import Flag
 from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
+from cvfit.techniques.cv.screen.switching_table import MIN_SWITCH_THERMAL, n_delta_Ep_thermal
 from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K, thermal_voltage
 
 __all__ = [
@@ -41,24 +41,13 @@ __all__ = [
     "PEAK_OFFSET_THERMAL",
 ]
 
-# Nicholson & Shain (1964); Bard & Faulkner Table 6.2.1 (from memory): n·ΔEp in mV at 25 °C
-# for a switch n·|Eλ − Ep| = 71.5, 121.5, 171.5, 271.5 mV beyond the forward PEAK, with the
-# limit 57.0 mV for a switch far beyond the wave. The forward peak lies 1.109 RT/F = 28.5 mV
-# beyond E½ (n = 1, 25 °C), so the switches are 100, 150, 200 and 300 mV beyond E½.
-_TABLE_PAST_PEAK_MV = np.array([71.5, 121.5, 171.5, 271.5])
-_PEAK_PAST_E_HALF_MV = 28.5
-_TABLE_OFFSET_MV = _TABLE_PAST_PEAK_MV + _PEAK_PAST_E_HALF_MV  # n·|Eλ − E½|
-_TABLE_DELTA_MV = np.array([60.5, 59.2, 58.3, 57.8])
-_LIMIT_DELTA_MV = 57.0
-# the interpolation nodes in 1/(n·|Eλ − E½|), formed once (called several times per file)
-_INV_OFFSET = np.concatenate([[0.0], 1.0 / _TABLE_OFFSET_MV[::-1]])
-_NODE_DELTA_MV = np.concatenate([[_LIMIT_DELTA_MV], _TABLE_DELTA_MV[::-1]])
-
-#: Smallest n·|Eλ − E½| (at 25 °C) covered by the table (71.5 mV past the peak), V.
-MIN_TABULATED_OFFSET_V = 0.100
+#: Smallest n·|Eλ − E½| (at 25 °C) at which ΔEp is tested, V. The table
+#: (:mod:`cvfit.techniques.cv.screen.switching_table`) reaches 38.5 mV; 50 mV leaves room for
+#: the midpoint, which lies up to 4 mV/n beyond E½ at such switches.
+MIN_TABULATED_OFFSET_V = 0.050
 #: |Ep − Ep/2| of a reversible peak in units of RT/nF (Nicholson & Shain 1964).
 PEAK_WIDTH_THERMAL = 2.20
-#: |Ep − E½| of a reversible peak in units of RT/nF (Nicholson & Shain 1964).
+#: |Ep − E½| of a reversible peak in units of RT/nF (Nicholson & Shain 1964: 1.109).
 PEAK_OFFSET_THERMAL = 1.109
 
 
@@ -74,16 +63,15 @@ def nernstian_delta_Ep_V(
 ) -> float:
     """Peak separation of a Nernstian couple for a given switching potential.
 
-    Nicholson and Shain tabulate n·ΔEp against the switch measured from the forward peak,
-    n·|Eλ − Ep| = 71.5, 121.5, 171.5, 271.5 mV (25 °C); with Ep 28.5/n mV beyond E½ these are
-    n·|Eλ − E½| = 100, 150, 200, 300 mV, the variable used here. The table is interpolated
-    piecewise-linearly in 1/(n·|Eλ − E½|), with the limit 57.0 mV at 1/x = 0: the table is
-    nearly linear in that variable (the influence of the switch fades like a diffusion
-    tail), so the interpolation reproduces the four table points exactly and tends smoothly
-    to the limit beyond 300 mV. Potentials scale with T/298.15 K (the natural variable is
-    nF(Eλ − E½)/RT). For n·|Eλ − E½| below 100 mV the table does not apply; the value at
-    100 mV (60.5 mV/n) is returned as a lower bound, and
-    :func:`screen_reversibility` then flags ``SWITCHING_TOO_CLOSE`` instead of testing ΔEp.
+    n·ΔEp = (2·1.10893 + e(ξλ))·RT/F with ξλ = nF|Eλ − E½|/RT and e from the simulated
+    table of :mod:`cvfit.techniques.cv.screen.switching_table` (converged in the step to
+    10⁻⁴ mV, checked against an independent convolution-integral computation within
+    0.005 mV): 60.19, 58.78, 58.16, 57.64 mV at 100, 150, 200, 300 mV past E½ (25 °C),
+    tending to 57.0 mV far away. Continuous in the switching distance, in n and in T.
+    Nicholson and Shain's published table (60.5, 59.2, 58.3, 57.8 mV) lies 0.1–0.4 mV
+    above. Closer than the table reaches (n·|Eλ − E½| < 38.5 mV at 25 °C) the value at its
+    edge (about 63.9 mV/n) is returned as a lower bound; :func:`screen_reversibility`
+    flags ``SWITCHING_TOO_CLOSE`` below 50 mV instead of testing ΔEp.
 
     Parameters
     ----------
@@ -102,19 +90,13 @@ def nernstian_delta_Ep_V(
     References
     ----------
     Nicholson, R. S.; Shain, I. Anal. Chem. 36 (1964) 706.
-    Bard, A. J.; Faulkner, L. R. Electrochemical Methods, 2nd ed. (2001), Table 6.2.1.
     """
     _check_n_T(electrons, temperature_K)
     offset = abs(float(switching_offset_V))
     if not math.isfinite(offset):
         raise ValueError(f"switching_offset_V must be finite, got {switching_offset_V}")
-    scale = temperature_K / STANDARD_TEMPERATURE_K
-    x_mV = electrons * offset * 1e3 / scale  # n·|Eλ − E½| expressed at 25 °C
-    if x_mV <= _TABLE_OFFSET_MV[0]:
-        n_delta_mV = float(_TABLE_DELTA_MV[0])
-    else:
-        n_delta_mV = float(np.interp(1.0 / x_mV, _INV_OFFSET, _NODE_DELTA_MV))
-    return n_delta_mV * 1e-3 * scale / electrons
+    rt_nf = thermal_voltage(temperature_K, electrons)
+    return n_delta_Ep_thermal(max(offset / rt_nf, MIN_SWITCH_THERMAL)) * rt_nf
 
 
 @dataclass(frozen=True)
@@ -258,9 +240,9 @@ def screen_reversibility(
                 Flag(
                     "SWITCHING_TOO_CLOSE",
                     f"the switch lies only {_mV(offset)} past E½ (n·|Eλ − E½| = "
-                    f"{_mV(n * offset)} < {_mV(MIN_TABULATED_OFFSET_V * scale)}), outside "
-                    "the Nicholson–Shain table, so ΔEp is not tested (the Nernstian value "
-                    f"there exceeds {_mV(bound)}); switch further past the wave",
+                    f"{_mV(n * offset)} < {_mV(MIN_TABULATED_OFFSET_V * scale)}), too close "
+                    "for the Nernstian ΔEp to be tested (the Nernstian value "
+                    f"there is at least {_mV(bound)}); switch further past the wave",
                     "warning",
                 )
             )
