@@ -59,6 +59,23 @@ class FlagCode:
 _I, _W, _E = "info", "warning", "error"
 
 _CATALOGUE = (
+    # --- import --------------------------------------------------------------------------
+    FlagCode("PADDING_ROWS_SKIPPED", _I, "Rows with neither a potential nor a current (only "
+             "a counter or other columns filled) were skipped as padding; how many and where "
+             "is said."),
+    FlagCode("DUPLICATE_COLUMN_NAMES", _W, "Several columns share the name of a column that "
+             "was read; which one was read, and why, is said (set the column option to an "
+             "index to choose another)."),
+    FlagCode("POTENTIAL_UNIT_DOUBTFUL", _W, "The potentials span more than 10 V under a label "
+             "that gives no unit: they are probably in mV (set potential_unit = \"mV\")."),
+    FlagCode("POTENTIAL_GLITCH", _W, "The potential jumps away and straight back for one "
+             "sample (a glitch of the record); the sweeps were divided without it and the "
+             "line is named."),
+    FlagCode("SCAN_RATE_METADATA_DISAGREES", _W, "The scan rate the file's metadata states "
+             "differs by more than 5 % from the manifest's (without one, the time column's), "
+             "which is used; both values are given."),
+    FlagCode("SCAN_RATE_FROM_FILE", _I, "The scan rate is the one the file's metadata states "
+             "(the manifest gives none and the file has no time column)."),
     # --- peak analysis -------------------------------------------------------------------
     FlagCode("NO_FORWARD_PEAK", _E, "No forward peak was found (or the forward sweep is too "
              "short to fit a baseline); E½, ΔEp and the screen are not determinable."),

@@ -11,6 +11,7 @@ from dataclasses import asdict, dataclass, field, fields
 from typing import TYPE_CHECKING, Any, Literal, TypeAlias
 
 from cvfit.flags import Flag
+from cvfit.io.notes import ImportedFile
 from cvfit.quantity import clean_number
 from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.techniques.base import Measurement, StandardMeasurement
@@ -85,6 +86,9 @@ class FileResult:
         R_u the potentials were corrected with, Ω.
     pH : float or None
         The solution's pH, when the manifest gives one for the file.
+    imported : ImportedFile or None
+        The columns read from the file and the importer's flags
+        (:func:`cvfit.io.notes.imported_file`); None for a record not read from a file.
     """
 
     file: str
@@ -99,11 +103,19 @@ class FileResult:
     label: str | None = None
     resistance_ohm: float | None = None
     pH: float | None = None
+    imported: ImportedFile | None = field(default=None, compare=False)
 
     @property
     def flags(self) -> tuple[Flag, ...]:
-        """Every finding for this file: the technique's, the decision's, the series'."""
-        return (*self.measurement.flags, *self.half_wave.flags, *self.series_flags)
+        """Every finding for this file: the importer's, the technique's, the decision's,
+        the series'."""
+        read = self.imported.flags if self.imported is not None else ()
+        return (*read, *self.measurement.flags, *self.half_wave.flags, *self.series_flags)
+
+    @property
+    def imported_columns(self) -> dict[str, str] | None:
+        """The columns read from the file and their units (None when not read from one)."""
+        return self.imported.columns if self.imported is not None else None
 
     @property
     def reversible(self) -> bool | None:
@@ -158,6 +170,7 @@ class FileResult:
             if self.internal_standard is None
             else self.internal_standard.to_dict(),
             "flags": [f.to_dict() for f in self.flags],
+            "imported_columns": self.imported_columns,
         }
 
 

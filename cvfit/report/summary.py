@@ -6,6 +6,7 @@ from cvfit.errors import printable
 from cvfit.formatting import format_pm
 from cvfit.pipeline.results import SeriesResult
 from cvfit.report.headline import headline_lines
+from cvfit.report.imported_columns import columns_lines
 from cvfit.techniques import technique_of_name
 
 __all__ = ["format_summary"]
@@ -32,6 +33,8 @@ def format_summary(result: SeriesResult) -> str:
     lines.append("")
     lines.extend(_file_table(result))
     lines.append("")
+    read = columns_lines([(f.file, f.imported_columns) for f in result.files])
+    lines.extend([*read, ""] if read else [])
     technique = technique_of_name(result.series.technique)
     lines.extend(technique.summary_lines(result.files, result.scan_rate_studies))
     fit = result.fit
