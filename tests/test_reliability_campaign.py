@@ -1,0 +1,110 @@
+"""A fast subset of the campaign of scripts/fuzz_plan_simulate.py, run as tests.
+
+Each case is the real ``cvfit`` command in a subprocess with a timeout and a memory limit,
+judged by the campaign's own rules: a bad input ends in one line and exit 2, a good one in
+exit 0 with nothing on stderr, no file of the user's is lost, no CSV cell is a formula, and
+a simulated series is one ``cvfit run`` accepts. The whole campaign (with 20 rounds of two
+concurrent runs and Ctrl-C to pooled runs) runs in CI: ``python scripts/fuzz_plan_simulate.py``.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import sys
+from concurrent.futures import ThreadPoolExecutor
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+TIMEOUT_S = 60
+
+
+def _load(name: str):
+    sys.path.insert(0, str(ROOT / "scripts"))
+    spec = importlib.util.spec_from_file_location(name, ROOT / "scripts" / f"{name}.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+campaign = _load("fuzz_plan_simulate")
+
+#: The planner (item 3 of the round): each hung, crashed or wrote Infinity before.
+PLANNER = [
+    "plan: a FIFO as the plan file",
+    "plan: /dev/zero as the plan file",
+    "plan: arrays nested 100 000 deep",
+    "plan: from_results a FIFO",
+    "plan: from_results JSON nested 100 000 deep",
+    "plan: a UTF-8 BOM",
+    "plan: points = 1 000",
+    "plan: points = 10**9",
+    "plan: E_half_stderr_V = 1e300",
+    "plan: ligand_min_M = 1e-300",
+    "plan: stepwise log10_beta_ox = [300, 600]",
+    "pilot: one-element ci95",
+    "pilot: numeric ci95",
+    "pilot: numeric voltammograms",
+    "pilot: fit value a record of numbers",
+    "pilot: stepwise constants as numbers",
+    "pilot: E_half_stderr_V = Infinity",
+]
+#: The simulator (item 4): checked before anything is computed.
+SIMULATOR = [
+    "simulate: --cycles 10**12",
+    "simulate: --diffusion-red 1e-300",
+    "simulate: --out /proc/version --force",
+    "simulate series: --ligand-M 0,0,0",
+    "simulate series: --log-beta-ox=,,11.3",
+]
+#: Input errors that were internal errors (item 5), and the CSV cell (item 8).
+INPUTS = [
+    "input: a data file name of 256 bytes",
+    "input: a path too long",
+    "input: batch with a 256-byte name",
+    "input: [internal_standard] E_half_V = 1e308",
+    "csv: a data file named =1+2.csv",
+]
+#: Raw library warnings that reached stderr on a successful run (item 7): each case now
+#: ends in exit 0 with an empty stderr, or in an input error.
+WARNINGS = [
+    "warning: internal standard window outside the data",
+    "plan: ligand_max_M = 1e300",
+    "plan: E_half_stderr_V = 1e-300",
+    "plan: delta_ligands = 1e300",
+    "plan: temperature_C = 1e300",
+    "plan: metal_total_M = 1e300",
+    "plan: proposed 1e300",
+    "plan: metal_total_M = 20 with ligand up to 0.1 M",
+    "plan: ligand 1e-12..20, noise 1e-7 V (the bounds)",
+    "plan: stepwise [100, 100] with metal (the bounds)",
+]
+SUBSET = PLANNER + SIMULATOR + INPUTS + WARNINGS
+
+
+@pytest.fixture(scope="module")
+def outcomes(tmp_path_factory) -> dict:
+    """Every case of the subset, run two at a time: name -> Outcome."""
+    root = tmp_path_factory.mktemp("campaign")
+    fixtures = campaign.make_fixtures(root)
+    cases = {c.name: c for c in campaign.all_cases(fixtures)}
+    assert set(SUBSET) <= set(cases), sorted(set(SUBSET) - set(cases))
+    chosen = [cases[name] for name in SUBSET]
+    with ThreadPoolExecutor(2) as pool:
+        done = pool.map(lambda ic: campaign.run_case(ic[1], root, ic[0], TIMEOUT_S),
+                        enumerate(chosen))  # fmt: skip
+        return {o.case: o for o in done}
+
+
+@pytest.mark.parametrize("name", PLANNER + SIMULATOR + INPUTS)
+def test_case_ends_as_it_should(outcomes, name):
+    outcome = outcomes[name]
+    assert outcome.kind in campaign.GOOD, (outcome.kind, outcome.detail)
+
+
+@pytest.mark.parametrize("name", WARNINGS)
+def test_no_raw_warning_on_stderr_at_exit_0(outcomes, name):
+    """Exit 0 with an empty stderr ('accepted'), or a one-line input error ('clean')."""
+    outcome = outcomes[name]
+    assert outcome.kind in campaign.GOOD, (outcome.kind, outcome.detail)
