@@ -20,10 +20,9 @@ from typing import Any
 
 from cvfit.errors import InputError
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
+from cvfit.plan.limits import MAX_CONSTANTS, MAX_POINTS, within
+from cvfit.plan.pilot import pilot_constants, pilot_noise, read_pilot
 from cvfit.units import celsius_to_kelvin
-
-from .limits import MAX_CONSTANTS, MAX_POINTS, within
-from .pilot import pilot_constants, pilot_noise, read_pilot
 
 __all__ = ["PlanInput", "load_plan", "plan_from_mapping", "CRITERIA"]
 
