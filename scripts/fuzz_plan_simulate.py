@@ -268,44 +268,57 @@ def concurrent_rounds(base: Path, root: Path, rounds: int, timeout: float) -> li
     return failures
 
 
-def interrupted_runs(
-    root: Path, timeout: float, delays=(1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0, 4.5)
-) -> list[str]:
-    """Failures of Ctrl-C sent to pooled runs: one line, exit 130, no staging left."""
+def _children(pid: int) -> int:
+    try:
+        return len(Path(f"/proc/{pid}/task/{pid}/children").read_text().split())
+    except OSError:
+        return 0
+
+
+def interrupted_runs(root: Path, timeout: float, rounds: int = 16) -> tuple[list[str], int]:
+    """Ctrl-C to pooled runs, sent once the workers are there and 0-1.5 s into their work:
+    (failures, runs interrupted). Each must end with one line, exit 130, no staging left."""
     folder = root / "interrupt"
     folder.mkdir()
-    ligands = ",".join(f"{x:.3g}" for x in [0.0, *[1e-4 * 1.2**k for k in range(59)]])
+    ligands = ",".join(f"{x:.3g}" for x in [0.0, *[1e-4 * 1.12**k for k in range(79)]])
     subprocess.run([*CVFIT, *SIM, "--series", "--out", str(folder / "s"), "--ligand-M", ligands,
                     "--log-beta-ox", "4", "--seed", "3", "--noise", "0.01"],
                    check=True, capture_output=True, cwd=folder)  # fmt: skip
-    failures = []
-    for k, delay in enumerate(delays):
+    failures, interrupted = [], 0
+    for k in range(rounds):
+        delay = 0.1 * k
         out = folder / f"out{k}"
         p = subprocess.Popen(
             [*CVFIT, "run", str(folder / "s" / "series.toml"), "--out", str(out), "--jobs", "2"],
             stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True,
             start_new_session=True, cwd=folder,
         )  # fmt: skip
+        deadline = time.monotonic() + timeout
+        while _children(p.pid) < 2 and p.poll() is None and time.monotonic() < deadline:
+            time.sleep(0.02)
         time.sleep(delay)
-        if p.poll() is None:
-            os.killpg(p.pid, signal.SIGINT)  # what a terminal does on Ctrl-C
+        if p.poll() is not None:
+            continue  # finished before the signal
+        os.killpg(p.pid, signal.SIGINT)  # what a terminal does on Ctrl-C
+        interrupted += 1
         try:
             _, err = p.communicate(timeout=timeout)
         except subprocess.TimeoutExpired:
             os.killpg(p.pid, signal.SIGKILL)
             p.communicate()
-            failures.append(f"Ctrl-C after {delay} s: hang")
+            failures.append(f"Ctrl-C {delay:.1f} s into the work: hang")
             continue
         time.sleep(0.5)  # the workers see their parent gone within PARENT_POLL_S
         lines = err.splitlines()
         staging = [q.name for q in folder.iterdir() if ".cvfit-" in q.name]
         if p.returncode == 0:
-            continue  # finished before the signal
+            continue  # finished while the signal came
         if p.returncode != 130 or len(lines) != 1 or "Traceback" in err or staging:
             failures.append(
-                f"Ctrl-C after {delay} s: exit {p.returncode}, {err[:200]!r} {staging}"
+                f"Ctrl-C {delay:.1f} s into the work: exit {p.returncode}, "
+                f"{len(lines)} lines on stderr, {err[-300:]!r} {staging}"
             )
-    return failures
+    return failures, interrupted
 
 
 def make_fixtures(root: Path) -> dict:
@@ -341,7 +354,9 @@ def main(argv: list[str] | None = None) -> int:
                 pool.map(lambda ic: run_case(ic[1], root, ic[0], args.timeout), enumerate(cases))
             )
         concurrent = concurrent_rounds(fixtures["base"], root, args.rounds, args.timeout)
-        interrupted = interrupted_runs(root, args.timeout) if not args.only else []
+        interrupted, n_interrupted = (
+            interrupted_runs(root, args.timeout) if not args.only else ([], 0)
+        )
     finally:
         if not args.keep:
             shutil.rmtree(root, ignore_errors=True)
@@ -359,7 +374,7 @@ def main(argv: list[str] | None = None) -> int:
         f"unclean errors: {counts['unclean']}; user files lost: {counts['user file lost']}; "
         f"warnings on stderr at exit 0: {counts['warning at exit 0']}; other wrong outcomes: "
         f"{other}; concurrent-run failures: {len(concurrent)} of {args.rounds}; Ctrl-C "
-        f"failures: {len(interrupted)}"
+        f"failures: {len(interrupted)} of {n_interrupted} runs interrupted"
     )
     return 1 if bad or concurrent or interrupted else 0
 

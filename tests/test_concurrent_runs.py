@@ -27,7 +27,7 @@ ROUNDS = 20
 #: One side of the rounds: wait for the other side, run, wait again; side "a" then checks
 #: that the folder holds one complete set. Prints one line per round.
 DRIVER = r"""
-import hashlib, json, sys, time
+import contextlib, hashlib, io, json, sys, time
 from pathlib import Path
 from cvfit.cli import main
 
@@ -56,7 +56,8 @@ def complete(out):
 
 for k in range(rounds):
     meet(f"start{k}")
-    status = main(["run", manifest, "--out", str(out), "--quiet", "--jobs", "1"])
+    with contextlib.redirect_stdout(io.StringIO()):  # "results written to ..."
+        status = main(["run", manifest, "--out", str(out), "--quiet", "--jobs", "1"])
     meet(f"end{k}")
     print(k, status, complete(out) if me == "a" else "", flush=True)
 """

@@ -9,7 +9,7 @@ concurrent runs and Ctrl-C to pooled runs) runs in CI: ``python scripts/fuzz_pla
 
 from __future__ import annotations
 
-import importlib.util
+import importlib
 import sys
 from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
@@ -20,15 +20,8 @@ ROOT = Path(__file__).resolve().parents[1]
 TIMEOUT_S = 60
 
 
-def _load(name: str):
-    sys.path.insert(0, str(ROOT / "scripts"))
-    spec = importlib.util.spec_from_file_location(name, ROOT / "scripts" / f"{name}.py")
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
-
-
-campaign = _load("fuzz_plan_simulate")
+sys.path.insert(0, str(ROOT / "scripts"))
+campaign = importlib.import_module("fuzz_plan_simulate")
 
 #: The planner (item 3 of the round): each hung, crashed or wrote Infinity before.
 PLANNER = [

@@ -37,13 +37,16 @@ def read_pilot(src: str, path_text: Any) -> dict[str, Any]:
     path = Path(path_text)
     if not path.is_absolute():
         path = Path(src).parent / path
-    raw = read_regular_file(
-        path,
-        limit=MAX_PILOT_BYTES,
-        what="pilot results.json",
-        missing=f"{_KEY}: the pilot results.json does not exist; check the path",
-        folder=f"{_KEY}: this is a folder; name the pilot's results.json",
-    )
+    try:
+        raw = read_regular_file(
+            path,
+            limit=MAX_PILOT_BYTES,
+            what="pilot results.json",
+            missing="the pilot results.json does not exist; check the path",
+            folder="this is a folder; name the pilot's results.json",
+        )
+    except InputError as exc:  # named in the plan: the plan file, the key, then the pilot
+        raise _err(src, f"{path}: {exc.message}") from None
     try:
         data = json.loads(raw.decode("utf-8-sig"))
     except UnicodeDecodeError:
