@@ -40,11 +40,10 @@ import tempfile
 import time
 from collections import Counter
 from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from fuzz_inputs import copy_base, make_base, run_args  # noqa: E402
+from fuzz_inputs import Outcome, copy_base, make_base, run_args  # noqa: E402
 from fuzz_plan_simulate_cases import SIM, Case, all_cases  # noqa: E402
 
 CVFIT = [sys.executable, "-m", "cvfit"]
@@ -52,14 +51,6 @@ CVFIT = [sys.executable, "-m", "cvfit"]
 MEMORY_LIMIT = 4 * 2**30
 #: Kinds of outcome that are right answers (when the case expects them).
 GOOD = ("clean", "accepted")
-
-
-@dataclass
-class Outcome:
-    case: str
-    kind: str
-    detail: str = ""
-    seconds: float = 0.0
 
 
 # --- snapshots: what the user had ---------------------------------------------------------
@@ -136,7 +127,7 @@ def judge(case: Case, proc, seconds: float) -> Outcome:
     if proc is None:
         return Outcome(case.name, "hang", f"killed after {seconds:.0f} s", seconds)
     err, code = proc.stderr, proc.returncode
-    first = err.splitlines()[0][:200] if err else ""
+    first = err.splitlines()[0][:300] if err else ""
     internal = "cvfit: internal error" in err or (case.batch and "internal error" in proc.stdout)
     if "Traceback" in err or code not in (0, 2) or internal:
         return Outcome(case.name, "internal", f"exit {code}: {first}", seconds)

@@ -23,6 +23,22 @@ TIMEOUT_S = 60
 sys.path.insert(0, str(ROOT / "scripts"))
 campaign = importlib.import_module("fuzz_plan_simulate")
 
+#: Folders that are not cvfit's (item 1 of the round): refused in one line, every file, folder
+#: and link of the user's left as it was (the campaign compares them before and after).
+OWNERSHIP = {
+    "out: a cvfit set and the user's hidden .results.json.backup": "'.results.json.backup'",
+    "out: a user folder named report.html": "'report.html', a folder",
+    "out: results.json a link to the user's file": "'results.json', a symbolic link",
+    "out: report.html a link to the user's folder": "'report.html', a symbolic link",
+    "out: a cvfit set whose report.html the user edited": "changed after cvfit wrote it",
+    "out: a user file named like cvfit's marker": "not a record cvfit wrote",
+    "out: an earlier version's set and a hidden file": "'.report.html.old'",
+    "out: a symbolic link loop": "symbolic link loop",
+    "demo: over the user's inputs/series.toml": "not recognisably cvfit's",
+    "demo: over the user's simulated_with.toml": "simulated_with.toml",
+    "plan: over the user's plan.json": "not recognisably cvfit's",
+    "plan: over a user folder named plan.html": "'plan.html', a folder",
+}
 #: The planner (item 3 of the round): each hung, crashed or wrote Infinity before.
 PLANNER = [
     "plan: a FIFO as the plan file",
@@ -48,7 +64,7 @@ SIMULATOR = [
     "simulate: --cycles 10**12",
     "simulate: --diffusion-red 1e-300",
     "simulate: --out /proc/version --force",
-    "simulate series: --ligand-M 0,0,0",
+    "simulate series: --ligand-M 1e-3,1e-3",
     "simulate series: --log-beta-ox=,,11.3",
 ]
 #: Input errors that were internal errors (item 5), and the CSV cell (item 8).
@@ -73,7 +89,7 @@ WARNINGS = [
     "plan: ligand 1e-12..20, noise 1e-7 V (the bounds)",
     "plan: stepwise [100, 100] with metal (the bounds)",
 ]
-SUBSET = PLANNER + SIMULATOR + INPUTS + WARNINGS
+SUBSET = [*OWNERSHIP, *PLANNER, *SIMULATOR, *INPUTS, *WARNINGS]
 
 
 @pytest.fixture(scope="module")
@@ -88,6 +104,13 @@ def outcomes(tmp_path_factory) -> dict:
         done = pool.map(lambda ic: campaign.run_case(ic[1], root, ic[0], TIMEOUT_S),
                         enumerate(chosen))  # fmt: skip
         return {o.case: o for o in done}
+
+
+@pytest.mark.parametrize(("name", "reason"), OWNERSHIP.items())
+def test_a_folder_that_is_not_cvfits_is_refused_and_left_as_it_was(outcomes, name, reason):
+    outcome = outcomes[name]
+    assert outcome.kind == "clean", (outcome.kind, outcome.detail)
+    assert reason in outcome.detail, outcome.detail
 
 
 @pytest.mark.parametrize("name", PLANNER + SIMULATOR + INPUTS)

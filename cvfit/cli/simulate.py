@@ -70,8 +70,8 @@ SIMULATE_EPILOG = f"""\
 limits (checked before anything is computed):
   a voltammogram has at most {MAX_SAMPLES:,} samples (cycles x path length / --step), so
   that cvfit run can read its CSV; a series has at most {MAX_SERIES_FILES:,} files and
-  {MAX_SERIES_SAMPLES:,} samples in all, and at least {MIN_TITRATION_FILES} files with
-  ligand (what cvfit run needs); the space grid has at most
+  {MAX_SERIES_SAMPLES:,} samples in all, and none or at least {MIN_TITRATION_FILES} files
+  with ligand (what cvfit run takes); the space grid has at most
   {GRID_POINTS:,} points (diffusion coefficients 1e-12 to 1 cm2/s keep it under 500);
   numbers: potentials within +-10 V, --scan-rate 1e-6 to 1e6 V/s, --step 1e-6 to 0.1 V,
   --temperature-C 0 to 100, --electrons 1 to 10, --ligand-M 0 to 20 mol/L, log10 beta
@@ -316,11 +316,11 @@ def _check_samples(start: float, switch: list[float], cycles: int, step: float) 
 def _check_series_size(ligands: list[float], samples: int) -> None:
     """A series that ``cvfit run`` accepts, of a size that takes minutes at most."""
     with_ligand = sum(x > 0 for x in ligands)
-    if with_ligand < MIN_TITRATION_FILES:
+    if 0 < with_ligand < MIN_TITRATION_FILES:  # none: a run without ligand, which cvfit takes
         raise InputError(
-            f"--ligand-M lists {with_ligand} concentration(s) above 0; cvfit run needs at least "
-            f"{MIN_TITRATION_FILES} solutions with ligand (and a ligand-free one, 0, as the "
-            "reference): add concentrations",
+            f"--ligand-M lists {with_ligand} concentration(s) above 0; cvfit run fits constants "
+            f"from at least {MIN_TITRATION_FILES} solutions with ligand (and a ligand-free one, "
+            "0, as the reference): add concentrations",
             source=_CMD,
             key="--ligand-M",
         )

@@ -77,14 +77,7 @@ def cvfit_json(name: str) -> Callable[[Path], bool]:
     have always begun)."""
 
     def is_cvfits(folder: Path) -> bool:
-        path = folder / name
-        try:
-            st = os.lstat(path)
-            if not stat.S_ISREG(st.st_mode) or st.st_size > MAX_PROOF_BYTES:
-                return False
-            data = json.loads(path.read_bytes().decode("utf-8"))
-        except (OSError, UnicodeDecodeError, ValueError, RecursionError):
-            return False
+        data = _small_json(folder / name, MAX_PROOF_BYTES)
         return isinstance(data, dict) and isinstance(data.get("cvfit_version"), str)
 
     return is_cvfits
@@ -119,15 +112,21 @@ def write_marker(folder: str | os.PathLike[str]) -> Path:
     return path
 
 
-def _read_marker(path: Path) -> dict[str, str] | None:
-    """The files a record lists, name → SHA-256; None when it is not a record of ours."""
+def _small_json(path: Path, limit: int) -> object:
+    """The JSON document in the regular file *path* of at most *limit* bytes; None when
+    there is none (a link, a folder, too large, unreadable, not JSON)."""
     try:
         st = os.lstat(path)
-        if not stat.S_ISREG(st.st_mode) or st.st_size > MAX_MARKER_BYTES:
+        if not stat.S_ISREG(st.st_mode) or st.st_size > limit:
             return None
-        data = json.loads(path.read_bytes().decode("utf-8"))
+        return json.loads(path.read_bytes().decode("utf-8"))
     except (OSError, UnicodeDecodeError, ValueError, RecursionError):
         return None
+
+
+def _read_marker(path: Path) -> dict[str, str] | None:
+    """The files a record lists, name → SHA-256; None when it is not a record of ours."""
+    data = _small_json(path, MAX_MARKER_BYTES)
     if not isinstance(data, dict) or data.get("format") != MARKER_FORMAT:
         return None
     files = data.get("files")
