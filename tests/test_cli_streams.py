@@ -129,6 +129,7 @@ def long_series(tmp_path_factory) -> Path:
                            switch_V=-0.35)  # fmt: skip
 
 
+@pytest.mark.slow  # a 60-file series simulated, then three pooled runs: some 15-30 s
 @pytest.mark.skipif(not Path("/proc/self/task").is_dir(), reason="needs /proc to see workers")
 def test_ctrl_c_to_a_pooled_run_is_one_line_exit_130_and_no_staging(long_series, tmp_path):
     for k in range(3):

@@ -30,6 +30,8 @@ ASCII_SPELLINGS = {
     "Š": "S", "š": "s", "č": "c", "é": "e", "ö": "o", "ü": "u", "‰": " per mille",
 }  # fmt: skip
 _ERRORS = "cvfit-ascii"
+#: Delay before a Ctrl-C that Python had to drop is delivered again, s.
+_REDELIVER_S = 0.05
 
 
 def _spell(exc: UnicodeError) -> tuple[str, int]:
@@ -107,19 +109,35 @@ def interrupt_in_this_process() -> Iterator[None]:
     middle of its task would print its own traceback. The parent stops the pool, and the
     workers end with it. Where SIGINT was ignored (a command started in the background), it
     stays ignored.
+
+    A KeyboardInterrupt raised where Python cannot pass it on (a callback run at a fork, a
+    finaliser) would be printed as "Exception ignored" and the run would go on: it is
+    delivered again instead, so Ctrl-C always ends the command with one line.
     """
     main_thread = threading.current_thread() is threading.main_thread()
     if not main_thread or signal.getsignal(signal.SIGINT) is not signal.default_int_handler:
         yield
         return
     parent = os.getpid()
+    previous_hook = sys.unraisablehook
 
     def handler(signum: int, frame: object) -> None:
         if os.getpid() == parent:
             raise KeyboardInterrupt
 
+    def unraisable(info: Any) -> None:
+        if issubclass(info.exc_type, KeyboardInterrupt) and os.getpid() == parent:
+            # again a moment later, once the main thread is out of the callback
+            again = threading.Timer(_REDELIVER_S, os.kill, (parent, signal.SIGINT))
+            again.daemon = True
+            again.start()
+        else:
+            previous_hook(info)
+
     signal.signal(signal.SIGINT, handler)
+    sys.unraisablehook = unraisable
     try:
         yield
     finally:
         signal.signal(signal.SIGINT, signal.default_int_handler)
+        sys.unraisablehook = previous_hook
