@@ -89,16 +89,20 @@ def pilot_noise(src: str, pilot: dict[str, Any]) -> float:
     return errs[mid] if len(errs) % 2 else 0.5 * (errs[mid - 1] + errs[mid])
 
 
-def _quantity(src: str, pilot: dict[str, Any], q: object, name: str) -> tuple[float, Any]:
+def _quantity(
+    src: str, pilot: dict[str, Any], q: object, name: str
+) -> tuple[float, list[float] | None]:
     """(value, ci95 or None) of a fitted quantity record."""
     if not isinstance(q, dict) or not _finite(q.get("value")):
         raise _shape_error(src, pilot, f"the pilot fit has no finite value of {name}")
     ci = q.get("ci95")
-    if ci is not None and not (isinstance(ci, list) and len(ci) == 2):
+    if ci is None:
+        return float(q["value"]), None
+    if not (isinstance(ci, list) and len(ci) == 2):
         raise _shape_error(src, pilot, f"the 95 % interval of {name} is not a [low, high] pair")
-    if ci is not None and not all(c is None or _finite(c) for c in ci):
+    if not all(c is None or _finite(c) for c in ci):
         raise _shape_error(src, pilot, f"the 95 % interval of {name} holds a non-number")
-    whole = ci is not None and all(c is not None for c in ci)
+    whole = all(c is not None for c in ci)
     return float(q["value"]), [float(c) for c in ci] if whole else None
 
 
