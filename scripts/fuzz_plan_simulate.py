@@ -43,8 +43,9 @@ from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
+from fuzz_folders_streams_cases import all_cases  # noqa: E402
 from fuzz_inputs import Outcome, copy_base, make_base, run_args  # noqa: E402
-from fuzz_plan_simulate_cases import SIM, Case, all_cases  # noqa: E402
+from fuzz_plan_simulate_cases import SIM, Case  # noqa: E402
 
 CVFIT = [sys.executable, "-m", "cvfit"]
 #: Address space one case may take, bytes.
