@@ -116,8 +116,8 @@ def test_the_limits_in_the_help_and_the_docs_are_the_codes():
     docs = (ROOT / "docs" / "plan.md").read_text(encoding="utf-8")
     assert f"to **{MAX_POINTS}**" in docs and f"at most {MAX_POINTS}" in PLAN_EPILOG
     assert f"at most {MAX_CONSTANTS} stepwise" in PLAN_EPILOG
-    assert LIMITS["design.E_half_stderr_V"][:2] == (1e-7, 0.1)
-    assert "E_half_stderr_V 1e-7 to 0.1 V" in PLAN_EPILOG
+    assert LIMITS["design.E_half_stderr_V"][:2] == (1e-7, 1.0)
+    assert "E_half_stderr_V 1e-7 to 1 V" in PLAN_EPILOG
     from cvfit.io.manifest import MAX_COMPLEXES_LIMIT
 
     assert MAX_CONSTANTS == MAX_COMPLEXES_LIMIT

@@ -23,7 +23,7 @@ PLAN_EPILOG = """\
 limits: points (and the concentrations of proposed_ligand_M) at most 100, at least one
   more than the constants; at most 8 stepwise constants per form; log10 constants and their
   ranges within +-100; delta_ligands 0.01 to 20; ligand concentrations 1e-12 to 20 mol/L;
-  E_half_stderr_V 1e-7 to 0.1 V; temperature_C 0 to 100; electrons 1 to 10. The plan file
+  E_half_stderr_V 1e-7 to 1 V; temperature_C 0 to 100; electrons 1 to 10. The plan file
   and a pilot results.json are read only from regular files (at most 1 MiB and 64 MiB).
 
 output: plan.json, plan.png and plan.html, written as one set with its record

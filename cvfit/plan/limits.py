@@ -26,7 +26,7 @@ LIMITS: dict[str, tuple[float, float, str]] = {
     "series.metal_total_M": (1e-12, 20.0, " mol/L"),
     "series.E_half_free_V": (-10.0, 10.0, " V"),
     "ligand": (1e-12, 20.0, " mol/L"),
-    "design.E_half_stderr_V": (1e-7, 0.1, " V"),
+    "design.E_half_stderr_V": (1e-7, 1.0, " V"),
     "design.target_stderr_log10": (1e-4, 10.0, ""),
     "expect.delta_ligands": (0.01, 20.0, ""),
     "log10": (-100.0, 100.0, ""),
