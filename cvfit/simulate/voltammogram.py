@@ -41,6 +41,10 @@ __all__ = [
 
 #: Largest number of time points one simulation may take (memory guard).
 MAX_POINTS = 5_000_000
+#: Largest space grid one simulation may take: the operators are dense (N² memory, N³
+#: time to build), so a grid of 7 000 points (diffusion coefficients 10^295 apart) took
+#: minutes and gigabytes. Diffusion coefficients 10^12 apart need some 500 points.
+MAX_GRID_POINTS = 1_000
 
 # Grid defaults: first spacing as a fraction of sqrt(D_min·dt), expansion ratio, and the
 # outer boundary in units of sqrt(D_max·t_total). Chosen by refinement studies so that
@@ -100,6 +104,12 @@ def build_waveform(
     if not vertices:
         raise SimulationError("switch_V needs at least one switching potential")
     verts = [_finite("switch_V", v) for v in vertices]
+    one_cycle = float(np.sum(np.abs(np.diff([start_V, *verts, start_V]))))
+    if cycles * one_cycle / step_V > MAX_POINTS:  # before the path of every cycle is built
+        raise SimulationError(
+            f"{cycles * one_cycle / step_V:.3g} points asked for (more than {MAX_POINTS}); use "
+            "a larger step_V or fewer cycles"
+        )
     path = [start_V]
     for _ in range(cycles):
         path.extend(verts)
@@ -120,6 +130,17 @@ def build_waveform(
     t = np.arange(M) * dt
     E = np.interp(t, t_vertex, np.asarray(path, dtype=float))
     return Waveform(t, E, dt, tuple(float(p) for p in path))
+
+
+def _check_grid(first_cm: float, ratio: float, length_cm: float) -> None:
+    """Refuse a space grid of more than :data:`MAX_GRID_POINTS` before it is built."""
+    n = math.log1p(length_cm * (ratio - 1.0) / first_cm) / math.log(ratio)
+    if not n <= MAX_GRID_POINTS:
+        raise SimulationError(
+            f"the space grid would need {n:.3g} points (at most {MAX_GRID_POINTS}): the "
+            "diffusion coefficients of the two forms lie too far apart (or grid_ratio is too "
+            "close to 1); bring them within a factor of 10^12"
+        )
 
 
 def _simulate_raw(
@@ -172,11 +193,13 @@ def _simulate_raw(
     nf = n * FARADAY / (GAS_CONSTANT * T)
     E_formal = E_half_V - 0.5 / nf * math.log(DR / DO)
     total_time = float(wave.time_s[-1]) if wave.time_s.size > 1 else wave.dt_s
-    grid = _kernel.Grid.expanding(
+    grid_args = (
         _positive("grid_first_factor", grid_first_factor) * math.sqrt(min(DO, DR) * wave.dt_s),
         _positive("grid_ratio", grid_ratio),
         GRID_LENGTH_FACTOR * math.sqrt(max(DO, DR) * (total_time + wave.dt_s + quiet)),
     )
+    _check_grid(*grid_args)
+    grid = _kernel.Grid.expanding(*grid_args)
     bulk_O = C if initial_species == "ox" else 0.0
     bulk_R = 0.0 if initial_species == "ox" else C
     kinetic: dict[str, Any] = dict(E_formal_V=E_formal, nf_per_V=nf, k0_cm_s=k0, alpha=a)
