@@ -200,6 +200,11 @@ _CATALOGUE = (
     FlagCode("REFERENCE_NOT_NERNSTIAN", _W, "E½(s) rests on ligand-free files that failed the "
              "reversibility screen (exclude_non_nernstian = false, or an approximate E½ with "
              "its extra error); it may bias every shift."),
+    FlagCode("E_HALF_APPROXIMATE", _W, "The file failed its Nernstian screen and no model of "
+             "the whole response was accepted; its E½ was read all the same with an extra "
+             "error for what the failure leaves unknown (cyclic voltammetry: the peak midpoint "
+             "with its spread over the transfer coefficient α 0.3–0.7 at the file's ψ), and "
+             "it enters the fits."),
     FlagCode("NO_TITRATION", _I, "Every file is ligand-free: the couple is characterised "
              "(E½, ΔEp, ipa/ipc, k0, D, scan-rate studies) and no constants are fitted."),
     FlagCode("REFERENCE_FILES_LEFT_OUT", _I, "Ligand-free files whose E½ the decision did not "

@@ -137,6 +137,8 @@ def decide_half_wave(
         )
     accepted = est.kind != "unusable" or not exclude_non_nernstian
     why = "" if accepted else est.why
+    if est.kind == "approximate":
+        flags.append(Flag("E_HALF_APPROXIMATE", f"E½ is approximate: {est.why}"))
     if not accepted:
         flags.append(
             Flag(

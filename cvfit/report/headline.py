@@ -83,11 +83,19 @@ def screen_sentence(data: Mapping[str, Any]) -> str:
     reference = [f for f in bad if not (f.get("ligand_M") or 0) > 0]
     used = [f for f in bad if f.get("used_in_fit") and f not in reference]
     recovered = [f for f in used if f.get("E_half_source") == "curve"]
-    kept = [f for f in used if f not in recovered]
+    approximate = [f for f in used if f.get("E_half_source") == "midpoint"]
+    kept = [f for f in used if f not in recovered and f not in approximate]
     left = [f for f in bad if f not in reference and f not in used]
     if left and not used and not reference and not (failed and unknown):
         return f"{what} and {_was(left)} left out of the fit: {_names(left)}."
-    if recovered and not left and not kept and not reference and not (failed and unknown):
+    if (
+        recovered
+        and not left
+        and not kept
+        and not approximate
+        and not reference
+        and not (failed and unknown)
+    ):
         return (
             f"{what}; E½ of {_names(recovered)} came from a fit of the whole curve, which "
             "rejoined the titration fit."
@@ -98,6 +106,11 @@ def screen_sentence(data: Mapping[str, Any]) -> str:
     if recovered:
         pieces.append(
             f"E½ of {_names(recovered)} came from a fit of the whole curve, used in the fit"
+        )
+    if approximate:
+        pieces.append(
+            f"E½ of {_names(approximate)} came from the peak midpoint with an extra error for "
+            "the unknown transfer coefficient, used in the fit"
         )
     if kept:
         pieces.append(
@@ -115,10 +128,12 @@ def screen_short(data: Mapping[str, Any]) -> str:
     if not bad:
         return f"all {len(files)} passed"
     recovered = [f for f in bad if f.get("used_in_fit") and f.get("E_half_source") == "curve"]
-    kept = [f for f in bad if f.get("used_in_fit") and f not in recovered]
-    if recovered or kept:
+    approximate = [f for f in bad if f.get("used_in_fit") and f.get("E_half_source") == "midpoint"]
+    kept = [f for f in bad if f.get("used_in_fit") and f not in recovered + approximate]
+    if recovered or kept or approximate:
         parts = [
             f"{len(recovered)} by curve fit" if recovered else "",
+            f"{len(approximate)} by midpoint ± α" if approximate else "",
             f"{len(kept)} kept" if kept else "",
         ]
         return f"{len(bad)} of {len(files)} failed, " + ", ".join(p for p in parts if p)

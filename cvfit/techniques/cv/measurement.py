@@ -9,6 +9,11 @@ the technique stands behind:
 * an accepted curve fit (not irreversible) → its E½ (``"curve"``, a kinetic model);
 * a file that passed the screen → the peak midpoint less the switching correction
   (``"peaks"``, Nernstian; :mod:`cvfit.techniques.cv.screen.switching`);
+* a file that failed the screen, got no accepted curve fit and is not irreversible, once
+  its series study has given its ψ (``half_wave_source = "auto"``) → the plain peak
+  midpoint with an extra error for the unknown transfer coefficient, the midpoint's spread
+  over α = 0.3–0.7 at that ψ (``"midpoint"``, approximate;
+  :mod:`cvfit.techniques.cv.screen.midpoint_alpha`);
 * otherwise the plain midpoint, which no fit should take without a reason
   (``"peaks"``, unusable, with the screen's reason).
 
@@ -17,6 +22,7 @@ The pipeline's one decision (:mod:`cvfit.pipeline.half_wave`) takes it from ther
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal
 
@@ -61,6 +67,12 @@ class CVMeasurement:
         Nicholson's ψ and k0, or why they are not determinable (from the series study).
     standard : StandardMeasurement or None
         The internal reference couple measured in the same record.
+    midpoint_alpha_error_V : float or None
+        The extra standard error of the plain midpoint for want of α at the file's ψ, V,
+        set by the series study for a file whose midpoint may serve as an approximate E½
+        (None otherwise).
+    psi : float or None
+        The ψ that error was taken at.
     """
 
     peaks: PeakAnalysis
@@ -72,6 +84,8 @@ class CVMeasurement:
     classification: Classification | None = None
     kinetics: KineticsResult | None = None
     standard: StandardMeasurement | None = None
+    midpoint_alpha_error_V: float | None = None
+    psi: float | None = None
 
     technique = "cv"
 
@@ -120,6 +134,18 @@ class CVMeasurement:
             if self.screen.reversible is None
             else "it failed the reversibility screen"
         )
+        extra = self.midpoint_alpha_error_V
+        if extra is not None and math.isfinite(extra):
+            own = p.E_half_stderr_V or 0.0
+            return HalfWaveEstimate(
+                p.E_half_V,
+                math.hypot(own, extra),
+                "midpoint",
+                "approximate",
+                why=f"{why} and no fit of the whole curve was accepted: the peak midpoint is "
+                f"used with an extra {1e3 * extra:.2f} mV for the unknown transfer "
+                f"coefficient (its spread over α 0.3–0.7 at ψ = {self.psi:.2g})",
+            )
         return HalfWaveEstimate(p.E_half_V, p.E_half_stderr_V, "peaks", "unusable", why=why)
 
     def to_dict(self) -> dict[str, Any]:

@@ -22,10 +22,11 @@ from cvfit.flags import Flag
 from cvfit.io import resistance_for
 from cvfit.quantity import Quantity
 from cvfit.techniques.base import Reread, SeriesStudy, StudyItem
-from cvfit.techniques.cv.curve.stage import curve_fit_for, wants_curve_fit
+from cvfit.techniques.cv.curve.stage import curve_fit_for, curve_fit_used, wants_curve_fit
 from cvfit.techniques.cv.measurement import CVMeasurement
 from cvfit.techniques.cv.screen.classification import classify_voltammogram
 from cvfit.techniques.cv.screen.kinetics import diffusion_from_peak_current, estimate_kinetics
+from cvfit.techniques.cv.screen.midpoint_alpha import midpoint_alpha_error_V
 from cvfit.techniques.cv.screen.rate_constant import delta_Ep_stderr_V
 from cvfit.techniques.cv.screen.scan_rate import (
     ScanRatePoint,
@@ -260,6 +261,45 @@ def _fit_after_study(
     return out
 
 
+def _midpoint_errors(rows: list[_Row], manifest: object) -> list[_Row]:
+    """Under ``half_wave_source = "auto"``: for each file that failed the screen, has no
+    accepted curve fit and is not irreversible, the extra error its plain midpoint would
+    carry for want of α at its ψ (:func:`midpoint_alpha_error_V`), so that it may serve
+    as an approximate E½ (:class:`CVMeasurement`)."""
+    if manifest.fit.half_wave_source != "auto":  # type: ignore[attr-defined]
+        return rows
+    out = []
+    for f in rows:
+        m = f.m
+        kin, cls = m.kinetics, m.classification
+        eligible = (
+            m.reversible is not True
+            and m.peaks.E_half_V is not None
+            and not (m.curve_fit is not None and curve_fit_used(m.curve_fit))
+            and (cls is None or cls.kind != "irreversible")
+            and kin is not None
+        )
+        psi = _psi_of(kin) if eligible else None
+        if psi is None:
+            out.append(f)
+            continue
+        error = midpoint_alpha_error_V(psi, m.electrons, m.temperature_K)
+        out.append(replace(f, m=replace(m, midpoint_alpha_error_V=error, psi=psi)))
+    return out
+
+
+def _psi_of(kin: object) -> float | None:
+    """ψ of a file's kinetics: the determined value, the table's end (ψ = 20) at the
+    reversible limit, None when it could not be determined."""
+    status = getattr(kin, "status", None)
+    if status == "reversible_limit":
+        return 20.0
+    psi = getattr(kin, "psi", None)
+    if status == "determined" and psi is not None and psi.value > 0:
+        return float(psi.value)
+    return None
+
+
 def study_series(items: Sequence[StudyItem], manifest: object, reread: Reread) -> SeriesStudy:
     """The series-level study of cyclic voltammetry (module docstring).
 
@@ -275,6 +315,7 @@ def study_series(items: Sequence[StudyItem], manifest: object, reread: Reread) -
     own = [r.reversible for r in rows]
     rows, studies, flags = _diagnose(rows, manifest)
     rows = _fit_after_study(rows, own, manifest, reread)
+    rows = _midpoint_errors(rows, manifest)
     return SeriesStudy(tuple(r.m for r in rows), studies, flags)
 
 
