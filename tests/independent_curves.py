@@ -5,10 +5,14 @@ bulk, uncompensated resistance on the faradaic current) and adds what a measured
 carries: double-layer charging C_dl·dE/dt, a linear background and white noise. Shares no
 code with :mod:`cvfit.simulate`. Each sample is every ``substeps``-th step of a finer
 computation (the product integration is first order in the step).
+
+Each curve is computed once per test process: the same settings again (the series of
+tests/test_curve_series.py share most of their files) get copies of the first result.
 """
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -19,7 +23,18 @@ from scipy.constants import physical_constants
 FARADAY = physical_constants["Faraday constant"][0]
 
 
-def independent_cv(
+def independent_cv(**settings) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(time_s, potential_V, current_A) of one reduction-first cycle start → switch → start
+    (the keywords of :func:`computed_cv`); fresh copies, so a test may change them."""
+    return tuple(a.copy() for a in _computed_once(**settings))
+
+
+@functools.cache
+def _computed_once(**settings) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    return computed_cv(**settings)
+
+
+def computed_cv(
     *,
     E_half_V: float,
     start_V: float,
