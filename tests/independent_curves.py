@@ -12,10 +12,14 @@ planar electrode: with x measured from E½, unequal D scale Λ = k0/√(D_O·σ)
 (D_O/D_R)^(α/2) and leave the Nernstian boundary unchanged (C_R(0) = √(D_O/D_R)·C*·M);
 R in the bulk is the mirror image (x → −x, α → 1 − α, the current's sign reversed, the
 bulk form's D in the scale).
+
+Each curve is computed once per test process: the same settings again (the series of
+tests/test_curve_series.py share most of their files) get copies of the first result.
 """
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -26,7 +30,18 @@ from scipy.constants import physical_constants
 FARADAY = physical_constants["Faraday constant"][0]
 
 
-def independent_cv(
+def independent_cv(**settings) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(time_s, potential_V, current_A) of one reduction-first cycle start → switch → start
+    (the keywords of :func:`computed_cv`); fresh copies, so a test may change them."""
+    return tuple(a.copy() for a in _computed_once(**settings))
+
+
+@functools.cache
+def _computed_once(**settings) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    return computed_cv(**settings)
+
+
+def computed_cv(
     *,
     E_half_V: float,
     start_V: float,

@@ -23,8 +23,6 @@ from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_
 
 from cvfit.report.atomic import atomic_path, atomic_write_text, set_leftovers
 
-pytestmark = pytest.mark.slow  # kill runs: deselect with -m 'not slow'
-
 #: Kills in the second run: some while it starts and analyses, most while it writes.
 N_KILLS = 12
 KILL_SEED = 13
@@ -148,6 +146,7 @@ def two_sets(tmp_path_factory):
     return folder, first, second, sets, tmp_path_factory.mktemp("outs")
 
 
+@pytest.mark.slow  # kill runs: deselect with -m 'not slow'
 def test_killed_runs_leave_the_earlier_or_the_new_set_whole(two_sets):
     folder, first, second, sets, outs = two_sets
     (ref_a, set_a), (_, set_b) = sets[first], sets[second]

@@ -178,6 +178,14 @@ class Measurement(Protocol):
         """The technique's own columns of the per-file CSV table (name → value)."""
         ...
 
+    def figure_marks(
+        self,
+    ) -> tuple[list[tuple[tuple[float, ...], tuple[float, ...]]], list[tuple[float, ...]]]:
+        """What the voltammogram figure marks on the file's curve: lines (E, i) the
+        technique measured against (baselines) and points (E, i, level under it) it read
+        (peaks); both empty when it has none."""
+        ...
+
     def summary_cells(self) -> dict[str, str]:
         """The technique's own columns of the terminal's per-file table (header → text,
         right-aligned under a header as wide as the widest cell)."""

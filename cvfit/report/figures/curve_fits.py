@@ -17,6 +17,7 @@ matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
+from cvfit.formatting import format_pm  # noqa: E402
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
 from cvfit.report.figures.titration import _STYLE, _save  # noqa: E402
 from cvfit.report.output_names import CURVE_FITS_NAME  # noqa: E402
@@ -28,6 +29,22 @@ CURVE_FITS_FIGURE = CURVE_FITS_NAME
 
 #: Panel pairs per row of the figure.
 COLUMNS = 3
+
+
+def _panel_title(f, fit) -> str:
+    """Two short lines: the file and its solution; E½ ± σ, k0, α and χ²ν of the fit."""
+    k0 = (
+        f"k0 > {fit.k0_lower_bound_cm_s:.2g} cm/s"
+        if fit.k0_lower_bound_cm_s is not None
+        else f"k0 {fit.k0_cm_s.value:.2g} cm/s"
+    )
+    e = fit.E_half_V
+    name = f.file if len(f.file) <= 28 else "…" + f.file[-27:]
+    return (
+        f"{name}  ([L] = {f.ligand_M:.3g} M)\n"
+        f"E½ {format_pm(e.value, e.stderr, scale=1e3, unit='mV')}, {k0}, "
+        f"α {fit.alpha.value:.2f}, χ²ν {fit.reduced_chi2.value:.2f}"
+    )
 
 
 def plot_curve_fits(result: SeriesResult, path: str | Path) -> Path | None:
@@ -51,34 +68,28 @@ def plot_curve_fits(result: SeriesResult, path: str | Path) -> Path | None:
             axr = fig.add_subplot(grid[2 * r + 1, c], sharex=ax)
             fit = f.measurement.curve_fit
             d = fit.figure
-            E = 1e3 * np.asarray(d["potential_V"])
+            E = np.asarray(d["potential_V"])
             i = 1e6 * np.asarray(d["current_A"])
             model = 1e6 * np.asarray(d["model_A"])
             sigma = 1e6 * fit.sigma_A
-            ax.plot(E, i, color="0.55", lw=0.8, label="data")
+            # the fitted curve under the data, the data as small points on top: a good fit
+            # must not hide the record it describes
             ax.plot(
-                E, model, color="#b35900" if fit.accepted else "#7a1f1f", lw=1.2,
+                E, model, color="#b35900" if fit.accepted else "#7a1f1f", lw=1.4,
                 ls="-" if fit.accepted else "--", label="fit" if fit.accepted else "refused",
+                zorder=2,
             )  # fmt: skip
-            k0 = fit.k0_cm_s.value
-            k0_text = (
-                f"k0 > {fit.k0_lower_bound_cm_s:.2g}"
-                if fit.k0_lower_bound_cm_s is not None
-                else f"k0 {k0:.2g} cm/s"
-            )
-            ax.set_title(
-                f"{f.file}: E½ {1e3 * fit.E_half_V.value:.1f} mV, {k0_text}, "
-                f"α {fit.alpha.value:.2f}, χ²ν {fit.reduced_chi2.value:.2f}",
-                fontsize=7.5,
-            )
+            ax.plot(E, i, ls="none", marker=".", ms=1.5, color="0.25", label="data", zorder=3)
+            ax.set_title(_panel_title(f, fit), fontsize=7.5, loc="left")
             ax.tick_params(labelbottom=False, labelsize=7)
-            ax.legend(fontsize=7, frameon=False, loc="best")
+            ax.legend(fontsize=7, frameon=False, loc="best", markerscale=4)
             if c == 0:
-                ax.set_ylabel("I / µA", fontsize=8)
-                axr.set_ylabel("res./σ", fontsize=8)
+                ax.set_ylabel("i / µA", fontsize=8)
+                axr.set_ylabel("residual / σ", fontsize=8)
             axr.plot(E, (i - model) / sigma, color="0.3", lw=0.5)
             axr.axhspan(-2, 2, color="#1f4e79", alpha=0.1, lw=0)
             axr.axhline(0, color="0.2", lw=0.6)
-            axr.set_xlabel("E applied / mV", fontsize=8)
+            axr.set_xlabel("E / V (as recorded)", fontsize=8)
             axr.tick_params(labelsize=7)
+        fig.subplots_adjust(hspace=0.5 if rows > 1 else 0.2)
         return _save(fig, path)

@@ -217,7 +217,8 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             # a curve that failed the screen: grey and dotted, whatever its ligand level
             # (the top of the colour map is a pale yellow that a fainter line would lose)
             flags = np.asarray(flagged)
-            colours[flags] = mcolors.to_rgba(FLAGGED_COLOUR)
+            if not flags.all():  # when every curve failed, the colours still tell [L] apart
+                colours[flags] = mcolors.to_rgba(FLAGGED_COLOUR)
             styles = [FLAGGED_STYLE if bad else "solid" for bad in flagged]
             widths = [1.5 if bad else 1.1 for bad in flagged]
             ax.add_collection(
@@ -235,12 +236,13 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                     Line2D(
                         [],
                         [],
-                        color=FLAGGED_COLOUR,
+                        color="0.35" if flags.all() else FLAGGED_COLOUR,
                         ls=FLAGGED_STYLE,
                         lw=1.5,
                         label=f"failed the screen,\n{fate} ({which} M)",
                     )  # fmt: skip
                 )
+        _draw_marks(ax, result.files, drawn, colours if segments else None)
         kind = potential_kind([f.imported_columns for f in result.files])
         ax.set_xlabel(
             (f"E ({kind}) / V" if kind else "E / V")
@@ -280,6 +282,49 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             )
         top = _set_title(ax, result.series.title or "voltammograms")
         return _save(fig, path, margins_in=(0.8, 0.35, 0.5, top))
+
+
+#: Most curves whose baselines are drawn (beyond, only the peaks are marked).
+MAX_BASELINES_DRAWN = 12
+
+
+def _draw_marks(ax: plt.Axes, files, drawn, colours) -> None:
+    """The peaks of every drawn curve, and — for a dozen curves or fewer — the baselines
+    their heights were measured from, each with a drop line from the baseline to its peak
+    (the height the technique read), in the curve's colour: one collection of lines and
+    one of markers, whatever the number of files."""
+    shown = [
+        (k, f)
+        for k, f in enumerate(files)
+        if f.curve is not None and (f.ligand_M == 0 or k in drawn)
+    ]
+    with_lines = len(shown) <= MAX_BASELINES_DRAWN
+    segments, seg_colours, points, point_colours = [], [], [], []
+    ligand_k = 0
+    for _, f in shown:
+        colour = mcolors.to_rgba("0.15")
+        if f.ligand_M > 0 and colours is not None:
+            colour = tuple(colours[ligand_k])
+            ligand_k += 1
+        lines, peaks = f.measurement.figure_marks()
+        for E, level_i, i in ((p[0], p[2], p[1]) for p in peaks):
+            points.append((E, i * 1e6))
+            point_colours.append(colour)
+            if with_lines:
+                segments.append(np.array([[E, level_i * 1e6], [E, i * 1e6]]))
+                seg_colours.append(colour)
+        if with_lines:
+            for E, i in lines:
+                segments.append(np.column_stack([np.asarray(E), np.asarray(i) * 1e6]))
+                seg_colours.append(colour)
+    if segments:
+        marks = LineCollection(segments, colors=seg_colours, linewidths=0.6, alpha=0.7,
+                               linestyles=(0, (4, 3)))  # fmt: skip
+        marks.set_gid("baselines")
+        ax.add_collection(marks)
+    if points:
+        xy = np.asarray(points)
+        ax.scatter(xy[:, 0], xy[:, 1], s=5, c=point_colours, zorder=3, gid="peaks")
 
 
 def _one_two_five(lo: float, hi: float) -> list[float]:

@@ -148,6 +148,20 @@ class CVMeasurement:
             )
         return HalfWaveEstimate(p.E_half_V, p.E_half_stderr_V, "peaks", "unusable", why=why)
 
+    def figure_marks(
+        self,
+    ) -> tuple[list[tuple[tuple[float, ...], tuple[float, ...]]], list[tuple[float, ...]]]:
+        """What the voltammogram figure marks on this file's curve: the baselines the
+        peak heights were measured from (lines of (E, i)) and each peak as (E, i, level
+        under it), V and A."""
+        b = self.peaks.baselines
+        if b is None:
+            return [], []
+        lines = [(b.forward_E_V, b.forward_i_A)]
+        if b.reverse_E_V:
+            lines.append((b.reverse_E_V, b.reverse_i_A))
+        return lines, [v for v in (b.forward_peak, b.reverse_peak) if v]
+
     def to_dict(self) -> dict[str, Any]:
         """The technique's fields of the results.json file record."""
         p = self.peaks

@@ -79,7 +79,7 @@ Cottrell, F. G. Z. Phys. Chem. 42 (1903) 385 (diffusion-limited decay i âˆ t^âˆ
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, field, fields
 from functools import partial
 from typing import Literal, NamedTuple
 
@@ -99,7 +99,7 @@ from cvfit.techniques.cv.peaks.neighbours import (
 from cvfit.units import thermal_voltage
 from cvfit.voltammogram import Cycle, Sweep, Voltammogram
 
-__all__ = ["analyse_peaks", "PeakAnalysis"]
+__all__ = ["analyse_peaks", "PeakAnalysis", "PeakBaselines"]
 
 #: Minimum peak height in noise SDs for a peak to count as found.
 MIN_HEIGHT_SNR = 5.0
@@ -134,6 +134,44 @@ _OPTIONAL = (
 )
 
 
+#: Most points kept of a baseline for the figures.
+_BASELINE_POINTS = 40
+
+
+def _thin_line(E: np.ndarray, i: np.ndarray) -> tuple[tuple[float, ...], tuple[float, ...]]:
+    """At most :data:`_BASELINE_POINTS` points of a line, its ends kept."""
+    if E.size > _BASELINE_POINTS:
+        keep = np.linspace(0, E.size - 1, _BASELINE_POINTS).round().astype(int)
+        E, i = E[keep], i[keep]
+    return tuple(float(x) for x in E), tuple(float(x) for x in i)
+
+
+@dataclass(frozen=True)
+class PeakBaselines:
+    """The baselines the peak heights were measured from, for drawing (thinned).
+
+    Attributes
+    ----------
+    forward_E_V, forward_i_A : tuple of float
+        The forward baseline (the line fitted to the foot with the previous sweep's decay)
+        from the foot to a little past the forward peak, V and A.
+    reverse_E_V, reverse_i_A : tuple of float
+        The reverse sweep's zero-faradaic level (the forward baseline shifted by the
+        charging step at the switch) from the switch to a little past the reverse peak;
+        empty when there is no reverse peak.
+    forward_peak, reverse_peak : tuple of float
+        (E, i) of each peak's vertex on the record, V and A, with the level under it
+        (E, i, baseline i); empty when the peak was not found.
+    """
+
+    forward_E_V: tuple[float, ...] = ()
+    forward_i_A: tuple[float, ...] = ()
+    reverse_E_V: tuple[float, ...] = ()
+    reverse_i_A: tuple[float, ...] = ()
+    forward_peak: tuple[float, ...] = ()
+    reverse_peak: tuple[float, ...] = ()
+
+
 @dataclass(frozen=True)
 class PeakAnalysis:
     """Peak data of one cycle of one voltammogram (SI units, IUPAC sign).
@@ -158,6 +196,7 @@ class PeakAnalysis:
     current_ratio: float | None
     noise_A: float
     flags: tuple[Flag, ...] = ()
+    baselines: PeakBaselines | None = field(default=None, compare=False, repr=False)
 
     def __post_init__(self) -> None:
         if self.first_sweep not in ("reduction", "oxidation"):
@@ -344,6 +383,8 @@ class _Result:
         self.voltammogram, self.cyc, self.sigma = voltammogram, cyc, sigma
         self.values: dict[str, float | None] = dict.fromkeys(_OPTIONAL)
         self.flags: list[Flag] = []
+        self.lines: dict[str, tuple[tuple[float, ...], tuple[float, ...]]] = {}
+        self.vertices: dict[str, tuple[float, float, float]] = {}
         s = int(cyc.forward.direction)
         self.fwd_name, self.rev_name = ("anodic", "cathodic") if s > 0 else ("cathodic", "anodic")
 
@@ -356,7 +397,16 @@ class _Result:
             switching_potential_V=self.cyc.switching_potential_V,
             noise_A=self.sigma,
             flags=tuple(self.flags),
-            **self.values,
+            baselines=self._baselines(),
+            **self.values,  # type: ignore[arg-type]
+        )
+
+    def _baselines(self) -> PeakBaselines | None:
+        if "forward" not in self.lines:
+            return None
+        (Ef, If), (Er, Ir) = self.lines["forward"], self.lines.get("reverse", ((), ()))
+        return PeakBaselines(
+            Ef, If, Er, Ir, self.vertices.get("forward", ()), self.vertices.get("reverse", ())
         )
 
 
@@ -416,6 +466,12 @@ def _forward_peak(
         out.values.update(Epa_V=peak.E_V, ipa_A=peak.height_A, Ep_half_a_V=peak.E_half_peak_V)
     else:
         out.values.update(Epc_V=peak.E_V, ipc_A=peak.height_A, Ep_half_c_V=peak.E_half_peak_V)
+    k = int(np.argmin(np.abs(E_f - peak.E_V)))
+    stop = min(E_f.size, k + max(3, (k - lo) // 4))
+    drawn = slice(lo, stop)
+    out.lines["forward"] = _thin_line(E_f[drawn], base(E_f[drawn], _sub(tail_f, drawn)))
+    level = float(base(E_f[k : k + 1], _sub(tail_f, slice(k, k + 1)))[0])
+    out.vertices["forward"] = (float(peak.E_V), level + s * peak.height_A, level)
     if rev is None:
         out.flags.append(pflags.no_reverse_sweep(cyc.number, out.rev_name))
     # _locate found the forward half-peak potential (it sets the vertex window)
@@ -437,6 +493,7 @@ class _Reverse(NamedTuple):
     isp0: float  # forward current at the switch above the forward baseline
     tail_rev: np.ndarray | None  # another wave's decay removed under this peak
     var_tail: float  # variance of that decay's amplitude
+    level_A: np.ndarray  # the zero-faradaic level under the sweep (for the figures)
 
 
 def _reverse_level(
@@ -468,6 +525,7 @@ def _reverse_level(
     tail_at_switch = None if fw.tail is None else fw.tail.forward[-1:]
     isp0 = s * (i_switch - float(fw.base(np.array([E_lam]), tail_at_switch)[0]))
     y_r = fw.base.residual(E_r, i_r, -s, tail_r, shift=jump)
+    level = fw.base(E_r, tail_r) + jump
     tail_rev, var_tail = None, 0.0
     if win.limits is not None and not win.switch_inside and (sl_r.start or 0) > 0:
         # another wave's reverse peak comes first on the reverse sweep and its decay runs
@@ -490,7 +548,7 @@ def _reverse_level(
                 tail_rev = shape_r[sl_r]
                 y_r = y_r + s * float(base_r.coef[2]) * tail_rev
                 var_tail = float(base_r.cov[2, 2])
-    return _Reverse(E_r, y_r, tail_r, isp0, tail_rev, var_tail)
+    return _Reverse(E_r, y_r, tail_r, isp0, tail_rev, var_tail, level)
 
 
 def _reverse_peak(cyc: Cycle, win: _Window, fw: _Forward, rv: _Reverse, out: _Result):
@@ -504,6 +562,11 @@ def _reverse_peak(cyc: Cycle, win: _Window, fw: _Forward, rv: _Reverse, out: _Re
     )  # fmt: skip
     if peak_r is None:
         return out.finish(pflags.no_peak(False, why))
+    k = int(np.argmin(np.abs(rv.E_r - peak_r.E_V)))
+    stop = min(rv.E_r.size, k + max(3, k // 4))
+    out.lines["reverse"] = _thin_line(rv.E_r[:stop], rv.level_A[:stop])
+    level = float(rv.level_A[k])
+    out.vertices["reverse"] = (float(peak_r.E_V), level - s * peak_r.height_A, level)
     i_fwd = peak_f.height_A
     ratio = peak_r.height_A / i_fwd + _NICHOLSON_ISP * rv.isp0 / i_fwd + _NICHOLSON_CONST
     i_rev = ratio * i_fwd
