@@ -80,3 +80,21 @@ def test_the_issue_cases_keep_the_truth_within_three_standard_errors(case):
     rows = reference_cases.stepwise(case, "high")
     z = [(v - t) / se for (_, v, se, _), t in zip(rows, reference_cases.THREE, strict=True)]
     assert max(abs(x) for x in z) <= 3.0, z
+
+
+def test_report_names_each_stepwise_constant_a_second_reference_would_narrow():
+    from cvfit.report.html_sections import error_budget_section
+
+    part = {"unit": "log10 units", "within_file": 0.004, "between_solutions": 0.0}
+    budget = {
+        "log10_beta_1": {**part, "reference": 0.003, "total": 0.005},
+        "log10_beta_2": {**part, "reference": 0.0, "total": 0.004},
+        "log10_beta_3": {**part, "reference": 0.012, "total": 0.013},
+    }
+    html = error_budget_section({"fit": {"error_budget": budget},
+                                 "reference": {"file_E_half_V": [-0.1]}})  # fmt: skip
+    # two ligand-free files halve the reference variance: √(0.005² − 0.003²/2) = 0.00453,
+    # √(0.013² − 0.012²/2) = 0.00985; β2 has no reference part and is not named
+    assert "β1 from 0.005 to about 0.00453" in html
+    assert "β3 from 0.013 to about 0.00985" in html
+    assert "β2 from" not in html
