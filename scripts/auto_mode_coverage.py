@@ -120,7 +120,7 @@ def run(n: int, seed: int, slow_counts: tuple[int, ...]) -> dict[str, float]:
             if f.used_in_fit and f.E_half_stderr_V:
                 z = (f.E_half_V - true_E_half(f.ligand_M)) / f.E_half_stderr_V
                 if abs(z) > 3:
-                    off.append((k, f.name, f.E_half_source, round(z, 1)))
+                    off.append((k, f.file, f.E_half_source, round(z, 1)))
         quantities = (
             (fit.log10_beta_ratio, TRUE_LOG10_RATIO),
             (fit.delta_ligands, TRUE_DELTA_LIGANDS),
