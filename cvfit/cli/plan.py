@@ -47,8 +47,12 @@ def handle(args: argparse.Namespace) -> int:
     from cvfit.report.atomic import atomic_path, atomic_write_text
 
     plan_path = Path(args.plan)
-    req = load_plan(plan_path)
     out_dir = Path(args.out) if args.out else plan_path.parent / f"{plan_path.stem}_plan"
+    from cvfit.cli.plan_variables import handle_variable_plan
+
+    if (status := handle_variable_plan(args, plan_path, out_dir)) is not None:
+        return status  # a pH or temperature series
+    req = load_plan(plan_path)
     if out_dir.exists() and not out_dir.is_dir():
         raise InputError(f"--out {out_dir} exists and is not a folder", source=_CMD, key="--out")
     protected = {plan_path.resolve()}

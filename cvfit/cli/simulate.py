@@ -19,6 +19,11 @@ import math
 import sys
 from pathlib import Path
 
+from cvfit.cli.simulate_variables import (
+    add_variable_options,
+    handle_variable_series,
+    wants_variable_series,
+)
 from cvfit.errors import InputError, SimulationError
 
 _CMD = "<command line>"
@@ -113,6 +118,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="series with --standard-e-half: SD of the reference electrode's random-walk drift "
         "from one solution to the next, V (default 0)",
     )
+    add_variable_options(a)
     a("--title", default="simulated titration", help="series: title for the manifest")
     a("--out", metavar="FILE|DIR", help="output CSV file (series: output folder)")
     a("--force", action="store_true", help="replace existing output files")
@@ -276,6 +282,8 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
     from cvfit.chemistry.complexation import complexed_half_wave_V
     from cvfit.simulate.titration_series import simulate_series
 
+    if wants_variable_series(args):  # a pH or a temperature series
+        return handle_variable_series(args, E_half, settings, noise, seed, out, _number, _list)
     if args.ligand_M is None:
         raise InputError("--series needs --ligand-M LIST", source=_CMD, key="--ligand-M")
     ligands = _list(args.ligand_M, "--ligand-M")
