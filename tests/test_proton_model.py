@@ -149,3 +149,32 @@ def test_unweighted_points_are_flagged():
     assert not fit.weighted
     assert any(f.code == "PROTON_FIT_UNWEIGHTED" for f in fit.flags)
     assert "activity" in fit.to_dict()["hydrogen_ion"]
+
+
+def test_lmfit_is_loaded_only_when_a_pH_series_is_fitted():
+    import subprocess
+    import sys
+
+    code = (
+        "import sys\n"
+        "from cvfit.titration.registry import model_named\n"
+        "from cvfit.pipeline import series\n"
+        "model = model_named('proton')\n"
+        "print('lmfit' in sys.modules)\n"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert done.stdout.split() == ["False"]
+    pH = np.arange(2.0, 10.01, 1.0)
+    _fit(pH, relation(0.1, pH, (4.0,), (7.5,)), 1e-4, max_protons=1)
+    assert "lmfit" in sys.modules
+
+
+def test_model_names_and_cell_arrangements_agree_with_the_manifest():
+    from cvfit.io.manifest_variables import MODELS, REFERENCE_AT, VARIABLE_OF_MODEL
+    from cvfit.titration.registry import MODEL_NAMES, model_named
+    from cvfit.titration.temperature_model import REFERENCE_AT as MODEL_REFERENCE_AT
+
+    assert MODELS == MODEL_NAMES and REFERENCE_AT == MODEL_REFERENCE_AT
+    for name, key in VARIABLE_OF_MODEL.items():
+        variable = model_named(name).variable
+        assert variable == {"temperature_C": "temperature_K"}.get(key, key)

@@ -43,9 +43,11 @@ __all__ = [
 ]
 
 LN10 = math.log(10.0)
+#: pKa values of one form, pKa_1 … pKa_m (a list or an array).
+PKa = Sequence[float] | np.ndarray
 
 
-def _exponents(pH: object, pKa: Sequence[float]) -> np.ndarray:
+def _exponents(pH: object, pKa: PKa) -> np.ndarray:
     """log10(β_j h^j) for j = 0 … m, shape (m + 1, *pH.shape)."""
     x = np.asarray(pH, dtype=float)
     cum = np.concatenate([[0.0], np.cumsum(np.asarray(list(pKa), dtype=float))])
@@ -53,21 +55,21 @@ def _exponents(pH: object, pKa: Sequence[float]) -> np.ndarray:
     return cum.reshape((-1,) + (1,) * x.ndim) - np.multiply.outer(j, x)
 
 
-def log10_protonation_polynomial(pH: object, pKa: Sequence[float]) -> np.ndarray:
+def log10_protonation_polynomial(pH: object, pKa: PKa) -> np.ndarray:
     """log10 P(h) = log10 Σ_j β_j h^j, computed without overflow (module docstring)."""
     e = _exponents(pH, pKa)
     top = e.max(axis=0)
     return top + np.log10(np.sum(10.0 ** (e - top), axis=0))
 
 
-def protonation_fractions(pH: object, pKa: Sequence[float]) -> np.ndarray:
+def protonation_fractions(pH: object, pKa: PKa) -> np.ndarray:
     """Fractions of H_jX, j = 0 … m, against pH: shape (m + 1, *pH.shape), columns sum to 1."""
     e = _exponents(pH, pKa)
     w = 10.0 ** (e - e.max(axis=0))
     return w / w.sum(axis=0)
 
 
-def mean_protons(pH: object, pKa: Sequence[float]) -> np.ndarray:
+def mean_protons(pH: object, pKa: PKa) -> np.ndarray:
     """Mean number of protons bound, Σ j·α_j (= −d log10 P / d pH)."""
     a = protonation_fractions(pH, pKa)
     j = np.arange(a.shape[0], dtype=float)
@@ -78,8 +80,8 @@ def proton_half_wave_V(
     E0_V: float,
     pH: object,
     *,
-    pKa_ox: Sequence[float] = (),
-    pKa_red: Sequence[float] = (),
+    pKa_ox: PKa = (),
+    pKa_red: PKa = (),
     electrons: int = 1,
     temperature_K: float = 298.15,
 ) -> np.ndarray:
@@ -107,7 +109,7 @@ def proton_half_wave_V(
 
 
 def proton_regions(
-    pKa_ox: Sequence[float], pKa_red: Sequence[float], pH_range: tuple[float, float]
+    pKa_ox: PKa, pKa_red: PKa, pH_range: tuple[float, float]
 ) -> list[tuple[float, float, int]]:
     """The pH regions between successive pKa values inside *pH_range*, each with the
     number of protons m = m_red − m_ox that travel with the electrons there.

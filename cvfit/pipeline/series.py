@@ -10,6 +10,7 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import replace
 from pathlib import Path
+from typing import cast
 
 import numpy as np
 
@@ -164,7 +165,8 @@ def _fit_titration(
     ligand concentration), and a ligand model needs a reference E½(s).
     """
     model = model_named(manifest.fit.model)
-    points = tuple(_point(f, _titration_x(f, model)) for f in files if f.used_in_fit)
+    # a fitted file is a point, so the model's variable is given for it
+    points = tuple(_point(f, cast(float, _titration_x(f, model))) for f in files if f.used_in_fit)
     checks = model.check_points(points)
     why: list[Flag] = []
     if model.needs_reference and reference.E_half_V is None:

@@ -117,7 +117,7 @@ def _pka_stderr(
         return dict.fromkeys(names), math.inf
     cov = np.linalg.inv(M)[1:, 1:]
     sign, logdet = np.linalg.slogdet(cov)
-    se = {k: float(math.sqrt(cov[i, i])) for i, k in enumerate(names)}
+    se: dict[str, float | None] = {k: float(math.sqrt(cov[i, i])) for i, k in enumerate(names)}
     return se, float(logdet) if sign > 0 else math.inf
 
 
@@ -331,18 +331,19 @@ def simulate_variable_plan(
 
     values = plan.designs["recommended"]["values"]
     noise = noise_fraction_for(plan.E_half_stderr_V, plan.electrons)
-    common = {"electrons": plan.electrons, "noise_fraction": noise, "seed": 1,
-              "overwrite": overwrite, "title": plan.title}  # fmt: skip
     if plan.kind == "pH":
         from cvfit.chemistry.protonation import proton_half_wave_V
 
         ox, red = plan.expect["pKa_ox"], plan.expect["pKa_red"]
         halves = proton_half_wave_V(E_half_V, values, pKa_ox=ox, pKa_red=red)
-        window = {"start_V": float(max(halves)) + 0.35, "switch_V": float(min(halves)) - 0.35}
         return simulate_pH_series(
             out_dir, pH=values, E0_V=E_half_V, pKa_ox=ox, pKa_red=red,
-            temperature_K=plan.temperature_K, **window, **common,
+            electrons=plan.electrons, title=plan.title, noise_fraction=noise, seed=1,
+            overwrite=overwrite, temperature_K=plan.temperature_K,
+            start_V=float(max(halves)) + 0.35, switch_V=float(min(halves)) - 0.35,
         )  # fmt: skip
-    window = {"start_V": E_half_V + 0.4, "switch_V": E_half_V - 0.4}
-    return simulate_temperature_series(out_dir, temperature_C=values, E_half_V=E_half_V,
-                                       entropy_J_mol_K=0.0, **window, **common)  # fmt: skip
+    return simulate_temperature_series(
+        out_dir, temperature_C=values, E_half_V=E_half_V, entropy_J_mol_K=0.0,
+        electrons=plan.electrons, title=plan.title, noise_fraction=noise, seed=1,
+        overwrite=overwrite, start_V=E_half_V + 0.4, switch_V=E_half_V - 0.4,
+    )  # fmt: skip

@@ -62,7 +62,7 @@ _ENTROPY_NAME = {
     "constant_temperature": "ΔS°rc (the couple; non-isothermal cell)",
     "same_temperature": "ΔS° of the cell reaction (isothermal cell)",
 }
-_NULL_Q = {"value": None, "stderr": None, "ci95": [None, None]}
+_NULL_Q: dict[str, Any] = {"value": None, "stderr": None, "ci95": [None, None]}
 
 
 @dataclass(frozen=True, kw_only=True)
