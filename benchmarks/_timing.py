@@ -63,6 +63,16 @@ def child_environment() -> dict[str, str]:
     return env
 
 
+def numbers_from_code(code: str, *args: str, numba_cache_dir: str) -> list[float]:
+    """Run *code* with *args* in a fresh Python process whose numba cache is
+    *numba_cache_dir*; the numbers it prints."""
+    env = dict(child_environment(), NUMBA_CACHE_DIR=numba_cache_dir)
+    out = subprocess.run(
+        [sys.executable, "-c", code, *args], env=env, capture_output=True, text=True, check=True
+    ).stdout.split()
+    return [float(x) for x in out]
+
+
 def run_process(argv: Sequence[str], *, cwd: Path | None = None) -> None:
     """Run *argv* to completion in a fresh process (output discarded); fail loudly."""
     done = subprocess.run(

@@ -24,6 +24,8 @@ __all__ = ["CvfitError", "InputError", "OutputError", "FitError", "SimulationErr
 #: Longest message an error keeps, characters: a value quoted from a hostile file (a 1 MB
 #: title) is cut there, so an error stays one readable line.
 MAX_MESSAGE_CHARS = 2000
+#: Longest file name an error built from a system error quotes, characters.
+MAX_SOURCE_CHARS = 300
 # Format characters that reorder or hide text on a terminal (bidirectional controls).
 _BIDI = frozenset("\u061c\u200e\u200f\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069")
 _NAMED = {"\n": "\\n", "\r": "\\r", "\t": "\\t"}
@@ -117,6 +119,31 @@ class InputError(CvfitError, ValueError):
         if self.line is not None:
             where = f"{where}:{self.line}"
         return f"{where}: {self.message}"
+
+    @classmethod
+    def from_path_error(cls, exc: OSError) -> InputError | None:
+        """The :class:`InputError` for a system error of a path given by the user — a name
+        too long for the file system, a symbolic link loop — or None for any other error.
+
+        Such a path fails wherever it is used (looked at, opened, resolved); the error names
+        the path (shortened to :data:`MAX_SOURCE_CHARS`) and what to do.
+        """
+        import errno
+
+        if exc.errno == errno.ENAMETOOLONG:
+            what = (
+                "the name of this file or folder, or its whole path, is too long for the file "
+                "system (File name too long); give it a shorter name or move it up"
+            )
+        elif exc.errno == errno.ELOOP:
+            what = (
+                "a symbolic link loop (the link points, through others, back to itself); point "
+                "the link at a file or folder"
+            )
+        else:
+            return None
+        source = printable(exc.filename if exc.filename is not None else "<input>")
+        return cls(what, source=printable(source, limit=MAX_SOURCE_CHARS))
 
     def with_source(self, source: str) -> InputError:
         """A copy that names *source* when the original did not know its file."""

@@ -59,6 +59,23 @@ class FlagCode:
 _I, _W, _E = "info", "warning", "error"
 
 _CATALOGUE = (
+    # --- import --------------------------------------------------------------------------
+    FlagCode("PADDING_ROWS_SKIPPED", _I, "Rows with neither a potential nor a current (only "
+             "a counter or other columns filled) were skipped as padding; how many and where "
+             "is said."),
+    FlagCode("DUPLICATE_COLUMN_NAMES", _W, "Several columns share the name of a column that "
+             "was read; which one was read, and why, is said (set the column option to an "
+             "index to choose another)."),
+    FlagCode("POTENTIAL_UNIT_DOUBTFUL", _W, "The potentials span more than 10 V under a label "
+             "that gives no unit: they are probably in mV (set potential_unit = \"mV\")."),
+    FlagCode("POTENTIAL_GLITCH", _W, "The potential jumps away and straight back for one "
+             "sample (a glitch of the record); the sweeps were divided without it and the "
+             "line is named."),
+    FlagCode("SCAN_RATE_METADATA_DISAGREES", _W, "The scan rate the file's metadata states "
+             "differs by more than 5 % from the manifest's (without one, the time column's), "
+             "which is used; both values are given."),
+    FlagCode("SCAN_RATE_FROM_FILE", _I, "The scan rate is the one the file's metadata states "
+             "(the manifest gives none and the file has no time column)."),
     # --- peak analysis -------------------------------------------------------------------
     FlagCode("NO_FORWARD_PEAK", _E, "No forward peak was found (or the forward sweep is too "
              "short to fit a baseline); E½, ΔEp and the screen are not determinable."),
@@ -135,7 +152,10 @@ _CATALOGUE = (
     FlagCode("SLOW_KINETICS_SIGNATURE", _I, "The excess ΔEp follows Nicholson's working "
              "curve with ψ ∝ v^−½: slow electron transfer."),
     FlagCode("EXCESS_CAUSE_UNDECIDED", _W, "The excess ΔEp fits an iR drop and slow kinetics "
-             "alike; widen the scan-rate range."),
+             "alike, or neither passes its own χ² test; no cause is named."),
+    FlagCode("IR_DROP_IMPLAUSIBLE", _W, "The R_u the scan-rate study's iR model would need "
+             "is far above what the electrode and electrolyte can give: the iR drop is not "
+             "named as the cause."),
     # --- curve fit ------------------------------------------------------------------------
     FlagCode("CURVE_FIT_USED", _I, "E½ of this quasi-reversible voltammogram comes from the "
              "fit of the whole curve; the file rejoins the titration fit with that E½."),
@@ -143,12 +163,25 @@ _CATALOGUE = (
              "or structured residuals, or no convergence); its numbers are not used."),
     FlagCode("CURVE_FIT_NOT_POSSIBLE", _W, "The curve could not be fitted (for example, "
              "unequal time steps or no scan rate); the reason is given."),
+    FlagCode("CURVE_FIT_SYSTEMATIC_RESIDUALS", _W, "The curve fit leaves residuals above "
+             "the noise, but its E½ moves little when the background model or the fitted "
+             "window changes: the fit is used and that spread is added to the E½ error."),
+    FlagCode("CURVE_FIT_INITIAL_STATE", _I, "How the curve fit's initial state was decided: "
+             "the bulk form (given or detected from the record's start) and the quiet time "
+             "at the first potential (given, from the time column, or assumed)."),
+    FlagCode("CURVE_FIT_K0_NEEDS_RU", _I, "k0 is near the reversible end with R_u fitted: the "
+             "two trade against each other, so k0 rests on the R_u the curve fixes; give "
+             "resistance_ohm for k0 to mean more than that."),
     FlagCode("CURVE_FIT_K0_LOWER_BOUND", _I, "k0 from the curve fit is near the reversible "
              "limit: the χ² profile gives only a lower bound."),
     FlagCode("GLOBAL_FIT_NOT_POSSIBLE", _W, "global = true, but the global curve fit could "
              "not be made (no two-step fit, an internal standard, a file that cannot be "
              "fitted); "
              "the reason is given."),
+    FlagCode("GLOBAL_FIT_REFUSED", _W, "The global curve fit's reduced χ² is far above 1: "
+             "its constants are not given (the two-step result stands)."),
+    FlagCode("GLOBAL_FIT_FILE_LEFT_OUT", _I, "A file whose own curve fit was refused is not "
+             "Nernstian and is left out of the global curve fit."),
     FlagCode("CURVE_FIT_D_ASSUMED", _I, "The curve fit's k0 assumes D = 1e-5 cm²/s (no D, "
              "electrode area or analyte concentration given); k0 scales with √D."),
     FlagCode("CURVE_FIT_IRREVERSIBLE", _I, "The voltammogram is irreversible (no usable "

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 from scipy import special
@@ -17,6 +18,7 @@ from scipy import special
 __all__ = [
     "Quantity",
     "t_interval",
+    "combined_interval",
     "clean_number",
     "t_quantile",
     "normal_quantile",
@@ -91,7 +93,9 @@ def clean_number(x: float | None) -> float | None:
     return x if math.isfinite(x) else None
 
 
-def t_interval(value: float, stderr: float, dof: int, level: float = 0.95) -> tuple[float, float]:
+def t_interval(
+    value: float, stderr: float, dof: float, level: float = 0.95
+) -> tuple[float, float]:
     """Two-sided Student-t confidence interval ``value ± t(dof) · stderr``.
 
     With ``dof`` = ``math.inf`` (or <= 0 treated as undefined) the normal quantile is used
@@ -103,6 +107,61 @@ def t_interval(value: float, stderr: float, dof: int, level: float = 0.95) -> tu
         return (math.nan, math.nan)
     q = normal_quantile(0.5 + level / 2) if math.isinf(dof) else t_quantile(0.5 + level / 2, dof)
     return (value - q * stderr, value + q * stderr)
+
+
+@lru_cache(maxsize=8)
+def _t_quantile_grid(level: float) -> tuple[np.ndarray, np.ndarray]:
+    """Two-sided Student-t quantiles on a log grid of dof, 1 to 10⁶ (for inverting)."""
+    nu = np.geomspace(1.0, 1e6, 2000)
+    return nu, t_quantile(0.5 + level / 2, nu)
+
+
+def combined_interval(
+    value: float, fit_variance: float, dof: float, known_variance: float, level: float = 0.95
+) -> tuple[float, float, float]:
+    """Interval for a fitted value plus an independent term of known variance.
+
+    The fitted part has a variance estimated on ``dof`` degrees of freedom, the known part
+    (the reference E½ given with its standard error) infinitely many. The expanded
+    uncertainties are added in quadrature, ``U = √((t_ν u_fit)² + (z u_known)²)``: exact
+    when either part vanishes and conservative in between. Welch–Satterthwaite
+    ``ν_eff = ν (1 + u_known²/u_fit²)²`` was tried first and rejected: with the few dof of a
+    titration line (ν = 1–3) its ν_eff, driven by the noisy estimate of ``u_fit``, gave
+    87–94 % coverage for a nominal 95 % in Monte-Carlo tests, against 96–99 % here.
+
+    Returns
+    -------
+    low, high, equivalent_dof : float
+        The limits and the dof whose Student-t quantile gives the same ``U/√(u_fit² +
+        u_known²)`` (``inf`` when the known part alone is present).
+
+    References
+    ----------
+    Satterthwaite, Biometrics Bulletin 2 (1946) 110 (the alternative not used).
+    JCGM 100:2008 (GUM), annex G (expanded uncertainty and coverage factors).
+    """
+    z = normal_quantile(0.5 + level / 2)
+    total = fit_variance + known_variance
+    if known_variance <= 0.0 or fit_variance <= 0.0 or total <= 0.0:
+        if fit_variance <= 0.0 < known_variance:
+            k, nu = z, math.inf
+        else:
+            k, nu = t_quantile(0.5 + level / 2, dof), float(dof)
+        half = k * math.sqrt(max(total, 0.0))
+        return value - half, value + half, nu
+    t = t_quantile(0.5 + level / 2, dof)
+    half = math.sqrt(t * t * fit_variance + z * z * known_variance)
+    k = half / math.sqrt(total)
+    if k <= t_quantile(0.5 + level / 2, 1e6):
+        nu = math.inf
+    elif k >= t:
+        nu = float(dof)
+    else:
+        grid_nu, grid_t = _t_quantile_grid(level)
+        # grid_t decreases with ν: interpolate ν (log scale) against the quantile
+        nu = float(np.exp(np.interp(k, grid_t[::-1], np.log(grid_nu)[::-1])))
+        nu = max(nu, float(dof))
+    return value - half, value + half, nu
 
 
 @dataclass(frozen=True)
@@ -142,6 +201,39 @@ class Quantity:
         lo, hi = t_interval(value, stderr, dof, level)
         how = "normal" if math.isinf(dof) else f"student-t, dof={int(dof)}"
         return cls(value, stderr, (lo, hi), how)
+
+    @classmethod
+    def combined(
+        cls,
+        value: float,
+        fit_variance: float,
+        dof: float,
+        known_variance: float,
+        level: float = 0.95,
+    ) -> tuple[Quantity, float]:
+        """A fitted value plus an independent term of known variance (see
+        :func:`combined_interval`); the Quantity and the equivalent dof."""
+        lo, hi, nu = combined_interval(value, fit_variance, dof, known_variance, level)
+        how = f"student-t (dof={int(dof)}) and normal reference in quadrature" + (
+            "" if math.isinf(nu) else f", equivalent dof={nu:.1f}"
+        )
+        return cls(value, math.sqrt(fit_variance + known_variance), (lo, hi), how), nu
+
+    def scaled(self, factor: float, note: str = "") -> Quantity:
+        """``factor · self`` (a linear change of unit, e.g. V → log10 units)."""
+        lo, hi = sorted((self.ci95[0] * factor, self.ci95[1] * factor))
+        return Quantity(
+            self.value * factor, self.stderr * abs(factor), (lo, hi), self.method + note
+        )
+
+    def shifted(self, delta: float) -> Quantity:
+        """``self + delta`` for an exactly known *delta* (same stderr, interval moved)."""
+        lo, hi = self.ci95
+        return Quantity(self.value + delta, self.stderr, (lo + delta, hi + delta), self.method)
+
+    def with_note(self, note: str) -> Quantity:
+        """The same numbers, *note* appended to the method."""
+        return Quantity(self.value, self.stderr, self.ci95, self.method + note)
 
     def to_dict(self) -> dict[str, object]:
         """Plain JSON-ready mapping ``{"value", "stderr", "ci95"}`` (NaN → None)."""

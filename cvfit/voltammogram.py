@@ -18,7 +18,7 @@ import numpy as np
 
 from cvfit.errors import InputError
 
-__all__ = ["Voltammogram", "Sweep", "Cycle", "turning_points"]
+__all__ = ["Voltammogram", "Sweep", "Cycle", "turning_points", "potential_spikes"]
 
 #: Fewest points a record may have and still be a voltammogram.
 MIN_POINTS = 10
@@ -229,14 +229,53 @@ class Cycle:
         return float(self.forward.parent.potential_V[self.forward.stop])
 
 
+def potential_spikes(potential_V: np.ndarray) -> np.ndarray:
+    """Indices of one-sample glitches: a sample that jumps away and straight back.
+
+    A sample counts when both steps around it, of opposite sign, are larger than a
+    quarter of the turning tolerance (0.5 % of the potential window) and than four times
+    the mean step of the record, and its neighbours agree with each other within half
+    that step. A real switching point is a step of the usual size; a plateau of repeated
+    staircase values keeps the mean step large enough.
+    """
+    E = np.asarray(potential_V, dtype=float)
+    if E.size < 3:
+        return np.zeros(0, dtype=int)
+    # absurd values (1e308) overflow to infinity, which makes no glitch: no warning
+    with np.errstate(over="ignore", invalid="ignore"):
+        steps = np.diff(E)
+        size = np.abs(steps)
+        limit = max(0.005 * float(np.ptp(E)), 4.0 * float(size.mean()))
+        if not float(size.max()) > limit:  # the common case: no step large enough
+            return np.zeros(0, dtype=int)
+        big = np.flatnonzero(size[:-1] > limit)  # the step into sample k + 1 is large
+        into, out = steps[big], steps[big + 1]
+        smaller = np.minimum(np.abs(into), np.abs(out))
+        back = (np.sign(into) != np.sign(out)) & (smaller > limit)
+        back &= np.abs(into + out) < 0.5 * smaller
+    return big[back] + 1
+
+
+def _despiked(E: np.ndarray) -> np.ndarray:
+    """*E* with each one-sample glitch set to its neighbours' mean (a copy), for finding
+    the turns only; the record keeps its samples."""
+    spikes = potential_spikes(E)
+    if spikes.size == 0:
+        return E
+    out = E.copy()
+    out[spikes] = 0.5 * (E[spikes - 1] + E[spikes + 1])
+    return out
+
+
 def turning_points(potential_V: np.ndarray, tolerance_V: float | None = None) -> list[int]:
     """Indices of the start, the switching points and the end of a potential record.
 
     A turn is declared where the potential retreats from its running extreme by more than
     ``tolerance_V`` (default: 2 % of the potential window), so noise and staircase steps
-    do not split a sweep. Cost is O(points) per turn, in vectorised NumPy.
+    do not split a sweep; a one-sample glitch (:func:`potential_spikes`) does not either.
+    Cost is O(points) per turn, in vectorised NumPy.
     """
-    E = np.asarray(potential_V, dtype=float)
+    E = _despiked(np.asarray(potential_V, dtype=float))
     n = E.size
     if n < 2:
         return [0, max(n - 1, 0)]

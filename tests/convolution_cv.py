@@ -36,20 +36,31 @@ def convolution_cv(
     psi: float | None = None,
     alpha: float = 0.5,
     rho: float = 0.0,
+    hold: int = 0,
 ) -> tuple[np.ndarray, np.ndarray, int]:
-    """Dimensionless CV of a reduction-first sweep start → switch → start.
+    """Dimensionless CV of a sweep start → switch → start with only O in the bulk.
 
-    ``start`` and ``switch`` are nF(E − E½)/RT (start > 0 > switch); ``h`` is the step in
-    that variable (one dimensionless time unit per unit); ``psi`` None for a Nernstian couple.
+    ``start`` and ``switch`` are nF(E − E½)/RT (usually start > 0 > switch: reduction
+    first; the other order sweeps positive first); ``h`` is the step in that variable (one
+    dimensionless time unit per unit); ``psi`` None for a Nernstian couple.
     ``rho`` is an uncompensated resistance in dimensionless form, R·nFAC*√(Dσ)·nF/RT: the
     electrode sees ξ + ρ·π^½χ (a reduction current moves it positive), solved at every
     step by bracketing (the step equation is then not linear in the new χ).
+    ``hold``: steps (of dimensionless time h each) at ``start`` before the sweep, the
+    potential stepped there from rest (a quiet time; no ohmic drop during it).
     Returns (ξ, π^½χ, index of the switch): ξ = nF(E − E½)/RT of the applied potential and
     π^½χ = i/(nFAC*√(Dσ)), the current function (positive for reduction; 0.4463 at a
-    reversible peak).
+    reversible peak). The hold's samples come first; the switch index counts them.
     """
-    n_leg = int(round((start - switch) / h))
-    xi = np.concatenate([start - h * np.arange(n_leg + 1), switch + h * np.arange(1, n_leg + 1)])
+    n_leg = int(round(abs(start - switch) / h))
+    way = -1.0 if switch < start else 1.0
+    xi = np.concatenate(
+        [
+            np.full(hold, start),
+            start + way * h * np.arange(n_leg + 1),
+            switch - way * h * np.arange(1, n_leg + 1),
+        ]
+    )
     count = xi.size
     # ∫ over step j of (s_n − u)^−½ du = 2√h (√(k + 1) − √k), k = n − j
     k = np.arange(count, dtype=float)
@@ -57,11 +68,12 @@ def convolution_cv(
     chi = np.zeros(count)
     a = w[0]
     lam = None if psi is None else psi * math.sqrt(math.pi)
-    for n in range(1, count):
-        # memory term: the steps before n, weights w[n − j] for j = 1 .. n − 1
-        b = float(np.dot(chi[1:n], w[n - 1 : 0 : -1])) if n > 1 else 0.0
+    first = 1 if hold == 0 else 0  # with a hold, the potential steps at the first sample
+    for n in range(first, count):
+        # memory term: the steps before n, weights w[n − j] for j = first .. n − 1
+        b = float(np.dot(chi[first:n], w[n - first : 0 : -1])) if n > first else 0.0
         chi[n] = _step(xi[n], a, b, lam, alpha)
-        if rho > 0.0:
+        if rho > 0.0 and n >= hold:
             c0 = chi[n]
 
             def g(c: float, n: int = n, b: float = b) -> float:
@@ -69,7 +81,7 @@ def convolution_cv(
 
             if c0 != 0.0 and g(0.0) * g(c0) < 0.0:
                 chi[n] = brentq(g, min(0.0, c0), max(0.0, c0), xtol=1e-15, rtol=1e-13)
-    return xi, chi, n_leg
+    return xi, chi, hold + n_leg
 
 
 def _step(x: float, a: float, b: float, lam: float | None, alpha: float) -> float:

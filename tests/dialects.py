@@ -16,7 +16,14 @@ import numpy as np
 from cvfit.io import ImportOptions
 from cvfit.voltammogram import turning_points
 
-__all__ = ["DIALECTS", "DIALECT_IMPORT", "write_dialect", "dialect_options", "triangle_wave"]
+__all__ = [
+    "DIALECTS",
+    "DIALECT_IMPORT",
+    "PADDING_ROWS",
+    "write_dialect",
+    "dialect_options",
+    "triangle_wave",
+]
 
 
 def _fmt(values: np.ndarray, decimal: str) -> list[str]:
@@ -138,11 +145,12 @@ def _spec(name: str, E, i, t):
             [],
         )
     if name == "applied_and_measured":
-        measured = E + 0.0015
+        # the electrode's potential lags the programme by the ohmic drop: here 1.5 mV
+        applied = E - 0.0015
         return (
             (["Time (s)"] if has_t else [])
-            + ["Potential measured (V)", "Current (mA)", "Potential applied (V)"],
-            ([t] if has_t else []) + [measured, i * 1e3, E],
+            + ["Potential applied (V)", "Current (mA)", "Potential measured (V)"],
+            ([t] if has_t else []) + [applied, i * 1e3, E],
             ";",
             ".",
             [],
@@ -163,12 +171,82 @@ def _spec(name: str, E, i, t):
             ".",
             ["# Created by a script"],
         )
+    if name == "stated_scan_rate":
+        pre = ["Run: titration point", "Scan rate: {stated_mV_s} mV/s", "Electrode: disc", ""]
+        return (
+            (["Time (s)"] if has_t else []) + ["E (V)", "I (µA)"],
+            ([t] if has_t else []) + [E, i * 1e6],
+            ",",
+            ".",
+            pre,
+        )
     raise ValueError(f"unknown dialect {name!r}")
+
+
+def _scan_rate_V_s(E: np.ndarray, t: np.ndarray | None) -> float:
+    """The scan rate of the arrays (0.1 V/s, the default of triangle_wave, without time)."""
+    if t is None or t[-1] <= t[0]:
+        return 0.1
+    return float(np.sum(np.abs(np.diff(E))) / (t[-1] - t[0]))
+
+
+def _leading_settings(E, i, t, rate_V_s: float) -> list[str]:
+    """Tab-separated: the first data row also carries the run settings in three leading
+    cells that every later row leaves empty (so those rows begin with three tabs)."""
+    has_t = t is not None
+    labels = ["Technique", "Sweep rate (mV/s)", "Initial E (V)", "Scan"]
+    labels += (["Time (s)"] if has_t else []) + ["Potential (V)", "Current (A)"]
+    scans = _cycle_numbers(E)
+    data = [scans.astype(float)] + ([t] if has_t else []) + [E, i]
+    rows = _rows(data, "\t", ".")
+    settings = ["Cyclic voltammetry", f"{1e3 * rate_V_s:.6g}", f"{float(E[0]):.12g}"]
+    lines = ["\t".join(labels), "\t".join(settings) + "\t" + rows[0]]
+    return lines + ["\t\t\t" + row for row in rows[1:]]
+
+
+#: Rows of padding after the data of the "counter_padding" dialect.
+PADDING_ROWS = 3000
+
+
+def _counter_padding(E, i, t) -> list[str]:
+    """Tab-separated data followed by thousands of rows in which only the scan counter
+    is filled (the potential, current and time cells empty)."""
+    has_t = t is not None
+    labels = ["Scan"] + (["Time (s)"] if has_t else []) + ["E/V", "I/A"]
+    scans = _cycle_numbers(E)
+    rows = _rows([scans.astype(float)] + ([t] if has_t else []) + [E, i], "\t", ".")
+    empty = "\t" * (len(labels) - 1)
+    return ["\t".join(labels), *rows] + [f"{scans[-1]}{empty}"] * PADDING_ROWS
+
+
+def _units_header(E, i, t) -> list[str]:
+    """Metadata lines, then a header of units only, then the data (comma-separated)."""
+    has_t = t is not None
+    pre = [
+        "Ligand titration, solution 3",
+        "Date and time: 2026-01-15 10:42:07",
+        "Notes: stirred between scans, argon purged",
+        "Technique: cyclic voltammetry",
+    ]
+    header = (["s"] if has_t else []) + ["V", "µA"]
+    return pre + [",".join(header), *_rows(([t] if has_t else []) + [E, i * 1e6], ",", ".")]
+
+
+def _special_lines(dialect: str, E, i, t, stated_V_s: float | None) -> list[str] | None:
+    rate = stated_V_s if stated_V_s is not None else _scan_rate_V_s(E, t)
+    if dialect == "tab_leading_settings":
+        return _leading_settings(E, i, t, rate)
+    if dialect == "counter_padding":
+        return _counter_padding(E, i, t)
+    if dialect == "utf16_units_header":
+        return _units_header(E, i, t)
+    return None
 
 
 #: Encoding and line ending of each dialect (default UTF-8, LF).
 _ENCODING: dict[str, tuple[str, str]] = {
     "utf16": ("utf-16", "\r\n"),
+    "utf16_units_header": ("utf-16-le", "\r\n"),
     "utf8_bom_crlf": ("utf-8-sig", "\r\n"),
     "latin1_micro": ("latin-1", "\r\n"),
 }
@@ -189,6 +267,10 @@ DIALECTS: tuple[str, ...] = (
     "applied_and_measured",
     "current_first",
     "hash_comment_header",
+    "tab_leading_settings",
+    "counter_padding",
+    "utf16_units_header",
+    "stated_scan_rate",
 )
 
 #: ``[import]`` keys a manifest must give for the dialect (everything else is detected).
@@ -208,22 +290,35 @@ def write_dialect(
     current_A: Sequence[float] | np.ndarray,
     time_s: Sequence[float] | np.ndarray | None = None,
     dialect: str,
+    stated_scan_rate_V_s: float | None = None,
 ) -> Path:
-    """Write arrays (V, A, s, anodic current positive) as a *dialect* export; returns path."""
+    """Write arrays (V, A, s, anodic current positive) as a *dialect* export; returns path.
+
+    *stated_scan_rate_V_s*: the scan rate the file's metadata states, for the dialects
+    that state one ("tab_leading_settings", "stated_scan_rate"); default, the arrays'
+    own (0.1 V/s without a time).
+    """
     E = np.asarray(potential_V, dtype=float)
     i = np.asarray(current_A, dtype=float)
     t = None if time_s is None else np.asarray(time_s, dtype=float)
-    labels, columns, delimiter, decimal, preamble = _spec(dialect, E, i, t)
-    width = 16 if delimiter == " " else 0
-    lines = list(preamble)
-    if labels is not None:
-        prefix = "# " if labels[0] == "#" else ""
-        names = labels[1:] if prefix else labels
-        lines.append(prefix + delimiter.join(lab.rjust(width) for lab in names))
-    lines.extend(_rows(columns, delimiter, decimal, width))
+    lines = _special_lines(dialect, E, i, t, stated_scan_rate_V_s)
+    if lines is None:
+        labels, columns, delimiter, decimal, preamble = _spec(dialect, E, i, t)
+        width = 16 if delimiter == " " else 0
+        stated = stated_scan_rate_V_s if stated_scan_rate_V_s is not None else _scan_rate_V_s(E, t)
+        lines = [ln.replace("{stated_mV_s}", f"{1e3 * stated:.6g}") for ln in preamble]
+        if labels is not None:
+            prefix = "# " if labels[0] == "#" else ""
+            names = labels[1:] if prefix else labels
+            lines.append(prefix + delimiter.join(lab.rjust(width) for lab in names))
+        lines.extend(_rows(columns, delimiter, decimal, width))
     encoding, newline = _ENCODING.get(dialect, ("utf-8", "\n"))
+    body = (newline.join(lines) + newline).encode(encoding)
+    if dialect == "utf16_units_header":
+        # a byte-order mark first, and a last line holding nothing but another one
+        body = b"\xff\xfe" + body + "\ufeff".encode(encoding)
     p = Path(path)
-    p.write_bytes((newline.join(lines) + newline).encode(encoding))
+    p.write_bytes(body)
     return p
 
 

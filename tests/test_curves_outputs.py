@@ -12,6 +12,7 @@ from cvfit.io import load_manifest
 from cvfit.pipeline.series import analyse_series
 from cvfit.report import OUTPUT_NAMES, write_outputs
 from cvfit.report.figures import titration as figures_module
+from cvfit.report.ownership import MARKER_NAME
 from cvfit.simulate.voltammogram import simulate_cv
 from cvfit.techniques.curves import CycleCurve, cycle_curve, points_per_curve
 
@@ -68,7 +69,8 @@ def test_outputs_are_deterministic_and_complete(result, tmp_path):
     assert set(p.name for p in one.values()) == set(OUTPUT_NAMES.values())
     assert _digests(tmp_path / "one") == _digests(tmp_path / "two")
     # nothing but the outputs: no temporary file left behind
-    assert sorted(p.name for p in (tmp_path / "two").iterdir()) == sorted(OUTPUT_NAMES.values())
+    names = sorted(p.name for p in (tmp_path / "two").iterdir())
+    assert names == sorted([*OUTPUT_NAMES.values(), MARKER_NAME])  # and the set's record
 
 
 def test_long_title_wraps_and_gets_room(result, tmp_path, monkeypatch):

@@ -10,15 +10,15 @@ from cvfit.pipeline.per_file import check_jobs
 
 
 def test_small_series_stay_in_one_process(monkeypatch):
-    monkeypatch.setattr(file_jobs, "_cpus", lambda: 2)
+    monkeypatch.setattr(file_jobs, "available_cores", lambda: 2)
     assert file_jobs.default_file_jobs(20) == 1
     assert file_jobs.default_file_jobs(file_jobs.PARALLEL_MIN_FILES - 1) == 1
 
 
 def test_large_series_get_one_worker_per_core(monkeypatch):
-    monkeypatch.setattr(file_jobs, "_cpus", lambda: 2)
+    monkeypatch.setattr(file_jobs, "available_cores", lambda: 2)
     assert file_jobs.default_file_jobs(file_jobs.PARALLEL_MIN_FILES) == 2
-    monkeypatch.setattr(file_jobs, "_cpus", lambda: 1)
+    monkeypatch.setattr(file_jobs, "available_cores", lambda: 1)
     assert file_jobs.default_file_jobs(500) == 1
 
 

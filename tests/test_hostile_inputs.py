@@ -9,12 +9,11 @@ from __future__ import annotations
 import json
 import os
 import shutil
-import subprocess
-import sys
 from pathlib import Path
 
 import numpy as np
 import pytest
+from clirun import assert_clean_error, run_cli
 from seriesfactory import LIGAND_M, simulate_point, write_manifest, write_plain_csv
 
 from cvfit.errors import InputError, printable
@@ -25,32 +24,6 @@ from cvfit.io.limits import (
     MAX_MANIFEST_BYTES,
     check_line_lengths,
 )
-
-#: Longest a hostile case may take, s: the cases that hung ran until killed at 60 s.
-TIMEOUT_S = 60
-
-
-def run_cli(*args: str, cwd: Path) -> subprocess.CompletedProcess:
-    return subprocess.run(
-        [sys.executable, "-m", "cvfit", *args],
-        cwd=cwd,
-        capture_output=True,
-        text=True,
-        timeout=TIMEOUT_S,
-        stdin=subprocess.DEVNULL,
-    )
-
-
-def assert_clean_error(proc: subprocess.CompletedProcess, *needles: str) -> str:
-    """Exit 2 and exactly one line on stderr, naming what it should; returns that line."""
-    assert proc.returncode == 2, (proc.returncode, proc.stderr)
-    lines = proc.stderr.splitlines()
-    assert len(lines) == 1, proc.stderr
-    assert lines[0].startswith("cvfit: error: "), lines[0]
-    assert "Traceback" not in proc.stderr
-    for needle in needles:
-        assert needle in lines[0], (needle, lines[0])
-    return lines[0]
 
 
 @pytest.fixture(scope="module")

@@ -90,17 +90,19 @@ def test_metadata_lines_are_kept(tmp_path):
     assert md["import.time_column"] == "Time (s)"
 
 
-def test_applied_potential_preferred_over_measured(tmp_path):
+def test_measured_potential_preferred_over_applied(tmp_path):
     E, i, _ = triangle_wave()
     path = write_dialect(
         tmp_path / "a.csv", potential_V=E, current_A=i, dialect="applied_and_measured"
     )
     vg = read_voltammogram(path)
-    assert vg.metadata["import.potential_column"] == "Potential applied (V)"
-    assert "Potential measured (V)" in vg.metadata["import.other_potential_columns"]
+    assert vg.metadata["import.potential_column"] == "Potential measured (V)"
+    assert vg.metadata["import.potential_kind"] == "measured"
+    assert "Potential applied (V)" in vg.metadata["import.other_potential_columns"]
     _close(vg.potential_V, E)
-    measured = read_voltammogram(path, ImportOptions(potential_column="potential MEASURED (V)"))
-    _close(measured.potential_V, E + 0.0015)
+    applied = read_voltammogram(path, ImportOptions(potential_column="potential APPLIED (V)"))
+    assert applied.metadata["import.potential_kind"] == "applied"
+    _close(applied.potential_V, E - 0.0015)
 
 
 def test_no_header_assumption_is_recorded(tmp_path):

@@ -235,11 +235,20 @@ def test_label_parsing(label, role, unit):
     assert (parsed.role, parsed.unit) == (role, unit)
 
 
-def test_label_ranks_prefer_plain_potential():
-    labels = ("E/V", "Working electrode (V)", "Potential applied (V)", "Ece/V", "Analog IN/V")
+def test_label_ranks_prefer_measured_then_plain_potential():
+    labels = (
+        "Potential measured (V)",
+        "Working electrode (V)",
+        "E/V",
+        "Potential applied (V)",
+        "Ece/V",
+        "Analog IN/V",
+    )
     ranks = [parse_label(s).rank for s in labels]
-    assert ranks[0] == 0 and ranks[0] < ranks[1] < ranks[2] < ranks[3] <= ranks[4]
+    assert ranks == sorted(ranks) and len(set(ranks[:5])) == 5
     assert all(parse_label(s).role == "potential" for s in labels)
+    kinds = [parse_label(s).qualifier for s in labels]
+    assert kinds == ["measured", "measured", None, "applied", None, None]
 
 
 @pytest.mark.parametrize(

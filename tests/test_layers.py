@@ -23,6 +23,7 @@ RANKS = {
     "errors": 0,
     "units": 0,
     "quantity": 0,
+    "likelihood": 0,
     "flags": 0,
     "flag_codes": 0,
     "reversibility_criteria": 0,

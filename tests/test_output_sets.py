@@ -23,6 +23,7 @@ from cvfit.pipeline.series import analyse_series
 from cvfit.report import OUTPUT_NAMES, write_outputs
 from cvfit.report.atomic import clean_set_leftovers, output_set, set_leftovers
 from cvfit.report.output_names import STEPWISE_ONLY_NAMES, is_output_name
+from cvfit.report.ownership import MARKER_NAME
 
 
 def _digests(folder: Path) -> dict[str, str]:
@@ -59,8 +60,8 @@ def _one_error_line(capsys) -> str:
 
 def test_second_set_replaces_the_first_whole(result, earlier):
     out, first = earlier
-    assert sorted(first) == sorted(OUTPUT_NAMES.values())
-    (out / "diagnostics.png").write_bytes(b"stale")  # anything of the earlier set
+    assert sorted(first) == sorted([*OUTPUT_NAMES.values(), MARKER_NAME])
+    (out / "diagnostics.png").unlink()  # a file of the earlier set gone: still cvfit's
     written = write_outputs(result, out)
     assert _digests(out) == first  # the whole folder is the new set again
     assert all(p.parent == out for p in written.values())
@@ -188,9 +189,10 @@ def test_link_to_the_output_folder_stays_a_link(result, earlier, tmp_path):
 
 
 def test_names_of_an_output_folder():
-    for name in [*OUTPUT_NAMES.values(), *STEPWISE_ONLY_NAMES, ".results.json.k2j3h4.json"]:
+    for name in [*OUTPUT_NAMES.values(), *STEPWISE_ONLY_NAMES]:
         assert is_output_name(name), name
-    for name in ["notes.txt", "series.toml", ".results.json", "results.json.bak", "sub"]:
+    for name in ["notes.txt", "series.toml", ".results.json", "results.json.bak", "sub",
+                 ".results.json.k2j3h4.json", ".results.json.backup"]:  # fmt: skip
         assert not is_output_name(name), name
     from cvfit.report.figures.registry import FIGURES
 
@@ -285,6 +287,7 @@ def test_output_set_yields_a_hidden_folder_beside_the_target(tmp_path):
         assert not target.exists()
         (stage / "results.json").write_text("{}", encoding="utf-8")
     assert (target / "results.json").read_text(encoding="utf-8") == "{}"
+    assert sorted(p.name for p in target.iterdir()) == [MARKER_NAME, "results.json"]
     assert [p.name for p in tmp_path.iterdir()] == ["out"]
 
 

@@ -235,7 +235,7 @@ def test_run_into_input_folder_is_refused_and_runs_are_deterministic(tmp_path, c
     before = _digests(folder)
     # an output set replaces its folder whole: a folder of the user's files is refused
     assert main(["run", str(manifest), "--out", str(folder), "--quiet"]) == 2
-    assert "which cvfit did not write" in capsys.readouterr().err
+    assert "would overwrite the input file" in capsys.readouterr().err
     assert _digests(folder) == before and sorted(p.name for p in folder.iterdir()) == sorted(
         before
     )

@@ -2,7 +2,9 @@
 
 The simulator's kernel (numba, ~0.15 s of start-up) is needed only when some file is
 fitted as a whole curve; a series whose files all pass the reversibility screen — the
-usual case — must not load it. (scipy.stats is checked by test_quantiles.py.)
+usual case — must not load it. lmfit (~0.4 s with the scipy.stats it brings) carries the
+stepwise model only: a series fitted by Lingane's line must not load it either.
+(scipy.stats is checked by test_quantiles.py.)
 """
 
 from __future__ import annotations
@@ -27,7 +29,23 @@ def _loaded_after_run(manifest, out, modules) -> list[str]:
 
 def test_reversible_series_does_not_load_the_simulator(tmp_path):
     manifest = write_small_series(tmp_path, 5, seed=3)
-    assert _loaded_after_run(manifest, tmp_path / "out", ["numba"]) == []
+    assert _loaded_after_run(manifest, tmp_path / "out", ["numba", "lmfit"]) == []
+
+
+def test_lmfit_is_loaded_by_a_stepwise_fit_only():
+    """Importing the stepwise model does not load lmfit; running a fit does (the other
+    side, so the check above can fail)."""
+    code = (
+        "import sys\n"
+        "from cvfit.titration.stepwise import StepwisePoint, fit_stepwise\n"
+        "before = 'lmfit' in sys.modules\n"
+        "pts = [StepwisePoint(f'p{k}', 10.0 ** (k - 4), -0.03 * k, 2e-4) for k in range(5)]\n"
+        "fit = fit_stepwise(pts, electrons=1, temperature_K=298.15, reference_E_half_V=0.0,\n"
+        "                   reference_stderr_V=2e-4, max_complexes=2)\n"
+        "print(before, 'lmfit' in sys.modules, type(fit.lmfit_params).__name__)\n"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert done.stdout.split() == ["False", "True", "Parameters"]
 
 
 def test_a_curve_fitted_file_does_load_it(tmp_path):
@@ -36,10 +54,4 @@ def test_a_curve_fitted_file_does_load_it(tmp_path):
     from pathlib import Path
 
     demo = Path(__file__).resolve().parents[1] / "cvfit" / "data" / "demo" / "series.toml"
-    try:
-        import numba  # noqa: F401
-    except ImportError:  # the simulator then runs on NumPy alone
-        module = "cvfit.simulate.finite_difference"
-    else:
-        module = "numba"
-    assert _loaded_after_run(demo, tmp_path / "out", [module]) == [module]
+    assert _loaded_after_run(demo, tmp_path / "out", ["numba"]) == ["numba"]

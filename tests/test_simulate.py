@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import functools
 import math
+import os
 import subprocess
 import sys
 
@@ -263,16 +264,13 @@ def test_double_layer_charging_and_its_rc_response():
     assert np.max(np.abs(vg.current_A[after] - expected)) < 1e-2 * Cdl * V
 
 
-@pytest.mark.parametrize("backend", ["numpy", "numba"])
-def test_charging_current_steps_exactly_at_every_vertex(backend):
+def test_charging_current_steps_exactly_at_every_vertex():
     # capacitor only, R_u = 0: i_c = C·dE/dt is −C·v, then +C·v, then −C·v on the points on
     # both sides of each vertex (no one-point spike of 2·C·v from reaching across the kink)
-    if backend == "numba" and not _sim_kernel.HAVE_NUMBA:
-        pytest.skip("numba not installed")
     Cdl = 1e-5
     wave, raw, _ = _simulate_raw(
         E_half_V=0.0, start_V=0.3, switch_V=[-0.3, 0.35], cycles=2, double_layer_F=Cdl,
-        concentration_M=1e-12, backend=backend,
+        concentration_M=1e-12,
     )  # fmt: skip
     E = wave.potential_V
     rate = np.sign(np.diff(E)) * V  # applied dE/dt on each interval
@@ -284,18 +282,15 @@ def test_charging_current_steps_exactly_at_every_vertex(backend):
         assert raw.charging_A[k + 1] == pytest.approx(Cdl * rate[k], rel=1e-9)
 
 
-@pytest.mark.parametrize("backend", ["numpy", "numba"])
-def test_charging_relaxes_with_time_constant_RC_after_start_and_switch(backend):
+def test_charging_relaxes_with_time_constant_RC_after_start_and_switch():
     # series R_u–C_dl driven by a ramp (elementary circuit analysis): from rest at t = 0,
     # i_c = −C v (1 − exp(−t/RC)) on the cathodic sweep; after the switch at t_s, where
     # i_c ≈ −C v, i_c = C v (1 − 2 exp(−(t − t_s)/RC)); dt = RC/20
-    if backend == "numba" and not _sim_kernel.HAVE_NUMBA:
-        pytest.skip("numba not installed")
     Cdl, Ru = 2e-6, 2000.0
     RC = Ru * Cdl
     wave, raw, _ = _simulate_raw(
         E_half_V=-3.0, start_V=0.3, switch_V=0.2, double_layer_F=Cdl, resistance_ohm=Ru,
-        step_V=V * RC / 20, concentration_M=1e-12, backend=backend,
+        step_V=V * RC / 20, concentration_M=1e-12,
     )  # fmt: skip
     t, i_c = wave.time_s, raw.charging_A
     t_s = 0.1 / V
@@ -337,17 +332,6 @@ def test_oxidation_first_mirrors_reduction_first(k0):
     np.testing.assert_allclose(red.current_A, -ox.current_A, rtol=0, atol=1e-10 * scale)
     first_sweep = red.current_A[: red.n_points // 4]
     assert np.max(first_sweep) > 0.5 * rs()  # the first peak is anodic
-
-
-@pytest.mark.skipif(not _sim_kernel.HAVE_NUMBA, reason="numba not installed")
-def test_numpy_and_compiled_back_ends_agree():
-    kw = dict(E_half_V=0.0, start_V=0.3, switch_V=[-0.3, 0.1], k0_cm_s=2e-3, alpha=0.4)
-    kw.update(D_red_cm2_s=7e-6, resistance_ohm=300.0, double_layer_F=1e-6, step_V=0.002)
-    _, fast, _ = _simulate_raw(**kw, backend="numba")
-    _, ref, _ = _simulate_raw(**kw, backend="numpy")
-    scale = np.max(np.abs(ref.faradaic_A))
-    np.testing.assert_allclose(fast.faradaic_A, ref.faradaic_A, rtol=0, atol=1e-9 * scale)
-    np.testing.assert_allclose(fast.E_true_V, ref.E_true_V, rtol=0, atol=1e-12)
 
 
 def test_waveform_with_vertices_cycles_and_metadata():
@@ -393,16 +377,20 @@ def test_invalid_settings_raise(bad):
         simulate_cv(**kw)
 
 
-def test_runs_without_numba():
-    # The pure-NumPy path must work where numba is not installed (blocked in a subprocess).
+def test_runs_where_no_cache_folder_is_writable():
+    # numba refuses to cache when none of its cache locations is usable (a read-only
+    # install and no writable home); restricting it to the zip-file locator, which never
+    # applies to a plain module, reproduces that. The kernel must then compile in memory
+    # and give the same current, not fail to import.
     code = (
-        "import sys; sys.modules['numba'] = None\n"
-        "from cvfit.simulate import finite_difference as _sim_kernel\n"
         "from cvfit.simulate.voltammogram import simulate_cv\n"
-        "assert not _sim_kernel.HAVE_NUMBA\n"
         "vg = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=-0.3, step_V=0.004)\n"
         "print(repr(float(vg.current_A.min())))\n"
     )
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    env = dict(os.environ, NUMBA_CACHE_LOCATOR_CLASSES="numba.core.caching.ZipCacheLocator")
+    env.pop("NUMBA_CACHE_DIR", None)
+    done = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True, env=env
+    )
     compiled = simulate_cv(E_half_V=0.0, start_V=0.3, switch_V=-0.3, step_V=0.004)
-    assert float(done.stdout) == pytest.approx(float(compiled.current_A.min()), rel=1e-10)
+    assert float(done.stdout) == float(compiled.current_A.min())

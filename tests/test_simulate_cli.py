@@ -176,8 +176,8 @@ def test_series_with_complexed_diffusion_coefficients(tmp_path):
 
 
 def test_cli_series_complexed_diffusion_flag(tmp_path):
-    base = ["--series", "--e-half", "0", "--ligand-M", "0,0.1", "--log-beta-ox", "4",
-            "--step", "0.002"]  # fmt: skip
+    base = ["--series", "--e-half", "0", "--ligand-M", "0,0.1,0.01,0.001", "--log-beta-ox",
+            "4", "--step", "0.002"]  # fmt: skip
     with pytest.raises(InputError) as err:
         run([*base, "--diffusion-ox-complexed", "-1", "--out", str(tmp_path / "a")])
     assert err.value.key == "--diffusion-ox-complexed"

@@ -14,6 +14,7 @@ import sys
 import traceback
 from collections.abc import Sequence
 
+from cvfit.cli.streams import guarded_streams, interrupt_in_this_process
 from cvfit.errors import CvfitError, InputError, OutputError, printable
 from cvfit.version import __version__
 
@@ -32,6 +33,8 @@ NUMERIC_ENVIRONMENT = {
 EXIT_OK = 0
 EXIT_INTERNAL = 1
 EXIT_INPUT = 2
+#: Exit status after Ctrl-C (128 + SIGINT, as shells report it).
+EXIT_INTERRUPTED = 130
 
 
 class _Parser(argparse.ArgumentParser):
@@ -76,16 +79,32 @@ def ignore_file_size_signal() -> None:
         signal.signal(signal.SIGXFSZ, signal.SIG_IGN)
 
 
+#: Printed for ``cvfit`` without a command: the short usage and where the help is.
+NO_COMMAND = (
+    "cvfit: error: <command line>: no command given; usage: cvfit [--version] [--debug] "
+    "{run,demo,simulate,plan} ...; see 'cvfit --help', or 'cvfit COMMAND --help'\n"
+)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the ``cvfit`` console script; returns the exit status."""
     for name, value in NUMERIC_ENVIRONMENT.items():
         os.environ.setdefault(name, value)
     ignore_file_size_signal()
-    parser = build_parser()
-    args = parser.parse_args(argv)
-    if not getattr(args, "handler", None):
-        parser.print_help()
-        return EXIT_INPUT
+    with guarded_streams(), interrupt_in_this_process():
+        try:
+            parser = build_parser()
+            args = parser.parse_args(argv)
+        except KeyboardInterrupt:
+            sys.stderr.write("cvfit: interrupted\n")
+            return EXIT_INTERRUPTED
+        if not getattr(args, "handler", None):
+            sys.stderr.write(NO_COMMAND)
+            return EXIT_INPUT
+        return _run(args)
+
+
+def _run(args: argparse.Namespace) -> int:
     try:
         return int(args.handler(args))
     except (InputError, OutputError) as exc:
@@ -93,8 +112,12 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_INPUT
     except KeyboardInterrupt:
         sys.stderr.write("cvfit: interrupted\n")
-        return 130
+        return EXIT_INTERRUPTED
     except OSError as exc:
+        path_error = InputError.from_path_error(exc)
+        if path_error is not None:
+            sys.stderr.write(f"cvfit: error: {path_error.one_line()}\n")
+            return EXIT_INPUT
         if exc.errno not in ENVIRONMENT_ERRNOS:
             return _internal(exc, debug=args.debug)
         sys.stderr.write(f"cvfit: error: {OutputError.from_os_error(exc).one_line()}\n")

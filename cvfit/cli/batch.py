@@ -140,16 +140,29 @@ def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
         return SeriesOutcome(
             str(manifest_path), str(out_dir), STATUS_OUTPUT, title, error=exc.one_line()
         )
-    except Exception as exc:  # noqa: BLE001 - one broken series must not stop the batch
-        first = str(exc).splitlines()[0] if str(exc) else ""
+    except OSError as exc:
+        path_error = InputError.from_path_error(exc)
+        if path_error is None:
+            return _internal_outcome(manifest_path, out_dir, title, exc)
         return SeriesOutcome(
-            str(manifest_path),
-            str(out_dir),
-            STATUS_INTERNAL,
-            title,
-            error=f"{printable(manifest_path)}: {type(exc).__name__}: {printable(first)}",
+            str(manifest_path), str(out_dir), STATUS_INPUT, title, error=path_error.one_line()
         )
+    except Exception as exc:  # noqa: BLE001 - one broken series must not stop the batch
+        return _internal_outcome(manifest_path, out_dir, title, exc)
     return _outcome(str(manifest_path), str(out_dir), title, result)
+
+
+def _internal_outcome(
+    manifest_path: Path, out_dir: Path, title: str | None, exc: BaseException
+) -> SeriesOutcome:
+    first = str(exc).splitlines()[0] if str(exc) else ""
+    return SeriesOutcome(
+        str(manifest_path),
+        str(out_dir),
+        STATUS_INTERNAL,
+        title,
+        error=f"{printable(manifest_path)}: {type(exc).__name__}: {printable(first)}",
+    )
 
 
 def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOutcome:
@@ -236,10 +249,14 @@ def run_batch(
                 pool.submit(run_series, m, o): k
                 for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True))
             }
-            with tqdm(**bar_kw) as bar:
-                for fut in as_completed(futures):
-                    outcomes[futures[fut]] = fut.result()
-                    bar.update()
+            try:
+                with tqdm(**bar_kw) as bar:
+                    for fut in as_completed(futures):
+                        outcomes[futures[fut]] = fut.result()
+                        bar.update()
+            except BaseException:  # Ctrl-C: the series not started are not started
+                pool.shutdown(wait=True, cancel_futures=True)
+                raise
     return [o for o in outcomes if o is not None]
 
 

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import os
 
-__all__ = ["PARALLEL_MIN_FILES", "default_file_jobs"]
+__all__ = ["PARALLEL_MIN_FILES", "available_cores", "default_file_jobs"]
 
 #: Smallest series whose files go to a pool of workers by default: below it, starting the
 #: workers costs more than they save. Measured with benchmarks/bench_file_stage.py on two
@@ -21,7 +21,8 @@ __all__ = ["PARALLEL_MIN_FILES", "default_file_jobs"]
 PARALLEL_MIN_FILES = 50
 
 
-def _cpus() -> int:
+def available_cores() -> int:
+    """CPU cores this process may run on (the affinity mask where the system has one)."""
     try:
         return max(1, len(os.sched_getaffinity(0)))
     except AttributeError:  # pragma: no cover - platforms without sched_getaffinity
@@ -30,4 +31,4 @@ def _cpus() -> int:
 
 def default_file_jobs(n_files: int) -> int:
     """Processes for the files of an *n_files* series when ``--jobs`` is not given."""
-    return min(_cpus(), n_files) if n_files >= PARALLEL_MIN_FILES else 1
+    return min(available_cores(), n_files) if n_files >= PARALLEL_MIN_FILES else 1

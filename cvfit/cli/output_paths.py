@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from cvfit.errors import InputError
-from cvfit.report.output_names import OUTPUT_NAMES
+from cvfit.report.ownership import resolved_output_folder
 
 __all__ = ["default_out_dir", "check_outputs_spare_inputs"]
 
@@ -15,14 +15,22 @@ def default_out_dir(manifest_path: Path) -> Path:
 
 
 def check_outputs_spare_inputs(out_dir: Path, inputs: list[Path], manifest: Path) -> None:
-    """Refuse an output folder where an output would replace an input file."""
-    protected = {p.resolve() for p in inputs}
-    for name in OUTPUT_NAMES.values():
-        target = (out_dir / name).resolve()
-        if target in protected:
+    """Refuse an output folder that holds an input: the folder is replaced whole, so writing
+    the outputs would overwrite (or remove) the input file.
+
+    Raises
+    ------
+    InputError
+        An input lies in *out_dir*, or *out_dir* is a symbolic link loop.
+    """
+    real_out = resolved_output_folder(out_dir).resolve()
+    for p in inputs:
+        real = p.resolve()
+        if real_out in real.parents:
             raise InputError(
-                f"writing {name} into {out_dir} would overwrite the input file {target}; "
-                "choose another --out folder",
+                f"writing the outputs into {out_dir} would overwrite the input file {real}, "
+                "which lies in that folder (cvfit replaces its output folder whole); choose "
+                "another --out folder",
                 source=str(manifest),
                 key="--out",
             )

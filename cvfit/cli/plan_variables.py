@@ -10,7 +10,9 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+from collections.abc import Callable
 from pathlib import Path
+from typing import Any
 
 from cvfit.errors import InputError
 
@@ -19,8 +21,19 @@ _CMD = "<command line>"
 __all__ = ["handle_variable_plan"]
 
 
-def handle_variable_plan(args: argparse.Namespace, plan_path: Path, out_dir: Path) -> int | None:
-    """Plan a pH or temperature series; None when the plan file plans a ligand titration."""
+def handle_variable_plan(
+    args: argparse.Namespace,
+    plan_path: Path,
+    out_dir: Path,
+    *,
+    check_out: Callable[[Path, Path], None],
+    earlier: Callable[[], Any],
+) -> int | None:
+    """Plan a pH or temperature series; None when the plan file plans a ligand titration.
+
+    *check_out* and *earlier* are ``cvfit plan``'s check of the output folder and its
+    description of an earlier plan set: the folder is handled as a titration plan's.
+    """
     from cvfit.errors import SimulationError
     from cvfit.plan.variables import load_variable_plan, simulate_variable_plan
     from cvfit.report.atomic import atomic_write_text
@@ -28,18 +41,18 @@ def handle_variable_plan(args: argparse.Namespace, plan_path: Path, out_dir: Pat
     plan = load_variable_plan(plan_path)
     if plan is None:
         return None
-    if out_dir.exists() and not out_dir.is_dir():
-        raise InputError(f"--out {out_dir} exists and is not a folder", source=_CMD, key="--out")
-    if (out_dir / "plan.json").resolve() == plan_path.resolve():
-        raise InputError(
-            f"writing plan.json into {out_dir} would overwrite the plan file; choose another "
-            "--out folder",
-            source=_CMD,
-            key="--out",
-        )
-    out_dir.mkdir(parents=True, exist_ok=True)
+    from cvfit.report.atomic import output_set
+
+    check_out(out_dir, plan_path)
     data = {"plan_file": str(plan_path), **plan.to_dict()}
-    atomic_write_text(out_dir / "plan.json", json.dumps(data, indent=2, allow_nan=False) + "\n")
+    try:
+        text = json.dumps(data, indent=2, allow_nan=False) + "\n"
+    except ValueError:
+        raise InputError(
+            "the plan's numbers overflow; give values a series can reach", source=str(plan_path)
+        ) from None
+    with output_set(out_dir, earlier=earlier()) as stage:
+        atomic_write_text(stage / "plan.json", text)
     if not args.quiet:
         sys.stdout.write(plan.table() + "\n\n")
     sys.stdout.write(f"plan written to {out_dir}/ (plan.json)\n")

@@ -12,7 +12,7 @@ import sys
 from collections.abc import Callable, Iterator, Sequence
 from pathlib import Path
 
-from cvfit.cli.file_jobs import PARALLEL_MIN_FILES, default_file_jobs
+from cvfit.cli.file_jobs import PARALLEL_MIN_FILES, available_cores, default_file_jobs
 
 #: Shown under ``cvfit run --help``: where every manifest key is described, and what the
 #: exit status means (the values of :data:`cvfit.cli.EXIT_OK` and its neighbours).
@@ -56,7 +56,8 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="worker processes: for a batch, series run in parallel (default: one per CPU "
         "core, at most one per series); for one series, its files are read and measured by "
         f"N workers (default: one per CPU core from {PARALLEL_MIN_FILES} files on, else "
-        "none); 1 runs everything in this process",
+        "none); 1 runs everything in this process; at most one per CPU core (a larger N is "
+        "cut, with a note)",
     )
     p.add_argument("--quiet", action="store_true", help="print only where results went")
     p.set_defaults(handler=handle)
@@ -122,7 +123,25 @@ def run_manifest(
     return 0
 
 
+def capped_jobs(jobs: int | None) -> int | None:
+    """*jobs* (``--jobs``) at most the CPU cores this process may use, with a note when cut:
+    more processes than cores only share them, and each takes its own memory."""
+    if jobs is None:
+        return None
+    from cvfit.pipeline.per_file import check_jobs
+
+    cores = available_cores()
+    if check_jobs(jobs) > cores:
+        sys.stderr.write(
+            f"cvfit: note: --jobs {jobs} is more than the {cores} CPU core"
+            f"{'s' if cores > 1 else ''} this run may use; using {cores}\n"
+        )
+        return cores
+    return jobs
+
+
 def handle(args: argparse.Namespace) -> int:
+    args.jobs = capped_jobs(args.jobs)
     out = Path(args.out) if args.out else None
     if len(args.manifest) == 1 and not Path(args.manifest[0]).is_dir():
         return run_manifest(Path(args.manifest[0]), out, quiet=args.quiet, jobs=args.jobs)

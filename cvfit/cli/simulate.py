@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import argparse
 import math
+import os
 import sys
 from pathlib import Path
 
@@ -24,11 +25,63 @@ from cvfit.cli.simulate_variables import (
     handle_variable_series,
     wants_variable_series,
 )
-from cvfit.errors import InputError, SimulationError
+from cvfit.errors import InputError, OutputError, SimulationError
 
 _CMD = "<command line>"
 # half-width of the default potential window around the E½ values, V
 _DEFAULT_MARGIN_V = 0.3
+
+#: Most samples one voltammogram may have (cycles × path length / step): its CSV then stays
+#: under the 64 MiB cvfit reads per data file, and it takes some 20 s to write.
+MAX_SAMPLES = 1_000_000
+#: Most files of a series, and most samples of all its files together (some minutes).
+MAX_SERIES_FILES = 5_000
+MAX_SERIES_SAMPLES = 10_000_000
+#: Most points of the simulator's space grid (``cvfit.simulate.voltammogram.MAX_GRID_POINTS``,
+#: repeated here so that the help loads no numerical library; a test holds them equal).
+GRID_POINTS = 1_000
+#: Files with ligand that ``cvfit run`` needs (``cvfit.pipeline.series.MIN_FIT_POINTS``).
+MIN_TITRATION_FILES = 3
+
+#: flag -> (lowest, highest) accepted, in the flag's unit: values a cell can have, wide
+#: enough for any experiment and narrow enough that no number of the simulation overflows.
+BOUNDS = {
+    "--e-half": (-10.0, 10.0),
+    "--start": (-10.0, 10.0),
+    "--switch": (-10.0, 10.0),
+    "--standard-e-half": (-10.0, 10.0),
+    "--electrons": (1, 10),
+    "--scan-rate": (1e-6, 1e6),
+    "--step": (1e-6, 0.1),
+    "--k0": (1e-12, 1e6),
+    "--diffusion": (1e-12, 1.0),
+    "--diffusion-red": (1e-12, 1.0),
+    "--diffusion-ox-complexed": (1e-12, 1.0),
+    "--diffusion-red-complexed": (1e-12, 1.0),
+    "--area": (1e-8, 1e4),
+    "--temperature-C": (0.0, 100.0),
+    "--cdl": (0.0, 1.0),
+    "--slope": (-1.0, 1.0),
+    "--offset": (-1.0, 1.0),
+    "--resistance": (0.0, 1e9),
+    "--noise": (0.0, 10.0),
+    "--ligand-M": (0.0, 20.0),
+    "--log-beta-ox": (-100.0, 100.0),
+    "--log-beta-red": (-100.0, 100.0),
+    "--drift-step": (0.0, 0.1),
+}
+
+SIMULATE_EPILOG = f"""\
+limits (checked before anything is computed):
+  a voltammogram has at most {MAX_SAMPLES:,} samples (cycles x path length / --step), so
+  that cvfit run can read its CSV; a series has at most {MAX_SERIES_FILES:,} files and
+  {MAX_SERIES_SAMPLES:,} samples in all, and none or at least {MIN_TITRATION_FILES} files
+  with ligand (what cvfit run takes); the space grid has at most
+  {GRID_POINTS:,} points (diffusion coefficients 1e-12 to 1 cm2/s keep it under 500);
+  numbers: potentials within +-10 V, --scan-rate 1e-6 to 1e6 V/s, --step 1e-6 to 0.1 V,
+  --temperature-C 0 to 100, --electrons 1 to 10, --ligand-M 0 to 20 mol/L, log10 beta
+  within +-100, --noise at most 10, --resistance at most 1e9 ohm, --cdl at most 1 F.
+"""
 
 
 def _kelvin(celsius: float) -> float:
@@ -43,6 +96,8 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="write a synthetic cyclic voltammogram (or a titration series) as CSV",
         description="Digital simulation of a cyclic voltammogram of a one-step couple; "
         "writes time_s,potential_V,current_A (anodic current positive).",
+        epilog=SIMULATE_EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     a = p.add_argument
     a(
@@ -135,6 +190,19 @@ def _number(text: object, flag: str, *, minimum: float | None = None, strict: bo
     if minimum is not None and (x < minimum or (strict and x == minimum)):
         rel = ">" if strict else ">="
         raise InputError(f"{flag} must be {rel} {minimum:g}, got {text!r}", source=_CMD, key=flag)
+    return _bounded(x, flag)
+
+
+def _bounded(x: float, flag: str) -> float:
+    """*x* when it lies within :data:`BOUNDS` of *flag* (a flag without bounds: any)."""
+    lo, hi = BOUNDS.get(flag, (-math.inf, math.inf))
+    if not lo <= x <= hi:
+        raise InputError(
+            f"{flag} {x:g} is outside what cvfit simulate takes ({lo:g} to {hi:g}); see "
+            "'cvfit simulate --help'",
+            source=_CMD,
+            key=flag,
+        )
     return x
 
 
@@ -169,15 +237,26 @@ def _whole(text: object, flag: str) -> int:
 
 
 def _list(text: str | None, flag: str) -> list[float]:
+    """A comma list of numbers; an empty item (``,,11.3``) is an error, not skipped."""
     if text is None or not str(text).strip():
         return []
-    return [_number(part, flag) for part in str(text).split(",") if part.strip()]
+    parts = str(text).split(",")
+    for k, part in enumerate(parts, start=1):
+        if not part.strip():
+            raise InputError(
+                f"{flag}: item {k} of the list {text!r} is empty; give numbers separated by "
+                "single commas",
+                source=_CMD,
+                key=flag,
+            )
+    return [_number(part, flag) for part in parts]
 
 
 def _settings(args: argparse.Namespace) -> dict:
     electrons = _whole(args.electrons, "--electrons")
     if electrons < 1:
         raise InputError("--electrons must be >= 1", source=_CMD, key="--electrons")
+    _bounded(electrons, "--electrons")
     cycles = _whole(args.cycles, "--cycles")
     if cycles < 1:
         raise InputError("--cycles must be >= 1", source=_CMD, key="--cycles")
@@ -223,6 +302,70 @@ def _window(args: argparse.Namespace, E_lo: float, E_hi: float) -> tuple[float, 
     return start, switch
 
 
+def _check_samples(start: float, switch: list[float], cycles: int, step: float) -> int:
+    """Samples of one voltammogram of this sweep; refused above :data:`MAX_SAMPLES` (before
+    anything is built: ``--cycles 10**12`` would otherwise build its path first)."""
+    path = [start, *switch, start]
+    per_cycle = sum(abs(b - a) for a, b in zip(path, path[1:], strict=False))
+    n = cycles * per_cycle / step + 1
+    if n > MAX_SAMPLES:
+        raise InputError(
+            f"this voltammogram would have {n:.3g} samples ({cycles} cycle(s) of {per_cycle:g} V "
+            f"in steps of {step:g} V), more than the {MAX_SAMPLES:,} cvfit simulate writes; give "
+            "fewer --cycles or a larger --step",
+            source=_CMD,
+            key="--cycles",
+        )
+    return int(n)
+
+
+def _check_series_size(ligands: list[float], samples: int) -> None:
+    """A series that ``cvfit run`` accepts, of a size that takes minutes at most."""
+    with_ligand = sum(x > 0 for x in ligands)
+    if 0 < with_ligand < MIN_TITRATION_FILES:  # none: a run without ligand, which cvfit takes
+        raise InputError(
+            f"--ligand-M lists {with_ligand} concentration(s) above 0; cvfit run fits constants "
+            f"from at least {MIN_TITRATION_FILES} solutions with ligand (and a ligand-free one, "
+            "0, as the reference): add concentrations",
+            source=_CMD,
+            key="--ligand-M",
+        )
+    if len(ligands) > MAX_SERIES_FILES or len(ligands) * samples > MAX_SERIES_SAMPLES:
+        raise InputError(
+            f"a series of {len(ligands)} files of {samples:,} samples is more than cvfit "
+            f"simulate writes ({MAX_SERIES_FILES:,} files, {MAX_SERIES_SAMPLES:,} samples in "
+            "all); give fewer concentrations or a larger --step",
+            source=_CMD,
+            key="--ligand-M",
+        )
+
+
+def _variable_series_size(window: dict, files: int, cycles: int, step: float) -> None:
+    """A pH or temperature series of a size cvfit simulate writes (as a titration's)."""
+    switch = window["switch_V"]
+    switches = list(switch) if isinstance(switch, list) else [switch]
+    samples = _check_samples(window["start_V"], switches, cycles, step)
+    if files > MAX_SERIES_FILES or files * samples > MAX_SERIES_SAMPLES:
+        raise InputError(
+            f"a series of {files} files of {samples:,} samples is more than cvfit simulate "
+            f"writes ({MAX_SERIES_FILES:,} files, {MAX_SERIES_SAMPLES:,} samples in all)",
+            source=_CMD,
+            key="--series",
+        )
+
+
+def _check_writable(folder: Path) -> None:
+    """Refuse a folder that no file can be written into, before the simulation runs."""
+    import tempfile
+
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=".cvfit-check-", dir=folder)
+    except OSError as exc:
+        raise OutputError.from_os_error(exc, str(folder)) from None
+    os.close(fd)
+    os.unlink(tmp)
+
+
 def _out_path(args: argparse.Namespace) -> Path:
     if not args.out:
         what = "a folder" if args.series else "a CSV file name"
@@ -249,12 +392,20 @@ def handle(args: argparse.Namespace) -> int:
         if args.series:
             return _handle_series(args, E_half, settings, noise, seed, out)
         start, switch = _window(args, E_half, E_half)
+        _check_samples(start, switch, settings["cycles"], settings["step_V"])
         if out.exists() and not args.force:
             raise InputError(f"{out} exists; use --force to replace it", source=_CMD, key="--out")
         if out.is_dir():
             raise InputError(
                 f"--out {out} is a folder; give a file name", source=_CMD, key="--out"
             )
+        if out.exists() and not out.is_file():
+            raise InputError(
+                f"--out {out} is not a regular file; give a file name", source=_CMD, key="--out"
+            )
+        if out.parent and not out.parent.is_dir():
+            raise InputError(f"folder {out.parent} does not exist", source=_CMD, key="--out")
+        _check_writable(out.parent)
         vg = simulate_cv(
             E_half_V=E_half,
             start_V=start,
@@ -266,9 +417,10 @@ def handle(args: argparse.Namespace) -> int:
         )
     except SimulationError as exc:
         raise InputError(str(exc), source=_CMD) from None
-    if out.parent and not out.parent.exists():
-        raise InputError(f"folder {out.parent} does not exist", source=_CMD, key="--out")
-    write_voltammogram_csv(vg, out)
+    try:
+        write_voltammogram_csv(vg, out)
+    except OSError as exc:
+        raise OutputError.from_os_error(exc, str(out)) from None
     kinetics = "Nernstian" if settings["k0_cm_s"] is None else f"k0 = {settings['k0_cm_s']:g} cm/s"
     sys.stdout.write(
         f"wrote {out}: {vg.n_points} points, E½ = {E_half:.4f} V, n = {settings['electrons']}, "
@@ -283,7 +435,13 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
     from cvfit.simulate.titration_series import simulate_series
 
     if wants_variable_series(args):  # a pH or a temperature series
-        return handle_variable_series(args, E_half, settings, noise, seed, out, _number, _list)
+
+        def size(window: dict, files: int) -> None:
+            _variable_series_size(window, files, settings["cycles"], settings["step_V"])
+
+        return handle_variable_series(
+            args, E_half, settings, noise, seed, out, _number, _list, size
+        )
     if args.ligand_M is None:
         raise InputError("--series needs --ligand-M LIST", source=_CMD, key="--ligand-M")
     ligands = _list(args.ligand_M, "--ligand-M")
@@ -295,6 +453,11 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
     beta_red = _list(args.log_beta_red, "--log-beta-red")
     if out.exists() and not out.is_dir():
         raise InputError(f"--out {out} exists and is not a folder", source=_CMD, key="--out")
+    for flag, given in (
+        ("--diffusion-ox-complexed", args.diffusion_ox_complexed),
+        ("--diffusion-red-complexed", args.diffusion_red_complexed),
+    ):
+        _optional_positive(given, flag)  # checked before anything is computed
     halves = complexed_half_wave_V(
         E_half,
         ligand_M=ligands,
@@ -308,6 +471,8 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
         standard = _number(args.standard_e_half, "--standard-e-half")
         E_lo, E_hi = min(E_lo, standard), max(E_hi, standard)
     start, switch = _window(args, E_lo, E_hi)
+    samples = _check_samples(start, switch, settings["cycles"], settings["step_V"])
+    _check_series_size(ligands, samples)
     electrons = settings.pop("electrons")
     if args.standard_e_half is not None:
         return _handle_standard_series(
@@ -337,6 +502,8 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
         )
     except SimulationError as exc:
         raise _refused(exc) from None
+    except OSError as exc:
+        raise OutputError.from_os_error(exc, str(out)) from None
     sys.stdout.write(
         f"wrote {manifest} and {len(ligands)} voltammograms: E½ from {min(halves):.4f} to "
         f"{max(halves):.4f} V over ligand {min(ligands):g}–{max(ligands):g} M\n"
@@ -392,6 +559,8 @@ def _handle_standard_series(
         )
     except SimulationError as exc:
         raise _refused(exc) from None
+    except OSError as exc:
+        raise OutputError.from_os_error(exc, str(out)) from None
     sys.stdout.write(
         f"wrote {series.manifest} and {len(ligands)} voltammograms with an internal standard "
         f"at {standard:.4f} V; reference drift from {1e3 * min(series.drift_V):+.2f} to "

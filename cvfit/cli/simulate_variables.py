@@ -57,8 +57,14 @@ def handle_variable_series(
     out: Path,
     number: Callable[..., float],
     numbers: Callable[[str | None, str], list[float]],
+    check_size: Callable[[dict, int], None],
 ) -> int:
-    """Write the pH or temperature series asked for; returns the exit status."""
+    """Write the pH or temperature series asked for; returns the exit status.
+
+    *number* and *numbers* read a number and a comma list of the command line (with their
+    bounds), *check_size* refuses a series too large to write before anything is computed
+    (``cvfit simulate``'s limits).
+    """
     from cvfit.simulate.variable_series import simulate_pH_series, simulate_temperature_series
     from cvfit.units import FARADAY, ZERO_CELSIUS_K
 
@@ -76,8 +82,11 @@ def handle_variable_series(
         if args.pH_values is not None:
             values = numbers(args.pH_values, "--pH-values")
             ox, red = numbers(args.pKa_ox, "--pKa-ox"), numbers(args.pKa_red, "--pKa-red")
+            _within(values, "--pH-values", 0.0, 14.0)
+            _within([*ox, *red], "--pKa-ox/--pKa-red", *PKA_RANGE)
             halves = _proton_halves(E_half, values, ox, red)
             window = _window(args, min(halves), max(halves), number)
+            check_size(window, len(values))
             manifest = simulate_pH_series(
                 out, pH=values, E0_V=E_half, pKa_ox=ox, pKa_red=red, electrons=electrons,
                 title=args.title, noise_fraction=noise, seed=seed, overwrite=bool(args.force),
@@ -88,8 +97,11 @@ def handle_variable_series(
             values = numbers(args.temperatures_C, "--temperatures-C")
             at_C = settings.pop("temperature_K") - ZERO_CELSIUS_K
             entropy = number(args.entropy, "--entropy")
+            _within(values, "--temperatures-C", 0.0, 100.0)
+            _within([entropy], "--entropy", *ENTROPY_RANGE)
             span = abs(entropy) / (electrons * FARADAY) * max(abs(t - at_C) for t in values)
             window = _window(args, E_half - span, E_half + span, number)
+            check_size(window, len(values))
             manifest = simulate_temperature_series(
                 out, temperature_C=values, E_half_V=E_half, entropy_J_mol_K=entropy,
                 at_C=at_C, electrons=electrons, title=args.title, noise_fraction=noise,
@@ -107,6 +119,20 @@ def _proton_halves(E0: float, pH: list[float], ox: list[float], red: list[float]
     from cvfit.chemistry.protonation import proton_half_wave_V
 
     return [float(e) for e in proton_half_wave_V(E0, pH, pKa_ox=ox, pKa_red=red)]
+
+
+#: pKa and reaction entropies (J mol⁻¹ K⁻¹) accepted: wider than any known couple, narrow
+#: enough that nothing of the simulation overflows.
+PKA_RANGE = (-10.0, 30.0)
+ENTROPY_RANGE = (-1000.0, 1000.0)
+
+
+def _within(values: list[float], flag: str, lo: float, hi: float) -> None:
+    if not values or any(not lo <= v <= hi for v in values):
+        raise InputError(
+            f"{flag} must give numbers within {lo:g} to {hi:g}, got {values}", source=_CMD,
+            key=flag,
+        )  # fmt: skip
 
 
 #: The default sweep reaches this far beyond every E½ of the series, V.

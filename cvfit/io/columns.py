@@ -61,11 +61,11 @@ _CYCLE_WORDS = {
 }
 # Words that make a column *not* the quantity itself (a range setting, a rate).
 _NOT_DATA_WORDS = {"range", "gain", "rate", "control", "mode", "flag", "status", "ox", "red"}
-# Qualifiers that make a potential/current column a second choice.
-_SECOND_CHOICE = {"applied", "set", "setpoint", "program", "programmed", "nominal"}
+# Qualifiers of a column that holds what the electrode had (first choice), what the
+# instrument was told to apply (second), and other electrodes or channels (third).
+_MEASURED = {"measured", "meas", "we", "working", "actual", "recorded", "sensed", "read"}
+_APPLIED = {"applied", "set", "setpoint", "program", "programmed", "nominal", "imposed"}
 _THIRD_CHOICE = {
-    "measured",
-    "meas",
     "density",
     "ref",
     "reference",
@@ -82,6 +82,9 @@ _REFERENCE_PART = re.compile(r"\bvs\.?\s*[^()\[\]]*?\s*(?=[()\[\]]|$)", re.IGNOR
 _BRACKETED = re.compile(r"^(?P<name>.*?)\s*(?:\((?P<p>[^()]*)\)|\[(?P<b>[^\[\]]*)\])\s*$")
 _SLASHED = re.compile(r"^(?P<name>[^/]*?)\s*/\s*(?P<u>[^/]+?)\s*$")
 _WORD = re.compile(r"[a-z0-9#]+")
+# A unit-like last word with an SI prefix cvfit has no factor for (``kA``, ``fA``, ``GV``):
+# read as a unit, so that it is refused rather than taken for the base unit.
+_PREFIXED_UNIT = re.compile(r"^(?:[yzafpnuµμmcdkMGT]|da)[VA]$")
 
 
 @dataclass(frozen=True)
@@ -99,8 +102,13 @@ class ColumnLabel:
     unit_text : str or None
         The unit as written, also when it is not one cvfit knows.
     rank : int
-        0 for a plain label (``E/V``), higher for qualified ones (``Potential applied``,
-        ``Potential measured``) that are used only when no plainer column exists.
+        Lower is chosen first: a column qualified as measured (``Potential measured``,
+        ``WE potential``) before a plain one (``E/V``), before one qualified as applied
+        (``Potential applied``), before another electrode's or channel's (``Ece``,
+        ``Analog IN``); within each, a label that names the quantity before one whose
+        unit alone says it.
+    qualifier : {"measured", "applied"} or None
+        What the label says the column is, when it says.
     """
 
     text: str
@@ -108,6 +116,7 @@ class ColumnLabel:
     unit: str | None
     unit_text: str | None
     rank: int
+    qualifier: str | None = None
 
 
 # A unit per area (current density: "mA cm-2", "µA/cm²") is not a current unit.
@@ -144,31 +153,37 @@ def _name_role(words: set[str], joined: str) -> Role | None:
     return "other" if roles else None
 
 
-def parse_label(label: str) -> ColumnLabel:
+def _split_unit(core: str, bare_unit: bool) -> tuple[str, str | None]:
+    """(name, unit as written) of a label without its reference-electrode note."""
+    match = _BRACKETED.match(core)
+    if match:
+        return match["name"], match["p"] if match["p"] is not None else match["b"]
+    slashed = _SLASHED.match(core)
+    if slashed:
+        return slashed["name"], slashed["u"]
+    parts = core.replace("_", " ").split()
+    if len(parts) >= 2 and (_unit_role(parts[-1]) is not None or _PREFIXED_UNIT.match(parts[-1])):
+        return " ".join(parts[:-1]), parts[-1]
+    if len(parts) == 1 and _unit_role(parts[0]) is not None and (len(parts[0]) > 1 or bare_unit):
+        # A bare unit such as "mV" or "µA"; single letters (E, I, t) are names, unless
+        # every label of the header is a unit (a header "V, µA").
+        return "", parts[0]
+    return core, None
+
+
+def parse_label(label: str, *, bare_unit: bool = False) -> ColumnLabel:
     """Read the quantity and unit a header label names.
 
     The unit comes from a trailing ``(…)``/``[…]`` group, else from a ``/unit`` suffix,
-    else from a last word that is a unit (``Current µA``), else from the whole label
-    (a bare ``mV``). A reference-electrode note (``vs Ag/AgCl``) is ignored. When the
-    name and a known unit disagree on the quantity, the column counts as ``other``.
+    else from a last word that is a unit (``Current µA``, ``current_kA``), else from the
+    whole label (a bare ``mV``; with *bare_unit*, also a one-letter ``V`` or ``A``, for a
+    header whose every label is a unit). A reference-electrode note (``vs Ag/AgCl``) is
+    ignored. When the name and a known unit disagree on the quantity, the column counts
+    as ``other``.
     """
     text = label.strip().strip("\"'").strip()
     core = _REFERENCE_PART.sub("", text).strip()
-    name, unit_text = core, None
-    match = _BRACKETED.match(core)
-    if match:
-        name, unit_text = match["name"], match["p"] if match["p"] is not None else match["b"]
-    else:
-        slashed = _SLASHED.match(core)
-        if slashed:
-            name, unit_text = slashed["name"], slashed["u"]
-        else:
-            parts = core.replace("_", " ").split()
-            if len(parts) >= 2 and _unit_role(parts[-1]) is not None:
-                name, unit_text = " ".join(parts[:-1]), parts[-1]
-            elif len(parts) == 1 and _unit_role(parts[0]) is not None and len(parts[0]) > 1:
-                # A bare unit such as "mV" or "µA"; single letters (E, I, t) are names.
-                name, unit_text = "", parts[0]
+    name, unit_text = _split_unit(core, bare_unit)
     unit_text = unit_text.strip() if unit_text is not None else None
     if unit_text == "":
         unit_text = None
@@ -183,11 +198,15 @@ def parse_label(label: str) -> ColumnLabel:
         role = by_unit[0]
     else:
         role = "other"
-    # Qualified labels rank below plain ones; a label whose words do not name the
-    # quantity (only its unit does) ranks below one that names it.
-    level = 2 if words & _THIRD_CHOICE else 1 if words & _SECOND_CHOICE else 0
+    qualifier = (
+        None if words & _THIRD_CHOICE else "applied" if words & _APPLIED
+        else "measured" if words & _MEASURED else None
+    )  # fmt: skip
+    level = 3 if words & _THIRD_CHOICE else {"measured": 0, None: 1, "applied": 2}[qualifier]
     rank = 2 * level + (0 if by_name == role else 1)
-    return ColumnLabel(text=text, role=role, unit=unit, unit_text=unit_text, rank=rank)
+    return ColumnLabel(
+        text=text, role=role, unit=unit, unit_text=unit_text, rank=rank, qualifier=qualifier
+    )
 
 
 def is_unit(text: str) -> bool:

@@ -136,6 +136,12 @@ class SeriesSettings:
     analyte_window_V : (float, float) or None
         Potential range of the analyte's wave, V, when a file holds two waves (with an
         ``[internal_standard]``); its peaks are measured there only.
+    bulk_form : {"ox", "red"} or None
+        The form present in the solution, for the curve model's initial state (None:
+        detected from each record's start).
+    quiet_time_s : float or None
+        Time the electrode was held at the first recorded potential before the record, s
+        (None: from the time column where it shows a hold, else an assumed 2 s).
     """
 
     title: str = ""
@@ -158,6 +164,8 @@ class SeriesSettings:
     alpha: float = 0.5
     resistance_ohm: float | None = None
     analyte_window_V: tuple[float, float] | None = None
+    bulk_form: str | None = None
+    quiet_time_s: float | None = None
 
     def __post_init__(self) -> None:
         _chem.clean_series(self)

@@ -15,7 +15,8 @@ __all__ = ["SERIES_ELECTRODE_KEYS", "ENTRY_ELECTRODE_KEYS", "clean_series", "pos
 
 #: [series] keys: electrode area (cm²), bulk concentration of the electroactive species
 #: (mol/L), a known diffusion coefficient and its standard error (cm²/s), the transfer
-#: coefficient assumed, and the uncompensated resistance (Ω).
+#: coefficient assumed, the uncompensated resistance (Ω), and the curve model's initial
+#: state: the form in the bulk and the quiet time at the first potential (s).
 SERIES_ELECTRODE_KEYS = (
     "electrode_area_cm2",
     "analyte_M",
@@ -23,7 +24,13 @@ SERIES_ELECTRODE_KEYS = (
     "diffusion_stderr_cm2_s",
     "alpha",
     "resistance_ohm",
+    "bulk_form",
+    "quiet_time_s",
 )
+#: What ``bulk_form`` may say.
+BULK_FORMS = ("ox", "red")
+#: Longest quiet time accepted, s (common practice: seconds to a minute; an hour is a typo).
+MAX_QUIET_TIME_S = 3600.0
 #: [[voltammogram]] keys that override the series value for one file.
 ENTRY_ELECTRODE_KEYS = ("resistance_ohm",)
 
@@ -68,3 +75,16 @@ def clean_series(s: object) -> None:
         raise InputError(f"alpha must lie strictly between 0 and 1, got {a:g}", key="alpha")
     put(s, "alpha", a)
     put(s, "resistance_ohm", positive(s.resistance_ohm, "resistance_ohm", "Ω", allow_zero=True))
+    if s.bulk_form is not None and s.bulk_form not in BULK_FORMS:
+        raise InputError(
+            f'bulk_form must be "ox" or "red" (the form present in the solution), got '
+            f"{s.bulk_form!r}; leave it out to detect it from the record's start",
+            key="bulk_form",
+        )
+    quiet = positive(s.quiet_time_s, "quiet_time_s", "s", allow_zero=True)
+    if quiet is not None and quiet > MAX_QUIET_TIME_S:
+        raise InputError(
+            f"quiet_time_s must be at most {MAX_QUIET_TIME_S:g} s, got {quiet:g}",
+            key="quiet_time_s",
+        )
+    put(s, "quiet_time_s", quiet)

@@ -18,6 +18,9 @@ __all__ = ["INTERNAL_STANDARD_KEYS", "InternalStandard", "potential_window", "wi
 
 #: Keys of the ``[internal_standard]`` table.
 INTERNAL_STANDARD_KEYS = ("window_V", "E_half_V", "electrons")
+#: Largest magnitude of the E½ assigned to the standard, V (electrode potentials in any
+#: solvent lie within a few volts).
+MAX_ABS_POTENTIAL_V = 10.0
 
 
 def potential_window(value: object, key: str) -> tuple[float, float] | None:
@@ -74,6 +77,12 @@ class InternalStandard:
         e = self.E_half_V
         if isinstance(e, bool) or not isinstance(e, int | float) or not math.isfinite(float(e)):
             raise InputError(f"E_half_V must be a finite number (V), got {e!r}", key="E_half_V")
+        if not abs(float(e)) <= MAX_ABS_POTENTIAL_V:  # 1e308 overflows the error budget
+            raise InputError(
+                f"E_half_V must lie within ±{MAX_ABS_POTENTIAL_V:g} V (the standard's E½ on the "
+                f"reported scale), got {float(e):g}",
+                key="E_half_V",
+            )
         object.__setattr__(self, "E_half_V", float(e))
         n = self.electrons
         if isinstance(n, float) and n.is_integer():

@@ -3,14 +3,21 @@
 from __future__ import annotations
 
 import os
-from dataclasses import dataclass
 
 import numpy as np
 
 from cvfit.errors import InputError
-from cvfit.io.columns import ColumnLabel, parse_label, time_scale
+from cvfit.io.checks import (
+    check_finite,
+    glitch_note,
+    padding_rows,
+    scan_rate_notes,
+    unit_doubt_note,
+)
+from cvfit.io.choice import Columns, choose_columns
+from cvfit.io.columns import ColumnLabel, time_scale
 from cvfit.io.limits import MAX_DATA_FILE_BYTES, check_line_lengths, read_regular_file
-from cvfit.io.options import ImportOptions
+from cvfit.io.options import CURRENT_UNIT_NAMES, POTENTIAL_UNIT_NAMES, ImportOptions
 from cvfit.io.table import NumericTable, read_table_text
 from cvfit.io.text import decode_bytes
 from cvfit.units import CURRENT_UNITS, POTENTIAL_UNITS, normalise_unit
@@ -18,213 +25,58 @@ from cvfit.voltammogram import MIN_POINTS, Voltammogram
 
 __all__ = ["read_voltammogram", "parse_voltammogram_text", "parse_voltammogram_bytes"]
 
-_ROLE_OPTION = {
-    "potential": "potential_column",
-    "current": "current_column",
-    "time": "time_column",
-}
-
-
-@dataclass(frozen=True)
-class _Columns:
-    potential: int
-    current: int
-    time: int | None
-    labels: tuple[ColumnLabel, ...] | None
-    notes: dict[str, str]
-
-
-def _describe(table: NumericTable) -> str:
-    if table.header is None:
-        return f"{table.values.shape[1]} unlabelled columns (no header row)"
-    return "columns found: " + ", ".join(repr(h) for h in table.header)
-
-
-def _norm(text: str) -> str:
-    return " ".join(text.casefold().split())
-
-
-def _resolve(spec: str | int, role: str, table: NumericTable, source: str) -> int:
-    """Index of a column asked for by header text or 0-based index."""
-    ncols = table.values.shape[1]
-    option = _ROLE_OPTION[role]
-    if isinstance(spec, int):
-        if spec < ncols:
-            return spec
-        raise InputError(
-            f"{option} = {spec} but the file has only {ncols} columns (indices 0–{ncols - 1}); "
-            f"{_describe(table)}",
-            source=source,
-            key=option,
-        )
-    if table.header is None:
-        raise InputError(
-            f"{option} = {spec!r} but the file has no header row; give a 0-based column "
-            f"index instead ({_describe(table)})",
-            source=source,
-            key=option,
-        )
-    wanted = _norm(spec)
-    for k, label in enumerate(table.header):
-        if _norm(label) == wanted:
-            return k
-    raise InputError(
-        f"{option} = {spec!r} is not a column of this file; {_describe(table)}",
-        source=source,
-        key=option,
-    )
-
-
-def _is_counter(column: np.ndarray) -> bool:
-    """Integer-valued, non-decreasing and either a point counter or a cycle number."""
-    finite = column[np.isfinite(column)]
-    if finite.size < 2 or np.any(finite != np.round(finite)) or np.any(np.diff(finite) < 0):
-        return False
-    steps = np.diff(finite)
-    return bool(np.all(steps == 1) or np.unique(finite).size <= max(1, finite.size // 5))
-
-
-def _non_decreasing(column: np.ndarray) -> bool:
-    finite = column[np.isfinite(column)]
-    return finite.size >= 2 and bool(np.all(np.diff(finite) >= 0)) and finite[-1] > finite[0]
-
-
-def _positional(table: NumericTable, reason: str, source: str) -> _Columns:
-    values = table.values
-    ncols = values.shape[1]
-    usable = [k for k in range(ncols) if not np.all(np.isnan(values[:, k]))]
-    skipped = [k for k in usable if _is_counter(values[:, k])]
-    skipped_set = set(skipped)  # a list here made a 30 000-column file take minutes
-    data = [k for k in usable if k not in skipped_set]
-    if len(data) < 2:
-        raise InputError(
-            f"found {len(data)} numeric data column(s) ({reason}); a voltammogram needs a "
-            "potential and a current column",
-            source=source,
-        )
-    if len(data) >= 3 and _non_decreasing(values[:, data[0]]):
-        t, e, i = data[0], data[1], data[2]
-        roles = f"time (s) = column {t + 1}, potential (V) = column {e + 1}, "
-    else:
-        t, e, i = None, data[0], data[1]
-        roles = f"potential (V) = column {e + 1}, "
-    roles += f"current (A) = column {i + 1}"
-    if skipped:
-        roles += "; counter/cycle column(s) " + ", ".join(str(k + 1) for k in skipped) + " skipped"
-    return _Columns(e, i, t, None, {"import.assumed_columns": f"{reason}: {roles}"})
-
-
-def _best(labels: tuple[ColumnLabel, ...], role: str, taken: set[int]) -> int | None:
-    found = [(lab.rank, k) for k, lab in enumerate(labels) if lab.role == role and k not in taken]
-    return min(found)[1] if found else None
-
-
-def _choose_columns(table: NumericTable, options: ImportOptions, source: str) -> _Columns:
-    explicit = {
-        role: _resolve(spec, role, table, source)
-        for role in ("potential", "current", "time")
-        if (spec := getattr(options, _ROLE_OPTION[role])) is not None
-    }
-    if table.header is None:
-        if "potential" in explicit and "current" in explicit:
-            return _Columns(
-                explicit["potential"], explicit["current"], explicit.get("time"), None, {}
-            )
-        if explicit:
-            raise InputError(
-                "the file has no header row; give both potential_column and current_column "
-                f"as 0-based indices ({_describe(table)})",
-                source=source,
-                key="potential_column" if "potential" not in explicit else "current_column",
-            )
-        return _positional(table, "no header row", source)
-    labels = tuple(parse_label(h) for h in table.header)
-    chosen: dict[str, int | None] = dict(explicit)
-    taken = set(explicit.values())
-    for role in ("potential", "current", "time"):
-        if role not in chosen:
-            chosen[role] = _best(labels, role, taken)
-            if chosen[role] is not None:
-                taken.add(chosen[role])
-    notes: dict[str, str] = {}
-    if chosen["potential"] is None and chosen["current"] is None and not explicit:
-        return _positional(table, "header labels not recognised", source)
-    for role in ("potential", "current"):
-        if chosen[role] is None:
-            raise InputError(
-                f"no {role} column recognised; set {_ROLE_OPTION[role]} in [import] "
-                f"({_describe(table)})",
-                source=source,
-                key=_ROLE_OPTION[role],
-            )
-    others = [
-        lab.text
-        for k, lab in enumerate(labels)
-        if lab.role == "potential" and k != chosen["potential"]
-    ]
-    if others:
-        notes["import.other_potential_columns"] = ", ".join(others)
-    cycles = [lab.text for lab in labels if lab.role == "cycle"]
-    if cycles:
-        notes["import.cycle_columns"] = ", ".join(cycles)
-    return _Columns(chosen["potential"], chosen["current"], chosen["time"], labels, notes)
-
 
 def _scale(
     kind: str, option: str | None, label: ColumnLabel | None, table: dict, source: str
 ) -> tuple[float, str]:
-    """Scale factor to SI and the unit used, from the option, the label, else the SI unit."""
+    """Scale factor to SI and the unit used, from the option, the label, else the SI unit.
+
+    The label's unit counts when it is a unit of *kind*, whatever its words say (a column
+    the manifest names as the potential may be labelled ``V``); a unit of another
+    quantity, or one cvfit has no factor for (``kA``), is refused.
+    """
+    known = label.unit if label is not None and label.unit in table else None
     if option is not None:
         factor = table[normalise_unit(option)]
-        if (
-            label is not None
-            and label.role == kind
-            and label.unit is not None
-            and table[label.unit] != factor
-        ):
+        if label is not None and known is not None and table[known] != factor:
             raise InputError(
-                f"column {label.text!r}: its label says {label.unit_text or label.unit!r} but "
+                f"column {label.text!r}: its label says {label.unit_text or known!r} but "
                 f"{kind}_unit in [import] says {option!r}; correct or remove {kind}_unit",
                 source=source,
                 key=f"{kind}_unit",
             )
         return factor, option
-    if label is not None and label.role == kind and label.unit is not None:
-        return table[label.unit], label.unit_text or label.unit
+    if label is not None and known is not None:
+        return table[known], label.unit_text or known
     if label is not None and label.unit_text is not None:
-        raise InputError(
-            f"column {label.text!r}: unit {label.unit_text!r} is not a {kind} unit cvfit "
-            f"knows; set {kind}_unit in [import] (one of {', '.join(sorted(table))})",
-            source=source,
-            key=f"{kind}_unit",
-        )
+        raise _unit_error(kind, label, source)
     return 1.0, "V (assumed)" if kind == "potential" else "A (assumed)"
 
 
-def _check_finite(column: np.ndarray, table: NumericTable, k: int, source: str) -> None:
-    bad = ~np.isfinite(column)
-    if np.any(bad):
-        row = int(np.argmax(bad))
-        name = repr(table.header[k]) if table.header else f"{k + 1}"
-        raise InputError(
-            f"column {k + 1} ({name}) is empty, NaN or infinite here; fix or delete the line",
+def _unit_error(kind: str, label: ColumnLabel, source: str) -> InputError:
+    names = POTENTIAL_UNIT_NAMES if kind == "potential" else CURRENT_UNIT_NAMES
+    spelled = ", ".join(n for n in names if n not in ("uA", "\u03bcA"))
+    if label.unit is not None:  # a unit of another quantity
+        return InputError(
+            f"column {label.text!r} is in {label.unit_text!r}, which is not a {kind} unit; "
+            f"check {kind}_column in [import]",
             source=source,
-            line=int(table.line_numbers[row]),
+            key=f"{kind}_column",
         )
+    return InputError(
+        f"column {label.text!r}: unit {label.unit_text!r} is not one cvfit reads for a {kind} "
+        f"({spelled}); convert the column to one of these, or set {kind}_unit in [import] "
+        "if the label is wrong",
+        source=source,
+        key=f"{kind}_unit",
+    )
 
 
-def _build(
-    table: NumericTable,
-    options: ImportOptions,
-    source: str,
-    scan_rate_V_s,
-    extra: dict[str, str] | None = None,
-) -> Voltammogram:
-    cols = _choose_columns(table, options, source)
+def _units(cols: Columns, options: ImportOptions, source: str) -> tuple[float, str, float, str]:
     labels = cols.labels
 
-    def lab(k):
-        return labels[k] if labels is not None and k is not None else None
+    def lab(k: int) -> ColumnLabel | None:
+        return labels[k] if labels is not None else None
 
     e_scale, e_unit = _scale(
         "potential", options.potential_unit, lab(cols.potential), POTENTIAL_UNITS, source
@@ -232,64 +84,127 @@ def _build(
     i_scale, i_unit = _scale(
         "current", options.current_unit, lab(cols.current), CURRENT_UNITS, source
     )
-    lines = table.line_numbers
+    return e_scale, e_unit, i_scale, i_unit
+
+
+def _rows(table: NumericTable, cols: Columns, source: str) -> tuple[np.ndarray, np.ndarray,
+                                                                      dict[str, str]]:  # fmt: skip
+    """The data rows (padding skipped) as (values, line numbers, notes)."""
+    values, lines = table.values, table.line_numbers
+    notes: dict[str, str] = {}
+    if table.has_empty:
+        keep, note = padding_rows(values[:, cols.potential], values[:, cols.current], lines)
+        if keep is not None and note is not None:
+            values, lines = values[keep], lines[keep]
+            notes["import.padding_rows"] = note
     n = lines.size
     if n < MIN_POINTS:
+        where = f" (lines {lines[0]}–{lines[-1]})" if n else ""
         raise InputError(
-            f"only {n} data row(s) (lines {lines[0]}–{lines[-1]}); a voltammogram needs at "
-            f"least {MIN_POINTS} points",
+            f"only {n} data row(s){where}; a voltammogram needs at least {MIN_POINTS} points",
             source=source,
-            line=int(lines[0]),
+            line=int(lines[0]) if n else None,
         )
     for k in (cols.potential, cols.current):
-        _check_finite(table.values[:, k], table, k, source)
-    E = table.values[:, cols.potential] * e_scale
-    i = table.values[:, cols.current] * i_scale
+        check_finite(values[:, k], _name(table, k), k, lines, source)
+    return values, lines, notes
+
+
+def _name(table: NumericTable, k: int | None) -> str:
+    if k is None:
+        return ""
+    return repr(table.header[k]) if table.header else f"column {k + 1}"
+
+
+def _time(
+    table: NumericTable,
+    values: np.ndarray,
+    lines: np.ndarray,
+    cols: Columns,
+    options: ImportOptions,
+    source: str,
+) -> tuple[np.ndarray | None, dict[str, str]]:
+    if cols.time is None:
+        return None, {}
+    label = cols.labels[cols.time] if cols.labels is not None else None
+    unit = label.unit if label is not None and label.role == "time" and label.unit else "s"
+    t = values[:, cols.time] * time_scale(unit)
+    finite = np.isfinite(t)
+    back = np.nonzero(t[1:] < t[:-1])[0] if np.all(finite) else np.array([], dtype=int)
+    if np.all(finite) and not back.size:
+        return t, {"import.time_unit": unit}
+    if options.time_column is not None:
+        check_finite(values[:, cols.time], _name(table, cols.time), cols.time, lines, source)
+        raise InputError(
+            "the time column decreases here; check time_column",
+            source=source,
+            line=int(lines[back[0] + 1]),
+            key="time_column",
+        )
+    return None, {"import.time_ignored": "time column not increasing or incomplete; not used"}
+
+
+def _column_notes(
+    table: NumericTable, cols: Columns, e_unit: str, i_unit: str, timed: bool
+) -> dict[str, str]:
+    def describe(k: int) -> str:
+        return table.header[k] if table.header else f"column {k + 1}"
+
+    notes = {
+        "import.potential_column": describe(cols.potential),
+        "import.current_column": describe(cols.current),
+        "import.potential_unit": e_unit,
+        "import.current_unit": i_unit,
+    }
+    if timed and cols.time is not None:
+        notes["import.time_column"] = describe(cols.time)
+    label = cols.labels[cols.potential] if cols.labels is not None else None
+    if label is not None and label.qualifier is not None:
+        notes["import.potential_kind"] = label.qualifier
+    return notes
+
+
+def _build(
+    table: NumericTable,
+    options: ImportOptions,
+    source: str,
+    scan_rate_V_s: float | None,
+    extra: dict[str, str] | None = None,
+) -> Voltammogram:
+    cols = choose_columns(table, options, source)
+    e_scale, e_unit, i_scale, i_unit = _units(cols, options, source)
+    values, lines, notes = _rows(table, cols, source)
+    E = values[:, cols.potential] * e_scale
+    i = values[:, cols.current] * i_scale
     if options.anodic_current == "negative":
         np.negative(i, out=i)  # i is this function's own array
-    notes = dict(table.notes)
-    notes.update(cols.notes)
-    if float(np.ptp(E)) <= 0.0:
-        name = repr(table.header[cols.potential]) if table.header else str(cols.potential + 1)
+    span = float(np.ptp(E))
+    if span <= 0.0:
         raise InputError(
-            f"the potential (column {name}) does not change (flat at {E[0]:g} V over lines "
-            f"{lines[0]}–{lines[-1]}); check potential_column",
+            f"the potential (column {_name(table, cols.potential)}) does not change (flat at "
+            f"{E[0]:g} V over lines {lines[0]}–{lines[-1]}); check potential_column",
             source=source,
             line=int(lines[0]),
         )
-    t = None
-    if cols.time is not None:
-        label = lab(cols.time)
-        unit = label.unit if label is not None and label.role == "time" and label.unit else "s"
-        t = table.values[:, cols.time] * time_scale(unit)
-        finite = np.isfinite(t)
-        back = np.nonzero(t[1:] < t[:-1])[0] if np.all(finite) else np.array([], dtype=int)
-        if not np.all(finite) or back.size:
-            if options.time_column is not None:
-                _check_finite(table.values[:, cols.time], table, cols.time, source)
-                raise InputError(
-                    "the time column decreases here; check time_column",
-                    source=source,
-                    line=int(lines[back[0] + 1]),
-                    key="time_column",
-                )
-            notes["import.time_ignored"] = "time column not increasing or incomplete; not used"
-            t = None
-        else:
-            notes["import.time_unit"] = unit
-
-    def describe(k):
-        return table.header[k] if table.header else f"column {k + 1}"
-
-    notes["import.potential_column"] = describe(cols.potential)
-    notes["import.current_column"] = describe(cols.current)
-    if t is not None:
-        notes["import.time_column"] = describe(cols.time)
-    notes["import.potential_unit"] = e_unit
-    notes["import.current_unit"] = i_unit
-    notes["import.anodic_current"] = options.anodic_current or "positive"
+    t, time_notes = _time(table, values, lines, cols, options, source)
     metadata = dict(table.metadata)
+    metadata.update(table.notes)
+    metadata.update(cols.notes)
     metadata.update(notes)
+    metadata.update(time_notes)
+    metadata.update(_column_notes(table, cols, e_unit, i_unit, t is not None))
+    metadata["import.anodic_current"] = options.anodic_current or "positive"
+    for key, note in (
+        ("import.potential_glitches", glitch_note(E, lines)),
+        (
+            "import.potential_unit_doubt",
+            unit_doubt_note(span, _name(table, cols.potential), e_unit),
+        ),
+    ):
+        if note is not None:
+            metadata[key] = note
+    scan_rate_V_s, rate_notes = scan_rate_notes(metadata, scan_rate_V_s, E, t)
+    metadata.update(rate_notes)
     metadata.update(extra or {})
     # the record takes read-only arrays of their own without copying them again
     for column in (E, i, t):
@@ -357,9 +272,10 @@ def _parse_text(
         raise InputError(
             "the file is empty; export the voltammogram as delimited text", source=source
         )
-    # A typographic minus (U+2212) appears in some localised exports.
+    # A typographic minus (U+2212) appears in some localised exports; a byte-order mark
+    # (U+FEFF) inside the text (a last line of only a mark) is no character of the data.
     table = read_table_text(
-        text.replace("\u2212", "-"),
+        text.replace("\u2212", "-").replace("\ufeff", ""),
         source=source,
         delimiter=opts.delimiter,
         decimal=opts.decimal,

@@ -7,7 +7,6 @@ it refuses are the lines scanned one by one to name the bad cell.
 from __future__ import annotations
 
 import io
-import re
 import warnings
 from dataclasses import dataclass, field
 
@@ -15,20 +14,19 @@ import numpy as np
 import pandas as pd
 
 from cvfit.errors import InputError
-from cvfit.io.columns import is_unit
+from cvfit.io.cells import (
+    DELIMITER_NAMES,
+    NOT_TAB,
+    cell_value,
+    is_number,
+    parse_number,
+    split_cells,
+)
+from cvfit.io.diagnose import locate_bad_cell, no_rows
+from cvfit.io.layout import SAMPLE, Layout, find_data_start, header_of, layout, metadata_of
 from cvfit.io.text import head_lines, split_lines
 
 __all__ = ["NumericTable", "read_table", "read_table_text"]
-
-_SPECIAL = re.compile(r"(?i)\b(?:nan|[+-]?inf(?:inity)?)\b")
-_NUMERIC_LINE = re.compile(r"^[\d\s.,;+\-eE\"']*$")
-_KEY_VALUE = re.compile(r"^\s*(?P<key>[^:=]*[^:=\s])\s*[:=]\s*(?P<value>.*?)\s*$")
-_CELL_DOT = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
-_CELL_COMMA = re.compile(r"^[+-]?(?:\d+,?\d*|,\d+)(?:[eE][+-]?\d+)?$")
-_CELL_SPECIAL = re.compile(r"(?i)^[+-]?(?:nan|inf|infinity)$")
-_COMMENT_MARK = re.compile(r"^\s*(?:#+|%+|//)\s*")  # "# E/V  I/A" style header rows
-_SAMPLE = 200
-_NAMES = {",": "comma", ";": "semicolon", "\t": "tab", "whitespace": "whitespace"}
 
 
 @dataclass(frozen=True)
@@ -52,6 +50,8 @@ class NumericTable:
         the decimal mark.
     notes : dict
         Remarks on how the table was read, for the voltammogram's metadata.
+    has_empty : bool
+        Whether any cell of ``values`` is NaN (an empty cell, or padding rows).
     """
 
     values: np.ndarray
@@ -62,194 +62,10 @@ class NumericTable:
     delimiter: str
     decimal: str
     notes: dict[str, str] = field(default_factory=dict)
+    has_empty: bool = False
 
 
-def _is_numeric_line(line: str) -> bool:
-    stripped = _SPECIAL.sub("0", line)
-    return bool(_NUMERIC_LINE.match(stripped)) and any(ch.isdigit() for ch in stripped)
-
-
-def _find_data_start(lines: list[str]) -> int | None:
-    """Index of the first numeric line that two more numeric lines follow (or end the file)."""
-    first = None
-    for k, line in enumerate(lines):
-        if not line.strip() or not _is_numeric_line(line):
-            continue
-        if first is None:
-            first = k
-        following = [ln for ln in lines[k + 1 : k + 20] if ln.strip()][:2]
-        if all(_is_numeric_line(ln) for ln in following):
-            return k
-    return first
-
-
-def _split(line: str, delimiter: str) -> list[str]:
-    if delimiter == "whitespace":
-        return line.split()
-    return [cell.strip() for cell in line.strip().split(delimiter)]
-
-
-def _sniff_delimiter(sample: list[str]) -> str:
-    need = 0.9 * len(sample)
-    for d in ("\t", ";"):
-        if sum(d in ln for ln in sample) >= need:
-            return d
-    if sum("," in ln for ln in sample) >= need:
-        # "1,5 2,3" is whitespace-separated decimal-comma numbers; "1.5,2.3" is CSV.
-        decimal_comma_ws = all(
-            len(cells) >= 2 and all(_CELL_COMMA.match(c.strip("\"'")) for c in cells)
-            for cells in (ln.split() for ln in sample)
-        )
-        return "whitespace" if decimal_comma_ws else ","
-    return "whitespace"
-
-
-def _sniff_decimal(sample: list[str], delimiter: str) -> str:
-    if delimiter == ",":
-        return "."
-    text = "\n".join(sample)
-    return "," if text.count(",") > text.count(".") else "."
-
-
-def _split_header(line: str, delimiter: str, ncols: int) -> list[str]:
-    """Header labels; for whitespace files, re-join unit groups split at blanks."""
-    if delimiter != "whitespace":
-        return _split(line, delimiter)
-    wide = [c.strip() for c in re.split(r"\t|\s{2,}", line.strip()) if c.strip()]
-    if len(wide) == ncols:
-        return wide
-    labels: list[str] = []
-    for token in line.split():
-        if labels and (token[0] in "([/" or labels[-1].endswith("/") or token.lower() == "vs"):
-            labels[-1] = f"{labels[-1]} {token}"
-        else:
-            labels.append(token)
-    return labels
-
-
-def _join_units_row(
-    header: tuple[str, ...], lines: list[str], header_idx: int, delimiter: str
-) -> tuple[str, ...]:
-    """``Potential,Current`` above ``V,mA`` becomes ``Potential (V)``, ``Current (mA)``."""
-    if not all(not lab or is_unit(lab) for lab in header) or not any(header):
-        return header
-    above = [k for k in range(header_idx) if lines[k].strip()]
-    if not above:
-        return header
-    names = [
-        n.strip().strip("\"'").strip()
-        for n in _split_header(lines[above[-1]], delimiter, len(header))
-    ]
-    if len(names) != len(header) or any(is_unit(n) for n in names if n):
-        return header
-    return tuple(f"{n} ({u})" if n and u else n or u for n, u in zip(names, header, strict=True))
-
-
-def _metadata(lines: list[str]) -> dict[str, str]:
-    out: dict[str, str] = {}
-    for line in lines:
-        m = _KEY_VALUE.match(line)
-        if m and m["key"].strip():
-            out[m["key"].strip().strip("\"'")] = m["value"].strip().strip("\"'")
-    return out
-
-
-def _locate_bad_cell(
-    rows: list[tuple[int, str]],
-    delimiter: str,
-    decimal: str,
-    ncols: int,
-    header: tuple[str, ...] | None,
-    source: str,
-) -> InputError | None:
-    """Failure path: the first line whose cell count or content is wrong."""
-    cell_re = _CELL_COMMA if decimal == "," else _CELL_DOT
-    for lineno, line in rows:
-        cells = _split(line, delimiter)
-        if len(cells) > ncols:
-            return InputError(
-                f"this line has {len(cells)} {_NAMES[delimiter]}-separated columns but the "
-                f"data rows above have {ncols}; fix or delete the line",
-                source=source,
-                line=lineno,
-            )
-        for col, cell in enumerate(cells):
-            value = cell.strip().strip("\"'").strip()
-            if value and not (cell_re.match(value) or _CELL_SPECIAL.match(value)):
-                label = f" ({header[col]!r})" if header and col < len(header) else ""
-                return InputError(
-                    f"column {col + 1}{label}: {value[:40]!r} is not a number "
-                    f"(decimal mark {decimal!r}); fix or delete the line, or set decimal/"
-                    "delimiter in [import]",
-                    source=source,
-                    line=lineno,
-                    key=header[col] if header and col < len(header) else None,
-                )
-    return None
-
-
-@dataclass(frozen=True)
-class _Layout:
-    """Where the numeric block starts and how it is written (shared by both paths)."""
-
-    start: int
-    header_idx: int | None
-    header_key: str | None
-    header: tuple[str, ...] | None
-    delimiter: str
-    decimal: str
-    ncols: int
-
-
-def _no_rows(source: str) -> InputError:
-    return InputError(
-        "no rows of numbers found; the file needs columns of numbers (potential and "
-        "current) below an optional header row",
-        source=source,
-    )
-
-
-def _header_of(lines: list[str], start: int) -> tuple[int | None, str | None]:
-    """The nearest non-blank line above the data (index, stripped text)."""
-    above = [k for k in range(start) if lines[k].strip()]
-    header_idx = above[-1] if above else None
-    return header_idx, (lines[header_idx].strip() if header_idx is not None else None)
-
-
-def _layout(
-    lines: list[str],
-    start: int,
-    sample: list[str],
-    *,
-    source: str,
-    delimiter: str | None,
-    decimal: str | None,
-) -> _Layout:
-    """Delimiter, decimal mark, column count and header from the first data rows."""
-    header_idx, header_key = _header_of(lines, start)
-    header_text = lines[header_idx] if header_idx is not None else None
-    delim = delimiter or _sniff_delimiter(sample)
-    dec = decimal or _sniff_decimal(sample, delim)
-    if delim == "," and dec == ",":
-        raise InputError(
-            "the decimal mark and the delimiter are both ','; set delimiter in [import]",
-            source=source,
-            key="delimiter",
-        )
-    ncols = len(_split(sample[0], delim))
-    header: tuple[str, ...] | None = None
-    if header_text is not None:
-        labels = _split_header(_COMMENT_MARK.sub("", header_text), delim, ncols)
-        if len(labels) >= ncols and all(not lab for lab in labels[ncols:]):
-            labels = labels[:ncols]
-        if len(labels) == ncols and not _is_numeric_line(header_text):
-            header = tuple(lab.strip().strip("\"'").strip() for lab in labels)
-    if header is not None and header_idx is not None:
-        header = _join_units_row(header, lines, header_idx, delim)
-    return _Layout(start, header_idx, header_key, header, delim, dec, ncols)
-
-
-def _parse_block(block: str | bytes, lay: _Layout, *, fast: bool = False) -> np.ndarray:
+def _parse_block(block: str | bytes, lay: Layout, *, fast: bool = False) -> np.ndarray:
     """One ``pandas.read_csv`` call (C engine) on the numeric block; raises on any doubt.
 
     ``fast`` (the happy path of :func:`read_table_text`, *block* in UTF-8 bytes): no initial-space
@@ -279,25 +95,78 @@ def _parse_block(block: str | bytes, lay: _Layout, *, fast: bool = False) -> np.
     return frame.to_numpy(dtype=float, copy=True)
 
 
-def _table(lines: list[str], lay: _Layout, values: np.ndarray, numbers: np.ndarray
-           ) -> NumericTable:  # fmt: skip
+def _settings_values(lay: Layout) -> np.ndarray:
+    """The numbers of a first data row that also carries run settings (NaN for text)."""
+    _, cells = lay.settings  # type: ignore[misc]
+    row = np.full(lay.ncols, np.nan)
+    for k, cell in enumerate(cells):
+        if cell and is_number(cell, lay.decimal):
+            row[k] = parse_number(cell, lay.decimal)
+    return row
+
+
+def _run_settings(
+    lines: list[str], lay: Layout, values: np.ndarray, first_line: int
+) -> dict[str, str]:
+    """The cells of the first data row in columns that every later row leaves empty (run
+    settings such a row carries), by header label."""
+    if values.shape[0] < 2:
+        return {}
+    alone = np.flatnonzero(np.isnan(values[1:]).all(axis=0))
+    if alone.size == 0:
+        return {}
+    cells = split_cells(lines[first_line - 1], lay.delimiter)
+    header = lay.header
+    return {
+        (header[k] if header and header[k] else f"column {k + 1}"): cell_value(cells[k])
+        for k in alone.tolist()
+        if k < len(cells) and cell_value(cells[k])
+    }
+
+
+def _table(lines: list[str], lay: Layout, values: np.ndarray, numbers: np.ndarray,
+           has_empty: bool | None = None) -> NumericTable:  # fmt: skip
     header, header_idx = lay.header, lay.header_idx
     meta_lines = lines[:header_idx] if header is not None else lines[: lay.start]
-    notes = {"import.delimiter": _NAMES[lay.delimiter], "import.decimal": lay.decimal}
+    notes = {"import.delimiter": DELIMITER_NAMES[lay.delimiter], "import.decimal": lay.decimal}
     if header is None and header_idx is not None:
         notes["import.header"] = (
             f"line {header_idx + 1} was not read as a header (its columns do not match the data)"
+        )
+    metadata = metadata_of(meta_lines)
+    if lay.settings is not None:
+        values = np.vstack([_settings_values(lay), values])
+        numbers = np.concatenate([[lay.settings[0] + 1], numbers])
+        has_empty = True
+    if has_empty is None:
+        has_empty = bool(np.isnan(values).any())
+    settings = _run_settings(lines, lay, values, int(numbers[0])) if has_empty else {}
+    if settings:
+        for key, value in settings.items():
+            metadata.setdefault(key, value)
+        notes["import.settings_row"] = (
+            f"line {numbers[0]}, the first data row, also holds run settings in "
+            f"{len(settings)} column(s) that the later rows leave empty: "
+            + "; ".join(f"{k} = {v}" for k, v in settings.items())
         )
     return NumericTable(
         values=values,
         line_numbers=numbers,
         header=header,
         header_line=header_idx + 1 if header is not None else None,
-        metadata=_metadata(meta_lines),
+        metadata=metadata,
         delimiter=lay.delimiter,
         decimal=lay.decimal,
         notes=notes,
+        has_empty=has_empty,
     )
+
+
+def _sample(lines: list[str], start: int, header_key: str | None) -> list[str]:
+    """The first data rows as the sniffers see them: no blank line, no repeated header,
+    leading blanks kept (a tab there is an empty cell)."""
+    rows = (ln.rstrip() for ln in lines[start : start + 4 * SAMPLE])
+    return [ln for ln in rows if ln and ln.strip() != header_key][:SAMPLE]
 
 
 def read_table(
@@ -324,29 +193,38 @@ def read_table(
         No numeric rows, or a cell in the numeric block that is not a number (the message
         names its line and column).
     """
-    start = _find_data_start(lines)
+    start = find_data_start(lines)
     if start is None:
-        raise _no_rows(source)
-    header_idx, header_key = _header_of(lines, start)
-    # One strip per line; blank lines and repeated header rows are dropped (rare, so the
+        raise no_rows(lines, source)
+    _, header_key = header_of(lines, start)
+    lay = layout(
+        lines,
+        start,
+        _sample(lines, start, header_key),
+        source=source,
+        delimiter=delimiter,
+        decimal=decimal,
+    )
+    # One trim per line; blank lines and repeated header rows are dropped (rare, so the
     # common case keeps every line and numbers them by position).
-    texts = [ln.strip() for ln in lines[start:]]
+    if lay.delimiter == "\t":  # inline: a call per line costs more than the strip
+        texts = [ln.rstrip().lstrip(NOT_TAB) for ln in lines[start:]]
+    else:
+        texts = [ln.strip() for ln in lines[start:]]
+    header_key = lay.header_key
     if "" in texts or (header_key is not None and header_key in texts):
-        keep = [k for k, t in enumerate(texts) if t and t != header_key]
+        keep = [k for k, t in enumerate(texts) if t and t.strip() != header_key]
         texts = [texts[k] for k in keep]
         numbers = np.asarray(keep, dtype=int) + start + 1
     else:
         numbers = np.arange(start + 1, start + 1 + len(texts), dtype=int)
-    lay = _layout(
-        lines, start, texts[:_SAMPLE], source=source, delimiter=delimiter, decimal=decimal
-    )
     try:
         values = _parse_block("\n".join(texts), lay)
         if values.shape[0] != len(texts):
             raise ValueError("row count changed while parsing")
     except (ValueError, TypeError, OverflowError, pd.errors.ParserError, Warning) as exc:
         rows = list(zip(numbers.tolist(), texts, strict=True))
-        found = _locate_bad_cell(rows, lay.delimiter, lay.decimal, lay.ncols, lay.header, source)
+        found = locate_bad_cell(rows, lay.delimiter, lay.decimal, lay.ncols, lay.header, source)
         if found is not None:
             raise found from None
         first_line = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
@@ -400,15 +278,15 @@ def _one_call(
     ascii_bytes: bytes | None,
 ) -> NumericTable | None:
     """The table from one parse of the numeric block, or None for the line-by-line path."""
-    n = _SAMPLE + 100
+    n = SAMPLE + 100
     while n <= len(content):
         head, ends, complete = head_lines(content, n)
         if complete:
             return None
         if crlf:
             head = [ln[:-1] if ln.endswith("\r") else ln for ln in head]
-        start = _find_data_start(head)
-        if start is not None and start + _SAMPLE + 20 < len(head):
+        start = find_data_start(head)
+        if start is not None and start + SAMPLE + 20 < len(head):
             return _fast_table(
                 ascii_bytes if ascii_bytes is not None else content,
                 head, ends, start, source, delimiter, decimal, crlf,
@@ -431,24 +309,41 @@ def _fast_table(
 
     *content*: the text, or its ASCII bytes (offsets in *ends* are then byte offsets too).
     """
-    _, header_key = _header_of(head, start)
-    sample = head[start : start + _SAMPLE]
-    # every sampled row as read_table would see it: no blank, no surrounding blanks, no
-    # repeated header
-    if any(not ln or ln != ln.strip() or ln == header_key for ln in sample):
+    sample = head[start : start + SAMPLE]
+    lay = layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
+    # every sampled row as read_table would see it: no blank, no surrounding blanks (a
+    # leading tab is an empty cell of a tab-separated row), no repeated header; the
+    # comparisons inline, a call per row would cost ~4 % of a 20 000-row file
+    key = lay.header_key
+    if lay.delimiter == "\t":
+        if any(not ln or ln != ln.rstrip().lstrip(NOT_TAB) or ln == key for ln in sample):
+            return None
+    elif any(not ln or ln != ln.strip() or ln == key for ln in sample):
         return None
     offset = ends[start - 1] if start else 0
     rest = content[offset:] if isinstance(content, bytes) else content[offset:].encode("utf-8")
-    lay = _layout(head, start, sample, source=source, delimiter=delimiter, decimal=decimal)
-    values = _pandas_block(rest, lay, crlf)
-    if values is None:
+    block = _pandas_block(_without_blank_end(rest), lay, crlf)
+    if block is None:
         return None
+    values, has_empty = block
     numbers = np.arange(start + 1, start + 1 + values.shape[0], dtype=int)
-    return _table(head, lay, values, numbers)
+    return _table(head, lay, values, numbers, has_empty)
 
 
-def _pandas_block(rest: bytes, lay: _Layout, crlf: bool) -> np.ndarray | None:
-    """The block from one ``pandas.read_csv`` call, or None if any row was unusual."""
+def _without_blank_end(rest: bytes) -> bytes:
+    """*rest* without blank lines at its end (such as a last line that held only a
+    byte-order mark), which pandas would read as rows of NaN."""
+    end = len(rest)
+    while end and rest[end - 1] in b" \t\r\n":
+        end -= 1
+    if rest.count(b"\n", end) < 2:
+        return rest  # no blank line at the end: no copy
+    return rest[:end] + b"\n"
+
+
+def _pandas_block(rest: bytes, lay: Layout, crlf: bool) -> tuple[np.ndarray, bool] | None:
+    """The block from one ``pandas.read_csv`` call and whether it has an empty cell, or
+    None if any row was unusual."""
     if not crlf and b"\r" in rest:
         return None
     try:
@@ -460,6 +355,11 @@ def _pandas_block(rest: bytes, lay: _Layout, crlf: bool) -> np.ndarray | None:
     # two lines into one row, so the lines are counted only when there is a quote
     if b'"' in rest and rows != rest.count(b"\n") + (0 if rest.endswith(b"\n") else 1):
         return None
-    if values.shape[1] != lay.ncols or np.isnan(values).any():
+    if values.shape[1] != lay.ncols:
         return None
-    return values
+    empty = np.isnan(values)
+    has_empty = bool(empty.any())
+    # a row with no number at all may be a blank line, which read_table drops
+    if has_empty and empty.all(axis=1).any():
+        return None
+    return values, has_empty

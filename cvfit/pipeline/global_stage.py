@@ -9,7 +9,14 @@ DeFord–Hume model (:func:`cvfit.techniques.cv.curve.global_stepwise.stepwise_t
 the two-step result. Files whose E½ came from the curve fit keep their own k0 and α (one α
 for all of them with ``global_shared = ["alpha"]``); the others are modelled Nernstian.
 ``"charging"`` in ``global_shared`` makes one C_dl for all files. R_u: the manifest value,
-else the file's fitted R_u, else none. Composition only.
+else the file's fitted R_u, else none. Each file's background has the orders of its own
+curve fit (a constant capacitance where it is shared).
+
+A file whose own curve fit was refused is not Nernstian, whatever its peaks said: it is
+left out (flag ``GLOBAL_FIT_FILE_LEFT_OUT``). A global fit whose reduced χ² exceeds
+:data:`GLOBAL_REFUSE_REDUCED_CHI2` does not describe the curves with one set of constants:
+it gives no constants (flag ``GLOBAL_FIT_REFUSED``), and the two-step result stands.
+Composition only.
 """
 
 from __future__ import annotations
@@ -21,6 +28,7 @@ from cvfit.errors import CvfitError
 from cvfit.flags import Flag
 from cvfit.io import read_voltammogram, resistance_for
 from cvfit.pipeline.results import FileResult, ReferenceHalfWave
+from cvfit.techniques.cv.curve.fit import CURVE_ORDERS, REFUSE_REDUCED_CHI2
 from cvfit.techniques.cv.curve.global_fit import (
     GlobalCurveFit,
     GlobalFile,
@@ -35,7 +43,11 @@ from cvfit.titration.stepwise import StepwiseFit
 from cvfit.units import thermal_voltage
 from cvfit.voltammogram import Voltammogram
 
-__all__ = ["run_global"]
+__all__ = ["run_global", "GLOBAL_REFUSE_REDUCED_CHI2"]
+
+#: Reduced χ² above which the global fit gives no constants: the per-file fit's own limit
+#: (its misfit then exceeds the noise by more than 2 in root-mean-square).
+GLOBAL_REFUSE_REDUCED_CHI2 = REFUSE_REDUCED_CHI2
 
 
 def _current_terms(
@@ -62,6 +74,12 @@ def _current_terms(
     k = thermal_voltage(series.temperature_K, series.electrons)  # type: ignore[attr-defined]
     s_ref = sum(refs) / len(refs)
     return {m.name: k * math.log(s_ref / scale[m.name]) for m in members if m.ligand_M > 0}
+
+
+def _refused(f: FileResult) -> bool:
+    """Whether the file's own curve fit was made and refused."""
+    cf = getattr(f.measurement, "curve_fit", None)
+    return cf is not None and not cf.accepted
 
 
 def _not_possible(why: str) -> tuple[None, list[Flag]]:
@@ -93,6 +111,18 @@ def run_global(
     series = manifest.series  # type: ignore[attr-defined]
     entries = {e.name: e for e in manifest.voltammograms}  # type: ignore[attr-defined]
     chosen = [f for f in files if f.used_in_fit or f.file in reference.files]
+    notes = [
+        Flag(
+            "GLOBAL_FIT_FILE_LEFT_OUT",
+            f"{f.file} left out of the global curve fit: its own curve fit was refused, so "
+            "it is not Nernstian whatever its peaks say",
+            "info",
+        )
+        for f in chosen
+        if _refused(f)
+    ]
+    chosen = [f for f in chosen if not _refused(f)]
+    share = settings.global_shared
     members = []
     try:
         for f in chosen:
@@ -102,9 +132,10 @@ def run_global(
             )
             data = record_curve_data(v, f.measurement.peaks, series)
             D_sim = series.diffusion_cm2_s or 1e-5
-            model = CurveModel(data, D_sim)
-            R = resistance_for(e, series)
             cf = f.measurement.curve_fit
+            P, Q = CURVE_ORDERS if cf is None else cf.background_orders
+            model = CurveModel(data, D_sim, orders=(P, 0 if "charging" in share else Q))
+            R = resistance_for(e, series)
             refit_R = R is None and cf is not None and cf.resistance_ohm is not None
             if refit_R:
                 R = cf.resistance_ohm.value
@@ -122,7 +153,6 @@ def run_global(
             members.append(
                 GlobalFile(f.file, ligand, model, R or 0.0, log_k0, alpha, ratio, refit_R)
             )
-        share = settings.global_shared
         if stepwise:
             tie = stepwise_tie(
                 [m.name for m in members],
@@ -142,5 +172,16 @@ def run_global(
                 share=share,
             )
     except CvfitError as exc:
-        return _not_possible(str(exc))
-    return result, []
+        none, flags = _not_possible(str(exc))
+        return none, notes + flags
+    if not result.reduced_chi2 <= GLOBAL_REFUSE_REDUCED_CHI2:
+        return None, notes + [
+            Flag(
+                "GLOBAL_FIT_REFUSED",
+                f"the global curve fit's reduced χ² is {result.reduced_chi2:.3g} (more than "
+                f"{GLOBAL_REFUSE_REDUCED_CHI2:g}): one set of constants does not describe the "
+                "curves, so it gives none; the two-step result stands",
+                "warning",
+            )
+        ]
+    return result, notes

@@ -16,6 +16,7 @@ from functools import partial
 
 from cvfit.errors import InputError
 from cvfit.io import Manifest, VoltammogramEntry, read_voltammogram, resistance_for
+from cvfit.io.notes import imported_file
 from cvfit.techniques import technique_of
 from cvfit.techniques.base import FileSettings, Measurement
 from cvfit.techniques.curves import points_per_curve
@@ -88,6 +89,7 @@ def analyse_file(
         resistance_ohm=resistance or None,
         pH=entry.pH,
         temperature_K=entry.temperature_K,
+        imported=imported_file(v.metadata),
     )
 
 

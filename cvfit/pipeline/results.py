@@ -11,6 +11,7 @@ from dataclasses import asdict, dataclass, field, fields
 from typing import TYPE_CHECKING, Any, Literal, TypeAlias
 
 from cvfit.flags import Flag
+from cvfit.io.notes import ImportedFile
 from cvfit.quantity import clean_number
 from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.techniques.base import Measurement, StandardMeasurement
@@ -90,6 +91,9 @@ class FileResult:
     temperature_K : float or None
         The file's own temperature, K, when the manifest gives one (it was analysed at
         it); None: the series temperature.
+    imported : ImportedFile or None
+        The columns read from the file and the importer's flags
+        (:func:`cvfit.io.notes.imported_file`); None for a record not read from a file.
     """
 
     file: str
@@ -105,11 +109,19 @@ class FileResult:
     resistance_ohm: float | None = None
     pH: float | None = None
     temperature_K: float | None = None
+    imported: ImportedFile | None = field(default=None, compare=False)
 
     @property
     def flags(self) -> tuple[Flag, ...]:
-        """Every finding for this file: the technique's, the decision's, the series'."""
-        return (*self.measurement.flags, *self.half_wave.flags, *self.series_flags)
+        """Every finding for this file: the importer's, the technique's, the decision's,
+        the series'."""
+        read = self.imported.flags if self.imported is not None else ()
+        return (*read, *self.measurement.flags, *self.half_wave.flags, *self.series_flags)
+
+    @property
+    def imported_columns(self) -> dict[str, str] | None:
+        """The columns read from the file and their units (None when not read from one)."""
+        return self.imported.columns if self.imported is not None else None
 
     @property
     def reversible(self) -> bool | None:
@@ -165,6 +177,7 @@ class FileResult:
             else self.internal_standard.to_dict(),
             "flags": [f.to_dict() for f in self.flags],
             **self._solution_keys(),
+            "imported_columns": self.imported_columns,
         }
 
     def _solution_keys(self) -> dict[str, float]:

@@ -12,7 +12,6 @@ are listed in docs/plan.md::
 
 from __future__ import annotations
 
-import json
 import math
 import tomllib
 from dataclasses import dataclass
@@ -20,6 +19,9 @@ from pathlib import Path
 from typing import Any
 
 from cvfit.errors import InputError
+from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
+from cvfit.plan.limits import MAX_CONSTANTS, MAX_POINTS, within
+from cvfit.plan.pilot import pilot_constants, pilot_noise, read_pilot
 from cvfit.units import celsius_to_kelvin
 
 __all__ = ["PlanInput", "load_plan", "plan_from_mapping", "CRITERIA"]
@@ -166,74 +168,6 @@ def _range(src: str, key: str, value: Any, centre: float) -> tuple[float, float]
     return (lo, hi)
 
 
-def _pilot(src: str, path_text: Any) -> dict[str, Any]:
-    key = "design.from_results"
-    if not isinstance(path_text, str) or not path_text:
-        raise _err(src, key, "from_results must be the path of a results.json (a string)")
-    path = Path(path_text)
-    if not path.is_absolute():
-        path = Path(src).parent / path
-    try:
-        data = json.loads(path.read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise _err(src, key, f"cannot read {path}: {exc.strerror or exc}") from None
-    except json.JSONDecodeError as exc:
-        raise _err(src, key, f"{path} is not JSON ({exc.msg}, line {exc.lineno})") from None
-    if not isinstance(data, dict) or not isinstance(data.get("fit"), dict):
-        raise _err(src, key, f"{path} is not a cvfit results.json (no 'fit' record)")
-    return {"path": str(path), **data}
-
-
-def _pilot_noise(src: str, pilot: dict[str, Any]) -> float:
-    errs = [
-        v.get("E_half_stderr_V")
-        for v in pilot.get("voltammograms", [])
-        if isinstance(v, dict) and v.get("used_in_fit")
-    ]
-    errs = sorted(float(e) for e in errs if isinstance(e, (int, float)) and e > 0)
-    if not errs:
-        raise _err(
-            src,
-            "design.from_results",
-            f"{pilot['path']} has no per-file E½ standard errors of fitted files; give "
-            "E_half_stderr_V instead",
-        )
-    mid = len(errs) // 2
-    return errs[mid] if len(errs) % 2 else 0.5 * (errs[mid - 1] + errs[mid])
-
-
-def _pilot_constants(src: str, pilot: dict[str, Any]) -> dict[str, Any]:
-    """[expect] keys from a pilot fit: values, and the 95 % intervals as ranges."""
-    fit = pilot["fit"]
-    out: dict[str, Any] = {}
-    if fit.get("model") == "lingane":
-        for key in ("log10_beta_ratio", "delta_ligands"):
-            q = fit.get(key) or {}
-            if q.get("value") is None:
-                raise _err(src, "design.from_results", f"the pilot fit has no {key} value")
-            out[key] = q["value"]
-            lo, hi = q.get("ci95") or (None, None)
-            if lo is not None and hi is not None:
-                out[f"{key}_range"] = [lo, hi]
-    elif fit.get("model") == "stepwise":
-        betas = fit.get("log10_beta") or []
-        if not betas or any(b.get("value") is None for b in betas):
-            raise _err(src, "design.from_results", "the pilot stepwise fit has no constants")
-        form = "log10_beta_" + ("ox" if fit.get("fitted_state") == "ox" else "red")
-        out[form] = [b["value"] for b in betas]
-        cis = [b.get("ci95") or [None, None] for b in betas]
-        if all(c[0] is not None and c[1] is not None for c in cis):
-            out[f"{form}_range"] = [list(c) for c in cis]
-        fixed = fit.get("fixed_log10_beta") or []
-        if fixed:
-            other = "log10_beta_red" if form.endswith("ox") else "log10_beta_ox"
-            out[other] = fixed
-            out["known_form"] = other[-3:].lstrip("_")
-    else:
-        raise _err(src, "design.from_results", "the pilot results.json has no fitted model")
-    return out
-
-
 def _expect(src: str, ex: dict[str, Any]):
     has_line = "log10_beta_ratio" in ex or "delta_ligands" in ex
     has_step = "log10_beta_ox" in ex or "log10_beta_red" in ex
@@ -316,6 +250,33 @@ def _expect(src: str, ex: dict[str, Any]):
     return "stepwise", names, values, ranges, state, fixed
 
 
+def _check_constants(
+    src: str,
+    model: str,
+    values: tuple[float, ...],
+    ranges: tuple[tuple[float, float], ...],
+    fixed: tuple[float, ...],
+) -> None:
+    """Every constant, each end of a range and (stepwise) their number within bounds."""
+    if model == "lingane":
+        limits = ("log10", "expect.delta_ligands")
+        names = ("log10_beta_ratio", "delta_ligands")
+        for name, limit, value, ends in zip(names, limits, values, ranges, strict=True):
+            within(src, f"expect.{name}", value, limit)
+            for end in ends:
+                within(src, f"expect.{name}_range", end, limit)
+        return
+    if len(values) > MAX_CONSTANTS or len(fixed) > MAX_CONSTANTS:
+        raise _err(
+            src,
+            "expect",
+            f"a stepwise plan takes at most {MAX_CONSTANTS} constants per form (as many as "
+            "[fit] max_complexes allows)",
+        )
+    for x in (*values, *fixed, *(end for r in ranges for end in r)):
+        within(src, "expect", x, "log10")
+
+
 def plan_from_mapping(doc: dict[str, Any], source: str) -> PlanInput:
     """Check a parsed plan document (see :func:`load_plan`)."""
     src = str(source)
@@ -339,23 +300,26 @@ def plan_from_mapping(doc: dict[str, Any], source: str) -> PlanInput:
     if design is None:
         raise _err(src, "design", "the plan needs a [design] table (ligand_min_M, ...)")
     expect = dict(doc.get("expect", {}))
-    pilot = _pilot(src, design["from_results"]) if "from_results" in design else None
+    pilot = read_pilot(src, design["from_results"]) if "from_results" in design else None
     if pilot is not None and not any(
         k in expect for k in ("log10_beta_ratio", "log10_beta_ox", "log10_beta_red")
     ):
-        expect.update(_pilot_constants(src, pilot))
+        expect.update(pilot_constants(src, pilot))
     model, names, values, ranges, state, fixed = _expect(src, expect)
+    _check_constants(src, model, values, ranges, fixed)
 
     electrons = series.get("electrons", 1)
     if isinstance(electrons, bool) or not isinstance(electrons, int) or electrons < 1:
         raise _err(src, "series.electrons", "electrons must be a whole number >= 1")
+    within(src, "series.electrons", electrons)
     t_C = _number(src, "series.temperature_C", series.get("temperature_C", 25.0))
-    temperature_K = celsius_to_kelvin(t_C)
-    if not temperature_K > 0:
-        raise _err(src, "series.temperature_C", "temperature_C must be above absolute zero")
+    temperature_K = celsius_to_kelvin(within(src, "series.temperature_C", t_C))
     metal = series.get("metal_total_M")
-    metal = None if metal is None else _number(src, "series.metal_total_M", metal, positive=True)
+    if metal is not None:
+        key = "series.metal_total_M"
+        metal = within(src, key, _number(src, key, metal, positive=True))
     e_free = _number(src, "series.E_half_free_V", series.get("E_half_free_V", 0.0))
+    within(src, "series.E_half_free_V", e_free)
     title = series.get("title", "titration plan")
     if not isinstance(title, str):
         raise _err(src, "series.title", "title must be a string")
@@ -365,20 +329,33 @@ def plan_from_mapping(doc: dict[str, Any], source: str) -> PlanInput:
             raise _err(src, f"design.{key}", f"[design] needs {key}")
     lo = _number(src, "design.ligand_min_M", design["ligand_min_M"], positive=True)
     hi = _number(src, "design.ligand_max_M", design["ligand_max_M"], positive=True)
+    within(src, "design.ligand_min_M", lo, "ligand")
+    within(src, "design.ligand_max_M", hi, "ligand")
+    if model == "lingane" and metal is not None and not hi > values[1] * metal:
+        raise _err(
+            src,
+            "design.ligand_max_M",
+            f"no free ligand is left at any planned point: ligand_max_M {hi:g} M is not above "
+            f"(p − q) × metal_total_M = {values[1] * metal:g} M; raise ligand_max_M or lower "
+            "metal_total_M",
+        )
     if not hi > lo:
         raise _err(src, "design.ligand_max_M", "ligand_max_M must be above ligand_min_M")
     points = design["points"]
     k = len(names) + 1
-    if isinstance(points, bool) or not isinstance(points, int) or points < k:
+    if isinstance(points, bool) or not isinstance(points, int) or not k <= points <= MAX_POINTS:
         raise _err(
             src,
             "design.points",
-            f"points must be a whole number >= {k} (one more than the {len(names)} constants)",
+            f"points must be a whole number from {k} (one more than the {len(names)} "
+            f"constants) to {MAX_POINTS}, got {points!r}",
         )
     if "E_half_stderr_V" in design:
         sigma = _number(src, "design.E_half_stderr_V", design["E_half_stderr_V"], positive=True)
+        within(src, "design.E_half_stderr_V", sigma)
     elif pilot is not None:
-        sigma = _pilot_noise(src, pilot)
+        noise = pilot_noise(src, pilot)
+        sigma = within(src, "design.from_results", noise, "design.E_half_stderr_V")
     else:
         raise _err(
             src,
@@ -391,15 +368,19 @@ def plan_from_mapping(doc: dict[str, Any], source: str) -> PlanInput:
         proposed = _numbers(
             src, "design.proposed_ligand_M", design["proposed_ligand_M"], positive=True
         )
-        if len(proposed) < k - 1:
+        if not k - 1 <= len(proposed) <= MAX_POINTS:
             raise _err(
                 src,
                 "design.proposed_ligand_M",
-                f"the proposed design needs at least {k - 1} concentrations",
+                f"the proposed design needs {k - 1} to {MAX_POINTS} concentrations, got "
+                f"{len(proposed)}",
             )
+        for c in proposed:
+            within(src, "design.proposed_ligand_M", c, "ligand")
     target = design.get("target_stderr_log10")
     if target is not None:
         target = _number(src, "design.target_stderr_log10", target, positive=True)
+        within(src, "design.target_stderr_log10", target)
     criterion = design.get("criterion", "D")
     if criterion not in CRITERIA:
         raise _err(src, "design.criterion", f"criterion must be one of {', '.join(CRITERIA)}")
@@ -440,23 +421,34 @@ def plan_from_mapping(doc: dict[str, Any], source: str) -> PlanInput:
 
 
 def load_plan(path: str | Path) -> PlanInput:
-    """Read and check a plan file.
+    """Read and check a plan file (read as ``cvfit run`` reads a manifest: a regular file of
+    at most :data:`~cvfit.io.limits.MAX_MANIFEST_BYTES`, UTF-8 with or without a BOM).
 
     Raises
     ------
     InputError
-        Unreadable file, TOML syntax, unknown section or key, or a bad value (the message
-        names the file and key).
+        Unreadable file, TOML syntax, nesting too deep, unknown section or key, or a bad
+        value (the message names the file and key).
     """
     p = Path(path)
+    raw = read_regular_file(
+        p,
+        limit=MAX_MANIFEST_BYTES,
+        what="plan file",
+        missing="the plan file does not exist; check the path",
+        folder="this is a folder; name the plan .toml file",
+    )
     try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise InputError(f"cannot read the plan: {exc.strerror or exc}", source=str(p)) from None
+        text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
-        raise InputError("the plan is not UTF-8 text", source=str(p)) from None
+        raise InputError("the plan is not UTF-8 text; save it as UTF-8", source=str(p)) from None
     try:
-        doc = tomllib.loads(text)
+        return plan_from_mapping(tomllib.loads(text), str(p))
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"not valid TOML: {exc}", source=str(p)) from None
-    return plan_from_mapping(doc, str(p))
+    except RecursionError:
+        raise InputError(
+            "the TOML is nested too deeply to read (arrays or tables inside one another "
+            "hundreds of levels deep); a plan needs two levels: fix the plan",
+            source=str(p),
+        ) from None

@@ -36,6 +36,7 @@ from typing import Any
 import numpy as np
 
 from cvfit.errors import InputError
+from cvfit.plan.limits import MAX_POINTS
 from cvfit.titration.proton_fit import PKA_MARGIN, ProtonData
 from cvfit.units import FARADAY, celsius_to_kelvin, thermal_voltage
 
@@ -272,9 +273,11 @@ def variable_plan_from_mapping(src: str, data: Mapping[str, Any]) -> VariablePla
     title = str(series.get("title", "series plan"))
     points = int(_get(src, design, "design", "points"))
     sigma = float(_get(src, design, "design", "E_half_stderr_V"))
-    if points < 4 or not sigma > 0 or n < 1:
-        raise InputError("design.points must be at least 4 and E_half_stderr_V > 0",
-                         source=src, key="design.points")  # fmt: skip
+    if not 4 <= points <= MAX_POINTS or not 1e-7 <= sigma <= 1.0 or not 1 <= n <= 10:
+        raise InputError(
+            f"design.points must be 4–{MAX_POINTS}, E_half_stderr_V 1e-7–1 V and electrons "
+            "1–10", source=src, key="design.points",
+        )  # fmt: skip
     if "temperature_min_C" in design:
         lo = float(_get(src, design, "design", "temperature_min_C"))
         hi = float(_get(src, design, "design", "temperature_max_C"))
@@ -290,9 +293,13 @@ def variable_plan_from_mapping(src: str, data: Mapping[str, Any]) -> VariablePla
     hi = float(_get(src, design, "design", "pH_max"))
     if not 0 <= lo < hi <= 14:
         raise InputError("design.pH_min < pH_max within 0–14", source=src, key="design.pH_min")
+    pkas = {k: _get(src, expect, "expect", k, default=[]) for k in ("pKa_ox", "pKa_red")}
+    if any(not -10.0 <= p <= 30.0 for v in pkas.values() for p in v) or not any(pkas.values()):
+        raise InputError("expect.pKa_ox / pKa_red: lists of pKa within −10 to 30, one at least",
+                         source=src, key="expect.pKa_ox")  # fmt: skip
     return plan_pH_series(
-        pKa_ox=_get(src, expect, "expect", "pKa_ox", default=[]),
-        pKa_red=_get(src, expect, "expect", "pKa_red", default=[]),
+        pKa_ox=pkas["pKa_ox"],
+        pKa_red=pkas["pKa_red"],
         pH_min=lo, pH_max=hi, points=points, E_half_stderr_V=sigma, electrons=n,
         temperature_K=T, proposed_pH=_get(src, design, "design", "proposed_pH", default=[]),
         title=title,
@@ -308,13 +315,26 @@ def load_variable_plan(path: str | Path) -> VariablePlan | None:
     InputError
         The file cannot be read or is not TOML; a key of a pH or temperature plan is bad.
     """
+    from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
+
     src = str(path)
+    raw = read_regular_file(
+        Path(path),
+        limit=MAX_MANIFEST_BYTES,
+        what="plan file",
+        missing="the plan file does not exist; check the path",
+        folder="this is a folder; name the plan .toml file",
+    )
     try:
-        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise InputError(f"cannot read the plan: {exc.strerror or exc}", source=src) from None
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
-        raise InputError(f"the plan is not TOML text: {exc}", source=src) from None
+        data = tomllib.loads(raw.decode("utf-8-sig"))
+    except UnicodeDecodeError:
+        raise InputError("the plan is not UTF-8 text; save it as UTF-8", source=src) from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"not valid TOML: {exc}", source=src) from None
+    except RecursionError:
+        raise InputError(
+            "the TOML is nested too deeply to read; fix the plan", source=src
+        ) from None
     if not is_variable_plan(data):
         return None
     return variable_plan_from_mapping(src, data)

@@ -10,16 +10,15 @@
 
 from __future__ import annotations
 
-import errno
-import os
 from collections.abc import Sequence
 from pathlib import Path
 
-from cvfit.errors import InputError, OutputError
+from cvfit.errors import OutputError
 from cvfit.pipeline.results import SeriesResult
 from cvfit.report.atomic import atomic_write_text, output_set
 from cvfit.report.file_table import write_file_table
-from cvfit.report.output_names import OUTPUT_NAMES, is_output_name
+from cvfit.report.output_names import EARLIER_SERIES_SET, OUTPUT_NAMES
+from cvfit.report.ownership import check_output_folder as check_folder
 from cvfit.report.results_json import results_to_json, write_results_json
 from cvfit.report.summary import format_summary
 
@@ -43,9 +42,10 @@ def write_outputs(
     once (:func:`cvfit.report.atomic.output_set`): after an interruption at any moment
     *out_dir* holds the complete earlier set or the complete new one, never a mix, and a
     failed run leaves it as it was. *out_dir* is therefore the set's own folder: one that
-    holds anything cvfit did not write is refused. *simulated_with* — for simulated data,
-    the constants they were simulated with, in words — is shown by the HTML report (the
-    demo passes it).
+    holds anything cvfit did not write is refused (:mod:`cvfit.report.ownership`), and a
+    second run into it waits until the first has written its set. *simulated_with* — for
+    simulated data, the constants they were simulated with, in words — is shown by the HTML
+    report (the demo passes it).
 
     Returns
     -------
@@ -61,9 +61,8 @@ def write_outputs(
         The set cannot be written: permission denied, a full disk, a file-size limit ...
     """
     out = Path(out_dir)
-    check_output_folder(out)
     try:
-        with output_set(out) as stage:
+        with output_set(out, earlier=EARLIER_SERIES_SET) as stage:
             written = _write_set(result, stage, simulated_with)
     except OSError as exc:
         raise OutputError.from_os_error(exc, str(out)) from None
@@ -71,61 +70,19 @@ def write_outputs(
 
 
 def check_output_folder(out: Path) -> None:
-    """Refuse an output folder that a swap would take from the user.
+    """Refuse an output folder that replacing it with a series' outputs would take from the
+    user (:func:`cvfit.report.ownership.check_output_folder`; a folder written before sets
+    carried their record may hold the names of :data:`OUTPUT_NAMES` and the optional
+    figures only, with a results.json that cvfit wrote).
 
     Raises
     ------
     InputError
-        *out* is a file, holds an entry cvfit did not write (see
-        :func:`~cvfit.report.output_names.is_output_name`), or is (or holds) the current
-        folder.
+        *out* is not cvfit's to replace, or is (or holds) the current folder.
     OutputError
         *out* exists but may not be written.
     """
-    try:
-        if not out.exists():
-            return
-        real = out.resolve(strict=True)
-    except (OSError, RuntimeError) as exc:
-        raise InputError(
-            f"the output folder cannot be resolved ({exc}); name another --out folder",
-            source=str(out),
-            key="--out",
-        ) from None
-    if not real.is_dir():
-        raise InputError(
-            "the output folder exists and is not a folder; name another --out folder",
-            source=str(out),
-            key="--out",
-        )
-    try:
-        cwd = Path.cwd().resolve()
-    except OSError:  # the current folder was removed: it cannot be the output folder
-        cwd = None
-    if cwd is not None and (real == cwd or real in cwd.parents):
-        raise InputError(
-            "the output folder is the current folder (or holds it); cvfit replaces its "
-            "output folder whole, so name a folder of its own, e.g. --out results",
-            source=str(out),
-            key="--out",
-        )
-    foreign = sorted(n for n in os.listdir(real) if not is_output_name(n))
-    if foreign:
-        more = f" and {len(foreign) - 1} more" if len(foreign) > 1 else ""
-        raise InputError(
-            f"the output folder holds {foreign[0]!r}{more}, which cvfit did not write; cvfit "
-            "replaces its output folder whole, so name a folder of its own with --out (new, "
-            "empty, or one cvfit wrote)",
-            source=str(out),
-            key="--out",
-        )
-    if not os.access(real, os.W_OK | os.X_OK):
-        raise OutputError(
-            str(out),
-            "cannot write the outputs (Permission denied); check the folder's permissions or "
-            "choose another --out folder",
-            errno=errno.EACCES,
-        )
+    check_folder(out, earlier=EARLIER_SERIES_SET)
 
 
 def _write_set(

@@ -2,7 +2,9 @@
 
 Each file is written to a temporary name and renamed into place (:func:`atomic_path`); a
 whole output set is written into a hidden folder beside the output folder and swapped in
-for it at once (:func:`output_set`).
+for it at once (:func:`output_set`), with the record that makes the folder cvfit's own
+(:mod:`cvfit.report.ownership`), while this process holds the folder's lock
+(:func:`folder_lock`): a second run into the same folder waits for the first.
 """
 
 from __future__ import annotations
@@ -13,13 +15,25 @@ import os
 import re
 import secrets
 import shutil
+import stat
 import sys
 import tempfile
+import time
 from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import IO
 
+from cvfit.errors import OutputError
+from cvfit.report.ownership import (
+    EarlierSet,
+    check_output_folder,
+    resolved_output_folder,
+    write_marker,
+)
+
 __all__ = [
+    "LOCK_WAIT_S",
+    "folder_lock",
     "atomic_write_text",
     "atomic_path",
     "atomic_write_with",
@@ -71,11 +85,88 @@ def atomic_write_with(path: str | Path, writer: Callable[[IO[str]], None]) -> No
 
 # --- output sets: the whole folder swapped in at once ------------------------------------
 
-#: Marks the hidden folders a run keeps beside its output folder: ``.NAME.cvfit-new-RANDOM``
+#: Marks the hidden entries a run keeps beside its output folder: ``.NAME.cvfit-new-RANDOM``
 #: (a set being written) and ``.NAME.cvfit-old-RANDOM`` (an earlier set being replaced),
-#: RANDOM being 8 random characters.
+#: RANDOM being 8 random characters; and ``.NAME.cvfit-lock``, the folder's lock.
 SET_MARK = ".cvfit-"
 _KINDS = ("new", "old")
+#: Longest a run waits for another run writing the same folder, s (writing the set of a
+#: 2 000-file series takes well under a minute).
+LOCK_WAIT_S = 120.0
+_LOCK_POLL_S = 0.05
+
+
+def _lock_path(target: Path) -> Path:
+    return target.parent / f".{target.name}{SET_MARK}lock"
+
+
+def _try_lock(path: Path) -> int | None:
+    """An open descriptor of the lock file *path*, locked by this process; None when another
+    process holds it."""
+    import fcntl
+
+    flags = os.O_RDWR | os.O_CREAT | getattr(os, "O_CLOEXEC", 0) | getattr(os, "O_NOFOLLOW", 0)
+    fd = os.open(path, flags, 0o644)
+    try:
+        fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+    except BlockingIOError:
+        os.close(fd)
+        return None
+    try:
+        same = os.stat(path, follow_symlinks=False).st_ino == os.fstat(fd).st_ino
+    except FileNotFoundError:  # removed by the run that held it, just before
+        same = False
+    if not same:
+        os.close(fd)
+        return None
+    st = os.fstat(fd)
+    if not stat.S_ISREG(st.st_mode) or st.st_size:  # cvfit's lock files stay empty
+        os.close(fd)
+        raise OutputError(
+            str(path),
+            "this file is named like cvfit's lock of the output folder but is not one (it is "
+            "not empty); cvfit leaves it alone: move it away or choose another --out folder",
+        )
+    return fd
+
+
+@contextlib.contextmanager
+def folder_lock(target: str | Path, *, wait_s: float | None = None) -> Iterator[None]:
+    """Hold the lock of the output folder *target* in the block.
+
+    The lock is ``flock`` on the hidden file ``.NAME.cvfit-lock`` beside *target*: the
+    system releases it when its process ends, however it ends, so a run killed while writing
+    never blocks the next one. The file is removed when the block ends. Where ``fcntl`` is
+    missing (not POSIX) there is no lock.
+
+    Raises
+    ------
+    OutputError
+        Another process held the lock for *wait_s* seconds (default :data:`LOCK_WAIT_S`).
+    """
+    try:
+        import fcntl  # noqa: F401
+    except ImportError:  # pragma: no cover - not POSIX
+        yield
+        return
+    target = Path(target)
+    path = _lock_path(target)
+    wait = LOCK_WAIT_S if wait_s is None else wait_s
+    deadline = time.monotonic() + wait
+    while (fd := _try_lock(path)) is None:
+        if time.monotonic() >= deadline:
+            raise OutputError(
+                str(target),
+                f"another cvfit run is writing this folder (waited {wait:g} s); run again "
+                "when it has finished, or choose another --out folder",
+            )
+        time.sleep(_LOCK_POLL_S)
+    try:
+        yield
+    finally:
+        with contextlib.suppress(OSError):
+            os.unlink(path)  # before the lock is released: a waiter then sees a new file
+        os.close(fd)
 
 
 def _leftover_pattern(target: Path) -> re.Pattern[str]:
@@ -199,37 +290,60 @@ def _swap_in(stage: Path, target: Path) -> None:
 
 
 @contextlib.contextmanager
-def output_set(target: str | Path) -> Iterator[Path]:
+def output_set(
+    target: str | Path, *, earlier: EarlierSet | None = None, wait_s: float | None = None
+) -> Iterator[Path]:
     """Yield an empty hidden folder beside *target*; on success it becomes *target*.
 
     Write the whole output set into the folder yielded. When the block ends without an
-    error, every file is flushed to disk and the folder is swapped in for *target* in one
-    step (the earlier set is removed), so after a kill at any moment *target* holds the
-    complete earlier set or the complete new one, never a mix. When the block fails, the
-    folder is removed and *target* is left as it was. Leftovers of earlier interrupted
-    runs into *target* are removed first (:func:`clean_set_leftovers`).
+    error, the set's record (:func:`cvfit.report.ownership.write_marker`) is added, every
+    file is flushed to disk and the folder is swapped in for *target* in one step (the
+    earlier set is removed), so after a kill at any moment *target* holds the complete
+    earlier set or the complete new one, never a mix. When the block fails, the folder is
+    removed and *target* is left as it was.
+
+    All of it happens under the folder's lock (:func:`folder_lock`): leftovers of earlier
+    interrupted runs into *target* are removed (no live run can own them then,
+    :func:`clean_set_leftovers`), and *target* is checked to be cvfit's to replace
+    (:func:`cvfit.report.ownership.check_output_folder`).
 
     Parameters
     ----------
     target : path-like
         The output folder. A symbolic link to a folder is followed (the link stays).
+    earlier : EarlierSet, optional
+        What an earlier cvfit version wrote into such a folder without a record (None: a
+        folder without a record is replaced only when empty).
+    wait_s : float, optional
+        Longest wait for another run writing *target* (default :data:`LOCK_WAIT_S`).
 
     Raises
     ------
+    InputError
+        *target* is not cvfit's to replace.
+    OutputError
+        Another run held the folder for *wait_s* seconds.
     OSError
         When the folder cannot be created or written; the caller reports it.
     """
-    target = Path(target)
-    if target.is_symlink():
-        target = target.resolve(strict=True)
+    target = resolved_output_folder(target)
     try:
         target.parent.mkdir(parents=True, exist_ok=True)
     except FileExistsError:  # a part of the path is a file
         raise NotADirectoryError(errno.ENOTDIR, os.strerror(errno.ENOTDIR), str(target)) from None
-    clean_set_leftovers(target)
+    with folder_lock(target, wait_s=wait_s):
+        clean_set_leftovers(target)
+        check_output_folder(target, earlier=earlier)
+        with _staged(target) as stage:
+            yield stage
+
+
+@contextlib.contextmanager
+def _staged(target: Path) -> Iterator[Path]:
     stage = _new_stage(target)
     try:
         yield stage
+        write_marker(stage)
         for entry in os.scandir(stage):
             if entry.is_file(follow_symlinks=False):
                 _fsync_path(Path(entry.path))

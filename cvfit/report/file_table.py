@@ -9,7 +9,14 @@ from typing import IO
 from cvfit.pipeline.results import FileResult, SeriesResult
 from cvfit.report.atomic import atomic_write_with
 
-__all__ = ["GENERIC_HEAD", "GENERIC_TAIL", "table_columns", "write_file_table"]
+__all__ = [
+    "GENERIC_HEAD",
+    "GENERIC_TAIL",
+    "FORMULA_STARTS",
+    "table_columns",
+    "text_cell",
+    "write_file_table",
+]
 
 #: The generic columns of the per-file table before the technique's own, units in the names.
 GENERIC_HEAD = (
@@ -62,14 +69,27 @@ def _row(f: FileResult) -> dict[str, object]:
     }
 
 
+#: First characters that make a spreadsheet read a cell as a formula (and tab and carriage
+#: return, which some read past): a text cell that begins with one is written with a
+#: leading apostrophe, which spreadsheets show as text (OWASP, "CSV Injection").
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def text_cell(text: str) -> str:
+    """*text* safe for a spreadsheet: ``'`` before a leading ``=``, ``+``, ``-``, ``@``."""
+    return "'" + text if text.startswith(FORMULA_STARTS) else text
+
+
 def _cell(value: object) -> str:
     if value is None:
         return ""
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, float):
-        return f"{value:.10g}"
-    return str(value)
+        return f"{value:.10g}"  # a number stays a number, also a negative one
+    if isinstance(value, int):
+        return str(value)
+    return text_cell(str(value))
 
 
 def write_file_table(result: SeriesResult, path: str | Path) -> Path:
@@ -79,7 +99,7 @@ def write_file_table(result: SeriesResult, path: str | Path) -> Path:
     def writer(fh: IO[str]) -> None:
         w = csv.writer(fh, lineterminator="\n")
         columns = table_columns(result)
-        w.writerow(columns)
+        w.writerow(columns)  # column names: cvfit's own, never a formula
         for f in result.files:
             cells = _row(f)
             w.writerow([_cell(cells.get(c)) for c in columns])

@@ -28,6 +28,7 @@ from cvfit.report.figures.registry import FIGURES
 from cvfit.report.global_fit_html import global_fit_section
 from cvfit.report.headline import headline_lines
 from cvfit.report.html_sections import error_budget_section, internal_standard_section
+from cvfit.report.imported_columns import columns_html
 from cvfit.report.methods_text import ASSUMPTIONS, CAUTIONS, METHOD_STEPS
 from cvfit.techniques import technique_of_name
 from cvfit.titration.registry import MODEL_NAMES, model_named
@@ -537,7 +538,8 @@ def render_html(
         f"{error_budget_section(data)}{standard_html}"
         f"{global_fit_section(data)}"
         f"<section><h2>Series findings</h2>{flags_html}</section>"
-        f"<section><h2>Voltammograms</h2>{file_table}"
+        f"<section><h2>Voltammograms</h2>{columns_html(data.get('voltammograms') or [])}"
+        f"{file_table}"
         "</section>"
         f"<section><h2>Figures</h2>{_figures([Path(p) for p in figures])}</section>"
         f"<section><h2>Method and sources</h2>{_method(fit)}</section>"

@@ -3,12 +3,15 @@
 from __future__ import annotations
 
 from cvfit.report.figures.registry import FIGURES, figure_names
+from cvfit.report.ownership import EarlierSet, cvfit_json
 
 __all__ = [
     "OUTPUT_NAMES",
     "STEPWISE_ONLY_NAMES",
     "INTERNAL_STANDARD_NAME",
     "CURVE_FITS_NAME",
+    "SERIES_OUTPUT_NAMES",
+    "EARLIER_SERIES_SET",
     "is_output_name",
 ]
 
@@ -33,12 +36,16 @@ INTERNAL_STANDARD_NAME = FIGURES["internal_standard"].file_name
 #: The curve-fit figure, written only when some file was fitted as a whole curve.
 CURVE_FITS_NAME = FIGURES["curve_fits"].file_name
 
-_OWNED = frozenset((*OUTPUT_NAMES.values(), *figure_names()))
+#: Every file name a series analysis may write into its output folder.
+SERIES_OUTPUT_NAMES = frozenset((*OUTPUT_NAMES.values(), *figure_names()))
+
+
+#: A series' output folder written before sets carried their record: only these names, and a
+#: results.json that cvfit wrote.
+EARLIER_SERIES_SET = EarlierSet(SERIES_OUTPUT_NAMES, cvfit_json(OUTPUT_NAMES["results"]))
 
 
 def is_output_name(name: str) -> bool:
-    """True for a file name cvfit writes into an output folder, or the hidden temporary
-    name (``.NAME.<random>``) a killed writer of an earlier version left there."""
-    if name in _OWNED:
-        return True
-    return name.startswith(".") and any(name.startswith(f".{n}.") for n in _OWNED)
+    """True for a file name a series analysis writes into its output folder (exactly: a
+    hidden look-alike such as ``.results.json.backup`` is not one)."""
+    return name in SERIES_OUTPUT_NAMES

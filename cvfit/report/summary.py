@@ -6,6 +6,7 @@ from cvfit.errors import printable
 from cvfit.formatting import format_pm
 from cvfit.pipeline.results import SeriesResult
 from cvfit.report.headline import headline_lines
+from cvfit.report.imported_columns import columns_lines
 from cvfit.techniques import technique_of_name
 from cvfit.titration.registry import model_named
 from cvfit.units import ZERO_CELSIUS_K
@@ -35,6 +36,8 @@ def format_summary(result: SeriesResult) -> str:
     lines.append("")
     lines.extend(_file_table(result))
     lines.append("")
+    read = columns_lines([(f.file, f.imported_columns) for f in result.files])
+    lines.extend([*read, ""] if read else [])
     technique = technique_of_name(result.series.technique)
     own = [f for f in result.files if f.measurement.technique == technique.name]
     lines.extend(technique.summary_lines(own, result.scan_rate_studies))

@@ -4,7 +4,7 @@ Beside the analysis chain: it produces :class:`cvfit.Voltammogram` records for t
 the demo and the command ``cvfit simulate``.
 
 - :mod:`.voltammogram` — waveform and :func:`simulate_cv`
-- :mod:`.finite_difference` — the time-marching solver (numba when installed, else NumPy)
+- :mod:`.finite_difference` — the time-marching solver (compiled by numba, cached on disk)
 - :mod:`.titration_series` — a series of CSV files and its manifest on disk
 - :mod:`.internal_standard` — two waves in one file, a series with a drifting reference
 """

@@ -11,11 +11,10 @@ elimination sweep per species that leaves the surface gradient as ``A·c(0) + B`
 scalar solve of the boundary condition (and, with uncompensated resistance, of the iR
 drop), and one forward substitution sweep.
 
-Two interchangeable back ends give the same numbers to rounding:
-
-* ``numba`` — the Thomas sweeps in compiled loops (used when numba is importable);
-* ``numpy`` — the interior inverse precomputed once as a dense matrix, one matrix-vector
-  product per species and step; independent of numba, slower for long runs.
+The sweeps run as loops compiled by numba (a requirement: 25 times faster than a
+NumPy formulation at 2 001 points, ``benchmarks/bench_simulate.py`` before the NumPy
+path was removed). The compiled code is cached on disk, so only the first process after
+an install compiles it (see :func:`_jit`).
 
 References
 ----------
@@ -29,22 +28,24 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+import numba
 import numpy as np
 
-try:  # optional accelerator; behaviour never depends on it
-    import numba as _numba
-except ImportError:  # pragma: no cover - exercised where numba is absent
-    _numba = None
 
-HAVE_NUMBA = _numba is not None
+def _jit(func):
+    """``numba.njit`` with the machine code cached on disk.
 
+    numba writes the cache beside this module, or, where the installation is read-only,
+    in the user's cache folder (or ``NUMBA_CACHE_DIR``); the first process after an
+    install compiles (seconds), every later one loads (``benchmarks/bench_first_fit.py``).
+    Where no folder is writable at all numba refuses to cache; the kernel is then compiled
+    in memory in every process that uses it, instead of failing to import.
+    """
+    try:
+        return numba.njit(cache=True)(func)
+    except RuntimeError:  # "cannot cache function ...: no locator available"
+        return numba.njit(func)
 
-def _identity(func):
-    return func
-
-
-# compiled with cache=True so the one-off compile cost is paid once per installation
-_jit = _numba.njit(cache=True) if HAVE_NUMBA else _identity
 
 # exponent clip for exp() in the boundary conditions: far beyond any physical overpotential,
 # well inside float range even when multiplied by a large k0
@@ -160,11 +161,6 @@ class SpeciesOperator:
     inv_den: np.ndarray
     upper: np.ndarray  # G_i, coefficient of c_{i+1}
     A_surf: np.ndarray  # surface gradient = A_surf·c_0 + B
-    dense_K: np.ndarray  # numpy path: interior = K @ rhs + k_bulk*c_bulk + p*c_0
-    dense_kb: np.ndarray
-    dense_p: np.ndarray
-    dense_b: np.ndarray  # B = b @ rhs + b_bulk * c_bulk
-    dense_bb: np.ndarray
 
 
 def species_operator(grid: Grid, D_cm2_s: float, dt_s: float) -> SpeciesOperator:
@@ -181,11 +177,6 @@ def species_operator(grid: Grid, D_cm2_s: float, dt_s: float) -> SpeciesOperator
     inv_den = np.zeros((2, N + 1))
     upper = np.zeros((2, N + 1))
     A_surf = np.zeros(2)
-    K = np.zeros((2, N - 1, N - 1))
-    kb = np.zeros((2, N - 1))
-    p = np.zeros((2, N - 1))
-    bvec = np.zeros((2, N - 1))
-    bb = np.zeros(2)
     for kind, kap in enumerate((1.0 / dt_s, 1.5 / dt_s)):
         diag = kap + diag_lap
         upper[kind, 1:N] = up
@@ -195,31 +186,26 @@ def species_operator(grid: Grid, D_cm2_s: float, dt_s: float) -> SpeciesOperator
             inv_den[kind, i] = 1.0 / den
             e[kind, i] = -lo[i - 1] / den
         A_surf[kind] = s0 + s1 * e[kind, 1] + s2 * e[kind, 2] * e[kind, 1]
-        T = np.diag(diag) + np.diag(up[:-1], 1) + np.diag(lo[1:], -1)
-        Tinv = np.linalg.inv(T)
-        K[kind] = Tinv
-        p[kind] = -lo[0] * Tinv[:, 0]
-        kb[kind] = -up[-1] * Tinv[:, -1]
-        bvec[kind] = s1 * Tinv[0] + s2 * Tinv[1]
-        bb[kind] = s1 * kb[kind, 0] + s2 * kb[kind, 1]
-    for arr in (e, inv_den, upper, A_surf, K, kb, p, bvec, bb):
+    for arr in (e, inv_den, upper, A_surf):
         arr.setflags(write=False)
-    return SpeciesOperator(e, inv_den, upper, A_surf, K, kb, p, bvec, bb)
+    return SpeciesOperator(e, inv_den, upper, A_surf)
 
 
 @_jit
 def _march_thomas(
     E_app, dt, cO, cR, cO_bulk, cR_bulk, eO, idO, GO, AOs, eR, idR, GR, ARs, s1, s2, DO, DR,
     E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, be_charge, i_far, i_cap, E_true, amt_O,
-    amt_R,
+    amt_R, prevO, prevR, bdf_first,
 ):  # fmt: skip
-    """March all steps with Thomas sweeps; fills cO, cR and the output arrays in place."""
+    """March all steps with Thomas sweeps; fills cO, cR and the output arrays in place.
+
+    ``prevO``, ``prevR``: the state one step before the first (used when ``bdf_first``:
+    the first step is then BDF2 too); on return, the state one step before the last.
+    """
     M = E_app.size
     N = cO.size - 1
     fO = np.zeros(N + 1)
     fR = np.zeros(N + 1)
-    prevO = cO.copy()
-    prevR = cR.copy()
     E_prev = E_app[0]
     E_prev2 = E_app[0]
     E_true[0] = E_app[0]
@@ -229,7 +215,7 @@ def _march_thomas(
         amt_O[0] = np.sum(weights * cO)
         amt_R[0] = np.sum(weights * cR)
     for m in range(1, M):
-        kind = 0 if m == 1 else 1
+        kind = 0 if (m == 1 and not bdf_first) else 1
         kap = 1.0 / dt if kind == 0 else 1.5 / dt
         fO[N] = cO_bulk
         fR[N] = cR_bulk
@@ -244,7 +230,7 @@ def _march_thomas(
             fR[i] = (rR - GR[kind, i] * fR[i + 1]) * idR[kind, i]
         BO = s1 * fO[1] + s2 * (eO[kind, 2] * fO[1] + fO[2])
         BR = s1 * fR[1] + s2 * (eR[kind, 2] * fR[1] + fR[2])
-        if kind == 0 or be_charge[m]:
+        if m == 1 or be_charge[m]:
             kapE = 1.0 / dt
             rhsE = E_prev / dt
         else:
@@ -271,63 +257,6 @@ def _march_thomas(
         if track:
             amt_O[m] = np.sum(weights * cO)
             amt_R[m] = np.sum(weights * cR)
-
-
-def _march_dense(
-    E_app, dt, cO, cR, cO_bulk, cR_bulk, opO, opR, DO, DR,
-    E0, nf, k0, alpha, Ru, Cdl, nFA, weights, track, be_charge, i_far, i_cap, E_true, amt_O,
-    amt_R,
-):  # fmt: skip
-    """Same marching as :func:`_march_thomas` with precomputed dense interior inverses."""
-    M = E_app.size
-    prevO = cO.copy()
-    prevR = cR.copy()
-    E_prev = E_prev2 = float(E_app[0])
-    E_true[0] = E_app[0]
-    i_far[0] = 0.0
-    i_cap[0] = 0.0
-    if track:
-        amt_O[0] = weights @ cO
-        amt_R[0] = weights @ cR
-    for m in range(1, M):
-        kind = 0 if m == 1 else 1
-        if kind == 0:
-            kap = 1.0 / dt
-            rO = cO[1:-1] / dt
-            rR = cR[1:-1] / dt
-            rhsE = E_prev / dt
-        else:
-            kap = 1.5 / dt
-            rO = (4.0 * cO[1:-1] - prevO[1:-1]) / (2.0 * dt)
-            rR = (4.0 * cR[1:-1] - prevR[1:-1]) / (2.0 * dt)
-            rhsE = (4.0 * E_prev - E_prev2) / (2.0 * dt)
-        kapE = kap
-        if be_charge[m]:
-            kapE = 1.0 / dt
-            rhsE = E_prev / dt
-        BO = float(opO.dense_b[kind] @ rO + opO.dense_bb[kind] * cO_bulk)
-        BR = float(opR.dense_b[kind] @ rR + opR.dense_bb[kind] * cR_bulk)
-        AO = float(opO.A_surf[kind])
-        AR = float(opR.A_surf[kind])
-        Et, j, ic = _surface_solve(
-            float(E_app[m]), rhsE, kapE, BO, BR, AO, AR, DO, DR, E0, nf, k0, alpha, Ru, Cdl, nFA
-        )
-        prevO = cO.copy()
-        prevR = cR.copy()
-        cO0 = -(j / DO + BO) / AO
-        cR0 = (j / DR - BR) / AR
-        cO[0] = cO0
-        cR[0] = cR0
-        cO[1:-1] = opO.dense_K[kind] @ rO + opO.dense_kb[kind] * cO_bulk + opO.dense_p[kind] * cO0
-        cR[1:-1] = opR.dense_K[kind] @ rR + opR.dense_kb[kind] * cR_bulk + opR.dense_p[kind] * cR0
-        E_prev2 = E_prev
-        E_prev = Et
-        E_true[m] = Et
-        i_far[m] = nFA * j
-        i_cap[m] = ic
-        if track:
-            amt_O[m] = weights @ cO
-            amt_R[m] = weights @ cR
 
 
 def backward_euler_charging_steps(E_app_V: np.ndarray, rc_s: float, dt_s: float) -> np.ndarray:
@@ -365,6 +294,8 @@ class MarchResult:
     final_R_mol_cm3: np.ndarray
     amount_O_mol_cm2: np.ndarray | None  # ∫ c_O dx per step (None unless tracked)
     amount_R_mol_cm2: np.ndarray | None
+    previous_O_mol_cm3: np.ndarray | None = None  # one step before the last
+    previous_R_mol_cm3: np.ndarray | None = None
 
 
 def march(
@@ -386,25 +317,37 @@ def march(
     backend: str = "auto",
     track_amounts: bool = False,
     operators: tuple[SpeciesOperator, SpeciesOperator] | None = None,
+    initial_O_mol_cm3: np.ndarray | None = None,
+    initial_R_mol_cm3: np.ndarray | None = None,
+    previous_O_mol_cm3: np.ndarray | None = None,
+    previous_R_mol_cm3: np.ndarray | None = None,
 ) -> MarchResult:
     """Integrate the diffusion problem over the sampled applied potential ``E_app_V``.
 
-    ``k0_cm_s <= 0`` selects the Nernstian boundary. ``backend`` is ``"auto"`` (numba when
-    available), ``"numba"`` or ``"numpy"``. ``operators`` = (O, R) from
+    ``k0_cm_s <= 0`` selects the Nernstian boundary. ``backend`` names the one back end,
+    the compiled sweeps (``"auto"`` or ``"numba"``; the NumPy one was removed, numba is a
+    requirement). ``operators`` = (O, R) from
     :func:`species_operator` for this grid, D and time step, when the caller reuses them
-    over many runs (a fit); built here otherwise.
+    over many runs (a fit); built here otherwise. ``initial_O_mol_cm3``,
+    ``initial_R_mol_cm3``: the concentration profiles on the grid at the first sample (the
+    state a hold left, :func:`hold`); uniform bulk when not given. ``previous_O_mol_cm3``,
+    ``previous_R_mol_cm3``: the profiles one step before the first sample; with them the
+    first step is second order (BDF2) too, as if the march had not stopped there.
     """
-    if backend == "auto":
-        backend = "numba" if HAVE_NUMBA else "numpy"
-    if backend == "numba" and not HAVE_NUMBA:
-        raise ValueError("backend 'numba' asked for but numba is not installed")
-    if backend not in ("numba", "numpy"):
-        raise ValueError(f"unknown backend {backend!r}")
+    if backend not in ("auto", "numba"):
+        raise ValueError(f"unknown backend {backend!r} (the compiled one, 'numba', is the only)")
     E_app = np.ascontiguousarray(E_app_V, dtype=float)
     M = E_app.size
     x = grid.x_cm
     cO = np.full(x.size, float(bulk_ox_mol_cm3))
     cR = np.full(x.size, float(bulk_red_mol_cm3))
+    if initial_O_mol_cm3 is not None:
+        cO = np.array(initial_O_mol_cm3, dtype=float)
+    if initial_R_mol_cm3 is not None:
+        cR = np.array(initial_R_mol_cm3, dtype=float)
+    bdf_first = previous_O_mol_cm3 is not None and previous_R_mol_cm3 is not None
+    prevO = np.array(previous_O_mol_cm3, dtype=float) if bdf_first else cO.copy()
+    prevR = np.array(previous_R_mol_cm3, dtype=float) if bdf_first else cR.copy()
     if operators is not None:
         opO, opR = operators
     else:
@@ -423,20 +366,13 @@ def march(
         float(k0_cm_s), float(alpha), float(resistance_ohm), float(double_layer_F),
         float(nFA_C_per_mol),
     )  # fmt: skip
-    if backend == "numba":
-        _, s1, s2 = _surface_weights(x)
-        _march_thomas(
-            E_app, float(dt_s), cO, cR, float(bulk_ox_mol_cm3), float(bulk_red_mol_cm3),
-            opO.e, opO.inv_den, opO.upper, opO.A_surf, opR.e, opR.inv_den, opR.upper,
-            opR.A_surf, s1, s2, *scalars, w, bool(track_amounts), be_charge, i_far, i_cap,
-            E_true, amt_O, amt_R,
-        )  # fmt: skip
-    else:
-        _march_dense(
-            E_app, float(dt_s), cO, cR, float(bulk_ox_mol_cm3), float(bulk_red_mol_cm3),
-            opO, opR, *scalars, w, bool(track_amounts), be_charge, i_far, i_cap, E_true, amt_O,
-            amt_R,
-        )  # fmt: skip
+    _, s1, s2 = _surface_weights(x)
+    _march_thomas(
+        E_app, float(dt_s), cO, cR, float(bulk_ox_mol_cm3), float(bulk_red_mol_cm3),
+        opO.e, opO.inv_den, opO.upper, opO.A_surf, opR.e, opR.inv_den, opR.upper,
+        opR.A_surf, s1, s2, *scalars, w, bool(track_amounts), be_charge, i_far, i_cap,
+        E_true, amt_O, amt_R, prevO, prevR, bdf_first,
+    )  # fmt: skip
     return MarchResult(
         E_true_V=E_true,
         faradaic_A=i_far,
@@ -446,4 +382,120 @@ def march(
         final_R_mol_cm3=cR,
         amount_O_mol_cm2=amt_O if track_amounts else None,
         amount_R_mol_cm2=amt_R if track_amounts else None,
+        previous_O_mol_cm3=prevO,
+        previous_R_mol_cm3=prevR,
     )
+
+
+#: Steps per segment of a hold; each segment doubles the time step of the one before
+#: (exponentially expanding time steps), the first resolving the grid's first spacing.
+HOLD_STEPS_PER_SEGMENT = 8
+
+
+def hold_steps(duration_s: float, dt_s: float) -> tuple[tuple[float, ...], bool]:
+    """Time steps of a hold of *duration_s* before a record sampled every *dt_s*.
+
+    Returns (steps of the expanding segments, HOLD_STEPS_PER_SEGMENT each, doubling from
+    about dt_s/16, the time the grid's first spacing resolves; whether a last segment of
+    HOLD_STEPS_PER_SEGMENT steps covers the hold's last *dt_s*, which happens when the hold
+    is at least 2·dt_s long). The expanding segments follow the step transient at the start
+    of the hold closely and cover its late, smooth part in few steps; the state one record
+    step before the end, kept where the last segment starts, lets the record's march go on
+    in second order (BDF2) as if it had not stopped.
+
+    References
+    ----------
+    Britz, D.; Strutwolf, J. Digital Simulation in Electrochemistry, 4th ed.; Springer,
+    2016, ch. 8 (exponentially expanding time intervals, after Feldberg).
+    """
+    if not duration_s > 0.0:
+        return (), False
+    last = duration_s >= 2.0 * dt_s
+    graded = duration_s - dt_s if last else duration_s
+    first = dt_s / 16.0
+    segments = max(1, math.ceil(math.log2(graded / (HOLD_STEPS_PER_SEGMENT * first) + 1.0)))
+    first = graded / (HOLD_STEPS_PER_SEGMENT * (2.0**segments - 1.0))
+    return tuple(first * 2.0**k for k in range(segments)), last
+
+
+@dataclass(frozen=True)
+class HeldState:
+    """The solution at the end of a hold (:func:`hold`).
+
+    ``O_mol_cm3``, ``R_mol_cm3``: profiles on the grid at the end; ``previous_O_mol_cm3``,
+    ``previous_R_mol_cm3``: one record time step earlier (None when the hold is shorter
+    than three of them); ``current_A``: the faradaic current at the end.
+    """
+
+    O_mol_cm3: np.ndarray
+    R_mol_cm3: np.ndarray
+    previous_O_mol_cm3: np.ndarray | None
+    previous_R_mol_cm3: np.ndarray | None
+    current_A: float
+
+    def march_start(self) -> dict[str, np.ndarray | None]:
+        """Keyword arguments of :func:`march` that start a record from this state."""
+        return {
+            "initial_O_mol_cm3": self.O_mol_cm3,
+            "initial_R_mol_cm3": self.R_mol_cm3,
+            "previous_O_mol_cm3": self.previous_O_mol_cm3,
+            "previous_R_mol_cm3": self.previous_R_mol_cm3,
+        }
+
+
+def hold(
+    E_V: float,
+    duration_s: float,
+    dt_s: float,
+    *,
+    grid: Grid,
+    D_ox_cm2_s: float,
+    D_red_cm2_s: float,
+    bulk_ox_mol_cm3: float,
+    bulk_red_mol_cm3: float,
+    E_formal_V: float,
+    nf_per_V: float,
+    k0_cm_s: float,
+    alpha: float,
+    nFA_C_per_mol: float,
+    backend: str = "auto",
+    operators: dict[float, tuple[SpeciesOperator, SpeciesOperator]] | None = None,
+) -> HeldState:
+    """The solution at rest held at *E_V* for *duration_s* (a quiet time before a record
+    sampled every *dt_s*).
+
+    The potential steps from rest to *E_V* at the start; the time steps are
+    :func:`hold_steps`. ``operators`` maps each time step to its (O, R) operators when the
+    caller keeps them (a fit); built here otherwise. No charging and no R_u: the hold's
+    drop and charging die away long before its end.
+    """
+    cO = np.full(grid.x_cm.size, float(bulk_ox_mol_cm3))
+    cR = np.full(grid.x_cm.size, float(bulk_red_mol_cm3))
+    expanding, last = hold_steps(duration_s, dt_s)
+    segments = list(expanding)
+    if last:
+        segments.append(dt_s / HOLD_STEPS_PER_SEGMENT)
+    res = None
+    before = (cO, cR)
+    for step in segments:
+        before = (cO, cR)
+        ops = None if operators is None else operators.get(step)
+        if ops is None:
+            opO = species_operator(grid, D_ox_cm2_s, step)
+            opR = opO if D_red_cm2_s == D_ox_cm2_s else species_operator(grid, D_red_cm2_s, step)
+            ops = (opO, opR)
+            if operators is not None:
+                operators[step] = ops
+        res = march(
+            np.full(HOLD_STEPS_PER_SEGMENT + 1, float(E_V)), step, grid=grid,
+            D_ox_cm2_s=D_ox_cm2_s, D_red_cm2_s=D_red_cm2_s, bulk_ox_mol_cm3=bulk_ox_mol_cm3,
+            bulk_red_mol_cm3=bulk_red_mol_cm3, E_formal_V=E_formal_V, nf_per_V=nf_per_V,
+            k0_cm_s=k0_cm_s, alpha=alpha, resistance_ohm=0.0, double_layer_F=0.0,
+            nFA_C_per_mol=nFA_C_per_mol, backend=backend, operators=ops,
+            initial_O_mol_cm3=cO, initial_R_mol_cm3=cR,
+        )  # fmt: skip
+        cO, cR = res.final_O_mol_cm3, res.final_R_mol_cm3
+    if res is None:
+        return HeldState(cO, cR, None, None, 0.0)
+    previous = before if last else (None, None)
+    return HeldState(cO, cR, previous[0], previous[1], float(res.faradaic_A[-1]))

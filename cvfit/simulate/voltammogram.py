@@ -23,7 +23,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 
@@ -41,6 +41,10 @@ __all__ = [
 
 #: Largest number of time points one simulation may take (memory guard).
 MAX_POINTS = 5_000_000
+#: Largest space grid one simulation may take: the operators are dense (N² memory, N³
+#: time to build), so a grid of 7 000 points (diffusion coefficients 10^295 apart) took
+#: minutes and gigabytes. Diffusion coefficients 10^12 apart need some 500 points.
+MAX_GRID_POINTS = 1_000
 
 # Grid defaults: first spacing as a fraction of sqrt(D_min·dt), expansion ratio, and the
 # outer boundary in units of sqrt(D_max·t_total). Chosen by refinement studies so that
@@ -100,6 +104,12 @@ def build_waveform(
     if not vertices:
         raise SimulationError("switch_V needs at least one switching potential")
     verts = [_finite("switch_V", v) for v in vertices]
+    one_cycle = float(np.sum(np.abs(np.diff([start_V, *verts, start_V]))))
+    if cycles * one_cycle / step_V > MAX_POINTS:  # before the path of every cycle is built
+        raise SimulationError(
+            f"{cycles * one_cycle / step_V:.3g} points asked for (more than {MAX_POINTS}); use "
+            "a larger step_V or fewer cycles"
+        )
     path = [start_V]
     for _ in range(cycles):
         path.extend(verts)
@@ -120,6 +130,17 @@ def build_waveform(
     t = np.arange(M) * dt
     E = np.interp(t, t_vertex, np.asarray(path, dtype=float))
     return Waveform(t, E, dt, tuple(float(p) for p in path))
+
+
+def _check_grid(first_cm: float, ratio: float, length_cm: float) -> None:
+    """Refuse a space grid of more than :data:`MAX_GRID_POINTS` before it is built."""
+    n = math.log1p(length_cm * (ratio - 1.0) / first_cm) / math.log(ratio)
+    if not n <= MAX_GRID_POINTS:
+        raise SimulationError(
+            f"the space grid would need {n:.3g} points (at most {MAX_GRID_POINTS}): the "
+            "diffusion coefficients of the two forms lie too far apart (or grid_ratio is too "
+            "close to 1); bring them within a factor of 10^12"
+        )
 
 
 def _simulate_raw(
@@ -145,6 +166,7 @@ def _simulate_raw(
     grid_ratio: float = GRID_RATIO,
     backend: str = "auto",
     track_amounts: bool = False,
+    quiet_time_s: float = 0.0,
 ) -> tuple[Waveform, _kernel.MarchResult, dict[str, str]]:
     """Waveform, raw kernel output (profiles, amounts) and settings; no background/noise."""
     n = _whole("electrons", electrons)
@@ -166,33 +188,48 @@ def _simulate_raw(
         raise SimulationError(f"alpha must lie strictly between 0 and 1, got {alpha!r}")
     if initial_species not in ("ox", "red"):
         raise SimulationError(f"initial_species must be 'ox' or 'red', got {initial_species!r}")
+    quiet = _positive("quiet_time_s", quiet_time_s, allow_zero=True)
     wave = build_waveform(start_V, switch_V, cycles=cycles, step_V=step, scan_rate_V_s=v)
     nf = n * FARADAY / (GAS_CONSTANT * T)
     E_formal = E_half_V - 0.5 / nf * math.log(DR / DO)
     total_time = float(wave.time_s[-1]) if wave.time_s.size > 1 else wave.dt_s
-    grid = _kernel.Grid.expanding(
+    grid_args = (
         _positive("grid_first_factor", grid_first_factor) * math.sqrt(min(DO, DR) * wave.dt_s),
         _positive("grid_ratio", grid_ratio),
-        GRID_LENGTH_FACTOR * math.sqrt(max(DO, DR) * (total_time + wave.dt_s)),
+        GRID_LENGTH_FACTOR * math.sqrt(max(DO, DR) * (total_time + wave.dt_s + quiet)),
     )
+    _check_grid(*grid_args)
+    grid = _kernel.Grid.expanding(*grid_args)
+    bulk_O = C if initial_species == "ox" else 0.0
+    bulk_R = 0.0 if initial_species == "ox" else C
+    kinetic: dict[str, Any] = dict(E_formal_V=E_formal, nf_per_V=nf, k0_cm_s=k0, alpha=a)
+    start_state: dict[str, Any] = {}
+    held_A = 0.0
+    if quiet > 0.0:
+        held = _kernel.hold(
+            start_V, quiet, wave.dt_s, grid=grid, D_ox_cm2_s=DO, D_red_cm2_s=DR,
+            bulk_ox_mol_cm3=bulk_O, bulk_red_mol_cm3=bulk_R, nFA_C_per_mol=n * FARADAY * A,
+            backend=backend, **kinetic,
+        )  # fmt: skip
+        start_state, held_A = held.march_start(), held.current_A
     result = _kernel.march(
         wave.potential_V,
         wave.dt_s,
         grid=grid,
         D_ox_cm2_s=DO,
         D_red_cm2_s=DR,
-        bulk_ox_mol_cm3=C if initial_species == "ox" else 0.0,
-        bulk_red_mol_cm3=0.0 if initial_species == "ox" else C,
-        E_formal_V=E_formal,
-        nf_per_V=nf,
-        k0_cm_s=k0,
-        alpha=a,
+        bulk_ox_mol_cm3=bulk_O,
+        bulk_red_mol_cm3=bulk_R,
         resistance_ohm=Ru,
         double_layer_F=Cdl,
         nFA_C_per_mol=n * FARADAY * A,
         backend=backend,
         track_amounts=track_amounts,
+        **kinetic,
+        **start_state,
     )
+    # the first sample carries the current the hold ended on (the march starts at rest)
+    result.faradaic_A[0] = held_A
     settings = {
         "generator": "cvfit.simulate.voltammogram",
         "E_half_V": repr(E_half_V),
@@ -214,6 +251,7 @@ def _simulate_raw(
         "temperature_K": repr(T),
         "double_layer_F": repr(Cdl),
         "resistance_ohm": repr(Ru),
+        "quiet_time_s": repr(quiet),
         "grid_points": str(grid.x_cm.size),
     }
     return wave, result, settings
@@ -243,6 +281,7 @@ def simulate_cv(
     noise_fraction: float = 0.0,
     seed: int | None = None,
     source: str = "<simulated>",
+    quiet_time_s: float = 0.0,
 ) -> Voltammogram:
     """Simulate one cyclic voltammogram.
 
@@ -252,8 +291,11 @@ def simulate_cv(
         Reversible half-wave potential, V. The formal potential follows from
         E½ = E°' + (RT/2nF)·ln(D_R/D_O).
     start_V : float
-        Initial potential, V (the current is zero there: the solution is at its bulk
-        composition when the sweep starts).
+        Initial potential, V. The solution is at its bulk composition when the potential
+        steps to start_V; with ``quiet_time_s`` = 0 the sweep starts at once (the current
+        of the first sample is zero), else the electrode is held at start_V for that time
+        first, and where the bulk form reacts at start_V the record opens on the decaying
+        current of that hold.
     switch_V : float or sequence of float
         One switching potential (start → switch → start per cycle) or several vertices
         (start → v1 → v2 → … → start per cycle), V.
@@ -288,6 +330,10 @@ def simulate_cv(
         Noise seed.
     source : str
         Name given to the Voltammogram.
+    quiet_time_s : float
+        Time the electrode is held at start_V before the sweep, s (exponentially expanding
+        time steps, :func:`cvfit.simulate.finite_difference.hold`; the hold's own ohmic
+        drop and charging are neglected: both have died away long before its end).
 
     Returns
     -------
@@ -326,6 +372,7 @@ def simulate_cv(
         temperature_K=temperature_K,
         double_layer_F=double_layer_F,
         resistance_ohm=resistance_ohm,
+        quiet_time_s=quiet_time_s,
     )
     current = raw.faradaic_A + raw.charging_A + offset + slope * wave.potential_V
     if noise > 0.0:

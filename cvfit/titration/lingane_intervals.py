@@ -1,26 +1,21 @@
-"""Confidence intervals of the Lingane fit's derived quantities (Quantity builders)."""
+"""The reference E½(s) folded into the Lingane fit's intercept (the interval arithmetic
+itself is on :class:`cvfit.quantity.Quantity`)."""
 
 from __future__ import annotations
 
 import math
 
-from cvfit.quantity import Quantity, t_interval
-from cvfit.titration.lingane_regression import combined_interval
+from cvfit.quantity import Quantity
 
 __all__ = ["t_quantity", "scaled", "with_reference"]
 
-
-def t_quantity(value: float, stderr: float, dof: float) -> Quantity:
-    """Quantity with a Student-t interval on *dof* (normal when infinite)."""
-    lo, hi = t_interval(value, stderr, dof)
-    how = "normal" if math.isinf(dof) else f"student-t, dof={int(dof)}"
-    return Quantity(value, stderr, (lo, hi), how)
+#: Quantity with a Student-t interval on *dof* (normal when infinite).
+t_quantity = Quantity.from_t
 
 
 def scaled(q: Quantity, factor: float, note: str = "") -> Quantity:
-    """``factor · q`` (a linear change of unit, e.g. V → log10 units)."""
-    lo, hi = sorted((q.ci95[0] * factor, q.ci95[1] * factor))
-    return Quantity(q.value * factor, q.stderr * abs(factor), (lo, hi), q.method + note)
+    """``factor · q`` (see :meth:`cvfit.quantity.Quantity.scaled`)."""
+    return q.scaled(factor, note)
 
 
 def with_reference(
@@ -47,11 +42,8 @@ def with_reference(
         ref_var = scale * (1.0 if base is None else base)
         q = t_quantity(value, math.sqrt(fit_variance + ref_var), dof)
         if reference_stderr is not None:
-            q = Quantity(q.value, q.stderr, q.ci95, q.method + ", reference scaled with the fit")
+            q = q.with_note(", reference scaled with the fit")
         return q, ref_var, float(dof)
     ref_var = reference_stderr**2
-    lo, hi, nu = combined_interval(value, fit_variance, dof, ref_var)
-    how = f"student-t (dof={dof}) and normal reference in quadrature" + (
-        "" if math.isinf(nu) else f", equivalent dof={nu:.1f}"
-    )
-    return Quantity(value, math.sqrt(fit_variance + ref_var), (lo, hi), how), ref_var, nu
+    q, nu = Quantity.combined(value, fit_variance, dof, ref_var)
+    return q, ref_var, nu

@@ -11,9 +11,10 @@ Levenberg–Marquardt (``leastsq``) from several starts, the lowest residual sum
 The standard errors come from the Jacobian at the optimum with the scale estimated from
 the residuals (s² = RSS/ν); the 95 % intervals of the pKa are profile-likelihood
 intervals — the values whose profiled RSS exceeds the minimum by at most s²·F(1, ν) — which
-are asymmetric where the data reach only one side of a pKa. The number of steps of each
-form is chosen as for the stepwise constants (:func:`choose`): the smallest candidate no
-larger candidate containing it beats by an extra-sum-of-squares F-test at 1 %.
+are asymmetric where the data reach only one side of a pKa (the walk and the crossing of
+:mod:`cvfit.likelihood`). The number of steps of each form is chosen as for the stepwise
+constants (:func:`choose`): the smallest candidate no larger candidate containing it beats
+by an extra-sum-of-squares F-test at 1 %.
 
 lmfit is imported only when a pH series is fitted.
 
@@ -33,9 +34,9 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
-from scipy import optimize
 
 from cvfit.chemistry.protonation import LN10, proton_half_wave_V, protonation_fractions
+from cvfit.likelihood import profile_side
 from cvfit.quantity import f_quantile, f_upper_tail
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -306,27 +307,18 @@ def profile_interval(
     lo, hi = data.bounds
     best = dict(zip(fit.names, fit.values, strict=True))
 
-    def excess(v: float, start: dict[str, float]) -> tuple[float, dict[str, float]]:
-        # √(rise) − √(threshold): nearly straight in v, so the root is found in few steps
+    def rise(v: float, start: dict[str, float]) -> tuple[float, dict[str, float]]:
         values, rss = _solve(data, fit.n_ox, fit.n_red, start, fixed={name: v})
-        return math.sqrt(max(rss - fit.rss, 0.0)) - math.sqrt(crit), values
+        return rss - fit.rss, values
 
-    # the first step goes to where a quadratic profile would cross
+    # the first step goes to where a quadratic profile would cross; √(rise) is nearly
+    # straight in v, so its root is found in few refits
     first = se * math.sqrt(crit / s2) if math.isfinite(se) else 0.3
+    step = min(max(1.05 * first, 1e-3), 1.0)
     out = []
     for direction, bound in ((-1.0, lo), (1.0, hi)):
-        start, inner, step, limit = best, v0, min(max(1.05 * first, 1e-3), 1.0), math.nan
-        while True:
-            v = v0 + direction * step
-            if (v - bound) * direction >= 0:
-                v = bound
-            g, values = excess(v, start)
-            if g > 0:
-                f = lambda x, s=start: excess(x, s)[0]  # noqa: E731
-                limit = optimize.brentq(f, min(inner, v), max(inner, v), xtol=1e-4)
-                break
-            if v == bound:
-                break
-            start, inner, step = values, v, step * 2.0
-        out.append(limit)
+        side = profile_side(
+            rise, v0, best, crit, direction=direction, step=step, bound=bound, crossing="root"
+        )
+        out.append(math.nan if side.open else side.limit)
     return (out[0], out[1])

@@ -25,14 +25,17 @@ Venzon, D. J.; Moolgavkar, S. H. Appl. Stat. 1988, 37, 87 (profile-likelihood in
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 from scipy import optimize
 
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import species_fractions
+from cvfit.likelihood import profile_side
 from cvfit.quantity import f_quantile
+from cvfit.titration import stepwise_parameters as lm
 
 __all__ = ["StepwiseData", "CandidateFit", "fit_candidate", "profile_interval"]
 
@@ -54,6 +57,8 @@ class StepwiseData:
     thermal_V: float  # RT/nF
     sign: float  # +1: fitted constants are the oxidised form's; -1: the reduced form's
     ln_F0_other: np.ndarray
+    #: The other form's given log10 β_j (ln_F0_other is their ln F0 at ligand_M).
+    fixed_log10_beta: tuple[float, ...] = ()
 
     @property
     def n_obs(self) -> int:
@@ -95,6 +100,8 @@ class CandidateFit:
     dof: int
     covariance: np.ndarray | None  # scaled by rss/dof; None when singular or dof = 0
     at_bound: tuple[bool, ...]  # per log10 β_j
+    #: The optimum as lmfit.Parameters (None where the fit did not run through lmfit).
+    lmfit_params: Any = field(default=None, compare=False, repr=False)
 
     @property
     def scale(self) -> float:
@@ -158,14 +165,16 @@ def _starts(data: StepwiseData, N: int, previous: np.ndarray | None) -> list[np.
 
 
 def fit_candidate(data: StepwiseData, N: int, previous: np.ndarray | None = None) -> CandidateFit:
-    """Best fit with N complexes (several starts; the lowest residual sum wins)."""
+    """Best fit with N complexes by lmfit (several starts; the lowest residual sum wins)."""
     lo, hi = data.bounds(N)
     best = None
     for p0 in _starts(data, N, previous):
-        p, rss = _solve(data, p0, lo, hi)
+        result = lm.minimise(data, lm.parameters(data, p0, lo, hi))
+        p = lm.values(result.params, data, N)
+        rss = float(np.sum(data.residuals(p) ** 2))
         if best is None or rss < best[1] - 1e-12:
-            best = (p, rss)
-    p, rss = best
+            best = (p, rss, result.params)
+    p, rss, params = best
     dof = data.n_obs - (N + 1)
     tol = 1e-4 * (hi[1:] - lo[1:])
     at_bound = tuple(bool(x) for x in ((p[1:] - lo[1:] < tol) | (hi[1:] - p[1:] < tol)))
@@ -175,7 +184,7 @@ def fit_candidate(data: StepwiseData, N: int, previous: np.ndarray | None = None
         JTJ = J.T @ J
         if np.linalg.cond(JTJ) < 1e14:
             cov = np.linalg.inv(JTJ) * (rss / dof)
-    return CandidateFit(N, p, rss, dof, cov, at_bound)
+    return CandidateFit(N, p, rss, dof, cov, at_bound, params)
 
 
 def profile_interval(
@@ -208,30 +217,17 @@ def profile_interval(
     se = math.sqrt(fit.covariance[index, index]) if fit.covariance is not None else 0.5
     step0 = min(max(se, 0.02), 2.0)
 
-    def excess(v: float, start: np.ndarray) -> tuple[float, np.ndarray]:
+    def rise(v: float, start: np.ndarray) -> tuple[float, np.ndarray]:
         p, rss = _solve(data, start, lo, hi, fixed=(index, v))
-        return rss - fit.rss - crit, p
+        return rss - fit.rss, p
 
     out = []
     for direction, bound in ((-1.0, lo[index]), (1.0, hi[index])):
         if sides == "upper" and direction < 0:
             out.append(math.nan)
             continue
-        start = fit.params.copy()
-        inner = v0
-        step = step0
-        limit = math.nan
-        while True:
-            v = v0 + direction * step
-            if (v - bound) * direction >= 0:
-                v = bound
-            g, p = excess(v, start)
-            if g > 0:
-                f = lambda x, s=start: excess(x, s)[0]  # noqa: E731
-                limit = optimize.brentq(f, min(inner, v), max(inner, v), xtol=1e-4)
-                break
-            if v == bound:
-                break
-            inner, start, step = v, p, step * 2.0
-        out.append(limit)
+        side = profile_side(
+            rise, v0, fit.params.copy(), crit, direction=direction, step=step0, bound=bound
+        )
+        out.append(math.nan if side.open else side.limit)
     return (out[0], out[1])

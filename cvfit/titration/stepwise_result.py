@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -149,6 +149,10 @@ class StepwiseFit:
     model: str = "stepwise"
     error_budget: tuple[ErrorBudget, ...] | None = None
     extra_scatter_V: float | None = None
+    #: The chosen optimum as :class:`lmfit.Parameters` (E½(s), the fitted log10 β_j with
+    #: their bounds and lmfit's standard errors, the other form's given constants with
+    #: ``vary=False``), for Python users; not compared, not written to results.json.
+    lmfit_params: Any = field(default=None, compare=False, repr=False)
 
     def __post_init__(self) -> None:
         if self.fitted_state not in ("ox", "red"):

@@ -48,7 +48,10 @@ def plot_internal_standard(result: SeriesResult, path: str | Path) -> Path:
     e_std = np.array([_nan(None if s is None else s.E_half_V) for s in stds])
     se_std = np.array([_nan(None if s is None else s.E_half_stderr_V) for s in stds])
     ok = np.array([s is not None and s.reversible is True for s in stds])
-    drift = 1e3 * (e_std - np.nanmean(e_std))
+    # no standard found in any file (its window outside the data): nothing to centre on,
+    # and the files carry INTERNAL_STANDARD_NOT_FOUND
+    centre = np.nanmean(e_std) if np.any(np.isfinite(e_std)) else 0.0
+    drift = 1e3 * (e_std - centre)
     referenced = np.array([_nan(f.E_half_V) for f in files])
     raw = referenced + e_std  # E½ on the electrode scale up to the assigned constant
     labels = [f"{f.ligand_M * 1e3:g}" for f in files]
@@ -80,6 +83,8 @@ def plot_internal_standard(result: SeriesResult, path: str | Path) -> Path:
                 (referenced, _STD_COLOUR, "against the standard"),
             ):
                 ok_pts = fitted & np.isfinite(values)
+                if np.count_nonzero(ok_pts) < 3:
+                    continue  # too few points for a line (the standard missing in most files)
                 coef = np.polyfit(lx[ok_pts], values[ok_pts], 1)
                 resid = 1e3 * (values - np.polyval(coef, lx))
                 rms = float(np.sqrt(np.mean(resid[ok_pts] ** 2)))
@@ -87,7 +92,8 @@ def plot_internal_standard(result: SeriesResult, path: str | Path) -> Path:
                         label=f"analyte E½ {label} (rms {rms:.2f} mV)")  # fmt: skip
             bx.axhline(0.0, color="0.6", lw=0.8)
             bx.set_ylabel("E½ − straight line in log10[L] / mV")
-            bx.legend(loc="best", fontsize=8)
+            if bx.get_legend_handles_labels()[0]:
+                bx.legend(loc="best", fontsize=8)
         else:
             bx.text(0.5, 0.5, "fewer than three titration points", ha="center",
                     transform=bx.transAxes)  # fmt: skip

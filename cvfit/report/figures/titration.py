@@ -29,6 +29,7 @@ from cvfit.quantity import t_quantile  # noqa: E402
 from cvfit.report.atomic import atomic_path  # noqa: E402
 from cvfit.report.figures.legend_placement import quiet_corner  # noqa: E402
 from cvfit.report.headline import constant_lines  # noqa: E402
+from cvfit.report.imported_columns import potential_kind  # noqa: E402
 from cvfit.techniques.curves import (
     MAX_POINTS_DRAWN,
     MAX_POINTS_PER_FIGURE,
@@ -240,8 +241,9 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                         label=f"failed the screen,\n{fate} ({which} M)",
                     )  # fmt: skip
                 )
+        kind = potential_kind([f.imported_columns for f in result.files])
         ax.set_xlabel(
-            "E / V"
+            (f"E ({kind}) / V" if kind else "E / V")
             + (
                 f" vs {result.series.reference_electrode}"
                 if result.series.reference_electrode

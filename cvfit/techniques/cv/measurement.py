@@ -81,7 +81,11 @@ class CVMeasurement:
 
     @property
     def bulk_form(self) -> Literal["ox", "red"]:
-        """The form in the bulk of the solution: the one the first sweep converts."""
+        """The form in the bulk of the solution: the curve fit's where the file has one
+        (``[series] bulk_form``, or detected from the record's start), else the one the
+        first sweep converts."""
+        if self.curve_fit is not None:
+            return "red" if self.curve_fit.bulk_form == "red" else "ox"
         return "red" if self.peaks.first_sweep == "oxidation" else "ox"
 
     @property

@@ -47,6 +47,7 @@ import numpy as np
 from scipy.optimize import least_squares
 
 from cvfit.errors import FitError
+from cvfit.likelihood import profile_side
 from cvfit.quantity import Quantity, chi2_quantile, clean_number
 from cvfit.techniques.cv.curve.fit import ALPHA_RANGE
 from cvfit.techniques.cv.curve.model import CurveModel
@@ -381,7 +382,11 @@ def fit_global(
     sol = least_squares(fun, x0, jac=jac, bounds=bounds, x_scale="jac", method="trf")
     x = sol.x
     ssr = float(np.sum(fun(x) ** 2))
-    n_linear = (3 if share_C else 4) * len(files)
+    # closed-form terms per file: the scale, the common background and (unless shared)
+    # the capacitance's coefficients
+    n_linear = sum(
+        1 + f.model.orders[0] + 1 + (0 if share_C else f.model.orders[1] + 1) for f in files
+    )
     dof = int(offsets[-1]) - x.size - n_linear
     chi2 = ssr / dof
     inflate = max(1.0, chi2)
@@ -420,19 +425,20 @@ def fit_global(
             out[free] = s.x
             return float(np.sum(s.fun**2)), out
 
-        ends = []
-        for sign in (-1.0, 1.0):
-            # Δχ² is quadratic near the optimum: try ±1.96 σ, then correct once
-            h = 1.959963984540054 * (se[index] if math.isfinite(se[index]) else 0.01)
-            cost, xs = cost_at(x[index] + sign * h, x)
-            d = max(cost - ssr, 1e-12) / inflate
-            h2 = h * math.sqrt(threshold / d)
-            cost2, _ = cost_at(x[index] + sign * h2, xs)
-            d2 = max(cost2 - ssr, 1e-12) / inflate
-            # secant between the two trials in √Δχ² (linear for a quadratic profile)
-            a, b = math.sqrt(d), math.sqrt(d2)
-            step = h2 if a == b else h + (math.sqrt(threshold) - a) * (h2 - h) / (b - a)
-            ends.append(x[index] + sign * step)
+        def rise(value: float, start_x: np.ndarray) -> tuple[float, np.ndarray]:
+            cost, out = cost_at(value, start_x)
+            return max(cost - ssr, 1e-12) / inflate, out
+
+        # Δχ² is nearly quadratic near the optimum: the first trial at ±1.96 σ, the
+        # crossing interpolated in √Δχ² and corrected once
+        h = 1.959963984540054 * (se[index] if math.isfinite(se[index]) else 0.01)
+        ends = [
+            profile_side(
+                rise, float(x[index]), x, threshold, direction=sign, step=h,
+                bound=float(bounds[k][index]), max_steps=12, crossing="sqrt", polish=1,
+            ).limit
+            for k, sign in ((0, -1.0), (1, 1.0))
+        ]  # fmt: skip
         return ends[0], ends[1]
 
     def q(k: int, ci: tuple[float, float] | None = None) -> Quantity:

@@ -19,9 +19,10 @@ from collections.abc import Callable
 
 import numpy as np
 
-from cvfit.quantity import chi2_quantile
+from cvfit.likelihood import ProfileSide, profile_side
+from cvfit.quantity import Quantity, chi2_quantile
 
-__all__ = ["log_k0_interval", "runs_test_z", "PROFILE_WHEN_STDERR"]
+__all__ = ["log_k0_interval", "resistance_interval", "runs_test_z", "PROFILE_WHEN_STDERR"]
 
 #: Standard error of log10 k0 above which the covariance interval is replaced by the
 #: profile (common practice: beyond ~0.15 decades the curvature of χ² is far from
@@ -48,13 +49,6 @@ def runs_test_z(residual: np.ndarray) -> float:
     mean = 2.0 * n1 * n2 / n + 1.0
     var = 2.0 * n1 * n2 * (2.0 * n1 * n2 - n) / (n * n * (n - 1.0))
     return (runs - mean) / math.sqrt(var) if var > 0 else math.nan
-
-
-def _crossing(a: float, da: float, b: float, db: float, level: float) -> float:
-    """Where the profile (linear between a and b) reaches *level*."""
-    if db == da:
-        return b
-    return a + (level - da) * (b - a) / (db - da)
 
 
 def log_k0_interval(
@@ -89,27 +83,58 @@ def log_k0_interval(
     """
     lo_b, hi_b = bounds
     near_top = best > hi_b - 1.0
-    if math.isfinite(stderr) and stderr < PROFILE_WHEN_STDERR and not near_top:
+    quadratic = math.isfinite(stderr) and stderr < PROFILE_WHEN_STDERR
+    if quadratic and not near_top:
         h = 1.959963984540054 * stderr
         return best - h, best + h, False
     threshold = float(chi2_quantile(level, 1))
+    # first step about the covariance half-width (a step far beyond the crossing makes
+    # the interpolation crude), then doubling up to the fixed steps
+    first = 1.2 * 1.959963984540054 * stderr if quadratic else math.inf
 
-    def walk(step: float, limit: float) -> tuple[float, bool]:
-        prev_l, prev_d = best, 0.0
-        x = x_best
-        for _ in range(_MAX_STEPS):
-            lk = prev_l + step
-            if (step > 0 and lk >= limit) or (step < 0 and lk <= limit):
-                lk = limit
-            ssr, x = profile_cost(lk, x)
-            d = max(ssr - ssr_min, 0.0) / inflate
-            if d >= threshold:
-                return _crossing(prev_l, prev_d, lk, d, threshold), False
-            if lk == limit:
-                return limit, True
-            prev_l, prev_d = lk, d
-        return prev_l, True
+    def rise(lk: float, x: np.ndarray) -> tuple[float, np.ndarray]:
+        ssr, x = profile_cost(lk, x)
+        return max(ssr - ssr_min, 0.0) / inflate, x
+
+    def walk(largest: float, limit: float) -> ProfileSide:
+        direction = 1.0 if largest > 0 else -1.0
+        return profile_side(
+            rise, best, x_best, threshold, direction=direction,
+            step=min(first, abs(largest)), bound=limit, grow=2.0 if quadratic else 1.0,
+            max_steps=_MAX_STEPS, crossing="sqrt",
+        )  # fmt: skip
 
     hi, open_upper = walk(_STEP_UP, hi_b)
     lo, _ = walk(-_STEP_DOWN, lo_b)
     return lo, hi, open_upper
+
+
+def resistance_interval(
+    best: float,
+    stderr: float,
+    ssr_min: float,
+    inflate: float,
+    profile_cost: Callable[[float, np.ndarray], tuple[float, np.ndarray]],
+    x_best: np.ndarray,
+    *,
+    level: float = 0.95,
+) -> Quantity:
+    """A fitted R_u with a 95 % interval that never reaches below zero.
+
+    The covariance interval where it stays above zero; else its lower side from the χ²
+    profile towards R_u = 0 (the other parameters refitted there): 0 when Δχ² at R_u = 0
+    stays below the level's quantile, else where √Δχ² (linear in R_u for a quadratic
+    profile) reaches it.
+    """
+    h = 1.959963984540054 * stderr
+    if not math.isfinite(stderr):
+        return Quantity(best, stderr, (math.nan, math.nan), "covariance")
+    if best - h >= 0.0:
+        return Quantity(best, stderr, (best - h, best + h), "covariance")
+    threshold = float(chi2_quantile(level, 1))
+    if best <= 1e-6 * h:  # at the bound: the profile starts there
+        return Quantity(best, stderr, (0.0, best + h), "covariance, bounded at 0")
+    ssr0, _ = profile_cost(0.0, x_best)
+    d0 = max(ssr0 - ssr_min, 0.0) / inflate
+    lo = 0.0 if d0 <= threshold else best * (1.0 - math.sqrt(threshold / d0))
+    return Quantity(best, stderr, (lo, best + h), "covariance; lower side from the χ² profile")

@@ -1,5 +1,5 @@
 """Model of a whole voltammogram for the curve fit: the simulator's faradaic shape plus
-the linear terms (current scale, double-layer charging, linear background).
+the linear terms (current scale, charging, background; :mod:`.linear`).
 
 The faradaic current of a one-step couple at a planar electrode is the current scale
 ``n F A C √D`` times a shape that depends only on E½, Λ = k0/√D, α, the D_R/D_O ratio and
@@ -9,11 +9,19 @@ with unit concentration, unit n F A and the assumed D; the ohmic drop enters thr
 potential: ``E = E_applied − R_u·(i_measured − background)`` drives the simulation. Written
 that way every other term is linear in its coefficient,
 
-    i(t) = s·f(t; E½, k0, α, R_u) + C_dl·dE/dt + b0 + b1·E_applied,
+    i(t) = s·f(t; E½, k0, α, R_u) + C(E)·dE/dt + b(E),
 
-so the fit solves s, C_dl, b0, b1 in closed form for each trial of the non-linear
-parameters (variable projection) and the non-linear search has only E½, log10 k0, α and,
-when it is not given, R_u.
+(C(E) ≥ 0 and b(E) low-order polynomials, :mod:`cvfit.techniques.cv.curve.linear`) so the
+fit solves s and the background's coefficients in closed form for each trial of the
+non-linear parameters (variable projection) and the non-linear search has only E½,
+log10 k0, α and, when it is not given, R_u.
+
+Initial state: the bulk form alone, uniform, at rest; the potential steps to the first
+recorded potential and is held there for the quiet time (``CurveData.quiet_time_s``,
+:func:`cvfit.simulate.finite_difference.hold`) before the first sample, so a record that
+starts where the bulk form already reacts opens on the decaying current the model
+reproduces. The simulation then runs from the first sample through every earlier cycle to
+the end of the analysed one: a later cycle starts from the state the earlier ones left.
 
 References
 ----------
@@ -31,9 +39,18 @@ from dataclasses import dataclass
 import numpy as np
 
 from cvfit.errors import FitError
+from cvfit.techniques.cv.curve.linear import BackgroundBasis, solve_terms
 from cvfit.units import FARADAY, GAS_CONSTANT
 
 __all__ = ["CurveData", "CurveModel", "LinearSolution", "curve_data"]
+
+#: nF(E − E°')/RT beyond which the hold at a potential is skipped: the bulk form's share
+#: that reacts there at equilibrium, e^−9 ≈ 1e-4, gives a hold current below 1e-4 of the
+#: diffusion-limited one, ten times under the model's precision floor (1e-3 of the peak).
+REST_EXPONENT = 9.0
+
+#: Orders of the old model: a linear background and one constant capacitance.
+LINEAR_ORDERS = (1, 0)
 
 #: Width of the moving mean of the measured current that gives the first ohmic drop,
 #: samples (the model's own current replaces it, :meth:`CurveModel.settle_drop`).
@@ -82,9 +99,14 @@ class CurveData:
     electrons : int
     temperature_K : float
     bulk : {"ox", "red"}
-        The form present in the bulk (reduction-first: ox).
+        The form present in the bulk.
     sigma_A : float
         Standard deviation of a current sample, A (the weight of every point).
+    quiet_time_s : float
+        Time the electrode was held at the first recorded potential before the first
+        sample, s (0: the sweep started from rest at once).
+    bulk_source, quiet_source : str
+        How the bulk form and the quiet time were decided (said in the outputs).
     """
 
     potential_V: np.ndarray
@@ -95,6 +117,9 @@ class CurveData:
     temperature_K: float
     bulk: str
     sigma_A: float
+    quiet_time_s: float = 0.0
+    bulk_source: str = "given"
+    quiet_source: str = "given"
 
     def __post_init__(self) -> None:
         n = self.potential_V.size
@@ -110,6 +135,8 @@ class CurveData:
             raise FitError("curve data: a potential or current is not a finite number")
         if self.bulk not in ("ox", "red"):
             raise FitError(f"curve data: bulk must be 'ox' or 'red', got {self.bulk!r}")
+        if not (self.quiet_time_s >= 0 and math.isfinite(self.quiet_time_s)):
+            raise FitError(f"curve data: quiet time must be >= 0 s, got {self.quiet_time_s}")
 
     @property
     def nf_per_V(self) -> float:
@@ -129,11 +156,14 @@ def curve_data(
     temperature_K: float,
     bulk: str,
     sigma_A: float,
+    quiet_time_s: float = 0.0,
+    bulk_source: str = "given",
+    quiet_source: str = "given",
 ) -> CurveData:
     """Samples 0..*stop* (inclusive) of a record, the analysed cycle *start*..*stop* fitted.
 
     The sampling interval is taken from the time column, else from the potential step and
-    the scan rate.
+    the scan rate. *quiet_time_s*: the hold at the first potential before the record.
 
     Raises
     ------
@@ -160,7 +190,10 @@ def curve_data(
         )
     mask = np.zeros(E.size, dtype=bool)
     mask[start:] = True
-    return CurveData(E, i, dt, mask, int(electrons), float(temperature_K), bulk, float(sigma_A))
+    return CurveData(
+        E, i, dt, mask, int(electrons), float(temperature_K), bulk, float(sigma_A),
+        float(quiet_time_s), bulk_source, quiet_source,
+    )  # fmt: skip
 
 
 @dataclass(frozen=True)
@@ -170,8 +203,9 @@ class LinearSolution:
     Attributes
     ----------
     coefficients : ndarray
-        (s, C_dl, b0, b1): current scale (A per unit shape), double-layer capacitance (F),
-        background offset (A) and slope (A/V).
+        (s, C_dl, b0, b1): current scale (A per unit shape), the mean capacitance over
+        the fitted samples (F), and the background's offset (A) and slope (A/V) of its
+        tangent at the middle of the window.
     faradaic_A, charging_A, background_A : ndarray
         The three parts of the model current on every sample.
     residual : ndarray
@@ -188,10 +222,25 @@ class LinearSolution:
     background_A: np.ndarray
     residual: np.ndarray
     charging_projected: np.ndarray | None = None
+    capacitance_F: np.ndarray | None = None
 
     @property
     def model_A(self) -> np.ndarray:
         return self.faradaic_A + self.charging_A + self.background_A
+
+
+@dataclass(frozen=True)
+class _Fixed:
+    """Weighted data, background columns on the fitted samples and the potential's
+    centring (:meth:`CurveModel.solve_linear`)."""
+
+    y: np.ndarray
+    common: np.ndarray
+    capacitance: np.ndarray
+    capacitance_mean: np.ndarray
+    dE: np.ndarray
+    dE2: float
+    E_mean: float
 
 
 class CurveModel:
@@ -205,18 +254,33 @@ class CurveModel:
         depends on k0/√D only, so k0 scales with √D (see :mod:`cvfit.techniques.cv.curve.fit`).
     backend : str
         Simulator back end (``"auto"``: numba when installed).
+    orders : (int, int)
+        Orders of the common background and of the capacitance
+        (:mod:`cvfit.techniques.cv.curve.linear`); (1, 0): linear background, constant C.
     """
 
-    def __init__(self, data: CurveData, D_cm2_s: float, backend: str = "auto") -> None:
+    def __init__(
+        self,
+        data: CurveData,
+        D_cm2_s: float,
+        backend: str = "auto",
+        *,
+        orders: tuple[int, int] = LINEAR_ORDERS,
+    ) -> None:
         if not (D_cm2_s > 0 and math.isfinite(D_cm2_s)):
             raise FitError(f"the assumed D must be positive, got {D_cm2_s}")
         self.data = data
         self.D_cm2_s = float(D_cm2_s)
         self.backend = backend
+        self.orders = (int(orders[0]), int(orders[1]))
         self.simulations = 0
         self.simulation_time_s = 0.0
         self._drop_current_A = smoothed(data.current_A, DROP_SMOOTHING_POINTS)
         self._grids: dict[tuple[float, float], tuple] = {}
+        E_fit = data.potential_V[data.fit_mask]
+        self.window_V = (float(E_fit.min()), float(E_fit.max()))
+        self._bases: dict[tuple[int, int], BackgroundBasis] = {}
+        self._fixed_parts: dict[int, _Fixed] = {}
 
     def set_drop_current(self, current_A: np.ndarray) -> None:
         """The cell current whose ohmic drop the electrode sees (faradaic plus charging)."""
@@ -254,7 +318,7 @@ class CurveModel:
         if key not in self._grids:
             _kernel, (GRID_FIRST_FACTOR, GRID_RATIO, GRID_LENGTH_FACTOR) = _simulator()
             d = self.data
-            total = d.dt_s * d.potential_V.size
+            total = d.dt_s * d.potential_V.size + d.quiet_time_s
             grid = _kernel.Grid.expanding(
                 GRID_FIRST_FACTOR * math.sqrt(min(D_ox, D_red) * d.dt_s),
                 GRID_RATIO,
@@ -262,8 +326,9 @@ class CurveModel:
             )
             op_O = _kernel.species_operator(grid, D_ox, d.dt_s)
             op_R = op_O if D_red == D_ox else _kernel.species_operator(grid, D_red, d.dt_s)
-            # keep one: the D ratio changes only when it is fitted
-            self._grids = {key: (grid, (op_O, op_R))}
+            # keep one: the D ratio changes only when it is fitted; the dict keeps the
+            # hold's operators, one pair per time step
+            self._grids = {key: (grid, (op_O, op_R), {})}
         return self._grids[key]
 
     def shape(
@@ -290,12 +355,10 @@ class CurveModel:
         drive = self.drive_V(resistance_ohm)
         k0 = 0.0 if math.isinf(log10_k0) else 10.0**log10_k0
         t0 = time.perf_counter()
-        grid, operators = self._grid(D_ox, D_red)
-        raw = _simulator()[0].march(
-            drive,
-            d.dt_s,
+        grid, operators, hold_operators = self._grid(D_ox, D_red)
+        kernel = _simulator()[0]
+        common = dict(
             grid=grid,
-            operators=operators,
             D_ox_cm2_s=D_ox,
             D_red_cm2_s=D_red,
             bulk_ox_mol_cm3=1.0 if d.bulk == "ox" else 0.0,
@@ -304,54 +367,122 @@ class CurveModel:
             nf_per_V=nf,
             k0_cm_s=k0,
             alpha=alpha,
-            resistance_ohm=0.0,
-            double_layer_F=0.0,
             nFA_C_per_mol=1.0,
             backend=self.backend,
         )
+        start: dict = {}
+        held_A = 0.0
+        # at rest the hold changes nothing: skip it where the bulk form is stable at the
+        # first potential to within e^−9 (its equilibrium share of the other form)
+        at_rest = (1.0 if d.bulk == "ox" else -1.0) * nf * (
+            float(drive[0]) - common["E_formal_V"]
+        ) > REST_EXPONENT
+        if d.quiet_time_s > 0.0 and not at_rest:
+            # the hold at the first potential the electrode saw (the drop of the hold's
+            # current has died away by its end, finite_difference.hold)
+            held = kernel.hold(
+                float(drive[0]), d.quiet_time_s, d.dt_s, operators=hold_operators, **common
+            )
+            start, held_A = held.march_start(), held.current_A
+        raw = kernel.march(
+            drive, d.dt_s, operators=operators, resistance_ohm=0.0, double_layer_F=0.0,
+            **common, **start,
+        )  # fmt: skip
+        raw.faradaic_A[0] = held_A
         self.simulation_time_s += time.perf_counter() - t0
         self.simulations += 1
         return raw.faradaic_A, drive
 
-    def solve_linear(
-        self, shape: np.ndarray, drive_V: np.ndarray, double_layer_F: float | None = None
-    ) -> LinearSolution:
-        """Least-squares s, C_dl, b0, b1 for a given shape (QR on the fitted samples).
+    def basis(self, orders: tuple[int, int] | None = None) -> BackgroundBasis:
+        """Background columns of these *orders* (the model's own by default), cached."""
+        key = self.orders if orders is None else (int(orders[0]), int(orders[1]))
+        if key not in self._bases:
+            self._bases[key] = BackgroundBasis.build(
+                self.data.potential_V, self.window_V,
+                background_order=key[0], capacitance_order=key[1],
+            )  # fmt: skip
+        return self._bases[key]
 
-        With *double_layer_F* given, C_dl is held at it (a capacitance shared by several
-        records, fitted outside) and s, b0, b1 are solved.
+    def solve_linear(
+        self,
+        shape: np.ndarray,
+        drive_V: np.ndarray,
+        double_layer_F: float | None = None,
+        *,
+        mask: np.ndarray | None = None,
+        orders: tuple[int, int] | None = None,
+    ) -> LinearSolution:
+        """Least-squares scale and background for a given shape on the fitted samples.
+
+        With *double_layer_F* given, the capacitance is that constant (a capacitance shared
+        by several records, fitted outside) and the scale and common background are
+        solved. *mask* and *orders* replace the fitted samples and the background's orders
+        (a variant of the fit, :mod:`cvfit.techniques.cv.curve.stability`).
         """
         d = self.data
-        charging = np.empty_like(drive_V)
-        charging[0] = 0.0
+        rate = np.empty_like(drive_V)
+        rate[0] = 0.0
         # backward difference: exact for the piecewise-linear sweep, as the simulator
-        charging[1:] = np.diff(drive_V) / d.dt_s
-        m = d.fit_mask
-        y = d.current_A[m] / d.sigma_A
-        if double_layer_F is None:
-            basis = np.column_stack([shape, charging, np.ones_like(shape), d.potential_V])
-            A = basis[m] / d.sigma_A
-            coef, *_ = np.linalg.lstsq(A, y, rcond=None)
-            projected = None
-            residual = y - A @ coef
+        rate[1:] = np.diff(drive_V) / d.dt_s
+        m = d.fit_mask if mask is None else mask
+        basis = self.basis(orders)
+        fixed = self._fixed(basis, m, cache=mask is None)
+        sig = d.sigma_A
+        if double_layer_F is not None:
+            charging_w = (rate[m] / sig)[:, None]
         else:
-            basis = np.column_stack([shape, np.ones_like(shape), d.potential_V])
-            A = basis[m] / d.sigma_A
-            c = charging[m] / d.sigma_A
-            Q, _ = np.linalg.qr(A)
-            projected = c - Q @ (Q.T @ c)
-            yc = y - double_layer_F * c
-            part, *_ = np.linalg.lstsq(A, yc, rcond=None)
-            coef = np.array([part[0], double_layer_F, part[1], part[2]])
-            residual = yc - A @ part
-        return LinearSolution(
-            coefficients=coef,
-            faradaic_A=coef[0] * shape,
-            charging_A=coef[1] * charging,
-            background_A=coef[2] + coef[3] * d.potential_V,
-            residual=residual,
-            charging_projected=projected,
+            charging_w = fixed.capacitance * (rate[m] / sig)[:, None]
+        shape_w = shape[m] / sig
+        terms = solve_terms(
+            fixed.y, shape_w, fixed.common, charging_w, held_capacitance_F=double_layer_F
         )
+        projected = None
+        if double_layer_F is not None:
+            Q, _ = np.linalg.qr(np.column_stack([shape_w, fixed.common]))
+            c = charging_w[:, 0]
+            projected = c - Q @ (Q.T @ c)
+        background = basis.common @ terms.common
+        if double_layer_F is not None:
+            charging = double_layer_F * rate
+            mean_C = double_layer_F
+        else:
+            charging = (basis.capacitance @ terms.capacitance) * rate
+            mean_C = float(fixed.capacitance_mean @ terms.capacitance)
+        # the background's straight-line part on the fitted samples (least-squares line)
+        b = background[m]
+        slope = float(fixed.dE @ b) / fixed.dE2 if fixed.dE2 > 0 else 0.0
+        offset = float(b.mean()) - slope * fixed.E_mean
+        return LinearSolution(
+            coefficients=np.array([terms.scale, mean_C, offset, slope]),
+            faradaic_A=terms.scale * shape,
+            charging_A=charging,
+            background_A=background,
+            residual=terms.residual,
+            charging_projected=projected,
+            capacitance_F=terms.capacitance,
+        )
+
+    def _fixed(self, basis: BackgroundBasis, mask: np.ndarray, *, cache: bool) -> _Fixed:
+        """The parts of the linear solve that do not change between trials (kept for the
+        fitted samples and each order)."""
+        key = id(basis)
+        if cache and key in self._fixed_parts:
+            return self._fixed_parts[key]
+        d = self.data
+        E = d.potential_V[mask]
+        cap = basis.capacitance[mask]
+        fixed = _Fixed(
+            y=d.current_A[mask] / d.sigma_A,
+            common=basis.common[mask] / d.sigma_A,
+            capacitance=cap,
+            capacitance_mean=cap.mean(axis=0),
+            dE=E - E.mean(),
+            dE2=float(np.sum((E - E.mean()) ** 2)),
+            E_mean=float(E.mean()),
+        )
+        if cache:
+            self._fixed_parts[key] = fixed
+        return fixed
 
     def evaluate(
         self,
@@ -362,6 +493,6 @@ class CurveModel:
         D_ratio: float = 1.0,
         double_layer_F: float | None = None,
     ) -> LinearSolution:
-        """One simulation and the closed-form linear coefficients (C_dl held if given)."""
+        """One simulation and the closed-form linear coefficients (C held if given)."""
         shape, drive = self.shape(E_half_V, log10_k0, alpha, resistance_ohm, D_ratio)
         return self.solve_linear(shape, drive, double_layer_F)

@@ -19,6 +19,7 @@ from __future__ import annotations
 from cvfit.errors import FitError
 from cvfit.flags import Flag
 from cvfit.techniques.cv.curve.fit import CurveFit, fit_curve
+from cvfit.techniques.cv.curve.initial_state import InitialState, initial_state
 from cvfit.techniques.cv.curve.model import CurveData, curve_data
 from cvfit.techniques.cv.screen.classification import classify_voltammogram
 from cvfit.voltammogram import Voltammogram
@@ -52,7 +53,9 @@ def wants_curve_fit(source: str, reversible: bool | None) -> bool:
 
 
 def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveData:
-    """The samples of *v* a curve fit describes: from the start to the analysed cycle's end.
+    """The samples of *v* a curve fit describes: from the start to the analysed cycle's end,
+    with the initial state (``[series] bulk_form`` and ``quiet_time_s``, else detected:
+    :mod:`cvfit.techniques.cv.curve.initial_state`).
 
     Raises
     ------
@@ -64,7 +67,7 @@ def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveDa
         raise FitError("the analysed cycle has no reverse sweep")
     height = abs(peaks.forward_height_A or 0.0)  # type: ignore[attr-defined]
     sigma = max(peaks.noise_A, MODEL_PRECISION * height)  # type: ignore[attr-defined]
-    return curve_data(
+    data = curve_data(
         v.potential_V,
         v.current_A,
         time_s=v.time_s,
@@ -76,6 +79,25 @@ def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveDa
         bulk="ox" if peaks.first_sweep == "reduction" else "red",  # type: ignore[attr-defined]
         sigma_A=sigma,
     )
+    return initial_state(
+        data,
+        time_s=v.time_s,
+        first_stop=_first_cycle_stop(v),
+        E_half_V=float(
+            peaks.E_half_V  # type: ignore[attr-defined]
+            if peaks.E_half_V is not None  # type: ignore[attr-defined]
+            else 0.5 * (v.potential_V.min() + v.potential_V.max())
+        ),
+        D_cm2_s=getattr(series, "diffusion_cm2_s", None) or 1e-5,
+        bulk_form=getattr(series, "bulk_form", None),
+        quiet_time_s=getattr(series, "quiet_time_s", None),
+    )
+
+
+def _first_cycle_stop(v: Voltammogram) -> int:
+    """Last sample of the record's first cycle (of its first sweep when it has no other)."""
+    first = v.cycles()[0]
+    return first.forward.stop if first.reverse is None else first.reverse.stop
 
 
 def curve_fit_for(
@@ -136,6 +158,9 @@ def curve_fit_for(
     except FitError as exc:
         return None, [Flag("CURVE_FIT_NOT_POSSIBLE", f"no curve fit: {exc}", "warning")]
     flags = list(fit.flags)
+    said = InitialState(data.bulk, data.bulk_source, data.quiet_time_s, data.quiet_source).flag()
+    if said is not None:
+        flags.append(said)
     if curve_fit_used(fit):
         e = fit.E_half_V
         flags.append(

@@ -31,7 +31,8 @@ on the still-decaying current of the sweep before it (the reverse sweep of the p
 cycle), so a line plus the exponential foot, extrapolated under the wave, tilts the
 baseline (on a 2-cycle simulation ΔEp read 54.8 instead of 58.0 mV). The decay is
 modelled as a Cottrell current c·(τ − τ0)^−1/2, τ the distance travelled along the
-potential axis and τ0 the previous sweep's peak (:func:`previous_sweep_tail`); its
+potential axis and τ0 the previous sweep's peak
+(:func:`cvfit.techniques.cv.peaks.neighbours.previous_sweep_tail`); its
 amplitude is fitted jointly on the forward foot and on the last part of the previous
 sweep, with the background slope shared and the offsets separate (the charging current
 changes sign at the turn), and it continues under both sweeps of the cycle. Nicholson's
@@ -45,8 +46,8 @@ E½ RMS error 0.3 mV on cycles 2–3 (0.2 mV on cycle 1), ΔEp within 0.5 mV of 
 the window on a sweep leaves its decaying current under it; that current has the shape of
 a reversible wave over the whole record, the semi-derivative of its Nernstian fraction
 (:func:`cvfit.techniques.cv.peaks.baseline.reversible_wave_shape`, E½ from its peak), and its
-amplitude
-is fitted with the line and the exponential foot from ``OTHER_WAVE_FIT_START_THERMAL`` RT/nF
+amplitude is fitted with the line and the exponential foot from
+``neighbours.OTHER_WAVE_FIT_START_THERMAL`` RT/nF
 past its peak (its decay, never its peak) to the window's foot. On the forward sweep that
 baseline continues under both peaks; on the reverse sweep of the wave nearer the start
 only the fitted current of the other wave is removed. A line plus foot alone, fitted inside
@@ -86,7 +87,15 @@ import numpy as np
 
 from cvfit.flags import Flag
 from cvfit.techniques.cv.peaks import baseline as pf
-from cvfit.techniques.cv.peaks.location import locate_peak
+from cvfit.techniques.cv.peaks import flags as pflags
+from cvfit.techniques.cv.peaks.location import LocatedPeak, locate_peak
+from cvfit.techniques.cv.peaks.neighbours import (
+    MIN_POINTS,
+    Tail,
+    inside,
+    other_wave_decay,
+    previous_sweep_tail,
+)
 from cvfit.units import thermal_voltage
 from cvfit.voltammogram import Cycle, Sweep, Voltammogram
 
@@ -100,16 +109,7 @@ FOOT_FRACTION = 0.05
 VERTEX_WINDOW_FRACTION = 1.1
 #: Foot windows shorter than this many thermal voltages RT/nF give a warning.
 SHORT_FOOT_THERMAL = 2.5
-#: Origin of the previous sweep's diffusion tail, RT/nF before its peak.
-TAIL_ORIGIN_THERMAL = 0.0
-#: The previous sweep's tail is fitted from this many RT/nF past its peak.
-TAIL_FIT_START_THERMAL = 3.0
-#: The other wave's decay enters the joint baseline fit from this many RT/nF past its peak.
-OTHER_WAVE_FIT_START_THERMAL = 2.0
-#: Ep − E½ of a reversible peak in RT/nF (Nicholson & Shain 1964), for another wave's E½.
-_PEAK_OFFSET_THERMAL = 1.109
-#: Fewest points of a foot window; a peak lies at least this many points from the ends.
-_MIN_POINTS = 8
+_MIN_POINTS = MIN_POINTS
 #: Nicholson (1966) coefficients of the current-ratio relation.
 _NICHOLSON_ISP = 0.485
 _NICHOLSON_CONST = 0.086
@@ -216,128 +216,12 @@ class PeakAnalysis:
         return out
 
 
-def _mV(x: float) -> str:
-    return f"{1e3 * x:.1f} mV"
-
-
 def _arrays(sweep: Sweep) -> tuple[np.ndarray, np.ndarray]:
     return np.asarray(sweep.potential_V), np.asarray(sweep.current_A)
 
 
 def _sub(tail: np.ndarray | None, index: np.ndarray | slice) -> np.ndarray | None:
     return None if tail is None else tail[index]
-
-
-class _Tail(NamedTuple):
-    forward: np.ndarray  # (τ − τ0)^−1/2 on the forward sweep
-    reverse: np.ndarray | None  # and on the reverse sweep
-    previous: tuple[np.ndarray, np.ndarray, np.ndarray]  # (E, i, tail) of the sweep before
-
-
-def _inside(E: np.ndarray, low: float, high: float) -> slice:
-    """The run of samples of one sweep from its first to its last point inside [low, high]."""
-    idx = np.flatnonzero((E >= low) & (E <= high))
-    if idx.size == 0:
-        return slice(0, 0)
-    return slice(int(idx[0]), int(idx[-1]) + 1)
-
-
-def _other_peak(oriented: np.ndarray, before: int) -> int | None:
-    """Index of another wave's peak on a sweep, among the samples before index *before*.
-
-    *oriented* is the sweep's current in its own direction; the peak is its largest value
-    at least ``_MIN_POINTS`` from the sweep's start and from *before*, and the current must
-    fall from it into the window. None when there is no such peak.
-    """
-    stop = before - _MIN_POINTS
-    if stop <= _MIN_POINTS:
-        return None
-    k = _MIN_POINTS + int(oriented[_MIN_POINTS:stop].argmax())
-    if oriented[k] <= oriented[before - 1]:
-        return None
-    return k
-
-
-def _other_wave_decay(
-    voltammogram: Voltammogram,
-    sweep: Sweep,
-    oriented: np.ndarray,
-    before: int,
-    direction: int,
-    other_kappa_per_V: float,
-    forward: bool,
-) -> tuple[np.ndarray, int] | None:
-    """Current shape of another wave that peaks on *sweep* before index *before*.
-
-    The shape is that of a reversible wave over the whole record
-    (:func:`cvfit.techniques.cv.peaks.baseline.reversible_wave_shape`), placed at the E½ of the
-    other wave from that peak, 1.109 RT/nF beyond E½ in the sweep's direction (Nicholson & Shain
-    1964; *forward* says whether *sweep* is the forward sweep, whose direction is
-    *direction*, or the reverse one). Returns the shape over the whole record and the index
-    on *sweep* ``OTHER_WAVE_FIT_START_THERMAL`` RT/nF past that peak, from which the
-    baseline with this shape is fitted (the other wave's own decay, away from its peak);
-    None without such a peak or with fewer than ten points between there and *before*.
-    """
-    k = _other_peak(oriented, before)
-    if k is None:
-        return None
-    E_all = np.asarray(voltammogram.potential_V)
-    E_sweep = E_all[sweep.start : sweep.stop + 1]
-    rt_nf = 1.0 / other_kappa_per_V
-    past = np.abs(E_sweep[:before] - E_sweep[k])
-    beyond = np.flatnonzero(past[k:] >= OTHER_WAVE_FIT_START_THERMAL * rt_nf)
-    stop = sweep.start + before - 3
-    if beyond.size == 0 or stop - (sweep.start + k + int(beyond[0])) < 10:
-        return None
-    sweep_direction = direction if forward else -direction
-    E_half = float(E_sweep[k]) - sweep_direction * _PEAK_OFFSET_THERMAL * rt_nf
-    shape = pf.reversible_wave_shape(E_all, E_half, other_kappa_per_V, direction)
-    return shape, k + int(beyond[0])
-
-
-def previous_sweep_tail(
-    voltammogram: Voltammogram, cycle: Cycle, *, rt_nf_V: float
-) -> _Tail | None:
-    """Decaying current of the sweep before ``cycle``, continued under both its sweeps.
-
-    A cycle after the first does not start at rest: the current of the sweep before it
-    is still decaying when the forward sweep starts. Beyond its peak the current of a
-    reversible sweep is diffusion-limited and decays like a Cottrell current, c·(τ −
-    τ0)^−1/2 (Cottrell 1903), from an origin τ0 taken at that sweep's peak
-    (``TAIL_ORIGIN_THERMAL`` = 0 RT/nF before it: on simulated reversible cycles this
-    origin biased E½ and ΔEp least, ≤ 0.1 and ≤ 0.15 mV, against 0.3 mV with the origin
-    at E½, 1.109 RT/nF before the peak). τ is the distance travelled along
-    the potential axis (V), proportional to time at a constant scan rate, so no time
-    column or scan rate is needed. Returned are the tail on the forward and reverse
-    sweeps of the cycle and the last part of the sweep before (from
-    ``TAIL_FIT_START_THERMAL`` RT/nF past its peak to a few points before its end), which
-    the forward foot fit shares: the short foot alone separates the tail from the line
-    poorly.
-
-    Returns None for a cycle that starts at rest (no sweep before it) or when the sweep
-    before it has no peak to decay from.
-    """
-    fwd, rev = cycle.forward, cycle.reverse
-    if fwd.start == 0:
-        return None
-    before = [sw for sw in voltammogram.sweeps() if sw.stop == fwd.start]
-    if not before:
-        return None
-    prev = before[0]
-    stop = fwd.stop if rev is None else rev.stop
-    found = pf.decay_tail(
-        np.asarray(voltammogram.potential_V),
-        np.asarray(voltammogram.current_A),
-        (prev.start, prev.stop, prev.direction),
-        (fwd.start, stop),
-        origin_V=TAIL_ORIGIN_THERMAL * rt_nf_V,
-        fit_start_V=TAIL_FIT_START_THERMAL * rt_nf_V,
-    )
-    if found is None:
-        return None
-    tail, previous = found
-    n_f = fwd.stop - fwd.start + 1
-    return _Tail(tail[:n_f], None if rev is None else tail[n_f - 1 :], previous)
 
 
 def analyse_peaks(
@@ -394,169 +278,203 @@ def analyse_peaks(
     if not (math.isfinite(temperature_K) and temperature_K > 0):
         raise ValueError(f"temperature_K must be positive, got {temperature_K}")
     cyc = voltammogram.cycle(cycle)
-    fwd, rev = cyc.forward, cyc.reverse
-    s = int(fwd.direction)  # +1: forward sweep is an oxidation (anodic peak up)
-    first: Literal["reduction", "oxidation"] = "oxidation" if s > 0 else "reduction"
-    E_f, i_f = _arrays(fwd)
-    E_lam = cyc.switching_potential_V
-    E_f_all, i_f_all = E_f, i_f
-    sl_f = sl_r = slice(None)
-    switch_inside = True
     other_kappa = 1.0 / thermal_voltage(temperature_K, other_electrons or electrons)
+    win = _window(voltammogram, cyc, window_V, other_kappa)
+    rev = cyc.reverse
+    arrays = [win.i_f] if rev is None else [win.i_f, np.asarray(rev.current_A)]
+    out = _Result(voltammogram, cyc, pf.noise_sd(*arrays))
+    if win.E_f.size < 4 * _MIN_POINTS:
+        return out.finish(pflags.forward_too_short(win.E_f.size, 4 * _MIN_POINTS))
+    fw = _forward_peak(voltammogram, cyc, win, out, electrons, temperature_K)
+    if fw is None or rev is None:
+        return out.finish()
+    rv = _reverse_level(voltammogram, cyc, win, fw, out.sigma, other_kappa)
+    if isinstance(rv, int):
+        return out.finish(pflags.reverse_too_short(rv))
+    return _reverse_peak(cyc, win, fw, rv, out)
+
+
+class _Window(NamedTuple):
+    """The forward sweep as analysed: inside ``window_V`` (and from another wave's decay)."""
+
+    E_f: np.ndarray
+    i_f: np.ndarray
+    E_f_all: np.ndarray
+    i_f_all: np.ndarray
+    sl_f: slice
+    limits: tuple[float, float] | None  # window_V, sorted
+    switch_inside: bool
+    other_f: tuple[np.ndarray, int] | None  # another wave's decay shape and fit start
+    other_kappa: float
+
+
+def _window(
+    voltammogram: Voltammogram,
+    cyc: Cycle,
+    window_V: tuple[float, float] | None,
+    other_kappa: float,
+) -> _Window:
+    fwd = cyc.forward
+    s = int(fwd.direction)
+    E_f_all, i_f_all = _arrays(fwd)
+    if window_V is None:
+        return _Window(E_f_all, i_f_all, E_f_all, i_f_all, slice(None), None, True, None,
+                       other_kappa)  # fmt: skip
+    low, high = sorted(float(w) for w in window_V)
+    sl_f = inside(E_f_all, low, high)
     other_f = None
-    if window_V is not None:
-        low, high = sorted(float(w) for w in window_V)
-        sl_f = _inside(E_f, low, high)
-        switch_inside = low <= E_lam <= high
-        if (sl_f.start or 0) > 0:
-            # another wave peaks before the window on the forward sweep: its current
-            # continues under the window; the baseline takes its shape and is fitted from
-            # its decay onwards (module docstring, *Two waves*)
-            other_f = _other_wave_decay(
-                voltammogram, fwd, s * i_f, sl_f.start, s, other_kappa, forward=True
-            )
-            if other_f is not None:
-                sl_f = slice(other_f[1], sl_f.stop)
-        E_f, i_f = E_f[sl_f], i_f[sl_f]
-    flags: list[Flag] = []
-    result = dict.fromkeys(_OPTIONAL)
-    fwd_name, rev_name = ("anodic", "cathodic") if s > 0 else ("cathodic", "anodic")
+    if (sl_f.start or 0) > 0:
+        # another wave peaks before the window on the forward sweep: its current
+        # continues under the window; the baseline takes its shape and is fitted from
+        # its decay onwards (module docstring, *Two waves*)
+        other_f = other_wave_decay(
+            voltammogram, fwd, s * i_f_all, sl_f.start, s, other_kappa, forward=True
+        )
+        if other_f is not None:
+            sl_f = slice(other_f[1], sl_f.stop)
+    E_lam = cyc.switching_potential_V
+    return _Window(E_f_all[sl_f], i_f_all[sl_f], E_f_all, i_f_all, sl_f, (low, high),
+                   low <= E_lam <= high, other_f, other_kappa)  # fmt: skip
 
-    arrays = [i_f] if rev is None else [i_f, np.asarray(rev.current_A)]
-    sigma = pf.noise_sd(*arrays)
 
-    def finish() -> PeakAnalysis:
+class _Result:
+    """The values found so far, the flags raised, and the record they make."""
+
+    def __init__(self, voltammogram: Voltammogram, cyc: Cycle, sigma: float) -> None:
+        self.voltammogram, self.cyc, self.sigma = voltammogram, cyc, sigma
+        self.values: dict[str, float | None] = dict.fromkeys(_OPTIONAL)
+        self.flags: list[Flag] = []
+        s = int(cyc.forward.direction)
+        self.fwd_name, self.rev_name = ("anodic", "cathodic") if s > 0 else ("cathodic", "anodic")
+
+    def finish(self, *flags: Flag) -> PeakAnalysis:
+        self.flags.extend(flags)
         return PeakAnalysis(
-            source=voltammogram.source,
-            cycle_number=cyc.number,
-            first_sweep=first,
-            switching_potential_V=E_lam,
-            noise_A=sigma,
-            flags=tuple(flags),
-            **result,
+            source=self.voltammogram.source,
+            cycle_number=self.cyc.number,
+            first_sweep="oxidation" if self.cyc.forward.direction > 0 else "reduction",
+            switching_potential_V=self.cyc.switching_potential_V,
+            noise_A=self.sigma,
+            flags=tuple(self.flags),
+            **self.values,
         )
 
-    min_points = _MIN_POINTS
-    if E_f.size < 4 * min_points:
-        flags.append(
-            Flag(
-                "NO_FORWARD_PEAK",
-                f"the forward sweep has only {E_f.size} points; at least {4 * min_points} "
-                "are needed to fit a baseline and locate a peak",
-                "error",
-            )
-        )
-        return finish()
 
-    # forward peak against the extrapolated foot baseline
-    kappa = 1.0 / thermal_voltage(temperature_K, electrons)
+class _Forward(NamedTuple):
+    """The forward peak, its baseline and what the reverse sweep needs of them."""
+
+    peak: LocatedPeak
+    base: pf.LineFit
+    tail: Tail | None
+    tail_r: np.ndarray | None  # the previous sweep's (or other wave's) tail, reverse sweep
+    tail_f: np.ndarray | None
+    half_width_V: float
+    g_base: np.ndarray  # ∂(forward vertex)/∂(baseline coefficients)
+    var_noise: float  # variance of the forward vertex from the current noise
+    kappa_per_V: float  # nF/RT of the couple (the exponential foot)
+
+
+def _forward_peak(
+    voltammogram: Voltammogram,
+    cyc: Cycle,
+    win: _Window,
+    out: _Result,
+    electrons: int,
+    temperature_K: float,
+) -> _Forward | None:
+    """The forward peak against the extrapolated foot baseline (None: not found, flagged)."""
+    fwd, rev = cyc.forward, cyc.reverse
+    s = int(fwd.direction)
     rt_nf = thermal_voltage(temperature_K, electrons)
+    kappa = 1.0 / thermal_voltage(temperature_K, electrons)
     tail = previous_sweep_tail(voltammogram, cyc, rt_nf_V=rt_nf)
     if tail is None and fwd.start > 0:
-        flags.append(
-            Flag(
-                "PREVIOUS_TAIL_NOT_MODELLED",
-                f"cycle {cyc.number} starts on the current of the sweep before it, but that "
-                "sweep has no peak past which its decay could be fitted; the forward "
-                "baseline ignores the decay and the forward peak may be displaced",
-                "warning",
-            )
-        )
-    if other_f is not None:
+        out.flags.append(pflags.previous_tail_not_modelled(cyc.number))
+    if win.other_f is not None:
         # the other wave's current dominates the window's foot; a previous sweep's decay,
         # which has travelled across the other wave, is left to the line
-        shape = other_f[0]
+        shape = win.other_f[0]
         reverse = None if rev is None else shape[rev.start : rev.stop + 1]
-        tail = _Tail(shape[fwd.start : fwd.stop + 1], reverse, None)
-    tail_f = None if tail is None else tail.forward[sl_f]
-    tail_r = None if tail is None else tail.reverse
+        tail = Tail(shape[fwd.start : fwd.stop + 1], reverse, None)
+    tail_f = None if tail is None else tail.forward[win.sl_f]
+    E_f, sigma = win.E_f, out.sigma
     lo, hi, base, y_f = pf.foot_window(
-        E_f,
-        i_f,
-        s,
-        sigma,
-        kappa_per_V=kappa,
-        skip=2,
-        min_points=min_points,
-        foot_fraction=FOOT_FRACTION,
-        tail=tail_f,
+        E_f, win.i_f, s, sigma, kappa_per_V=kappa,
+        skip=2, min_points=_MIN_POINTS, foot_fraction=FOOT_FRACTION, tail=tail_f,
         extra=None if tail is None else tail.previous,
-    )
-    peak_f, why = _locate(E_f, y_f, sigma, fwd_name, half_width_V=None, against_baseline=True)
-    if peak_f is None:
-        flags.append(Flag("NO_FORWARD_PEAK", why, "error"))
+    )  # fmt: skip
+    peak, why = _locate(E_f, y_f, sigma, out.fwd_name, half_width_V=None, against_baseline=True)
+    if peak is None:
+        out.flags.append(pflags.no_peak(True, why))
         if rev is not None:
-            flags.append(
-                Flag(
-                    "NO_REVERSE_PEAK",
-                    "the reverse peak is not measured because the forward peak, whose "
-                    "baseline it needs, was not found",
-                    "error",
-                )
-            )
-        return finish()
+            out.flags.append(pflags.reverse_needs_forward())
+        return None
     foot_V = abs(E_f[hi - 1] - E_f[lo])
-    if foot_V < SHORT_FOOT_THERMAL * thermal_voltage(temperature_K, electrons):
-        flags.append(
-            Flag(
-                "SHORT_BASELINE",
-                f"the foot of the forward wave used for the baseline spans only {_mV(foot_V)} "
-                f"(less than {SHORT_FOOT_THERMAL:g} RT/nF) before the current rises, so the "
-                "extrapolated baseline and the peak heights may be off by several per cent; "
-                "start the scan further from the wave",
-                "warning",
-            )
-        )
-    # _locate found the forward half-peak potential (it sets the vertex window)
-    half_width = VERTEX_WINDOW_FRACTION * abs(peak_f.E_V - peak_f.E_half_peak_V)
-    X_f = base.design(E_f[peak_f.index], _sub(tail_f, peak_f.index))
-    # sensitivity of the forward vertex to the baseline (a, b): y = s (i - base)
-    g_base_f = -s * (peak_f.grad_y @ X_f)
-    var_f_noise = sigma**2 * float(peak_f.grad_y @ peak_f.grad_y)
-
+    if foot_V < SHORT_FOOT_THERMAL * rt_nf:
+        out.flags.append(pflags.short_baseline(foot_V, SHORT_FOOT_THERMAL))
     if s > 0:
-        result.update(Epa_V=peak_f.E_V, ipa_A=peak_f.height_A, Ep_half_a_V=peak_f.E_half_peak_V)
+        out.values.update(Epa_V=peak.E_V, ipa_A=peak.height_A, Ep_half_a_V=peak.E_half_peak_V)
     else:
-        result.update(Epc_V=peak_f.E_V, ipc_A=peak_f.height_A, Ep_half_c_V=peak_f.E_half_peak_V)
-
+        out.values.update(Epc_V=peak.E_V, ipc_A=peak.height_A, Ep_half_c_V=peak.E_half_peak_V)
     if rev is None:
-        flags.append(
-            Flag(
-                "NO_REVERSE_PEAK",
-                f"cycle {cyc.number} has no reverse sweep, so no {rev_name} peak",
-                "error",
-            )
-        )
-        return finish()
+        out.flags.append(pflags.no_reverse_sweep(cyc.number, out.rev_name))
+    # _locate found the forward half-peak potential (it sets the vertex window)
+    half_width = VERTEX_WINDOW_FRACTION * abs(peak.E_V - peak.E_half_peak_V)
+    X_f = base.design(E_f[peak.index], _sub(tail_f, peak.index))
+    # sensitivity of the forward vertex to the baseline (a, b): y = s (i - base)
+    return _Forward(
+        peak, base, tail, None if tail is None else tail.reverse, tail_f, half_width,
+        -s * (peak.grad_y @ X_f), sigma**2 * float(peak.grad_y @ peak.grad_y), kappa,
+    )  # fmt: skip
 
+
+class _Reverse(NamedTuple):
+    """The reverse sweep against its zero-faradaic level."""
+
+    E_r: np.ndarray
+    y_r: np.ndarray  # oriented current above the level
+    tail_r: np.ndarray | None
+    isp0: float  # forward current at the switch above the forward baseline
+    tail_rev: np.ndarray | None  # another wave's decay removed under this peak
+    var_tail: float  # variance of that decay's amplitude
+
+
+def _reverse_level(
+    voltammogram: Voltammogram,
+    cyc: Cycle,
+    win: _Window,
+    fw: _Forward,
+    sigma: float,
+    other_kappa: float,
+) -> _Reverse | int:
+    """Zero-faradaic level of the reverse sweep: the forward baseline plus the charging
+    step at the switch, less another wave's decay (the sweep's point count when it has
+    too few points for a peak)."""
+    rev = cyc.reverse
+    s = int(cyc.forward.direction)
+    E_lam = cyc.switching_potential_V
     E_r_all, i_r_all = _arrays(rev)
-    E_r, i_r = E_r_all, i_r_all
-    if window_V is not None:
-        sl_r = _inside(E_r, low, high)
+    E_r, i_r, tail_r, sl_r = E_r_all, i_r_all, fw.tail_r, slice(None)
+    if win.limits is not None:
+        sl_r = inside(E_r, *win.limits)
         E_r, i_r = E_r[sl_r], i_r[sl_r]
         tail_r = None if tail_r is None else tail_r[sl_r]
-    pts = max(10, min(E_f_all.size, E_r_all.size) // 15)
-    if E_r.size < 4 * min_points:
-        flags.append(
-            Flag(
-                "NO_REVERSE_PEAK",
-                f"the reverse sweep has only {E_r.size} points, too few to locate a peak",
-                "error",
-            )
-        )
-        return finish()
-    jump, i_switch, _ = pf.switch_step(E_f_all, i_f_all, E_r_all, i_r_all, E_lam, points=pts)
-    tail_at_switch = None if tail is None else tail.forward[-1:]
-    isp0 = s * (i_switch - float(base(np.array([E_lam]), tail_at_switch)[0]))
-    # zero-faradaic level of the reverse sweep: forward baseline + charging step
-    y_r = base.residual(E_r, i_r, -s, tail_r, shift=jump)
+    pts = max(10, min(win.E_f_all.size, E_r_all.size) // 15)
+    if E_r.size < 4 * _MIN_POINTS:
+        return int(E_r.size)
+    jump, i_switch, _ = pf.switch_step(
+        win.E_f_all, win.i_f_all, E_r_all, i_r_all, E_lam, points=pts
+    )
+    tail_at_switch = None if fw.tail is None else fw.tail.forward[-1:]
+    isp0 = s * (i_switch - float(fw.base(np.array([E_lam]), tail_at_switch)[0]))
+    y_r = fw.base.residual(E_r, i_r, -s, tail_r, shift=jump)
     tail_rev, var_tail = None, 0.0
-    if window_V is not None and not switch_inside and (sl_r.start or 0) > 0:
+    if win.limits is not None and not win.switch_inside and (sl_r.start or 0) > 0:
         # another wave's reverse peak comes first on the reverse sweep and its decay runs
         # under this reverse peak: its amplitude is fitted (line, foot and that decay) to
         # the reverse sweep's own foot inside the window jointly with the other wave's
         # decay before the window, and the decay alone is removed
-        found = _other_wave_decay(
+        found = other_wave_decay(
             voltammogram, rev, -s * i_r_all, sl_r.start or 0, s, other_kappa, forward=False
         )
         if found is not None:
@@ -564,87 +482,66 @@ def analyse_peaks(
             ext = slice(begin, sl_r.stop)
             shape_r = shape[rev.start : rev.stop + 1]
             *_, base_r, _ = pf.foot_window(
-                E_r_all[ext],
-                i_r_all[ext],
-                -s,
-                sigma,
-                kappa_per_V=kappa,
-                skip=2,
-                min_points=min_points,
-                foot_fraction=FOOT_FRACTION,
+                E_r_all[ext], i_r_all[ext], -s, sigma, kappa_per_V=fw.kappa_per_V,
+                skip=2, min_points=_MIN_POINTS, foot_fraction=FOOT_FRACTION,
                 tail=shape_r[ext],
-            )
+            )  # fmt: skip
             if base_r.coef.size == 3:
                 tail_rev = shape_r[sl_r]
                 y_r = y_r + s * float(base_r.coef[2]) * tail_rev
                 var_tail = float(base_r.cov[2, 2])
+    return _Reverse(E_r, y_r, tail_r, isp0, tail_rev, var_tail)
+
+
+def _reverse_peak(cyc: Cycle, win: _Window, fw: _Forward, rv: _Reverse, out: _Result):
+    """The reverse peak, Nicholson's current ratio, E½ and its standard error."""
+    s = int(cyc.forward.direction)
+    sigma = out.sigma
+    peak_f = fw.peak
     peak_r, why = _locate(
-        E_r, y_r, sigma, rev_name, half_width_V=half_width, against_baseline=False
-    )
+        rv.E_r, rv.y_r, sigma, out.rev_name, half_width_V=fw.half_width_V,
+        against_baseline=False,
+    )  # fmt: skip
     if peak_r is None:
-        flags.append(Flag("NO_REVERSE_PEAK", why, "error"))
-        return finish()
+        return out.finish(pflags.no_peak(False, why))
     i_fwd = peak_f.height_A
-    ratio = peak_r.height_A / i_fwd + _NICHOLSON_ISP * isp0 / i_fwd + _NICHOLSON_CONST
+    ratio = peak_r.height_A / i_fwd + _NICHOLSON_ISP * rv.isp0 / i_fwd + _NICHOLSON_CONST
     i_rev = ratio * i_fwd
     if not i_rev > MIN_HEIGHT_SNR * sigma:
-        flags.append(
-            Flag(
-                "NO_REVERSE_PEAK",
-                f"the {rev_name} peak height against the decaying forward current is "
-                f"{i_rev:.3g} A, less than {MIN_HEIGHT_SNR:g} times the noise SD {sigma:.3g} A",
-                "error",
-            )
-        )
-        return finish()
+        return out.finish(pflags.reverse_below_noise(out.rev_name, i_rev, MIN_HEIGHT_SNR, sigma))
     # half-peak potential of the reverse wave: half the Nicholson height below its top,
     # taking the decaying forward current as level across the rising part of the wave
+    E_r, y_r = rv.E_r, rv.y_r
     E_half_peak_r = pf.rising_crossing(E_r, y_r, int(y_r.argmax()), peak_r.height_A - 0.5 * i_rev)
-    X_r = base.design(E_r[peak_r.index], _sub(tail_r, peak_r.index))
+    X_r = fw.base.design(E_r[peak_r.index], _sub(rv.tail_r, peak_r.index))
     g_base_r = s * (peak_r.grad_y @ X_r)
     var_r_noise = sigma**2 * float(peak_r.grad_y @ peak_r.grad_y)
-    g_base = 0.5 * (g_base_f + g_base_r)
-    var_half = 0.25 * (var_f_noise + var_r_noise) + float(g_base @ base.cov @ g_base)
-    if tail_rev is not None:  # the other wave's fitted decay, removed under this peak
-        g_tail = s * float(peak_r.grad_y @ tail_rev[peak_r.index])
-        var_half += 0.25 * g_tail**2 * var_tail
-
-    at_rest = fwd.start == 0
-    if at_rest and not switch_inside:
-        flags.append(
-            Flag(
-                "CURRENT_RATIO_NOT_DETERMINED",
-                f"the switching potential ({E_lam:.3f} V) lies outside the window "
-                f"[{low:.3f}, {high:.3f}] V, so the forward current at the switch belongs to "
-                f"another wave: the {rev_name} peak height and the current ratio are not "
-                "reported (E½ and ΔEp are)",
-                "warning",
-            )
+    g_base = 0.5 * (fw.g_base + g_base_r)
+    var_half = 0.25 * (fw.var_noise + var_r_noise) + float(g_base @ fw.base.cov @ g_base)
+    if rv.tail_rev is not None:  # the other wave's fitted decay, removed under this peak
+        g_tail = s * float(peak_r.grad_y @ rv.tail_rev[peak_r.index])
+        var_half += 0.25 * g_tail**2 * rv.var_tail
+    at_rest = cyc.forward.start == 0
+    if at_rest and not win.switch_inside:
+        low, high = win.limits
+        out.flags.append(
+            pflags.ratio_switch_outside_window(cyc.switching_potential_V, low, high, out.rev_name)
         )
         ratio = i_rev = E_half_peak_r = None
     if not at_rest:
         # Nicholson's relation was derived for a forward sweep that starts at rest
-        flags.append(
-            Flag(
-                "CURRENT_RATIO_NOT_DETERMINED",
-                f"cycle {cyc.number} starts on the decaying current of the sweep before it, "
-                "while Nicholson's ratio relation holds for a forward sweep that starts at "
-                f"rest: the {rev_name} peak height and the current ratio are not reported "
-                "(E½ and ΔEp are); analyse cycle 1 for the ratio",
-                "warning",
-            )
-        )
+        out.flags.append(pflags.ratio_not_at_rest(cyc.number, out.rev_name))
         ratio = i_rev = E_half_peak_r = None
     if s > 0:
-        result.update(Epc_V=peak_r.E_V, ipc_A=i_rev, Ep_half_c_V=E_half_peak_r)
+        out.values.update(Epc_V=peak_r.E_V, ipc_A=i_rev, Ep_half_c_V=E_half_peak_r)
         E_ox, E_red = peak_f.E_V, peak_r.E_V
     else:
-        result.update(Epa_V=peak_r.E_V, ipa_A=i_rev, Ep_half_a_V=E_half_peak_r)
+        out.values.update(Epa_V=peak_r.E_V, ipa_A=i_rev, Ep_half_a_V=E_half_peak_r)
         E_ox, E_red = peak_r.E_V, peak_f.E_V
-    result.update(
+    out.values.update(
         E_half_V=0.5 * (E_ox + E_red),
         E_half_stderr_V=math.sqrt(max(var_half, 0.0)),
         delta_Ep_V=E_ox - E_red,
         current_ratio=ratio,
     )
-    return finish()
+    return out.finish()

@@ -3,8 +3,7 @@
 Everything here takes and returns plain arrays or small tuples; nothing knows about
 voltammograms, flags or files. :mod:`cvfit.techniques.cv.peaks.analysis` composes these pieces;
 the peak vertex
-is fitted in :mod:`cvfit.techniques.cv.peaks.location`, the small linear algebra is in
-:mod:`cvfit.techniques.cv.peaks.least_squares`.
+is fitted in :mod:`cvfit.techniques.cv.peaks.location`.
 """
 
 from __future__ import annotations
@@ -13,8 +12,6 @@ import math
 from typing import NamedTuple
 
 import numpy as np
-
-from cvfit.techniques.cv.peaks import least_squares as la
 
 __all__ = [
     "noise_sd",
@@ -53,9 +50,7 @@ def noise_sd(*currents: np.ndarray) -> float:
         first = c[1:] - c[:-1]
         np.subtract(first[1:], first[:-1], out=d[at : at + c.size - 2])
         at += c.size - 2
-    centre = la.median_in_place(d)
-    np.subtract(d, centre, out=d)  # d is not needed any more: deviations in place
-    mad = la.median_in_place(np.abs(d, out=d))
+    mad = float(np.median(np.abs(d - np.median(d))))
     return _MAD_TO_SD * mad / math.sqrt(6.0)
 
 
@@ -147,39 +142,37 @@ def fit_foot(
     m = E.size
     joint = tail is not None and extra is not None
     p = 3 + (tail is not None) + joint
-    A = la.augmented(m + (extra[0].size if joint else 0), p)
-    own = A[:m]
-    own[:, 0] = 1.0
-    np.subtract(E, E0, out=own[:, 1])
-    foot = own[:, 2]  # exp(sign·κ·(E − E_end)), formed in place
-    np.multiply(np.subtract(E, E[-1], out=foot), sign * kappa_per_V, out=foot)
-    np.exp(np.clip(foot, -700.0, 0.0, out=foot), out=foot)
+    X = np.zeros((m + (extra[0].size if joint else 0), p))
+    y = np.empty(X.shape[0])
+    X[:m, 0] = 1.0
+    X[:m, 1] = E - E0
+    X[:m, 2] = np.exp(np.clip(sign * kappa_per_V * (E - E[-1]), -700.0, 0.0))
     if tail is not None:
-        own[:, 3] = tail
-    own[:, p] = i
+        X[:m, 3] = tail
+    y[:m] = i
     if joint:
         # the other sweep: its own offset (last design column), no foot term
         E_x, i_x, t_x = extra
-        own[:, 4] = 0.0
-        other = A[m:]
-        other[:, 0] = 0.0
-        np.subtract(E_x, E0, out=other[:, 1])
-        other[:, 2] = 0.0
-        other[:, 3] = t_x
-        other[:, 4] = 1.0
-        other[:, p] = i_x
-    R, rows = la.reduce_rows(A)
-    coef, gram_inv = la.solve_least_squares(R, rows)
+        X[m:, 1] = E_x - E0
+        X[m:, 3] = t_x
+        X[m:, 4] = 1.0
+        y[m:] = i_x
+    coef, gram_inv = _least_squares(X, y)
     if sign * coef[2] <= 0:
-        # refit without the foot term on the same triangle (no new factorisation); the
-        # line and tail columns are then the leading ones
-        coef, gram_inv = la.solve_least_squares(R, rows, [k for k in range(p) if k != 2])
+        # refit without the foot term; the line and tail columns are then the leading ones
+        coef, gram_inv = _least_squares(np.delete(X, 2, axis=1), y)
         q = 2 if tail is None else 3
         return LineFit(E0, coef[:q], sigma**2 * gram_inv[:q, :q])
     if tail is None:
         return LineFit(E0, coef[:2], sigma**2 * gram_inv[:2, :2])
     keep = [0, 1, 3]
     return LineFit(E0, coef[keep], sigma**2 * gram_inv[np.ix_(keep, keep)])
+
+
+def _least_squares(X: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Coefficients of ``X·c ≈ y`` and the unscaled covariance ``(XᵀX)⁺``."""
+    coef = np.linalg.lstsq(X, y, rcond=None)[0]
+    return coef, np.linalg.pinv(X.T @ X)
 
 
 def foot_window(
@@ -324,20 +317,12 @@ def switch_step(
     tr = np.abs(E_reverse[r_sl] - E_switch)
     scale = float(max(tr.max(), (-tf).max()))
     nf = tf.size
-    A = la.augmented(nf + tr.size, 6)
-    before, after = A[:nf], A[nf:]
-    A[:, 0] = 1.0
-    np.divide(tf, scale, out=before[:, 1])
-    np.divide(tr, scale, out=after[:, 1])
-    np.multiply(A[:, 1], A[:, 1], out=A[:, 2])
-    before[:, 3:6] = 0.0  # the jump and the half-integer powers act after the switch
-    after[:, 3] = 1.0
-    root = np.sqrt(after[:, 1])  # τ >= 0 after the switch
-    after[:, 4] = root
-    after[:, 5] = root**3
-    before[:, 6] = i_forward[f_sl]
-    after[:, 6] = i_reverse[r_sl]
-    coef, gram_inv = la.solve_least_squares(*la.reduce_rows(A))
+    t = np.concatenate([tf, tr]) / scale
+    after = np.arange(t.size) >= nf  # the jump and the half-integer powers act after it
+    root = np.sqrt(np.where(after, t, 0.0))
+    X = np.column_stack([np.ones_like(t), t, t * t, after, root, root**3])
+    y = np.concatenate([i_forward[f_sl], i_reverse[r_sl]])
+    coef, gram_inv = _least_squares(X, y)
     var = gram_inv[3, 3]
     return float(coef[3]), float(coef[0]), math.sqrt(var)
 

@@ -14,7 +14,6 @@ from typing import NamedTuple
 import numpy as np
 
 from cvfit.techniques.cv.peaks import baseline as pf
-from cvfit.techniques.cv.peaks import least_squares as la
 
 __all__ = ["LocatedPeak", "locate_peak", "Vertex", "peak_vertex"]
 
@@ -149,18 +148,10 @@ def _vertex_fit(
     # a run of consecutive points (always, on a monotonic sweep) is read through a view
     take = slice(idx[0], idx[-1] + 1) if idx[-1] - idx[0] + 1 == idx.size else idx
     cols = VERTEX_DEGREE + 1
-    A = la.augmented(idx.size, cols)
-    x = A[:, 1]
-    np.subtract(E[take], centre, out=x)
-    x /= half_width_V  # scaled for a well-conditioned design
-    A[:, 0] = 1.0
-    for j in range(2, cols):
-        np.multiply(A[:, j - 1], x, out=A[:, j])
-    X = np.array(A[:, :cols])  # the design, kept: the factorisation overwrites A
-    A[:, cols] = y[take]
-    # b = pinv(X) y with np.linalg.pinv's cut-off, and pinv(X) = P Xᵀ with P small
-    R, _ = la.reduce_rows(A)
-    b, P = la.solve_pinv(R)
+    x = (E[take] - centre) / half_width_V  # scaled for a well-conditioned design
+    X = np.vander(x, cols, increasing=True)
+    pinv = np.linalg.pinv(X)
+    b = pinv @ y[take]
     xv = _stationary(b)
     if xv is None or abs(xv) > 1.0:
         return None
@@ -171,7 +162,7 @@ def _vertex_fit(
     curvature = float(np.sum(j[2:] * (j[2:] - 1) * b[2:] * powers[:-2]))
     dvdb = -d_prime / curvature
     height = float(b @ powers)
-    return Vertex(centre + half_width_V * xv, height, half_width_V * (X @ (P @ dvdb)), idx)
+    return Vertex(centre + half_width_V * xv, height, half_width_V * (dvdb @ pinv), idx)
 
 
 def peak_vertex(

@@ -6,6 +6,8 @@
 - :mod:`.rate_constant` — Nicholson's ψ and the standard rate constant k0
 - :mod:`.kinetics` — ψ, k0 and D of one voltammogram with their uncertainties
 - :mod:`.scan_rate` — scan-rate studies of one solution
+- :mod:`.excess_cause` — an iR drop, slow kinetics or neither behind a growing ΔEp
+- :mod:`.midpoint_alpha` — the peak midpoint's extra error for an unknown α
 - :mod:`.ohmic_drop` — correction for the uncompensated resistance
 """
 

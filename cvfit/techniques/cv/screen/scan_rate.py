@@ -6,16 +6,10 @@ and ΔEp and E½ do not move with v. Slow electron transfer makes ΔEp grow with
 peak current (ΔEp − ΔEp_N ≈ 2 i_p R_u, common practice). This module fits those
 relations, estimates D from the Randles–Ševčík slope when area and concentration are
 known, decides whether ΔEp grows with v, and tells the iR signature from slow kinetics
-by comparing two one-parameter models of the excess n·ΔEp:
-
-* iR: excess = c · i_p + e · v, e >= 0 (the drop of the forward peak current and of the
-  charging current through R_u);
-* kinetics: excess = X(K / √v) − X_rev + (1 − w)·(X_rev − X_N), with X(ψ) Nicholson's
-  working curve at the table's switch (:mod:`cvfit.techniques.cv.screen.rate_constant`), X_rev its
-  reversible limit, X_N the Nernstian n·ΔEp at the file's own switch, w the share of the
-  switch effect that survives at X
-  (:func:`cvfit.techniques.cv.screen.rate_constant.switch_effect_weight`)
-  and K = k0/(π D n F/RT)^½ the one free parameter.
+by comparing two one-parameter models of the excess n·ΔEp
+(:mod:`cvfit.techniques.cv.screen.excess_cause`: an iR drop, slow kinetics, or
+"undecided" when neither fits or the R_u it would need is implausible). Scan rates are
+counted once each (files at one rate are repeats).
 
 References
 ----------
@@ -31,17 +25,16 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import optimize
 
 from cvfit.chemistry.randles_sevcik import randles_sevcik_peak_current_A
 from cvfit.flags import Flag
-from cvfit.quantity import Quantity, chi2_upper_quantile, clean_number, t_quantile
-from cvfit.techniques.cv.screen.rate_constant import (
-    PSI_TABLE,
-    TABLE_SWITCH_PAST_E_HALF_V,
-    switch_effect_weight,
+from cvfit.quantity import Quantity, clean_number, t_quantile
+from cvfit.techniques.cv.screen.excess_cause import (
+    IR_MODEL_PREFERENCE,
+    judge_excess,
+    plausible_resistance_ohm,
+    working_curve_n_delta_Ep_V,
 )
-from cvfit.techniques.cv.screen.reversibility import nernstian_delta_Ep_V
 from cvfit.units import FARADAY, GAS_CONSTANT, STANDARD_TEMPERATURE_K
 
 __all__ = [
@@ -52,6 +45,7 @@ __all__ = [
     "working_curve_n_delta_Ep_V",
     "MIN_SCAN_RATES",
     "IR_MODEL_PREFERENCE",
+    "plausible_resistance_ohm",
 ]
 
 #: Fewest distinct scan rates that make a study (a slope with an interval needs 3).
@@ -61,10 +55,6 @@ DISTINCT_RATE_FRACTION = 0.05
 #: Smallest growth of the excess n·ΔEp across the study that counts as a trend, V at 25 °C
 #: (common practice: a Nernstian ΔEp moves by less than ~2 mV).
 MIN_TREND_GROWTH_V = 0.002
-#: One model of the excess ΔEp is named the cause when its χ² is this many times smaller
-#: than the other's and the other is rejected by its χ² test at ``MODEL_REJECT_P``.
-IR_MODEL_PREFERENCE = 2.0
-MODEL_REJECT_P = 0.01
 #: Common practice: at least 5 scan rates over at least one decade.
 ADVISED_RATES, ADVISED_DECADES = 5, 1.0
 
@@ -117,11 +107,15 @@ class ScanRateStudy:
     delta_Ep_grows : bool
         ΔEp grows significantly with v (the couple is not Nernstian at these rates).
     excess_cause : {"none", "ir-drop", "slow-kinetics", "undecided"}
-        Which model of the excess ΔEp fits (only when ``delta_Ep_grows``).
+        Which model of the excess ΔEp fits (only when ``delta_Ep_grows``); "undecided"
+        when both fit alike, when neither passes its own χ² test, or when the R_u the iR
+        model needs is far above what the electrode can give
+        (:func:`plausible_resistance_ohm`).
     ir_resistance_ohm : Quantity or None
-        Apparent R_u of the iR model (excess n·ΔEp = 2 n R_u i_p), Ω; an upper estimate,
-        since charging current adds to the drop (~1.5 × R_u on simulations with
-        10 µF and 20 µA peaks).
+        Apparent R_u of the iR model (excess n·ΔEp = 2 n R_u i_p), Ω, its error scaled by
+        the model's misfit (√ of its reduced χ² when above 1); an upper estimate, since
+        charging current adds to the drop (~1.5 × R_u on simulations with 10 µF and 20 µA
+        peaks).
     chi2_ir, chi2_kinetics : float or None
         χ² of the two models of the excess ΔEp.
     flags : tuple of Flag
@@ -216,72 +210,10 @@ def _line(x: np.ndarray, y: np.ndarray, w: np.ndarray | None = None) -> tuple[Qu
     return Quantity.from_t(float(coef[1]), math.sqrt(max(cov[1, 1], 0.0)), dof), float(coef[0])
 
 
-def working_curve_n_delta_Ep_V(psi: np.ndarray, *, alpha: float = 0.5) -> np.ndarray:
-    """Nicholson's n·ΔEp(ψ) at 25 °C, V (table switch), for any ψ > 0.
-
-    Log-ψ interpolation of the table for 0.1 ≤ ψ ≤ 20, Klingler–Kochi's relation below
-    ψ = 0.1, and an approach ∝ 1/ψ to the Nernstian 60.1 mV (at the table's switch) above ψ = 20.
-
-    References
-    ----------
-    Nicholson, R. S. Anal. Chem. 37 (1965) 1351. Klingler, R. J.; Kochi, J. K. J. Phys.
-    Chem. 85 (1981) 1731.
-    """
-    psi = np.asarray(psi, dtype=float)
-    lp = np.log([p for p, _ in PSI_TABLE])[::-1]
-    xs = np.array([x for _, x in PSI_TABLE])[::-1]
-    f = FARADAY / (GAS_CONSTANT * STANDARD_TEMPERATURE_K)
-    out = np.interp(np.log(psi), lp, xs) * 1e-3
-    # Nernstian n·ΔEp at the table's switch (112.5 mV beyond E½), V
-    x_rev = nernstian_delta_Ep_V(switching_offset_V=TABLE_SWITCH_PAST_E_HALF_V)
-    hi = psi > PSI_TABLE[0][0]
-    out[hi] = x_rev + (0.061 - x_rev) * PSI_TABLE[0][0] / psi[hi]
-    lo = psi < PSI_TABLE[-1][0]
-    out[lo] = -np.log(psi[lo] / (2.18 * math.sqrt(alpha / math.pi))) / (alpha**2 * f)
-    return out
-
-
-def _fit_excess_models(
-    v: np.ndarray,
-    ip: np.ndarray,
-    excess: np.ndarray,
-    w: np.ndarray,
-    own: np.ndarray,
-    scale: float,
-) -> tuple[float, float, float, float]:
-    """χ² of the iR and kinetics models and the iR coefficient c (V/A) with its SD.
-
-    The iR model is excess = c·i_p + e·v with e >= 0: the drop of the charging current
-    C_dl·v through R_u adds to that of the peak current (e = 2 R_u C_dl); when the
-    unconstrained e comes out negative the model is c·i_p alone.
-    ``own`` is n·ΔEp_N at each file's switch (V, at the temperature; NaN: the table's).
-    """
-    X = np.column_stack([ip, v])
-    gram = X.T @ (w[:, None] * X)
-    coef = np.linalg.solve(gram, X.T @ (w * excess))
-    if coef[1] > 0:
-        c = float(coef[0])
-        sd_c = math.sqrt(float(np.linalg.inv(gram)[0, 0]))
-        chi_ir = float(np.sum(w * (excess - X @ coef) ** 2))
-    else:
-        c = float(np.sum(w * ip * excess) / np.sum(w * ip**2))
-        sd_c = math.sqrt(1.0 / float(np.sum(w * ip**2)))
-        chi_ir = float(np.sum(w * (excess - c * ip) ** 2))
-    base = working_curve_n_delta_Ep_V(np.array([1e6]))[0]
-    # the switch effect between the table's switch and each file's own, where it survives
-    gap = np.where(np.isnan(own), 0.0, base * scale - own)
-
-    def chi_kin(logK: float) -> float:
-        X = working_curve_n_delta_Ep_V(np.exp(logK) / np.sqrt(v))
-        kept = np.array([switch_effect_weight(x) for x in X])
-        model = (X - base) * scale + (1.0 - kept) * gap
-        return float(np.sum(w * (excess - model) ** 2))
-
-    grid = np.linspace(math.log(1e-4), math.log(1e3), 120)
-    k = int(np.argmin([chi_kin(g) for g in grid]))
-    lo, hi = grid[max(k - 1, 0)], grid[min(k + 1, grid.size - 1)]
-    best = optimize.minimize_scalar(chi_kin, bounds=(lo, hi), method="bounded")
-    return chi_ir, float(best.fun), c, sd_c
+def _distinct_rates(v: np.ndarray) -> int:
+    """Scan rates that differ by more than DISTINCT_RATE_FRACTION, counted once each."""
+    rates = np.sort(v)
+    return 1 + int(np.sum(rates[1:] > rates[:-1] * (1 + DISTINCT_RATE_FRACTION)))
 
 
 def analyse_scan_rate_study(
@@ -324,11 +256,14 @@ def analyse_scan_rate_study(
     scale = temperature_K / STANDARD_TEMPERATURE_K
     v_all = np.array([p.scan_rate_V_s for p in pts])
     decades = float(np.log10(v_all.max() / v_all.min()))
-    if len(pts) < ADVISED_RATES or decades < ADVISED_DECADES:
+    distinct = _distinct_rates(v_all)
+    if distinct < ADVISED_RATES or decades < ADVISED_DECADES:
+        repeats = "" if distinct == len(pts) else f" ({len(pts)} files)"
         flags.append(
             Flag(
                 "SCAN_RATE_RANGE_NARROW",
-                f"{len(pts)} scan rates over {decades:.2f} decades; check reversibility over "
+                f"{distinct} scan rates{repeats} over {decades:.2f} decades; check "
+                "reversibility over "
                 f"at least {ADVISED_RATES} rates spanning 1–2 decades (common practice)",
                 "info",
             )
@@ -402,42 +337,10 @@ def analyse_scan_rate_study(
                         for p in exc
                     ]
                 )
-                chi_ir, chi_kin, c, sd_c = _fit_excess_models(v, ipx, y, w, own, scale)
-                R = Quantity.from_t(c / (2 * n), sd_c / (2 * n), v.size - 1)
-                chi_crit = chi2_upper_quantile(MODEL_REJECT_P, v.size - 1)
-                if chi_ir * IR_MODEL_PREFERENCE < chi_kin and chi_kin > chi_crit:
-                    cause = "ir-drop"
-                    flags.append(
-                        Flag(
-                            "IR_DROP_SIGNATURE",
-                            "the excess ΔEp grows in proportion to the peak current (χ² "
-                            f"{chi_ir:.3g} against {chi_kin:.3g} for slow kinetics), the "
-                            "signature of uncompensated resistance (apparent R_u = excess/"
-                            f"(2n·i_p) ≈ {R.value:.0f} ± {R.stderr:.0f} Ω, an upper estimate: "
-                            "charging current adds to the drop): give resistance_ohm in the "
-                            "manifest or compensate it, and do not read k0 from these ΔEp",
-                        )
-                    )
-                elif chi_kin * IR_MODEL_PREFERENCE < chi_ir and chi_ir > chi_crit:
-                    cause = "slow-kinetics"
-                    flags.append(
-                        Flag(
-                            "SLOW_KINETICS_SIGNATURE",
-                            "the excess ΔEp follows Nicholson's working curve with ψ ∝ v^−½ "
-                            f"(χ² {chi_kin:.3g} against {chi_ir:.3g} for an iR drop): slow "
-                            "electron transfer",
-                            "info",
-                        )
-                    )
-                else:
-                    cause = "undecided"
-                    flags.append(
-                        Flag(
-                            "EXCESS_CAUSE_UNDECIDED",
-                            f"the excess ΔEp fits an iR drop (χ² {chi_ir:.3g}) and slow "
-                            f"kinetics (χ² {chi_kin:.3g}) alike; widen the scan-rate range",
-                        )
-                    )
+                cause, R, chi_ir, chi_kin, judged = judge_excess(
+                    v, ipx, y, w, own, scale=scale, electrons=n, area_cm2=area_cm2
+                )
+                flags.extend(judged)
     eh = [p for p in pts if p.E_half_V is not None]
     E_slope = None
     if len(eh) >= MIN_SCAN_RATES:
