@@ -272,6 +272,21 @@ _CATALOGUE = (
     FlagCode("ACTIVITY_TEMPERATURE_OUT_OF_RANGE", _W, "The temperature lies outside 0–100 "
              "°C, where the Davies A is known from the permittivity of water; no "
              "thermodynamic constants are reported."),
+    # --- pH and temperature series, E½ tables ------------------------------------------------
+    FlagCode("NO_VARIABLE_RANGE", _E, "Every point of a pH or temperature series has the same "
+             "pH or temperature; nothing can be fitted against it."),
+    FlagCode("PKA_NOT_DETERMINED", _W, "A pKa's 95 % interval is open: the pH range measured "
+             "does not reach far enough past it."),
+    FlagCode("PROTON_FIT_UNWEIGHTED", _I, "Not every E½ of a pH series has a standard error: "
+             "equal weights, the scale from the scatter about the fit."),
+    FlagCode("TEMPERATURE_LINE_CURVED", _W, "E½ bends with temperature (a quadratic term is "
+             "significant): dE½/dT is an average over the range."),
+    FlagCode("TEMPERATURE_CELL_UNSTATED", _I, "[series] reference_at is not given: dE½/dT is "
+             "reported, the reaction entropy and enthalpy are not."),
+    FlagCode("E_HALF_FROM_TABLE", _I, "The E½ of this entry is given in the manifest "
+             "([[point]]), not measured from a voltammogram; no reversibility screen."),
+    FlagCode("E_HALF_ERROR_FROM_SCATTER", _I, "No standard error was given for this E½ "
+             "([[point]]): the fit estimates it from the scatter of the points."),
 )  # fmt: skip
 
 #: Every flag code, by code, in the order above (grouped by where it is raised).

@@ -13,6 +13,7 @@ from cvfit.errors import InputError
 from cvfit.io import load_manifest
 from cvfit.io.manifest import ENTRY_KEYS, FIT_KEYS, REVERSIBILITY_KEYS, SERIES_KEYS, TABLES
 from cvfit.io.manifest_standard import INTERNAL_STANDARD_KEYS
+from cvfit.io.manifest_variables import MODELS, POINT_KEYS
 from cvfit.io.options import IMPORT_KEYS
 
 SCHEMA_PATH = Path(__file__).resolve().parents[1] / "schemas" / "series.schema.json"
@@ -67,6 +68,16 @@ potential_column = 0
     "tab_word": BASE + 'delimiter = "tab"\n',
     # JSON Schema counts 2.0 as an integer; so does the loader.
     "integral_floats": BASE.replace("electrons = 1", "electrons = 2.0") + "cycle = 2.0\n",
+    "ph_series": '[series]\nelectrons = 1\n[fit]\nmodel = "proton"\nmax_protons = 2\n'
+    '[[voltammogram]]\nfile = "a.csv"\npH = 4\n[[voltammogram]]\nfile = "b.csv"\npH = 7\n',
+    "temperature_series": '[series]\nelectrons = 1\nreference_at = "constant_temperature"\n'
+    '[fit]\nmodel = "temperature"\n[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.1\n'
+    "temperature_C = 15\n",
+    "points_only": "[series]\nelectrons = 1\n[[point]]\nligand_M = 0\nE_half_V = 0.1\n"
+    "[[point]]\nligand_M = 0.01\nE_half_V = -0.1\nE_half_stderr_V = 0.001\nlabel = 'x'\n",
+    "points_and_files": BASE + "[[point]]\nligand_M = 0.01\nE_half_V = -0.1\n",
+    "ph_points": '[series]\nelectrons = 1\n[fit]\nmodel = "proton"\n[[point]]\npH = 3\n'
+    "E_half_V = 0.2\n",
 }
 
 BAD = {
@@ -110,6 +121,18 @@ BAD = {
     "column_empty": BASE + "current_column = ''\n",
     "label_number": BASE + "label = 3\n",
     "title_number": BASE.replace("electrons = 1", "electrons = 1\ntitle = 3"),
+    "max_protons_5": BASE + "[fit]\nmax_protons = 5\n",
+    "reference_at_word": BASE.replace("electrons = 1", "electrons = 1\nreference_at = 'warm'"),
+    "entry_too_hot": BASE + "temperature_C = 120\n",
+    "point_without_E_half": BASE + "[[point]]\nligand_M = 0.01\n",
+    "point_without_ligand": BASE + "[[point]]\nE_half_V = 0.1\n",
+    "ph_point_without_pH": '[series]\nelectrons = 1\n[fit]\nmodel = "proton"\n[[point]]\n'
+    "E_half_V = 0.2\n",
+    "point_zero_stderr": BASE
+    + "[[point]]\nligand_M = 0.01\nE_half_V = 0.1\nE_half_stderr_V = 0\n",
+    "point_unknown_key": BASE + "[[point]]\nligand_M = 0.01\nE_half_V = 0.1\nsigma = 1\n",
+    "points_with_global": BASE + "[fit]\nglobal = true\n[[point]]\nligand_M = 0.01\n"
+    "E_half_V = 0.1\n",
 }
 
 
@@ -169,7 +192,7 @@ def _objects(node):
 
 def test_every_object_is_closed_and_documented():
     objects = list(_objects(SCHEMA))
-    assert len(objects) == 7
+    assert len(objects) == 8
     for obj in objects:
         assert obj["additionalProperties"] is False
         assert obj["description"]
@@ -186,3 +209,5 @@ def test_schema_keys_match_loader_keys():
     assert set(props["reversibility"]["properties"]) == set(REVERSIBILITY_KEYS)
     assert set(props["voltammogram"]["items"]["properties"]) == set(ENTRY_KEYS)
     assert set(props["internal_standard"]["properties"]) == set(INTERNAL_STANDARD_KEYS)
+    assert set(props["point"]["items"]["properties"]) == set(POINT_KEYS)
+    assert set(props["fit"]["properties"]["model"]["enum"]) == set(MODELS)

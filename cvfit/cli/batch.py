@@ -52,6 +52,9 @@ class SeriesOutcome:
     error: str | None = None
     log10_beta: tuple[tuple[float, float], ...] = ()
     screen: str | None = None
+    #: For the van 't Hoff summary: the series' temperature and what else it was run under.
+    temperature_K: float | None = None
+    conditions: str | None = None
 
     def __post_init__(self) -> None:
         if self.status not in (STATUS_OK, STATUS_INPUT, STATUS_INTERNAL, STATUS_OUTPUT):
@@ -164,6 +167,7 @@ def _internal_outcome(
 
 def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOutcome:
     """The outcome of an analysed series: its constants, by the type of its fit."""
+    from cvfit.cli.batch_van_t_hoff import conditions_key
     from cvfit.report.headline import screen_short
     from cvfit.titration.lingane import LinganeFit
     from cvfit.titration.stepwise_result import StepwiseFit
@@ -182,6 +186,8 @@ def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOu
             delta_ligands=fit.delta_ligands.value,
             delta_ligands_stderr=fit.delta_ligands.stderr,
             n_points=fit.n_points,
+            temperature_K=result.series.temperature_K,
+            conditions=conditions_key(result),
         )
     if isinstance(fit, StepwiseFit):
         return SeriesOutcome(
@@ -310,6 +316,9 @@ def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
         tally += f"; {n_output} could not be written"
     if n_internal:
         tally += f"; {n_internal} failed on an internal error"
+    from cvfit.cli.batch_van_t_hoff import van_t_hoff_lines
+
+    lines += van_t_hoff_lines(outcomes)
     status = batch_exit_status(outcomes)
     lines.append("")
     lines.append(f"{tally} (exit status {status}).")

@@ -88,6 +88,7 @@ def analyse_file(
         label=entry.label,
         resistance_ohm=resistance or None,
         pH=entry.pH,
+        temperature_K=entry.temperature_K,
         imported=imported_file(v.metadata),
     )
 
