@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import sys
 from collections.abc import Sequence
-from concurrent.futures import as_completed
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -204,6 +203,11 @@ def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOu
     )
 
 
+def _run_pair(pair: tuple[Path, Path]) -> SeriesOutcome:
+    """:func:`run_series` of one (manifest, output folder) pair, as a worker runs it."""
+    return run_series(*pair)
+
+
 def default_jobs(n_series: int) -> int:
     from cvfit.pipeline.parallel import available_cpus
 
@@ -242,21 +246,11 @@ def run_batch(
                 outcomes[k] = run_series(m, o)
                 bar.update()
     else:
-        from cvfit.pipeline.parallel import new_process_pool
+        from cvfit.pipeline.parallel import results_in_order
 
-        with new_process_pool(jobs) as pool:
-            futures = {
-                pool.submit(run_series, m, o): k
-                for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True))
-            }
-            try:
-                with tqdm(**bar_kw) as bar:
-                    for fut in as_completed(futures):
-                        outcomes[futures[fut]] = fut.result()
-                        bar.update()
-            except BaseException:  # Ctrl-C: the series not started are not started
-                pool.shutdown(wait=True, cancel_futures=True)
-                raise
+        pairs = list(zip(manifests, out_dirs, strict=True))
+        with tqdm(**bar_kw) as bar:
+            outcomes[:] = results_in_order(_run_pair, pairs, jobs, done=bar.update)
     return [o for o in outcomes if o is not None]
 
 
