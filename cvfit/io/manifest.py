@@ -21,6 +21,7 @@ from cvfit.errors import InputError
 from cvfit.io import manifest_chemistry as _chem
 from cvfit.io import manifest_electrode as _electrode
 from cvfit.io import manifest_standard as _standard
+from cvfit.io import manifest_technique as _technique
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
 from cvfit.io.options import IMPORT_KEYS, ImportOptions
 from cvfit.io.text import split_lines
@@ -47,6 +48,7 @@ SERIES_KEYS = (
     "analyte_window_V",
     *_chem.SERIES_CHEMISTRY_KEYS,
     *_electrode.SERIES_ELECTRODE_KEYS,
+    *_technique.SERIES_TECHNIQUE_KEYS,
 )
 FIT_KEYS = (
     "model", "max_complexes", "exclude_non_nernstian", "half_wave_source", "global",
@@ -66,9 +68,12 @@ ENTRY_KEYS = (
     "label",
     "pH",
     *_electrode.ENTRY_ELECTRODE_KEYS,
+    *_technique.ENTRY_TECHNIQUE_KEYS,
     *IMPORT_KEYS,
 )
-TABLES = ("series", "import", "fit", "reversibility", "internal_standard", "voltammogram")
+TABLES = (
+    "series", "import", "fit", "reversibility", "internal_standard", "technique", "voltammogram",
+)  # fmt: skip
 MAX_COMPLEXES_LIMIT = 8
 
 
@@ -137,6 +142,8 @@ class SeriesSettings:
     quiet_time_s : float or None
         Time the electrode was held at the first recorded potential before the record, s
         (None: from the time column where it shows a hold, else an assumed 2 s).
+    technique : {"cv", "dpv", "swv", "wave"}
+        How the files were recorded (default cv; :mod:`cvfit.io.manifest_technique`).
     """
 
     title: str = ""
@@ -161,8 +168,10 @@ class SeriesSettings:
     analyte_window_V: tuple[float, float] | None = None
     bulk_form: str | None = None
     quiet_time_s: float | None = None
+    technique: str = "cv"
 
     def __post_init__(self) -> None:
+        _technique.clean_series(self)
         _chem.clean_series(self)
         _electrode.clean_series(self)
         object.__setattr__(
@@ -334,6 +343,8 @@ class VoltammogramEntry:
         pH of this solution (stepwise model with ligand_pKa), else the series value.
     resistance_ohm : float or None
         Uncompensated resistance for this file, Ω, else the series value.
+    rotation_rate_rpm : float or None
+        Rotation rate of a disc electrode, revolutions per minute (waves).
     """
 
     file: Path
@@ -344,8 +355,12 @@ class VoltammogramEntry:
     label: str | None = None
     pH: float | None = None
     resistance_ohm: float | None = None
+    rotation_rate_rpm: float | None = None
 
     def __post_init__(self) -> None:
+        object.__setattr__(
+            self, "rotation_rate_rpm", _technique.rotation_rate(self.rotation_rate_rpm)
+        )
         object.__setattr__(self, "pH", _chem.optional_pH(self.pH))
         object.__setattr__(
             self,
@@ -382,6 +397,7 @@ class Manifest:
     reversibility: ReversibilityCriteria
     voltammograms: tuple[VoltammogramEntry, ...]
     internal_standard: _standard.InternalStandard | None = None
+    technique: _technique.TechniqueSettings = _technique.TechniqueSettings()
 
     def __post_init__(self) -> None:
         entries = tuple(self.voltammograms)
@@ -600,6 +616,9 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
             )
     criteria = ld.build(ReversibilityCriteria, rev, "reversibility")
     standard = _load_standard(ld, data, series_settings)
+    technique = _technique.load_technique(
+        ld, data, series_settings.technique, fit_settings.global_fit
+    )
     entries_raw = data.get("voltammogram")
     if entries_raw is None or entries_raw == []:
         raise ld.fail("no [[voltammogram]] tables; list at least one file", "voltammogram", None)
@@ -644,6 +663,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
                 "label": raw.get("label"),
                 "pH": raw.get("pH"),
                 "resistance_ohm": raw.get("resistance_ohm"),
+                "rotation_rate_rpm": raw.get("rotation_rate_rpm"),
             },
             "voltammogram",
             index,
@@ -687,6 +707,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         reversibility=criteria,
         voltammograms=tuple(entries),
         internal_standard=standard,
+        technique=technique,
     )
 
 
