@@ -34,6 +34,8 @@ __all__ = ["PeakFit", "fit_peak", "reversible_width_V", "WINDOW_WIDTHS"]
 WINDOW_WIDTHS = 2.0
 #: Fewest points across a fitted peak.
 MIN_PEAK_POINTS = 12
+#: A peak (or wave) counts when its height is at least this many standard errors.
+SIGNIFICANT = 5.0
 
 
 def reversible_width_V(a: float, nf: float) -> float:
@@ -186,6 +188,8 @@ def fit_peak(E_V: np.ndarray, current_A: np.ndarray, *, a: float, nf: float) -> 
     if not (lo + 0.5 * W <= Ec <= hi - 0.5 * W) or not scale > 0 or H == 0.0:
         return "the peak lies at the end of the record (or none was found); widen the range"
     sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))
+    if not abs(H) >= max(SIGNIFICANT * sd[2], 1e-6 * float(np.ptp(i))):
+        return "no peak stands out of the noise (height below five standard errors)"
     width = W / scale
     keep = np.abs(E - Ec) <= WINDOW_WIDTHS * W
     z = (i[keep] - (b0 + b1 * (E[keep] - mid))) / H

@@ -23,6 +23,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import least_squares
 
+from cvfit.techniques.pulse_peak import SIGNIFICANT
+
 __all__ = ["WaveFit", "fit_wave"]
 
 #: Fewest points a fitted wave needs.
@@ -129,6 +131,8 @@ def fit_wave(E_V: np.ndarray, current_A: np.ndarray, *, nf: float) -> WaveFit | 
         return "the wave's parameters are not determined by the record"
     sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))
     L = float(beta[2])
+    if not abs(L) >= max(SIGNIFICANT * sd[2], 1e-6 * float(np.ptp(i))):
+        return "no wave stands out of the noise (height below five standard errors)"
     z = (i - beta[0] - beta[1] * (E - mid)) / L
     quart = _quartiles(E, z)
     q = q_sd = None
