@@ -13,6 +13,7 @@ from cvfit.errors import InputError
 from cvfit.io import load_manifest
 from cvfit.io.manifest import ENTRY_KEYS, FIT_KEYS, REVERSIBILITY_KEYS, SERIES_KEYS, TABLES
 from cvfit.io.manifest_standard import INTERNAL_STANDARD_KEYS
+from cvfit.io.manifest_technique import TECHNIQUE_KEYS
 from cvfit.io.manifest_variables import MODELS, POINT_KEYS
 from cvfit.io.options import IMPORT_KEYS
 
@@ -21,6 +22,13 @@ SCHEMA = json.loads(SCHEMA_PATH.read_text(encoding="utf-8"))
 VALIDATOR = jsonschema.Draft202012Validator(SCHEMA)
 
 BASE = '[series]\nelectrons = 1\n\n[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.0\n'
+
+DPV = BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "dpv"') + (
+    "[technique]\npulse_amplitude_V = -0.05\npulse_width_s = 0.05\nstep_V = 0.005\n"
+)
+SWV = BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "swv"') + (
+    "[technique]\namplitude_V = 0.025\nfrequency_Hz = 25\nstep_V = 0.005\n"
+)
 
 GOOD = {
     "minimal": BASE,
@@ -78,6 +86,15 @@ potential_column = 0
     "points_and_files": BASE + "[[point]]\nligand_M = 0.01\nE_half_V = -0.1\n",
     "ph_points": '[series]\nelectrons = 1\n[fit]\nmodel = "proton"\n[[point]]\npH = 3\n'
     "E_half_V = 0.2\n",
+    "cv_named": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "cv"'),
+    "dpv": DPV,
+    "dpv_full": DPV.replace(
+        "[technique]",
+        '[technique]\nperiod_s = 0.5\npulse_current_column = "ip"\nbase_current_column = 2',
+    ),
+    "swv": SWV,
+    "wave": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "wave"')
+    + "rotation_rate_rpm = 900\n",
 }
 
 BAD = {
@@ -133,6 +150,21 @@ BAD = {
     "point_unknown_key": BASE + "[[point]]\nligand_M = 0.01\nE_half_V = 0.1\nsigma = 1\n",
     "points_with_global": BASE + "[fit]\nglobal = true\n[[point]]\nligand_M = 0.01\n"
     "E_half_V = 0.1\n",
+    "technique_unknown": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "npv"'),
+    "technique_table_for_cv": BASE + "[technique]\nstep_V = 0.005\n",
+    "dpv_without_table": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "dpv"'),
+    "dpv_missing_width": DPV.replace("pulse_width_s = 0.05\n", ""),
+    "dpv_zero_amplitude": DPV.replace("pulse_amplitude_V = -0.05", "pulse_amplitude_V = 0"),
+    "dpv_swv_key": DPV + "frequency_Hz = 25\n",
+    "dpv_unknown_key": DPV + "pulse_height_V = 0.05\n",
+    "dpv_global": DPV + "[fit]\nglobal = true\n",
+    "swv_missing_frequency": SWV.replace("frequency_Hz = 25\n", ""),
+    "swv_negative_amplitude": SWV.replace("amplitude_V = 0.025", "amplitude_V = -0.025"),
+    "swv_dpv_key": SWV + "period_s = 0.5\n",
+    "wave_with_setting": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "wave"')
+    + "[technique]\nstep_V = 0.005\n",
+    "rotation_zero": BASE + "rotation_rate_rpm = 0\n",
+    "column_blank": SWV + 'forward_current_column = ""\n',
 }
 
 
@@ -211,3 +243,4 @@ def test_schema_keys_match_loader_keys():
     assert set(props["internal_standard"]["properties"]) == set(INTERNAL_STANDARD_KEYS)
     assert set(props["point"]["items"]["properties"]) == set(POINT_KEYS)
     assert set(props["fit"]["properties"]["model"]["enum"]) == set(MODELS)
+    assert set(props["technique"]["properties"]) == set(TECHNIQUE_KEYS)

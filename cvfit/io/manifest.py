@@ -21,6 +21,7 @@ from cvfit.errors import InputError
 from cvfit.io import manifest_chemistry as _chem
 from cvfit.io import manifest_electrode as _electrode
 from cvfit.io import manifest_standard as _standard
+from cvfit.io import manifest_technique as _technique
 from cvfit.io import manifest_variables as _variables
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
 from cvfit.io.options import IMPORT_KEYS, ImportOptions
@@ -49,6 +50,7 @@ SERIES_KEYS = (
     "reference_at",
     *_chem.SERIES_CHEMISTRY_KEYS,
     *_electrode.SERIES_ELECTRODE_KEYS,
+    *_technique.SERIES_TECHNIQUE_KEYS,
 )
 FIT_KEYS = (
     "model", "max_complexes", "exclude_non_nernstian", "half_wave_source", "global",
@@ -69,10 +71,12 @@ ENTRY_KEYS = (
     "pH",
     "temperature_C",
     *_electrode.ENTRY_ELECTRODE_KEYS,
+    *_technique.ENTRY_TECHNIQUE_KEYS,
     *IMPORT_KEYS,
 )
 TABLES = (
-    "series", "import", "fit", "reversibility", "internal_standard", "voltammogram", "point",
+    "series", "import", "fit", "reversibility", "internal_standard", "technique", "voltammogram",
+    "point",
 )  # fmt: skip
 MAX_COMPLEXES_LIMIT = 8
 
@@ -142,6 +146,8 @@ class SeriesSettings:
     quiet_time_s : float or None
         Time the electrode was held at the first recorded potential before the record, s
         (None: from the time column where it shows a hold, else an assumed 2 s).
+    technique : {"cv", "dpv", "swv", "wave"}
+        How the files were recorded (default cv; :mod:`cvfit.io.manifest_technique`).
     """
 
     title: str = ""
@@ -166,8 +172,10 @@ class SeriesSettings:
     analyte_window_V: tuple[float, float] | None = None
     bulk_form: str | None = None
     quiet_time_s: float | None = None
+    technique: str = "cv"
 
     def __post_init__(self) -> None:
+        _technique.clean_series(self)
         _chem.clean_series(self)
         _electrode.clean_series(self)
         object.__setattr__(
@@ -349,6 +357,8 @@ class VoltammogramEntry:
     temperature_C : float or None
         This solution's temperature, °C (0–100): the file is analysed at it (a temperature
         series); None: the series value.
+    rotation_rate_rpm : float or None
+        Rotation rate of a disc electrode, revolutions per minute (waves).
     """
 
     file: Path
@@ -360,8 +370,12 @@ class VoltammogramEntry:
     pH: float | None = None
     resistance_ohm: float | None = None
     temperature_C: float | None = None
+    rotation_rate_rpm: float | None = None
 
     def __post_init__(self) -> None:
+        object.__setattr__(
+            self, "rotation_rate_rpm", _technique.rotation_rate(self.rotation_rate_rpm)
+        )
         object.__setattr__(self, "pH", _chem.optional_pH(self.pH))
         object.__setattr__(
             self, "temperature_C", _variables.optional_temperature_C(self.temperature_C)
@@ -413,6 +427,7 @@ class Manifest:
     internal_standard: _standard.InternalStandard | None = None
     points: tuple[_variables.PointEntry, ...] = ()
     reference_at: str | None = None
+    technique: _technique.TechniqueSettings = _technique.TechniqueSettings()
 
     def __post_init__(self) -> None:
         entries = tuple(self.voltammograms)
@@ -645,6 +660,9 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
             "fit.global",
             ld.where.line("fit", "global"),
         )
+    technique = _technique.load_technique(
+        ld, data, series_settings.technique, fit_settings.global_fit
+    )
     entries_raw = data.get("voltammogram")
     if entries_raw is None and points:
         entries_raw = []  # a series of [[point]] tables only
@@ -698,6 +716,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
                 "pH": raw.get("pH"),
                 "resistance_ohm": raw.get("resistance_ohm"),
                 "temperature_C": raw.get("temperature_C"),
+                "rotation_rate_rpm": raw.get("rotation_rate_rpm"),
             },
             "voltammogram",
             index,
@@ -744,6 +763,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         internal_standard=standard,
         points=points,
         reference_at=reference_at,
+        technique=technique,
     )
 
 

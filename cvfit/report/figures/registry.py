@@ -7,7 +7,7 @@ folder may hold (:mod:`cvfit.report.output_names`) and the report's captions bot
 from here, so a new figure is one entry.
 
 Which figures a series gets: the voltammograms always; the technique's
-(:attr:`CyclicVoltammetry.figures <cvfit.techniques.cv.technique.CyclicVoltammetry>`); the
+(``figures`` of the technique object, :mod:`cvfit.techniques`); the
 titration model's (``figures`` of the model — drawn also when no fit could be made, then
 saying so); the internal standard's when the files hold one. A drawing function takes the
 :class:`~cvfit.pipeline.results.SeriesResult` and the path and returns the path, or None
@@ -132,6 +132,14 @@ FIGURES: dict[str, FigureEntry] = {
         "E½ against temperature with the fitted line, its 95 % band and the residuals; "
         "dE½/dT and the reaction entropy stand under the title.",
         f"{_F}.temperature:plot_temperature_half_wave",
+    ),
+    "wave_log_plot": FigureEntry(
+        "wave_log_figure",
+        "wave_log_plot.png",
+        "Log plot of every wave: E against log10((i_l − i)/i) with the baseline removed, "
+        "coloured by total ligand concentration (grey: failed the wave screen), and each "
+        "file's fitted line; a reversible wave gives a line of slope 2.303 RT/nF.",
+        f"{_F}.wave:plot_wave_log",
     ),
     "internal_standard": FigureEntry(
         "internal_standard_figure",
