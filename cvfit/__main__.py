@@ -1,5 +1,5 @@
 """``python -m cvfit``."""
 
-from cvfit.cli import main
+from cvfit.cli import console_main
 
-raise SystemExit(main())
+raise SystemExit(console_main())

@@ -187,6 +187,33 @@ _CATALOGUE = (
     FlagCode("CURVE_FIT_IRREVERSIBLE", _I, "The voltammogram is irreversible (no usable "
              "reverse peak, classified irreversible, or fitted ψ below 0.01): its E½ is not "
              "taken from the curve fit and it stays out."),
+    # --- pulse and steady-state techniques (dpv, swv, wave) ------------------------------
+    FlagCode("PULSE_NO_PEAK", _E, "No pulse peak could be measured (too few points across "
+             "it, or it lies at the end of the record); the file has no E½."),
+    FlagCode("PULSE_WIDTH_NOT_NERNSTIAN", _W, "The peak's half-height width differs from "
+             "the reversible width for the program: the couple is not Nernstian on the "
+             "pulse's time scale (its E½ is not used)."),
+    FlagCode("PULSE_PEAK_ASYMMETRIC", _W, "The peak's half-height crossings are skewed "
+             "against the reversible shape: a slow electron transfer (its E½ is not used)."),
+    FlagCode("PULSE_PEAK_HEIGHT", _W, "The peak height differs by more than 15 % from the "
+             "reversible height for the area, concentration and D of [series]."),
+    FlagCode("PULSE_HISTORY_UNKNOWN", _I, "No period_s: the reversible reference leaves out "
+             "the earlier steps of the staircase (Parry & Osteryoung's limit)."),
+    FlagCode("SWV_COMPONENTS_NOT_NERNSTIAN", _W, "The square wave's forward and reverse peaks "
+             "lie away from their reversible places, or their height ratio differs from the "
+             "reversible one (its E½ is not used)."),
+    FlagCode("COMPONENT_COLUMNS_UNREAD", _W, "The sampled-current columns named in "
+             "[technique] could not be read; the screen went without them."),
+    FlagCode("TECHNIQUE_SETTING_CONTRADICTS_FILE", _W, "A [technique] setting disagrees with "
+             "the file (its potential step, its period or the pulse's direction); both "
+             "values are given."),
+    FlagCode("WAVE_NOT_FOUND", _E, "No sigmoidal wave could be fitted (too few points, or "
+             "the wave runs off the end of the record); the file has no E½."),
+    FlagCode("WAVE_SLOPE_NOT_NERNSTIAN", _W, "The log-plot slope of the wave differs from "
+             "2.303 RT/nF, or E¼ − E¾ from Tomeš's 2 ln 3 RT/nF: the wave is not reversible "
+             "(its E½ is not used)."),
+    FlagCode("WAVE_LEVICH_NOT_LINEAR", _W, "The limiting currents of one solution at several "
+             "rotation rates do not grow as ω½ (log-log slope away from 0.5)."),
     # --- series and reference ------------------------------------------------------------
     FlagCode("EXCLUDED_NON_NERNSTIAN", _I, "The file failed the reversibility screen and its "
              "E½ was left out of the fits — as a titration point and as the reference E½(s) "
@@ -272,6 +299,21 @@ _CATALOGUE = (
     FlagCode("ACTIVITY_TEMPERATURE_OUT_OF_RANGE", _W, "The temperature lies outside 0–100 "
              "°C, where the Davies A is known from the permittivity of water; no "
              "thermodynamic constants are reported."),
+    # --- pH and temperature series, E½ tables ------------------------------------------------
+    FlagCode("NO_VARIABLE_RANGE", _E, "Every point of a pH or temperature series has the same "
+             "pH or temperature; nothing can be fitted against it."),
+    FlagCode("PKA_NOT_DETERMINED", _W, "A pKa's 95 % interval is open: the pH range measured "
+             "does not reach far enough past it."),
+    FlagCode("PROTON_FIT_UNWEIGHTED", _I, "Not every E½ of a pH series has a standard error: "
+             "equal weights, the scale from the scatter about the fit."),
+    FlagCode("TEMPERATURE_LINE_CURVED", _W, "E½ bends with temperature (a quadratic term is "
+             "significant): dE½/dT is an average over the range."),
+    FlagCode("TEMPERATURE_CELL_UNSTATED", _I, "[series] reference_at is not given: dE½/dT is "
+             "reported, the reaction entropy and enthalpy are not."),
+    FlagCode("E_HALF_FROM_TABLE", _I, "The E½ of this entry is given in the manifest "
+             "([[point]]), not measured from a voltammogram; no reversibility screen."),
+    FlagCode("E_HALF_ERROR_FROM_SCATTER", _I, "No standard error was given for this E½ "
+             "([[point]]): the fit estimates it from the scatter of the points."),
 )  # fmt: skip
 
 #: Every flag code, by code, in the order above (grouped by where it is raised).

@@ -13,6 +13,8 @@ from cvfit.errors import InputError
 from cvfit.io import load_manifest
 from cvfit.io.manifest import ENTRY_KEYS, FIT_KEYS, REVERSIBILITY_KEYS, SERIES_KEYS, TABLES
 from cvfit.io.manifest_standard import INTERNAL_STANDARD_KEYS
+from cvfit.io.manifest_technique import TECHNIQUE_KEYS
+from cvfit.io.manifest_variables import MODELS, POINT_KEYS
 from cvfit.io.options import IMPORT_KEYS
 
 SCHEMA_PATH = Path(__file__).resolve().parents[1] / "schemas" / "series.schema.json"
@@ -20,6 +22,13 @@ SCHEMA = json.loads(SCHEMA_PATH.read_text(encoding="utf-8"))
 VALIDATOR = jsonschema.Draft202012Validator(SCHEMA)
 
 BASE = '[series]\nelectrons = 1\n\n[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.0\n'
+
+DPV = BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "dpv"') + (
+    "[technique]\npulse_amplitude_V = -0.05\npulse_width_s = 0.05\nstep_V = 0.005\n"
+)
+SWV = BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "swv"') + (
+    "[technique]\namplitude_V = 0.025\nfrequency_Hz = 25\nstep_V = 0.005\n"
+)
 
 GOOD = {
     "minimal": BASE,
@@ -67,6 +76,25 @@ potential_column = 0
     "tab_word": BASE + 'delimiter = "tab"\n',
     # JSON Schema counts 2.0 as an integer; so does the loader.
     "integral_floats": BASE.replace("electrons = 1", "electrons = 2.0") + "cycle = 2.0\n",
+    "ph_series": '[series]\nelectrons = 1\n[fit]\nmodel = "proton"\nmax_protons = 2\n'
+    '[[voltammogram]]\nfile = "a.csv"\npH = 4\n[[voltammogram]]\nfile = "b.csv"\npH = 7\n',
+    "temperature_series": '[series]\nelectrons = 1\nreference_at = "constant_temperature"\n'
+    '[fit]\nmodel = "temperature"\n[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.1\n'
+    "temperature_C = 15\n",
+    "points_only": "[series]\nelectrons = 1\n[[point]]\nligand_M = 0\nE_half_V = 0.1\n"
+    "[[point]]\nligand_M = 0.01\nE_half_V = -0.1\nE_half_stderr_V = 0.001\nlabel = 'x'\n",
+    "points_and_files": BASE + "[[point]]\nligand_M = 0.01\nE_half_V = -0.1\n",
+    "ph_points": '[series]\nelectrons = 1\n[fit]\nmodel = "proton"\n[[point]]\npH = 3\n'
+    "E_half_V = 0.2\n",
+    "cv_named": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "cv"'),
+    "dpv": DPV,
+    "dpv_full": DPV.replace(
+        "[technique]",
+        '[technique]\nperiod_s = 0.5\npulse_current_column = "ip"\nbase_current_column = 2',
+    ),
+    "swv": SWV,
+    "wave": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "wave"')
+    + "rotation_rate_rpm = 900\n",
 }
 
 BAD = {
@@ -110,6 +138,33 @@ BAD = {
     "column_empty": BASE + "current_column = ''\n",
     "label_number": BASE + "label = 3\n",
     "title_number": BASE.replace("electrons = 1", "electrons = 1\ntitle = 3"),
+    "max_protons_5": BASE + "[fit]\nmax_protons = 5\n",
+    "reference_at_word": BASE.replace("electrons = 1", "electrons = 1\nreference_at = 'warm'"),
+    "entry_too_hot": BASE + "temperature_C = 120\n",
+    "point_without_E_half": BASE + "[[point]]\nligand_M = 0.01\n",
+    "point_without_ligand": BASE + "[[point]]\nE_half_V = 0.1\n",
+    "ph_point_without_pH": '[series]\nelectrons = 1\n[fit]\nmodel = "proton"\n[[point]]\n'
+    "E_half_V = 0.2\n",
+    "point_zero_stderr": BASE
+    + "[[point]]\nligand_M = 0.01\nE_half_V = 0.1\nE_half_stderr_V = 0\n",
+    "point_unknown_key": BASE + "[[point]]\nligand_M = 0.01\nE_half_V = 0.1\nsigma = 1\n",
+    "points_with_global": BASE + "[fit]\nglobal = true\n[[point]]\nligand_M = 0.01\n"
+    "E_half_V = 0.1\n",
+    "technique_unknown": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "npv"'),
+    "technique_table_for_cv": BASE + "[technique]\nstep_V = 0.005\n",
+    "dpv_without_table": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "dpv"'),
+    "dpv_missing_width": DPV.replace("pulse_width_s = 0.05\n", ""),
+    "dpv_zero_amplitude": DPV.replace("pulse_amplitude_V = -0.05", "pulse_amplitude_V = 0"),
+    "dpv_swv_key": DPV + "frequency_Hz = 25\n",
+    "dpv_unknown_key": DPV + "pulse_height_V = 0.05\n",
+    "dpv_global": DPV + "[fit]\nglobal = true\n",
+    "swv_missing_frequency": SWV.replace("frequency_Hz = 25\n", ""),
+    "swv_negative_amplitude": SWV.replace("amplitude_V = 0.025", "amplitude_V = -0.025"),
+    "swv_dpv_key": SWV + "period_s = 0.5\n",
+    "wave_with_setting": BASE.replace("electrons = 1", 'electrons = 1\ntechnique = "wave"')
+    + "[technique]\nstep_V = 0.005\n",
+    "rotation_zero": BASE + "rotation_rate_rpm = 0\n",
+    "column_blank": SWV + 'forward_current_column = ""\n',
 }
 
 
@@ -169,7 +224,7 @@ def _objects(node):
 
 def test_every_object_is_closed_and_documented():
     objects = list(_objects(SCHEMA))
-    assert len(objects) == 7
+    assert len(objects) == 8
     for obj in objects:
         assert obj["additionalProperties"] is False
         assert obj["description"]
@@ -186,3 +241,6 @@ def test_schema_keys_match_loader_keys():
     assert set(props["reversibility"]["properties"]) == set(REVERSIBILITY_KEYS)
     assert set(props["voltammogram"]["items"]["properties"]) == set(ENTRY_KEYS)
     assert set(props["internal_standard"]["properties"]) == set(INTERNAL_STANDARD_KEYS)
+    assert set(props["point"]["items"]["properties"]) == set(POINT_KEYS)
+    assert set(props["fit"]["properties"]["model"]["enum"]) == set(MODELS)
+    assert set(props["technique"]["properties"]) == set(TECHNIQUE_KEYS)

@@ -109,7 +109,8 @@ def test_series_conditions_and_criteria_are_records(dialect_series):
     data = result.to_dict()
     assert data["series"]["title"] == result.series.title == "simulated n=1"
     assert data["series"]["temperature_K"] == pytest.approx(298.15)
-    assert list(data["series"])[-3:] == ["temperature_K", "model", "technique"]
+    assert list(data["series"])[-2:] == ["temperature_K", "model"]
+    assert data["series"]["technique"] == "cv"  # [series] technique, by default
     assert data["reversibility_criteria"] == {
         "n_delta_Ep_margin_V": 0.010,
         "n_peak_width_margin_V": 0.010,

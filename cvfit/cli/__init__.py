@@ -86,12 +86,20 @@ NO_COMMAND = (
 )
 
 
-def main(argv: Sequence[str] | None = None) -> int:
-    """Entry point of the ``cvfit`` console script; returns the exit status."""
+def console_main() -> int:
+    """Entry point of the ``cvfit`` console script and ``python -m cvfit``: :func:`main`
+    on ``sys.argv``, then a late Ctrl-C (during the interpreter's exit) is ignored, so
+    the exit status is the command's."""
+    return main(ignore_late_interrupt=True)
+
+
+def main(argv: Sequence[str] | None = None, *, ignore_late_interrupt: bool = False) -> int:
+    """Run one ``cvfit`` command line (*argv*, default ``sys.argv[1:]``); returns the
+    exit status. In-process callers keep their own Ctrl-C handling afterwards."""
     for name, value in NUMERIC_ENVIRONMENT.items():
         os.environ.setdefault(name, value)
     ignore_file_size_signal()
-    with guarded_streams(), interrupt_in_this_process():
+    with guarded_streams(), interrupt_in_this_process(ignore_after=ignore_late_interrupt):
         try:
             parser = build_parser()
             args = parser.parse_args(argv)

@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import sys
 from collections.abc import Sequence
-from concurrent.futures import as_completed
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -52,6 +51,9 @@ class SeriesOutcome:
     error: str | None = None
     log10_beta: tuple[tuple[float, float], ...] = ()
     screen: str | None = None
+    #: For the van 't Hoff summary: the series' temperature and what else it was run under.
+    temperature_K: float | None = None
+    conditions: str | None = None
 
     def __post_init__(self) -> None:
         if self.status not in (STATUS_OK, STATUS_INPUT, STATUS_INTERNAL, STATUS_OUTPUT):
@@ -164,6 +166,7 @@ def _internal_outcome(
 
 def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOutcome:
     """The outcome of an analysed series: its constants, by the type of its fit."""
+    from cvfit.cli.batch_van_t_hoff import conditions_key
     from cvfit.report.headline import screen_short
     from cvfit.titration.lingane import LinganeFit
     from cvfit.titration.stepwise_result import StepwiseFit
@@ -182,6 +185,8 @@ def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOu
             delta_ligands=fit.delta_ligands.value,
             delta_ligands_stderr=fit.delta_ligands.stderr,
             n_points=fit.n_points,
+            temperature_K=result.series.temperature_K,
+            conditions=conditions_key(result),
         )
     if isinstance(fit, StepwiseFit):
         return SeriesOutcome(
@@ -196,6 +201,11 @@ def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOu
     return SeriesOutcome(
         manifest, out_dir, STATUS_OK, title, n_points=result.fit_n_points, screen=screen
     )
+
+
+def _run_pair(pair: tuple[Path, Path]) -> SeriesOutcome:
+    """:func:`run_series` of one (manifest, output folder) pair, as a worker runs it."""
+    return run_series(*pair)
 
 
 def default_jobs(n_series: int) -> int:
@@ -236,21 +246,11 @@ def run_batch(
                 outcomes[k] = run_series(m, o)
                 bar.update()
     else:
-        from cvfit.pipeline.parallel import new_process_pool
+        from cvfit.pipeline.parallel import results_in_order
 
-        with new_process_pool(jobs) as pool:
-            futures = {
-                pool.submit(run_series, m, o): k
-                for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True))
-            }
-            try:
-                with tqdm(**bar_kw) as bar:
-                    for fut in as_completed(futures):
-                        outcomes[futures[fut]] = fut.result()
-                        bar.update()
-            except BaseException:  # Ctrl-C: the series not started are not started
-                pool.shutdown(wait=True, cancel_futures=True)
-                raise
+        pairs = list(zip(manifests, out_dirs, strict=True))
+        with tqdm(**bar_kw) as bar:
+            outcomes[:] = results_in_order(_run_pair, pairs, jobs, done=bar.update)
     return [o for o in outcomes if o is not None]
 
 
@@ -310,6 +310,9 @@ def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
         tally += f"; {n_output} could not be written"
     if n_internal:
         tally += f"; {n_internal} failed on an internal error"
+    from cvfit.cli.batch_van_t_hoff import van_t_hoff_lines
+
+    lines += van_t_hoff_lines(outcomes)
     status = batch_exit_status(outcomes)
     lines.append("")
     lines.append(f"{tally} (exit status {status}).")

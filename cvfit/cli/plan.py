@@ -84,8 +84,15 @@ def handle(args: argparse.Namespace) -> int:
     from cvfit.report.atomic import atomic_path, atomic_write_text, output_set
 
     plan_path = Path(args.plan)
-    req = load_plan(plan_path)
     out_dir = Path(args.out) if args.out else plan_path.parent / f"{plan_path.stem}_plan"
+    from cvfit.cli.plan_variables import handle_variable_plan
+
+    status = handle_variable_plan(
+        args, plan_path, out_dir, check_out=_check_out, earlier=earlier_plan_set
+    )
+    if status is not None:
+        return status  # a pH or temperature series
+    req = load_plan(plan_path)
     _check_out(out_dir, plan_path)
     result = make_plan(req)
     data = plan_json(result)

@@ -20,6 +20,11 @@ import os
 import sys
 from pathlib import Path
 
+from cvfit.cli.simulate_variables import (
+    add_variable_options,
+    handle_variable_series,
+    wants_variable_series,
+)
 from cvfit.errors import InputError, OutputError, SimulationError
 
 _CMD = "<command line>"
@@ -168,6 +173,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="series with --standard-e-half: SD of the reference electrode's random-walk drift "
         "from one solution to the next, V (default 0)",
     )
+    add_variable_options(a)
     a("--title", default="simulated titration", help="series: title for the manifest")
     a("--out", metavar="FILE|DIR", help="output CSV file (series: output folder)")
     a("--force", action="store_true", help="replace existing output files")
@@ -334,6 +340,20 @@ def _check_series_size(ligands: list[float], samples: int) -> None:
         )
 
 
+def _variable_series_size(window: dict, files: int, cycles: int, step: float) -> None:
+    """A pH or temperature series of a size cvfit simulate writes (as a titration's)."""
+    switch = window["switch_V"]
+    switches = list(switch) if isinstance(switch, list) else [switch]
+    samples = _check_samples(window["start_V"], switches, cycles, step)
+    if files > MAX_SERIES_FILES or files * samples > MAX_SERIES_SAMPLES:
+        raise InputError(
+            f"a series of {files} files of {samples:,} samples is more than cvfit simulate "
+            f"writes ({MAX_SERIES_FILES:,} files, {MAX_SERIES_SAMPLES:,} samples in all)",
+            source=_CMD,
+            key="--series",
+        )
+
+
 def _check_writable(folder: Path) -> None:
     """Refuse a folder that no file can be written into, before the simulation runs."""
     import tempfile
@@ -414,6 +434,14 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
     from cvfit.chemistry.complexation import complexed_half_wave_V
     from cvfit.simulate.titration_series import simulate_series
 
+    if wants_variable_series(args):  # a pH or a temperature series
+
+        def size(window: dict, files: int) -> None:
+            _variable_series_size(window, files, settings["cycles"], settings["step_V"])
+
+        return handle_variable_series(
+            args, E_half, settings, noise, seed, out, _number, _list, size
+        )
     if args.ligand_M is None:
         raise InputError("--series needs --ligand-M LIST", source=_CMD, key="--ligand-M")
     ligands = _list(args.ligand_M, "--ligand-M")

@@ -101,7 +101,7 @@ def guarded_streams() -> Iterator[None]:
 
 
 @contextlib.contextmanager
-def interrupt_in_this_process() -> Iterator[None]:
+def interrupt_in_this_process(*, ignore_after: bool = False) -> Iterator[None]:
     """Within the block, SIGINT raises KeyboardInterrupt in this process only.
 
     Worker processes forked meanwhile inherit the handler, which does nothing in them: a
@@ -113,6 +113,11 @@ def interrupt_in_this_process() -> Iterator[None]:
     A KeyboardInterrupt raised where Python cannot pass it on (a callback run at a fork, a
     finaliser) would be printed as "Exception ignored" and the run would go on: it is
     delivered again instead, so Ctrl-C always ends the command with one line.
+
+    With *ignore_after* (the ``cvfit`` command's own process), SIGINT is ignored from the
+    end of the block on: the command's work and its message are done, and Python resets a
+    handler to the default at shutdown, so a Ctrl-C during the interpreter's exit would
+    otherwise kill the process silently (exit -2) instead of letting it report its status.
     """
     main_thread = threading.current_thread() is threading.main_thread()
     if not main_thread or signal.getsignal(signal.SIGINT) is not signal.default_int_handler:
@@ -121,8 +126,10 @@ def interrupt_in_this_process() -> Iterator[None]:
     parent = os.getpid()
     previous_hook = sys.unraisablehook
 
+    closing = False
+
     def handler(signum: int, frame: object) -> None:
-        if os.getpid() == parent:
+        if os.getpid() == parent and not closing:
             raise KeyboardInterrupt
 
     def unraisable(info: Any) -> None:
@@ -139,5 +146,7 @@ def interrupt_in_this_process() -> Iterator[None]:
     try:
         yield
     finally:
-        signal.signal(signal.SIGINT, signal.default_int_handler)
+        closing = True
+        after = signal.SIG_IGN if ignore_after else signal.default_int_handler
+        signal.signal(signal.SIGINT, after)
         sys.unraisablehook = previous_hook

@@ -21,6 +21,8 @@ from cvfit.errors import InputError
 from cvfit.io import manifest_chemistry as _chem
 from cvfit.io import manifest_electrode as _electrode
 from cvfit.io import manifest_standard as _standard
+from cvfit.io import manifest_technique as _technique
+from cvfit.io import manifest_variables as _variables
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
 from cvfit.io.options import IMPORT_KEYS, ImportOptions
 from cvfit.io.text import split_lines
@@ -45,12 +47,14 @@ SERIES_KEYS = (
     "E_half_free_stderr_V",
     "reference_electrode",
     "analyte_window_V",
+    "reference_at",
     *_chem.SERIES_CHEMISTRY_KEYS,
     *_electrode.SERIES_ELECTRODE_KEYS,
+    *_technique.SERIES_TECHNIQUE_KEYS,
 )
 FIT_KEYS = (
     "model", "max_complexes", "exclude_non_nernstian", "half_wave_source", "global",
-    "curve_diffusion_ratio", "global_shared",
+    "curve_diffusion_ratio", "global_shared", "max_protons",
     *_chem.FIT_STEPWISE_KEYS,
 )  # fmt: skip
 #: Where E½ of each file comes from (``[fit] half_wave_source``).
@@ -65,10 +69,15 @@ ENTRY_KEYS = (
     "scan_rate_V_s",
     "label",
     "pH",
+    "temperature_C",
     *_electrode.ENTRY_ELECTRODE_KEYS,
+    *_technique.ENTRY_TECHNIQUE_KEYS,
     *IMPORT_KEYS,
 )
-TABLES = ("series", "import", "fit", "reversibility", "internal_standard", "voltammogram")
+TABLES = (
+    "series", "import", "fit", "reversibility", "internal_standard", "technique", "voltammogram",
+    "point",
+)  # fmt: skip
 MAX_COMPLEXES_LIMIT = 8
 
 
@@ -137,6 +146,8 @@ class SeriesSettings:
     quiet_time_s : float or None
         Time the electrode was held at the first recorded potential before the record, s
         (None: from the time column where it shows a hold, else an assumed 2 s).
+    technique : {"cv", "dpv", "swv", "wave"}
+        How the files were recorded (default cv; :mod:`cvfit.io.manifest_technique`).
     """
 
     title: str = ""
@@ -161,8 +172,10 @@ class SeriesSettings:
     analyte_window_V: tuple[float, float] | None = None
     bulk_form: str | None = None
     quiet_time_s: float | None = None
+    technique: str = "cv"
 
     def __post_init__(self) -> None:
+        _technique.clean_series(self)
         _chem.clean_series(self)
         _electrode.clean_series(self)
         object.__setattr__(
@@ -218,8 +231,9 @@ class FitSettings:
 
     Attributes
     ----------
-    model : {"lingane", "stepwise"}
-        Titration model (default lingane).
+    model : {"lingane", "stepwise", "proton", "temperature"}
+        Titration model (default lingane): a ligand titration (Lingane line or stepwise
+        constants), E½ against pH, or E½ against temperature.
     max_complexes : int
         Highest j tried by the stepwise model, 1–8 (default 4).
     exclude_non_nernstian : bool
@@ -240,9 +254,11 @@ class FitSettings:
     curve_diffusion_ratio : float
         D_R/D_O of the curve fit's model (default 1). A number only: one curve cannot
         tell it (see :mod:`cvfit.techniques.cv.curve.fit`); it changes k0, not E½.
+    max_protons : int
+        pH model: most protonation steps tried per oxidation state, 1–4 (default 2).
     """
 
-    model: Literal["lingane", "stepwise"] = "lingane"
+    model: Literal["lingane", "stepwise", "proton", "temperature"] = "lingane"
     max_complexes: int = 4
     exclude_non_nernstian: bool = True
     fixed_log10_beta_ox: tuple[float, ...] | None = None
@@ -252,9 +268,11 @@ class FitSettings:
     global_fit: bool = False
     curve_diffusion_ratio: float = 1.0
     global_shared: tuple[str, ...] = ()
+    max_protons: int = 2
 
     def __post_init__(self) -> None:
         _chem.clean_fit(self)
+        object.__setattr__(self, "max_protons", _variables.clean_max_protons(self.max_protons))
         if self.half_wave_source not in HALF_WAVE_SOURCES:
             raise InputError(
                 'half_wave_source must be "peaks", "curve" or "auto", got '
@@ -294,9 +312,11 @@ class FitSettings:
             raise InputError(
                 f"global must be true or false, got {self.global_fit!r}", key="global"
             )
-        if self.model not in ("lingane", "stepwise"):
+        if self.model not in _variables.MODELS:
             raise InputError(
-                f"model must be 'lingane' or 'stepwise', got {self.model!r}", key="model"
+                f"model must be 'lingane', 'stepwise', 'proton' or 'temperature', got "
+                f"{self.model!r}",
+                key="model",
             )
         j = _whole(self.max_complexes)
         object.__setattr__(self, "max_complexes", j)
@@ -334,6 +354,11 @@ class VoltammogramEntry:
         pH of this solution (stepwise model with ligand_pKa), else the series value.
     resistance_ohm : float or None
         Uncompensated resistance for this file, Ω, else the series value.
+    temperature_C : float or None
+        This solution's temperature, °C (0–100): the file is analysed at it (a temperature
+        series); None: the series value.
+    rotation_rate_rpm : float or None
+        Rotation rate of a disc electrode, revolutions per minute (waves).
     """
 
     file: Path
@@ -344,9 +369,17 @@ class VoltammogramEntry:
     label: str | None = None
     pH: float | None = None
     resistance_ohm: float | None = None
+    temperature_C: float | None = None
+    rotation_rate_rpm: float | None = None
 
     def __post_init__(self) -> None:
+        object.__setattr__(
+            self, "rotation_rate_rpm", _technique.rotation_rate(self.rotation_rate_rpm)
+        )
         object.__setattr__(self, "pH", _chem.optional_pH(self.pH))
+        object.__setattr__(
+            self, "temperature_C", _variables.optional_temperature_C(self.temperature_C)
+        )
         object.__setattr__(
             self,
             "resistance_ohm",
@@ -369,10 +402,20 @@ class VoltammogramEntry:
         object.__setattr__(self, "scan_rate_V_s", v)
         object.__setattr__(self, "file", Path(self.file))
 
+    @property
+    def temperature_K(self) -> float | None:
+        """This file's own temperature, K (None: the series temperature)."""
+        return None if self.temperature_C is None else celsius_to_kelvin(self.temperature_C)
+
 
 @dataclass(frozen=True, kw_only=True)
 class Manifest:
-    """A loaded series manifest."""
+    """A loaded series manifest.
+
+    ``points`` are the ``[[point]]`` tables (E½ given, no file); ``reference_at`` is
+    ``[series] reference_at`` (kept beside the series settings: it concerns the
+    temperature model only).
+    """
 
     path: Path
     folder: Path
@@ -382,12 +425,18 @@ class Manifest:
     reversibility: ReversibilityCriteria
     voltammograms: tuple[VoltammogramEntry, ...]
     internal_standard: _standard.InternalStandard | None = None
+    points: tuple[_variables.PointEntry, ...] = ()
+    reference_at: str | None = None
+    technique: _technique.TechniqueSettings = _technique.TechniqueSettings()
 
     def __post_init__(self) -> None:
         entries = tuple(self.voltammograms)
-        if not entries:
-            raise InputError("a series needs at least one voltammogram", source=str(self.path))
+        if not entries and not self.points:
+            raise InputError(
+                "a series needs at least one voltammogram or [[point]]", source=str(self.path)
+            )
         object.__setattr__(self, "voltammograms", entries)
+        object.__setattr__(self, "points", tuple(self.points))
 
 
 class _Locator:
@@ -581,6 +630,9 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         )
     ld.check_keys(series, SERIES_KEYS, "series", None)
     ld.require(series, "electrons", "series")
+    series = dict(series)
+    where = {"value": series.pop("reference_at", None)}
+    reference_at = ld.build(_variables.check_reference_at, where, "series")
     series_settings = ld.build(SeriesSettings, {"title": p.stem, **series}, "series")
     imp = ld.table(data, "import")
     ld.check_keys(imp, IMPORT_KEYS, "import", None)
@@ -600,9 +652,27 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
             )
     criteria = ld.build(ReversibilityCriteria, rev, "reversibility")
     standard = _load_standard(ld, data, series_settings)
+    points = _variables.load_points(ld, data, fit_settings.model)
+    if points and fit_settings.global_fit:
+        raise ld.fail(
+            "the global curve fit needs a voltammogram for every E½; leave out [[point]] "
+            "tables or set global = false",
+            "fit.global",
+            ld.where.line("fit", "global"),
+        )
+    technique = _technique.load_technique(
+        ld, data, series_settings.technique, fit_settings.global_fit
+    )
     entries_raw = data.get("voltammogram")
-    if entries_raw is None or entries_raw == []:
-        raise ld.fail("no [[voltammogram]] tables; list at least one file", "voltammogram", None)
+    if entries_raw is None and points:
+        entries_raw = []  # a series of [[point]] tables only
+    elif entries_raw is None or entries_raw == []:
+        raise ld.fail(
+            "no [[voltammogram]] tables; list at least one file (or E½ values as [[point]] "
+            "tables)",
+            "voltammogram",
+            None,
+        )
     if not isinstance(entries_raw, list) or not all(isinstance(e, dict) for e in entries_raw):
         raise ld.fail(
             "write one [[voltammogram]] table (double brackets) per file",
@@ -614,7 +684,8 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     for index, raw in enumerate(entries_raw, start=1):
         ld.check_keys(raw, ENTRY_KEYS, "voltammogram", index)
         ld.require(raw, "file", "voltammogram", index)
-        ld.require(raw, "ligand_M", "voltammogram", index)
+        if _variables.VARIABLE_OF_MODEL[fit_settings.model] == "ligand_M":
+            ld.require(raw, "ligand_M", "voltammogram", index)
         per_file = _whole_import({k: raw[k] for k in IMPORT_KEYS if k in raw})
         options = ld.build(ImportOptions, {**imp, **per_file}, "voltammogram", index)
         name = raw["file"]
@@ -638,12 +709,14 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
             {
                 "file": resolved,
                 "name": name,
-                "ligand_M": raw["ligand_M"],
+                "ligand_M": raw.get("ligand_M", 0.0),
                 "scan_rate_V_s": raw.get("scan_rate_V_s"),
                 "import_options": options,
                 "label": raw.get("label"),
                 "pH": raw.get("pH"),
                 "resistance_ohm": raw.get("resistance_ohm"),
+                "temperature_C": raw.get("temperature_C"),
+                "rotation_rate_rpm": raw.get("rotation_rate_rpm"),
             },
             "voltammogram",
             index,
@@ -678,6 +751,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         seen[key] = index
         entries.append(entry)
     entries = _name_cycles(entries)
+    _variables.check_variable_series(ld, tuple(entries), points, fit_settings.model)
     return Manifest(
         path=p.resolve(),
         folder=folder,
@@ -687,6 +761,9 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         reversibility=criteria,
         voltammograms=tuple(entries),
         internal_standard=standard,
+        points=points,
+        reference_at=reference_at,
+        technique=technique,
     )
 
 

@@ -4,17 +4,33 @@ A pool's workers wait on a pipe that their siblings also hold open, so when the 
 that started them is killed (SIGKILL, an out-of-memory kill, a closed terminal) they would
 wait forever, each holding its share of memory. Every worker here watches its parent and
 exits as soon as the parent is gone.
+
+Ctrl-C is never raised inside the pool's own code: a KeyboardInterrupt that lands while
+the executor holds one of its locks leaves its shutdown waiting on that lock for ever (seen
+on Python 3.11). :func:`results_in_order` holds SIGINT back while it works the pool and
+raises KeyboardInterrupt itself, from its own loop, after cancelling the tasks not started.
 """
 
 from __future__ import annotations
 
 import contextlib
 import os
+import signal
 import threading
 import time
-from concurrent.futures import ProcessPoolExecutor
+from collections.abc import Callable, Iterable, Iterator
+from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
+from typing import Any, TypeVar
 
-__all__ = ["available_cpus", "new_process_pool", "one_blas_thread", "PARENT_POLL_S"]
+__all__ = [
+    "available_cpus",
+    "new_process_pool",
+    "one_blas_thread",
+    "results_in_order",
+    "PARENT_POLL_S",
+]
+
+T = TypeVar("T")
 
 #: How often a worker checks that the process that started it is still there, s.
 PARENT_POLL_S = 0.2
@@ -59,3 +75,65 @@ def new_process_pool(workers: int) -> ProcessPoolExecutor:
     return ProcessPoolExecutor(
         max_workers=workers, initializer=_worker_start, initargs=(os.getpid(),)
     )
+
+
+@contextlib.contextmanager
+def _interrupt_held_back() -> Iterator[Callable[[], bool]]:
+    """Within the block SIGINT only sets a flag, which the yielded function reads.
+
+    Outside the main thread, or where SIGINT is ignored, nothing changes (the flag stays
+    down). Worker processes forked in the block inherit the handler: it sets a flag nobody
+    reads, so a terminal's Ctrl-C, which reaches every process, leaves them to finish or be
+    cancelled by the parent.
+    """
+    if threading.current_thread() is not threading.main_thread():
+        yield lambda: False
+        return
+    previous = signal.getsignal(signal.SIGINT)
+    if previous in (signal.SIG_IGN, None):
+        yield lambda: False
+        return
+    hit = threading.Event()
+    signal.signal(signal.SIGINT, lambda signum, frame: hit.set())
+    try:
+        yield hit.is_set
+    finally:
+        signal.signal(signal.SIGINT, previous)
+
+
+def results_in_order(
+    call: Callable[[Any], T],
+    items: Iterable[Any],
+    workers: int,
+    *,
+    done: Callable[[], None] = lambda: None,
+) -> list[T]:
+    """``[call(x) for x in items]`` on a pool of *workers* processes, in the items' order.
+
+    *done* is called in this process each time a task finishes (a progress bar). A task
+    that raises cancels the tasks after it that have not started; the others finish, and
+    the exception of the first failed item in order is raised (the one a serial loop
+    would meet). Ctrl-C cancels every task not started, lets the running ones finish and
+    raises KeyboardInterrupt.
+    """
+    with _interrupt_held_back() as interrupted, new_process_pool(workers) as pool:
+        futures: list[Future[T]] = [pool.submit(call, x) for x in items]
+        try:
+            order = {fut: k for k, fut in enumerate(futures)}
+            pending: set[Future[T]] = set(futures)
+            while pending:
+                finished, pending = wait(pending, PARENT_POLL_S, FIRST_COMPLETED)
+                for fut in finished:
+                    if fut.cancelled():
+                        continue
+                    if fut.exception() is not None:
+                        for later in futures[order[fut] + 1 :]:
+                            later.cancel()
+                    else:
+                        done()
+                if interrupted():
+                    raise KeyboardInterrupt
+            return [fut.result() for fut in futures]  # a failure comes before any cancelled
+        finally:
+            for fut in futures:
+                fut.cancel()

@@ -23,7 +23,7 @@ from cvfit.techniques.curves import points_per_curve
 from cvfit.voltammogram import Voltammogram
 
 from .half_wave import decide_half_wave
-from .parallel import new_process_pool, one_blas_thread
+from .parallel import one_blas_thread, results_in_order
 from .results import FileResult
 
 __all__ = [
@@ -88,6 +88,7 @@ def analyse_file(
         label=entry.label,
         resistance_ohm=resistance or None,
         pH=entry.pH,
+        temperature_K=entry.temperature_K,
         imported=imported_file(v.metadata),
     )
 
@@ -148,11 +149,4 @@ def analyse_files(
                 done.append(analyse_file(e, manifest, records.get(e.name), series_files=n))
                 tick()
         return done
-    workers = min(jobs, n)
-    done = []
-    with new_process_pool(workers) as pool:
-        chunk = max(1, n // (4 * workers))
-        for result in pool.map(partial(_analyse_entry, manifest, n), entries, chunksize=chunk):
-            done.append(result)
-            tick()
-    return done
+    return results_in_order(partial(_analyse_entry, manifest, n), entries, min(jobs, n), done=tick)

@@ -27,6 +27,8 @@ if TYPE_CHECKING:  # imported for annotations only; keeps this module free of he
     from cvfit.techniques.curves import CycleCurve
     from cvfit.techniques.cv.curve.global_fit import GlobalCurveFit
     from cvfit.techniques.cv.screen.scan_rate import ScanRateStudy
+    from cvfit.titration.proton_result import ProtonFit
+    from cvfit.titration.temperature_model import TemperatureFit
 
 __all__ = [
     "FileResult",
@@ -40,7 +42,7 @@ __all__ = [
 
 #: The fit of a titration series: one type per model (``[fit] model`` of the manifest),
 #: each a :class:`~cvfit.titration.base.TitrationResult`.
-TitrationFit: TypeAlias = LinganeFit | StepwiseFit
+TitrationFit: TypeAlias = "LinganeFit | StepwiseFit | ProtonFit | TemperatureFit"
 
 
 #: The internal reference couple as measured in one file (defined with the techniques).
@@ -86,6 +88,9 @@ class FileResult:
         R_u the potentials were corrected with, Ω.
     pH : float or None
         The solution's pH, when the manifest gives one for the file.
+    temperature_K : float or None
+        The file's own temperature, K, when the manifest gives one (it was analysed at
+        it); None: the series temperature.
     imported : ImportedFile or None
         The columns read from the file and the importer's flags
         (:func:`cvfit.io.notes.imported_file`); None for a record not read from a file.
@@ -103,6 +108,7 @@ class FileResult:
     label: str | None = None
     resistance_ohm: float | None = None
     pH: float | None = None
+    temperature_K: float | None = None
     imported: ImportedFile | None = field(default=None, compare=False)
 
     @property
@@ -170,8 +176,15 @@ class FileResult:
             if self.internal_standard is None
             else self.internal_standard.to_dict(),
             "flags": [f.to_dict() for f in self.flags],
+            **self._solution_keys(),
             "imported_columns": self.imported_columns,
         }
+
+    def _solution_keys(self) -> dict[str, float]:
+        """pH and temperature_K of the file's record, written only when the manifest gives
+        them for the file (a pH or temperature series)."""
+        keys = {"pH": self.pH, "temperature_K": self.temperature_K}
+        return {k: float(v) for k, v in keys.items() if v is not None}
 
 
 @dataclass(frozen=True)
@@ -182,12 +195,12 @@ class SeriesConditions:
     ----------
     settings : SeriesSettings
         The ``[series]`` table of the manifest, as loaded (validated there).
-    model : {"lingane", "stepwise"}
+    model : {"lingane", "stepwise", "proton", "temperature"}
         The titration model of ``[fit]``; the fit, when one could be made, is of its type.
     """
 
     settings: SeriesSettings
-    model: Literal["lingane", "stepwise"]
+    model: Literal["lingane", "stepwise", "proton", "temperature"]
     technique: str = "cv"
 
     def __post_init__(self) -> None:

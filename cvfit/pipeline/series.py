@@ -10,6 +10,7 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import replace
 from pathlib import Path
+from typing import cast
 
 import numpy as np
 
@@ -25,12 +26,12 @@ from cvfit.pipeline.results import (
     SeriesResult,
     TitrationFit,
 )
+from cvfit.pipeline.table_points import table_points
 from cvfit.techniques import technique_of
 from cvfit.techniques.base import StudyItem
-from cvfit.titration.base import TitrationData, TitrationPoint
+from cvfit.titration.base import TitrationData, TitrationModel, TitrationPoint
 from cvfit.titration.error_budget import reference_mean
 from cvfit.titration.lingane import MIN_POINTS as MIN_FIT_POINTS
-from cvfit.titration.lingane import check_points
 from cvfit.titration.registry import model_named
 from cvfit.version import __version__
 from cvfit.voltammogram import Voltammogram
@@ -50,6 +51,16 @@ _NO_TITRATION = Flag(
     "ipa/ipc, k0, D and the scan-rate studies — and no constants are fitted",
     "info",
 )
+
+
+#: E½(s) of a series whose model needs none (pH, temperature).
+_NO_REFERENCE = ReferenceHalfWave(None, None, "none")
+
+
+def _titration_x(f: FileResult, model: TitrationModel) -> float | None:
+    """The file's value of the model's titration variable (for a ligand model the free
+    ligand, which the model may correct; else ``pH`` or ``temperature_K`` as given)."""
+    return f.free_ligand_M if model.variable == "ligand_M" else getattr(f, model.variable)
 
 
 def _reference(files: Sequence[FileResult], manifest: Manifest) -> ReferenceHalfWave:
@@ -150,24 +161,27 @@ def _fit_titration(
     """The fit of the model asked for, or why none can be made; the files come back with
     the x the model fitted them at (the free ligand) and its notes on them.
 
-    Every model needs what the Lingane line needs (:func:`check_points`: three points over
-    more than one ligand concentration) and a reference E½(s).
+    The model's own checks come first (a ligand model: three points over more than one
+    ligand concentration), and a ligand model needs a reference E½(s).
     """
-    points = tuple(_point(f, f.free_ligand_M) for f in files if f.used_in_fit)
-    checks = check_points(points)
+    model = model_named(manifest.fit.model)
+    # a fitted file is a point, so the model's variable is given for it
+    points = tuple(_point(f, cast(float, _titration_x(f, model))) for f in files if f.used_in_fit)
+    checks = model.check_points(points)
     why: list[Flag] = []
-    if reference.E_half_V is None:
+    if model.needs_reference and reference.E_half_V is None:
         why.append(_no_reference(reference, files))
     if why or any(f.severity == "error" for f in checks):
         return FitRefused((*why, *checks)), files
     refs = tuple(_point(f, 0.0) for f in files if f.file in reference.files)
     data = TitrationData(points, reference, refs)
-    outcome = model_named(manifest.fit.model).fit(data, manifest)
+    outcome = model.fit(data, manifest)
     out = []
     for f in files:
         note = outcome.notes.get(f.file)
         if note is not None:
-            f = replace(f, free_ligand_M=note.x, series_flags=(*f.series_flags, *note.flags))
+            free = note.x if model.variable == "ligand_M" else f.free_ligand_M
+            f = replace(f, free_ligand_M=free, series_flags=(*f.series_flags, *note.flags))
         out.append(f)
     return outcome.fit, out  # type: ignore[return-value]
 
@@ -239,18 +253,23 @@ def analyse_series(
         Per-file peak data, the reversibility verdicts, the reference E½ and the fit
         (``None`` with a series flag when fewer than three usable points remain).
     """
-    titrating = [e for e in manifest.voltammograms if e.ligand_M > 0]
-    if 0 < len(titrating) < MIN_FIT_POINTS:
+    model = model_named(manifest.fit.model)
+    entries = (*manifest.voltammograms, *manifest.points)
+    titrating = [e for e in entries if model.is_point(getattr(e, model.variable))]
+    if (titrating or not model.needs_reference) and len(titrating) < MIN_FIT_POINTS:
+        what = "voltammogram(s)" if not manifest.points else "voltammogram(s) and point(s)"
+        rest = " (or list only ligand-free files to characterise the couple without a titration)"
         raise InputError(
-            f"the manifest lists {len(titrating)} voltammogram(s) with ligand_M > 0; a "
-            f"titration fit needs at least {MIN_FIT_POINTS} — add more [[voltammogram]] tables "
-            "(or list only ligand-free files to characterise the couple without a titration)",
+            f"the manifest lists {len(titrating)} {what} with {model.point_rule}; a "
+            f"titration fit needs at least {MIN_FIT_POINTS} — add more [[voltammogram]] tables"
+            + (rest if model.needs_reference else ""),
             source=str(manifest.path),
             key="voltammogram",
         )
     files = analyse_files(manifest, records=dict(records or {}), jobs=jobs, progress=progress)
     files, studies, study_flags = _study(files, manifest, records)
-    reference = _reference(files, manifest)
+    files += table_points(manifest)  # [[point]] entries: E½ given, no file to study
+    reference = _reference(files, manifest) if model.needs_reference else _NO_REFERENCE
     exclude = manifest.fit.exclude_non_nernstian
     series_flags: list[Flag] = list(study_flags)
 
@@ -258,8 +277,9 @@ def analyse_series(
     n_points = 0
     excluded: list[str] = []
     for f in files:
-        usable = f.free_ligand_M > 0 and f.half_wave.accepted
-        if f.free_ligand_M > 0 and not f.half_wave.accepted and f.E_half_V is not None:
+        point = model.is_point(_titration_x(f, model))
+        usable = point and f.half_wave.accepted
+        if point and not f.half_wave.accepted and f.E_half_V is not None:
             excluded.append(f.file)
         if usable:
             n_points += 1

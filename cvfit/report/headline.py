@@ -155,7 +155,12 @@ def _no_constants(data: Mapping[str, Any]) -> str:
 
 def constant_lines(fit: Mapping[str, Any]) -> list[str]:
     """The headline constants of a fit mapping: log10(β_ox/β_red) and p − q (Lingane), or
-    every log10 β_j (stepwise); empty when the fit gave none."""
+    every log10 β_j (stepwise), or the model's own (``constant_lines`` of a model that has
+    them: every pKa, dE½/dT); empty when the fit gave none."""
+    model = fit.get("model")
+    own = getattr(model_named(model), "constant_lines", None) if model in MODEL_NAMES else None
+    if own is not None:
+        return list(own(fit))
     betas = [q for q in fit.get("log10_beta") or [] if isinstance(q, Mapping)]
     if betas:
         if all(q.get("value") is None for q in betas):

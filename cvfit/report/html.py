@@ -47,6 +47,17 @@ _Q_LABELS = {
     "log10_beta_ratio": ("log10(βox/βred)", 1.0, ""),
     "log10_beta_ratio_at_integer": ("log10(βox/βred), p − q fixed at {integer}", 1.0, ""),
     "E_half_free_V": ("E½(s) of the uncomplexed couple", 1e3, "mV"),
+    "E0_V": ("E° of the unprotonated couple", 1e3, "mV"),
+    "dE_half_dT_V_K": ("dE½/dT", 1e3, "mV/K"),
+    "E_half_at_mean_V": ("E½ at the mean temperature", 1e3, "mV"),
+    "reaction_entropy_J_mol_K": ("ΔS° (see entropy_of)", 1.0, "J mol⁻¹ K⁻¹"),
+    "reaction_enthalpy_J_mol": ("ΔH°", 1e-3, "kJ/mol"),
+}
+#: Lists of constants in a fit record, by key: the row label of item j.
+_LIST_LABELS = {
+    "log10_beta": "log10 β{j} (overall)",
+    "pKa_ox": "pKa{j}, oxidised form",
+    "pKa_red": "pKa{j}, reduced form",
 }
 
 _CSS = """
@@ -139,13 +150,13 @@ def _constants(fit: Mapping[str, Any]) -> str:
             label, scale, unit = _Q_LABELS.get(key, (key, 1.0, ""))
             label = label.format(integer=fit.get("delta_ligands_integer", "n/d"))
             rows.append(_quantity_row(key, label, q, scale, unit, methods.get(key)))
-    for k, q in enumerate(fit.get("log10_beta") or []):
-        if _is_quantity(q):
-            j = q.get("j", k + 1)
-            label = f"log10 β{j} (overall)"
-            if q.get("determined") is False:
-                label += " — not determined by these data"
-            rows.append(_quantity_row(f"log10_beta[{k}]", label, q, 1.0, "", q.get("method")))
+    for key, text in _LIST_LABELS.items():
+        for k, q in enumerate(fit.get(key) or []):
+            if _is_quantity(q):
+                label = text.format(j=q.get("j", k + 1))
+                if q.get("determined") is False:
+                    label += " — not determined by these data"
+                rows.append(_quantity_row(f"{key}[{k}]", label, q, 1.0, "", q.get("method")))
     if not rows:
         return "<p>No constants were fitted; the series flags below say why.</p>"
     n, dof = fit.get("n_points"), fit.get("dof")
@@ -153,11 +164,13 @@ def _constants(fit: Mapping[str, Any]) -> str:
     how = "weighted by the per-file E½ errors" if weighted else "unweighted"
     if weighted is None:
         how = ""
+    model = fit.get("model")
     units = (
         "βj in (mol/L)^−j, [L] in mol/L."
         if fit.get("log10_beta")
         else "βox/βred in (mol/L)^−(p−q), [L] in mol/L."
     )
+    units = getattr(model_named(model), "constants_note", units) if model in MODEL_NAMES else units
     head = (
         f"<p>Model <b>{_e(fit.get('model', ''))}</b>, fitted to {_e(n)} points "
         f"({_e(dof)} degrees of freedom{', ' + how if how else ''}). {units}</p>"
@@ -220,13 +233,14 @@ def _conditions(data: Mapping[str, Any]) -> str:
         rows.append(("total metal", _e(f"{s['metal_total_M']:.4g} mol/L")))
     src = ref.get("source")
     files = ", ".join(str(f) for f in ref.get("files") or [])
-    rows.append(
-        (
-            "E½(s), ligand-free",
-            _e(format_pm(ref.get("E_half_V"), ref.get("stderr_V"), scale=1e3, unit="mV"))
-            + _e(f" (from {src}{': ' + files if files else ''})"),
+    if src != "none":  # a pH or temperature series needs no E½(s)
+        rows.append(
+            (
+                "E½(s), ligand-free",
+                _e(format_pm(ref.get("E_half_V"), ref.get("stderr_V"), scale=1e3, unit="mV"))
+                + _e(f" (from {src}{': ' + files if files else ''})"),
+            )
         )
-    )
     rows.append(("model", _e(s.get("model", data.get("fit", {}).get("model")))))
     fate = "left out of the fit" if data.get("exclude_non_nernstian") else "kept in the fit"
     curve = [

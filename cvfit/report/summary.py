@@ -8,6 +8,8 @@ from cvfit.pipeline.results import SeriesResult
 from cvfit.report.headline import headline_lines
 from cvfit.report.imported_columns import columns_lines
 from cvfit.techniques import technique_of_name
+from cvfit.titration.registry import model_named
+from cvfit.units import ZERO_CELSIUS_K
 
 __all__ = ["format_summary"]
 
@@ -24,11 +26,12 @@ def format_summary(result: SeriesResult) -> str:
         cond += f", potentials vs {s.reference_electrode}"
     lines.append(cond)
     ref = result.reference
-    lines.append(
-        "E½(s), ligand-free: "
-        + format_pm(ref.E_half_V, ref.stderr_V, scale=1e3, unit="mV")
-        + f"  (from {ref.source}{': ' + ', '.join(ref.files) if ref.files else ''})"
-    )
+    if ref.source != "none":  # a pH or temperature series needs no E½(s)
+        lines.append(
+            "E½(s), ligand-free: "
+            + format_pm(ref.E_half_V, ref.stderr_V, scale=1e3, unit="mV")
+            + f"  (from {ref.source}{': ' + ', '.join(ref.files) if ref.files else ''})"
+        )
     lines.extend(_standard_lines(result))
     lines.append("")
     lines.extend(_file_table(result))
@@ -36,7 +39,8 @@ def format_summary(result: SeriesResult) -> str:
     read = columns_lines([(f.file, f.imported_columns) for f in result.files])
     lines.extend([*read, ""] if read else [])
     technique = technique_of_name(result.series.technique)
-    lines.extend(technique.summary_lines(result.files, result.scan_rate_studies))
+    own = [f for f in result.files if f.measurement.technique == technique.name]
+    lines.extend(technique.summary_lines(own, result.scan_rate_studies))
     fit = result.fit
     if fit is not None:
         lines.extend(fit.summary_lines())
@@ -68,21 +72,37 @@ def _file_table(result: SeriesResult) -> list[str]:
     e_halves = [format_pm(f.E_half_V, f.E_half_total_stderr_V, scale=1e3) for f in result.files]
     w = max([16, *map(len, e_halves)])  # "150.1 (uncertainty unknown)" is wider than 16
     cells = [f.measurement.summary_cells() for f in result.files]
-    heads = list(cells[0]) if cells else []
-    widths = {h: max([len(h), *(len(c[h]) for c in cells)]) for h in heads}
+    heads = list(dict.fromkeys(h for c in cells for h in c))  # a [[point]] has none
+    widths = {h: max([len(h), *(len(c.get(h, "")) for c in cells)]) for h in heads}
     own = " ".join(f"{h:>{widths[h]}}" for h in heads)
-    header = f"{'file':<22} {'[L]/M':>9} {'E½/mV':>{w}} {own} {'rev':>4} {'fit':>4}"
+    head, value = _solution_column(result)
+    header = f"{'file':<22} {head:>9} {'E½/mV':>{w}} {own} {'rev':>4} {'fit':>4}"
     lines = [header, "-" * len(header)]
     for f, e_half, c in zip(result.files, e_halves, cells, strict=True):
         rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
         name = printable(f.file)
         name = name if len(name) <= 22 else "…" + name[-21:]
-        row = " ".join(f"{c[h]:>{widths[h]}}" for h in heads)
+        row = " ".join(f"{c.get(h, ''):>{widths[h]}}" for h in heads)
         lines.append(
-            f"{name:<22} {f.ligand_M:>9.3g} {e_half:>{w}} {row} {rev:>4} "
+            f"{name:<22} {value(f):>9} {e_half:>{w}} {row} {rev:>4} "
             f"{'yes' if f.used_in_fit else '-':>4}"
         )
     return lines
+
+
+def _solution_column(result: SeriesResult):
+    """The per-file table's solution column: the model's titration variable (ligand, pH
+    or temperature), as header and a function of the file."""
+    variable = model_named(result.series.model).variable
+
+    def shown(x: float | None, fmt: str, offset: float = 0.0) -> str:
+        return "n/d" if x is None else f"{x - offset:{fmt}}"
+
+    if variable == "pH":
+        return "pH", lambda f: shown(f.pH, ".2f")
+    if variable == "temperature_K":
+        return "T/°C", lambda f: shown(f.temperature_K, ".1f", ZERO_CELSIUS_K)
+    return "[L]/M", lambda f: f"{f.ligand_M:.3g}"
 
 
 def _standard_lines(result: SeriesResult) -> list[str]:

@@ -7,7 +7,11 @@ kind of point) — and the reference E½(s) (:class:`ReferenceHalfWave`) into co
 A model is an object with
 
 * ``name`` — the value of ``[fit] model`` that selects it;
-* ``variable`` — what ``x`` is, with its unit in the name (``"ligand_M"``);
+* ``variable`` — what ``x`` is, with its unit in the name (``"ligand_M"``, ``"pH"``,
+  ``"temperature_K"``); ``is_point(x)`` — whether a file with that value is a titration
+  point (a ligand model: x > 0); ``needs_reference`` — whether it needs E½(s) of the
+  ligand-free couple; ``check_points(points)`` — the flags that stop or qualify a fit
+  before it is made;
 * ``fit(data, manifest) -> ModelOutcome`` — the fit, or why none can be made, with what it
   found about each point (:class:`PointNote`: the free ligand it used, flags).
 
@@ -70,7 +74,8 @@ class TitrationPoint:
         Where the point came from (file name), used in messages.
     x : float
         The titration variable in the model's unit (:attr:`TitrationModel.variable`): for a
-        ligand titration the free ligand concentration, mol/L (>= 0 here; > 0 to be fitted).
+        ligand titration the free ligand concentration, mol/L (>= 0 here; > 0 to be fitted);
+        for a pH series the pH; for a temperature series the temperature, K.
     E_half_V : float
         Half-wave potential, V.
     E_half_stderr_V : float or None
@@ -100,8 +105,8 @@ class TitrationPoint:
     def __post_init__(self) -> None:
         object.__setattr__(self, "label", str(self.label))
         c = finite_number(f"{self.label}: x", self.x)
-        if c < 0.0:
-            raise ValueError(f"{self.label}: ligand_M must be >= 0, got {c}")
+        if c < 0.0:  # a ligand concentration, a pH (0–14) or a temperature in K
+            raise ValueError(f"{self.label}: x must be >= 0, got {c}")
         object.__setattr__(self, "x", c)
         object.__setattr__(
             self, "E_half_V", finite_number(f"{self.label}: E_half_V", self.E_half_V)
@@ -126,7 +131,8 @@ class ReferenceHalfWave:
     stderr_V : float or None
         Its standard error, V (None when unknown).
     source : str
-        ``"file"`` (mean of the accepted ligand-free files) or ``"manifest"``.
+        ``"file"`` (mean of the accepted ligand-free files), ``"manifest"``, or ``"none"``
+        (a model that needs no E½(s): pH and temperature series).
     files : tuple of str
         The ligand-free files it was taken from.
     spread_V : float or None
@@ -217,10 +223,23 @@ class TitrationModel(Protocol):
     name: str
     #: How the reports name it ("Lingane", "stepwise").
     title: str
+    #: The titration variable x, with its unit in the name: "ligand_M", "pH", "temperature_K".
     variable: str
+    #: Whether the model needs E½(s) of the ligand-free couple (the ligand models).
+    needs_reference: bool
+    #: What makes a file a point of this model, in the manifest's words ("ligand_M > 0").
+    point_rule: str
     figures: tuple[str, ...]
     #: Its steps of the method as the report states them: (heading, text, sources).
     method_steps: tuple[tuple[str, str, tuple[str, ...]], ...]
+
+    def is_point(self, x: float | None) -> bool:
+        """Whether a file whose titration variable is *x* (None: not given) is a point."""
+        ...
+
+    def check_points(self, points: Sequence[TitrationPoint]) -> tuple[Flag, ...]:
+        """Flags that stop (severity error) or qualify a fit of *points*, before fitting."""
+        ...
 
     def fit(self, data: TitrationData, manifest: Manifest) -> ModelOutcome:
         """The fit of *data* under the manifest's settings."""

@@ -26,7 +26,7 @@ from typing import TYPE_CHECKING, Any
 from cvfit.chemistry.speciation import BOUND_LIGAND_SHARE_MAX
 from cvfit.flags import FitRefused, Flag
 from cvfit.titration.base import ModelOutcome, PointNote, TitrationData, TitrationPoint
-from cvfit.titration.lingane import LinganeFit, fit_lingane, null_fit_dict
+from cvfit.titration.lingane import LinganeFit, check_points, fit_lingane, null_fit_dict
 
 if TYPE_CHECKING:
     from cvfit.io.manifest import Manifest
@@ -110,11 +110,20 @@ class LinganeModel:
     name = "lingane"
     title = "Lingane"
     variable = "ligand_M"
+    needs_reference = True
+    point_rule = "ligand_M > 0"
+    #: Three points over more than one ligand concentration (:func:`check_points`).
+    check_points = staticmethod(check_points)
     #: Its step of the method beyond the common ones (the report's method section states
     #: the Lingane line itself).
     method_steps: tuple[tuple[str, str, tuple[str, ...]], ...] = ()
     #: Its figures (keys of :mod:`cvfit.report.figures.registry`), drawn also without a fit.
     figures: tuple[str, ...] = ("lingane",)
+
+    @staticmethod
+    def is_point(x: float | None) -> bool:
+        """A file with ligand is a titration point."""
+        return x is not None and x > 0
 
     def fit(self, data: TitrationData, manifest: Manifest) -> ModelOutcome:
         """The line; with ``metal_total_M``, on the free ligand (module docstring)."""

@@ -7,7 +7,7 @@ from cvfit.titration.base import TitrationModel
 __all__ = ["model_named", "MODEL_NAMES"]
 
 #: The models ``[fit] model`` may name.
-MODEL_NAMES = ("lingane", "stepwise")
+MODEL_NAMES = ("lingane", "stepwise", "proton", "temperature")
 
 
 def model_named(name: str) -> TitrationModel:
@@ -21,4 +21,12 @@ def model_named(name: str) -> TitrationModel:
         from cvfit.titration.stepwise_model import STEPWISE
 
         return STEPWISE
+    if name == "proton":
+        from cvfit.titration.proton_model import PROTON
+
+        return PROTON
+    if name == "temperature":
+        from cvfit.titration.temperature_model import TEMPERATURE
+
+        return TEMPERATURE
     raise ValueError(f"unknown titration model {name!r}; one of {', '.join(MODEL_NAMES)}")

@@ -15,6 +15,7 @@ from cvfit.chemistry.speciation import BOUND_LIGAND_SHARE_MAX
 from cvfit.errors import InputError
 from cvfit.flags import FitRefused, Flag
 from cvfit.titration.base import ModelOutcome, PointNote, TitrationData, TitrationPoint
+from cvfit.titration.lingane import check_points
 from cvfit.titration.stepwise import SolutionConditions, StepwisePoint, fit_stepwise
 from cvfit.titration.stepwise_result import null_stepwise_dict
 
@@ -157,9 +158,18 @@ class StepwiseModel:
     name = "stepwise"
     title = "stepwise"
     variable = "ligand_M"
+    needs_reference = True
+    point_rule = "ligand_M > 0"
+    #: Three points over more than one ligand concentration (:func:`check_points`).
+    check_points = staticmethod(check_points)
     method_steps: tuple[tuple[str, str, tuple[str, ...]], ...] = (METHOD_STEP,)
     #: Its figures (keys of :mod:`cvfit.report.figures.registry`), drawn also without a fit.
     figures: tuple[str, ...] = ("stepwise_shift", "stepwise_leden", "stepwise_species")
+
+    @staticmethod
+    def is_point(x: float | None) -> bool:
+        """A file with ligand is a titration point."""
+        return x is not None and x > 0
 
     def fit(self, data: TitrationData, manifest: Manifest) -> ModelOutcome:
         """The stepwise fit of *data*; the notes give each point's free ligand.

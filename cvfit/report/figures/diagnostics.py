@@ -91,7 +91,8 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
     crit = result.criteria
     margin_mV = 1e3 * crit.n_delta_Ep_margin_V * scale
     ratio_margin = crit.current_ratio_margin
-    files = list(result.files)
+    # the technique's own files ([[point]] entries of a table have no voltammogram)
+    files = [f for f in result.files if f.measurement.technique == result.series.technique]
     x = np.arange(len(files))
     with plt.rc_context(_STYLE):
         fig, (ax, axr) = plt.subplots(

@@ -7,7 +7,7 @@ folder may hold (:mod:`cvfit.report.output_names`) and the report's captions bot
 from here, so a new figure is one entry.
 
 Which figures a series gets: the voltammograms always; the technique's
-(:attr:`CyclicVoltammetry.figures <cvfit.techniques.cv.technique.CyclicVoltammetry>`); the
+(``figures`` of the technique object, :mod:`cvfit.techniques`); the
 titration model's (``figures`` of the model — drawn also when no fit could be made, then
 saying so); the internal standard's when the files hold one. A drawing function takes the
 :class:`~cvfit.pipeline.results.SeriesResult` and the path and returns the path, or None
@@ -112,6 +112,35 @@ FIGURES: dict[str, FigureEntry] = {
         "the free ligand, from the fitted constants.",
         f"{_F}.stepwise:plot_species",
     ),
+    "proton_half_wave": FigureEntry(
+        "proton_figure",
+        "half_wave_pH.png",
+        "E½ against pH with the fitted curve (pH model), each pKa marked (oxidised form "
+        "dashed, reduced form dotted), the slope of each region labelled, and the residuals.",
+        f"{_F}.proton:plot_proton_half_wave",
+    ),
+    "proton_fractions": FigureEntry(
+        "proton_fractions_figure",
+        "protonation_fractions.png",
+        "Fractions of each protonation state of the oxidised and the reduced form against "
+        "pH, from the fitted pKa values.",
+        f"{_F}.proton:plot_proton_fractions",
+    ),
+    "temperature_half_wave": FigureEntry(
+        "temperature_figure",
+        "half_wave_temperature.png",
+        "E½ against temperature with the fitted line, its 95 % band and the residuals; "
+        "dE½/dT and the reaction entropy stand under the title.",
+        f"{_F}.temperature:plot_temperature_half_wave",
+    ),
+    "wave_log_plot": FigureEntry(
+        "wave_log_figure",
+        "wave_log_plot.png",
+        "Log plot of every wave: E against log10((i_l − i)/i) with the baseline removed, "
+        "coloured by total ligand concentration (grey: failed the wave screen), and each "
+        "file's fitted line; a reversible wave gives a line of slope 2.303 RT/nF.",
+        f"{_F}.wave:plot_wave_log",
+    ),
     "internal_standard": FigureEntry(
         "internal_standard_figure",
         "internal_standard.png",
@@ -132,7 +161,10 @@ def figures_for(result: SeriesResult) -> list[FigureEntry]:
     from cvfit.techniques import technique_of_name
     from cvfit.titration.registry import model_named
 
-    keys = ["voltammograms", *technique_of_name(result.series.technique).figures]
+    technique = technique_of_name(result.series.technique)
+    keys = []
+    if any(f.measurement.technique == technique.name for f in result.files):
+        keys += ["voltammograms", *technique.figures]  # not for a series of [[point]] only
     keys += list(model_named(result.series.model).figures)
     if any(f.internal_standard is not None for f in result.files):
         keys.append("internal_standard")

@@ -118,6 +118,9 @@ def analyse(record: Voltammogram, settings: FileSettings) -> CVMeasurement:
         The file's manifest entry and the manifest.
     """
     entry, manifest = settings.entry, settings.manifest
+    if entry.temperature_C is not None:  # a temperature series: each file at its own T
+        series = replace(manifest.series, temperature_C=entry.temperature_C)
+        manifest = replace(manifest, series=series)
     series = manifest.series
     n, T = series.electrons, series.temperature_K
     resistance = resistance_for(entry, series)

@@ -1,0 +1,1 @@
+"""Differential-pulse voltammetry as a technique (:mod:`.technique`, :mod:`.measurement`)."""

@@ -1,0 +1,1 @@
+"""Square-wave voltammetry as a technique (:mod:`.technique`, :mod:`.measurement`)."""
