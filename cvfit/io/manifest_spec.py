@@ -6,9 +6,8 @@ Every key of the manifest is one :class:`Key` in a :class:`Table`
 * the loader's checks (:func:`clean_values`, :func:`clean_record`): type, range, allowed
   values, required keys and keys that need another; each failure a one-line
   :class:`~cvfit.errors.InputError` naming the key and saying what to write;
-* the JSON Schema of the manifest (:func:`json_schema`, written to
-  ``cvfit/schemas/series.schema.json``);
-* the key tables of docs/manifest.md (:func:`markdown_rows`).
+* the JSON Schema of the manifest and the key tables of docs/manifest.md
+  (:mod:`cvfit.io.manifest_reference` writes them from the same keys).
 
 The records the manifest travels in stay typed frozen dataclasses; :func:`bind` ties a
 record to its table once, at import, and fails at once when a field has no key, a key no
@@ -34,9 +33,9 @@ __all__ = [
     "clean_value",
     "clean_values",
     "clean_record",
-    "json_schema",
-    "markdown_rows",
     "toml_text",
+    "phrase",
+    "NO_DEFAULT",
 ]
 
 #: What a key holds. ``number``: a finite number (float); ``integer``: a whole number (an
@@ -371,156 +370,3 @@ def bind(record: type, table: Table, *, extra: tuple[str, ...] = ()) -> Table:
             raise TypeError(f"{record.__name__}.{f.name}: required only in one of the two")
         keys.append(replace(key, default=default))
     return replace(table, keys=tuple(keys))
-
-
-# --- JSON Schema --------------------------------------------------------------------------
-
-
-def _range_schema(key: Key) -> dict[str, Any]:
-    out: dict[str, Any] = {}
-    if key.low is not None:
-        out["exclusiveMinimum" if key.open_low else "minimum"] = _json_number(key.low)
-    if key.high is not None:
-        out["exclusiveMaximum" if key.open_high else "maximum"] = _json_number(key.high)
-    return out
-
-
-def _json_number(x: float) -> int | float:
-    return int(x) if float(x).is_integer() else x
-
-
-def _key_schema(key: Key) -> dict[str, Any]:
-    kind = key.kind
-    unit = f" [{key.unit}]" if key.unit else ""
-    out: dict[str, Any] = {"description": key.meaning + unit}
-    if kind in ("number", "integer"):
-        out |= {"type": kind} | _range_schema(key)
-        if key.nonzero:
-            out["not"] = {"const": 0}
-    elif kind == "text":
-        out["type"] = "string"
-        if key.required:
-            out["minLength"] = 1
-    elif kind == "flag":
-        out["type"] = "boolean"
-    elif kind == "choice":
-        out |= {"type": "string", "enum": [*key.choices, *key.aliases]}
-    elif kind == "choices":
-        out |= {"type": "array", "items": {"type": "string", "enum": list(key.choices)}}
-    elif kind == "numbers":
-        out |= {"type": "array", "minItems": 1, "items": {"type": "number"}}
-    elif kind == "window":
-        out |= {"type": "array", "minItems": 2, "maxItems": 2, "items": {"type": "number"}}
-    elif kind == "column":
-        out["oneOf"] = [{"type": "string", "minLength": 1}, {"type": "integer", "minimum": 0}]
-    else:  # cycle
-        out["oneOf"] = [{"type": "integer", "minimum": 1}, {"const": "last"}]
-    if key.default is not NO_DEFAULT and key.default is not None and not key.default_text:
-        default = key.default
-        out["default"] = list(default) if isinstance(default, tuple) else default
-    return out
-
-
-def _object_schema(table: Table, shared: set[str]) -> dict[str, Any]:
-    props: dict[str, Any] = {}
-    for key in table.all_keys:
-        props[key.name] = {"$ref": f"#/$defs/{key.name}"} if key.name in shared else (
-            _key_schema(key))  # fmt: skip
-    out: dict[str, Any] = {
-        "description": table.meaning,
-        "type": "object",
-        "additionalProperties": False,
-    }
-    required = [k.name for k in table.all_keys if k.required]
-    if required:
-        out["required"] = required
-    out["properties"] = props
-    needs = {k.name: [k.needs] for k in table.all_keys if k.needs}
-    if needs:
-        out["dependentRequired"] = needs
-    return out
-
-
-def json_schema(
-    tables: tuple[Table, ...],
-    *,
-    title: str,
-    description: str,
-    across: Mapping[str, Any] | None = None,
-) -> dict[str, Any]:
-    """The JSON Schema (draft 2020-12) of a manifest made of *tables*, as the document
-    :mod:`tomllib` reads. Keys of a table included by others are ``$defs`` (one
-    description each); unknown keys are refused everywhere. *across*: top-level schema
-    words (``anyOf``, ``allOf``) for conditions that tie tables together."""
-    shared_tables = {id(t): t for table in tables for t in table.includes}
-    shared = {k.name for t in shared_tables.values() for k in t.keys}
-    properties: dict[str, Any] = {}
-    for table in tables:
-        obj = _object_schema(table, shared)
-        if table.array:
-            properties[table.name] = {
-                "description": f"One table per entry ([[{table.name}]]), any order.",
-                "type": "array",
-                "minItems": 1,
-                "items": obj,
-            }
-        else:
-            properties[table.name] = obj
-    return {
-        "$schema": "https://json-schema.org/draft/2020-12/schema",
-        "$id": "https://cvfit.invalid/schemas/series.schema.json",
-        "title": title,
-        "description": description,
-        "type": "object",
-        "additionalProperties": False,
-        "required": [t.name for t in tables if t.required],
-        "$defs": {k.name: _key_schema(k) for t in shared_tables.values() for k in t.keys},
-        "properties": properties,
-        **(across or {}),
-    }
-
-
-# --- docs/manifest.md ---------------------------------------------------------------------
-
-
-def _doc_default(key: Key) -> str:
-    if key.default_text:
-        return key.default_text
-    if key.default is NO_DEFAULT or key.default is None:
-        return "—"
-    return f"`{toml_text(key.default)}`"
-
-
-def _doc_value(key: Key) -> str:
-    kind = key.kind
-    if kind in ("number", "integer", "numbers", "window", "cycle"):
-        words = phrase(key).replace("a finite ", "").replace("a ", "", 1)
-        words = words.replace('"last"', '`"last"`').replace("e.g. [4.2]", "e.g. `[4.2]`")
-    elif kind in ("choice", "choices"):
-        names = [*key.choices, *key.aliases]
-        words = ("list of " if kind == "choices" else "") + ", ".join(
-            f"`{toml_text(c)}`" for c in names
-        )
-    else:
-        words = phrase(key).replace("a ", "", 1)
-    return words.replace("|", "\\|")
-
-
-def markdown_rows(table: Table) -> list[str]:
-    """The rows of the docs' key table for *table*: table, key, value, meaning, default."""
-    label = f"`[[{table.name}]]`" if table.array else f"`[{table.name}]`"
-    rows = []
-    for k, key in enumerate(table.keys):
-        required = " (required)" if key.required else ""
-        needs = f" (needs `{key.needs}`)" if key.needs else ""
-        meaning = (key.meaning + required + needs).replace("|", "\\|")
-        rows.append(
-            f"| {label if k == 0 else ''} | `{key.name}` | {_doc_value(key)} | {meaning} "
-            f"| {_doc_default(key)} |"
-        )
-    for included in table.includes:
-        rows.append(
-            f"| | any `[{included.name}]` key | as there | overrides the series-wide "
-            f"`[{included.name}]` setting for this entry | the `[{included.name}]` value |"
-        )
-    return rows
