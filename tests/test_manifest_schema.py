@@ -12,10 +12,17 @@ import pytest
 
 from cvfit.errors import InputError
 from cvfit.io import load_manifest
-from cvfit.io.manifest import ENTRY_KEYS, FIT_KEYS, REVERSIBILITY_KEYS, SERIES_KEYS, TABLES
+from cvfit.io.manifest import (
+    DEFINITION,
+    ENTRY_KEYS,
+    FIT_KEYS,
+    REVERSIBILITY_KEYS,
+    SERIES_KEYS,
+    TABLES,
+)
 from cvfit.io.manifest_reference import DOC_BEGIN, DOC_END, docs_table, schema_text
 from cvfit.io.manifest_standard import INTERNAL_STANDARD_KEYS
-from cvfit.io.manifest_technique import TECHNIQUE_KEYS
+from cvfit.io.manifest_technique import TECHNIQUE_KEYS, TECHNIQUE_SETTINGS
 from cvfit.io.manifest_variables import MODELS, POINT_KEYS
 from cvfit.io.options import IMPORT_KEYS
 
@@ -270,3 +277,41 @@ def test_every_loader_default_is_in_the_schema():
     assert fit["max_complexes"]["default"] == FitSettings().max_complexes
     assert fit["global"]["default"] is FitSettings().global_fit
     assert SCHEMA["$defs"]["cycle"]["default"] == "last"
+
+
+def _manifest_with(table: str, key: str) -> tuple[str, int]:
+    """A valid manifest but for ``key = { x = 1 }`` (no key takes an inline table) in
+    *table*, and the line it stands on."""
+    technique = next((t for t, own in TECHNIQUE_SETTINGS.items() if key in own), "cv")
+    text = {"dpv": DPV, "swv": SWV}.get(technique, BASE) if table == "technique" else BASE
+    if table == "internal_standard":
+        text = text.replace("electrons = 1\n", "electrons = 1\nanalyte_window_V = [0.0, 0.5]\n")
+        text += "[internal_standard]\nwindow_V = [0.6, 0.9]\n"
+    if table == "point":
+        text += "[[point]]\nE_half_V = 0.1\nligand_M = 0.0\n"
+    header = f"[[{table}]]\n" if table in ("voltammogram", "point") else f"[{table}]\n"
+    if header not in text:
+        text += header
+    before, after = text.split(header, 1)
+    # the key replaces the table's own line for it, if any, at the top of the table
+    after = "".join(line for line in after.splitlines(True) if not line.startswith(f"{key} ="))
+    if table == "series" and key == "title":
+        after = after.replace('title = "t"\n', "")
+    text = f"{before}{header}{key} = {{ x = 1 }}\n{after}"
+    return text, before.count("\n") + 2
+
+
+@pytest.mark.parametrize(
+    ("table", "key"),
+    [(t.name, k.name) for t in DEFINITION for k in t.keys],
+    ids=lambda v: v,
+)
+def test_every_key_refuses_a_wrong_type_on_its_line(tmp_path, table, key):
+    # every declared key reaches its check: the loader names the key and its line, the
+    # schema refuses the same manifest
+    text, line = _manifest_with(table, key)
+    assert not _schema_ok(text)
+    with pytest.raises(InputError) as err:
+        load_manifest(_write(tmp_path, text))
+    assert err.value.line == line, err.value.message
+    assert key in err.value.message and "\n" not in err.value.message
