@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import cast
 
 from cvfit.flags import Flag
 from cvfit.reversibility_criteria import ReversibilityCriteria
@@ -158,7 +159,7 @@ def classify_voltammogram(
     if E_fwd is None:
         return done("not determinable", "no forward peak was found")
     if peaks.delta_Ep_V is None:
-        if wide:
+        if wide and width is not None:  # (a wide peak has a width)
             alpha_n = IRREVERSIBLE_WIDTH_THERMAL * rt_nf * n / width
             return done(
                 "irreversible",
@@ -180,13 +181,13 @@ def classify_voltammogram(
         if peaks.current_ratio is None
         else f"current ratio {peaks.current_ratio:.3f}"
     )
-    numbers = f"n·ΔEp = {_mV(nd)}" + (
+    numbers = f"n·ΔEp = {_mV(n * peaks.delta_Ep_V)}" + (
         "" if exp_nd is None else f" against the Nernstian {_mV(exp_nd)} for this switch"
     )
     if screen.reversible is True:
         return done("reversible", f"{numbers}; {width_txt}; {ratio_txt}")
     if codes & set(_KINETIC_CODES) or (wide and "DELTA_EP_TOO_SMALL" not in codes):
-        E_half = peaks.E_half_V
+        E_half = cast(float, peaks.E_half_V)  # both peaks were found (ΔEp measured)
         dEp = switch_corrected_delta_Ep_V(
             peaks.delta_Ep_V,
             switching_offset_V=peaks.switching_potential_V - E_half,
