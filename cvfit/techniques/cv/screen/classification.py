@@ -18,6 +18,7 @@ import math
 from dataclasses import dataclass
 from typing import cast
 
+from cvfit.flag_codes import Severity
 from cvfit.flags import Flag
 from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
@@ -150,8 +151,8 @@ def classify_voltammogram(
 
     def done(kind: str, reason: str) -> Classification:
         code = "CLASS_" + kind.upper().replace("-", "_").replace(" ", "_")
-        severity = "info" if kind == "reversible" else "warning"
-        flag = Flag(code, f"{kind}: {reason}", severity)  # type: ignore[arg-type]
+        severity: Severity = "info" if kind == "reversible" else "warning"
+        flag = Flag(code, f"{kind}: {reason}", severity)
         return Classification(
             kind, reason, nd, exp_nd, width, w_rev, w_irr, peaks.current_ratio, flag
         )
