@@ -20,6 +20,7 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
+from numpy.typing import ArrayLike
 from scipy import optimize
 
 from cvfit.chemistry.complexation import log_leden_F0
@@ -43,7 +44,7 @@ __all__ = [
 
 
 def leden_F_functions(
-    ligand_M: object, F0: object, log10_beta: Sequence[float], *, order: int
+    ligand_M: ArrayLike, F0: ArrayLike, log10_beta: Sequence[float], *, order: int
 ) -> list[np.ndarray]:
     """Leden's functions F_0 … F_order from F0 and the lower constants.
 
@@ -81,7 +82,7 @@ def leden_F_functions(
     return out
 
 
-def species_fractions(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarray:
+def species_fractions(ligand_M: ArrayLike, log10_beta: Sequence[float]) -> np.ndarray:
     """Fraction α_j = β_j [L]^j / F0 of each species M, ML, …, ML_N.
 
     Returns
@@ -104,7 +105,7 @@ def species_fractions(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarr
     return np.array(rows)
 
 
-def mean_ligand_number(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarray:
+def mean_ligand_number(ligand_M: ArrayLike, log10_beta: Sequence[float]) -> np.ndarray:
     """Bjerrum's mean ligand number n̄ = Σ j α_j = d ln F0 / d ln[L].
 
     References
@@ -117,7 +118,7 @@ def mean_ligand_number(ligand_M: object, log10_beta: Sequence[float]) -> np.ndar
     return np.sum(j * a, axis=0)
 
 
-def ligand_fraction_unprotonated(pH: object, pKa: Sequence[float]) -> np.ndarray:
+def ligand_fraction_unprotonated(pH: ArrayLike, pKa: Sequence[float]) -> np.ndarray:
     """α_L = [L]/[L'] : fraction of the unbound ligand that is not protonated.
 
     With acid dissociation constants pKa (any order; the highest belongs to HL), the

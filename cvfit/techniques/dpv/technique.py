@@ -13,7 +13,7 @@ Parry, E. P.; Osteryoung, R. A. Anal. Chem. 1965, 37, 1634.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 
@@ -52,7 +52,11 @@ def analyse(record: Voltammogram, settings: FileSettings) -> DPVMeasurement:
     )
     flags += read_flags
     timing = PulseTiming(
-        "dpv", t.pulse_amplitude_V, t.pulse_width_s, t.period_s, series.quiet_time_s or 0.0
+        "dpv",
+        cast(float, t.pulse_amplitude_V),  # required of a differential-pulse series
+        cast(float, t.pulse_width_s),  # (the manifest refuses a series without them)
+        t.period_s,
+        series.quiet_time_s or 0.0,
     )
     bulk = bulk_form_for(manifest, E)
     nf = 1.0 / thermal_voltage(series.temperature_K, series.electrons)
