@@ -57,7 +57,7 @@ def _ligand(ligand_M: ArrayLike) -> np.ndarray:
     return L
 
 
-def _log_betas(log10_beta: Sequence[float], key: str) -> np.ndarray:
+def _log_betas(log10_beta: Sequence[float] | np.ndarray, key: str) -> np.ndarray:
     b = np.array(list(log10_beta), dtype=float)
     if b.ndim != 1 or not np.all(np.isfinite(b)):
         raise InputError(
@@ -68,7 +68,7 @@ def _log_betas(log10_beta: Sequence[float], key: str) -> np.ndarray:
     return b
 
 
-def leden_F0(ligand_M: ArrayLike, log10_beta: Sequence[float]) -> np.ndarray:
+def leden_F0(ligand_M: ArrayLike, log10_beta: Sequence[float] | np.ndarray) -> np.ndarray:
     """Leden function F0 = 1 + Σ_{j=1..N} β_j [L]^j.
 
     Parameters
@@ -96,7 +96,7 @@ def leden_F0(ligand_M: ArrayLike, log10_beta: Sequence[float]) -> np.ndarray:
     return F0
 
 
-def log_leden_F0(ligand_M: ArrayLike, log10_beta: Sequence[float]) -> np.ndarray:
+def log_leden_F0(ligand_M: ArrayLike, log10_beta: Sequence[float] | np.ndarray) -> np.ndarray:
     """Natural logarithm of :func:`leden_F0`, safe for very large β_j[L]^j."""
     L = _ligand(ligand_M)
     b = _log_betas(log10_beta, "log10_beta")
@@ -111,7 +111,7 @@ def log_leden_F0(ligand_M: ArrayLike, log10_beta: Sequence[float]) -> np.ndarray
 
 def effective_diffusion_cm2_s(
     ligand_M: ArrayLike,
-    log10_beta: Sequence[float],
+    log10_beta: Sequence[float] | np.ndarray,
     *,
     D_free_cm2_s: float,
     D_complexed_cm2_s: float,

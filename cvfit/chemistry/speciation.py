@@ -44,7 +44,7 @@ __all__ = [
 
 
 def leden_F_functions(
-    ligand_M: ArrayLike, F0: ArrayLike, log10_beta: Sequence[float], *, order: int
+    ligand_M: ArrayLike, F0: ArrayLike, log10_beta: Sequence[float] | np.ndarray, *, order: int
 ) -> list[np.ndarray]:
     """Leden's functions F_0 … F_order from F0 and the lower constants.
 
@@ -82,7 +82,7 @@ def leden_F_functions(
     return out
 
 
-def species_fractions(ligand_M: ArrayLike, log10_beta: Sequence[float]) -> np.ndarray:
+def species_fractions(ligand_M: ArrayLike, log10_beta: Sequence[float] | np.ndarray) -> np.ndarray:
     """Fraction α_j = β_j [L]^j / F0 of each species M, ML, …, ML_N.
 
     Returns
@@ -105,7 +105,9 @@ def species_fractions(ligand_M: ArrayLike, log10_beta: Sequence[float]) -> np.nd
     return np.array(rows)
 
 
-def mean_ligand_number(ligand_M: ArrayLike, log10_beta: Sequence[float]) -> np.ndarray:
+def mean_ligand_number(
+    ligand_M: ArrayLike, log10_beta: Sequence[float] | np.ndarray
+) -> np.ndarray:
     """Bjerrum's mean ligand number n̄ = Σ j α_j = d ln F0 / d ln[L].
 
     References
@@ -141,7 +143,9 @@ def ligand_fraction_unprotonated(pH: ArrayLike, pKa: Sequence[float]) -> np.ndar
     return np.exp(-total)
 
 
-def conditional_log10_beta(log10_beta: Sequence[float], log10_alpha_L: float) -> list[float]:
+def conditional_log10_beta(
+    log10_beta: Sequence[float] | np.ndarray, log10_alpha_L: float
+) -> list[float]:
     """log10 β'_j = log10 β_j + j log10 α_L (constants on unbound-ligand concentration).
 
     References
@@ -159,7 +163,7 @@ def absolute_log10_beta(conditional: Sequence[float], log10_alpha_L: float) -> l
 def free_ligand_M(
     ligand_total_M: float,
     metal_total_M: float,
-    log10_beta: Sequence[float],
+    log10_beta: Sequence[float] | np.ndarray,
     *,
     alpha_L: float = 1.0,
 ) -> float:
@@ -206,7 +210,7 @@ def free_ligand_M(
     return math.exp(optimize.brentq(balance, lo, hi, xtol=1e-13, rtol=1e-12))
 
 
-def fraction_peak_ligand_M(log10_beta: Sequence[float], j: int) -> float:
+def fraction_peak_ligand_M(log10_beta: Sequence[float] | np.ndarray, j: int) -> float:
     """Free ligand concentration where the fraction of ML_j is largest (n̄ = j).
 
     For the highest complex (j = N) the fraction only grows; the concentration returned
@@ -231,7 +235,7 @@ def fraction_peak_ligand_M(log10_beta: Sequence[float], j: int) -> float:
 
 
 def ligand_for_fraction_M(
-    log10_beta: Sequence[float], j: int, fraction: float = 0.2
+    log10_beta: Sequence[float] | np.ndarray, j: int, fraction: float = 0.2
 ) -> float | None:
     """Lowest free ligand concentration at which ML_j makes up ``fraction`` of the metal.
 

@@ -133,7 +133,7 @@ def load_technique(ld: Any, data: dict, technique: str, fit_global: bool) -> Tec
                 f"technique.{key}",
                 ld.where.line("technique", key),
             )
-    return ld.build(TechniqueSettings, {"name": technique, **table}, "technique")  # type: ignore[no-any-return]
+    return ld.build(TechniqueSettings, {"name": technique, **table}, "technique")
 
 
 def schema_conditions() -> list[dict[str, Any]]:
