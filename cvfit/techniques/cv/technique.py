@@ -15,7 +15,7 @@ from dataclasses import replace
 
 from cvfit.flags import Flag
 from cvfit.io import SeriesSettings, VoltammogramEntry, resistance_for
-from cvfit.techniques.base import FileSettings
+from cvfit.techniques.base import FileSettings, no_report_sections
 from cvfit.techniques.curves import CycleCurve, cycle_curve
 from cvfit.techniques.cv.curve.stage import curve_fit_for
 from cvfit.techniques.cv.internal_standard import measure_standard
@@ -169,6 +169,7 @@ class CyclicVoltammetry:
     study_series = staticmethod(study_series)
     drawn_curve = staticmethod(drawn_curve)
     summary_lines = staticmethod(summary_lines)
+    report_sections = staticmethod(no_report_sections)
 
 
 #: The technique object the pipeline uses for ``[series] technique = "cv"``.
