@@ -12,6 +12,7 @@ from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
+from cvfit.formatting import format_pm
 from cvfit.report.html_view import figure_view
 from cvfit.report.templating import render_template
 
@@ -153,12 +154,11 @@ def standard_view(
             {
                 "name": str(f.get("label") or f.get("file") or ""),
                 "ligand": _mv(f.get("ligand_M"), 3),
-                "E_half": _mv(e),
+                "E_half": format_pm(e, std.get("E_half_stderr_V"), scale=1e3),
                 "value": repr(e),
-                "stderr": _mv(std.get("E_half_stderr_V"), 3),
                 "delta_Ep": _mv(std.get("delta_Ep_V"), 1),
                 "reversible": _verdict(std.get("reversible")),
-                "analyte": _mv(f.get("E_half_V")),
+                "analyte": format_pm(f.get("E_half_V"), f.get("E_half_stderr_V"), scale=1e3),
             }
         )
     drift = (
