@@ -18,7 +18,7 @@ from typing import Any, cast
 import numpy as np
 
 from cvfit.flags import Flag
-from cvfit.techniques.base import FileSettings, FileView
+from cvfit.techniques.base import FileSettings, FileView, no_report_sections
 from cvfit.techniques.dpv.measurement import DPVMeasurement
 from cvfit.techniques.pulse_analysis import analyse_pulse
 from cvfit.techniques.pulse_measurement import PULSE_HIDDEN_KEYS, PULSE_REPORT_COLUMNS
@@ -101,6 +101,7 @@ class DifferentialPulse:
     study_series = staticmethod(unchanged_study)
     drawn_curve = staticmethod(drawn_sweep)
     summary_lines = staticmethod(summary_lines)
+    report_sections = staticmethod(no_report_sections)
 
 
 #: The technique object for ``[series] technique = "dpv"``.

@@ -16,7 +16,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import Any, cast
 
-from cvfit.techniques.base import FileSettings, FileView
+from cvfit.techniques.base import FileSettings, FileView, no_report_sections
 from cvfit.techniques.pulse_analysis import analyse_pulse
 from cvfit.techniques.pulse_measurement import PULSE_HIDDEN_KEYS, PULSE_REPORT_COLUMNS
 from cvfit.techniques.pulse_technique import (
@@ -74,6 +74,7 @@ class SquareWave:
     study_series = staticmethod(unchanged_study)
     drawn_curve = staticmethod(drawn_sweep)
     summary_lines = staticmethod(summary_lines)
+    report_sections = staticmethod(no_report_sections)
 
 
 #: The technique object for ``[series] technique = "swv"``.
