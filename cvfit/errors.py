@@ -202,7 +202,7 @@ class OutputError(CvfitError):
 def _hint(errno_: int | None) -> str:
     import errno
 
-    return {
+    hints: dict[int | None, str] = {
         errno.ENOSPC: "free some disk space or choose another --out folder",
         errno.EDQUOT: "free some space within your quota or choose another --out folder",
         errno.EFBIG: "raise the file-size limit (ulimit -f) or choose another --out folder",
@@ -210,7 +210,8 @@ def _hint(errno_: int | None) -> str:
         errno.EACCES: "check the folder's permissions or choose another --out folder",
         errno.EPERM: "check the folder's permissions or choose another --out folder",
         errno.ENOTDIR: "a part of the path is a file, not a folder: choose another --out folder",
-    }.get(errno_, "check the --out folder or choose another one")
+    }
+    return hints.get(errno_, "check the --out folder or choose another one")
 
 
 def _rebuild_output_error(path: str, reason: str, errno: int | None) -> OutputError:

@@ -56,7 +56,9 @@ class FlagCode:
         return (self.severity, *self.also)
 
 
-_I, _W, _E = "info", "warning", "error"
+_I: Severity = "info"
+_W: Severity = "warning"
+_E: Severity = "error"
 
 _CATALOGUE = (
     # --- import --------------------------------------------------------------------------

@@ -25,6 +25,7 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from cvfit.errors import InputError
 from cvfit.units import FARADAY, GAS_CONSTANT, thermal_voltage
@@ -47,7 +48,7 @@ MIN_TEMPERATURE_K = 200.0
 _SOURCE = "<complexation>"
 
 
-def _ligand(ligand_M: object) -> np.ndarray:
+def _ligand(ligand_M: ArrayLike) -> np.ndarray:
     L = np.array(ligand_M, dtype=float, copy=True)
     if not np.all(np.isfinite(L)) or np.any(L < 0):
         raise InputError(
@@ -56,7 +57,7 @@ def _ligand(ligand_M: object) -> np.ndarray:
     return L
 
 
-def _log_betas(log10_beta: Sequence[float], key: str) -> np.ndarray:
+def _log_betas(log10_beta: Sequence[float] | np.ndarray, key: str) -> np.ndarray:
     b = np.array(list(log10_beta), dtype=float)
     if b.ndim != 1 or not np.all(np.isfinite(b)):
         raise InputError(
@@ -67,7 +68,7 @@ def _log_betas(log10_beta: Sequence[float], key: str) -> np.ndarray:
     return b
 
 
-def leden_F0(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarray:
+def leden_F0(ligand_M: ArrayLike, log10_beta: Sequence[float] | np.ndarray) -> np.ndarray:
     """Leden function F0 = 1 + Σ_{j=1..N} β_j [L]^j.
 
     Parameters
@@ -95,7 +96,7 @@ def leden_F0(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarray:
     return F0
 
 
-def log_leden_F0(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarray:
+def log_leden_F0(ligand_M: ArrayLike, log10_beta: Sequence[float] | np.ndarray) -> np.ndarray:
     """Natural logarithm of :func:`leden_F0`, safe for very large β_j[L]^j."""
     L = _ligand(ligand_M)
     b = _log_betas(log10_beta, "log10_beta")
@@ -109,8 +110,8 @@ def log_leden_F0(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarray:
 
 
 def effective_diffusion_cm2_s(
-    ligand_M: object,
-    log10_beta: Sequence[float],
+    ligand_M: ArrayLike,
+    log10_beta: Sequence[float] | np.ndarray,
     *,
     D_free_cm2_s: float,
     D_complexed_cm2_s: float,
@@ -138,7 +139,7 @@ def effective_diffusion_cm2_s(
 def complexed_half_wave_V(
     E_half_free_V: float,
     *,
-    ligand_M: object,
+    ligand_M: ArrayLike,
     log10_beta_ox: Sequence[float] = (),
     log10_beta_red: Sequence[float] = (),
     electrons: int = 1,

@@ -31,6 +31,7 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from cvfit.units import thermal_voltage
 
@@ -47,7 +48,7 @@ LN10 = math.log(10.0)
 PKa = Sequence[float] | np.ndarray
 
 
-def _exponents(pH: object, pKa: PKa) -> np.ndarray:
+def _exponents(pH: ArrayLike, pKa: PKa) -> np.ndarray:
     """log10(β_j h^j) for j = 0 … m, shape (m + 1, *pH.shape)."""
     x = np.asarray(pH, dtype=float)
     cum = np.concatenate([[0.0], np.cumsum(np.asarray(list(pKa), dtype=float))])
@@ -55,21 +56,21 @@ def _exponents(pH: object, pKa: PKa) -> np.ndarray:
     return cum.reshape((-1,) + (1,) * x.ndim) - np.multiply.outer(j, x)
 
 
-def log10_protonation_polynomial(pH: object, pKa: PKa) -> np.ndarray:
+def log10_protonation_polynomial(pH: ArrayLike, pKa: PKa) -> np.ndarray:
     """log10 P(h) = log10 Σ_j β_j h^j, computed without overflow (module docstring)."""
     e = _exponents(pH, pKa)
     top = e.max(axis=0)
     return top + np.log10(np.sum(10.0 ** (e - top), axis=0))
 
 
-def protonation_fractions(pH: object, pKa: PKa) -> np.ndarray:
+def protonation_fractions(pH: ArrayLike, pKa: PKa) -> np.ndarray:
     """Fractions of H_jX, j = 0 … m, against pH: shape (m + 1, *pH.shape), columns sum to 1."""
     e = _exponents(pH, pKa)
     w = 10.0 ** (e - e.max(axis=0))
     return w / w.sum(axis=0)
 
 
-def mean_protons(pH: object, pKa: PKa) -> np.ndarray:
+def mean_protons(pH: ArrayLike, pKa: PKa) -> np.ndarray:
     """Mean number of protons bound, Σ j·α_j (= −d log10 P / d pH)."""
     a = protonation_fractions(pH, pKa)
     j = np.arange(a.shape[0], dtype=float)
@@ -78,7 +79,7 @@ def mean_protons(pH: object, pKa: PKa) -> np.ndarray:
 
 def proton_half_wave_V(
     E0_V: float,
-    pH: object,
+    pH: ArrayLike,
     *,
     pKa_ox: PKa = (),
     pKa_red: PKa = (),

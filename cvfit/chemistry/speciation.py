@@ -20,6 +20,7 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
+from numpy.typing import ArrayLike
 from scipy import optimize
 
 from cvfit.chemistry.complexation import log_leden_F0
@@ -43,7 +44,7 @@ __all__ = [
 
 
 def leden_F_functions(
-    ligand_M: object, F0: object, log10_beta: Sequence[float], *, order: int
+    ligand_M: ArrayLike, F0: ArrayLike, log10_beta: Sequence[float] | np.ndarray, *, order: int
 ) -> list[np.ndarray]:
     """Leden's functions F_0 … F_order from F0 and the lower constants.
 
@@ -81,7 +82,7 @@ def leden_F_functions(
     return out
 
 
-def species_fractions(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarray:
+def species_fractions(ligand_M: ArrayLike, log10_beta: Sequence[float] | np.ndarray) -> np.ndarray:
     """Fraction α_j = β_j [L]^j / F0 of each species M, ML, …, ML_N.
 
     Returns
@@ -104,7 +105,9 @@ def species_fractions(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarr
     return np.array(rows)
 
 
-def mean_ligand_number(ligand_M: object, log10_beta: Sequence[float]) -> np.ndarray:
+def mean_ligand_number(
+    ligand_M: ArrayLike, log10_beta: Sequence[float] | np.ndarray
+) -> np.ndarray:
     """Bjerrum's mean ligand number n̄ = Σ j α_j = d ln F0 / d ln[L].
 
     References
@@ -117,7 +120,7 @@ def mean_ligand_number(ligand_M: object, log10_beta: Sequence[float]) -> np.ndar
     return np.sum(j * a, axis=0)
 
 
-def ligand_fraction_unprotonated(pH: object, pKa: Sequence[float]) -> np.ndarray:
+def ligand_fraction_unprotonated(pH: ArrayLike, pKa: Sequence[float]) -> np.ndarray:
     """α_L = [L]/[L'] : fraction of the unbound ligand that is not protonated.
 
     With acid dissociation constants pKa (any order; the highest belongs to HL), the
@@ -140,7 +143,9 @@ def ligand_fraction_unprotonated(pH: object, pKa: Sequence[float]) -> np.ndarray
     return np.exp(-total)
 
 
-def conditional_log10_beta(log10_beta: Sequence[float], log10_alpha_L: float) -> list[float]:
+def conditional_log10_beta(
+    log10_beta: Sequence[float] | np.ndarray, log10_alpha_L: float
+) -> list[float]:
     """log10 β'_j = log10 β_j + j log10 α_L (constants on unbound-ligand concentration).
 
     References
@@ -158,7 +163,7 @@ def absolute_log10_beta(conditional: Sequence[float], log10_alpha_L: float) -> l
 def free_ligand_M(
     ligand_total_M: float,
     metal_total_M: float,
-    log10_beta: Sequence[float],
+    log10_beta: Sequence[float] | np.ndarray,
     *,
     alpha_L: float = 1.0,
 ) -> float:
@@ -205,7 +210,7 @@ def free_ligand_M(
     return math.exp(optimize.brentq(balance, lo, hi, xtol=1e-13, rtol=1e-12))
 
 
-def fraction_peak_ligand_M(log10_beta: Sequence[float], j: int) -> float:
+def fraction_peak_ligand_M(log10_beta: Sequence[float] | np.ndarray, j: int) -> float:
     """Free ligand concentration where the fraction of ML_j is largest (n̄ = j).
 
     For the highest complex (j = N) the fraction only grows; the concentration returned
@@ -230,7 +235,7 @@ def fraction_peak_ligand_M(log10_beta: Sequence[float], j: int) -> float:
 
 
 def ligand_for_fraction_M(
-    log10_beta: Sequence[float], j: int, fraction: float = 0.2
+    log10_beta: Sequence[float] | np.ndarray, j: int, fraction: float = 0.2
 ) -> float | None:
     """Lowest free ligand concentration at which ML_j makes up ``fraction`` of the metal.
 

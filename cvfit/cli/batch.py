@@ -10,6 +10,7 @@ import sys
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 from cvfit.errors import InputError, OutputError, printable
 
@@ -232,16 +233,19 @@ def run_batch(
     n = len(manifests)
     jobs = default_jobs(n) if jobs is None else max(1, min(jobs, n))
     outcomes: list[SeriesOutcome | None] = [None] * n
-    bar_kw = {
-        "total": n,
-        "unit": "series",
-        "file": sys.stderr,
-        "leave": False,
-        "disable": None if progress else True,
-        "desc": "cvfit",
-    }
+
+    def progress_bar() -> tqdm[Any]:
+        return tqdm(
+            total=n,
+            unit="series",
+            file=sys.stderr,
+            leave=False,
+            disable=None if progress else True,
+            desc="cvfit",
+        )
+
     if jobs == 1:
-        with tqdm(**bar_kw) as bar:
+        with progress_bar() as bar:
             for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True)):
                 outcomes[k] = run_series(m, o)
                 bar.update()
@@ -249,7 +253,7 @@ def run_batch(
         from cvfit.pipeline.parallel import results_in_order
 
         pairs = list(zip(manifests, out_dirs, strict=True))
-        with tqdm(**bar_kw) as bar:
+        with progress_bar() as bar:
             outcomes[:] = results_in_order(_run_pair, pairs, jobs, done=bar.update)
     return [o for o in outcomes if o is not None]
 
@@ -270,7 +274,7 @@ def format_batch_summary(outcomes: Sequence[SeriesOutcome]) -> str:
     A column of stepwise constants log10 β_j joins the table when some series has them.
     """
     stepwise = any(o.log10_beta for o in outcomes)
-    head = ("series", "status", "log10(β_ox/β_red)", "p − q")
+    head: tuple[str, ...] = ("series", "status", "log10(β_ox/β_red)", "p − q")
     head += ("log10 β_j (stepwise)",) * stepwise + ("n", "screen", "output folder")
     rows = []
     for o in outcomes:

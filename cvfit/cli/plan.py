@@ -13,6 +13,7 @@ import sys
 from pathlib import Path
 
 from cvfit.errors import InputError
+from cvfit.record_json import record_json
 
 _CMD = "<command line>"
 #: Files ``cvfit plan`` writes into its output folder.
@@ -131,7 +132,7 @@ def plan_json(result) -> str:
     """plan.json's text; a number the plan could not make finite is an input error (the
     plan's values are beyond what can be computed), never Infinity or NaN in the file."""
     try:
-        return json.dumps(result.to_dict(), indent=2, allow_nan=False) + "\n"
+        return record_json(result.to_dict()) + "\n"
     except ValueError:
         raise InputError(
             "the plan's numbers overflow (a constant, range or concentration too extreme to "

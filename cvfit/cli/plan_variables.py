@@ -8,13 +8,13 @@ writes the recommended series as simulated voltammograms and a manifest.
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
 from cvfit.errors import InputError
+from cvfit.record_json import record_json
 
 _CMD = "<command line>"
 
@@ -46,7 +46,7 @@ def handle_variable_plan(
     check_out(out_dir, plan_path)
     data = {"plan_file": str(plan_path), **plan.to_dict()}
     try:
-        text = json.dumps(data, indent=2, allow_nan=False) + "\n"
+        text = record_json(data) + "\n"
     except ValueError:
         raise InputError(
             "the plan's numbers overflow; give values a series can reach", source=str(plan_path)

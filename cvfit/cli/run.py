@@ -64,7 +64,7 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 
 @contextlib.contextmanager
-def _progress(total: int, *, enabled: bool) -> Iterator[Callable[[], None]]:
+def _progress(total: int, *, enabled: bool) -> Iterator[Callable[[], object]]:
     """A per-file progress bar on stderr (tqdm) for long series; shown only on a terminal."""
     from tqdm import tqdm
 

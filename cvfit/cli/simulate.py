@@ -431,6 +431,8 @@ def handle(args: argparse.Namespace) -> int:
 
 
 def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
+    import numpy as np
+
     from cvfit.chemistry.complexation import complexed_half_wave_V
     from cvfit.simulate.titration_series import simulate_series
 
@@ -458,13 +460,15 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
         ("--diffusion-red-complexed", args.diffusion_red_complexed),
     ):
         _optional_positive(given, flag)  # checked before anything is computed
-    halves = complexed_half_wave_V(
-        E_half,
-        ligand_M=ligands,
-        log10_beta_ox=beta_ox,
-        log10_beta_red=beta_red,
-        electrons=settings["electrons"],
-        temperature_K=settings["temperature_K"],
+    halves = np.atleast_1d(  # one E½ per ligand level (an array already)
+        complexed_half_wave_V(
+            E_half,
+            ligand_M=ligands,
+            log10_beta_ox=beta_ox,
+            log10_beta_red=beta_red,
+            electrons=settings["electrons"],
+            temperature_K=settings["temperature_K"],
+        )
     )
     E_lo, E_hi = float(min(halves)), float(max(halves))
     if args.standard_e_half is not None:  # the default sweep covers the standard's wave too

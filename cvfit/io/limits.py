@@ -12,6 +12,7 @@ from __future__ import annotations
 import errno
 import os
 import stat
+from typing import AnyStr
 
 import numpy as np
 
@@ -199,7 +200,13 @@ def _may_hold_a_long_line(content: bytes | str) -> bool:
     each ending at the first line break) instead of finding every line break.
     """
     block = MAX_LINE_BYTES // 2
-    newline, cr = ("\n", "\r") if isinstance(content, str) else (b"\n", b"\r")
+    if isinstance(content, str):
+        return _block_without_break(content, "\n", "\r", block)
+    return _block_without_break(content, b"\n", b"\r", block)
+
+
+def _block_without_break(content: AnyStr, newline: AnyStr, cr: AnyStr, block: int) -> bool:
+    """True when some block ``[k B, (k + 1) B)`` of *content* holds no line break."""
     for k in range(0, len(content) - block + 1, block):
         if content.find(newline, k, k + block) < 0 and content.find(cr, k, k + block) < 0:
             return True

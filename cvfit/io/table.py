@@ -74,11 +74,8 @@ def _parse_block(block: str | bytes, lay: Layout, *, fast: bool = False) -> np.n
     implicit index column, so every line is one row or the call fails.
     """
     sep = r"\s+" if lay.delimiter == "whitespace" else lay.delimiter
-    if fast:
-        source: io.IOBase = io.BytesIO(block)
-        extra = {"index_col": False, "skip_blank_lines": False, "skipinitialspace": False}
-    else:
-        source, extra = io.StringIO(block), {"skipinitialspace": True}
+    # the fast path is given UTF-8 bytes, the careful path text
+    source = io.BytesIO(block) if isinstance(block, bytes) else io.StringIO(block)
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         frame = pd.read_csv(
@@ -90,7 +87,9 @@ def _parse_block(block: str | bytes, lay: Layout, *, fast: bool = False) -> np.n
             dtype=np.float64,
             engine="c",
             quotechar='"',
-            **extra,
+            index_col=False if fast else None,
+            skip_blank_lines=not fast,
+            skipinitialspace=not fast,
         )
     return frame.to_numpy(dtype=float, copy=True)
 
@@ -153,7 +152,7 @@ def _table(lines: list[str], lay: Layout, values: np.ndarray, numbers: np.ndarra
         values=values,
         line_numbers=numbers,
         header=header,
-        header_line=header_idx + 1 if header is not None else None,
+        header_line=header_idx + 1 if header is not None and header_idx is not None else None,
         metadata=metadata,
         delimiter=lay.delimiter,
         decimal=lay.decimal,

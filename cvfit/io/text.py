@@ -96,12 +96,16 @@ def decode_bytes(data: bytes, *, source: str) -> DecodedText:
                 source=source,
                 line=data.count(b"\n", 0, at) + 1,
             )
-        for encoding in ("utf-8", "cp1252", "latin-1"):
+        for candidate in ("utf-8", "cp1252"):
             try:
-                text = data.decode(encoding)
+                text = data.decode(candidate)
                 break
             except UnicodeDecodeError:
                 continue
+        else:  # Latin-1 decodes any byte
+            candidate = "latin-1"
+            text = data.decode(candidate)
+        encoding = candidate
     # text decoded from UTF-8 is checked in its bytes, ASCII text from elsewhere in its
     # ASCII bytes; the rest (and any alarm) by searching the text
     if encoding in ("utf-8", "utf-8-sig"):

@@ -23,11 +23,12 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
+from typing import TYPE_CHECKING, cast
 
 from cvfit.errors import CvfitError
 from cvfit.flags import Flag
 from cvfit.io import read_voltammogram, resistance_for
-from cvfit.pipeline.results import FileResult, ReferenceHalfWave
+from cvfit.pipeline.results import FileResult, ReferenceHalfWave, TitrationFit
 from cvfit.techniques.cv.curve.fit import CURVE_ORDERS, REFUSE_REDUCED_CHI2
 from cvfit.techniques.cv.curve.global_fit import (
     GlobalCurveFit,
@@ -38,10 +39,14 @@ from cvfit.techniques.cv.curve.global_fit import (
 from cvfit.techniques.cv.curve.global_stepwise import stepwise_tie
 from cvfit.techniques.cv.curve.model import CurveModel
 from cvfit.techniques.cv.curve.stage import record_curve_data
+from cvfit.techniques.cv.measurement import CVMeasurement
 from cvfit.titration.lingane import LinganeFit
 from cvfit.titration.stepwise import StepwiseFit
 from cvfit.units import thermal_voltage
 from cvfit.voltammogram import Voltammogram
+
+if TYPE_CHECKING:
+    from cvfit.io.manifest import Manifest, SeriesSettings
 
 __all__ = ["run_global", "GLOBAL_REFUSE_REDUCED_CHI2"]
 
@@ -54,7 +59,7 @@ def _current_terms(
     members: Sequence[GlobalFile],
     chosen: Sequence[FileResult],
     fit: StepwiseFit,
-    series: object,
+    series: SeriesSettings,
 ) -> dict[str, float] | None:
     """DeFord–Hume (RT/nF)·ln(Is/Ic) from the curve models' current scales, or None.
 
@@ -64,16 +69,22 @@ def _current_terms(
     """
     if fit.fixed_log10_beta or not any(f.code == "CURRENT_RATIO_APPLIED" for f in fit.flags):
         return None
-    E = {f.file: f.E_half_V for f in chosen}
+    E = {f.file: _E_half(f) for f in chosen}
     scale = {}
     for m in members:
         lk = math.inf if m.log10_k0 is None else m.log10_k0
         lin = m.model.evaluate(E[m.name], lk, m.alpha or 0.5, m.resistance_ohm, m.D_ratio)
         scale[m.name] = abs(float(lin.coefficients[0]))
     refs = [scale[m.name] for m in members if m.ligand_M == 0.0]
-    k = thermal_voltage(series.temperature_K, series.electrons)  # type: ignore[attr-defined]
+    k = thermal_voltage(series.temperature_K, series.electrons)
     s_ref = sum(refs) / len(refs)
     return {m.name: k * math.log(s_ref / scale[m.name]) for m in members if m.ligand_M > 0}
+
+
+def _E_half(f: FileResult) -> float:
+    """The E½ of a file the global fit starts from (used in the two-step fit or giving the
+    reference: such a file has one)."""
+    return cast(float, f.E_half_V)
 
 
 def _refused(f: FileResult) -> bool:
@@ -88,28 +99,30 @@ def _not_possible(why: str) -> tuple[None, list[Flag]]:
 
 def run_global(
     files: Sequence[FileResult],
-    manifest: object,
-    fit: object,
+    manifest: Manifest,
+    fit: TitrationFit | None,
     reference: ReferenceHalfWave,
     records: Mapping[str, Voltammogram] | None = None,
 ) -> tuple[GlobalCurveFit | None, list[Flag]]:
     """The global fit when the manifest asks for it, else (None, [])."""
-    settings = manifest.fit  # type: ignore[attr-defined]
+    settings = manifest.fit
     if not settings.global_fit:
         return None, []
-    if manifest.internal_standard is not None:  # type: ignore[attr-defined]
+    if manifest.internal_standard is not None:
         return _not_possible(
             "the potentials are quoted against the internal standard, whose wave the curve "
             "model does not hold"
         )
     stepwise = settings.model == "stepwise"
-    if not isinstance(fit, StepwiseFit if stepwise else LinganeFit) or reference.E_half_V is None:
+    stepwise_fit = fit if stepwise and isinstance(fit, StepwiseFit) else None
+    lingane_fit = fit if not stepwise and isinstance(fit, LinganeFit) else None
+    if (stepwise_fit is None and lingane_fit is None) or reference.E_half_V is None:
         return _not_possible(
             f"the two-step {'stepwise' if stepwise else 'Lingane'} fit it starts from could "
             "not be made"
         )
-    series = manifest.series  # type: ignore[attr-defined]
-    entries = {e.name: e for e in manifest.voltammograms}  # type: ignore[attr-defined]
+    series = manifest.series
+    entries = {e.name: e for e in manifest.voltammograms}
     chosen = [f for f in files if f.used_in_fit or f.file in reference.files]
     notes = [
         Flag(
@@ -130,15 +143,18 @@ def run_global(
             v = (records or {}).get(f.file) or read_voltammogram(
                 e.file, e.import_options, scan_rate_V_s=e.scan_rate_V_s
             )
-            data = record_curve_data(v, f.measurement.peaks, series)
+            # the manifest allows the global fit for cyclic voltammetry only
+            measured = cast(CVMeasurement, f.measurement)
+            data = record_curve_data(v, measured.peaks, series)
             D_sim = series.diffusion_cm2_s or 1e-5
-            cf = f.measurement.curve_fit
+            cf = measured.curve_fit
             P, Q = CURVE_ORDERS if cf is None else cf.background_orders
             model = CurveModel(data, D_sim, orders=(P, 0 if "charging" in share else Q))
             R = resistance_for(e, series)
-            refit_R = R is None and cf is not None and cf.resistance_ohm is not None
-            if refit_R:
-                R = cf.resistance_ohm.value
+            fitted_R = None if cf is None else cf.resistance_ohm
+            refit_R = R is None and fitted_R is not None
+            if refit_R and fitted_R is not None:
+                R = fitted_R.value
             log_k0 = alpha = None
             if f.E_half_source == "curve" and cf is not None:
                 v_scan = abs(float(data.potential_V[1] - data.potential_V[0])) / data.dt_s
@@ -147,28 +163,32 @@ def run_global(
             ratio = settings.curve_diffusion_ratio
             if R:  # the drop from the model's own current at the two-step values
                 model.settle_drop(
-                    f.E_half_V, math.inf if log_k0 is None else log_k0, alpha or 0.5, R, ratio
+                    _E_half(f), math.inf if log_k0 is None else log_k0, alpha or 0.5, R, ratio
                 )
             ligand = f.free_ligand_M if f.used_in_fit else 0.0
             members.append(
                 GlobalFile(f.file, ligand, model, R or 0.0, log_k0, alpha, ratio, refit_R)
             )
-        if stepwise:
+        if stepwise_fit is not None:
             tie = stepwise_tie(
                 [m.name for m in members],
-                {f.file: f.E_half_V for f in chosen if f.used_in_fit},
-                fit,
+                {f.file: _E_half(f) for f in chosen if f.used_in_fit},
+                stepwise_fit,
                 electrons=series.electrons,
                 temperature_K=series.temperature_K,
-                current_term_V=_current_terms(members, chosen, fit, series),
+                current_term_V=_current_terms(members, chosen, stepwise_fit, series),
             )
             result = fit_global(members, tie, share=share)
-        else:
+        elif lingane_fit is not None:  # one of the two, as checked above
             result = fit_global_lingane(
                 members,
                 electrons=series.electrons,
                 temperature_K=series.temperature_K,
-                start=(reference.E_half_V, fit.delta_ligands.value, fit.log10_beta_ratio.value),
+                start=(
+                    reference.E_half_V,
+                    lingane_fit.delta_ligands.value,
+                    lingane_fit.log10_beta_ratio.value,
+                ),
                 share=share,
             )
     except CvfitError as exc:

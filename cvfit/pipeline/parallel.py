@@ -109,7 +109,7 @@ def results_in_order(
     items: Iterable[Any],
     workers: int,
     *,
-    done: Callable[[], None] = lambda: None,
+    done: Callable[[], object] = lambda: None,
 ) -> list[T]:
     """``[call(x) for x in items]`` on a pool of *workers* processes, in the items' order.
 

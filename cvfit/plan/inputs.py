@@ -163,7 +163,7 @@ def _range(src: str, key: str, value: Any, centre: float) -> tuple[float, float]
     lo, hi = (
         _numbers(src, key, value) if isinstance(value, list) and len(value) == 2 else (None, None)
     )
-    if lo is None or not lo <= centre <= hi:
+    if lo is None or hi is None or not lo <= centre <= hi:
         raise _err(src, key, f"{key} must be [low, high] around the expected value {centre:g}")
     return (lo, hi)
 
@@ -182,7 +182,7 @@ def _expect(src: str, ex: dict[str, Any]):
         for key in ("log10_beta_ratio", "delta_ligands"):
             if key not in ex:
                 raise _err(src, f"expect.{key}", f"the Lingane model needs [expect] {key}")
-        names = ("log10_beta_ratio", "delta_ligands")
+        names: tuple[str, ...] = ("log10_beta_ratio", "delta_ligands")
         values = tuple(_number(src, f"expect.{k}", ex[k]) for k in names)
         if not values[1] > 0:
             raise _err(src, "expect.delta_ligands", "delta_ligands (p − q) must be > 0")

@@ -21,6 +21,8 @@ def plan_table(result: PlanResult) -> str:
     req = result.request
     designs = [d for name in _ORDER for d in result.designs if d.name == name]
     rec = result.design("recommended")
+    if rec is None:  # every plan has one (planner.plan_titration); a plain check for mypy
+        raise ValueError("the plan result has no recommended design")
     lines = [
         f"cvfit plan: {req.title}  ({req.model} model, {req.points} solutions + ligand-free "
         f"reference, E½ noise {1e3 * req.E_half_stderr_V:.3g} mV, criterion {req.criterion})",

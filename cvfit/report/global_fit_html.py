@@ -3,12 +3,12 @@
 from __future__ import annotations
 
 from collections.abc import Mapping
-from html import escape
 from typing import Any
 
 from cvfit.formatting import format_pm
+from cvfit.report.templating import render_template
 
-__all__ = ["global_fit_section"]
+__all__ = ["global_fit_section", "global_fit_view"]
 
 _ROWS = (
     ("delta_ligands", "p − q"),
@@ -35,7 +35,7 @@ def _pairs(g: Mapping[str, Any], fit: Mapping[str, Any]) -> list[tuple[str, str,
     return [(key, label, g.get(key), fit.get(key)) for key, label in _ROWS]
 
 
-def _shared_rows(g: Mapping[str, Any]) -> list[str]:
+def _shared_rows(g: Mapping[str, Any]) -> list[dict[str, str]]:
     rows = []
     for key, label, scale in (
         ("alpha", "α (shared)", 1.0),
@@ -48,9 +48,14 @@ def _shared_rows(g: Mapping[str, Any]) -> list[str]:
         interval = "n/d" if None in ci else f"[{scale * ci[0]:.4g}, {scale * ci[1]:.4g}]"
         value = format_pm(_scaled(q.get("value"), scale), _scaled(q.get("stderr"), scale))
         rows.append(
-            f'<tr data-key="global-{escape(key)}"><th scope="row">{escape(label)}</th>'
-            f'<td class="num">{escape(value)}</td><td class="num">{escape(interval)}</td>'
-            '<td class="num">—</td><td class="num">—</td></tr>'
+            {
+                "key": key,
+                "label": label,
+                "one": value,
+                "one_ci": interval,
+                "two": "—",
+                "two_ci": "—",
+            }
         )
     return rows
 
@@ -59,21 +64,24 @@ def _scaled(x: Any, scale: float) -> Any:
     return None if x is None else scale * x
 
 
-def global_fit_section(data: Mapping[str, Any]) -> str:
-    """``<section>`` comparing the global fit with the two-step fit; "" without one."""
+def global_fit_view(data: Mapping[str, Any]) -> dict[str, Any] | None:
+    """The global fit's constants beside the two-step ones, as text (None without one)."""
     g = data.get("global_fit")
     if not g:
-        return ""
+        return None
     fit = data.get("fit") or {}
     rows = []
     for key, label, one, two in _pairs(g, fit):
         one, two = one or {}, two or {}
         rows.append(
-            f'<tr data-key="global-{escape(key)}"><th scope="row">{escape(label)}</th>'
-            f'<td class="num">{escape(format_pm(one.get("value"), one.get("stderr")))}</td>'
-            f'<td class="num">{escape(_interval(one))}</td>'
-            f'<td class="num">{escape(format_pm(two.get("value"), two.get("stderr")))}</td>'
-            f'<td class="num">{escape(_interval(two))}</td></tr>'
+            {
+                "key": key,
+                "label": label,
+                "one": format_pm(one.get("value"), one.get("stderr")),
+                "one_ci": _interval(one),
+                "two": format_pm(two.get("value"), two.get("stderr")),
+                "two_ci": _interval(two),
+            }
         )
     rows += _shared_rows(g)
     chi2 = g.get("reduced_chi2")
@@ -84,10 +92,10 @@ def global_fit_section(data: Mapping[str, Any]) -> str:
         f"{'n/d' if chi2 is None else f'{chi2:.2f}'}); intervals of the global fit from the "
         "χ² profile."
     )
-    return (
-        "<section><h2>Global curve fit</h2>"
-        f"<p>{escape(note)}</p><table><thead><tr><th></th><th>global</th><th>95 %</th>"
-        "<th>two-step</th><th>95 %</th></tr></thead><tbody>"
-        + "".join(rows)
-        + "</tbody></table></section>"
-    )
+    return {"rows": rows, "note": note}
+
+
+def global_fit_section(data: Mapping[str, Any]) -> str:
+    """``<section>`` comparing the global fit with the two-step fit; "" without one."""
+    view = global_fit_view(data)
+    return "" if view is None else render_template("global_fit.html.j2", global_fit=view)

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
-from typing import Any
+from typing import Any, TypeGuard
 
 from cvfit.formatting import format_pm
 from cvfit.titration.registry import MODEL_NAMES, model_named
@@ -26,7 +26,7 @@ __all__ = [
 MAX_NAMES = 5
 
 
-def _finite(x: object) -> bool:
+def _finite(x: object) -> TypeGuard[float]:
     return isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
 
 
@@ -45,7 +45,7 @@ def quantity_text(q: Mapping[str, Any] | None, *, scale: float = 1.0, unit: str 
     ci = list(q.get("ci95") or [None, None])
 
     def side(x: object) -> str:
-        return f"{x * scale:.{digits}f}" if _finite(x) else "open"  # type: ignore[operator]
+        return f"{x * scale:.{digits}f}" if _finite(x) else "open"
 
     return f"{shown}, 95 % CI [{side(ci[0])}, {side(ci[1])}]"
 

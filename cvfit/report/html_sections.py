@@ -1,20 +1,29 @@
 """Report sections that stand on their own: the error budget and the internal standard.
 
-Each function takes the results.json mapping (``SeriesResult.to_dict``) and returns an HTML
-``<section>`` — or an empty string when the series has nothing to show in it — so the page
-(:mod:`cvfit.report.html`) only places them.
+``budget_view`` and ``standard_view`` take the results.json mapping (``SeriesResult.to_dict``)
+and return the section's text for its template (None when the series has nothing to show in
+it); ``error_budget_section`` and ``internal_standard_section`` render one on its own.
 """
 
 from __future__ import annotations
 
-import base64
 import math
 from collections.abc import Mapping, Sequence
-from html import escape
 from pathlib import Path
 from typing import Any
 
-__all__ = ["error_budget_section", "internal_standard_section", "BUDGET_ROWS", "STANDARD_FIGURE"]
+from cvfit.formatting import format_pm
+from cvfit.report.html_view import figure_view
+from cvfit.report.templating import render_template
+
+__all__ = [
+    "BUDGET_ROWS",
+    "STANDARD_FIGURE",
+    "budget_view",
+    "error_budget_section",
+    "internal_standard_section",
+    "standard_view",
+]
 
 #: File name of the internal-standard figure, shown in its own section.
 STANDARD_FIGURE = "internal_standard.png"
@@ -28,14 +37,10 @@ BUDGET_ROWS = {
 }
 
 
-def _e(value: object) -> str:
-    return escape("" if value is None else str(value), quote=True)
-
-
-def _cell(x: object, digits: int) -> str:
+def _cell(x: object, digits: int) -> dict[str, str]:
     if not isinstance(x, int | float) or not math.isfinite(x):
-        return '<td class="num">n/d</td>'
-    return f'<td class="num" data-value="{x!r}">{x:.{digits}f}</td>'
+        return {"text": "n/d", "value": ""}
+    return {"text": f"{x:.{digits}f}", "value": repr(x)}
 
 
 def _digits(total: float | None) -> int:
@@ -52,25 +57,26 @@ def _stepwise_keys(budget: Mapping[str, Any]) -> list[str]:
     )
 
 
-def error_budget_section(data: Mapping[str, Any]) -> str:
-    """The error budget of the fitted constants as a small table (empty without one)."""
+def budget_view(data: Mapping[str, Any]) -> dict[str, Any] | None:
+    """The error budget's rows and its note, as text (None without a budget)."""
     fit = data.get("fit") or {}
     budget = fit.get("error_budget")
     if not budget:
-        return ""
+        return None
     rows = []
     keys = [k for k in BUDGET_ROWS if k in budget] + _stepwise_keys(budget)
     for key in keys:
         b = budget[key]
-        label = BUDGET_ROWS.get(key) or f"log10 β{key.rsplit('_')[-1]}"
         d = _digits(b.get("total"))
         rows.append(
-            f'<tr data-budget="{_e(key)}"><th scope="row">{_e(label)}</th>'
-            + "".join(
-                _cell(b.get(part), d)
-                for part in ("within_file", "between_solutions", "reference", "total")
-            )
-            + "</tr>"
+            {
+                "key": key,
+                "label": BUDGET_ROWS.get(key) or f"log10 β{key.rsplit('_')[-1]}",
+                "cells": [
+                    _cell(b.get(part), d)
+                    for part in ("within_file", "between_solutions", "reference", "total")
+                ],
+            }
         )
     notes = []
     chi = fit.get("reduced_chi_square")
@@ -89,15 +95,13 @@ def error_budget_section(data: Mapping[str, Any]) -> str:
     second = _second_reference_note(budget, len(values))
     if second:
         notes.append(second)
-    note = f'<p class="refs">{_e("; ".join(notes))}.</p>' if notes else ""
-    return (
-        "<section><h2>Error budget</h2><p>Standard uncertainty of each constant by source; "
-        "the total is the standard error its 95 % interval is built on.</p>"
-        '<div class="scroll"><table class="budget"><thead><tr><th>constant</th>'
-        "<th>within-file noise</th><th>between solutions</th><th>reference E½(s)</th>"
-        "<th>total</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table></div>"
-        f"{note}</section>"
-    )
+    return {"rows": rows, "note": "; ".join(notes)}
+
+
+def error_budget_section(data: Mapping[str, Any]) -> str:
+    """The error budget of the fitted constants as a small table (empty without one)."""
+    view = budget_view(data)
+    return "" if view is None else render_template("budget.html.j2", budget=view)
 
 
 def _second_reference_note(budget: Mapping[str, Any], n_files: int) -> str:
@@ -136,6 +140,56 @@ def _mv(x: object, digits: int = 2) -> str:
     return f"{1e3 * x:.{digits}f}"
 
 
+def _verdict(x: object) -> str:
+    return "yes" if x is True else "no" if x is False else "n/d"
+
+
+#: Caption of the internal standard's figure.
+_STANDARD_CAPTION = (
+    "Top: the internal standard's E½ less its series mean (drift of the reference "
+    "electrode), ±1 standard error. Bottom: the analyte's E½ on the electrode's "
+    "scale and against the standard."
+)
+
+
+def standard_view(
+    data: Mapping[str, Any], figures: Sequence[Path]
+) -> tuple[dict[str, Any] | None, list[Path]]:
+    """The internal standard's E½ file by file and its drift figure, as text (None without
+    an internal standard), and *figures* less the one it shows."""
+    files = data.get("voltammograms") or []
+    rest = [Path(p) for p in figures if Path(p).name != STANDARD_FIGURE]
+    if not any(f.get("internal_standard") for f in files):
+        return None, [Path(p) for p in figures]
+    rows = []
+    values = []
+    for f in files:
+        std = f.get("internal_standard") or {}
+        e = std.get("E_half_V")
+        if isinstance(e, int | float):
+            values.append(e)
+        rows.append(
+            {
+                "name": str(f.get("label") or f.get("file") or ""),
+                "ligand": _mv(f.get("ligand_M"), 3),
+                "E_half": format_pm(e, std.get("E_half_stderr_V"), scale=1e3),
+                "value": repr(e),
+                "delta_Ep": _mv(std.get("delta_Ep_V"), 1),
+                "reversible": _verdict(std.get("reversible")),
+                "analyte": format_pm(f.get("E_half_V"), f.get("E_half_stderr_V"), scale=1e3),
+            }
+        )
+    drift = (
+        f" The standard's E½ moved over {1e3 * (max(values) - min(values)):.2f} mV along the "
+        "series; quoting the analyte against it removes that drift."
+        if len(values) > 1
+        else ""
+    )
+    shown = [Path(p) for p in figures if Path(p).name == STANDARD_FIGURE and Path(p).is_file()]
+    figure = figure_view(shown[-1], _STANDARD_CAPTION) if shown else None
+    return {"rows": rows, "drift": drift, "figure": figure}, rest
+
+
 def internal_standard_section(
     data: Mapping[str, Any], figures: Sequence[Path]
 ) -> tuple[str, list[Path]]:
@@ -144,56 +198,6 @@ def internal_standard_section(
     Returns the section (empty without an internal standard) and *figures* less the one
     the section shows.
     """
-    files = data.get("voltammograms") or []
-    rest = [Path(p) for p in figures if Path(p).name != STANDARD_FIGURE]
-    if not any(f.get("internal_standard") for f in files):
-        return "", list(figures)
-    rows = []
-    values = []
-    for f in files:
-        std = f.get("internal_standard") or {}
-        e = std.get("E_half_V")
-        if isinstance(e, int | float):
-            values.append(e)
-        verdict = {True: "yes", False: "no"}.get(std.get("reversible"), "n/d")
-        rows.append(
-            f"<tr><td>{_e(f.get('label') or f.get('file'))}</td>"
-            f'<td class="num">{_e(_mv(f.get("ligand_M"), 3))}</td>'
-            f'<td class="num" data-value="{e!r}">{_e(_mv(e))}</td>'
-            f'<td class="num">{_e(_mv(std.get("E_half_stderr_V"), 3))}</td>'
-            f'<td class="num">{_e(_mv(std.get("delta_Ep_V"), 1))}</td>'
-            f"<td>{verdict}</td>"
-            f'<td class="num">{_e(_mv(f.get("E_half_V")))}</td></tr>'
-        )
-    drift = (
-        f" The standard's E½ moved over {1e3 * (max(values) - min(values)):.2f} mV along the "
-        "series; quoting the analyte against it removes that drift."
-        if len(values) > 1
-        else ""
-    )
-    figure = ""
-    for p in figures:
-        p = Path(p)
-        if p.name == STANDARD_FIGURE and p.is_file():
-            b64 = base64.b64encode(p.read_bytes()).decode("ascii")
-            caption = (
-                "Top: the internal standard's E½ less its series mean (drift of the reference "
-                "electrode), ±1 standard error. Bottom: the analyte's E½ on the electrode's "
-                "scale and against the standard."
-            )
-            figure = (
-                f'<figure><img alt="{_e(caption)}" src="data:image/png;base64,{b64}">'
-                f'<figcaption>{_e(caption)} <span class="code">{_e(p.name)}</span>'
-                "</figcaption></figure>"
-            )
-    html = (
-        "<section><h2>Internal standard</h2><p>Every file holds an internal reference "
-        "couple; the analyte's E½ (last column, and everywhere else in this report) is "
-        f"quoted against the standard's E½ measured in the same file.{_e(drift)}</p>"
-        '<div class="scroll"><table><thead><tr><th>file</th><th>ligand / mM</th>'
-        "<th>E½ standard / mV (electrode scale)</th><th>± / mV</th><th>ΔEp / mV</th>"
-        "<th>standard reversible</th><th>analyte E½ against it / mV</th></tr></thead><tbody>"
-        + "".join(rows)
-        + f"</tbody></table></div>{figure}</section>"
-    )
+    view, rest = standard_view(data, figures)
+    html = "" if view is None else render_template("standard.html.j2", standard=view)
     return html, rest

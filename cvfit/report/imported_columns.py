@@ -4,11 +4,10 @@ figures (from the files' ``imported_columns`` in ``results.json``)."""
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from html import escape
 
 from cvfit.errors import printable
 
-__all__ = ["column_groups", "columns_html", "columns_lines", "describe_columns", "potential_kind"]
+__all__ = ["column_groups", "columns_view", "columns_lines", "describe_columns", "potential_kind"]
 
 _SHOWN_FILES = 6  # file names listed per group before "… and N more"
 
@@ -58,8 +57,8 @@ def columns_lines(files: Sequence[tuple[str, Mapping[str, str] | None]]) -> list
     return lines
 
 
-def columns_html(files: Sequence[Mapping[str, object]]) -> str:
-    """A paragraph (one kind of file) or a list (several) for the report."""
+def columns_view(files: Sequence[Mapping[str, object]]) -> list[tuple[str, str]]:
+    """The columns read, for the report: (description, files it holds for) per kind of file."""
     pairs = [
         (
             str(f.get("file")),
@@ -67,13 +66,7 @@ def columns_html(files: Sequence[Mapping[str, object]]) -> str:
         )
         for f in files
     ]
-    groups = column_groups(pairs)
-    if not groups:
-        return ""
-    if len(groups) == 1:
-        return f'<p class="columns">Columns read from every file: {escape(groups[0][0])}.</p>'
-    items = "".join(f"<li>{escape(text)}: {escape(_names(names))}</li>" for text, names in groups)
-    return f'<p class="columns">Columns read:</p><ul class="columns">{items}</ul>'
+    return [(text, _names(names)) for text, names in column_groups(pairs)]
 
 
 def potential_kind(files: Sequence[Mapping[str, str] | None]) -> str | None:

@@ -8,6 +8,7 @@ from pathlib import Path
 from typing import Any, Literal
 
 from cvfit.pipeline.results import SeriesResult
+from cvfit.record_json import record_json
 from cvfit.report.atomic import atomic_write_text
 
 __all__ = ["load_schema", "results_to_json", "write_results_json"]
@@ -20,7 +21,7 @@ SCHEMA_FILES = {"results": "results.schema.json", "series": "series.schema.json"
 def results_to_json(result: SeriesResult | dict[str, Any]) -> str:
     """Serialise a result to the results.json text (stable key order, no NaN)."""
     data = result.to_dict() if isinstance(result, SeriesResult) else result
-    return json.dumps(data, indent=2, allow_nan=False, ensure_ascii=False) + "\n"
+    return record_json(data) + "\n"
 
 
 def write_results_json(result: SeriesResult, path: str | Path) -> Path:

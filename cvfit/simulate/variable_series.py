@@ -14,6 +14,7 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from cvfit.chemistry.protonation import proton_half_wave_V
 from cvfit.errors import SimulationError
@@ -27,7 +28,12 @@ MANIFEST_NAME = "series.toml"
 
 
 def temperature_half_wave_V(
-    temperature_K: object, *, E_half_V: float, at_K: float, entropy_J_mol_K: float, electrons: int
+    temperature_K: ArrayLike,
+    *,
+    E_half_V: float,
+    at_K: float,
+    entropy_J_mol_K: float,
+    electrons: int,
 ) -> np.ndarray:
     """E½(T) = E½(T₀) + (ΔS/nF)(T − T₀) (Yee et al., J. Am. Chem. Soc. 101 (1979) 1131)."""
     T = np.asarray(temperature_K, dtype=float)

@@ -14,7 +14,10 @@ A technique is an object with
 * ``study_series(items, settings, reread) -> SeriesStudy`` — what only the whole series can
   tell (for cyclic voltammetry: the scan-rate study, the class of transfer and k0); it
   returns new measurements whose verdicts may have changed, and the pipeline then decides
-  every file's E½ again.
+  every file's E½ again;
+* ``report_sections(data) -> list[ReportSection]`` — its own tables of the HTML report,
+  read from the results.json mapping, as plain text (the report has no branch on the
+  technique).
 
 A measurement offers :meth:`Measurement.half_wave_estimate`: the E½ the technique offers
 under its current verdicts. It never applies an internal standard or decides whether the
@@ -45,6 +48,9 @@ __all__ = [
     "StudyItem",
     "SeriesStudy",
     "FileView",
+    "ReportCell",
+    "ReportSection",
+    "no_report_sections",
 ]
 
 #: How a technique's E½ was obtained, in decreasing order of trust:
@@ -249,6 +255,58 @@ class SeriesStudy:
     flags: tuple[Flag, ...] = ()
 
 
+@dataclass(frozen=True)
+class ReportCell:
+    """One cell of a technique's report table.
+
+    Attributes
+    ----------
+    text : str
+        What the reader sees, formatted (:mod:`cvfit.formatting`).
+    value : str or None
+        The exact results.json value as JSON text, for a program checking the page.
+    key : str
+        Which results.json value the cell shows ("" for none), e.g. ``"kinetics.k0_cm_s"``.
+    """
+
+    text: str
+    value: str | None = None
+    key: str = ""
+
+
+@dataclass(frozen=True)
+class ReportSection:
+    """A technique's own section of the HTML report: a table and notes, all plain text.
+
+    Attributes
+    ----------
+    key : str
+        Its id on the page (letters, digits and dashes).
+    title : str
+        Its heading.
+    intro : str
+        A sentence above the table ("" for none).
+    headers : tuple of str
+        Column headers.
+    rows : tuple of tuple of ReportCell
+        One row per file or study; the first cell names it.
+    notes : tuple of str
+        Sentences below the table.
+    """
+
+    key: str
+    title: str
+    intro: str
+    headers: tuple[str, ...]
+    rows: tuple[tuple[ReportCell, ...], ...]
+    notes: tuple[str, ...] = ()
+
+
+def no_report_sections(data: Any) -> list[ReportSection]:
+    """The report sections of a technique that adds none to the shared ones."""
+    return []
+
+
 #: Reads a file's record again (by its index in the manifest), for a study that needs it.
 Reread = Callable[[int], "Voltammogram"]
 
@@ -280,4 +338,8 @@ class Technique(Protocol):
 
     def summary_lines(self, files: Sequence[FileView], studies: Sequence[Any]) -> list[str]:
         """Its lines of the terminal summary for the whole series."""
+        ...
+
+    def report_sections(self, data: Any) -> list[ReportSection]:
+        """Its own sections of the HTML report, from the results.json mapping *data*."""
         ...

@@ -375,13 +375,16 @@ def fit_lingane(
     flags = list(pre)
     weighted_line = fit_line(x, y, sigma) if have_sigma else None
     redchi_w = None if weighted_line is None else weighted_line.reduced_chi_square
-    credible = redchi_w is not None and weights_credible(redchi_w, weighted_line.dof)
+    credible = weighted_line is not None and weights_credible(
+        weighted_line.reduced_chi_square, weighted_line.dof
+    )
     use_weights = weighting == "stderr" or (weighting == "auto" and credible)
     flag = weighting_flag(weighting, have_sigma, credible, redchi_w, weighted_line)
     if flag is not None:
         flags.append(flag)
     w_sigma = sigma if use_weights else None
-    line = weighted_line if use_weights else fit_line(x, y, None)
+    # weights are used only with a weighted line (stderr: every σ given; auto: credible)
+    line = weighted_line if use_weights and weighted_line is not None else fit_line(x, y, None)
 
     n = len(pts)
     dof = line.dof

@@ -21,6 +21,7 @@ from cvfit.formatting import format_pm  # noqa: E402
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
 from cvfit.report.figures.titration import _STYLE, _save  # noqa: E402
 from cvfit.report.output_names import CURVE_FITS_NAME  # noqa: E402
+from cvfit.techniques.cv.measurement import CVMeasurement  # noqa: E402
 
 __all__ = ["plot_curve_fits", "COLUMNS", "CURVE_FITS_FIGURE"]
 
@@ -50,9 +51,11 @@ def _panel_title(f, fit) -> str:
 def plot_curve_fits(result: SeriesResult, path: str | Path) -> Path | None:
     """Write the curve-fit figure of *result* to *path* (PNG); None when no file has one."""
     fitted = [
-        f
+        (f, m.curve_fit)
         for f in result.files
-        if f.measurement.curve_fit is not None and f.measurement.curve_fit.figure
+        if isinstance(m := f.measurement, CVMeasurement)
+        and m.curve_fit is not None
+        and m.curve_fit.figure
     ]
     if not fitted:
         return None
@@ -62,11 +65,10 @@ def plot_curve_fits(result: SeriesResult, path: str | Path) -> Path | None:
     with plt.rc_context(_STYLE):
         fig = plt.figure(figsize=(4.2 * cols, 3.6 * rows))
         grid = fig.add_gridspec(2 * rows, cols, height_ratios=[3, 1] * rows, hspace=0.08)
-        for k, f in enumerate(fitted):
+        for k, (f, fit) in enumerate(fitted):
             r, c = divmod(k, cols)
             ax = fig.add_subplot(grid[2 * r, c])
             axr = fig.add_subplot(grid[2 * r + 1, c], sharex=ax)
-            fit = f.measurement.curve_fit
             d = fit.figure
             E = np.asarray(d["potential_V"])
             i = 1e6 * np.asarray(d["current_A"])

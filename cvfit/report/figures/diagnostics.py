@@ -11,6 +11,7 @@ of the fit. The legend shows each look drawn.
 from __future__ import annotations
 
 from pathlib import Path
+from typing import cast
 
 import matplotlib
 
@@ -20,9 +21,10 @@ import numpy as np  # noqa: E402
 from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator  # noqa: E402
 
-from cvfit.pipeline.results import SeriesResult  # noqa: E402
+from cvfit.pipeline.results import FileResult, SeriesResult  # noqa: E402
 from cvfit.report.figures.legend_placement import quiet_corner  # noqa: E402
 from cvfit.report.figures.titration import _STYLE, _save, _set_title  # noqa: E402
+from cvfit.techniques.cv.measurement import CVMeasurement  # noqa: E402
 
 __all__ = ["plot_diagnostics"]
 
@@ -43,7 +45,7 @@ _MARKERS = {
 REFERENCE_MARKER = "D"
 
 
-def _role(f: object, used: bool) -> str:
+def _role(f: FileResult, used: bool) -> str:
     """The file's role in the figure: ``fit`` (E½ from the peaks, fitted), ``curve`` (E½
     from the whole-curve fit, fitted) or ``out`` (left out of the fit)."""
     if not used:
@@ -75,12 +77,15 @@ def _legend_handles(kinds: list[str], roles: list[str]) -> list[Line2D]:
     return handles
 
 
-def _kind(f) -> str:
-    return (
-        "not determinable"
-        if f.measurement.classification is None
-        else f.measurement.classification.kind
-    )
+def _cv(f: FileResult) -> CVMeasurement:
+    """The file's measurement: this figure is the cyclic-voltammetry technique's, drawn
+    from the files of the series' own technique."""
+    return cast(CVMeasurement, f.measurement)
+
+
+def _kind(f: FileResult) -> str:
+    classification = _cv(f).classification
+    return "not determinable" if classification is None else classification.kind
 
 
 def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
@@ -105,8 +110,8 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
         exp = np.array(
             [
                 np.nan
-                if f.measurement.screen.expected_delta_Ep_V is None
-                else 1e3 * n * f.measurement.screen.expected_delta_Ep_V
+                if (expected := _cv(f).screen.expected_delta_Ep_V) is None
+                else 1e3 * n * expected
                 for f in files
             ]
         )
@@ -136,18 +141,11 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
         kinds = [_kind(f) for f in files]
         used = np.array([bool(f.used_in_fit) for f in files])
         dEp = np.array(
-            [
-                np.nan
-                if f.measurement.peaks.delta_Ep_V is None
-                else f.measurement.peaks.delta_Ep_V
-                for f in files
-            ]
+            [np.nan if _cv(f).peaks.delta_Ep_V is None else _cv(f).peaks.delta_Ep_V for f in files]
         )
         ratio = np.array(
             [
-                np.nan
-                if f.measurement.peaks.current_ratio is None
-                else f.measurement.peaks.current_ratio
+                np.nan if _cv(f).peaks.current_ratio is None else _cv(f).peaks.current_ratio
                 for f in files
             ]
         )
@@ -199,7 +197,7 @@ def plot_diagnostics(result: SeriesResult, path: str | Path) -> Path:
             for k in shown
         ]
         ax.set_xlim(-0.5 - 0.01 * len(files), len(files) - 0.5 + 0.01 * len(files))
-        axr.xaxis.set_major_locator(FixedLocator(shown))
+        axr.xaxis.set_major_locator(FixedLocator(shown.tolist()))
         axr.set_xticklabels(texts, rotation=60, fontsize=7)
         ax.tick_params(labelbottom=False)
         axr.yaxis.set_major_locator(MaxNLocator(nbins=4))

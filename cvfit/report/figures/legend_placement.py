@@ -8,15 +8,23 @@ corner does.
 
 from __future__ import annotations
 
+from typing import Literal
+
 import numpy as np
+from matplotlib.axes import Axes
+from numpy.typing import ArrayLike
 
 __all__ = ["quiet_corner", "CORNERS"]
 
+Corner = Literal["upper right", "upper left", "lower left", "lower right"]
+
 #: Legend locations tried, in the order ties are settled.
-CORNERS = ("upper right", "upper left", "lower left", "lower right")
+CORNERS: tuple[Corner, ...] = ("upper right", "upper left", "lower left", "lower right")
 
 
-def quiet_corner(ax, x, y, *, width: float = 0.45, height: float = 0.35) -> str:
+def quiet_corner(
+    ax: Axes, x: ArrayLike, y: ArrayLike, *, width: float = 0.45, height: float = 0.35
+) -> Corner:
     """The corner of *ax* (a ``loc`` for ``Axes.legend``) holding the fewest points.
 
     Parameters

@@ -51,7 +51,7 @@ class FigureEntry:
 
     def drawer(self) -> Callable[[SeriesResult, Path], Path | None]:
         module, _, name = self.draw.partition(":")
-        return getattr(importlib.import_module(module), name)  # type: ignore[no-any-return]
+        return getattr(importlib.import_module(module), name)
 
 
 _F = "cvfit.report.figures"

@@ -12,6 +12,7 @@ import math
 import textwrap
 from collections.abc import Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING, Any, cast
 
 import matplotlib
 
@@ -20,6 +21,7 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 from matplotlib import colors as mcolors  # noqa: E402
 from matplotlib.collections import LineCollection  # noqa: E402
+from matplotlib.figure import Figure  # noqa: E402
 from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.ticker import FixedLocator, MaxNLocator, NullLocator  # noqa: E402
 
@@ -38,6 +40,9 @@ from cvfit.techniques.curves import (
 )
 from cvfit.titration.lingane import LinganeFit  # noqa: E402
 
+if TYPE_CHECKING:
+    from matplotlib.typing import RcKeyType
+
 __all__ = [
     "plot_voltammograms",
     "plot_lingane",
@@ -52,7 +57,7 @@ COLOUR_MAP = "cividis"
 #: Colour and line style of a titration curve that failed the reversibility screen.
 FLAGGED_COLOUR = "0.35"
 FLAGGED_STYLE = (0, (1.5, 1.5))
-_STYLE = {
+_STYLE: dict[RcKeyType, Any] = {
     "font.size": 9,
     "axes.spines.top": False,
     "axes.spines.right": False,
@@ -110,7 +115,8 @@ def _set_title(
 
     *extra* lines (the constants found) follow the title, each wrapped on its own.
     """
-    width_in = float(ax.figure.get_size_inches()[0])
+    # every axes here is drawn on a top-level figure, never a subfigure
+    width_in = float(cast(Figure, ax.figure).get_size_inches()[0])
     per_line = max(20, int(0.95 * width_in * 72.0 / (_CHAR_EM * fontsize)))
     text = figure_title(text, per_line * MAX_TITLE_LINES + 1)
     lines = textwrap.wrap(text, per_line, break_long_words=True) or [""]
@@ -184,7 +190,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
         fig, ax = plt.subplots(figsize=(6.4, 4.4))
         positive = [f.ligand_M for f in result.files if f.ligand_M > 0]
         cmap = plt.get_cmap(COLOUR_MAP)
-        norm = None
+        norm: mcolors.LogNorm | None = None
         if positive:
             lo, hi = min(positive), max(positive)
             if hi <= lo:
@@ -212,7 +218,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                 free_labelled = free_labelled or label is not None
                 ax.plot(E, i * 1e6, color="0.15", lw=1.1, ls="--", label=label)
         handles: list = []
-        if segments:
+        if segments and norm is not None:  # a titration curve is drawn only with a norm
             colours = cmap(norm(np.asarray(ligands)))  # one call for all curves
             # a curve that failed the screen: grey and dotted, whatever its ligand level
             # (the top of the colour map is a pale yellow that a fainter line would lose)
@@ -259,7 +265,8 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             cb.set_label(f"total ligand [L] / {PER_LITRE}")
             # labelled ticks at 1, 2 and 5 times the powers of ten, plain decimals (the
             # default log labels need mathtext) and no minor ticks (a dozen tick objects)
-            values = _one_two_five(norm.vmin, norm.vmax)
+            # the norm's limits are the floats it was made with
+            values = _one_two_five(cast(float, norm.vmin), cast(float, norm.vmax))
             cb.ax.yaxis.set_major_locator(FixedLocator(values))
             cb.ax.yaxis.set_minor_locator(NullLocator())
             cb.ax.yaxis.set_ticklabels([f"{v:g}" for v in values])
@@ -272,11 +279,11 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             xy = [*segments, *(ln.get_xydata() for ln in ax.get_lines())]
             if len(drawn) < titrating:  # keep clear of the note in the lower right
                 xy.append(np.array([[ax.get_xlim()[1], ax.get_ylim()[0]]]))
-            xy = np.concatenate(xy) if xy else np.empty((0, 2))
+            drawn_xy = np.concatenate(xy) if xy else np.empty((0, 2))
             own, _ = ax.get_legend_handles_labels()
             ax.legend(
                 handles=[*own, *handles],
-                loc=quiet_corner(ax, xy[:, 0], xy[:, 1]),
+                loc=quiet_corner(ax, drawn_xy[:, 0], drawn_xy[:, 1]),
                 frameon=False,
                 fontsize=8,
             )
@@ -390,7 +397,7 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
             top = _set_title(ax, result.series.title or "half-wave shift")
             return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
         x = np.log10([f.free_ligand_M for f in pts])
-        y = np.array([(f.E_half_V - ref) * 1e3 for f in pts])
+        y = np.array([(cast(float, f.E_half_V) - ref) * 1e3 for f in pts])  # not None: pts
         yerr = np.array([(f.E_half_total_stderr_V or 0.0) * 1e3 for f in pts])
         used = np.array([f.used_in_fit for f in pts])
         _points_with_bars(

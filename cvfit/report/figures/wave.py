@@ -27,16 +27,21 @@ from cvfit.report.figures.titration import (  # noqa: E402
     _save,
     _set_title,
 )
+from cvfit.techniques.wave.measurement import WaveMeasurement  # noqa: E402
 
 __all__ = ["plot_wave_log"]
 
 
 def plot_wave_log(result: SeriesResult, path: str | Path) -> Path | None:
     """Write the log plot of *result*'s waves to *path*; None when no wave was fitted."""
-    files = [
-        f for f in result.files
-        if getattr(f.measurement, "fit", None) is not None and f.curve is not None
-    ]  # fmt: skip
+    drawn = [
+        (f, m.fit, f.curve)
+        for f in result.files
+        if isinstance(m := f.measurement, WaveMeasurement)
+        and m.fit is not None
+        and f.curve is not None
+    ]
+    files = [f for f, _, _ in drawn]
     if not files:
         return None
     ligands = [f.ligand_M for f in files]
@@ -44,12 +49,11 @@ def plot_wave_log(result: SeriesResult, path: str | Path) -> Path | None:
     cmap = plt.get_cmap(COLOUR_MAP)
     with plt.rc_context(_STYLE):
         fig, ax = plt.subplots(figsize=(6.4, 4.6))
-        for f in files:
-            fit = f.measurement.fit
-            z = fit.fraction(f.curve.potential_V, f.curve.current_A)
+        for f, fit, curve in drawn:
+            z = fit.fraction(curve.potential_V, curve.current_A)
             keep = (z > 0.05) & (z < 0.95)
             x = np.log10((1.0 - z[keep]) / z[keep])
-            E = 1e3 * f.curve.potential_V[keep]
+            E = 1e3 * curve.potential_V[keep]
             colour = cmap(norm(f.ligand_M)) if f.reversible else FLAGGED_COLOUR
             ax.plot(x, E, ".", ms=3, color=colour)
             line = np.array([-1.2, 1.2])

@@ -15,6 +15,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
+from typing import TYPE_CHECKING, cast
 
 import numpy as np
 
@@ -25,7 +26,11 @@ from cvfit.techniques.base import Reread, SeriesStudy, StudyItem
 from cvfit.techniques.cv.curve.stage import curve_fit_for, curve_fit_used, wants_curve_fit
 from cvfit.techniques.cv.measurement import CVMeasurement
 from cvfit.techniques.cv.screen.classification import classify_voltammogram
-from cvfit.techniques.cv.screen.kinetics import diffusion_from_peak_current, estimate_kinetics
+from cvfit.techniques.cv.screen.kinetics import (
+    KineticsResult,
+    diffusion_from_peak_current,
+    estimate_kinetics,
+)
 from cvfit.techniques.cv.screen.midpoint_alpha import midpoint_alpha_error_V
 from cvfit.techniques.cv.screen.rate_constant import delta_Ep_stderr_V
 from cvfit.techniques.cv.screen.scan_rate import (
@@ -34,6 +39,9 @@ from cvfit.techniques.cv.screen.scan_rate import (
     analyse_scan_rate_study,
     scan_rate_groups,
 )
+
+if TYPE_CHECKING:
+    from cvfit.io.manifest import Manifest, SeriesSettings
 
 __all__ = ["study_series"]
 
@@ -72,7 +80,7 @@ def _point(f: _Row, n: int) -> ScanRatePoint:
         excess = n * (p.delta_Ep_V - s.expected_delta_Ep_V)
     return ScanRatePoint(
         f.file,
-        f.scan_rate_V_s,
+        cast(float, f.scan_rate_V_s),  # grouped into a study: the file has a scan rate
         p.forward_height_A,
         p.noise_A,
         excess,
@@ -86,7 +94,7 @@ def _point(f: _Row, n: int) -> ScanRatePoint:
 
 
 def _fail_by_trend(f: _Row, study: ScanRateStudy) -> _Row:
-    slope = study.delta_Ep_slope_V_per_decade
+    slope = cast(Quantity, study.delta_Ep_slope_V_per_decade)  # measured: ΔEp grows
     flag = Flag(
         "DELTA_EP_GROWS_WITH_SCAN_RATE",
         f"in the scan-rate study at ligand_M = {study.ligand_M:g} M, n·(ΔEp − ΔEp_N) grows "
@@ -97,7 +105,7 @@ def _fail_by_trend(f: _Row, study: ScanRateStudy) -> _Row:
     return f.with_flags(flag, screen=screen)
 
 
-def _manifest_D(series: object) -> Quantity | None:
+def _manifest_D(series: SeriesSettings) -> Quantity | None:
     D = getattr(series, "diffusion_cm2_s", None)
     if D is None:
         return None
@@ -146,11 +154,11 @@ def _D_from_reversible_files(
 
 
 def _diagnose(
-    rows: Sequence[_Row], manifest: object
+    rows: Sequence[_Row], manifest: Manifest
 ) -> tuple[list[_Row], tuple[ScanRateStudy, ...], tuple[Flag, ...]]:
     """Scan-rate studies, then the class and the kinetics of every file."""
-    series = manifest.series  # type: ignore[attr-defined]
-    criteria = manifest.reversibility  # type: ignore[attr-defined]
+    series = manifest.series
+    criteria = manifest.reversibility
     n, T = series.electrons, series.temperature_K
     area, conc = series.electrode_area_cm2, series.analyte_M
     out = list(rows)
@@ -180,10 +188,15 @@ def _diagnose(
     D_reversible = _D_from_reversible_files(out, n, T, area, conc)
     for k, f in enumerate(out):
         extra: list[Flag] = []
-        st = study_of.get(k)
+        study = study_of.get(k)
         D, source = D_manifest, "manifest"
-        if D is None and st is not None and st.D_cm2_s is not None and not st.delta_Ep_grows:
-            D, source = st.D_cm2_s, "scan-rate study"
+        if (
+            D is None
+            and study is not None
+            and study.D_cm2_s is not None
+            and not study.delta_Ep_grows
+        ):
+            D, source = study.D_cm2_s, "scan-rate study"
         if D is None and f.reversible is not True and any_D is not None:
             # a slow peak's current gives a low D: the series' study is the better estimate
             D, source = any_D.D_cm2_s, f"scan-rate study at ligand_M = {any_D.ligand_M:g} M"
@@ -230,7 +243,7 @@ def _diagnose(
             D_source=source if D is not None else "",
             alpha=series.alpha,
         )
-        if st is not None and st.excess_cause == "ir-drop" and kin.status == "determined":
+        if study is not None and study.excess_cause == "ir-drop" and kin.status == "determined":
             extra.append(
                 Flag(
                     "K0_DOUBTFUL_IR_DROP",
@@ -244,29 +257,29 @@ def _diagnose(
 
 
 def _fit_after_study(
-    rows: list[_Row], own_verdicts: Sequence[bool | None], manifest: object, reread: Reread
+    rows: list[_Row], own_verdicts: Sequence[bool | None], manifest: Manifest, reread: Reread
 ) -> list[_Row]:
     """The curve fit of each file whose own verdict asked for none but whose verdict after
     the studies does: a file that passed its own screen and failed with its study (ΔEp
     growing with the scan rate), read again (a handful of files: one solution's)."""
-    source = manifest.fit.half_wave_source  # type: ignore[attr-defined]
-    entries = manifest.voltammograms  # type: ignore[attr-defined]
+    source = manifest.fit.half_wave_source
+    entries = manifest.voltammograms
     out = list(rows)
     for k, (f, own) in enumerate(zip(rows, own_verdicts, strict=True)):
         if wants_curve_fit(source, own) or not wants_curve_fit(source, f.reversible):
             continue
-        resistance = resistance_for(entries[k], manifest.series)  # type: ignore[attr-defined]
+        resistance = resistance_for(entries[k], manifest.series)
         fit, flags = curve_fit_for(reread(k), f.peaks, f.screen, manifest, resistance)
         out[k] = f.with_flags(*flags, curve_fit=fit)
     return out
 
 
-def _midpoint_errors(rows: list[_Row], manifest: object) -> list[_Row]:
+def _midpoint_errors(rows: list[_Row], manifest: Manifest) -> list[_Row]:
     """Under ``half_wave_source = "auto"``: for each file that failed the screen, has no
     accepted curve fit and is not irreversible, the extra error its plain midpoint would
     carry for want of α at its ψ (:func:`midpoint_alpha_error_V`), so that it may serve
     as an approximate E½ (:class:`CVMeasurement`)."""
-    if manifest.fit.half_wave_source != "auto":  # type: ignore[attr-defined]
+    if manifest.fit.half_wave_source != "auto":
         return rows
     out = []
     for f in rows:
@@ -288,7 +301,7 @@ def _midpoint_errors(rows: list[_Row], manifest: object) -> list[_Row]:
     return out
 
 
-def _psi_of(kin: object) -> float | None:
+def _psi_of(kin: KineticsResult | None) -> float | None:
     """ψ of a file's kinetics: the determined value, the table's end (ψ = 20) at the
     reversible limit, None when it could not be determined."""
     status = getattr(kin, "status", None)
@@ -300,7 +313,7 @@ def _psi_of(kin: object) -> float | None:
     return None
 
 
-def study_series(items: Sequence[StudyItem], manifest: object, reread: Reread) -> SeriesStudy:
+def study_series(items: Sequence[StudyItem], manifest: Manifest, reread: Reread) -> SeriesStudy:
     """The series-level study of cyclic voltammetry (module docstring).
 
     Parameters

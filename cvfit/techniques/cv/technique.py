@@ -21,6 +21,7 @@ from cvfit.techniques.cv.curve.stage import curve_fit_for
 from cvfit.techniques.cv.internal_standard import measure_standard
 from cvfit.techniques.cv.measurement import CVMeasurement
 from cvfit.techniques.cv.peaks.analysis import PeakAnalysis, analyse_peaks
+from cvfit.techniques.cv.report_sections import report_sections
 from cvfit.techniques.cv.screen.ohmic_drop import correct_for_resistance, ohmic_flags
 from cvfit.techniques.cv.screen.reversibility import screen_reversibility
 from cvfit.techniques.cv.series_study import study_series
@@ -169,6 +170,7 @@ class CyclicVoltammetry:
     study_series = staticmethod(study_series)
     drawn_curve = staticmethod(drawn_curve)
     summary_lines = staticmethod(summary_lines)
+    report_sections = staticmethod(report_sections)
 
 
 #: The technique object the pipeline uses for ``[series] technique = "cv"``.

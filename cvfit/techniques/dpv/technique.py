@@ -13,12 +13,12 @@ Parry, E. P.; Osteryoung, R. A. Anal. Chem. 1965, 37, 1634.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 
 from cvfit.flags import Flag
-from cvfit.techniques.base import FileSettings, FileView
+from cvfit.techniques.base import FileSettings, FileView, no_report_sections
 from cvfit.techniques.dpv.measurement import DPVMeasurement
 from cvfit.techniques.pulse_analysis import analyse_pulse
 from cvfit.techniques.pulse_measurement import PULSE_HIDDEN_KEYS, PULSE_REPORT_COLUMNS
@@ -52,7 +52,11 @@ def analyse(record: Voltammogram, settings: FileSettings) -> DPVMeasurement:
     )
     flags += read_flags
     timing = PulseTiming(
-        "dpv", t.pulse_amplitude_V, t.pulse_width_s, t.period_s, series.quiet_time_s or 0.0
+        "dpv",
+        cast(float, t.pulse_amplitude_V),  # required of a differential-pulse series
+        cast(float, t.pulse_width_s),  # (the manifest refuses a series without them)
+        t.period_s,
+        series.quiet_time_s or 0.0,
     )
     bulk = bulk_form_for(manifest, E)
     nf = 1.0 / thermal_voltage(series.temperature_K, series.electrons)
@@ -97,6 +101,7 @@ class DifferentialPulse:
     study_series = staticmethod(unchanged_study)
     drawn_curve = staticmethod(drawn_sweep)
     summary_lines = staticmethod(summary_lines)
+    report_sections = staticmethod(no_report_sections)
 
 
 #: The technique object for ``[series] technique = "dpv"``.

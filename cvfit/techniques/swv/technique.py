@@ -14,9 +14,9 @@ Osteryoung, J. G.; O'Dea, J. J. Electroanal. Chem. 1986, 14, 209.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import Any, cast
 
-from cvfit.techniques.base import FileSettings, FileView
+from cvfit.techniques.base import FileSettings, FileView, no_report_sections
 from cvfit.techniques.pulse_analysis import analyse_pulse
 from cvfit.techniques.pulse_measurement import PULSE_HIDDEN_KEYS, PULSE_REPORT_COLUMNS
 from cvfit.techniques.pulse_technique import (
@@ -40,14 +40,14 @@ def analyse(record: Voltammogram, settings: FileSettings) -> SWVMeasurement:
     """Measure and screen one square-wave record."""
     manifest, entry = settings.manifest, settings.entry
     t, series = manifest.technique, manifest.series
+    # settings the manifest requires of a square-wave series
+    frequency_Hz, amplitude_V = cast(float, t.frequency_Hz), cast(float, t.amplitude_V)
     E, i, time, cut = first_sweep(record)
-    flags = setting_flags(E, time, step_V=t.step_V, period_s=1.0 / t.frequency_Hz)
+    flags = setting_flags(E, time, step_V=t.step_V, period_s=1.0 / frequency_Hz)
     comps, read_flags = read_components(
         entry, (t.forward_current_column, t.reverse_current_column), cut, E.size
     )
-    timing = PulseTiming(
-        "swv", t.amplitude_V, 0.5 / t.frequency_Hz, None, series.quiet_time_s or 0.0
-    )
+    timing = PulseTiming("swv", amplitude_V, 0.5 / frequency_Hz, None, series.quiet_time_s or 0.0)
     nf = 1.0 / thermal_voltage(series.temperature_K, series.electrons)
     bulk = bulk_form_for(manifest, E)
     screen = analyse_pulse(
@@ -74,6 +74,7 @@ class SquareWave:
     study_series = staticmethod(unchanged_study)
     drawn_curve = staticmethod(drawn_sweep)
     summary_lines = staticmethod(summary_lines)
+    report_sections = staticmethod(no_report_sections)
 
 
 #: The technique object for ``[series] technique = "swv"``.

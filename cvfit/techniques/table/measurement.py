@@ -73,5 +73,11 @@ class TableMeasurement:
     def table_cells(self) -> dict[str, object]:
         return {}
 
+    def figure_marks(
+        self,
+    ) -> tuple[list[tuple[tuple[float, ...], tuple[float, ...]]], list[tuple[float, ...]]]:
+        """Nothing to mark: a table entry has no voltammogram."""
+        return [], []
+
     def summary_cells(self) -> dict[str, str]:
         return {}

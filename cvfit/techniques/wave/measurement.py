@@ -20,7 +20,7 @@ from typing import Any, ClassVar, Literal
 from cvfit.flags import Flag
 from cvfit.formatting import format_value
 from cvfit.quantity import clean_number
-from cvfit.techniques.base import HalfWaveEstimate, StandardMeasurement
+from cvfit.techniques.base import EstimateKind, HalfWaveEstimate, StandardMeasurement
 from cvfit.techniques.wave.fit import WaveFit
 from cvfit.units import thermal_voltage
 
@@ -129,7 +129,7 @@ class WaveMeasurement:
         f = self.fit
         if f is None:
             return HalfWaveEstimate(None, None, "wave_fit", "unusable", why=self.why)
-        kind = "nernstian" if self.reversible_ is True else "unusable"
+        kind: EstimateKind = "nernstian" if self.reversible_ is True else "unusable"
         return HalfWaveEstimate(f.E_half_V, f.E_half_stderr_V, "wave_fit", kind, why=self.why)
 
     def to_dict(self) -> dict[str, Any]:

@@ -24,7 +24,13 @@ import numpy as np
 
 from cvfit.flags import Flag
 from cvfit.io.manifest import Manifest
-from cvfit.techniques.base import FileSettings, FileView, SeriesStudy, StudyItem
+from cvfit.techniques.base import (
+    FileSettings,
+    FileView,
+    SeriesStudy,
+    StudyItem,
+    no_report_sections,
+)
 from cvfit.techniques.pulse_technique import drawn_sweep, first_sweep, screen_summary
 from cvfit.techniques.wave.fit import WaveFit, fit_wave
 from cvfit.techniques.wave.measurement import WaveMeasurement, screen_wave
@@ -131,6 +137,7 @@ class Wave:
     study_series = staticmethod(study_series)
     drawn_curve = staticmethod(drawn_sweep)
     summary_lines = staticmethod(summary_lines)
+    report_sections = staticmethod(no_report_sections)
 
 
 #: The technique object for ``[series] technique = "wave"``.

@@ -334,14 +334,12 @@ def fit_curve(
 
     # start: the best of a coarse Λ scan at the midpoint E½, α = 0.5
     x0 = np.array([E_half_start_V, 0.0, 0.5] + ([0.0] if fit_R else []))
-    best = None
+    scan = []
     for lam in (0.003, 0.03, 0.3, 3.0, 30.0):
         x0[1] = math.log10(lam * sqrt_Ds)
         cost = float(np.sum(residual(x0) ** 2))
-        cost = cost if math.isfinite(cost) else math.inf
-        if best is None or cost < best[0]:
-            best = (cost, x0[1])
-    x0[1] = best[1]
+        scan.append((cost if math.isfinite(cost) else math.inf, x0[1]))
+    x0[1] = min(scan, key=lambda point: point[0])[1]  # the first of equal costs
     if fit_R:
         x0[3] = 0.002 / i_max  # 2 mV of drop at the largest current: off the bound
 

@@ -42,6 +42,8 @@ import math
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from functools import partial
+from typing import cast
 
 import numpy as np
 from scipy.optimize import least_squares
@@ -303,9 +305,10 @@ def fit_global(
     for k in kinetic:
         f = files[k]
         j = len(x0)
-        x0.append(f.log10_k0)
-        lo.append(f.log10_k0 - 3.0)
-        hi.append(f.log10_k0 + 3.0)
+        log10_k0 = cast(float, f.log10_k0)  # a kinetic file has its k0
+        x0.append(log10_k0)
+        lo.append(log10_k0 - 3.0)
+        hi.append(log10_k0 + 3.0)
         if share_alpha:
             slot[k] = (j, i_alpha)
         else:
@@ -447,7 +450,8 @@ def fit_global(
         return Quantity(float(x[k]), float(se[k]), ci, "profile χ²")
 
     constants = {k: q(k, profile(k)) for k in tie.profiled}
-    common = dict(
+    made = partial(
+        GlobalCurveFit,
         E_half_free_V=q(0),
         reduced_chi2=chi2,
         files=tuple(f.name for f in files),
@@ -460,11 +464,10 @@ def fit_global(
         double_layer_F=q(i_C) if share_C else None,
     )
     if tie.model == "lingane":
-        return GlobalCurveFit(delta_ligands=constants[1], log10_beta_ratio=constants[2], **common)
-    return GlobalCurveFit(
+        return made(delta_ligands=constants[1], log10_beta_ratio=constants[2])
+    return made(
         delta_ligands=None,
         log10_beta_ratio=None,
         log10_beta=tuple(constants[k] for k in tie.profiled),
         fitted_state=tie.fitted_state,
-        **common,
     )

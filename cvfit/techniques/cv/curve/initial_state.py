@@ -34,7 +34,7 @@ import numpy as np
 from cvfit.errors import FitError
 from cvfit.flags import Flag
 from cvfit.techniques.cv.curve.fit import CURVE_ORDERS
-from cvfit.techniques.cv.curve.model import CurveData, CurveModel
+from cvfit.techniques.cv.curve.model import CurveData, CurveModel, LinearSolution
 
 __all__ = [
     "DEFAULT_QUIET_TIME_S",
@@ -129,12 +129,12 @@ def detect_bulk_form(
     )
 
 
-def _cost(lin: object) -> float:
+def _cost(lin: LinearSolution) -> float:
     """χ² of one trial; infinite where the faradaic scale comes out negative (the bulk
     form's own current upside down: a free sign would let the wrong form fit)."""
-    if not lin.coefficients[0] > 0:  # type: ignore[attr-defined]
+    if not lin.coefficients[0] > 0:
         return math.inf
-    return float(np.sum(lin.residual**2))  # type: ignore[attr-defined]
+    return float(np.sum(lin.residual**2))
 
 
 def quiet_time_from_record(

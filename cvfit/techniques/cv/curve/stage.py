@@ -16,6 +16,8 @@ Composition only; the mathematics is in :mod:`cvfit.techniques.cv.curve.fit`.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from cvfit.errors import FitError
 from cvfit.flags import Flag
 from cvfit.techniques.cv.curve.fit import CurveFit, fit_curve
@@ -23,6 +25,11 @@ from cvfit.techniques.cv.curve.initial_state import InitialState, initial_state
 from cvfit.techniques.cv.curve.model import CurveData, curve_data
 from cvfit.techniques.cv.screen.classification import classify_voltammogram
 from cvfit.voltammogram import Voltammogram
+
+if TYPE_CHECKING:
+    from cvfit.io.manifest import Manifest, SeriesSettings
+    from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
+    from cvfit.techniques.cv.screen.reversibility import ReversibilityScreen
 
 __all__ = [
     "curve_fit_for",
@@ -52,7 +59,7 @@ def wants_curve_fit(source: str, reversible: bool | None) -> bool:
     return source == "auto" and reversible is not True
 
 
-def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveData:
+def record_curve_data(v: Voltammogram, peaks: PeakAnalysis, series: SeriesSettings) -> CurveData:
     """The samples of *v* a curve fit describes: from the start to the analysed cycle's end,
     with the initial state (``[series] bulk_form`` and ``quiet_time_s``, else detected:
     :mod:`cvfit.techniques.cv.curve.initial_state`).
@@ -62,11 +69,11 @@ def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveDa
     FitError
         No reverse sweep, unequal time steps, no scan rate.
     """
-    cycle = v.cycle(peaks.cycle_number)  # type: ignore[attr-defined]
+    cycle = v.cycle(peaks.cycle_number)
     if cycle.reverse is None:
         raise FitError("the analysed cycle has no reverse sweep")
-    height = abs(peaks.forward_height_A or 0.0)  # type: ignore[attr-defined]
-    sigma = max(peaks.noise_A, MODEL_PRECISION * height)  # type: ignore[attr-defined]
+    height = abs(peaks.forward_height_A or 0.0)
+    sigma = max(peaks.noise_A, MODEL_PRECISION * height)
     data = curve_data(
         v.potential_V,
         v.current_A,
@@ -74,9 +81,9 @@ def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveDa
         scan_rate_V_s=v.scan_rate_V_s,
         start=cycle.forward.start,
         stop=cycle.reverse.stop,
-        electrons=series.electrons,  # type: ignore[attr-defined]
-        temperature_K=series.temperature_K,  # type: ignore[attr-defined]
-        bulk="ox" if peaks.first_sweep == "reduction" else "red",  # type: ignore[attr-defined]
+        electrons=series.electrons,
+        temperature_K=series.temperature_K,
+        bulk="ox" if peaks.first_sweep == "reduction" else "red",
         sigma_A=sigma,
     )
     return initial_state(
@@ -84,8 +91,8 @@ def record_curve_data(v: Voltammogram, peaks: object, series: object) -> CurveDa
         time_s=v.time_s,
         first_stop=_first_cycle_stop(v),
         E_half_V=float(
-            peaks.E_half_V  # type: ignore[attr-defined]
-            if peaks.E_half_V is not None  # type: ignore[attr-defined]
+            peaks.E_half_V
+            if peaks.E_half_V is not None
             else 0.5 * (v.potential_V.min() + v.potential_V.max())
         ),
         D_cm2_s=getattr(series, "diffusion_cm2_s", None) or 1e-5,
@@ -102,9 +109,9 @@ def _first_cycle_stop(v: Voltammogram) -> int:
 
 def curve_fit_for(
     v: Voltammogram,
-    peaks: object,
-    screen: object,
-    manifest: object,
+    peaks: PeakAnalysis,
+    screen: ReversibilityScreen,
+    manifest: Manifest,
     resistance_ohm: float | None,
 ) -> tuple[CurveFit | None, list[Flag]]:
     """The curve fit of one file (None when none is made) and its flags.
@@ -120,11 +127,11 @@ def curve_fit_for(
     resistance_ohm : float or None
         R_u of the file from the manifest (None: fitted).
     """
-    fit_settings = manifest.fit  # type: ignore[attr-defined]
-    series = manifest.series  # type: ignore[attr-defined]
-    if not wants_curve_fit(fit_settings.half_wave_source, screen.reversible):  # type: ignore[attr-defined]
+    fit_settings = manifest.fit
+    series = manifest.series
+    if not wants_curve_fit(fit_settings.half_wave_source, screen.reversible):
         return None, []
-    if manifest.internal_standard is not None:  # type: ignore[attr-defined]
+    if manifest.internal_standard is not None:
         # the model holds one couple; the standard's wave would be fitted as the analyte's
         return None, [
             Flag(
@@ -137,10 +144,10 @@ def curve_fit_for(
     n, T = series.electrons, series.temperature_K
     cls = classify_voltammogram(
         peaks, screen, electrons=n, temperature_K=T, alpha=series.alpha,
-        criteria=manifest.reversibility,  # type: ignore[attr-defined]
+        criteria=manifest.reversibility,
     )  # fmt: skip
-    if peaks.E_half_V is None or cls.kind == "irreversible":  # type: ignore[attr-defined]
-        why = "no usable reverse peak" if peaks.E_half_V is None else cls.reason  # type: ignore[attr-defined]
+    if peaks.E_half_V is None or cls.kind == "irreversible":
+        why = "no usable reverse peak" if peaks.E_half_V is None else cls.reason
         return None, [
             Flag("CURVE_FIT_IRREVERSIBLE", f"no curve fit: irreversible ({why})", "info")
         ]
@@ -148,7 +155,7 @@ def curve_fit_for(
         data = record_curve_data(v, peaks, series)
         fit = fit_curve(
             data,
-            E_half_start_V=float(peaks.E_half_V),  # type: ignore[attr-defined]
+            E_half_start_V=float(peaks.E_half_V),
             D_cm2_s=series.diffusion_cm2_s,
             area_cm2=series.electrode_area_cm2,
             concentration_M=series.analyte_M,

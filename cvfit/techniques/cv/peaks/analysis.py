@@ -81,7 +81,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field, fields
 from functools import partial
-from typing import Literal, NamedTuple
+from typing import Literal, NamedTuple, cast
 
 import numpy as np
 
@@ -327,7 +327,7 @@ def analyse_peaks(
     fw = _forward_peak(voltammogram, cyc, win, out, electrons, temperature_K)
     if fw is None or rev is None:
         return out.finish()
-    rv = _reverse_level(voltammogram, cyc, win, fw, out.sigma, other_kappa)
+    rv = _reverse_level(voltammogram, cyc, rev, win, fw, out.sigma, other_kappa)
     if isinstance(rv, int):
         return out.finish(pflags.reverse_too_short(rv))
     return _reverse_peak(cyc, win, fw, rv, out)
@@ -398,7 +398,7 @@ class _Result:
             noise_A=self.sigma,
             flags=tuple(self.flags),
             baselines=self._baselines(),
-            **self.values,  # type: ignore[arg-type]
+            **self.values,
         )
 
     def _baselines(self) -> PeakBaselines | None:
@@ -475,7 +475,7 @@ def _forward_peak(
     if rev is None:
         out.flags.append(pflags.no_reverse_sweep(cyc.number, out.rev_name))
     # _locate found the forward half-peak potential (it sets the vertex window)
-    half_width = VERTEX_WINDOW_FRACTION * abs(peak.E_V - peak.E_half_peak_V)
+    half_width = VERTEX_WINDOW_FRACTION * abs(peak.E_V - cast(float, peak.E_half_peak_V))  # found
     X_f = base.design(E_f[peak.index], _sub(tail_f, peak.index))
     # sensitivity of the forward vertex to the baseline (a, b): y = s (i - base)
     return _Forward(
@@ -499,6 +499,7 @@ class _Reverse(NamedTuple):
 def _reverse_level(
     voltammogram: Voltammogram,
     cyc: Cycle,
+    rev: Sweep,
     win: _Window,
     fw: _Forward,
     sigma: float,
@@ -507,7 +508,6 @@ def _reverse_level(
     """Zero-faradaic level of the reverse sweep: the forward baseline plus the charging
     step at the switch, less another wave's decay (the sweep's point count when it has
     too few points for a peak)."""
-    rev = cyc.reverse
     s = int(cyc.forward.direction)
     E_lam = cyc.switching_potential_V
     E_r_all, i_r_all = _arrays(rev)
@@ -585,26 +585,29 @@ def _reverse_peak(cyc: Cycle, win: _Window, fw: _Forward, rv: _Reverse, out: _Re
         g_tail = s * float(peak_r.grad_y @ rv.tail_rev[peak_r.index])
         var_half += 0.25 * g_tail**2 * rv.var_tail
     at_rest = cyc.forward.start == 0
-    if at_rest and not win.switch_inside:
+    report_ratio = at_rest  # the ratio, the reverse height and its half-peak potential
+    # the switch lies outside only a window (limits given)
+    if at_rest and not win.switch_inside and win.limits is not None:
         low, high = win.limits
         out.flags.append(
             pflags.ratio_switch_outside_window(cyc.switching_potential_V, low, high, out.rev_name)
         )
-        ratio = i_rev = E_half_peak_r = None
+        report_ratio = False
     if not at_rest:
         # Nicholson's relation was derived for a forward sweep that starts at rest
         out.flags.append(pflags.ratio_not_at_rest(cyc.number, out.rev_name))
-        ratio = i_rev = E_half_peak_r = None
+    nicholson = (ratio, i_rev, E_half_peak_r) if report_ratio else (None, None, None)
+    ratio_out, i_rev_out, E_half_peak_out = nicholson
     if s > 0:
-        out.values.update(Epc_V=peak_r.E_V, ipc_A=i_rev, Ep_half_c_V=E_half_peak_r)
+        out.values.update(Epc_V=peak_r.E_V, ipc_A=i_rev_out, Ep_half_c_V=E_half_peak_out)
         E_ox, E_red = peak_f.E_V, peak_r.E_V
     else:
-        out.values.update(Epa_V=peak_r.E_V, ipa_A=i_rev, Ep_half_a_V=E_half_peak_r)
+        out.values.update(Epa_V=peak_r.E_V, ipa_A=i_rev_out, Ep_half_a_V=E_half_peak_out)
         E_ox, E_red = peak_r.E_V, peak_f.E_V
     out.values.update(
         E_half_V=0.5 * (E_ox + E_red),
         E_half_stderr_V=math.sqrt(max(var_half, 0.0)),
         delta_Ep_V=E_ox - E_red,
-        current_ratio=ratio,
+        current_ratio=ratio_out,
     )
     return out.finish()

@@ -140,9 +140,9 @@ def fit_foot(
     """
     E0 = float(E.mean())
     m = E.size
-    joint = tail is not None and extra is not None
-    p = 3 + (tail is not None) + joint
-    X = np.zeros((m + (extra[0].size if joint else 0), p))
+    joint_extra = extra if tail is not None else None  # the other sweep, fitted jointly
+    p = 3 + (tail is not None) + (joint_extra is not None)
+    X = np.zeros((m + (0 if joint_extra is None else joint_extra[0].size), p))
     y = np.empty(X.shape[0])
     X[:m, 0] = 1.0
     X[:m, 1] = E - E0
@@ -150,9 +150,9 @@ def fit_foot(
     if tail is not None:
         X[:m, 3] = tail
     y[:m] = i
-    if joint:
+    if joint_extra is not None:
         # the other sweep: its own offset (last design column), no foot term
-        E_x, i_x, t_x = extra
+        E_x, i_x, t_x = joint_extra
         X[m:, 1] = E_x - E0
         X[m:, 3] = t_x
         X[m:, 4] = 1.0

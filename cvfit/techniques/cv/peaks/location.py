@@ -83,7 +83,7 @@ def locate_peak(
     vertex = peak_vertex(E, y, k, half_width_V, monotonic=low >= 0.0 or high <= 0.0)
     if vertex is None:
         return None, f"no polynomial with a maximum fits the {which} peak near E = {E[k]:.4f} V"
-    peak = LocatedPeak(vertex.E_V, vertex.height, E_half_peak, vertex.grad_y, vertex.index)
+    peak = LocatedPeak(vertex.E_V, vertex.height, E_half_peak, vertex.grad_y, vertex.indices)
     return peak, ""
 
 
@@ -93,7 +93,7 @@ class Vertex(NamedTuple):
     E_V: float
     height: float
     grad_y: np.ndarray  # ∂E_vertex/∂y for the points in the window
-    index: np.ndarray  # indices of those points in the sweep
+    indices: np.ndarray  # indices of those points in the sweep
 
 
 #: Degree of the polynomial fitted around a peak (see :func:`peak_vertex`).

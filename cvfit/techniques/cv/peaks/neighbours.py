@@ -36,7 +36,7 @@ MIN_POINTS = 8
 class Tail(NamedTuple):
     forward: np.ndarray  # (τ − τ0)^−1/2 on the forward sweep
     reverse: np.ndarray | None  # and on the reverse sweep
-    previous: tuple[np.ndarray, np.ndarray, np.ndarray]  # (E, i, tail) of the sweep before
+    previous: tuple[np.ndarray, np.ndarray, np.ndarray] | None  # (E, i, tail) of the sweep before
 
 
 def inside(E: np.ndarray, low: float, high: float) -> slice:

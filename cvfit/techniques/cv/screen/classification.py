@@ -16,7 +16,9 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import cast
 
+from cvfit.flag_codes import Severity
 from cvfit.flags import Flag
 from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.techniques.cv.peaks.analysis import PeakAnalysis
@@ -149,8 +151,8 @@ def classify_voltammogram(
 
     def done(kind: str, reason: str) -> Classification:
         code = "CLASS_" + kind.upper().replace("-", "_").replace(" ", "_")
-        severity = "info" if kind == "reversible" else "warning"
-        flag = Flag(code, f"{kind}: {reason}", severity)  # type: ignore[arg-type]
+        severity: Severity = "info" if kind == "reversible" else "warning"
+        flag = Flag(code, f"{kind}: {reason}", severity)
         return Classification(
             kind, reason, nd, exp_nd, width, w_rev, w_irr, peaks.current_ratio, flag
         )
@@ -158,7 +160,7 @@ def classify_voltammogram(
     if E_fwd is None:
         return done("not determinable", "no forward peak was found")
     if peaks.delta_Ep_V is None:
-        if wide:
+        if wide and width is not None:  # (a wide peak has a width)
             alpha_n = IRREVERSIBLE_WIDTH_THERMAL * rt_nf * n / width
             return done(
                 "irreversible",
@@ -180,13 +182,13 @@ def classify_voltammogram(
         if peaks.current_ratio is None
         else f"current ratio {peaks.current_ratio:.3f}"
     )
-    numbers = f"n·ΔEp = {_mV(nd)}" + (
+    numbers = f"n·ΔEp = {_mV(n * peaks.delta_Ep_V)}" + (
         "" if exp_nd is None else f" against the Nernstian {_mV(exp_nd)} for this switch"
     )
     if screen.reversible is True:
         return done("reversible", f"{numbers}; {width_txt}; {ratio_txt}")
     if codes & set(_KINETIC_CODES) or (wide and "DELTA_EP_TOO_SMALL" not in codes):
-        E_half = peaks.E_half_V
+        E_half = cast(float, peaks.E_half_V)  # both peaks were found (ΔEp measured)
         dEp = switch_corrected_delta_Ep_V(
             peaks.delta_Ep_V,
             switching_offset_V=peaks.switching_potential_V - E_half,

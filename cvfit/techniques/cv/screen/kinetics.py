@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import cast
 
 from cvfit.chemistry.randles_sevcik import randles_sevcik_peak_current_A
 from cvfit.flags import Flag
@@ -290,7 +291,8 @@ def estimate_kinetics(
         psi = psi_lavagnini(X, temperature_K=temperature_K) if method == "lavagnini" else None
         if psi is None:
             used = "nicholson-table"
-            psi = psi_from_table(X, temperature_K=temperature_K)
+            # n·ΔEp lies inside the table's range here: the table gives a ψ
+            psi = cast(float, psi_from_table(X, temperature_K=temperature_K))
             if method == "lavagnini":
                 flags.append(
                     Flag(
@@ -326,7 +328,7 @@ def estimate_kinetics(
     psi_q = _lognormal(psi, rel, "log-normal from σ(ΔEp)", upper_open=open_top)
     k0 = k0_of(psi)
     k0_q = None
-    if k0 is not None:
+    if k0 is not None and D_cm2_s is not None:  # (k0 is found only with a D)
         rel_k = math.hypot(rel, 0.5 * D_cm2_s.stderr / D_cm2_s.value)
         k0_q = _lognormal(k0, rel_k, "log-normal from σ(ΔEp), σ(D)", upper_open=open_top)
     else:

@@ -243,11 +243,15 @@ def switch_corrected_delta_Ep_V(
     if weight == 0.0:
         return float(delta_Ep_V)
     table_offset = TABLE_SWITCH_PAST_E_HALF_V * scale / electrons
-    kw = {"electrons": electrons, "temperature_K": temperature_K}
-    return delta_Ep_V + weight * (
-        nernstian_delta_Ep_V(switching_offset_V=table_offset, **kw)
-        - nernstian_delta_Ep_V(switching_offset_V=abs(switching_offset_V), **kw)
+    table = nernstian_delta_Ep_V(
+        switching_offset_V=table_offset, electrons=electrons, temperature_K=temperature_K
     )
+    own = nernstian_delta_Ep_V(
+        switching_offset_V=abs(switching_offset_V),
+        electrons=electrons,
+        temperature_K=temperature_K,
+    )
+    return delta_Ep_V + weight * (table - own)
 
 
 def delta_Ep_stderr_V(E_half_stderr_V: float | None) -> float | None:

@@ -358,12 +358,9 @@ def analyse_scan_rate_study(
             an = per_decade / abs(Ep_slope.value)
             rel = Ep_slope.stderr / abs(Ep_slope.value)
             lo, hi = Ep_slope.ci95
-            ci = (
-                sorted(per_decade / max(abs(x), 1e-12) for x in (lo, hi))
-                if lo * hi > 0
-                else (an * (1 - 1.96 * rel), math.inf)
-            )
-            alpha_n = Quantity(an, an * rel, tuple(ci), f"from the Ep slope, {Ep_slope.method}")
+            low, high = sorted(per_decade / max(abs(x), 1e-12) for x in (lo, hi))
+            ci = (low, high) if lo * hi > 0 else (an * (1 - 1.96 * rel), math.inf)
+            alpha_n = Quantity(an, an * rel, ci, f"from the Ep slope, {Ep_slope.method}")
     return ScanRateStudy(
         ligand_M=float(ligand_M),
         files=tuple(p.file for p in pts),
