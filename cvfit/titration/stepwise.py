@@ -345,8 +345,10 @@ def _constants(
     :func:`cvfit.titration.stepwise_least_squares.profile_interval`); verdicts, and upper
     limits of the larger N."""
     N = chosen.N
-    ref = {"reference_variance_V2": reference_variance_V2}
-    intervals = [profile_interval(data, chosen, j, **ref) for j in range(1, N + 1)]
+    ref = reference_variance_V2
+    intervals = [
+        profile_interval(data, chosen, j, reference_variance_V2=ref) for j in range(1, N + 1)
+    ]
     se = [math.sqrt(parts.covariance[j, j]) if parts else math.nan for j in range(1, N + 1)]
     betas = [
         Quantity(
@@ -358,7 +360,9 @@ def _constants(
         for j in range(1, N + 1)
     ]
     larger = [f for f in fits if f.N > N]
-    uppers = [profile_interval(data, f, f.N, sides="upper", **ref)[1] for f in larger]
+    uppers = [
+        profile_interval(data, f, f.N, sides="upper", reference_variance_V2=ref)[1] for f in larger
+    ]
     determined, max_frac, undetermined, flags = verdicts(data, chosen, intervals, larger, uppers)
     return betas, determined, max_frac, undetermined, flags
 
@@ -427,8 +431,10 @@ def _reference_variance(
     """
     data, chosen = s.data, s.chosen
     m = max(int(count), 1)
-    given = own_stderr_V is not None and own_stderr_V > 0
-    own = float(own_stderr_V) if given else (data.reference_sigma_V if a.weighted else 0.0)
+    if own_stderr_V is not None and own_stderr_V > 0:
+        own = float(own_stderr_V)
+    else:
+        own = data.reference_sigma_V if a.weighted else 0.0
     sig = np.concatenate([data.sigma_V, [data.reference_sigma_V]])
     free = [0, *(j + 1 for j, b in enumerate(chosen.at_bound) if not b)]
     design = (data.jacobian(chosen.params) * sig[:, None])[:, free]
