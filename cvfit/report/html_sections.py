@@ -49,6 +49,14 @@ def _digits(total: float | None) -> int:
     return max(0, 1 - int(math.floor(math.log10(total))))
 
 
+def _stepwise_keys(budget: Mapping[str, Any]) -> list[str]:
+    """The budget's log10_beta_j keys in order of j."""
+    return sorted(
+        (k for k in budget if k.removeprefix("log10_beta_").isdigit()),
+        key=lambda k: int(k.rsplit("_")[-1]),
+    )
+
+
 def budget_view(data: Mapping[str, Any]) -> dict[str, Any] | None:
     """The error budget's rows and its note, as text (None without a budget)."""
     fit = data.get("fit") or {}
@@ -56,10 +64,7 @@ def budget_view(data: Mapping[str, Any]) -> dict[str, Any] | None:
     if not budget:
         return None
     rows = []
-    keys = [k for k in BUDGET_ROWS if k in budget] + sorted(
-        (k for k in budget if k.removeprefix("log10_beta_").isdigit()),
-        key=lambda k: int(k.rsplit("_")[-1]),
-    )
+    keys = [k for k in BUDGET_ROWS if k in budget] + _stepwise_keys(budget)
     for key in keys:
         b = budget[key]
         d = _digits(b.get("total"))
@@ -87,7 +92,7 @@ def budget_view(data: Mapping[str, Any]) -> dict[str, Any] | None:
             f"E½(s) from {len(values)} ligand-free files, spread (SD) "
             f"{1e3 * ref['spread_V']:.2f} mV, range {1e3 * (max(values) - min(values)):.2f} mV"
         )
-    second = _second_reference_note(budget.get("log10_beta_ratio"), len(values))
+    second = _second_reference_note(budget, len(values))
     if second:
         notes.append(second)
     return {"rows": rows, "note": "; ".join(notes)}
@@ -99,20 +104,33 @@ def error_budget_section(data: Mapping[str, Any]) -> str:
     return "" if view is None else render_template("budget.html.j2", budget=view)
 
 
-def _second_reference_note(ratio: Mapping[str, Any] | None, n_files: int) -> str:
-    """With one ligand-free file: what a second would protect and how much it would narrow."""
-    if n_files != 1 or not ratio:
+def _second_reference_note(budget: Mapping[str, Any], n_files: int) -> str:
+    """With one ligand-free file: what a second would protect and how much it would narrow.
+
+    Every constant whose budget has a reference part is named: log10(β_ox/β_red) of the
+    Lingane line, or each log10 β_j of the stepwise fit.
+    """
+    if n_files != 1:
         return ""
-    ref, total = ratio.get("reference"), ratio.get("total")
-    if not (isinstance(ref, int | float) and isinstance(total, int | float) and ref > 0):
+    ratio = "log10_beta_ratio"
+    keys = [ratio] if ratio in budget else _stepwise_keys(budget)
+    said = []
+    for key in keys:
+        row = budget.get(key) or {}
+        ref, total = row.get("reference"), row.get("total")
+        if not (isinstance(ref, int | float) and isinstance(total, int | float) and ref > 0):
+            continue
+        # E½(s) is one more solution: two ligand-free files halve its variance
+        after = math.sqrt(max(total**2 - ref**2 / 2.0, 0.0))
+        label = BUDGET_ROWS.get(key) or f"log10 β{key.rsplit('_')[-1]}"
+        said.append(f"{label} from {total:.3g} to about {after:.3g}")
+    if not said:
         return ""
-    # E½(s) is one more solution: two ligand-free files halve its variance
-    after = math.sqrt(max(total**2 - ref**2 / 2.0, 0.0))
     return (
         "E½(s) comes from one ligand-free solution, counted as one more solution (its own "
         "error plus the scatter between solutions); a second one, before and after the "
         "titration, would show an offset of either as their difference and narrow the "
-        f"standard error of log10(β_ox/β_red) from {total:.3g} to about {after:.3g}"
+        f"standard error of {', '.join(said)}"
     )
 
 

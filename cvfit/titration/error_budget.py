@@ -147,6 +147,8 @@ def extra_scatter_variance(
     weights: NDArray[np.float64],
     residuals: NDArray[np.float64],
     sigma: NDArray[np.float64],
+    *,
+    share: NDArray[np.float64] | None = None,
 ) -> float:
     """Moment estimate of the solution-to-solution variance s² (module docstring), V².
 
@@ -160,13 +162,19 @@ def extra_scatter_variance(
         Observed minus fitted.
     sigma : ndarray, shape (N,)
         Per-point standard errors from the files.
+    share : ndarray, shape (N,), optional
+        How much of s² each observation carries (default 1 each): a mean of M solutions,
+        such as the reference E½(s) of M ligand-free files, carries s²/M. With
+        ``var(rᵢ) = σᵢ² + shareᵢ·s²`` the estimate is
+        ``(rᵀr − tr(M diag(σ²) Mᵀ)) / tr(M diag(share) Mᵀ)``.
     """
     design = np.asarray(design, dtype=float)
     a = _estimator(design, np.asarray(weights, dtype=float))
     m = np.eye(design.shape[0]) - design @ a
     noise = float(np.sum((m * np.asarray(sigma, dtype=float) ** 2) * m))
     extra = float(np.sum(np.asarray(residuals, dtype=float) ** 2)) - noise
-    return max(extra / float(np.sum(m * m)), 0.0)
+    d = np.ones(design.shape[0]) if share is None else np.asarray(share, dtype=float)
+    return max(extra / float(np.sum((m * d) * m)), 0.0)
 
 
 def reference_mean(
@@ -242,28 +250,37 @@ def reference_solution_variance(
 
 
 def linearised_budgets(
-    jacobian: NDArray[np.float64], n_points: int, scale: float, weighted: bool, unit: str
+    jacobian: NDArray[np.float64],
+    n_points: int,
+    scale: float,
+    weighted: bool,
+    unit: str,
+    *,
+    reference_scale: float | None = None,
 ) -> list[ErrorBudget]:
     """Budgets of the parameters of a weighted non-linear fit, from its Jacobian.
 
     *jacobian* is that of the weighted residuals (rows: the *n_points* titration points,
-    then the reference observation; columns: parameters), so ``C = (JᵀJ)⁻¹`` and the fitted
-    covariance is ``scale·C``, ``scale`` = RSS/ν. Linearised, parameter k is ``Σ A_ki y_i``
-    with ``A = C Jᵀ`` and each weighted observation of unit variance: the points give the
-    within-file part ``Σ_points A_ki²`` and the reference row ``A_k,ref²``. The scale
-    factor's excess over 1 is the between-solutions part of the points' share; the
-    reference part takes the same factor (it came from the same peak analysis). Unweighted
-    (``weighted`` false) all of the points' share is counted as between solutions.
-    Returned for every parameter, in *unit*; the totals are ``√(scale·C_kk)``.
+    then the reference observation; columns: parameters), so ``C = (JᵀJ)⁻¹``.
+    Linearised, parameter k is ``Σ A_ki y_i`` with ``A = C Jᵀ`` and each weighted
+    observation of unit variance: the points give the within-file part ``Σ_points A_ki²``
+    and the reference row ``A_k,ref²``. The points' share is multiplied by ``scale`` =
+    RSS/ν, whose excess over 1 is the between-solutions part (unweighted, ``weighted``
+    false, all of it is counted as between solutions). The reference row's share is
+    multiplied by *reference_scale*: ``var(E½(s))/σ_row²`` with σ_row the error its row
+    was weighted by — E½(s) as one more solution (:func:`reference_solution_variance`),
+    never scaled with the points; ``None`` gives it ``scale`` as well. Returned for every
+    parameter, in *unit*; the totals are ``√(scale·P_kk + reference_scale·R_kk)``.
     """
     J = np.asarray(jacobian, dtype=float)
     C = np.linalg.inv(J.T @ J)
     A = C @ J.T
     points = np.sum(A[:, :n_points] ** 2, axis=1)
     ref = np.sum(A[:, n_points:] ** 2, axis=1)
+    ref_scale = scale if reference_scale is None else float(reference_scale)
     out = []
     for k in range(J.shape[1]):
         fit_var = scale * points[k]
         within = points[k] if weighted else None
-        out.append(budget_of(unit, fit_var, within, scale * ref[k]))
+        out.append(budget_of(unit, fit_var, within, ref_scale * ref[k]))
     return out

@@ -52,14 +52,24 @@ from cvfit.chemistry.speciation import (
 from cvfit.flags import FitRefused, Flag
 from cvfit.quantity import Quantity
 from cvfit.titration import stepwise_flags as sf
-from cvfit.titration.error_budget import extra_scatter_variance, linearised_budgets
+from cvfit.titration.error_budget import (
+    extra_scatter_variance,
+    linearised_budgets,
+    reference_solution_variance,
+)
 from cvfit.titration.stepwise_inputs import (
     Observations,
     SolutionConditions,
     StepwisePoint,
     observations,
 )
-from cvfit.titration.stepwise_least_squares import CandidateFit, StepwiseData, profile_interval
+from cvfit.titration.stepwise_least_squares import (
+    CandidateFit,
+    StepwiseData,
+    VarianceParts,
+    profile_interval,
+    variance_parts,
+)
 from cvfit.titration.stepwise_model_choice import (
     ALPHA,
     choose_candidate,
@@ -99,6 +109,7 @@ def fit_stepwise(
     fixed_log10_beta_red: Sequence[float] | None = None,
     conditions: SolutionConditions | None = None,
     alpha: float = ALPHA,
+    reference_count: int = 1,
 ) -> StepwiseFit | FitRefused:
     """Fit stepwise overall constants to a titration (see the module docstring).
 
@@ -110,7 +121,11 @@ def fit_stepwise(
     electrons, temperature_K
         n of the couple and the temperature, K.
     reference_E_half_V, reference_stderr_V
-        E½(s) of the ligand-free couple and its standard error, V.
+        E½(s) of the ligand-free couple and its standard error, V (its own: the noise of
+        its file(s) and their spread). E½(s) is one more solution: its variance is this
+        error, never scaled with the points, plus the between-solution variance the points
+        show over *reference_count* (:func:`_reference_variance`); it enters every
+        constant's standard error and interval as a known part.
     max_complexes : int
         Highest N tried.
     fixed_log10_beta_ox, fixed_log10_beta_red : sequence of float, optional
@@ -121,6 +136,8 @@ def fit_stepwise(
         Metal concentration, protonation, ionic strength.
     alpha : float
         Level of the F-test that admits one more complex.
+    reference_count : int
+        Number M of ligand-free files averaged into E½(s).
 
     Returns
     -------
@@ -157,14 +174,18 @@ def fit_stepwise(
     if not a.weighted:
         flags.append(sf.unweighted())
     chosen, data = s.chosen, s.data
-    betas, determined, max_frac, undetermined, more = _constants(data, chosen, s.candidates)
+    ref_var, between = _reference_variance(s, a, reference_stderr_V, reference_count)
+    parts = variance_parts(data, chosen, ref_var)
+    betas, determined, max_frac, undetermined, more = _constants(
+        data, chosen, s.candidates, ref_var, parts
+    )
     flags.extend(more)
     thermo, more = _thermodynamic(betas, cond, temperature_K, electrons, state)
     flags.extend(more)
-    cov = chosen.covariance
-    E0_se = math.sqrt(cov[0, 0]) if cov is not None else math.nan
+    cov = None if parts is None else parts.covariance
     ln_F0_obs = model.sign * (chosen.params[0] - s.y) / model.thermal_V + data.ln_F0_other
-    budget, extra = _budget(data, chosen, s.y, a)
+    budget = _budget(data, chosen, a, ref_var)
+    extra = math.sqrt(between) if a.weighted else None
     return StepwiseFit(
         error_budget=budget,
         extra_scatter_V=extra,
@@ -175,7 +196,7 @@ def fit_stepwise(
         determined=tuple(determined),
         max_fraction=tuple(max_frac),
         covariance=None if cov is None else tuple(tuple(float(x) for x in r) for r in cov[1:, 1:]),
-        E_half_free=Quantity.from_t(float(chosen.params[0]), E0_se, chosen.dof),
+        E_half_free=_free_half_wave(chosen, parts),
         candidates=tuple(summarise(data, s.candidates)),
         alpha=alpha,
         undetermined=tuple(undetermined),
@@ -313,22 +334,46 @@ def _ligand_flags(
     return flags
 
 
-def _constants(data: StepwiseData, chosen: CandidateFit, fits: list[CandidateFit]):
-    """log10 β_j with profile intervals; verdicts, and upper limits of the larger N."""
+def _constants(
+    data: StepwiseData,
+    chosen: CandidateFit,
+    fits: list[CandidateFit],
+    reference_variance_V2: float,
+    parts: VarianceParts | None,
+):
+    """log10 β_j with profile intervals (E½(s) a known part, see
+    :func:`cvfit.titration.stepwise_least_squares.profile_interval`); verdicts, and upper
+    limits of the larger N."""
     N = chosen.N
-    intervals = [profile_interval(data, chosen, j) for j in range(1, N + 1)]
-    cov = chosen.covariance
-    se = [math.sqrt(cov[j, j]) if cov is not None else math.nan for j in range(1, N + 1)]
+    ref = reference_variance_V2
+    intervals = [
+        profile_interval(data, chosen, j, reference_variance_V2=ref) for j in range(1, N + 1)
+    ]
+    se = [math.sqrt(parts.covariance[j, j]) if parts else math.nan for j in range(1, N + 1)]
     betas = [
         Quantity(
-            float(chosen.params[j]), se[j - 1], intervals[j - 1], "profile likelihood, F(1, ν)"
+            float(chosen.params[j]),
+            se[j - 1],
+            intervals[j - 1],
+            "profile likelihood, F(1, ν), reference E½(s) known (normal) in quadrature",
         )
         for j in range(1, N + 1)
     ]
     larger = [f for f in fits if f.N > N]
-    uppers = [profile_interval(data, f, f.N, sides="upper")[1] for f in larger]
+    uppers = [
+        profile_interval(data, f, f.N, sides="upper", reference_variance_V2=ref)[1] for f in larger
+    ]
     determined, max_frac, undetermined, flags = verdicts(data, chosen, intervals, larger, uppers)
     return betas, determined, max_frac, undetermined, flags
+
+
+def _free_half_wave(chosen: CandidateFit, parts: VarianceParts | None) -> Quantity:
+    """E½(s) as fitted: the points' part on ν dof and the reference's known part."""
+    value = float(chosen.params[0])
+    if parts is None:
+        return Quantity.from_t(value, math.nan, chosen.dof)
+    q, _ = Quantity.combined(value, parts.points[0], chosen.dof, parts.reference[0])
+    return q
 
 
 def _conditional(
@@ -372,19 +417,52 @@ def _thermodynamic(
     return tuple(b.shifted(tv - b.value) for b, tv in zip(betas, t, strict=True)), []
 
 
-def _budget(data: StepwiseData, chosen: CandidateFit, y: np.ndarray, a: Observations):
-    """Linearised error budget per log10 β_j and the between-solution scatter, V."""
+def _reference_variance(
+    s: _Solved, a: Observations, own_stderr_V: float | None, count: int
+) -> tuple[float, float]:
+    """Variance of E½(s) as one more solution, ``σ_s² + s²/M``, and s², V².
+
+    s² is the moment estimate of the between-solution variance from the residuals of the
+    chosen fit, the reference observation included as a mean of M solutions
+    (:func:`cvfit.titration.error_budget.extra_scatter_variance`), linearised at the
+    optimum with the constants on their bounds left out. σ_s is the reference's own
+    standard error; not given, a typical point's (the median σᵢ), or none when the points
+    have no errors either (then all their scatter is between solutions).
+    """
+    data, chosen = s.data, s.chosen
+    m = max(int(count), 1)
+    if own_stderr_V is not None and own_stderr_V > 0:
+        own = float(own_stderr_V)
+    else:
+        own = data.reference_sigma_V if a.weighted else 0.0
+    sig = np.concatenate([data.sigma_V, [data.reference_sigma_V]])
+    free = [0, *(j + 1 for j, b in enumerate(chosen.at_bound) if not b)]
+    design = (data.jacobian(chosen.params) * sig[:, None])[:, free]
+    resid = np.concatenate(
+        [s.y - data.model(chosen.params), [data.reference_V - chosen.params[0]]]
+    )
+    noise = np.concatenate([data.sigma_V if a.weighted else np.zeros_like(s.y), [own]])
+    share = np.concatenate([np.ones_like(s.y), [1.0 / m]])
+    try:
+        between = extra_scatter_variance(design, 1 / sig**2, resid, noise, share=share)
+    except np.linalg.LinAlgError:
+        between = 0.0
+    return reference_solution_variance(own, between, m), between
+
+
+def _budget(data: StepwiseData, chosen: CandidateFit, a: Observations, ref_var: float):
+    """Linearised error budget per log10 β_j, E½(s) one more solution of variance
+    *ref_var*."""
     if chosen.covariance is None:
-        return None, None
+        return None
     J = data.jacobian(chosen.params)
     n = a.E_half_V.size
-    budget = tuple(linearised_budgets(J, n, chosen.scale, a.weighted, "log10 units")[1:])
-    if not a.weighted:
-        return budget, None
-    sig_all = np.concatenate([a.sigma_V, [a.reference_sigma_V]])
-    resid = np.concatenate([y - data.model(chosen.params), [data.reference_V - chosen.params[0]]])
-    extra = math.sqrt(extra_scatter_variance(J * sig_all[:, None], 1 / sig_all**2, resid, sig_all))
-    return budget, extra
+    ref_scale = ref_var / data.reference_sigma_V**2
+    return tuple(
+        linearised_budgets(
+            J, n, chosen.scale, a.weighted, "log10 units", reference_scale=ref_scale
+        )[1:]
+    )
 
 
 def _diffusion_term(

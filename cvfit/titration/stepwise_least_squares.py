@@ -13,6 +13,12 @@ into its bound instead of going negative. Intervals come from the profile of the
 weighted residual sum of squares with the scale estimated from the residuals (an
 F(1, ν) threshold), which gives the asymmetric intervals these correlated constants have.
 
+E½(s) is one more solution: its variance is its own error plus the between-solution
+variance, known rather than scaled with the points (:func:`variance_parts`). Each
+parameter's variance is then the points' part, estimated on ν degrees of freedom, plus the
+reference's, known; the profile threshold of each parameter adds the two expanded parts in
+quadrature, as the Lingane fit's intercept does (:func:`cvfit.quantity.combined_interval`).
+
 References
 ----------
 DeFord, D. D.; Hume, D. N. J. Am. Chem. Soc. 1951, 73, 5321.
@@ -34,10 +40,17 @@ from scipy import optimize
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import species_fractions
 from cvfit.likelihood import profile_side
-from cvfit.quantity import f_quantile
+from cvfit.quantity import chi2_quantile, f_quantile
 from cvfit.titration import stepwise_parameters as lm
 
-__all__ = ["StepwiseData", "CandidateFit", "fit_candidate", "profile_interval"]
+__all__ = [
+    "StepwiseData",
+    "CandidateFit",
+    "VarianceParts",
+    "fit_candidate",
+    "variance_parts",
+    "profile_interval",
+]
 
 LN10 = math.log(10.0)
 #: β_j [L]^j at the largest / smallest measured [L] that bound log10 β_j.
@@ -187,6 +200,69 @@ def fit_candidate(data: StepwiseData, N: int, previous: np.ndarray | None = None
     return CandidateFit(N, p, rss, dof, cov, at_bound, params)
 
 
+@dataclass(frozen=True)
+class VarianceParts:
+    """Each parameter's variance split by source, linearised at the optimum.
+
+    With ``C = (JᵀJ)⁻¹`` and ``A = C Jᵀ`` (weighted rows: the points, then the reference),
+    ``points = scale·Σ_points A_ki²`` (estimated from the residuals, ν dof),
+    ``reference = (var(E½(s))/σ_ref²)·A_k,ref²`` (known) and ``unscaled = C_kk``, the
+    curvature of the profile: its rise is about ``(v − v̂)²/C_kk``.
+    """
+
+    points: np.ndarray
+    reference: np.ndarray
+    unscaled: np.ndarray
+    covariance: np.ndarray  # the sum of both parts' covariances
+
+
+def variance_parts(
+    data: StepwiseData, fit: CandidateFit, reference_variance_V2: float
+) -> VarianceParts | None:
+    """:class:`VarianceParts` of *fit* with E½(s) of variance *reference_variance_V2*.
+
+    ``None`` where the fit has no covariance (a constant on its bound, no dof, singular).
+    """
+    if fit.covariance is None:
+        return None
+    J = data.jacobian(fit.params)
+    C = np.linalg.inv(J.T @ J)
+    A = C @ J.T
+    a_pts, a_ref = A[:, :-1], A[:, -1]
+    ref_scale = float(reference_variance_V2) / data.reference_sigma_V**2
+    cov = fit.scale * (a_pts @ a_pts.T) + ref_scale * np.outer(a_ref, a_ref)
+    return VarianceParts(
+        fit.scale * np.sum(a_pts**2, axis=1), ref_scale * a_ref**2, np.diag(C).copy(), cov
+    )
+
+
+def _threshold(
+    data: StepwiseData,
+    fit: CandidateFit,
+    index: int,
+    level: float,
+    reference_variance_V2: float | None,
+) -> float:
+    """The profile's rise that ends the interval of parameter *index*.
+
+    Without a reference variance: ``s²·F(1, ν)``, s² = RSS/ν. With it: the points' part
+    at F(1, ν) = t² and the known reference part at χ²(1) = z², ``(t²·V_points +
+    z²·V_ref)/C_kk``: in the linear limit the half-width is ``√(t²V_points + z²V_ref)``.
+    Without a covariance, the larger of the two scales for the whole (conservative).
+    """
+    s2 = fit.rss / fit.dof
+    if s2 <= 0:
+        s2 = 1e-30
+    t2 = float(f_quantile(level, 1, fit.dof))
+    if reference_variance_V2 is None:
+        return t2 * s2
+    parts = variance_parts(data, fit, reference_variance_V2)
+    if parts is None:
+        return t2 * max(s2, reference_variance_V2 / data.reference_sigma_V**2)
+    known = float(chi2_quantile(level, 1)) * parts.reference[index]
+    return (t2 * parts.points[index] + known) / parts.unscaled[index]
+
+
 def profile_interval(
     data: StepwiseData,
     fit: CandidateFit,
@@ -194,25 +270,26 @@ def profile_interval(
     *,
     level: float = 0.95,
     sides: str = "both",
+    reference_variance_V2: float | None = None,
 ) -> tuple[float, float]:
     """Profile-likelihood interval of parameter ``index`` (1 … N for log10 β_j).
 
     The set of values whose profiled residual sum of squares exceeds the minimum by at
-    most ``s²·F(1, ν; level)``, s² = RSS/ν. A side that reaches the parameter's bound
-    without crossing the threshold is open and returned as NaN; ``sides="upper"`` skips
-    the lower limit (returned as NaN).
+    most a threshold: ``s²·F(1, ν; level)``, s² = RSS/ν; or, with
+    *reference_variance_V2* (the variance of E½(s) as one more solution), the points'
+    and the reference's expanded parts in quadrature (:func:`_threshold`). A side that
+    reaches the parameter's bound without crossing the threshold is open and returned as
+    NaN; ``sides="upper"`` skips the lower limit (returned as NaN).
 
     References
     ----------
     Venzon, D. J.; Moolgavkar, S. H. Appl. Stat. 1988, 37, 87.
+    JCGM 100:2008 (GUM), annex G (expanded uncertainties in quadrature).
     """
     if fit.dof < 1:
         return (math.nan, math.nan)
     lo, hi = data.bounds(fit.N)
-    s2 = fit.rss / fit.dof
-    if s2 <= 0:
-        s2 = 1e-30
-    crit = f_quantile(level, 1, fit.dof) * s2
+    crit = _threshold(data, fit, index, level, reference_variance_V2)
     v0 = float(fit.params[index])
     se = math.sqrt(fit.covariance[index, index]) if fit.covariance is not None else 0.5
     step0 = min(max(se, 0.02), 2.0)

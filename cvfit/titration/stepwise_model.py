@@ -201,6 +201,7 @@ class StepwiseModel:
             temperature_K=series.temperature_K,
             reference_E_half_V=data.reference.E_half_V,
             reference_stderr_V=data.reference.stderr_V,
+            reference_count=data.reference.count,
             max_complexes=settings.max_complexes,
             fixed_log10_beta_ox=settings.fixed_log10_beta_ox,
             fixed_log10_beta_red=settings.fixed_log10_beta_red,
