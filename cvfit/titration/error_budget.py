@@ -131,7 +131,7 @@ def budget_of(
 def _estimator(design: NDArray[np.float64], weights: NDArray[np.float64]) -> NDArray[np.float64]:
     """``A`` of the weighted least-squares estimator ``θ̂ = A y`` (rows: parameters)."""
     xtw = design.T * weights
-    return np.linalg.solve(xtw @ design, xtw)
+    return np.asarray(np.linalg.solve(xtw @ design, xtw), dtype=np.float64)
 
 
 def within_file_variance(

@@ -268,6 +268,8 @@ def _solve(
     y = a.E_half_V - k * a.ln_current_ratio
     L = a.alpha_L * a.ligand_total_M
     if cond.bound_ligand_number is not None:
+        if MT is None:  # the manifest asks for both (bound_ligand_number needs metal_total_M)
+            raise ValueError("bound_ligand_number needs metal_total_M")
         L = a.alpha_L * (a.ligand_total_M - cond.bound_ligand_number * MT)
         if np.any(L <= 0):
             raise ValueError("bound_ligand_number × metal_total_M exceeds the total ligand")
@@ -286,7 +288,7 @@ def _solve(
         fitted = tuple(chosen.params[1:])
         ox_b, red_b = (fitted, model.fixed) if state == "ox" else (model.fixed, fitted)
         change = 0.0
-        if self_consistent:
+        if self_consistent and MT is not None:  # (self_consistent says MT is given)
             new = np.array(
                 [
                     free_ligand_M(lt, MT, red_b if r else ox_b, alpha_L=al)
@@ -383,7 +385,8 @@ def _conditional(
     if not cond.ligand_pKa:
         return ()
     out = []
-    for pH in sorted({p.pH if p.pH is not None else cond.pH for p in pts}):
+    pHs = {p.pH if p.pH is not None else cond.pH for p in pts}
+    for pH in sorted(v for v in pHs if v is not None):  # alpha_L refused a point without pH
         la = float(np.log10(ligand_fraction_unprotonated(pH, cond.ligand_pKa)))
         out.append(
             ConditionalConstants(

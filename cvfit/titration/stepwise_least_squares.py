@@ -138,10 +138,17 @@ def _solve(data: StepwiseData, p0: np.ndarray, lo: np.ndarray, hi: np.ndarray, f
 
     x0 = np.clip(full[free], lo[free] + 1e-9, hi[free] - 1e-9)
     x0 = np.where(np.isfinite(x0), x0, full[free])
+
+    def residuals(q: np.ndarray) -> np.ndarray:
+        return data.residuals(expand(q))
+
+    def jacobian(q: np.ndarray) -> np.ndarray:
+        return data.jacobian(expand(q))[:, free]
+
     sol = optimize.least_squares(
-        lambda q: data.residuals(expand(q)),
+        residuals,
         x0,
-        jac=lambda q: data.jacobian(expand(q))[:, free],
+        jac=jacobian,
         bounds=(lo[free], hi[free]),
         method="trf",
         x_scale="jac",
@@ -180,13 +187,14 @@ def _starts(data: StepwiseData, N: int, previous: np.ndarray | None) -> list[np.
 def fit_candidate(data: StepwiseData, N: int, previous: np.ndarray | None = None) -> CandidateFit:
     """Best fit with N complexes by lmfit (several starts; the lowest residual sum wins)."""
     lo, hi = data.bounds(N)
-    best = None
+    best: tuple[np.ndarray, float, Any] | None = None
     for p0 in _starts(data, N, previous):
         result = lm.minimise(data, lm.parameters(data, p0, lo, hi))
         p = lm.values(result.params, data, N)
         rss = float(np.sum(data.residuals(p) ** 2))
         if best is None or rss < best[1] - 1e-12:
             best = (p, rss, result.params)
+    assert best is not None  # _starts gives at least one start
     p, rss, params = best
     dof = data.n_obs - (N + 1)
     tol = 1e-4 * (hi[1:] - lo[1:])

@@ -34,8 +34,11 @@ if TYPE_CHECKING:  # pragma: no cover
 class StepwiseData(Protocol):
     """What is needed of :class:`cvfit.titration.stepwise_least_squares.StepwiseData`."""
 
-    sign: float
-    fixed_log10_beta: tuple[float, ...]
+    @property
+    def sign(self) -> float: ...
+
+    @property
+    def fixed_log10_beta(self) -> tuple[float, ...]: ...
 
     def residuals(self, p: np.ndarray) -> np.ndarray: ...
 

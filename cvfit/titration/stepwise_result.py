@@ -277,9 +277,9 @@ def verdicts(
                     f"[L] = {fraction_peak_ligand_M(vals, j):.2g} M)",
                 )
             )
-    for fit_j, up in zip(larger, uppers, strict=True):
+    for fit_j, raw_upper in zip(larger, uppers, strict=True):
         j = fit_j.N
-        up = clean_number(up)
+        up = clean_number(raw_upper)
         target = None
         if up is not None:  # at its upper limit: the least ligand that could do
             target = ligand_for_fraction_M([*vals, *[up] * (j - N)], j, DETERMINING_FRACTION)
