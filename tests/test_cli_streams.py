@@ -132,19 +132,28 @@ def long_series(tmp_path_factory) -> Path:
 @pytest.mark.slow  # a 60-file series simulated, then three pooled runs: some 15-30 s
 @pytest.mark.skipif(not Path("/proc/self/task").is_dir(), reason="needs /proc to see workers")
 def test_ctrl_c_to_a_pooled_run_is_one_line_exit_130_and_no_staging(long_series, tmp_path):
-    for k in range(3):
+    interrupted = 0
+    for k in range(8):  # until two runs were interrupted in their work
         out = tmp_path / f"out{k}"
         p = _start(["run", str(long_series), "--out", str(out), "--jobs", "2", "--quiet"],
                    tmp_path, start_new_session=True)  # fmt: skip
         deadline = time.monotonic() + 60
         while len(_children(p.pid)) < 2 and p.poll() is None and time.monotonic() < deadline:
             time.sleep(0.02)
-        time.sleep(0.1 * k)  # the workers at different points of their files
+        time.sleep(0.1 * (k % 3))  # the workers at different points of their files
         assert p.poll() is None, "the run ended before Ctrl-C"
         os.killpg(p.pid, signal.SIGINT)  # a terminal sends it to every process of the command
         _, err = p.communicate(timeout=TIMEOUT_S)
+        time.sleep(0.5)  # the workers end within their parent poll (0.2 s)
+        staging = sorted(q.name for q in tmp_path.iterdir() if q.name.startswith("."))
+        assert staging == []
+        if p.returncode == 0:  # the work was done when the signal came (a loaded machine):
+            assert (out / "results.json").is_file() and err == b""  # complete, and quiet
+            continue
         assert p.returncode == 130, err
         assert err.decode() == "cvfit: interrupted\n"
-        time.sleep(0.5)  # the workers end within their parent poll (0.2 s)
-        assert sorted(q.name for q in tmp_path.iterdir() if q.name.startswith(".")) == []
         assert not out.exists()
+        interrupted += 1
+        if interrupted == 2:
+            break
+    assert interrupted >= 1
