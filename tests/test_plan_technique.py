@@ -13,7 +13,7 @@ from cvfit.cli import main
 from cvfit.errors import InputError
 from cvfit.plan.inputs import plan_from_mapping
 from cvfit.plan.simulate_plan import noise_fraction_for
-from cvfit.simulate.program_series import PROGRAM_DEFAULTS, _one
+from cvfit.simulate.program_series import PROGRAM_DEFAULTS, simulate_technique_record
 
 PLAN = """\
 [series]
@@ -57,7 +57,7 @@ def test_the_noise_of_a_technique_gives_the_planned_E_half_error(technique):
     from pulse_helpers import measure
 
     prog = dict(PROGRAM_DEFAULTS[technique])
-    clean = _one(technique, 0.0, (0.3, -0.3), prog, {"electrons": 1}, None)
+    clean = simulate_technique_record(technique, 0.0, (0.3, -0.3), prog, {"electrons": 1}, None)
     clean = getattr(clean, "record", clean)
     frac = noise_fraction_for(3e-4, 1, technique)
     settings = {} if technique == "wave" else prog

@@ -272,7 +272,11 @@ def _points(technique: str, window: tuple[float, float], step: float, max_sample
 
 
 def _write_one(technique, E_half, window, program, couple, noise, seed, out) -> int:
-    from cvfit.simulate.program_series import COMPONENT_NAMES, _one, write_record_csv
+    from cvfit.simulate.program_series import (
+        COMPONENT_NAMES,
+        simulate_technique_record,
+        write_record_csv,
+    )
     from cvfit.simulate.programs import PulseSimulation
 
     if technique == "dpv":  # signed: the pulse goes in the scan's direction
@@ -281,7 +285,9 @@ def _write_one(technique, E_half, window, program, couple, noise, seed, out) -> 
         )
     try:
         extra = {"noise_fraction": noise, "seed": seed, "source": str(out)}
-        rec = _one(technique, E_half, window, program, {**couple, **extra}, None)
+        rec = simulate_technique_record(
+            technique, E_half, window, program, {**couple, **extra}, None
+        )
     except SimulationError as exc:
         raise InputError(str(exc), source=_CMD) from None
     try:
