@@ -21,6 +21,7 @@ import sys
 from pathlib import Path
 
 from cvfit.cli.simulate_technique import (
+    TECHNIQUE_BOUNDS,
     TECHNIQUE_EPILOG,
     add_technique_options,
     handle_technique,
@@ -74,6 +75,7 @@ BOUNDS = {
     "--log-beta-ox": (-100.0, 100.0),
     "--log-beta-red": (-100.0, 100.0),
     "--drift-step": (0.0, 0.1),
+    **TECHNIQUE_BOUNDS,
 }
 
 SIMULATE_EPILOG = (
@@ -383,6 +385,22 @@ def _check_writable(folder: Path) -> None:
     os.unlink(tmp)
 
 
+def _check_out_file(out: Path, force: bool) -> None:
+    """Refuse an --out file that exists (without --force), is not a regular file, or whose
+    folder is missing or not writable, before anything is simulated."""
+    if out.exists() and not force:
+        raise InputError(f"{out} exists; use --force to replace it", source=_CMD, key="--out")
+    if out.is_dir():
+        raise InputError(f"--out {out} is a folder; give a file name", source=_CMD, key="--out")
+    if out.exists() and not out.is_file():
+        raise InputError(
+            f"--out {out} is not a regular file; give a file name", source=_CMD, key="--out"
+        )
+    if out.parent and not out.parent.is_dir():
+        raise InputError(f"folder {out.parent} does not exist", source=_CMD, key="--out")
+    _check_writable(out.parent)
+
+
 def _out_path(args: argparse.Namespace) -> Path:
     if not args.out:
         what = "a folder" if args.series else "a CSV file name"
@@ -408,26 +426,14 @@ def handle(args: argparse.Namespace) -> int:
     if args.technique != "cv":
         return handle_technique(
             args, E_half, settings, noise, seed, out, _number, _list, _check_series_size,
-            max_samples=MAX_SAMPLES, check_writable=_check_writable,
+            max_samples=MAX_SAMPLES, check_out_file=_check_out_file,
         )  # fmt: skip
     try:
         if args.series:
             return _handle_series(args, E_half, settings, noise, seed, out)
         start, switch = _window(args, E_half, E_half)
         _check_samples(start, switch, settings["cycles"], settings["step_V"])
-        if out.exists() and not args.force:
-            raise InputError(f"{out} exists; use --force to replace it", source=_CMD, key="--out")
-        if out.is_dir():
-            raise InputError(
-                f"--out {out} is a folder; give a file name", source=_CMD, key="--out"
-            )
-        if out.exists() and not out.is_file():
-            raise InputError(
-                f"--out {out} is not a regular file; give a file name", source=_CMD, key="--out"
-            )
-        if out.parent and not out.parent.is_dir():
-            raise InputError(f"folder {out.parent} does not exist", source=_CMD, key="--out")
-        _check_writable(out.parent)
+        _check_out_file(out, bool(args.force))
         vg = simulate_cv(
             E_half_V=E_half,
             start_V=start,

@@ -52,8 +52,10 @@ _PROGRAM_FLAGS = {
     "--rotation-rate": ("rotation_rate_rpm", ("wave",)),
     "--scan-rate": ("scan_rate_V_s", ("wave",)),
 }
-#: flag -> (lowest, highest) of the technique options, in the flag's unit.
-BOUNDS = {
+#: flag -> (lowest, highest) of the technique options, in the flag's unit (part of
+#: ``cvfit simulate``'s bounds, which the *number* reader given to :func:`handle_technique`
+#: applies).
+TECHNIQUE_BOUNDS = {
     "--stop": (-10.0, 10.0),
     "--amplitude": (1e-4, 0.5),
     "--pulse-width": (1e-4, 10.0),
@@ -115,15 +117,15 @@ def handle_technique(
     check_series: Callable[[list[float], int], None],
     *,
     max_samples: int,
-    check_writable: Callable[[Path], None],
+    check_out_file: Callable[[Path, bool], None],
 ) -> int:
     """Write the pulse record, wave or series asked for; returns the exit status.
 
     *settings* are ``cvfit simulate``'s couple settings; *number*, *numbers* read a number
     and a comma list with their bounds; *check_series* refuses a series ``cvfit run``
     cannot fit or too large to write (given the files and the samples of each);
-    *max_samples* is the most samples of a wave, *check_writable* refuses a folder no file
-    can be written into.
+    *max_samples* is the most samples of a wave, *check_out_file* refuses an output file
+    that exists (unless forced) or cannot be written.
     """
     technique = args.technique
     _refuse_foreign(args, technique)
@@ -157,14 +159,7 @@ def handle_technique(
             raise InputError(f"--out {out} exists and is not a folder", source=_CMD, key="--out")
         return _write_series(args, technique, E_half, ligands, beta_ox, beta_red, window,
                              program, couple, noise, seed, out)  # fmt: skip
-    if out.exists() and not args.force:
-        raise InputError(f"{out} exists; use --force to replace it", source=_CMD, key="--out")
-    if out.is_dir() or (out.exists() and not out.is_file()):
-        raise InputError(f"--out {out} is not a regular file; give a file name", source=_CMD,
-                         key="--out")  # fmt: skip
-    if out.parent and not out.parent.is_dir():
-        raise InputError(f"folder {out.parent} does not exist", source=_CMD, key="--out")
-    check_writable(out.parent)
+    check_out_file(out, bool(args.force))
     return _write_one(technique, E_half, window, program, couple, noise, seed, out)
 
 
@@ -195,18 +190,6 @@ def _attr(flag: str) -> str:
     return flag[2:].replace("-", "_")
 
 
-def _bounded(x: float, flag: str) -> float:
-    lo, hi = BOUNDS.get(flag, (-math.inf, math.inf))
-    if not lo <= x <= hi:
-        raise InputError(
-            f"{flag} {x:g} is outside what cvfit simulate takes ({lo:g} to {hi:g}); see "
-            "'cvfit simulate --help'",
-            source=_CMD,
-            key=flag,
-        )
-    return x
-
-
 def _program(args: argparse.Namespace, technique: str, number: Callable[..., float]) -> dict:
     """The technique's program: the defaults overridden by the options given."""
     prog = dict(DEFAULTS[technique])
@@ -216,7 +199,7 @@ def _program(args: argparse.Namespace, technique: str, number: Callable[..., flo
         given = getattr(args, _attr(flag))
         if given is None or technique not in takers:
             continue
-        x = _bounded(number(given, flag, minimum=0.0, strict=True), flag)
+        x = number(given, flag, minimum=0.0, strict=True)
         if key == "amplitude":
             key = "pulse_amplitude_V" if technique == "dpv" else "amplitude_V"
         prog[key] = x
@@ -249,7 +232,7 @@ def _scan(args: argparse.Namespace, lo: float, hi: float, number) -> tuple[float
     else:
         start = lo - _MARGIN_V if red_first else hi + _MARGIN_V
     if args.stop is not None:
-        stop = _bounded(number(args.stop, "--stop"), "--stop")
+        stop = number(args.stop, "--stop")
     else:
         stop = hi + _MARGIN_V if red_first else lo - _MARGIN_V
     return start, stop
