@@ -214,13 +214,15 @@ def _program(args: argparse.Namespace, technique: str, number: Callable[..., flo
 
 
 def _halves(E_half: float, ligands, beta_ox, beta_red, couple: dict) -> list[float]:
+    import numpy as np
+
     from cvfit.chemistry.complexation import complexed_half_wave_V
 
     got = complexed_half_wave_V(
         E_half, ligand_M=ligands, log10_beta_ox=beta_ox, log10_beta_red=beta_red,
         electrons=couple["electrons"], temperature_K=couple["temperature_K"],
     )  # fmt: skip
-    return [float(x) for x in (got if hasattr(got, "__len__") else [got])]
+    return [float(x) for x in np.atleast_1d(got)]
 
 
 def _scan(args: argparse.Namespace, lo: float, hi: float, number) -> tuple[float, float]:

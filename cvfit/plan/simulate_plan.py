@@ -14,6 +14,7 @@ from __future__ import annotations
 import math
 import re
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -107,7 +108,7 @@ def simulate_plan(
         temperature_K=req.temperature_K,
     )
     title = f"{req.title} ({design} design, simulated)"
-    common = dict(
+    common: dict[str, Any] = dict(
         ligand_M=ligands, E_half_free_V=req.E_half_free_V, log10_beta_ox=beta_ox,
         log10_beta_red=beta_red, electrons=req.electrons, title=title,
         noise_fraction=noise_fraction, seed=seed, overwrite=overwrite,
