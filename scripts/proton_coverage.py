@@ -71,7 +71,8 @@ def run(name: str, n_series: int, seed: int) -> None:
             for k, (x, e) in enumerate(zip(pH, E, strict=True))
         )
         fit = PROTON.fit(TitrationData(pts, ReferenceHalfWave(None, None, "none")), manifest).fit
-        got = {f"ox{p.j}": p.value for p in fit.pKa_ox} | {f"red{p.j}": p.value for p in fit.pKa_red}
+        got = {f"ox{p.j}": p.value for p in fit.pKa_ox}
+        got |= {f"red{p.j}": p.value for p in fit.pKa_red}
         right_model += set(got) == set(truth)
         for key, true in truth.items():
             q = got.get(key)
@@ -82,15 +83,19 @@ def run(name: str, n_series: int, seed: int) -> None:
             if math.isfinite(lo) and math.isfinite(hi):
                 widths[key].append(hi - lo)
     per = (time.perf_counter() - t0) / n_series
-    print(f"scenario {name}: pKa_ox {ox}, pKa_red {red}, {pH.size} pH values "
-          f"{pH.min():g}-{pH.max():g}, E½ noise {1e3 * sd:g} mV, {n_series} series")
+    print(
+        f"scenario {name}: pKa_ox {ox}, pKa_red {red}, {pH.size} pH values "
+        f"{pH.min():g}-{pH.max():g}, E½ noise {1e3 * sd:g} mV, {n_series} series"
+    )
     for key in truth:
         c = hits[key] / n_series
         se = math.sqrt(c * (1 - c) / n_series)
         w = float(np.mean(widths[key])) if widths[key] else math.nan
         print(f"  pKa {key:<5} coverage {100 * c:5.1f} ± {100 * se:.1f} %   mean width {w:.3f}")
-    print(f"  true number of steps chosen in {100 * right_model / n_series:.1f} %; "
-          f"{per:.2f} s per series")
+    print(
+        f"  true number of steps chosen in {100 * right_model / n_series:.1f} %; "
+        f"{per:.2f} s per series"
+    )
 
 
 def main() -> None:

@@ -1,4 +1,5 @@
-"""schemas/series.schema.json and load_manifest accept and reject the same manifests."""
+"""schemas/series.schema.json and docs/manifest.md are what the one definition of the keys
+gives, and the schema and load_manifest accept and reject the same manifests."""
 
 from __future__ import annotations
 
@@ -11,13 +12,22 @@ import pytest
 
 from cvfit.errors import InputError
 from cvfit.io import load_manifest
-from cvfit.io.manifest import ENTRY_KEYS, FIT_KEYS, REVERSIBILITY_KEYS, SERIES_KEYS, TABLES
+from cvfit.io.manifest import (
+    DEFINITION,
+    ENTRY_KEYS,
+    FIT_KEYS,
+    REVERSIBILITY_KEYS,
+    SERIES_KEYS,
+    TABLES,
+)
+from cvfit.io.manifest_reference import DOC_BEGIN, DOC_END, docs_table, schema_text
 from cvfit.io.manifest_standard import INTERNAL_STANDARD_KEYS
-from cvfit.io.manifest_technique import TECHNIQUE_KEYS
+from cvfit.io.manifest_technique import TECHNIQUE_KEYS, TECHNIQUE_SETTINGS
 from cvfit.io.manifest_variables import MODELS, POINT_KEYS
 from cvfit.io.options import IMPORT_KEYS
 
-SCHEMA_PATH = Path(__file__).resolve().parents[1] / "schemas" / "series.schema.json"
+ROOT = Path(__file__).resolve().parents[1]
+SCHEMA_PATH = ROOT / "schemas" / "series.schema.json"
 SCHEMA = json.loads(SCHEMA_PATH.read_text(encoding="utf-8"))
 VALIDATOR = jsonschema.Draft202012Validator(SCHEMA)
 
@@ -224,7 +234,7 @@ def _objects(node):
 
 def test_every_object_is_closed_and_documented():
     objects = list(_objects(SCHEMA))
-    assert len(objects) == 8
+    assert len(objects) == len(TABLES) + 1  # the manifest and each of its tables
     for obj in objects:
         assert obj["additionalProperties"] is False
         assert obj["description"]
@@ -244,3 +254,64 @@ def test_schema_keys_match_loader_keys():
     assert set(props["point"]["items"]["properties"]) == set(POINT_KEYS)
     assert set(props["fit"]["properties"]["model"]["enum"]) == set(MODELS)
     assert set(props["technique"]["properties"]) == set(TECHNIQUE_KEYS)
+
+
+def test_schema_file_is_the_definitions():
+    # made by scripts/manifest_reference.py; a key added to the definition changes it
+    assert SCHEMA_PATH.read_text(encoding="utf-8") == schema_text(), (
+        "run python scripts/manifest_reference.py"
+    )
+
+
+def test_docs_key_table_is_the_definitions():
+    text = (ROOT / "docs" / "manifest.md").read_text(encoding="utf-8")
+    start, end = text.index(DOC_BEGIN), text.index(DOC_END) + len(DOC_END) + 1
+    assert text[start:end] == docs_table(), "run python scripts/manifest_reference.py"
+
+
+def test_every_loader_default_is_in_the_schema():
+    # defaults are read from the records: what the loader fills in is what the schema says
+    from cvfit.io import FitSettings
+
+    fit = SCHEMA["properties"]["fit"]["properties"]
+    assert fit["max_complexes"]["default"] == FitSettings().max_complexes
+    assert fit["global"]["default"] is FitSettings().global_fit
+    assert SCHEMA["$defs"]["cycle"]["default"] == "last"
+
+
+def _manifest_with(table: str, key: str) -> tuple[str, int]:
+    """A valid manifest but for ``key = { x = 1 }`` (no key takes an inline table) in
+    *table*, and the line it stands on."""
+    technique = next((t for t, own in TECHNIQUE_SETTINGS.items() if key in own), "cv")
+    text = {"dpv": DPV, "swv": SWV}.get(technique, BASE) if table == "technique" else BASE
+    if table == "internal_standard":
+        text = text.replace("electrons = 1\n", "electrons = 1\nanalyte_window_V = [0.0, 0.5]\n")
+        text += "[internal_standard]\nwindow_V = [0.6, 0.9]\n"
+    if table == "point":
+        text += "[[point]]\nE_half_V = 0.1\nligand_M = 0.0\n"
+    header = f"[[{table}]]\n" if table in ("voltammogram", "point") else f"[{table}]\n"
+    if header not in text:
+        text += header
+    before, after = text.split(header, 1)
+    # the key replaces the table's own line for it, if any, at the top of the table
+    after = "".join(line for line in after.splitlines(True) if not line.startswith(f"{key} ="))
+    if table == "series" and key == "title":
+        after = after.replace('title = "t"\n', "")
+    text = f"{before}{header}{key} = {{ x = 1 }}\n{after}"
+    return text, before.count("\n") + 2
+
+
+@pytest.mark.parametrize(
+    ("table", "key"),
+    [(t.name, k.name) for t in DEFINITION for k in t.keys],
+    ids=lambda v: v,
+)
+def test_every_key_refuses_a_wrong_type_on_its_line(tmp_path, table, key):
+    # every declared key reaches its check: the loader names the key and its line, the
+    # schema refuses the same manifest
+    text, line = _manifest_with(table, key)
+    assert not _schema_ok(text)
+    with pytest.raises(InputError) as err:
+        load_manifest(_write(tmp_path, text))
+    assert err.value.line == line, err.value.message
+    assert key in err.value.message and "\n" not in err.value.message

@@ -409,7 +409,7 @@ def test_non_positive_ligand_rejected_by_name():
     pts[1] = TitrationPoint("titr_free.csv", 0.0, 0.05, None)
     with pytest.raises(ValueError, match="titr_free.csv.*ligand_M"):
         fit(pts, ref_sd=0.0)
-    with pytest.raises(ValueError, match="ligand_M must be >= 0"):
+    with pytest.raises(ValueError, match="x.csv: x must be >= 0"):  # x: the generic variable
         TitrationPoint("x.csv", -1e-3, 0.1, None)
     with pytest.raises(ValueError, match="E_half_stderr_V"):
         TitrationPoint("x.csv", 1e-3, 0.1, -1e-4)

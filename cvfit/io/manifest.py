@@ -9,7 +9,6 @@ name the manifest, the line of the offending key where it can be found, and the 
 from __future__ import annotations
 
 import difflib
-import math
 import os
 import re
 import tomllib
@@ -18,12 +17,12 @@ from pathlib import Path
 from typing import Any, Literal
 
 from cvfit.errors import InputError
-from cvfit.io import manifest_chemistry as _chem
-from cvfit.io import manifest_electrode as _electrode
+from cvfit.io import manifest_keys as _keys
 from cvfit.io import manifest_standard as _standard
 from cvfit.io import manifest_technique as _technique
 from cvfit.io import manifest_variables as _variables
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
+from cvfit.io.manifest_spec import Table, bind, clean_record, clean_value, clean_values
 from cvfit.io.options import IMPORT_KEYS, ImportOptions
 from cvfit.io.text import split_lines
 from cvfit.reversibility_criteria import ReversibilityCriteria
@@ -38,71 +37,15 @@ __all__ = [
     "resistance_for",
 ]
 
-SERIES_KEYS = (
-    "title",
-    "temperature_C",
-    "electrons",
-    "metal_total_M",
-    "E_half_free_V",
-    "E_half_free_stderr_V",
-    "reference_electrode",
-    "analyte_window_V",
-    "reference_at",
-    *_chem.SERIES_CHEMISTRY_KEYS,
-    *_electrode.SERIES_ELECTRODE_KEYS,
-    *_technique.SERIES_TECHNIQUE_KEYS,
-)
-FIT_KEYS = (
-    "model", "max_complexes", "exclude_non_nernstian", "half_wave_source", "global",
-    "curve_diffusion_ratio", "global_shared", "max_protons",
-    *_chem.FIT_STEPWISE_KEYS,
-)  # fmt: skip
-#: Where E½ of each file comes from (``[fit] half_wave_source``).
-HALF_WAVE_SOURCES = ("peaks", "curve", "auto")
-#: What the global curve fit may share between files (``[fit] global_shared``; the same
-#: names as cvfit.techniques.cv.curve.global_fit.SHARED_NAMES, tested).
-GLOBAL_SHARED_NAMES = ("alpha", "charging")
-REVERSIBILITY_KEYS = ("n_delta_Ep_margin_V", "n_peak_width_margin_V", "current_ratio_margin")
-ENTRY_KEYS = (
-    "file",
-    "ligand_M",
-    "scan_rate_V_s",
-    "label",
-    "pH",
-    "temperature_C",
-    *_electrode.ENTRY_ELECTRODE_KEYS,
-    *_technique.ENTRY_TECHNIQUE_KEYS,
-    *IMPORT_KEYS,
-)
-TABLES = (
-    "series", "import", "fit", "reversibility", "internal_standard", "technique", "voltammogram",
-    "point",
-)  # fmt: skip
-MAX_COMPLEXES_LIMIT = 8
-
-
-def _is_number(value: object) -> bool:
-    return isinstance(value, int | float) and not isinstance(value, bool)
-
-
-def _need_number(value: object, key: str, *, optional: bool = True) -> float | None:
-    if value is None and optional:
-        return None
-    if not _is_number(value) or not math.isfinite(float(value)):
-        raise InputError(f"{key} must be a finite number, got {value!r}", key=key)
-    return float(value)
-
-
-def _whole(value: object) -> object:
-    """An integral float (``2.0``) as an int, as JSON Schema's "integer" treats it."""
-    if isinstance(value, float) and value.is_integer():
-        return int(value)
-    return value
-
-
-def _need_text(value: object, key: str) -> None:
-    if value is not None and not isinstance(value, str):
-        raise InputError(f"{key} must be a text string, got {value!r}", key=key)
+#: Valid key names of each table (derived from the definition; kept for callers).
+SERIES_KEYS = _keys.SERIES.names
+FIT_KEYS = _keys.FIT.names
+REVERSIBILITY_KEYS = _keys.REVERSIBILITY.names
+ENTRY_KEYS = _keys.VOLTAMMOGRAM.names
+TABLES = tuple(t.name for t in _keys.TABLES)
+HALF_WAVE_SOURCES = _keys.HALF_WAVE_SOURCES
+GLOBAL_SHARED_NAMES = _keys.GLOBAL_SHARED_NAMES
+MAX_COMPLEXES_LIMIT = _keys.MAX_COMPLEXES_LIMIT
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -175,49 +118,7 @@ class SeriesSettings:
     technique: str = "cv"
 
     def __post_init__(self) -> None:
-        _technique.clean_series(self)
-        _chem.clean_series(self)
-        _electrode.clean_series(self)
-        object.__setattr__(
-            self,
-            "analyte_window_V",
-            _standard.potential_window(self.analyte_window_V, "analyte_window_V"),
-        )
-        _need_text(self.title, "title")
-        _need_text(self.reference_electrode, "reference_electrode")
-        e = _whole(self.electrons)
-        object.__setattr__(self, "electrons", e)
-        if isinstance(e, bool) or not isinstance(e, int) or e < 1:
-            raise InputError(
-                f"electrons must be a positive whole number, got {e!r}", key="electrons"
-            )
-        t = _need_number(self.temperature_C, "temperature_C", optional=False)
-        if not 0.0 <= t <= 100.0:
-            raise InputError(
-                f"temperature_C must lie within 0–100 °C, got {t:g}", key="temperature_C"
-            )
-        object.__setattr__(self, "temperature_C", t)
-        m = _need_number(self.metal_total_M, "metal_total_M")
-        if m is not None and m <= 0:
-            raise InputError(
-                f"metal_total_M must be positive (mol/L), got {m:g}", key="metal_total_M"
-            )
-        object.__setattr__(self, "metal_total_M", m)
-        object.__setattr__(
-            self, "E_half_free_V", _need_number(self.E_half_free_V, "E_half_free_V")
-        )
-        s = _need_number(self.E_half_free_stderr_V, "E_half_free_stderr_V")
-        if s is not None and s < 0:
-            raise InputError(
-                f"E_half_free_stderr_V must be >= 0 V, got {s:g}", key="E_half_free_stderr_V"
-            )
-        if s is not None and self.E_half_free_V is None:
-            raise InputError(
-                "E_half_free_stderr_V is given without E_half_free_V; add "
-                "E_half_free_V or remove the standard error",
-                key="E_half_free_stderr_V",
-            )
-        object.__setattr__(self, "E_half_free_stderr_V", s)
+        clean_record(self, _keys.SERIES)
 
     @property
     def temperature_K(self) -> float:
@@ -271,65 +172,30 @@ class FitSettings:
     max_protons: int = 2
 
     def __post_init__(self) -> None:
-        _chem.clean_fit(self)
-        object.__setattr__(self, "max_protons", _variables.clean_max_protons(self.max_protons))
-        if self.half_wave_source not in HALF_WAVE_SOURCES:
-            raise InputError(
-                'half_wave_source must be "peaks", "curve" or "auto", got '
-                f"{self.half_wave_source!r}",
-                key="half_wave_source",
-            )
-        r = self.curve_diffusion_ratio
-        if r == "fit":
+        if self.curve_diffusion_ratio == "fit":
             raise InputError(
                 'curve_diffusion_ratio cannot be "fit": a single curve at a planar electrode '
                 "does not determine D_R/D_O (it trades exactly against k0); give the ratio as "
                 "a number, or leave it out for 1",
                 key="curve_diffusion_ratio",
             )
-        if not _is_number(r) or not 0.1 <= float(r) <= 10.0:
-            raise InputError(
-                f"curve_diffusion_ratio must be a number 0.1–10 (D_R/D_O), got {r!r}",
-                key="curve_diffusion_ratio",
-            )
-        object.__setattr__(self, "curve_diffusion_ratio", float(r))
-        shared = self.global_shared
-        if not isinstance(shared, list | tuple) or not all(
-            isinstance(x, str) and x in GLOBAL_SHARED_NAMES for x in shared
-        ):
-            raise InputError(
-                f'global_shared must be a list of "alpha" and/or "charging", got {shared!r}',
-                key="global_shared",
-            )
-        object.__setattr__(self, "global_shared", tuple(dict.fromkeys(shared)))
-        if shared and self.global_fit is not True:
+        clean_record(self, _keys.FIT)
+        if self.global_shared and not self.global_fit:
             raise InputError(
                 "global_shared applies to the global curve fit: set global = true too, or "
                 "leave global_shared out",
                 key="global_shared",
             )
-        if not isinstance(self.global_fit, bool):
+        ox, red = self.fixed_log10_beta_ox, self.fixed_log10_beta_red
+        if ox is not None and red is not None:
             raise InputError(
-                f"global must be true or false, got {self.global_fit!r}", key="global"
+                "give fixed_log10_beta_ox or fixed_log10_beta_red, not both: the constants of "
+                "the other oxidation state are what the fit finds",
+                key="fixed_log10_beta_red",
             )
-        if self.model not in _variables.MODELS:
-            raise InputError(
-                f"model must be 'lingane', 'stepwise', 'proton' or 'temperature', got "
-                f"{self.model!r}",
-                key="model",
-            )
-        j = _whole(self.max_complexes)
-        object.__setattr__(self, "max_complexes", j)
-        if isinstance(j, bool) or not isinstance(j, int) or not 1 <= j <= MAX_COMPLEXES_LIMIT:
-            raise InputError(
-                f"max_complexes must be a whole number 1–{MAX_COMPLEXES_LIMIT}, got {j!r}",
-                key="max_complexes",
-            )
-        if not isinstance(self.exclude_non_nernstian, bool):
-            raise InputError(
-                f"exclude_non_nernstian must be true or false, got {self.exclude_non_nernstian!r}",
-                key="exclude_non_nernstian",
-            )
+        if (ox is not None or red is not None) and self.model != "stepwise":
+            key = "fixed_log10_beta_ox" if ox is not None else "fixed_log10_beta_red"
+            raise InputError(f'{key} needs model = "stepwise" in [fit]', key=key)
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -343,7 +209,8 @@ class VoltammogramEntry:
     name : str
         The file name as written in the manifest.
     ligand_M : float
-        Total ligand concentration, mol/L (>= 0).
+        Total ligand concentration, mol/L (>= 0; default 0, given in every file of a
+        ligand titration).
     scan_rate_V_s : float or None
         Scan rate, V/s (> 0), else taken from a time column.
     import_options : ImportOptions
@@ -363,7 +230,7 @@ class VoltammogramEntry:
 
     file: Path
     name: str
-    ligand_M: float
+    ligand_M: float = 0.0
     scan_rate_V_s: float | None = None
     import_options: ImportOptions = ImportOptions()
     label: str | None = None
@@ -373,33 +240,7 @@ class VoltammogramEntry:
     rotation_rate_rpm: float | None = None
 
     def __post_init__(self) -> None:
-        object.__setattr__(
-            self, "rotation_rate_rpm", _technique.rotation_rate(self.rotation_rate_rpm)
-        )
-        object.__setattr__(self, "pH", _chem.optional_pH(self.pH))
-        object.__setattr__(
-            self, "temperature_C", _variables.optional_temperature_C(self.temperature_C)
-        )
-        object.__setattr__(
-            self,
-            "resistance_ohm",
-            _electrode.positive(self.resistance_ohm, "resistance_ohm", "Ω", allow_zero=True),
-        )
-        _need_text(self.label, "label")
-        if not isinstance(self.name, str) or not self.name.strip():
-            raise InputError(
-                f"file must be a non-empty text string, got {self.name!r}", key="file"
-            )
-        c = _need_number(self.ligand_M, "ligand_M", optional=False)
-        if c < 0:
-            raise InputError(f"ligand_M must be >= 0 mol/L, got {c:g}", key="ligand_M")
-        object.__setattr__(self, "ligand_M", c)
-        v = _need_number(self.scan_rate_V_s, "scan_rate_V_s")
-        if v is not None and v <= 0:
-            raise InputError(
-                f"scan_rate_V_s must be positive (V/s), got {v:g}", key="scan_rate_V_s"
-            )
-        object.__setattr__(self, "scan_rate_V_s", v)
+        clean_record(self, _keys.VOLTAMMOGRAM)
         object.__setattr__(self, "file", Path(self.file))
 
     @property
@@ -523,12 +364,6 @@ class _Loader:
             raise self.fail(
                 exc.message, self.keypath(table, key, index), self.where.line(table, key, index)
             ) from None
-        except ValueError as exc:
-            # A record outside cvfit.io (ReversibilityCriteria) names the field in words.
-            key = next((k for k in values if str(exc).startswith(k)), None)
-            raise self.fail(
-                str(exc), self.keypath(table, key, index), self.where.line(table, key, index)
-            ) from None
 
     def require(self, values: dict, key: str, table: str, index: int | None = None) -> None:
         if key not in values:
@@ -538,15 +373,23 @@ class _Loader:
                 self.where.line(table, None, index),
             )
 
+    def keys_of(self, raw: dict, table: Table, index: int | None = None) -> dict:
+        """*raw* (one table as read) with its keys checked against the definition: no
+        unknown key, every required key there."""
+        self.check_keys(raw, table.names, table.name, index)
+        for key in table.all_keys:
+            if key.required:
+                self.require(raw, key.name, table.name, index)
+        return raw
 
-def _renamed(table: dict, names: dict[str, str]) -> dict:
-    """*table* with keys that are Python keywords renamed to their field names."""
-    return {names.get(k, k): v for k, v in table.items()}
+    def section(self, data: dict, table: Table) -> dict:
+        """The ``[table]`` of the manifest, its keys checked (an absent table is empty)."""
+        return self.keys_of(self.table(data, table.name), table)
 
 
-def _whole_import(table: dict) -> dict:
-    keys = ("potential_column", "current_column", "time_column", "cycle")
-    return {k: _whole(v) if k in keys else v for k, v in table.items()}
+def _fields(values: dict, table: Table) -> dict:
+    """*values* keyed by the record fields that hold them (``global`` → ``global_fit``)."""
+    return {table.key(k).attribute: v for k, v in values.items()}
 
 
 def _read(path: Path) -> tuple[str, dict[str, Any]]:
@@ -623,34 +466,20 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     ld = _Loader(p, text)
     folder = p.resolve().parent
     ld.check_keys(data, TABLES, "", None)
-    series = ld.table(data, "series")
     if "series" not in data:
         raise ld.fail(
             "the manifest needs a [series] table with at least electrons = n", "series", None
         )
-    ld.check_keys(series, SERIES_KEYS, "series", None)
-    ld.require(series, "electrons", "series")
-    series = dict(series)
-    where = {"value": series.pop("reference_at", None)}
-    reference_at = ld.build(_variables.check_reference_at, where, "series")
+    series = dict(ld.section(data, _keys.SERIES))
+    where = {"reference_at": series.pop("reference_at", None)}
+    reference_at = ld.build(_reference_at, where, "series")
     series_settings = ld.build(SeriesSettings, {"title": p.stem, **series}, "series")
-    imp = ld.table(data, "import")
-    ld.check_keys(imp, IMPORT_KEYS, "import", None)
-    imp = _whole_import(imp)
+    imp = ld.section(data, _keys.IMPORT)
     import_options = ld.build(ImportOptions, imp, "import")
-    fit = ld.table(data, "fit")
-    ld.check_keys(fit, FIT_KEYS, "fit", None)
-    fit_settings = ld.build(FitSettings, _renamed(fit, {"global": "global_fit"}), "fit")
-    rev = ld.table(data, "reversibility")
-    ld.check_keys(rev, REVERSIBILITY_KEYS, "reversibility", None)
-    for key, value in rev.items():
-        if not _is_number(value):
-            raise ld.fail(
-                f"must be a number, got {value!r}",
-                f"reversibility.{key}",
-                ld.where.line("reversibility", key),
-            )
-    criteria = ld.build(ReversibilityCriteria, rev, "reversibility")
+    fit = ld.section(data, _keys.FIT)
+    fit_settings = ld.build(FitSettings, _fields(fit, _keys.FIT), "fit")
+    rev = ld.section(data, _keys.REVERSIBILITY)
+    criteria = ld.build(_criteria, rev, "reversibility")
     standard = _load_standard(ld, data, series_settings)
     points = _variables.load_points(ld, data, fit_settings.model)
     if points and fit_settings.global_fit:
@@ -682,11 +511,10 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     entries = []
     seen: dict[tuple[Path, object], int] = {}
     for index, raw in enumerate(entries_raw, start=1):
-        ld.check_keys(raw, ENTRY_KEYS, "voltammogram", index)
-        ld.require(raw, "file", "voltammogram", index)
+        ld.keys_of(raw, _keys.VOLTAMMOGRAM, index)
         if _variables.VARIABLE_OF_MODEL[fit_settings.model] == "ligand_M":
             ld.require(raw, "ligand_M", "voltammogram", index)
-        per_file = _whole_import({k: raw[k] for k in IMPORT_KEYS if k in raw})
+        per_file = {k: raw[k] for k in IMPORT_KEYS if k in raw}
         options = ld.build(ImportOptions, {**imp, **per_file}, "voltammogram", index)
         name = raw["file"]
         if not isinstance(name, str) or not name.strip():
@@ -704,23 +532,9 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
                 f"voltammogram[{index}].file",
                 ld.where.line("voltammogram", "file", index),
             ) from None
-        entry = ld.build(
-            VoltammogramEntry,
-            {
-                "file": resolved,
-                "name": name,
-                "ligand_M": raw.get("ligand_M", 0.0),
-                "scan_rate_V_s": raw.get("scan_rate_V_s"),
-                "import_options": options,
-                "label": raw.get("label"),
-                "pH": raw.get("pH"),
-                "resistance_ohm": raw.get("resistance_ohm"),
-                "temperature_C": raw.get("temperature_C"),
-                "rotation_rate_rpm": raw.get("rotation_rate_rpm"),
-            },
-            "voltammogram",
-            index,
-        )
+        own = _fields({k: v for k, v in raw.items() if k not in IMPORT_KEYS}, _keys.VOLTAMMOGRAM)
+        values = {**own, "file": resolved, "import_options": options}
+        entry = ld.build(VoltammogramEntry, values, "voltammogram", index)
         key = (resolved, options.cycle)
         if not resolved.is_file() or key in seen:
             # the line is looked up only for the message: scanning the manifest for every
@@ -767,6 +581,16 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     )
 
 
+def _reference_at(reference_at: object) -> str | None:
+    """``[series] reference_at``: kept beside the series settings (the temperature model's)."""
+    return clean_value(_keys.SERIES.key("reference_at"), reference_at)  # type: ignore[return-value]
+
+
+def _criteria(**values: object) -> ReversibilityCriteria:
+    """``[reversibility]`` checked here: its record sits below the manifest's layer."""
+    return ReversibilityCriteria(**clean_values(values, _keys.REVERSIBILITY))  # type: ignore[arg-type]
+
+
 def _name_cycles(entries: list[VoltammogramEntry]) -> list[VoltammogramEntry]:
     """Entries of one file listed once per cycle get names that tell them apart
     (``"run.csv [cycle 2]"``); every other entry keeps its file name."""
@@ -785,9 +609,7 @@ def _load_standard(
     """The ``[internal_standard]`` table, checked against ``series.analyte_window_V``."""
     if "internal_standard" not in data:
         return None
-    table = ld.table(data, "internal_standard")
-    ld.check_keys(table, _standard.INTERNAL_STANDARD_KEYS, "internal_standard", None)
-    ld.require(table, "window_V", "internal_standard")
+    table = ld.section(data, _keys.INTERNAL_STANDARD)
     standard = ld.build(_standard.InternalStandard, table, "internal_standard")
     analyte = series.analyte_window_V
     if analyte is None:
@@ -811,3 +633,22 @@ def resistance_for(entry: object, series: object) -> float | None:
     """R_u of one file: its own ``resistance_ohm``, else the series value, else None."""
     own = getattr(entry, "resistance_ohm", None)
     return own if own is not None else getattr(series, "resistance_ohm", None)
+
+
+#: The definition of the manifest with each key's default read from its record
+#: (:func:`cvfit.io.manifest_spec.bind`, which also fails at import when a record and its
+#: table differ); the schema and the docs' key tables are made from it.
+_IMPORT = bind(ImportOptions, _keys.IMPORT)
+DEFINITION: tuple[Table, ...] = (
+    bind(SeriesSettings, _keys.SERIES),
+    _IMPORT,
+    bind(FitSettings, _keys.FIT),
+    bind(ReversibilityCriteria, _keys.REVERSIBILITY),
+    bind(_standard.InternalStandard, _keys.INTERNAL_STANDARD),
+    bind(_technique.TechniqueSettings, _keys.TECHNIQUE, extra=("name",)),
+    replace(
+        bind(VoltammogramEntry, _keys.VOLTAMMOGRAM, extra=("file", "import_options")),
+        includes=(_IMPORT,),
+    ),
+    bind(_variables.PointEntry, _keys.POINT, extra=("name",)),
+)

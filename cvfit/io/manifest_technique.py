@@ -1,80 +1,34 @@
-"""The technique of a series: ``[series] technique``, the ``[technique]`` table and the
-per-file ``rotation_rate_rpm``.
+"""The technique of a series: the ``[technique]`` table and what ties it to ``[series]
+technique``.
 
-Everything the manifest knows about techniques is defined here, in one place: the names,
-each technique's settings (required and optional, with their checks), and the loader of
-the ``[technique]`` table that :mod:`cvfit.io.manifest` calls. Each check raises
+The keys (names, types, ranges) and which of them each technique takes and needs
+(:data:`TECHNIQUE_SETTINGS`) are declared in :mod:`cvfit.io.manifest_keys`; here are the
+record, the loader of the table that :mod:`cvfit.io.manifest` calls, and the schema's
+conditions made from the same settings. Each check raises
 :class:`~cvfit.errors.InputError` naming the key.
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, fields
 from typing import Any
 
 from cvfit.errors import InputError
+from cvfit.io.manifest_keys import MAX_AMPLITUDE_V, TECHNIQUE, TECHNIQUE_SETTINGS, TECHNIQUES
+from cvfit.io.manifest_spec import clean_values
 
 __all__ = [
     "TECHNIQUES",
     "TECHNIQUE_SETTINGS",
     "TECHNIQUE_KEYS",
-    "SERIES_TECHNIQUE_KEYS",
-    "ENTRY_TECHNIQUE_KEYS",
+    "MAX_AMPLITUDE_V",
     "TechniqueSettings",
-    "clean_series",
-    "rotation_rate",
     "load_technique",
+    "schema_conditions",
 ]
 
-#: What ``[series] technique`` may name: cyclic, differential-pulse and square-wave
-#: voltammetry, and steady-state or sampled-current waves.
-TECHNIQUES = ("cv", "dpv", "swv", "wave")
-#: Each technique's ``[technique]`` settings: name → required.
-TECHNIQUE_SETTINGS: dict[str, dict[str, bool]] = {
-    "cv": {},
-    "dpv": {
-        "pulse_amplitude_V": True,
-        "pulse_width_s": True,
-        "step_V": True,
-        "period_s": False,
-        "pulse_current_column": False,
-        "base_current_column": False,
-    },
-    "swv": {
-        "amplitude_V": True,
-        "frequency_Hz": True,
-        "step_V": True,
-        "forward_current_column": False,
-        "reverse_current_column": False,
-    },
-    "wave": {},
-}
 #: Every key the ``[technique]`` table may hold (of some technique).
-TECHNIQUE_KEYS = tuple(dict.fromkeys(k for s in TECHNIQUE_SETTINGS.values() for k in s))
-SERIES_TECHNIQUE_KEYS = ("technique",)
-#: [[voltammogram]] keys of a technique: the rotation rate of a disc (waves).
-ENTRY_TECHNIQUE_KEYS = ("rotation_rate_rpm",)
-_COLUMNS = {k for k in TECHNIQUE_KEYS if k.endswith("_column")}
-#: Largest pulse or square-wave amplitude and staircase step accepted, V.
-MAX_AMPLITUDE_V = 1.0
-
-
-def _number(value: object, key: str) -> float:
-    if isinstance(value, bool) or not isinstance(value, int | float):
-        raise InputError(f"{key} must be a number, got {value!r}", key=key)
-    x = float(value)
-    if not math.isfinite(x):
-        raise InputError(f"{key} must be finite, got {value!r}", key=key)
-    return x
-
-
-def _positive(value: object, key: str, unit: str, high: float = math.inf) -> float:
-    x = _number(value, key)
-    if not 0 < x <= high:
-        limit = "" if math.isinf(high) else f" and at most {high:g}"
-        raise InputError(f"{key} must be positive{limit} ({unit}), got {x:g}", key=key)
-    return x
+TECHNIQUE_KEYS = TECHNIQUE.names
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -125,66 +79,27 @@ class TechniqueSettings:
                 key="technique",
             )
         own = TECHNIQUE_SETTINGS[self.name]
-        for f in fields(self):
-            value = getattr(self, f.name)
-            if f.name == "name" or value is None:
-                if f.name in own and own[f.name]:
-                    raise InputError(
-                        f"required for technique = {self.name!r}: give {f.name} in [technique]",
-                        key=f.name,
-                    )
-                continue
-            if f.name not in own:
-                valid = ", ".join(own) or "none"
+        given = {f.name: getattr(self, f.name) for f in fields(self) if f.name != "name"}
+        for key, value in given.items():
+            if value is None and own.get(key):
                 raise InputError(
-                    f"{f.name} is not a setting of technique = {self.name!r} (its settings: "
-                    f"{valid}); remove it",
-                    key=f.name,
-                )
-            object.__setattr__(self, f.name, self._clean(f.name, value))
-
-    @staticmethod
-    def _clean(key: str, value: object) -> object:
-        if key in _COLUMNS:
-            ok = isinstance(value, str) and value.strip() != ""
-            ok = ok or (isinstance(value, int) and not isinstance(value, bool) and value >= 0)
-            if not ok:
-                raise InputError(
-                    f"{key} must be a column name or a 0-based index, got {value!r}", key=key
-                )
-            return value
-        if key == "pulse_amplitude_V":
-            x = _number(value, key)
-            if not 0 < abs(x) <= MAX_AMPLITUDE_V:
-                raise InputError(
-                    f"{key} must be non-zero and within ±{MAX_AMPLITUDE_V:g} V (signed: in the "
-                    f"scan's direction), got {x:g}",
+                    f"required for technique = {self.name!r}: give {key} in [technique]",
                     key=key,
                 )
-            return x
-        if key in ("amplitude_V", "step_V"):
-            return _positive(value, key, "V", MAX_AMPLITUDE_V)
-        return _positive(value, key, "Hz" if key == "frequency_Hz" else "s")
+            if value is not None and key not in own:
+                valid = ", ".join(own) or "none"
+                raise InputError(
+                    f"{key} is not a setting of technique = {self.name!r} (its settings: "
+                    f"{valid}); remove it",
+                    key=key,
+                )
+        cleaned = clean_values({k: v for k, v in given.items() if v is not None}, TECHNIQUE)
+        for key, value in cleaned.items():
+            object.__setattr__(self, key, value)
 
     def get(self, key: str) -> Any:
         """A setting by name (None when not given)."""
         return getattr(self, key)
-
-
-def clean_series(s: object) -> None:
-    """Check ``[series] technique`` of a SeriesSettings record in place."""
-    if s.technique not in TECHNIQUES:  # type: ignore[attr-defined]
-        raise InputError(
-            f"technique must be one of {', '.join(map(repr, TECHNIQUES))}, got {s.technique!r}",  # type: ignore[attr-defined]
-            key="technique",
-        )
-
-
-def rotation_rate(value: object) -> float | None:
-    """``rotation_rate_rpm`` of one file: a positive number (revolutions per minute) or None."""
-    if value is None:
-        return None
-    return _positive(value, "rotation_rate_rpm", "revolutions per minute")
 
 
 def load_technique(ld: Any, data: dict, technique: str, fit_global: bool) -> TechniqueSettings:
@@ -219,3 +134,32 @@ def load_technique(ld: Any, data: dict, technique: str, fit_global: bool) -> Tec
                 ld.where.line("technique", key),
             )
     return ld.build(TechniqueSettings, {"name": technique, **table}, "technique")  # type: ignore[no-any-return]
+
+
+def schema_conditions() -> list[dict[str, Any]]:
+    """JSON Schema conditions of the manifest that tie ``[technique]`` to ``[series]
+    technique``, made from :data:`TECHNIQUE_SETTINGS`: the keys each technique takes and
+    needs; no ``[technique]`` table for cv; no global curve fit but for cv."""
+    out: list[dict[str, Any]] = [
+        {
+            "if": {"properties": {"series": {"not": {"required": ["technique"]}}}},
+            "then": {"not": {"required": ["technique"]}},
+        }
+    ]
+    no_global = {"not": {"properties": {"global": {"const": True}}, "required": ["global"]}}
+    for name, own in TECHNIQUE_SETTINGS.items():
+        chosen = {"properties": {"technique": {"const": name}}, "required": ["technique"]}
+        when = {"properties": {"series": chosen}, "required": ["series"]}
+        if name == "cv":
+            out.append({"if": when, "then": {"not": {"required": ["technique"]}}})
+            continue
+        others = [{"required": [k]} for k in TECHNIQUE_KEYS if k not in own]
+        table: dict[str, Any] = {"not": {"anyOf": others}}
+        needed = [k for k, required in own.items() if required]
+        if needed:
+            table["required"] = needed
+        then: dict[str, Any] = {"properties": {"fit": no_global, "technique": table}}
+        if needed:
+            then["required"] = ["technique"]
+        out.append({"if": when, "then": then})
+    return out

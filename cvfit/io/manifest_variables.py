@@ -1,23 +1,20 @@
-"""Manifest keys of series beyond a ligand titration: pH, temperature and E½ tables.
+"""Series beyond a ligand titration: pH, temperature and E½ tables.
 
-* ``[fit] model = "proton" | "temperature"`` and ``max_protons``;
-* ``[[voltammogram]] temperature_C`` — the file's own temperature (it is analysed at it);
-* ``[series] reference_at`` — where the reference electrode is held in a temperature series;
-* ``[[point]]`` — an E½ measured elsewhere: ``ligand_M | pH | temperature_C``, ``E_half_V``,
-  ``E_half_stderr_V`` (optional), ``label``.
-
-Used by :mod:`cvfit.io.manifest`; each check raises :class:`~cvfit.errors.InputError`
-naming the key.
+The keys (``[fit] model = "proton" | "temperature"``, ``max_protons``, ``[series]
+reference_at``, ``[[voltammogram]] temperature_C`` and the ``[[point]]`` table: an E½
+measured elsewhere) are declared in :mod:`cvfit.io.manifest_keys`; here are the
+``[[point]]`` record and loader and the checks across keys that a pH or temperature series
+needs. Used by :mod:`cvfit.io.manifest`; each check raises
+:class:`~cvfit.errors.InputError` naming the key.
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import Any
 
-from cvfit.errors import InputError
-from cvfit.io.manifest_chemistry import optional_pH
+from cvfit.io.manifest_keys import MAX_PROTONS_LIMIT, MODELS, POINT, REFERENCE_AT
+from cvfit.io.manifest_spec import clean_record
 from cvfit.units import celsius_to_kelvin
 
 __all__ = [
@@ -27,15 +24,11 @@ __all__ = [
     "POINT_KEYS",
     "MAX_PROTONS_LIMIT",
     "PointEntry",
-    "optional_temperature_C",
-    "clean_max_protons",
-    "check_reference_at",
     "load_points",
     "check_variable_series",
+    "schema_conditions",
 ]
 
-#: ``[fit] model`` values (the registry of cvfit.titration holds the same names, tested).
-MODELS = ("lingane", "stepwise", "proton", "temperature")
 #: The manifest key that holds each model's titration variable.
 VARIABLE_OF_MODEL = {
     "lingane": "ligand_M",
@@ -43,58 +36,7 @@ VARIABLE_OF_MODEL = {
     "proton": "pH",
     "temperature": "temperature_C",
 }
-#: ``[series] reference_at`` (the temperature model's names, tested).
-REFERENCE_AT = ("constant_temperature", "same_temperature")
-POINT_KEYS = ("ligand_M", "pH", "temperature_C", "E_half_V", "E_half_stderr_V", "label")
-MAX_PROTONS_LIMIT = 4
-
-
-def _number(value: object, key: str) -> float:
-    if (
-        isinstance(value, bool)
-        or not isinstance(value, int | float)
-        or not math.isfinite(float(value))
-    ):
-        raise InputError(f"{key} must be a finite number, got {value!r}", key=key)
-    return float(value)
-
-
-def optional_temperature_C(value: object, key: str = "temperature_C") -> float | None:
-    """A temperature within 0–100 °C, or None."""
-    if value is None:
-        return None
-    t = _number(value, key)
-    if not 0.0 <= t <= 100.0:
-        raise InputError(f"{key} must lie within 0–100 °C, got {t:g}", key=key)
-    return t
-
-
-def clean_max_protons(value: object) -> int:
-    """``[fit] max_protons``: a whole number 1–4."""
-    if isinstance(value, float) and value.is_integer():
-        value = int(value)
-    if (
-        isinstance(value, bool)
-        or not isinstance(value, int)
-        or not 1 <= value <= MAX_PROTONS_LIMIT
-    ):
-        raise InputError(
-            f"max_protons must be a whole number 1–{MAX_PROTONS_LIMIT}, got {value!r}",
-            key="max_protons",
-        )
-    return value
-
-
-def check_reference_at(value: object) -> str | None:
-    """``[series] reference_at``: one of :data:`REFERENCE_AT`, or None."""
-    if value is None or value in REFERENCE_AT:
-        return value  # type: ignore[return-value]
-    raise InputError(
-        f'reference_at must be "constant_temperature" (reference electrode held at one '
-        f'temperature: a non-isothermal cell) or "same_temperature" (an isothermal cell), '
-        f"got {value!r}",
-        key="reference_at",
-    )
+POINT_KEYS = POINT.names
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -128,24 +70,7 @@ class PointEntry:
     label: str | None = None
 
     def __post_init__(self) -> None:
-        put = object.__setattr__
-        put(self, "E_half_V", _number(self.E_half_V, "E_half_V"))
-        c = _number(self.ligand_M, "ligand_M")
-        if c < 0:
-            raise InputError(f"ligand_M must be >= 0 mol/L, got {c:g}", key="ligand_M")
-        put(self, "ligand_M", c)
-        put(self, "pH", optional_pH(self.pH))
-        put(self, "temperature_C", optional_temperature_C(self.temperature_C))
-        if self.E_half_stderr_V is not None:
-            s = _number(self.E_half_stderr_V, "E_half_stderr_V")
-            if s <= 0:
-                raise InputError(
-                    f"E_half_stderr_V must be > 0 V (leave it out when unknown), got {s:g}",
-                    key="E_half_stderr_V",
-                )
-            put(self, "E_half_stderr_V", s)
-        if self.label is not None and not isinstance(self.label, str):
-            raise InputError(f"label must be a text string, got {self.label!r}", key="label")
+        clean_record(self, POINT)
 
     @property
     def temperature_K(self) -> float | None:
@@ -168,8 +93,7 @@ def load_points(ld: Any, data: dict[str, Any], model: str) -> tuple[PointEntry, 
     variable = VARIABLE_OF_MODEL.get(model, "ligand_M")
     points = []
     for index, table in enumerate(raw, start=1):
-        ld.check_keys(table, POINT_KEYS, "point", index)
-        ld.require(table, "E_half_V", "point", index)
+        ld.keys_of(table, POINT, index)
         ld.require(table, variable, "point", index)
         points.append(ld.build(PointEntry, {"name": f"point {index}", **table}, "point", index))
     return tuple(points)
@@ -192,3 +116,27 @@ def check_variable_series(ld: Any, entries: tuple, points: tuple, model: str) ->
                 f"voltammogram.{key}",
                 ld.where.line("voltammogram", key, 1),
             )
+
+
+def schema_conditions() -> list[dict[str, Any]]:
+    """JSON Schema conditions of the manifest made from :data:`VARIABLE_OF_MODEL`: each
+    solution gives the model's variable (files: the ligand models only, a file's pH or
+    temperature may come from the series); points refuse the global curve fit."""
+
+    def model_is(names: list[str]) -> dict[str, Any]:
+        model = {"const": names[0]} if len(names) == 1 else {"enum": names}
+        fit = {"required": ["model"], "properties": {"model": model}}
+        return {"required": ["fit"], "properties": {"fit": fit}}
+
+    def items_need(key: str, tables: tuple[str, ...]) -> dict[str, Any]:
+        return {"properties": {t: {"items": {"required": [key]}} for t in tables}}
+
+    others = [m for m, v in VARIABLE_OF_MODEL.items() if v != "ligand_M"]
+    out: list[dict[str, Any]] = [
+        {"if": model_is(others), "else": items_need("ligand_M", ("voltammogram", "point"))}
+    ]
+    out += [{"if": model_is([m]), "then": items_need(VARIABLE_OF_MODEL[m], ("point",))}
+            for m in others]  # fmt: skip
+    no_global = {"properties": {"fit": {"properties": {"global": {"const": False}}}}}
+    out.append({"if": {"required": ["point"]}, "then": no_global})
+    return out

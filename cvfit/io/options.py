@@ -9,6 +9,8 @@ from dataclasses import dataclass, fields, replace
 from typing import Literal
 
 from cvfit.errors import InputError
+from cvfit.io.manifest_keys import CURRENT_UNIT_NAMES, DELIMITERS, IMPORT, POTENTIAL_UNIT_NAMES
+from cvfit.io.manifest_spec import clean_record
 
 __all__ = [
     "ImportOptions",
@@ -17,31 +19,6 @@ __all__ = [
     "POTENTIAL_UNIT_NAMES",
     "CURRENT_UNIT_NAMES",
 ]
-
-#: Unit spellings accepted for ``potential_unit`` and ``current_unit`` (as in the schema).
-POTENTIAL_UNIT_NAMES: tuple[str, ...] = ("V", "mV")
-CURRENT_UNIT_NAMES: tuple[str, ...] = ("A", "mA", "uA", "\u00b5A", "\u03bcA", "nA", "pA")
-
-#: Accepted spellings of a delimiter and the canonical value each one means.
-DELIMITERS: dict[str, str] = {
-    ",": ",",
-    ";": ";",
-    "\t": "\t",
-    "tab": "\t",
-    " ": "whitespace",
-    "whitespace": "whitespace",
-}
-
-
-def _check_column(name: str, value: object) -> None:
-    if value is None or isinstance(value, str) and value.strip():
-        return
-    if isinstance(value, int) and not isinstance(value, bool) and value >= 0:
-        return
-    raise InputError(
-        f"{name} must be a column header text or a 0-based column index, got {value!r}",
-        key=name,
-    )
 
 
 @dataclass(frozen=True)
@@ -79,41 +56,12 @@ class ImportOptions:
     cycle: int | Literal["last"] = "last"
 
     def __post_init__(self) -> None:
-        for name in ("potential_column", "current_column", "time_column"):
-            _check_column(name, getattr(self, name))
-        for name, allowed in (
-            ("potential_unit", POTENTIAL_UNIT_NAMES),
-            ("current_unit", CURRENT_UNIT_NAMES),
-        ):
-            unit = getattr(self, name)
-            if unit is not None and unit not in allowed:
-                raise InputError(
-                    f"{name} {unit!r} is not known; use one of {', '.join(allowed)}", key=name
-                )
-        if self.anodic_current not in (None, "positive", "negative"):
-            raise InputError(
-                f"anodic_current must be 'positive' or 'negative', got {self.anodic_current!r}",
-                key="anodic_current",
-            )
-        if self.delimiter is not None:
-            if not isinstance(self.delimiter, str) or self.delimiter not in DELIMITERS:
-                raise InputError(
-                    f"delimiter must be ',', ';', '\\t' or 'whitespace', got {self.delimiter!r}",
-                    key="delimiter",
-                )
-            object.__setattr__(self, "delimiter", DELIMITERS[self.delimiter])
-        if self.decimal not in (None, ".", ","):
-            raise InputError(f"decimal must be '.' or ',', got {self.decimal!r}", key="decimal")
+        clean_record(self, IMPORT)
         if self.delimiter == "," and self.decimal == ",":
             raise InputError(
                 "delimiter and decimal cannot both be ','; a decimal-comma file needs ';', "
                 "tab or whitespace between columns",
                 key="decimal",
-            )
-        c = self.cycle
-        if c != "last" and (isinstance(c, bool) or not isinstance(c, int) or c < 1):
-            raise InputError(
-                f"cycle must be a whole number >= 1 or 'last', got {c!r}", key="cycle"
             )
 
     def merged(self, override: ImportOptions) -> ImportOptions:

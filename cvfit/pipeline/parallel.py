@@ -79,7 +79,8 @@ def new_process_pool(workers: int) -> ProcessPoolExecutor:
 
 @contextlib.contextmanager
 def _interrupt_held_back() -> Iterator[Callable[[], bool]]:
-    """Within the block SIGINT only sets a flag, which the yielded function reads.
+    """Within the block SIGINT only sets a flag, which the yielded function reads; a block
+    that ends normally with the flag up raises KeyboardInterrupt.
 
     Outside the main thread, or where SIGINT is ignored, nothing changes (the flag stays
     down). Worker processes forked in the block inherit the handler: it sets a flag nobody
@@ -99,6 +100,8 @@ def _interrupt_held_back() -> Iterator[Callable[[], bool]]:
         yield hit.is_set
     finally:
         signal.signal(signal.SIGINT, previous)
+    if hit.is_set():  # a Ctrl-C after the block's last look at the flag is not lost
+        raise KeyboardInterrupt
 
 
 def results_in_order(
