@@ -176,3 +176,25 @@ def test_pulse_measurements_have_no_internal_standard():
         m, internal_standard=InternalStandard(window_V=(0.3, 0.4)), exclude_non_nernstian=True
     )
     assert decision.E_half_V is None and not decision.accepted
+
+
+@pytest.mark.parametrize("technique", ["dpv", "swv", "wave"])
+def test_a_peak_or_wave_near_zero_volts_is_still_fitted(technique):
+    # the fit starts from the record's point nearest the peak (or the wave's middle); at a
+    # point a rounding error away from 0 V the relative finite-difference step of the
+    # solver is zero and the fit used to stay at its start: E½ was the grid point, 2 mV off
+    E_half = {"dpv": -0.0270, "swv": -0.0020, "wave": -0.0020}[technique]
+    if technique == "wave":
+        E = 0.35 - 0.002 * np.arange(350)
+        m = measure("wave", E, steady_wave(E, E_half, limiting_A=2e-5))
+    elif technique == "dpv":
+        E, i = dpv_record(E_half, 0.35, -0.35, step=0.005, amplitude=-0.05, width=0.05,
+                          period=0.5)  # fmt: skip
+        m = measure("dpv", E, i, series=TRUE_OX, pulse_amplitude_V=-0.05, pulse_width_s=0.05,
+                    step_V=0.005, period_s=0.5)  # fmt: skip
+    else:
+        E, i, _, _ = swv_record(E_half, 0.35, -0.35, step=0.005, amplitude=0.025, frequency=25)
+        m = measure("swv", E, i, series=TRUE_OX, amplitude_V=0.025, frequency_Hz=25.0,
+                    step_V=0.005, time=np.arange(E.size) * 0.04)  # fmt: skip
+    assert 0 < abs(E[np.argmin(np.abs(E))]) < 1e-12  # a point a rounding error off 0 V
+    assert abs(m.half_wave_estimate().E_half_V - E_half) < 0.05e-3

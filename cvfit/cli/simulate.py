@@ -20,6 +20,12 @@ import os
 import sys
 from pathlib import Path
 
+from cvfit.cli.simulate_technique import (
+    TECHNIQUE_BOUNDS,
+    TECHNIQUE_EPILOG,
+    add_technique_options,
+    handle_technique,
+)
 from cvfit.cli.simulate_variables import (
     add_variable_options,
     handle_variable_series,
@@ -69,9 +75,11 @@ BOUNDS = {
     "--log-beta-ox": (-100.0, 100.0),
     "--log-beta-red": (-100.0, 100.0),
     "--drift-step": (0.0, 0.1),
+    **TECHNIQUE_BOUNDS,
 }
 
-SIMULATE_EPILOG = f"""\
+SIMULATE_EPILOG = (
+    f"""\
 limits (checked before anything is computed):
   a voltammogram has at most {MAX_SAMPLES:,} samples (cycles x path length / --step), so
   that cvfit run can read its CSV; a series has at most {MAX_SERIES_FILES:,} files and
@@ -82,6 +90,8 @@ limits (checked before anything is computed):
   --temperature-C 0 to 100, --electrons 1 to 10, --ligand-M 0 to 20 mol/L, log10 beta
   within +-100, --noise at most 10, --resistance at most 1e9 ohm, --cdl at most 1 F.
 """
+    + TECHNIQUE_EPILOG
+)
 
 
 def _kelvin(celsius: float) -> float:
@@ -107,7 +117,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="required: reversible half-wave potential, V (series: of the uncomplexed couple)",
     )
     a("--electrons", metavar="N", default="1", help="electrons n (default 1)")
-    a("--scan-rate", metavar="V/s", default="0.1", help="scan rate, V/s (default 0.1)")
+    a("--scan-rate", metavar="V/s", help="scan rate, V/s (default 0.1; wave: 0.0005)")
     a("--start", metavar="V", help="start potential, V (default E½ + 0.3 V; red: E½ − 0.3 V)")
     a(
         "--switch",
@@ -116,7 +126,8 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="switching potential, V; repeat or give a comma list for several vertices "
         "(write --switch=-0.3,0.4 when the list starts with a minus sign)",
     )
-    a("--step", metavar="V", default="0.001", help="potential step between samples, V")
+    a("--step", metavar="V", help="potential step between samples, V (default 0.001; "
+      "dpv, swv: 0.005; wave: 0.002)")  # fmt: skip
     a("--k0", metavar="cm/s", help="standard rate constant, cm/s (omitted: Nernstian)")
     a("--alpha", default="0.5", help="transfer coefficient (default 0.5)")
     a("--diffusion", metavar="cm2/s", default="1e-5", help="D of the oxidised form, cm²/s")
@@ -174,6 +185,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         "from one solution to the next, V (default 0)",
     )
     add_variable_options(a)
+    add_technique_options(a)
     a("--title", default="simulated titration", help="series: title for the manifest")
     a("--out", metavar="FILE|DIR", help="output CSV file (series: output folder)")
     a("--force", action="store_true", help="replace existing output files")
@@ -265,8 +277,15 @@ def _settings(args: argparse.Namespace) -> dict:
         raise InputError("--alpha must lie between 0 and 1", source=_CMD, key="--alpha")
     return {
         "electrons": electrons,
-        "scan_rate_V_s": _number(args.scan_rate, "--scan-rate", minimum=0.0, strict=True),
-        "step_V": _number(args.step, "--step", minimum=0.0, strict=True),
+        "scan_rate_V_s": _number(
+            "0.1" if args.scan_rate is None else args.scan_rate,
+            "--scan-rate",
+            minimum=0.0,
+            strict=True,
+        ),
+        "step_V": _number(
+            "0.001" if args.step is None else args.step, "--step", minimum=0.0, strict=True
+        ),  # fmt: skip
         "k0_cm_s": None if args.k0 is None else _number(args.k0, "--k0", minimum=0, strict=True),
         "alpha": alpha,
         "D_ox_cm2_s": _number(args.diffusion, "--diffusion", minimum=0.0, strict=True),
@@ -366,6 +385,22 @@ def _check_writable(folder: Path) -> None:
     os.unlink(tmp)
 
 
+def _check_out_file(out: Path, force: bool) -> None:
+    """Refuse an --out file that exists (without --force), is not a regular file, or whose
+    folder is missing or not writable, before anything is simulated."""
+    if out.exists() and not force:
+        raise InputError(f"{out} exists; use --force to replace it", source=_CMD, key="--out")
+    if out.is_dir():
+        raise InputError(f"--out {out} is a folder; give a file name", source=_CMD, key="--out")
+    if out.exists() and not out.is_file():
+        raise InputError(
+            f"--out {out} is not a regular file; give a file name", source=_CMD, key="--out"
+        )
+    if out.parent and not out.parent.is_dir():
+        raise InputError(f"folder {out.parent} does not exist", source=_CMD, key="--out")
+    _check_writable(out.parent)
+
+
 def _out_path(args: argparse.Namespace) -> Path:
     if not args.out:
         what = "a folder" if args.series else "a CSV file name"
@@ -388,24 +423,17 @@ def handle(args: argparse.Namespace) -> int:
     from cvfit.simulate.voltammogram import simulate_cv
 
     out = _out_path(args)
+    if args.technique != "cv":
+        return handle_technique(
+            args, E_half, settings, noise, seed, out, _number, _list, _check_series_size,
+            max_samples=MAX_SAMPLES, check_out_file=_check_out_file,
+        )  # fmt: skip
     try:
         if args.series:
             return _handle_series(args, E_half, settings, noise, seed, out)
         start, switch = _window(args, E_half, E_half)
         _check_samples(start, switch, settings["cycles"], settings["step_V"])
-        if out.exists() and not args.force:
-            raise InputError(f"{out} exists; use --force to replace it", source=_CMD, key="--out")
-        if out.is_dir():
-            raise InputError(
-                f"--out {out} is a folder; give a file name", source=_CMD, key="--out"
-            )
-        if out.exists() and not out.is_file():
-            raise InputError(
-                f"--out {out} is not a regular file; give a file name", source=_CMD, key="--out"
-            )
-        if out.parent and not out.parent.is_dir():
-            raise InputError(f"folder {out.parent} does not exist", source=_CMD, key="--out")
-        _check_writable(out.parent)
+        _check_out_file(out, bool(args.force))
         vg = simulate_cv(
             E_half_V=E_half,
             start_V=start,

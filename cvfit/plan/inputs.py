@@ -3,7 +3,8 @@
 Every problem is an :class:`cvfit.errors.InputError` naming the file and the key. The keys
 are listed in docs/plan.md::
 
-    [series]   electrons, temperature_C, metal_total_M (optional), E_half_free_V (optional)
+    [series]   electrons, temperature_C, metal_total_M (optional), E_half_free_V (optional),
+               technique (optional: cv, dpv, swv or wave)
     [expect]   log10_beta_ratio, delta_ligands (Lingane) or log10_beta_ox / log10_beta_red
                (stepwise), each optionally with ``<key>_range``; known_form (stepwise, both)
     [design]   ligand_min_M, ligand_max_M, points, E_half_stderr_V or from_results,
@@ -31,7 +32,14 @@ __all__ = ["PlanInput", "load_plan", "plan_from_mapping", "CRITERIA"]
 CRITERIA = ("D", "A")
 
 _SECTIONS = {
-    "series": {"electrons", "temperature_C", "metal_total_M", "E_half_free_V", "title"},
+    "series": {
+        "electrons",
+        "temperature_C",
+        "metal_total_M",
+        "E_half_free_V",
+        "title",
+        "technique",
+    },
     "expect": {
         "log10_beta_ratio",
         "log10_beta_ratio_range",
@@ -55,6 +63,10 @@ _SECTIONS = {
         "optimise_for",
     },
 }
+
+
+#: How a planned series may be recorded (``[series] technique``, as in a manifest).
+PLAN_TECHNIQUES = ("cv", "dpv", "swv", "wave")
 
 
 @dataclass(frozen=True)
@@ -99,6 +111,11 @@ class PlanInput:
         Design criterion.
     optimise_for : tuple of str
         Constants of interest (default all).
+    title : str
+        Free text.
+    technique : {"cv", "dpv", "swv", "wave"}
+        How the series will be recorded: ``--simulate`` writes it so, at the noise that
+        gives ``E_half_stderr_V`` by that technique.
     """
 
     source: str
@@ -121,6 +138,7 @@ class PlanInput:
     criterion: str
     optimise_for: tuple[str, ...]
     title: str = "titration plan"
+    technique: str = "cv"
 
     def __post_init__(self) -> None:
         if self.model not in ("lingane", "stepwise"):
@@ -323,6 +341,12 @@ def plan_from_mapping(doc: dict[str, Any], source: str) -> PlanInput:
     title = series.get("title", "titration plan")
     if not isinstance(title, str):
         raise _err(src, "series.title", "title must be a string")
+    technique = series.get("technique", "cv")
+    if technique not in PLAN_TECHNIQUES:
+        allowed = ", ".join(PLAN_TECHNIQUES)
+        raise _err(
+            src, "series.technique", f"technique must be one of {allowed}, got {technique!r}"
+        )
 
     for key in ("ligand_min_M", "ligand_max_M", "points"):
         if key not in design:
@@ -417,6 +441,7 @@ def plan_from_mapping(doc: dict[str, Any], source: str) -> PlanInput:
         criterion=criterion,
         optimise_for=tuple(w for w in names if w in wanted),
         title=title,
+        technique=technique,
     )
 
 

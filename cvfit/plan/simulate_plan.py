@@ -1,7 +1,9 @@
 """Write a planned titration as simulated voltammograms and a manifest (``--simulate``).
 
 The series is the ligand-free reference plus every planned solution, simulated by
-:func:`cvfit.simulate.titration_series.simulate_series` at the expected constants; with
+:func:`cvfit.simulate.titration_series.simulate_series` (or, for a plan's ``technique``
+dpv, swv or wave, :func:`cvfit.simulate.program_series.simulate_technique_series`) at the
+expected constants; with
 ``metal_total_M`` each voltammogram is simulated at the free ligand of the mass balance and
 the manifest records the total ligand and the metal, as a chemist's manifest would, so
 that ``cvfit run`` applies its own free-ligand correction.
@@ -12,6 +14,7 @@ from __future__ import annotations
 import math
 import re
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -19,6 +22,7 @@ from cvfit.chemistry.complexation import complexed_half_wave_V
 from cvfit.plan.information import free_ligand
 from cvfit.plan.planner import spec_of
 from cvfit.plan.result import PlanResult
+from cvfit.simulate.program_series import simulate_technique_series
 from cvfit.simulate.titration_series import simulate_series
 
 __all__ = [
@@ -27,6 +31,7 @@ __all__ = [
     "LINGANE_LOWER_LOG10_BETA",
     "E_HALF_SD_PER_NOISE_V",
     "noise_fraction_for",
+    "E_HALF_SD_PER_NOISE_BY_TECHNIQUE_V",
 ]
 
 #: Potential window beyond the highest/lowest E½ of the series, V.
@@ -40,9 +45,18 @@ LINGANE_LOWER_LOG10_BETA = -30.0
 E_HALF_SD_PER_NOISE_V = 0.0356
 
 
-def noise_fraction_for(E_half_stderr_V: float, electrons: int) -> float:
+#: The same for a record of each pulse technique and a wave, with the programs of
+#: :data:`cvfit.simulate.program_series.PROGRAM_DEFAULTS`: the pooled SD over 360 records
+#: at 0.5 % noise of the peak (or limiting) current, n = 1 (the wave's E½ scatters unevenly
+#: from seed to seed: 0.016–0.024 V in sets of 60–100); for n = 2 (60 records) 0.0118,
+#: 0.0134, 0.0162 V, where the 1/√n below gives 0.0116, 0.0120, 0.0142 V.
+E_HALF_SD_PER_NOISE_BY_TECHNIQUE_V = {"dpv": 0.0164, "swv": 0.0169, "wave": 0.0201}
+
+
+def noise_fraction_for(E_half_stderr_V: float, electrons: int, technique: str = "cv") -> float:
     """Noise fraction of the simulated records that gives the plan's per-file E½ error."""
-    return float(E_half_stderr_V) * math.sqrt(electrons) / E_HALF_SD_PER_NOISE_V
+    per_noise = E_HALF_SD_PER_NOISE_BY_TECHNIQUE_V.get(technique, E_HALF_SD_PER_NOISE_V)
+    return float(E_half_stderr_V) * math.sqrt(electrons) / per_noise
 
 
 def _constants(result: PlanResult) -> tuple[list[float], list[float]]:
@@ -77,7 +91,7 @@ def simulate_plan(
     """
     req = result.request
     if noise_fraction is None:
-        noise_fraction = noise_fraction_for(req.E_half_stderr_V, req.electrons)
+        noise_fraction = noise_fraction_for(req.E_half_stderr_V, req.electrons, req.technique)
     d = result.design(design)
     if d is None:
         raise ValueError(f"the plan has no {design!r} design")
@@ -93,21 +107,24 @@ def simulate_plan(
         electrons=req.electrons,
         temperature_K=req.temperature_K,
     )
-    manifest = simulate_series(
-        out_dir,
-        ligand_M=ligands,
-        E_half_free_V=req.E_half_free_V,
-        log10_beta_ox=beta_ox,
-        log10_beta_red=beta_red,
-        electrons=req.electrons,
-        title=f"{req.title} ({design} design, simulated)",
-        noise_fraction=noise_fraction,
-        seed=seed,
-        overwrite=overwrite,
-        start_V=float(np.max(halves)) + SIMULATION_MARGIN_V,
-        switch_V=float(np.min(halves)) - SIMULATION_MARGIN_V,
+    title = f"{req.title} ({design} design, simulated)"
+    common: dict[str, Any] = dict(
+        ligand_M=ligands, E_half_free_V=req.E_half_free_V, log10_beta_ox=beta_ox,
+        log10_beta_red=beta_red, electrons=req.electrons, title=title,
+        noise_fraction=noise_fraction, seed=seed, overwrite=overwrite,
         temperature_K=req.temperature_K,
-    )
+    )  # fmt: skip
+    top, bottom = float(np.max(halves)), float(np.min(halves))
+    if req.technique == "cv":
+        manifest = simulate_series(
+            out_dir, start_V=top + SIMULATION_MARGIN_V, switch_V=bottom - SIMULATION_MARGIN_V,
+            **common,
+        )  # fmt: skip
+    else:  # scanned from where the oxidised bulk form does not react
+        window = (top + SIMULATION_MARGIN_V, bottom - SIMULATION_MARGIN_V)
+        manifest = simulate_technique_series(
+            out_dir, technique=req.technique, window_V=window, **common
+        )
     text = manifest.read_text(encoding="utf-8")
     totals = iter([0.0, *(float(x) for x in total)])
     text = re.sub(r"^ligand_M = .*$", lambda _: f"ligand_M = {next(totals)!r}", text, flags=re.M)

@@ -28,7 +28,12 @@ from cvfit.simulate.titration_series import MANIFEST_NAME, toml_string
 from cvfit.units import ZERO_CELSIUS_K
 from cvfit.voltammogram import Voltammogram
 
-__all__ = ["simulate_technique_series", "write_record_csv", "PROGRAM_DEFAULTS"]
+__all__ = [
+    "simulate_technique_series",
+    "simulate_technique_record",
+    "write_record_csv",
+    "PROGRAM_DEFAULTS",
+]
 
 #: The program of each technique when not given: a common choice of each (common practice).
 PROGRAM_DEFAULTS: dict[str, dict[str, float]] = {
@@ -63,8 +68,13 @@ def write_record_csv(
     Path(path).write_text("\n".join(rows) + "\n", encoding="utf-8")
 
 
-def _one(technique: str, E_half: float, window: tuple[float, float], program: dict[str, float],
-         couple: dict[str, Any], rpm: float | None) -> Voltammogram | PulseSimulation:  # fmt: skip
+def simulate_technique_record(
+    technique: str, E_half: float, window: tuple[float, float], program: dict[str, float],
+    couple: dict[str, Any], rpm: float | None,
+) -> Voltammogram | PulseSimulation:  # fmt: skip
+    """One record by *technique* over *window* (start, stop) with *program* (the keys of
+    :data:`PROGRAM_DEFAULTS`, the DPV amplitude signed) and *couple* (the simulator's
+    keywords); *rpm* overrides the program's rotation rate of a wave."""
     start, stop = window
     if technique == "wave":
         return simulate_wave(
@@ -151,7 +161,7 @@ def simulate_technique_series(
     records = []
     for E_half, s, name, rpm in zip(halves, seeds, names, rates, strict=True):
         records.append(
-            _one(technique, float(E_half), window_V, prog,
+            simulate_technique_record(technique, float(E_half), window_V, prog,
                  {**couple, "electrons": electrons, "noise_fraction": noise_fraction,
                   "seed": s, "source": name}, rpm)
         )  # fmt: skip

@@ -105,6 +105,12 @@ def _first_guess(E: np.ndarray, i: np.ndarray) -> tuple[int, float]:
     return j, float(np.sign(dev[j]) or 1.0)
 
 
+#: The solver's parameters are offsets from this value (V, and log of the width factor):
+#: its finite-difference step is relative to each parameter, so a parameter at (or a
+#: rounding error from) zero would get no step and the fit would stay at its start.
+_PIVOT = 1.0
+
+
 def _fit_window(E, i, Ec0, a, nf, half_V) -> tuple[np.ndarray, np.ndarray, float, float] | None:
     """Least squares over E within Ec0 ± half_V: (params, covariance, noise, mid)."""
     keep = np.abs(E - Ec0) <= half_V
@@ -114,12 +120,12 @@ def _fit_window(E, i, Ec0, a, nf, half_V) -> tuple[np.ndarray, np.ndarray, float
     mid = float(np.mean(x))
 
     def resid(p: np.ndarray) -> np.ndarray:
-        X = _design(x, p[0], math.exp(p[1]), a, nf, mid)
+        X = _design(x, Ec0 + p[0] - _PIVOT, math.exp(p[1] - _PIVOT), a, nf, mid)
         beta, *_ = np.linalg.lstsq(X, y, rcond=None)
         return y - X @ beta
 
-    sol = least_squares(resid, [Ec0, 0.0], x_scale=[0.01, 0.1], method="lm")
-    Ec, scale = float(sol.x[0]), math.exp(float(sol.x[1]))
+    sol = least_squares(resid, [_PIVOT, _PIVOT], x_scale=[0.01, 0.1], method="lm")
+    Ec, scale = Ec0 + float(sol.x[0]) - _PIVOT, math.exp(float(sol.x[1]) - _PIVOT)
     X = _design(x, Ec, scale, a, nf, mid)
     beta, *_ = np.linalg.lstsq(X, y, rcond=None)
     r = y - X @ beta

@@ -108,13 +108,15 @@ def fit_wave(E_V: np.ndarray, current_A: np.ndarray, *, nf: float) -> WaveFit | 
     halfway = 0.5 * (np.mean(i[lo_end]) + np.mean(i[hi_end]))
     E0 = float(E[np.argmin(np.abs(i - halfway))])
 
+    # E½ as an offset from E0 + 1 V: the solver's finite-difference step is relative to
+    # each parameter, and a start a rounding error from 0 V would get no step at all
     def resid(p: np.ndarray) -> np.ndarray:
-        X = _design(E, p[0], math.exp(p[1]), mid)
+        X = _design(E, E0 + p[0] - 1.0, math.exp(p[1]), mid)
         beta, *_ = np.linalg.lstsq(X, i, rcond=None)
         return i - X @ beta
 
-    sol = least_squares(resid, [E0, math.log(nf)], x_scale=[0.01, 0.1], method="lm")
-    E_half, g = float(sol.x[0]), math.exp(float(sol.x[1]))
+    sol = least_squares(resid, [1.0, math.log(nf)], x_scale=[0.01, 0.1], method="lm")
+    E_half, g = E0 + float(sol.x[0]) - 1.0, math.exp(float(sol.x[1]))
     X = _design(E, E_half, g, mid)
     beta, *_ = np.linalg.lstsq(X, i, rcond=None)
     r = i - X @ beta
