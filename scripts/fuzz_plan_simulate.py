@@ -267,6 +267,13 @@ def _children(pid: int) -> int:
         return 0
 
 
+def _as_from_a_terminal() -> None:
+    """In the child before exec: SIGINT at its default and unblocked, as a terminal's command
+    has it (this script may itself run where SIGINT is ignored, which a child inherits)."""
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+    signal.pthread_sigmask(signal.SIG_UNBLOCK, [signal.SIGINT])
+
+
 def interrupted_runs(root: Path, timeout: float, rounds: int = 16) -> tuple[list[str], int]:
     """Ctrl-C to pooled runs, sent once the workers are there and 0-1.5 s into their work:
     (failures, runs interrupted). Each must end with one line, exit 130, no staging left."""
@@ -283,7 +290,7 @@ def interrupted_runs(root: Path, timeout: float, rounds: int = 16) -> tuple[list
         p = subprocess.Popen(
             [*CVFIT, "run", str(folder / "s" / "series.toml"), "--out", str(out), "--jobs", "2"],
             stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True,
-            start_new_session=True, cwd=folder,
+            start_new_session=True, cwd=folder, preexec_fn=_as_from_a_terminal,
         )  # fmt: skip
         deadline = time.monotonic() + timeout
         while _children(p.pid) < 2 and p.poll() is None and time.monotonic() < deadline:

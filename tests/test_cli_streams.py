@@ -117,6 +117,14 @@ def _children(pid: int) -> list[int]:
     return [int(x) for x in text.split()]
 
 
+def _as_from_a_terminal() -> None:
+    """In the child before exec: SIGINT as a terminal's command gets it (default, not
+    blocked). A test runner's worker may ignore it, and a child inherits an ignored signal:
+    cvfit then rightly leaves it ignored, as for a command started in the background."""
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+    signal.pthread_sigmask(signal.SIG_UNBLOCK, [signal.SIGINT])
+
+
 @pytest.fixture(scope="module")
 def long_series(tmp_path_factory) -> Path:
     """60 files: a pooled run that is still busy when Ctrl-C comes."""
@@ -136,7 +144,7 @@ def test_ctrl_c_to_a_pooled_run_is_one_line_exit_130_and_no_staging(long_series,
     for k in range(8):  # until two runs were interrupted in their work
         out = tmp_path / f"out{k}"
         p = _start(["run", str(long_series), "--out", str(out), "--jobs", "2", "--quiet"],
-                   tmp_path, start_new_session=True)  # fmt: skip
+                   tmp_path, start_new_session=True, preexec_fn=_as_from_a_terminal)  # fmt: skip
         deadline = time.monotonic() + 60
         while len(_children(p.pid)) < 2 and p.poll() is None and time.monotonic() < deadline:
             time.sleep(0.02)
