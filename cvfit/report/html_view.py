@@ -231,6 +231,7 @@ _FILE_COLUMNS = (
     "E_half_stderr_V",
     "reversible",
     "used_in_fit",
+    "excluded_by_user",
     "flags",
     "technique",
 )
@@ -327,12 +328,14 @@ def file_table_view(files: Sequence[Mapping[str, Any]], technique: str = "cv") -
             *(_extra_cell(k, f.get(k)) for k in extra),
         ]
         own = [fl for fl in f.get("flags") or [] if _severity(fl) != "info"]
+        reason = f.get("excluded_by_user")
         rows.append(
             {
                 "file": text(f.get("file")),
                 "label": text(f.get("label")),
                 "cells": cells,
                 "flags": flag_view(own),
+                "excluded": text(reason) if reason else "",
             }
         )
     return {"heads": heads, "rows": rows, "notes": _notes(files)}

@@ -83,10 +83,21 @@ def _file_table(result: SeriesResult) -> list[str]:
         name = printable(f.file)
         name = name if len(name) <= 22 else "…" + name[-21:]
         row = " ".join(f"{c.get(h, ''):>{widths[h]}}" for h in heads)
-        lines.append(
-            f"{name:<22} {value(f):>9} {e_half:>{w}} {row} {rev:>4} "
-            f"{'yes' if f.used_in_fit else '-':>4}"
-        )
+        used = "yes" if f.used_in_fit else ("excl" if f.excluded_by_user else "-")
+        lines.append(f"{name:<22} {value(f):>9} {e_half:>{w}} {row} {rev:>4} {used:>4}")
+    lines.extend(_excluded_lines(result))
+    return lines
+
+
+def _excluded_lines(result: SeriesResult) -> list[str]:
+    """The files the manifest leaves out (``exclude``), each with the user's reason."""
+    left = [f for f in result.files if f.excluded_by_user is not None]
+    if not left:
+        return []
+    lines = ["excl = left out of the fits by the manifest:"]
+    for f in left:
+        reason = printable(str(f.excluded_by_user), limit=200)
+        lines.append(f"  {printable(f.file)}: {reason}")
     return lines
 
 

@@ -1,0 +1,135 @@
+"""A file left out by hand: ``exclude = "reason"`` on a ``[[voltammogram]]``.
+
+The file is read, analysed and shown, but no fit takes its E½ — neither as a titration
+point nor as the reference E½(s) — and the reason appears in results.json, the terminal
+summary, the HTML report and an info flag. The outlier is a file whose potentials are
+shifted by 40 mV (as a reference electrode that moved for one solution would shift them):
+a clean voltammogram the screen cannot catch. Truth: tests/seriesfactory.py (Lingane's
+relation, Lingane, Chem. Rev. 29 (1941) 1), the same tolerances as tests/test_pipeline.py.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import fields
+from pathlib import Path
+
+import pytest
+from seriesfactory import (
+    LIGAND_M,
+    TRUE_DELTA_LIGANDS,
+    TRUE_LOG10_RATIO,
+    simulate_point,
+    write_manifest,
+    write_plain_csv,
+)
+
+from cvfit.cli import main
+from cvfit.errors import InputError
+from cvfit.io import load_manifest
+from cvfit.pipeline.series import analyse_series
+
+SHIFT_V = 0.040
+OUTLIER = "L_0.04.csv"  # one titration point
+BAD_FREE = "free_b.csv"  # a second ligand-free solution, shifted too
+REASON = "bubble on the electrode"
+
+
+def _write_files(folder: Path) -> list[dict]:
+    entries = []
+    for k, ligand in enumerate(LIGAND_M):
+        v = simulate_point(ligand, seed=40 + k)
+        name = "free_a.csv" if ligand == 0 else f"L_{ligand:g}.csv"
+        write_plain_csv(folder / name, v)
+        entries.append({"file": name, "ligand_M": ligand, "scan_rate_V_s": 0.1})
+    entries.insert(1, {"file": BAD_FREE, "ligand_M": 0.0, "scan_rate_V_s": 0.1})
+    return entries
+
+
+@pytest.fixture(scope="module")
+def runs(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("exclude")
+    entries = _write_files(folder)
+    _shift_files(folder, entries)
+    marked = [{**e, "exclude": REASON} if e["file"] in (OUTLIER, BAD_FREE) else e for e in entries]
+    dropped = [e for e in entries if e["file"] not in (OUTLIER, BAD_FREE)]
+    out = {}
+    for name, these in (("all", entries), ("marked", marked), ("dropped", dropped)):
+        path = write_manifest(folder / f"{name}.toml", these)
+        out[name] = (path, analyse_series(load_manifest(path)))
+    return out
+
+
+def _shift_files(folder: Path, entries: list[dict]) -> None:
+    """Write the outlier and the second ligand-free file with potentials moved by SHIFT_V."""
+    for name, ligand, seed in ((OUTLIER, 0.04, 43), (BAD_FREE, 0.0, 99)):
+        v = simulate_point(ligand, seed=seed)
+        v = type(v)(**{**_fields(v), "potential_V": v.potential_V + SHIFT_V})
+        write_plain_csv(folder / name, v)
+
+
+def _fields(v) -> dict:
+    return {f.name: getattr(v, f.name) for f in fields(v) if f.init}
+
+
+def test_the_excluded_outlier_gives_the_constants_of_the_series_without_it(runs):
+    _, everything = runs["all"]
+    _, marked = runs["marked"]
+    _, dropped = runs["dropped"]
+    assert marked.fit is not None and dropped.fit is not None and everything.fit is not None
+    for name in ("log10_beta_ratio", "delta_ligands"):
+        got = getattr(marked.fit, name).value
+        assert got == pytest.approx(getattr(dropped.fit, name).value, abs=1e-9)
+    assert abs(marked.fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) < 0.03
+    assert abs(marked.fit.delta_ligands.value - TRUE_DELTA_LIGANDS) < 0.05
+    # the outliers do move the constants when they are used: the test can fail
+    assert abs(everything.fit.log10_beta_ratio.value - TRUE_LOG10_RATIO) > 0.1
+    assert marked.reference.E_half_V == pytest.approx(dropped.reference.E_half_V, abs=1e-12)
+    assert BAD_FREE not in marked.reference.files and BAD_FREE in everything.reference.files
+
+
+def test_the_excluded_files_are_analysed_and_carry_the_reason(runs):
+    _, marked = runs["marked"]
+    by_name = {f.file: f for f in marked.files}
+    for name in (OUTLIER, BAD_FREE):
+        f = by_name[name]
+        assert f.E_half_V is not None and f.reversible is True  # measured, screened
+        assert not f.used_in_fit and not f.half_wave.accepted
+        assert f.half_wave.why == REASON and f.excluded_by_user == REASON
+        codes = {fl.code: fl for fl in f.flags}
+        assert REASON in codes["EXCLUDED_BY_USER"].message
+        assert codes["EXCLUDED_BY_USER"].severity == "info"
+    # left out by hand is not "failed the screen"
+    assert not [fl for fl in marked.flags if fl.code == "FILES_EXCLUDED"]
+    assert marked.nernstian
+
+
+def test_the_reason_appears_in_every_output(runs, tmp_path, capsys):
+    path, _ = runs["marked"]
+    out = tmp_path / "out"
+    assert main(["run", str(path), "--out", str(out)]) == 0
+    terminal = capsys.readouterr().out
+    data = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    files = {v["file"]: v for v in data["voltammograms"]}
+    assert files[OUTLIER]["excluded_by_user"] == REASON
+    assert files[OUTLIER]["used_in_fit"] is False
+    assert files["free_a.csv"]["excluded_by_user"] is None
+    assert "EXCLUDED_BY_USER" in {fl["code"] for fl in files[OUTLIER]["flags"]}
+    row = next(line for line in terminal.splitlines() if line.startswith(OUTLIER))
+    assert row.split()[-1] == "excl"
+    assert f"  {OUTLIER}: {REASON}" in terminal and f"  {BAD_FREE}: {REASON}" in terminal
+    html = (out / "report.html").read_text(encoding="utf-8")
+    assert html.count('class="has-flags excluded"') == 2
+    assert html.count(f"Left out of the fits by the manifest: {REASON}") == 2
+
+
+@pytest.mark.parametrize("value", ['""', '"   "', "true", "3"])
+def test_exclude_must_be_a_reason(tmp_path, value):
+    path = tmp_path / "series.toml"
+    path.write_text(
+        '[series]\nelectrons = 1\n[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.0\n'
+        f"exclude = {value}\n",
+        encoding="utf-8",
+    )
+    with pytest.raises(InputError, match="exclude.*non-empty text string"):
+        load_manifest(path)
