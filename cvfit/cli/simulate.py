@@ -116,10 +116,20 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="switching potential, V; repeat or give a comma list for several vertices "
         "(write --switch=-0.3,0.4 when the list starts with a minus sign)",
     )
-    a("--step", metavar="V", default="0.001", help="potential step between samples, V")
+    a(
+        "--step",
+        metavar="V",
+        default="0.001",
+        help="potential step between samples, V (default 0.001)",
+    )
     a("--k0", metavar="cm/s", help="standard rate constant, cm/s (omitted: Nernstian)")
     a("--alpha", default="0.5", help="transfer coefficient (default 0.5)")
-    a("--diffusion", metavar="cm2/s", default="1e-5", help="D of the oxidised form, cm²/s")
+    a(
+        "--diffusion",
+        metavar="cm2/s",
+        default="1e-5",
+        help="D of the oxidised form, cm²/s (default 1e-5)",
+    )
     a("--diffusion-red", metavar="cm2/s", help="D of the reduced form (default: --diffusion)")
     a(
         "--concentration",
@@ -127,7 +137,12 @@ def register(sub: argparse._SubParsersAction) -> None:
         default="1e-3",
         help="bulk concentration, mol/L as in manifests (default 1e-3, i.e. 1 mM)",
     )
-    a("--initial", choices=("ox", "red"), default="ox", help="form present at the start")
+    a(
+        "--initial",
+        choices=("ox", "red"),
+        default="ox",
+        help="form present at the start (default ox)",
+    )
     a("--area", metavar="cm2", default="0.0707", help="electrode area, cm² (default 0.0707)")
     a("--cycles", default="1", help="number of cycles (default 1)")
     a("--temperature-C", metavar="C", default="25", help="temperature, °C (default 25)")
@@ -140,8 +155,13 @@ def register(sub: argparse._SubParsersAction) -> None:
     )
     a("--slope", metavar="A/V", default="0", help="background slope, A/V (default 0)")
     a("--offset", metavar="A", default="0", help="background offset, A (default 0)")
-    a("--resistance", metavar="ohm", default="0", help="uncompensated resistance, Ω")
-    a("--noise", metavar="FRACTION", default="0", help="noise SD / Randles–Ševčík peak current")
+    a("--resistance", metavar="ohm", default="0", help="uncompensated resistance, Ω (default 0)")
+    a(
+        "--noise",
+        metavar="FRACTION",
+        default="0",
+        help="noise SD / Randles–Ševčík peak current (default 0)",
+    )
     a("--seed", help="noise seed (whole number)")
     a("--series", action="store_true", help="write a titration series and its manifest")
     a("--ligand-M", metavar="LIST", help="series: ligand concentrations, mol/L, comma list")
@@ -156,7 +176,8 @@ def register(sub: argparse._SubParsersAction) -> None:
         "--log-beta-red",
         metavar="LIST",
         default="",
-        help="series: overall log10 β_j of the reduced form, j = 1, 2, … (comma list)",
+        help="series: overall log10 β_j of the reduced form, j = 1, 2, … (comma list; "
+        "default: not complexed)",
     )
     a("--diffusion-ox-complexed", metavar="cm2/s", help="series: D of the ox. complexes")
     a("--diffusion-red-complexed", metavar="cm2/s", help="series: D of the red. complexes")
@@ -174,8 +195,17 @@ def register(sub: argparse._SubParsersAction) -> None:
         "from one solution to the next, V (default 0)",
     )
     add_variable_options(a)
-    a("--title", default="simulated titration", help="series: title for the manifest")
-    a("--out", metavar="FILE|DIR", help="output CSV file (series: output folder)")
+    a(
+        "--title",
+        default="simulated titration",
+        help="series: title for the manifest (default 'simulated titration')",
+    )
+    a(
+        "--out",
+        metavar="FILE|DIR",
+        required=True,
+        help="required: output CSV file (series: output folder)",
+    )
     a("--force", action="store_true", help="replace existing output files")
     p.set_defaults(handler=handle)
 
