@@ -10,6 +10,7 @@ relation, Lingane, Chem. Rev. 29 (1941) 1), the same tolerances as tests/test_pi
 
 from __future__ import annotations
 
+import csv
 import json
 from dataclasses import fields
 from pathlib import Path
@@ -33,6 +34,7 @@ SHIFT_V = 0.040
 OUTLIER = "L_0.04.csv"  # one titration point
 BAD_FREE = "free_b.csv"  # a second ligand-free solution, shifted too
 REASON = "bubble on the electrode"
+LABEL = "fourth addition"
 
 
 def _write_files(folder: Path) -> list[dict]:
@@ -41,7 +43,8 @@ def _write_files(folder: Path) -> list[dict]:
         v = simulate_point(ligand, seed=40 + k)
         name = "free_a.csv" if ligand == 0 else f"L_{ligand:g}.csv"
         write_plain_csv(folder / name, v)
-        entries.append({"file": name, "ligand_M": ligand, "scan_rate_V_s": 0.1})
+        entry = {"file": name, "ligand_M": ligand, "scan_rate_V_s": 0.1}
+        entries.append({**entry, "label": LABEL} if name == OUTLIER else entry)
     entries.insert(1, {"file": BAD_FREE, "ligand_M": 0.0, "scan_rate_V_s": 0.1})
     return entries
 
@@ -118,6 +121,10 @@ def test_the_reason_appears_in_every_output(runs, tmp_path, capsys):
     row = next(line for line in terminal.splitlines() if line.startswith(OUTLIER))
     assert row.split()[-1] == "excl"
     assert f"  {OUTLIER}: {REASON}" in terminal and f"  {BAD_FREE}: {REASON}" in terminal
+    with (out / "voltammograms.csv").open(encoding="utf-8", newline="") as fh:
+        table = {row["file"]: row for row in csv.DictReader(fh)}
+    assert table[OUTLIER]["excluded_by_user"] == REASON and table[OUTLIER]["label"] == LABEL
+    assert table["free_a.csv"]["excluded_by_user"] == "" and table["free_a.csv"]["label"] == ""
     html = (out / "report.html").read_text(encoding="utf-8")
     assert html.count('class="has-flags excluded"') == 2
     assert html.count(f"Left out of the fits by the manifest: {REASON}") == 2
