@@ -38,13 +38,16 @@ LABEL = "fourth addition"
 
 
 def _write_files(folder: Path) -> list[dict]:
+    """The series, the outlier and a second ligand-free file with potentials moved by
+    SHIFT_V."""
     entries = []
     for k, ligand in enumerate(LIGAND_M):
         v = simulate_point(ligand, seed=40 + k)
         name = "free_a.csv" if ligand == 0 else f"L_{ligand:g}.csv"
-        write_plain_csv(folder / name, v)
+        write_plain_csv(folder / name, _shifted(v) if name == OUTLIER else v)
         entry = {"file": name, "ligand_M": ligand, "scan_rate_V_s": 0.1}
         entries.append({**entry, "label": LABEL} if name == OUTLIER else entry)
+    write_plain_csv(folder / BAD_FREE, _shifted(simulate_point(0.0, seed=99)))
     entries.insert(1, {"file": BAD_FREE, "ligand_M": 0.0, "scan_rate_V_s": 0.1})
     return entries
 
@@ -53,7 +56,6 @@ def _write_files(folder: Path) -> list[dict]:
 def runs(tmp_path_factory):
     folder = tmp_path_factory.mktemp("exclude")
     entries = _write_files(folder)
-    _shift_files(folder, entries)
     marked = [{**e, "exclude": REASON} if e["file"] in (OUTLIER, BAD_FREE) else e for e in entries]
     dropped = [e for e in entries if e["file"] not in (OUTLIER, BAD_FREE)]
     out = {}
@@ -63,12 +65,8 @@ def runs(tmp_path_factory):
     return out
 
 
-def _shift_files(folder: Path, entries: list[dict]) -> None:
-    """Write the outlier and the second ligand-free file with potentials moved by SHIFT_V."""
-    for name, ligand, seed in ((OUTLIER, 0.04, 43), (BAD_FREE, 0.0, 99)):
-        v = simulate_point(ligand, seed=seed)
-        v = type(v)(**{**_fields(v), "potential_V": v.potential_V + SHIFT_V})
-        write_plain_csv(folder / name, v)
+def _shifted(v):
+    return type(v)(**{**_fields(v), "potential_V": v.potential_V + SHIFT_V})
 
 
 def _fields(v) -> dict:
