@@ -29,6 +29,7 @@ from cvfit.cli import main
 from cvfit.errors import InputError
 from cvfit.io import load_manifest
 from cvfit.pipeline.series import analyse_series
+from cvfit.report.headline import screen_sentence, screen_short
 
 SHIFT_V = 0.040
 OUTLIER = "L_0.04.csv"  # one titration point
@@ -123,9 +124,26 @@ def test_the_reason_appears_in_every_output(runs, tmp_path, capsys):
         table = {row["file"]: row for row in csv.DictReader(fh)}
     assert table[OUTLIER]["excluded_by_user"] == REASON and table[OUTLIER]["label"] == LABEL
     assert table["free_a.csv"]["excluded_by_user"] == "" and table["free_a.csv"]["label"] == ""
+    said = f"Left out by hand (2): {BAD_FREE}: {REASON}; {OUTLIER}: {REASON}."
+    head = terminal.split("\n\n")[0]  # the headline: constants, the fit, the screen
+    assert head.splitlines()[-1].endswith(said)
     html = (out / "report.html").read_text(encoding="utf-8")
     assert html.count('class="has-flags excluded"') == 2
     assert html.count(f"Left out of the fits by the manifest: {REASON}") == 2
+    assert said in html
+
+
+def test_a_file_left_out_by_hand_is_not_counted_by_the_screen():
+    files = [
+        {"file": "a.csv", "ligand_M": 0.0, "reversible": False, "excluded_by_user": "cracked"},
+        {"file": "b.csv", "ligand_M": 0.0, "reversible": True, "excluded_by_user": None},
+        {"file": "c.csv", "ligand_M": 0.01, "reversible": True, "used_in_fit": True},
+    ]
+    data = {"voltammograms": files}
+    assert screen_sentence(data) == (
+        "All 2 files passed the reversibility screen. Left out by hand (1): a.csv: cracked."
+    )
+    assert screen_short(data) == "all 2 passed"
 
 
 @pytest.mark.parametrize("value", ['""', '"   "', "true", "3"])
