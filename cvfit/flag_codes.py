@@ -220,6 +220,8 @@ _CATALOGUE = (
     FlagCode("EXCLUDED_NON_NERNSTIAN", _I, "The file failed the reversibility screen and its "
              "E½ was left out of the fits — as a titration point and as the reference E½(s) "
              "(exclude_non_nernstian = true)."),
+    FlagCode("EXCLUDED_BY_USER", _I, "The manifest leaves the file out of the fits, for the "
+             "reason it gives (exclude = \"...\"); the file is still analysed and shown."),
     FlagCode("FILES_EXCLUDED", _W, "Some voltammograms failed the reversibility screen and "
              "were not fitted; they are named."),
     FlagCode("FIT_USES_FLAGGED_DATA", _W, "exclude_non_nernstian = false: the constants rest "

@@ -41,3 +41,31 @@ def test_demo_output_folder_is_ignored_by_git():
 def test_readme_says_how_long_the_tests_take():
     readme = " ".join((ROOT / "README.md").read_text(encoding="utf-8").split())
     assert re.search(r"python -m pytest -q.*takes about \d+ s", readme)
+
+
+def test_simulate_help_shows_out_as_required_and_states_every_default(capsys):
+    """Issue 27 item 7: ``--out`` was shown as optional, and several defaults were not said."""
+    import argparse
+
+    from cvfit.cli import build_parser
+
+    text = _help(capsys, "simulate")
+    usage = " ".join(text.split("options:")[0].split())
+    assert "--out FILE|DIR" in usage and "[--out FILE|DIR]" not in usage
+    sub = next(a for a in build_parser()._actions if isinstance(a, argparse._SubParsersAction))
+    silent = [
+        a.option_strings[0]
+        for a in sub.choices["simulate"]._actions
+        if a.option_strings
+        and a.default not in (None, False, argparse.SUPPRESS)
+        and "default" not in (a.help or "")
+    ]
+    assert silent == []
+
+
+def test_simulate_without_out_is_a_one_line_error(capsys):
+    with pytest.raises(SystemExit) as stop:
+        main(["simulate", "--e-half", "0.1"])
+    assert stop.value.code == 2
+    err = capsys.readouterr().err
+    assert err.startswith("cvfit: error:") and "--out" in err and err.count("\n") == 1

@@ -99,7 +99,10 @@ def test_slow_files_are_recovered_with_E_half_within_1_mV_and_k0_within_15_perce
             assert abs(f.E_half_V - true_E_half(f.ligand_M)) < 1e-3
             assert abs(f.measurement.curve_fit.k0_cm_s.value / SLOW[f.ligand_M] - 1) < 0.15
             assert f.E_half_stderr_V == f.measurement.curve_fit.E_half_V.stderr
-            assert "CURVE_FIT_USED" in {g.code for g in f.flags}
+            used = next(g for g in f.flags if g.code == "CURVE_FIT_USED")
+            # one unit per number pair (issue 27 item 7: it read "E½ -0.1425 V ± 0.05 mV")
+            e = f.measurement.curve_fit.E_half_V
+            assert f"E½ {1e3 * e.value:.2f} ± {1e3 * e.stderr:.2f} mV from" in used.message
         else:
             assert (
                 f.reversible is True

@@ -135,3 +135,26 @@ def test_a_missing_standard_leaves_no_E_half():
     d = decide_half_wave(_Fake(est, lost), internal_standard=_STD, exclude_non_nernstian=True)
     assert d.E_half_V is None and not d.accepted
     assert [f.code for f in d.flags] == ["INTERNAL_STANDARD_NOT_FOUND"]
+
+
+@pytest.mark.parametrize("kind", ["nernstian", "approximate", "unusable"])
+@pytest.mark.parametrize("exclude", [True, False])
+def test_the_users_exclusion_overrides_every_verdict_and_keeps_the_E_half(kind, exclude):
+    est = HalfWaveEstimate(0.1, 1e-4, "x", kind, why="a reason of the screen")  # type: ignore[arg-type]
+    d = decide_half_wave(
+        _Fake(est), internal_standard=None, exclude_non_nernstian=exclude,
+        excluded_by_user="bubble on the electrode",
+    )  # fmt: skip
+    assert not d.accepted and d.why == "bubble on the electrode"
+    assert d.E_half_V == 0.1 and d.stderr_V == 1e-4  # measured and reported all the same
+    codes = [f.code for f in d.flags]
+    assert "EXCLUDED_BY_USER" in codes and "EXCLUDED_NON_NERNSTIAN" not in codes
+
+
+def test_the_users_exclusion_is_said_also_when_no_E_half_was_measured():
+    est = HalfWaveEstimate(None, None, "x", "unusable", why="no peaks")
+    d = decide_half_wave(
+        _Fake(est), internal_standard=None, exclude_non_nernstian=True, excluded_by_user="r"
+    )
+    assert not d.accepted and d.why == "no peaks"
+    assert [f.code for f in d.flags] == ["EXCLUDED_BY_USER"]

@@ -352,6 +352,11 @@ def test_plan_command_writes_json_html_figure_and_a_runnable_series(tmp_path):
     assert "Cu &lt;test&gt; &amp; tazine" in html and "<test>" not in html
     se = rec["stderr"]["log10_beta_ox_2"]
     assert f"data-stderr='{se}'" in html
+    # people read words, not plan.json's keys (issue 27 item 7)
+    for page in (proc.stdout, html):
+        assert "log10 β2 (ox)" in page and "log-spaced" in page
+        assert "log_spaced" not in page
+    assert "log10_beta_ox_2" not in proc.stdout and "<td>log10_beta" not in html
     assert (out / "plan.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     manifest = load_manifest(tmp_path / "sim" / "series.toml")
     assert manifest.series.metal_total_M == 1e-4
@@ -439,3 +444,19 @@ def test_never_worse_than_log_spaced_over_random_systems():
             assert shift <= 0.2 * SIGMA * 1.001, (case, shift)
             continue
         assert rec.criterion_mean <= logd.criterion_mean + 1e-12, (case, d)
+
+
+@pytest.mark.parametrize(
+    ("name", "words"),
+    [
+        ("log10_beta_ratio", "log10(β_ox/β_red)"),
+        ("delta_ligands", "p − q"),
+        ("log10_beta_red_1", "log10 β1 (red)"),
+        ("pKa_ox_2", "pKa2 (ox)"),
+        ("something_else", "something_else"),
+    ],
+)
+def test_constants_are_named_in_the_results_notation(name, words):
+    from cvfit.plan.words import constant_words
+
+    assert constant_words(name) == words

@@ -238,3 +238,27 @@ def test_in_a_browser_engine(run_folder):
     data = json.loads((run_folder / "results.json").read_text(encoding="utf-8"))
     shown = {json.loads(a["data-value"]) for t, a in parsed.tags if "data-value" in a}
     assert data["fit"]["log10_beta_ratio"]["value"] in shown
+
+
+def test_report_shows_the_manifest_relative_to_its_folder(run_folder):
+    """Issue 27 item 7: the absolute path may name a person's home folder."""
+    page = (run_folder / "report.html").read_text(encoding="utf-8")
+    data = json.loads((run_folder / "results.json").read_text(encoding="utf-8"))
+    assert Path(data["manifest"]).is_absolute()  # results.json keeps the full path
+    assert str(run_folder.parent) not in page
+    assert "<dd>../series.toml</dd>" in page
+
+
+@pytest.mark.parametrize(
+    ("manifest", "folder", "shown"),
+    [
+        ("/data/alice/t1/series.toml", "/data/alice/t1/series_cvfit", "../series.toml"),
+        ("/data/alice/t1/series.toml", "/data/out/t1", "../../alice/t1/series.toml"),
+        ("/data/alice/t1/series.toml", None, "/data/alice/t1/series.toml"),
+        ("series.toml", "/data/out", "series.toml"),
+    ],
+)
+def test_shown_manifest(manifest, folder, shown):
+    from cvfit.report.html_view import shown_manifest
+
+    assert shown_manifest(manifest, folder) == shown

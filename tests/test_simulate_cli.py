@@ -96,8 +96,8 @@ def test_cli_missing_required_and_simulator_refusal(tmp_path, capsys):
         main(["simulate", "--help"])
     usage = capsys.readouterr().out
     assert "--e-half V" in usage and "[--e-half" not in usage
-    with pytest.raises(InputError) as err:
-        run(["--e-half", "0"])
+    with pytest.raises(InputError) as err:  # --out is required (usage); an empty one too
+        run(["--e-half", "0", "--out", ""])
     assert err.value.key == "--out"
     with pytest.raises(InputError) as err:  # switch equal to start: the path has no sweep
         run(["--e-half", "0", "--start", "0.2", "--switch", "0.2", "--out", str(tmp_path / "x")])

@@ -33,3 +33,13 @@ def test_rows_line_up_with_the_header_also_for_a_wide_cell(tmp_path):
     for row, f in zip(rows, files, strict=True):
         cell = format_pm(f.E_half_V, f.E_half_total_stderr_V, scale=1e3)
         assert row[column_end - len(cell) : column_end] == cell, row  # ends under "E½/mV"
+
+
+def test_ligand_concentrations_keep_the_digits_the_manifest_gave(tmp_path):
+    """Issue 27 item 7: [L] was rounded to 3 significant figures (0.01255 showed as 0.0126)."""
+    result = analyse_series(load_manifest(write_small_series(tmp_path, 4, seed=311)))
+    given = (0.0, 0.01255, 0.0012345, 2.5e-05)
+    files = tuple(replace(f, ligand_M=x) for f, x in zip(result.files, given, strict=True))
+    header, *rows = _table(format_summary(replace(result, files=files)))
+    assert [row.split()[1] for row in rows] == ["0", "0.01255", "0.0012345", "2.5e-05"]
+    assert {len(row) for row in rows} == {len(header)}

@@ -130,7 +130,12 @@ def register(sub: argparse._SubParsersAction) -> None:
       "dpv, swv: 0.005; wave: 0.002)")  # fmt: skip
     a("--k0", metavar="cm/s", help="standard rate constant, cm/s (omitted: Nernstian)")
     a("--alpha", default="0.5", help="transfer coefficient (default 0.5)")
-    a("--diffusion", metavar="cm2/s", default="1e-5", help="D of the oxidised form, cm²/s")
+    a(
+        "--diffusion",
+        metavar="cm2/s",
+        default="1e-5",
+        help="D of the oxidised form, cm²/s (default 1e-5)",
+    )
     a("--diffusion-red", metavar="cm2/s", help="D of the reduced form (default: --diffusion)")
     a(
         "--concentration",
@@ -138,7 +143,12 @@ def register(sub: argparse._SubParsersAction) -> None:
         default="1e-3",
         help="bulk concentration, mol/L as in manifests (default 1e-3, i.e. 1 mM)",
     )
-    a("--initial", choices=("ox", "red"), default="ox", help="form present at the start")
+    a(
+        "--initial",
+        choices=("ox", "red"),
+        default="ox",
+        help="form present at the start (default ox)",
+    )
     a("--area", metavar="cm2", default="0.0707", help="electrode area, cm² (default 0.0707)")
     a("--cycles", default="1", help="number of cycles (default 1)")
     a("--temperature-C", metavar="C", default="25", help="temperature, °C (default 25)")
@@ -151,8 +161,13 @@ def register(sub: argparse._SubParsersAction) -> None:
     )
     a("--slope", metavar="A/V", default="0", help="background slope, A/V (default 0)")
     a("--offset", metavar="A", default="0", help="background offset, A (default 0)")
-    a("--resistance", metavar="ohm", default="0", help="uncompensated resistance, Ω")
-    a("--noise", metavar="FRACTION", default="0", help="noise SD / Randles–Ševčík peak current")
+    a("--resistance", metavar="ohm", default="0", help="uncompensated resistance, Ω (default 0)")
+    a(
+        "--noise",
+        metavar="FRACTION",
+        default="0",
+        help="noise SD / Randles–Ševčík peak current (default 0)",
+    )
     a("--seed", help="noise seed (whole number)")
     a("--series", action="store_true", help="write a titration series and its manifest")
     a("--ligand-M", metavar="LIST", help="series: ligand concentrations, mol/L, comma list")
@@ -167,7 +182,8 @@ def register(sub: argparse._SubParsersAction) -> None:
         "--log-beta-red",
         metavar="LIST",
         default="",
-        help="series: overall log10 β_j of the reduced form, j = 1, 2, … (comma list)",
+        help="series: overall log10 β_j of the reduced form, j = 1, 2, … (comma list; "
+        "default: not complexed)",
     )
     a("--diffusion-ox-complexed", metavar="cm2/s", help="series: D of the ox. complexes")
     a("--diffusion-red-complexed", metavar="cm2/s", help="series: D of the red. complexes")
@@ -186,8 +202,17 @@ def register(sub: argparse._SubParsersAction) -> None:
     )
     add_variable_options(a)
     add_technique_options(a)
-    a("--title", default="simulated titration", help="series: title for the manifest")
-    a("--out", metavar="FILE|DIR", help="output CSV file (series: output folder)")
+    a(
+        "--title",
+        default="simulated titration",
+        help="series: title for the manifest (default 'simulated titration')",
+    )
+    a(
+        "--out",
+        metavar="FILE|DIR",
+        required=True,
+        help="required: output CSV file (series: output folder)",
+    )
     a("--force", action="store_true", help="replace existing output files")
     p.set_defaults(handler=handle)
 

@@ -36,7 +36,7 @@ def add_variable_options(a: Callable[..., object]) -> None:
         "form, j counted from the unprotonated form (comma list; default: not protonated)",
     )
     a("--pKa-red", metavar="LIST", default="", help="pH series: pKa_1, pKa_2 … of the reduced "
-      "form (comma list)")  # fmt: skip
+      "form (comma list; default: not protonated)")  # fmt: skip
     a("--temperatures-C", metavar="LIST", help="series: a temperature series, one file per "
       "temperature in °C (comma list); --e-half is E½ at --temperature-C")  # fmt: skip
     a("--entropy", metavar="J/(mol K)", default="0", help="temperature series: reaction "

@@ -217,6 +217,9 @@ class VoltammogramEntry:
         Series-wide ``[import]`` merged with this table's own import keys.
     label : str or None
         Free text for legends.
+    exclude : str or None
+        Why the user leaves this file out of the fits (it is still analysed and shown);
+        None: the file is used when its E½ is accepted.
     pH : float or None
         pH of this solution (stepwise model with ligand_pKa), else the series value.
     resistance_ohm : float or None
@@ -234,6 +237,7 @@ class VoltammogramEntry:
     scan_rate_V_s: float | None = None
     import_options: ImportOptions = ImportOptions()
     label: str | None = None
+    exclude: str | None = None
     pH: float | None = None
     resistance_ohm: float | None = None
     temperature_C: float | None = None

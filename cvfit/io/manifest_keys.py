@@ -252,6 +252,9 @@ VOLTAMMOGRAM = Table("voltammogram", "One exported voltammogram: its file, the t
         "scan rate the file's metadata states (a stated rate more than 5 % from the one "
         "used is flagged SCAN_RATE_METADATA_DISAGREES)", unit="V/s", low=0, open_low=True),
     Key("label", "text", "free text for legends and tables"),
+    Key("exclude", "text", "leave this file out of the fits, for the reason given (e.g. "
+        "\"bubble on the electrode\"): it is still read, analysed and shown, greyed with "
+        "the reason", nonempty=True, hint="give the reason as text, or leave the key out"),
     Key("pH", "number", "pH of this solution: the titration variable of model = \"proton\"; "
         "for the stepwise model with ligand_pKa the protonation of the ligand", low=0,
         high=14, default_text="the series value"),

@@ -87,7 +87,7 @@ def _key_schema(key: Key) -> dict[str, Any]:
             out["not"] = {"const": 0}
     elif kind == "text":
         out["type"] = "string"
-        if key.required:
+        if key.required or key.nonempty:
             out["minLength"] = 1
     elif kind == "flag":
         out["type"] = "boolean"

@@ -80,6 +80,8 @@ class Key:
     low, high : float or None
         Range of a number or whole number; ``open_low`` / ``open_high`` exclude the bound,
         ``nonzero`` excludes 0.
+    nonempty : bool
+        A text key that, when given, must not be blank (it is optional all the same).
     choices : tuple of str
         Allowed values of a ``choice`` or ``choices`` key.
     aliases : mapping of str to str
@@ -106,6 +108,7 @@ class Key:
     open_low: bool = False
     open_high: bool = False
     nonzero: bool = False
+    nonempty: bool = False
     choices: tuple[str, ...] = ()
     aliases: Mapping[str, str] = dc_field(default_factory=dict)
     required: bool = False
@@ -211,7 +214,7 @@ def phrase(key: Key) -> str:
     if kind == "integer":
         return _bounds(key, "a whole number")
     if kind == "text":
-        return "a non-empty text string" if key.required else "a text string"
+        return "a non-empty text string" if key.required or key.nonempty else "a text string"
     if kind == "flag":
         return "true or false"
     if kind == "choice":
@@ -252,7 +255,8 @@ def _checked(key: Key, value: object) -> object:
             return _BAD
         return (float(v) if kind == "number" else v) if _in_range(key, float(v)) else _BAD
     if kind == "text":
-        ok = isinstance(value, str) and (not key.required or bool(value.strip()))
+        blank_ok = not (key.required or key.nonempty)
+        ok = isinstance(value, str) and (blank_ok or bool(value.strip()))
         return value if ok else _BAD
     if kind == "flag":
         return value if isinstance(value, bool) else _BAD

@@ -4,7 +4,8 @@
 its technique offers under its current verdicts (:meth:`Measurement.half_wave_estimate
 <cvfit.techniques.base.Measurement.half_wave_estimate>` — a Nernstian reading, a kinetic
 model's, an approximate one with its extra error, or none), the internal standard measured
-in the same record, and the manifest's rule on files that fail the screen. The pipeline
+in the same record, the manifest's rule on files that fail the screen and the file's own
+``exclude`` (the user's reason to leave it out, which overrides every verdict). The pipeline
 calls it when a file is first measured and again whenever a verdict changes (after the
 series-level study); nothing else writes an E½. Its result says whether the E½ may enter
 a fit — as a titration point or as the reference E½(s) — and why not.
@@ -103,11 +104,20 @@ def _on_standard_scale(
     return E_half_V - standard.E_half_V + settings.E_half_V, total, flags
 
 
+def _by_user(reason: str) -> Flag:
+    return Flag(
+        "EXCLUDED_BY_USER",
+        f"left out of the fits by the manifest: {reason} (remove exclude to use it)",
+        "info",
+    )
+
+
 def decide_half_wave(
     measurement: Measurement,
     *,
     internal_standard: InternalStandard | None,
     exclude_non_nernstian: bool,
+    excluded_by_user: str | None = None,
 ) -> HalfWaveDecision:
     """The E½ *measurement* contributes, and whether a fit may take it (module docstring).
 
@@ -132,6 +142,8 @@ def decide_half_wave(
         why = est.why or "no E½ could be measured"
         if internal_standard is not None and est.E_half_V is not None:
             why = "the internal standard's E½ is missing"
+        if excluded_by_user is not None:
+            flags.append(_by_user(excluded_by_user))
         return HalfWaveDecision(
             None, None, None, est.source, est.kind, 0.0, False, why, tuple(flags)
         )
@@ -139,6 +151,10 @@ def decide_half_wave(
     why = "" if accepted else est.why
     if est.kind == "approximate":
         flags.append(Flag("E_HALF_APPROXIMATE", f"E½ is approximate: {est.why}"))
+    if excluded_by_user is not None:
+        flags.append(_by_user(excluded_by_user))
+        kept = (E, total, own, est.source, est.kind, est.correction_V)
+        return HalfWaveDecision(*kept, False, excluded_by_user, tuple(flags))
     if not accepted:
         flags.append(
             Flag(

@@ -46,6 +46,7 @@ def with_measurement(f: FileResult, measurement: Measurement, manifest: Manifest
         measurement,
         internal_standard=manifest.internal_standard,
         exclude_non_nernstian=manifest.fit.exclude_non_nernstian,
+        excluded_by_user=f.excluded_by_user,
     )
     return replace(f, measurement=measurement, half_wave=decision)
 
@@ -74,6 +75,7 @@ def analyse_file(
         measurement,
         internal_standard=manifest.internal_standard,
         exclude_non_nernstian=manifest.fit.exclude_non_nernstian,
+        excluded_by_user=entry.exclude,
     )
     max_points = points_per_curve(series_files or len(manifest.voltammograms))
     resistance = resistance_for(entry, manifest.series)
@@ -90,6 +92,7 @@ def analyse_file(
         pH=entry.pH,
         temperature_K=entry.temperature_K,
         imported=imported_file(v.metadata),
+        excluded_by_user=entry.exclude,
     )
 
 

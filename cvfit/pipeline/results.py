@@ -94,6 +94,8 @@ class FileResult:
     imported : ImportedFile or None
         The columns read from the file and the importer's flags
         (:func:`cvfit.io.notes.imported_file`); None for a record not read from a file.
+    excluded_by_user : str or None
+        The manifest's ``exclude`` of the file: why the user left it out of the fits.
     """
 
     file: str
@@ -110,6 +112,7 @@ class FileResult:
     pH: float | None = None
     temperature_K: float | None = None
     imported: ImportedFile | None = field(default=None, compare=False)
+    excluded_by_user: str | None = None
 
     @property
     def flags(self) -> tuple[Flag, ...]:
@@ -171,6 +174,7 @@ class FileResult:
             "E_half_source": self.E_half_source,
             "switching_correction_V": clean_number(self.switching_correction_V),
             "used_in_fit": self.used_in_fit,
+            "excluded_by_user": self.excluded_by_user,
             "resistance_ohm": clean_number(self.resistance_ohm),
             "internal_standard": None
             if self.internal_standard is None

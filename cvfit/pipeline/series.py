@@ -279,13 +279,15 @@ def analyse_series(
     for f in files:
         point = model.is_point(_titration_x(f, model))
         usable = point and f.half_wave.accepted
-        if point and not f.half_wave.accepted and f.E_half_V is not None:
+        by_screen = f.E_half_V is not None and f.excluded_by_user is None
+        if point and not f.half_wave.accepted and by_screen:
             excluded.append(f.file)
         if usable:
             n_points += 1
         final.append(replace(f, used_in_fit=usable))
 
-    nernstian = all(f.reversible is True for f in final)
+    kept = [f for f in final if f.excluded_by_user is None]  # the user's exclusions aside
+    nernstian = all(f.reversible is True for f in kept)
     if excluded:
         series_flags.append(
             Flag(
@@ -295,7 +297,7 @@ def analyse_series(
             )
         )
     if not exclude and not nernstian:
-        bad = [f.file for f in final if f.reversible is not True]
+        bad = [f.file for f in kept if f.reversible is not True]
         series_flags.append(
             Flag(
                 "FIT_USES_FLAGGED_DATA",

@@ -19,6 +19,7 @@ from cvfit.chemistry.speciation import species_fractions
 from cvfit.plan.information import free_ligand
 from cvfit.plan.planner import spec_of
 from cvfit.plan.result import PlanResult
+from cvfit.plan.words import constant_words
 
 __all__ = ["plan_figure", "DESIGN_STYLE"]
 
@@ -101,9 +102,7 @@ def plan_figure(result: PlanResult) -> Figure:
     if tops:
         bx.set_ylim(0.0, 1.35 * max(tops))  # room for the legend above the bars
     bx.set_xticks(x)
-    bx.set_xticklabels(
-        [n.replace("log10_beta_", "lg β ") for n in req.names], fontsize=7, rotation=20
-    )
+    bx.set_xticklabels([constant_words(n) for n in req.names], fontsize=7, rotation=20)
     bx.set_ylabel("predicted standard error")
     bx.set_title("(b) expected precision (bar: expected values; –: worst)", fontsize=9)
     bx.legend(fontsize=7, frameon=False)

@@ -10,6 +10,8 @@ from collections.abc import Mapping
 from html import escape
 from typing import Any
 
+from cvfit.plan.words import constant_words, design_words
+
 __all__ = ["render_plan_html"]
 
 _CSS = (
@@ -47,15 +49,15 @@ def render_plan_html(plan: Mapping[str, Any], figure_png: bytes | None = None) -
     ]
     for name, d in designs:
         conc = ", ".join(f"{c:.3g}" for c in d["ligand_M"])
-        out.append(f"<tr><td>{_e(name)}</td><td>{conc}</td></tr>")
+        out.append(f"<tr><td>{_e(design_words(name))}</td><td>{conc}</td></tr>")
     out.append("</table><h2>Predicted standard errors (expected / worst)</h2><table><tr>")
     out.append("<th>constant</th><th>expected value</th>")
-    out.extend(f"<th>{_e(name)}</th>" for name, _ in designs)
+    out.extend(f"<th>{_e(design_words(name))}</th>" for name, _ in designs)
     out.append("</tr>")
     for const in plan["constants"]:
         n = const["name"]
         star = " *" if const["of_interest"] else ""
-        out.append(f"<tr><td>{_e(n)}{star}</td><td>{const['expected']:g}</td>")
+        out.append(f"<tr><td>{_e(constant_words(n))}{star}</td><td>{const['expected']:g}</td>")
         for _, d in designs:
             se, worst = d["stderr"][n], d["stderr_worst"][n]
             out.append(f"<td data-stderr='{_e(se)}'>{_n(se)} / {_n(worst)}</td>")

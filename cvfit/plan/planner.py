@@ -24,6 +24,7 @@ from cvfit.plan.information import ModelSpec, constants_covariance, free_ligand,
 from cvfit.plan.information import jacobian_rows as _rows
 from cvfit.plan.inputs import PlanInput
 from cvfit.plan.result import DesignAssessment, PlanResult, PlanWarning
+from cvfit.plan.words import constant_words
 
 __all__ = ["make_plan", "spec_of", "assess", "MAX_POINTS_SEARCHED", "IMPRECISE_LOG10"]
 
@@ -240,9 +241,9 @@ def _warnings(req: PlanInput, thetas: np.ndarray, designs, needed) -> list[PlanW
             out.append(
                 PlanWarning(
                     "imprecise_constant",
-                    f"{n}: predicted standard error {s:.3g} (worst scenario) with the "
-                    f"recommended {req.points} points, above {IMPRECISE_LOG10} (common "
-                    "practice)",
+                    f"{constant_words(n)}: predicted standard error {s:.3g} (worst scenario) "
+                    f"with the recommended {req.points} points, above {IMPRECISE_LOG10} "
+                    "(common practice)",
                 )
             )
     if req.model == "lingane":
@@ -293,7 +294,8 @@ def _second_reference_warning(
     if not gains:
         return None
     said = "; ".join(
-        f"{n} {a:.3g} → {b:.3g} ({100 * (1 - b / a):.0f} % narrower)" for n, a, b in gains
+        f"{constant_words(n)} {a:.3g} → {b:.3g} ({100 * (1 - b / a):.0f} % narrower)"
+        for n, a, b in gains
     )
     return PlanWarning(
         "second_reference",

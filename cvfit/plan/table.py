@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 
 from cvfit.plan.result import PlanResult
+from cvfit.plan.words import constant_words, design_words
 
 __all__ = ["plan_table"]
 
@@ -29,12 +30,12 @@ def plan_table(result: PlanResult) -> str:
         "recommended total ligand / (mol/L): " + ", ".join(f"{c:.3g}" for c in rec.ligand_M),
         "",
     ]
-    head = ["constant", "expected"] + [d.name.replace("_", "-") for d in designs]
+    head = ["constant", "expected"] + [design_words(d.name) for d in designs]
     rows = [head]
     for i, (n, v) in enumerate(zip(req.names, req.values, strict=True)):
         mark = "*" if n in req.optimise_for else " "
         rows.append(
-            [f"{n}{mark}", f"{v:g}"]
+            [f"{constant_words(n)}{mark}", f"{v:g}"]
             + [f"{_se(d.stderr[i])} / {_se(d.stderr_worst[i])}" for d in designs]
         )
     widths = [max(len(r[k]) for r in rows) for k in range(len(head))]

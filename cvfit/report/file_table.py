@@ -21,6 +21,7 @@ __all__ = [
 #: The generic columns of the per-file table before the technique's own, units in the names.
 GENERIC_HEAD = (
     "file",
+    "label",
     "ligand_M",
     "free_ligand_M",
     "scan_rate_V_s",
@@ -35,6 +36,7 @@ GENERIC_TAIL = (
     "standard_reversible",
     "reversible",
     "used_in_fit",
+    "excluded_by_user",
     "flags",
 )
 
@@ -53,6 +55,7 @@ def _row(f: FileResult) -> dict[str, object]:
     std = f.internal_standard
     return {
         "file": f.file,
+        "label": f.label,
         "ligand_M": f.ligand_M,
         "free_ligand_M": f.free_ligand_M,
         "scan_rate_V_s": f.scan_rate_V_s,
@@ -65,6 +68,7 @@ def _row(f: FileResult) -> dict[str, object]:
         "standard_reversible": None if std is None else std.reversible,
         "reversible": f.reversible,
         "used_in_fit": f.used_in_fit,
+        "excluded_by_user": f.excluded_by_user,
         "flags": " ".join(fl.code for fl in f.flags),
     }
 

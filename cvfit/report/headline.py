@@ -67,7 +67,27 @@ def screen_sentence(data: Mapping[str, Any]) -> str:
     ``"1 of 8 files failed the reversibility screen and was left out of the fit:
     tazine_07.csv."`` — or ``"All 8 files passed the reversibility screen."``
     """
+    files, by_hand = _by_hand(data)
+    return _screen_of(files) + _by_hand_text(by_hand)
+
+
+def _by_hand(data: Mapping[str, Any]) -> tuple[list[Mapping[str, Any]], list[Mapping[str, Any]]]:
+    """The files the screen decided, and those the manifest left out by hand (``exclude``)."""
     files = list(data.get("voltammograms") or [])
+    return (
+        [f for f in files if not f.get("excluded_by_user")],
+        [f for f in files if f.get("excluded_by_user")],
+    )
+
+
+def _by_hand_text(files: Sequence[Mapping[str, Any]]) -> str:
+    if not files:
+        return ""
+    reasons = "; ".join(f"{f.get('file')}: {f.get('excluded_by_user')}" for f in files)
+    return f" Left out by hand ({len(files)}): {reasons}."
+
+
+def _screen_of(files: Sequence[Mapping[str, Any]]) -> str:
     n = len(files)
     failed = [f for f in files if f.get("reversible") is False]
     unknown = [f for f in files if f.get("reversible") is None]
@@ -122,8 +142,9 @@ def screen_sentence(data: Mapping[str, Any]) -> str:
 
 
 def screen_short(data: Mapping[str, Any]) -> str:
-    """The screen's outcome in a table cell: ``"all 8 passed"``, ``"1 of 8 left out"``."""
-    files = list(data.get("voltammograms") or [])
+    """The screen's outcome in a table cell: ``"all 8 passed"``, ``"1 of 8 left out"``
+    (files left out by hand not counted)."""
+    files, _ = _by_hand(data)
     bad = [f for f in files if f.get("reversible") is not True]
     if not bad:
         return f"all {len(files)} passed"

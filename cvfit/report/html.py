@@ -71,6 +71,7 @@ def render_html(
     figures: Sequence[str | Path] = (),
     *,
     simulated_with: Sequence[str] = (),
+    folder: str | Path | None = None,
 ) -> str:
     """The report page for a results mapping (the results.json content).
 
@@ -83,6 +84,9 @@ def render_html(
     simulated_with : sequence of str
         For simulated data only (the demo): the constants they were simulated with, in
         words, shown below the headline. Empty for measured data.
+    folder : path, optional
+        The folder the page is written to: the manifest is shown relative to it (an
+        absolute path may name a person's home folder); None: as results.json has it.
 
     Returns
     -------
@@ -99,7 +103,7 @@ def render_html(
         version=text(data.get("cvfit_version")),
         headline=_headline(data),
         simulated_with=[text(line) for line in simulated_with],
-        conditions=conditions_view(data),
+        conditions=conditions_view(data, folder=folder),
         constants=constants_view(fit),
         budget=budget_view(data),
         standard=standard,
@@ -124,5 +128,6 @@ def write_html_report(
     """Write the report page atomically; returns the path."""
     path = Path(path)
     data = result.to_dict() if isinstance(result, SeriesResult) else result
-    atomic_write_text(path, render_html(data, figures, simulated_with=simulated_with))
+    page = render_html(data, figures, simulated_with=simulated_with, folder=path.parent)
+    atomic_write_text(path, page)
     return path

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import base64
 import math
+import os
 from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import Any
@@ -33,6 +34,7 @@ __all__ = [
     "flag_view",
     "method_view",
     "series_notes",
+    "shown_manifest",
     "text",
 ]
 
@@ -176,8 +178,11 @@ def _margins(crit: Mapping[str, Any]) -> str:
     return ", ".join(parts) + " (potential margins at 298.15 K; they scale with T)"
 
 
-def conditions_view(data: Mapping[str, Any]) -> list[tuple[str, str]]:
-    """The series' conditions as (term, text) pairs."""
+def conditions_view(
+    data: Mapping[str, Any], *, folder: str | Path | None = None
+) -> list[tuple[str, str]]:
+    """The series' conditions as (term, text) pairs; the manifest relative to *folder*,
+    the report's own (:func:`shown_manifest`)."""
     s = data.get("series", {})
     ref = data.get("reference", {})
     crit = data.get("reversibility_criteria", {})
@@ -215,8 +220,19 @@ def conditions_view(data: Mapping[str, Any]) -> list[tuple[str, str]]:
     rows.append(("flagged files", fate))
     if crit:
         rows.append(("screen margins", _margins(crit)))
-    rows.append(("manifest", text(data.get("manifest"))))
+    rows.append(("manifest", shown_manifest(data.get("manifest"), folder)))
     return rows
+
+
+def shown_manifest(manifest: object, folder: str | Path | None) -> str:
+    """The manifest's path as the report shows it: relative to the report's *folder*
+    (``../series.toml``), so an absolute path naming a home folder is not published."""
+    if not isinstance(manifest, str) or folder is None or not Path(manifest).is_absolute():
+        return text(manifest)
+    try:
+        return text(Path(os.path.relpath(manifest, Path(folder).resolve())).as_posix())
+    except ValueError:  # another drive (Windows): no relative path exists
+        return text(Path(manifest).name)
 
 
 #: Generic keys of a file record the per-file table shows in its fixed columns (the
@@ -231,6 +247,7 @@ _FILE_COLUMNS = (
     "E_half_stderr_V",
     "reversible",
     "used_in_fit",
+    "excluded_by_user",
     "flags",
     "technique",
 )
@@ -327,12 +344,14 @@ def file_table_view(files: Sequence[Mapping[str, Any]], technique: str = "cv") -
             *(_extra_cell(k, f.get(k)) for k in extra),
         ]
         own = [fl for fl in f.get("flags") or [] if _severity(fl) != "info"]
+        reason = f.get("excluded_by_user")
         rows.append(
             {
                 "file": text(f.get("file")),
                 "label": text(f.get("label")),
                 "cells": cells,
                 "flags": flag_view(own),
+                "excluded": text(reason) if reason else "",
             }
         )
     return {"heads": heads, "rows": rows, "notes": _notes(files)}

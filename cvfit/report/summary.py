@@ -76,17 +76,30 @@ def _file_table(result: SeriesResult) -> list[str]:
     widths = {h: max([len(h), *(len(c.get(h, "")) for c in cells)]) for h in heads}
     own = " ".join(f"{h:>{widths[h]}}" for h in heads)
     head, value = _solution_column(result)
-    header = f"{'file':<22} {head:>9} {'E½/mV':>{w}} {own} {'rev':>4} {'fit':>4}"
+    solutions = [value(f) for f in result.files]
+    sw = max([9, len(head), *map(len, solutions)])
+    header = f"{'file':<22} {head:>{sw}} {'E½/mV':>{w}} {own} {'rev':>4} {'fit':>4}"
     lines = [header, "-" * len(header)]
-    for f, e_half, c in zip(result.files, e_halves, cells, strict=True):
+    for f, x, e_half, c in zip(result.files, solutions, e_halves, cells, strict=True):
         rev = {True: "yes", False: "NO", None: "n/d"}[f.reversible]
         name = printable(f.file)
         name = name if len(name) <= 22 else "…" + name[-21:]
         row = " ".join(f"{c.get(h, ''):>{widths[h]}}" for h in heads)
-        lines.append(
-            f"{name:<22} {value(f):>9} {e_half:>{w}} {row} {rev:>4} "
-            f"{'yes' if f.used_in_fit else '-':>4}"
-        )
+        used = "yes" if f.used_in_fit else ("excl" if f.excluded_by_user else "-")
+        lines.append(f"{name:<22} {x:>{sw}} {e_half:>{w}} {row} {rev:>4} {used:>4}")
+    left = _excluded_lines(result)
+    return lines + ["", *left] if left else lines
+
+
+def _excluded_lines(result: SeriesResult) -> list[str]:
+    """The files the manifest leaves out (``exclude``), each with the user's reason."""
+    left = [f for f in result.files if f.excluded_by_user is not None]
+    if not left:
+        return []
+    lines = ["excl = left out of the fits by the manifest:"]
+    for f in left:
+        reason = printable(str(f.excluded_by_user), limit=200)
+        lines.append(f"  {printable(f.file)}: {reason}")
     return lines
 
 
@@ -102,7 +115,8 @@ def _solution_column(result: SeriesResult):
         return "pH", lambda f: shown(f.pH, ".2f")
     if variable == "temperature_K":
         return "T/°C", lambda f: shown(f.temperature_K, ".1f", ZERO_CELSIUS_K)
-    return "[L]/M", lambda f: f"{f.ligand_M:.3g}"
+    # as many digits as the manifest gave (up to 6): 0.0125 and 0.01255 stay apart
+    return "[L]/M", lambda f: f"{f.ligand_M:.6g}"
 
 
 def _standard_lines(result: SeriesResult) -> list[str]:

@@ -173,8 +173,8 @@ def curve_fit_for(
         flags.append(
             Flag(
                 "CURVE_FIT_USED",
-                f"E½ {e.value:.4f} V ± {1e3 * e.stderr:.2f} mV from the fit of the whole curve "
-                f"(k0 {fit.k0_cm_s.value:.3g} cm/s, α {fit.alpha.value:.2f}, reduced χ² "
+                f"E½ {1e3 * e.value:.2f} ± {1e3 * e.stderr:.2f} mV from the fit of the whole "
+                f"curve (k0 {fit.k0_cm_s.value:.3g} cm/s, α {fit.alpha.value:.2f}, reduced χ² "
                 f"{fit.reduced_chi2.value:.2f})",
                 "info",
             )
