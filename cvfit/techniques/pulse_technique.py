@@ -15,8 +15,9 @@ from cvfit.errors import InputError
 from cvfit.flags import Flag
 from cvfit.io import read_voltammogram
 from cvfit.io.manifest import Manifest, VoltammogramEntry
-from cvfit.techniques.base import FileView, SeriesStudy, StudyItem
+from cvfit.techniques.base import FileView, SeriesStudy, StudyItem, no_report_sections
 from cvfit.techniques.curves import CycleCurve
+from cvfit.techniques.pulse_measurement import PULSE_HIDDEN_KEYS, PULSE_REPORT_COLUMNS
 from cvfit.voltammogram import Voltammogram
 
 __all__ = [
@@ -134,3 +135,23 @@ def screen_summary(name: str, files: Sequence[FileView]) -> list[str]:
     if not files:
         return []
     return [f"{name} screen: {passed} of {len(files)} file(s) Nernstian ({len(judged)} judged)"]
+
+
+class PulseTechnique:
+    """What DPV and SWV share behind the technique seam
+    (:class:`cvfit.techniques.base.Technique`): no series study, the first sweep drawn, the
+    pulse report columns, a one-line screen summary. A subclass gives ``name``, ``label``
+    (the summary's words) and ``analyse``."""
+
+    name: str = ""
+    label: str = ""
+    figures: tuple[str, ...] = ()
+    report_columns = PULSE_REPORT_COLUMNS
+    hidden_keys = PULSE_HIDDEN_KEYS
+
+    study_series = staticmethod(unchanged_study)
+    drawn_curve = staticmethod(drawn_sweep)
+    report_sections = staticmethod(no_report_sections)
+
+    def summary_lines(self, files: Sequence[FileView], studies: Sequence[Any]) -> list[str]:
+        return screen_summary(self.label, files)

@@ -12,24 +12,20 @@ Parry, E. P.; Osteryoung, R. A. Anal. Chem. 1965, 37, 1634.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-from typing import Any, cast
+from typing import cast
 
 import numpy as np
 
 from cvfit.flags import Flag
-from cvfit.techniques.base import FileSettings, FileView, no_report_sections
+from cvfit.techniques.base import FileSettings
 from cvfit.techniques.dpv.measurement import DPVMeasurement
 from cvfit.techniques.pulse_analysis import analyse_pulse
-from cvfit.techniques.pulse_measurement import PULSE_HIDDEN_KEYS, PULSE_REPORT_COLUMNS
 from cvfit.techniques.pulse_technique import (
+    PulseTechnique,
     bulk_form_for,
-    drawn_sweep,
     first_sweep,
     read_components,
-    screen_summary,
     setting_flags,
-    unchanged_study,
 )
 from cvfit.techniques.step_response import PulseTiming
 from cvfit.units import thermal_voltage
@@ -85,23 +81,12 @@ def _difference_check(comps: tuple[np.ndarray, np.ndarray], i: np.ndarray) -> li
     ]
 
 
-def summary_lines(files: Sequence[FileView], studies: Sequence[Any]) -> list[str]:
-    return screen_summary("differential-pulse", files)
-
-
-class DifferentialPulse:
+class DifferentialPulse(PulseTechnique):
     """DPV behind the technique seam (:class:`cvfit.techniques.base.Technique`)."""
 
     name = "dpv"
-    figures: tuple[str, ...] = ()
-    report_columns = PULSE_REPORT_COLUMNS
-    hidden_keys = PULSE_HIDDEN_KEYS
-
+    label = "differential-pulse"
     analyse = staticmethod(analyse)
-    study_series = staticmethod(unchanged_study)
-    drawn_curve = staticmethod(drawn_sweep)
-    summary_lines = staticmethod(summary_lines)
-    report_sections = staticmethod(no_report_sections)
 
 
 #: The technique object for ``[series] technique = "dpv"``.

@@ -13,20 +13,16 @@ Osteryoung, J. G.; O'Dea, J. J. Electroanal. Chem. 1986, 14, 209.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-from typing import Any, cast
+from typing import cast
 
-from cvfit.techniques.base import FileSettings, FileView, no_report_sections
+from cvfit.techniques.base import FileSettings
 from cvfit.techniques.pulse_analysis import analyse_pulse
-from cvfit.techniques.pulse_measurement import PULSE_HIDDEN_KEYS, PULSE_REPORT_COLUMNS
 from cvfit.techniques.pulse_technique import (
+    PulseTechnique,
     bulk_form_for,
-    drawn_sweep,
     first_sweep,
     read_components,
-    screen_summary,
     setting_flags,
-    unchanged_study,
 )
 from cvfit.techniques.step_response import PulseTiming
 from cvfit.techniques.swv.measurement import SWVMeasurement
@@ -58,23 +54,12 @@ def analyse(record: Voltammogram, settings: FileSettings) -> SWVMeasurement:
     return SWVMeasurement(screen, bulk, (*screen.flags, *flags, *read_flags))
 
 
-def summary_lines(files: Sequence[FileView], studies: Sequence[Any]) -> list[str]:
-    return screen_summary("square-wave", files)
-
-
-class SquareWave:
+class SquareWave(PulseTechnique):
     """SWV behind the technique seam (:class:`cvfit.techniques.base.Technique`)."""
 
     name = "swv"
-    figures: tuple[str, ...] = ()
-    report_columns = PULSE_REPORT_COLUMNS
-    hidden_keys = PULSE_HIDDEN_KEYS
-
+    label = "square-wave"
     analyse = staticmethod(analyse)
-    study_series = staticmethod(unchanged_study)
-    drawn_curve = staticmethod(drawn_sweep)
-    summary_lines = staticmethod(summary_lines)
-    report_sections = staticmethod(no_report_sections)
 
 
 #: The technique object for ``[series] technique = "swv"``.
