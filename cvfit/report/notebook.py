@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING
 from cvfit.errors import InputError
 from cvfit.pipeline.results import SeriesResult, set_notebook_view
 from cvfit.report.figures.registry import FIGURES, draw_figure, figure_keys_for
-from cvfit.report.headline import headline_lines
+from cvfit.report.html import _headline
 from cvfit.report.html_view import figure_view, file_table_view, text
 from cvfit.report.templating import render_template
 from cvfit.techniques import technique_of_name
@@ -28,12 +28,6 @@ __all__ = ["MAX_INLINE_BYTES", "notebook_html", "plot_figures"]
 #: Most bytes of PNG a notebook view embeds: a cell stays a few MB however many figures
 #: the series has; the figures beyond it are named, not shown.
 MAX_INLINE_BYTES = 4_000_000
-
-
-def _headline(data: dict) -> dict:
-    lines = headline_lines(data)
-    return {"lines": [("note" if ln.startswith("(") else "lead", ln) for ln in lines[:-1]],
-            "screen": lines[-1]}  # fmt: skip
 
 
 def notebook_html(result: SeriesResult) -> str:
