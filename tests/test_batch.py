@@ -6,6 +6,7 @@ Truth of the simulated series (tests/seriesfactory.py): log10(β_ox/β_red) = 6.
 
 from __future__ import annotations
 
+import csv
 import hashlib
 import json
 import os
@@ -244,3 +245,23 @@ def test_batch_summary_without_out_goes_to_the_folder_holding_the_outputs(tmp_pa
     data = json.loads((tmp_path / "p" / "batch_summary.json").read_text(encoding="utf-8"))
     assert [s["title"] for s in data["series"]] == ["x", "y"]
     assert (tmp_path / "p" / "batch_summary.csv").is_file()
+
+
+def test_a_file_of_the_users_is_never_replaced_by_the_summary(tmp_path, csvs):
+    """A batch_summary.csv of the user's own in the folder stays as it was: the summary goes
+    to batch_summary-2; a second run replaces its own summary there, not the user's file.
+    A title a spreadsheet would run as a formula is written as text."""
+    a = make_series(tmp_path / "p" / "x", csvs, title="=1+2")
+    b = make_series(tmp_path / "p" / "y", csvs, stem="other", title="y")
+    mine = tmp_path / "p" / "batch_summary.csv"
+    mine.write_text("my own notes\n", encoding="utf-8")
+    for _ in range(2):
+        assert main(["run", str(a), str(b), "--jobs", "1"]) == 0
+        assert mine.read_text(encoding="utf-8") == "my own notes\n"
+        assert not (tmp_path / "p" / "batch_summary.json").exists()
+        assert not (tmp_path / "p" / "batch_summary-3.csv").exists()
+    with open(tmp_path / "p" / "batch_summary-2.csv", encoding="utf-8", newline="") as fh:
+        rows = list(csv.DictReader(fh))
+    assert [r["title"] for r in rows] == ["'=1+2", "y"]
+    data = json.loads((tmp_path / "p" / "batch_summary-2.json").read_text(encoding="utf-8"))
+    assert [s["title"] for s in data["series"]] == ["=1+2", "y"]  # JSON keeps the text as it is

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import csv
 import io
+import json
 import math
 import os
 import sys
@@ -413,10 +414,46 @@ def summary_rows(outcomes: Sequence[SeriesOutcome]) -> list[dict[str, Any]]:
     return rows
 
 
+#: The JSON summary's mark: a file that carries it was written by cvfit and may be replaced.
+SUMMARY_FORMAT = "cvfit batch summary, version 1"
+
+
+def _ours(csv_path: Path, json_path: Path) -> bool:
+    """Both names free, or taken by an earlier summary of cvfit's (never a user's file)."""
+    if csv_path.exists():
+        try:
+            head = csv_path.read_text(encoding="utf-8", errors="replace").split("\n", 1)[0]
+        except OSError:
+            return False
+        if not head.startswith(",".join(_COLUMNS[:4])):
+            return False
+    if json_path.exists():
+        try:
+            mark = json.loads(json_path.read_text(encoding="utf-8")).get("format")
+        except (OSError, ValueError, AttributeError):
+            return False
+        return bool(mark == SUMMARY_FORMAT)
+    return True
+
+
+def summary_paths(folder: Path) -> tuple[Path, Path]:
+    """``batch_summary.csv``/``.json`` in *folder*, or ``batch_summary-2`` … where a file of
+    that name is not an earlier cvfit summary (a file the user has is never replaced)."""
+    k = 1
+    while True:
+        stem = SUMMARY_STEM if k == 1 else f"{SUMMARY_STEM}-{k}"
+        paths = folder / f"{stem}.csv", folder / f"{stem}.json"
+        if _ours(*paths):
+            return paths
+        k += 1
+
+
 def write_batch_summary(outcomes: Sequence[SeriesOutcome], folder: Path) -> tuple[Path, Path]:
-    """Write ``batch_summary.csv`` and ``batch_summary.json`` into *folder*; their paths."""
+    """Write ``batch_summary.csv`` and ``batch_summary.json`` into *folder* (see
+    :func:`summary_paths`); their paths. Text cells are safe for a spreadsheet."""
     from cvfit.record_json import record_json
     from cvfit.report.atomic import atomic_write_text
+    from cvfit.report.file_table import text_cell
     from cvfit.version import __version__
 
     rows = summary_rows(outcomes)
@@ -424,11 +461,12 @@ def write_batch_summary(outcomes: Sequence[SeriesOutcome], folder: Path) -> tupl
     text = io.StringIO()
     writer = csv.DictWriter(text, fieldnames=list(rows[0]) if rows else list(_COLUMNS))
     writer.writeheader()
-    writer.writerows({k: "" if v is None else v for k, v in r.items()} for r in rows)
-    csv_path = folder / f"{SUMMARY_STEM}.csv"
-    json_path = folder / f"{SUMMARY_STEM}.json"
-    atomic_write_text(csv_path, text.getvalue())
-    atomic_write_text(
-        json_path, record_json({"cvfit_version": __version__, "series": rows}) + "\n"
+    writer.writerows(
+        {k: "" if v is None else text_cell(v) if isinstance(v, str) else v for k, v in r.items()}
+        for r in rows
     )
+    csv_path, json_path = summary_paths(folder)
+    atomic_write_text(csv_path, text.getvalue())
+    record = {"format": SUMMARY_FORMAT, "cvfit_version": __version__, "series": rows}
+    atomic_write_text(json_path, record_json(record) + "\n")
     return csv_path, json_path
