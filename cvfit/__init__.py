@@ -4,6 +4,7 @@ The public API, imported lazily so that ``import cvfit`` stays cheap (it imports
 the command line sets up the numerical libraries first, see :mod:`cvfit.cli`)::
 
     from cvfit import load_manifest, analyse_series, read_voltammogram, simulate_cv
+    from cvfit import load_results  # a results.json read back into records
 """
 
 from __future__ import annotations
@@ -42,6 +43,8 @@ _LAZY = {
     "randles_sevcik_peak_current_A": "cvfit.chemistry",
     "complexed_half_wave_V": "cvfit.chemistry",
     "write_outputs": "cvfit.report",
+    "load_results": "cvfit.report.load_results",
+    "LoadedResults": "cvfit.report.load_results",
 }
 
 __all__ = [
@@ -60,6 +63,10 @@ def __getattr__(name: str) -> Any:
     if module is None:
         raise AttributeError(f"module 'cvfit' has no attribute {name!r}")
     value = getattr(importlib.import_module(module), name)
+    if module.startswith(("cvfit.pipeline", "cvfit.report")):
+        # a series result from the public API shows itself in a notebook (the view lives
+        # with the outputs, above the pipeline, and hands itself over when imported)
+        importlib.import_module("cvfit.report.notebook")
     globals()[name] = value
     return value
 

@@ -6,6 +6,7 @@ Truth of the simulated series (tests/seriesfactory.py): log10(β_ox/β_red) = 6.
 
 from __future__ import annotations
 
+import csv
 import hashlib
 import json
 import os
@@ -201,3 +202,66 @@ def test_parallel_files_of_one_series_match_serial(tmp_path, csvs, capsys):
         analyse_series(load_manifest(broken), jobs=2)
     assert str(parallel_err.value) == str(serial_err.value)
     assert "b2.csv" in str(serial_err.value)
+
+
+def test_out_dirs_named_by_folder_when_every_manifest_is_series_toml(tmp_path):
+    ms = [tmp_path / "zinc run" / "series.toml", tmp_path / "b" / "series.toml",
+          tmp_path / "c" / "b" / "series.toml"]  # fmt: skip
+    got = batch_out_dirs(ms, tmp_path / "o")
+    assert [p.name for p in got] == ["zinc run", "b", "b-2"]
+    mixed = batch_out_dirs([*ms[:2], tmp_path / "d" / "other.toml"], tmp_path / "o")
+    assert [p.name for p in mixed] == ["series", "series-2", "other"]
+
+
+def test_batch_writes_its_summary_csv_and_json_with_whole_titles(tmp_path, csvs, capsys):
+    import csv
+
+    long_title = "zinc(II) with the invented ligand, pH 7.0, 0.1 M KNO3, second day"
+    assert len(long_title) > 36
+    a = make_series(tmp_path / "run A", csvs, title=long_title)
+    b = make_series(tmp_path / "run B", csvs, title="short", broken=True)
+    out = tmp_path / "out"
+    assert main(["run", str(a), str(b), "--out", str(out), "--jobs", "1"]) == 2
+    printed = capsys.readouterr().out
+    assert (out / "run A" / "results.json").is_file()  # named by the manifest's folder
+    with open(out / "batch_summary.csv", encoding="utf-8", newline="") as fh:
+        rows = list(csv.DictReader(fh))
+    summary = json.loads((out / "batch_summary.json").read_text(encoding="utf-8"))["series"]
+    results = json.loads((out / "run A" / "results.json").read_text(encoding="utf-8"))
+    q = results["fit"]["log10_beta_ratio"]
+    assert [r["title"] for r in rows] == [s["title"] for s in summary] == [long_title, "short"]
+    assert long_title not in printed  # the terminal table still clips it
+    assert float(rows[0]["log10_ratio"]) == summary[0]["log10_ratio"] == q["value"]
+    assert summary[0]["log10_ratio_stderr"] == q["stderr"]
+    assert [r["status"] for r in rows] == ["ok", "bad input"]
+    assert rows[1]["log10_ratio"] == "" and summary[1]["log10_ratio"] is None
+    assert "b2.csv" in summary[1]["error"] and rows[1]["out_dir"] == str(out / "run B")
+
+
+def test_batch_summary_without_out_goes_to_the_folder_holding_the_outputs(tmp_path, csvs):
+    a = make_series(tmp_path / "p" / "x", csvs, title="x")
+    b = make_series(tmp_path / "p" / "y", csvs, stem="other", title="y")
+    assert main(["run", str(a), str(b), "--jobs", "1"]) == 0
+    data = json.loads((tmp_path / "p" / "batch_summary.json").read_text(encoding="utf-8"))
+    assert [s["title"] for s in data["series"]] == ["x", "y"]
+    assert (tmp_path / "p" / "batch_summary.csv").is_file()
+
+
+def test_a_file_of_the_users_is_never_replaced_by_the_summary(tmp_path, csvs):
+    """A batch_summary.csv of the user's own in the folder stays as it was: the summary goes
+    to batch_summary-2; a second run replaces its own summary there, not the user's file.
+    A title a spreadsheet would run as a formula is written as text."""
+    a = make_series(tmp_path / "p" / "x", csvs, title="=1+2")
+    b = make_series(tmp_path / "p" / "y", csvs, stem="other", title="y")
+    mine = tmp_path / "p" / "batch_summary.csv"
+    mine.write_text("my own notes\n", encoding="utf-8")
+    for _ in range(2):
+        assert main(["run", str(a), str(b), "--jobs", "1"]) == 0
+        assert mine.read_text(encoding="utf-8") == "my own notes\n"
+        assert not (tmp_path / "p" / "batch_summary.json").exists()
+        assert not (tmp_path / "p" / "batch_summary-3.csv").exists()
+    with open(tmp_path / "p" / "batch_summary-2.csv", encoding="utf-8", newline="") as fh:
+        rows = list(csv.DictReader(fh))
+    assert [r["title"] for r in rows] == ["'=1+2", "y"]
+    data = json.loads((tmp_path / "p" / "batch_summary-2.json").read_text(encoding="utf-8"))
+    assert [s["title"] for s in data["series"]] == ["=1+2", "y"]  # JSON keeps the text as it is

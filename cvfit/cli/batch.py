@@ -1,14 +1,22 @@
 """Several series at once: ``cvfit run A.toml B.toml FOLDER/ [--jobs N] [--out DIR]``.
 
 Each series runs in a worker process of a pool, into its own output folder; a series that
-fails is reported with its one-line error and does not stop the others.
+fails is reported with its one-line error and does not stop the others. The batch files
+itself: ``batch_summary.csv`` and ``batch_summary.json``, one row per series with titles
+whole (the terminal table clips them at 36 characters), go into ``--out`` or the folder
+holding every output; a value not measured is an empty CSV cell and a JSON null.
 """
 
 from __future__ import annotations
 
+import csv
+import io
+import json
+import math
+import os
 import sys
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any
 
@@ -21,6 +29,8 @@ __all__ = [
     "run_series",
     "run_batch",
     "format_batch_summary",
+    "summary_rows",
+    "write_batch_summary",
 ]
 
 STATUS_OK = "ok"
@@ -92,19 +102,23 @@ def expand_manifests(arguments: Sequence[str | Path]) -> list[Path]:
 def batch_out_dirs(manifests: Sequence[Path], out: Path | None) -> list[Path]:
     """One output folder per manifest: beside it by default, else ``out/<stem>``.
 
-    Stems that collide under *out* get ``-2``, ``-3`` … in command-line order.
+    When every manifest is ``series.toml`` (one series per folder, as ``cvfit init``
+    writes them), the folder under *out* is named after the manifest's folder instead.
+    Names that collide under *out* get ``-2``, ``-3`` … in command-line order.
     """
     from cvfit.cli.output_paths import default_out_dir
 
     if out is None:
         return [default_out_dir(m) for m in manifests]
+    by_folder = all(m.name == "series.toml" for m in manifests)
     dirs: list[Path] = []
     used: set[str] = set()
     for m in manifests:
-        name, k = m.stem, 1
+        stem = (m.absolute().parent.name or m.stem) if by_folder else m.stem
+        name, k = stem, 1
         while name.casefold() in used:
             k += 1
-            name = f"{m.stem}-{k}"
+            name = f"{stem}-{k}"
         used.add(name.casefold())
         dirs.append(out / name)
     return dirs
@@ -341,4 +355,118 @@ def handle_batch(manifests: Sequence[Path], out: Path | None, *, jobs: int | Non
     dirs = batch_out_dirs(manifests, out)
     outcomes = run_batch(manifests, dirs, jobs=jobs)
     sys.stdout.write(format_batch_summary(outcomes) + "\n")
+    folder = summary_folder(dirs, out)
+    try:
+        written = write_batch_summary(outcomes, folder)
+    except OSError as exc:
+        raise InputError(
+            f"cannot write the batch summary here ({exc.strerror or exc}); give --out DIR",
+            source=str(folder),
+        ) from None
+    sys.stdout.write(f"Batch summary: {printable(written[0])} (and .json beside it).\n")
     return batch_exit_status(outcomes)
+
+
+#: Stem of the summary files: ``batch_summary.csv`` and ``batch_summary.json``.
+SUMMARY_STEM = "batch_summary"
+_COLUMNS = (
+    "title",
+    "status",
+    "log10_ratio",
+    "log10_ratio_stderr",
+    "delta_ligands",
+    "delta_ligands_stderr",
+    "n_points",
+    "screen",
+    "temperature_K",
+    "conditions",
+    "manifest",
+    "out_dir",
+    "error",
+)
+
+
+def summary_folder(out_dirs: Sequence[Path], out: Path | None) -> Path:
+    """Where the summary goes: ``--out`` when given, else the folder holding every output."""
+    if out is not None:
+        return out
+    return Path(os.path.commonpath([str(d.absolute().parent) for d in out_dirs]))
+
+
+def _finite(x: Any) -> Any:
+    return None if isinstance(x, float) and not math.isfinite(x) else x
+
+
+def summary_rows(outcomes: Sequence[SeriesOutcome]) -> list[dict[str, Any]]:
+    """One mapping per series: the outcome's fields, stepwise log10 β_j as columns."""
+    order = max((len(o.log10_beta) for o in outcomes), default=0)
+    rows = []
+    for o in outcomes:
+        fields = asdict(o)
+        row = {key: _finite(fields[key]) for key in _COLUMNS}
+        if row["title"] is None:
+            row["title"] = Path(o.manifest).stem
+        for j in range(1, order + 1):
+            value, stderr = o.log10_beta[j - 1] if j <= len(o.log10_beta) else (None, None)
+            row[f"log10_beta_{j}"] = _finite(value)
+            row[f"log10_beta_{j}_stderr"] = _finite(stderr)
+        rows.append(row)
+    return rows
+
+
+#: The JSON summary's mark: a file that carries it was written by cvfit and may be replaced.
+SUMMARY_FORMAT = "cvfit batch summary, version 1"
+
+
+def _ours(csv_path: Path, json_path: Path) -> bool:
+    """Both names free, or taken by an earlier summary of cvfit's (never a user's file)."""
+    if csv_path.exists():
+        try:
+            head = csv_path.read_text(encoding="utf-8", errors="replace").split("\n", 1)[0]
+        except OSError:
+            return False
+        if not head.startswith(",".join(_COLUMNS[:4])):
+            return False
+    if json_path.exists():
+        try:
+            mark = json.loads(json_path.read_text(encoding="utf-8")).get("format")
+        except (OSError, ValueError, AttributeError):
+            return False
+        return bool(mark == SUMMARY_FORMAT)
+    return True
+
+
+def summary_paths(folder: Path) -> tuple[Path, Path]:
+    """``batch_summary.csv``/``.json`` in *folder*, or ``batch_summary-2`` … where a file of
+    that name is not an earlier cvfit summary (a file the user has is never replaced)."""
+    k = 1
+    while True:
+        stem = SUMMARY_STEM if k == 1 else f"{SUMMARY_STEM}-{k}"
+        paths = folder / f"{stem}.csv", folder / f"{stem}.json"
+        if _ours(*paths):
+            return paths
+        k += 1
+
+
+def write_batch_summary(outcomes: Sequence[SeriesOutcome], folder: Path) -> tuple[Path, Path]:
+    """Write ``batch_summary.csv`` and ``batch_summary.json`` into *folder* (see
+    :func:`summary_paths`); their paths. Text cells are safe for a spreadsheet."""
+    from cvfit.record_json import record_json
+    from cvfit.report.atomic import atomic_write_text
+    from cvfit.report.file_table import text_cell
+    from cvfit.version import __version__
+
+    rows = summary_rows(outcomes)
+    folder.mkdir(parents=True, exist_ok=True)
+    text = io.StringIO()
+    writer = csv.DictWriter(text, fieldnames=list(rows[0]) if rows else list(_COLUMNS))
+    writer.writeheader()
+    writer.writerows(
+        {k: "" if v is None else text_cell(v) if isinstance(v, str) else v for k, v in r.items()}
+        for r in rows
+    )
+    csv_path, json_path = summary_paths(folder)
+    atomic_write_text(csv_path, text.getvalue())
+    record = {"format": SUMMARY_FORMAT, "cvfit_version": __version__, "series": rows}
+    atomic_write_text(json_path, record_json(record) + "\n")
+    return csv_path, json_path

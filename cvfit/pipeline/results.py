@@ -7,6 +7,7 @@ missing values become ``null``).
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import asdict, dataclass, field, fields
 from typing import TYPE_CHECKING, Any, Literal, TypeAlias
 
@@ -31,6 +32,7 @@ if TYPE_CHECKING:  # imported for annotations only; keeps this module free of he
     from cvfit.titration.temperature_model import TemperatureFit
 
 __all__ = [
+    "set_notebook_view",
     "FileResult",
     "InternalStandardResult",
     "ReferenceHalfWave",
@@ -288,6 +290,27 @@ class SeriesResult:
     scan_rate_studies: tuple[ScanRateStudy, ...] = ()
     global_fit: GlobalCurveFit | None = None
 
+    def _repr_html_(self) -> str | None:
+        """Jupyter's view: headline, per-file table and figures (None before the outputs
+        are loaded: the notebook then shows the plain repr)."""
+        html = _NOTEBOOK_VIEW.get("html")
+        return None if html is None else html(self)
+
+    def plot(self, name: str | None = None) -> Any:
+        """The figures of this series as matplotlib Figures (nothing written or shown).
+
+        Without *name*, a dict of every figure the run has by its key in the figure
+        registry (``"voltammograms"``, ``"lingane"``, …); with *name*, that Figure.
+        """
+        plot = _NOTEBOOK_VIEW.get("plot")
+        if plot is None:
+            raise RuntimeError(
+                "the figures are drawn by cvfit's outputs: use the public API "
+                "(cvfit.analyse_series) or import cvfit.report.notebook first"
+            )
+        drawn = plot(self, name)
+        return drawn if name is None else drawn[name]
+
     def to_dict(self) -> dict[str, Any]:
         if self.fit is not None:
             fit = self.fit.to_dict()
@@ -308,3 +331,13 @@ class SeriesResult:
             "global_fit": None if self.global_fit is None else self.global_fit.to_dict(),
             "flags": [f.to_dict() for f in self.flags],
         }
+
+
+#: The notebook view of a series result, handed over by cvfit.report.notebook (the
+#: outputs sit above the pipeline, so it cannot be imported from here).
+_NOTEBOOK_VIEW: dict[str, Callable[..., Any]] = {}
+
+
+def set_notebook_view(html: Callable[..., str], plot: Callable[..., Any]) -> None:
+    """Give :class:`SeriesResult` its ``_repr_html_`` and ``plot`` drawing functions."""
+    _NOTEBOOK_VIEW.update(html=html, plot=plot)

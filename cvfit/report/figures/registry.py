@@ -25,7 +25,14 @@ from typing import TYPE_CHECKING
 if TYPE_CHECKING:
     from cvfit.pipeline.results import SeriesResult
 
-__all__ = ["FigureEntry", "FIGURES", "figure_names", "figures_for", "draw_figure"]
+__all__ = [
+    "FigureEntry",
+    "FIGURES",
+    "figure_names",
+    "figure_keys_for",
+    "figures_for",
+    "draw_figure",
+]
 
 
 @dataclass(frozen=True)
@@ -158,6 +165,11 @@ def figure_names() -> frozenset[str]:
 
 def figures_for(result: SeriesResult) -> list[FigureEntry]:
     """The figures of *result*, in the order they are drawn and shown."""
+    return [FIGURES[k] for k in figure_keys_for(result)]
+
+
+def figure_keys_for(result: SeriesResult) -> list[str]:
+    """The registry keys of the figures of *result*, in the order they are drawn."""
     from cvfit.techniques import technique_of_name
     from cvfit.titration.registry import model_named
 
@@ -168,7 +180,7 @@ def figures_for(result: SeriesResult) -> list[FigureEntry]:
     keys += list(model_named(result.series.model).figures)
     if any(f.internal_standard is not None for f in result.files):
         keys.append("internal_standard")
-    return [FIGURES[k] for k in keys]
+    return keys
 
 
 def draw_figure(entry: FigureEntry, result: SeriesResult, out: Path) -> Path | None:

@@ -10,7 +10,9 @@ from __future__ import annotations
 
 import math
 import textwrap
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
+from contextvars import ContextVar
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, cast
 
@@ -51,6 +53,7 @@ __all__ = [
     "MIN_POINTS_DRAWN",
     "MAX_CURVES_DRAWN",
     "COLOUR_MAP",
+    "keep_figures",
 ]
 
 COLOUR_MAP = "cividis"
@@ -153,10 +156,30 @@ def _save(
             bottom=bottom / height,
             top=1.0 - top / height,
         )
+    kept = _KEPT.get()
+    if kept is not None:  # a notebook asked for the Figure object, not a file
+        kept.append(fig)
+        plt.close(fig)  # detached from pyplot: shown once, where the caller shows it
+        return path
     with atomic_path(path) as tmp:
         fig.savefig(tmp, format=fmt, **extra)
     plt.close(fig)
     return path
+
+
+#: Set by :func:`keep_figures`: the figures drawn are collected here instead of written.
+_KEPT: ContextVar[list[Figure] | None] = ContextVar("cvfit_kept_figures", default=None)
+
+
+@contextmanager
+def keep_figures() -> Iterator[list[Figure]]:
+    """Inside, the drawing functions write no file: each Figure is appended to the list."""
+    kept: list[Figure] = []
+    token = _KEPT.set(kept)
+    try:
+        yield kept
+    finally:
+        _KEPT.reset(token)
 
 
 #: Most titration curves overlaid in one figure. Beyond it, curves spread evenly over the
