@@ -340,3 +340,19 @@ def test_davies_A_follows_the_temperature_and_is_refused_outside_0_to_100_C():
     )
     assert cold.thermodynamic_log10_beta is None
     assert any(f.code == "ACTIVITY_TEMPERATURE_OUT_OF_RANGE" for f in cold.flags)
+
+
+def test_summary_shows_each_interval_in_its_values_digits():
+    """A well-determined β: the summary's interval keeps the digits of value ± error, never
+    rounds to two decimals ("[4.50, 4.50]"); the limits are those of the fit's record."""
+    import re
+
+    rng = np.random.default_rng(3)
+    E, ref = _series((4.5,), np.logspace(-3, -1, 8), rng)
+    fit = _fit(_points(np.logspace(-3, -1, 8), E), ref, max_complexes=2)
+    line = next(x for x in fit.summary_lines() if x.strip().startswith("log10 β1"))
+    value, lo, hi = re.search(r"β1\s+(\S+) ± \S+\s+95 % CI \[(\S+), (\S+)\]", line).groups()
+    digits = len(value.split(".")[1])
+    assert len(lo.split(".")[1]) == digits == len(hi.split(".")[1]) >= 3
+    q = fit.log10_beta[0]
+    assert float(lo) == pytest.approx(q.ci95[0], abs=10**-digits) and float(lo) < float(hi)

@@ -343,9 +343,12 @@ def null_stepwise_dict(n_points: int, flags) -> dict[str, Any]:
     }
 
 
-def _ci(lo: float, hi: float) -> str:
+def _ci(lo: float, hi: float, shown: str = "0.00") -> str:
+    """The interval in the digits of the value as *shown* (an open side: "open")."""
+    digits = len(shown.split(" ± ")[0].split(".")[-1]) if "." in shown else 0
+
     def side(x: float) -> str:
-        return f"{x:.2f}" if math.isfinite(x) else "open"
+        return f"{x:.{digits}f}" if math.isfinite(x) else "open"
 
     return f"[{side(lo)}, {side(hi)}]"
 
@@ -366,7 +369,7 @@ def _summary_lines(fit: StepwiseFit) -> list[str]:
     for j, (q, det) in enumerate(zip(fit.log10_beta, fit.determined, strict=True), start=1):
         text = format_pm(q.value, q.stderr)
         mark = "" if det else "   NOT DETERMINED by this ligand range"
-        lines.append(f"  log10 β{j:<2}  {text:>16}   95 % CI {_ci(*q.ci95)}{mark}")
+        lines.append(f"  log10 β{j:<2}  {text:>16}   95 % CI {_ci(*q.ci95, text)}{mark}")
     for u in fit.undetermined:
         if u.j > fit.n_complexes:
             lim = f"< {u.upper_limit_95:.2f}" if u.upper_limit_95 is not None else "no limit"
