@@ -64,7 +64,7 @@ def test_rows_become_entries_in_row_order(data_folder):
 
 
 def test_semicolons_decimal_commas_and_bom(data_folder):
-    table = "\ufeffFile;Ligand_M;Label\r\na_1.csv;0,001;\"one; first\"\r\nfree.csv;0;\r\n"
+    table = '\ufeffFile;Ligand_M;Label\r\na_1.csv;0,001;"one; first"\r\nfree.csv;0;\r\n'
     m = load_manifest(_series(data_folder, "", raw=table.encode("utf-8")))
     assert [(e.name, e.ligand_M, e.label) for e in m.voltammograms] == [
         ("a_1.csv", 0.001, "one; first"),

@@ -103,6 +103,7 @@ def exports(tmp_path_factory) -> Path:
     (folder / "Fe_cvfit").mkdir()
     (folder / "Fe_cvfit" / "voltammograms.csv").write_text("file,E_half_V\n")
     (folder / "readme.md").write_text("not an export\n")
+    (folder / "my_list.csv").write_text("\ufeffFile;ligand_M\nFe_blank.txt;0\n", encoding="utf-8")
     return folder
 
 
@@ -112,6 +113,7 @@ def test_init_on_realistic_exports(exports, tmp_path):
     proc = run_cli("init", "exports", cwd=tmp_path)
     assert proc.returncode == 0, proc.stderr
     assert "left out batch_summary.csv" in proc.stdout
+    assert "left out my_list.csv: a files table" in proc.stdout
     assert "1 refused" in proc.stdout
     assert "sample_x.dat: ligand_M" in proc.stdout
     text = (folder / "series.toml").read_text(encoding="utf-8")
@@ -131,9 +133,8 @@ def test_init_on_realistic_exports(exports, tmp_path):
     realistic = " ".join(blocks["Fe_L_5mM.csv"])
     assert "'Current (µA)' in µA" in realistic and "header on line 6" in realistic
     # no time in the file: the rate from the name (50 mV/s), said so
-    assert "scan_rate_V_s = 0.05" in text and "from the file name" in " ".join(
-        blocks["Fe_L_20mM_50mVs.tsv"]
-    )
+    assert "scan_rate_V_s = 0.05" in text
+    assert "name: 50mVs → scan_rate_V_s = 0.05" in " ".join(blocks["Fe_L_20mM_50mVs.tsv"])
     assert "no header row" in " ".join(blocks["sample_x.dat"])
     refused = blocks["notes.txt"]
     assert refused[0].startswith("# refused by the reader: ") and '# file = "notes.txt"' in refused
@@ -237,7 +238,9 @@ def test_init_with_added_volumes(simulated, tmp_path):
     assert "V_add_3.csv: added_mL (addition 3)" in texts.to_fill
     assert "[titration] start_volume_mL" in texts.to_fill
     if not any(t.name == "titration" for t in manifest_keys.TABLES):
-        pytest.skip("the [titration] table is not declared on this branch (cvfit.io.manifest_keys)")
+        pytest.skip(
+            "the [titration] table is not declared on this branch (cvfit.io.manifest_keys)"
+        )
     filled = text.replace(f'electrons = "{PLACEHOLDER}"', "electrons = 1")
     for key, value in (("start_volume_mL", "10.0"), ("metal_M", "0.001"),
                        ("ligand_stock_M", "0.1")):  # fmt: skip
@@ -249,8 +252,9 @@ def test_init_with_added_volumes(simulated, tmp_path):
 
 def test_init_help_is_enough(tmp_path):
     out = run_cli("init", "--help", cwd=tmp_path).stdout
-    for needle in ("5mM", "0.25uL", "add_3", "blank", "100mVs", "FILL IN", "--out", "--table",
-                   "natural", "never overwrites", "refuses"):  # fmt: skip
+    needles = ("5mM", "0.25uL", "add_3", "blank", "100mVs", "FILL IN", "--out", "--table",
+               "natural", "never overwrites", "refuses", "files table", "semicolon")  # fmt: skip
+    for needle in needles:
         assert needle in out, needle
 
 
@@ -262,5 +266,7 @@ def test_name_rate_against_file_rate(tmp_path):
     s = survey_export(tmp_path, "L_5mM_20mVs.csv")
     assert s.file_rate_V_s == pytest.approx(0.1, rel=0.01)
     assert any("the name says 0.02 V/s" in line for line in s.read_as)
-    assert "scan_rate_V_s" not in manifest_texts([s], title="x").manifest.split("[[voltammogram]]")[1]
+    assert (
+        "scan_rate_V_s" not in manifest_texts([s], title="x").manifest.split("[[voltammogram]]")[1]
+    )
     assert np.isfinite(s.file_rate_V_s)

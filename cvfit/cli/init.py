@@ -38,6 +38,14 @@ one left with the file's line and the key. The command prints the list.
 """
 
 INIT_EPILOG = """\
+files table (--table, or [series] files_table = "NAME.csv" in any manifest): one row per
+  file, in order; header cells are [[voltammogram]] keys (case ignored): file (required),
+  ligand_M or added_mL, and optional scan_rate_V_s, label, exclude, pH, temperature_C,
+  resistance_ohm, rotation_rate_rpm, cycle, anodic_current ...; an empty cell is "not
+  given"; UTF-8 with or without a byte-order mark, comma- or semicolon-separated (then a
+  decimal comma is read too). Each cell is checked as the key is in the TOML; an error
+  names the table, the line and the column. Not together with [[voltammogram]] tables.
+
 never overwrites: an existing manifest (or files table) is an error; write another with
   --out OTHER.toml.
 exit status: 0 written; 2 bad input (no such folder, no exports in it, a file exists).
@@ -52,7 +60,9 @@ def register(sub: argparse._SubParsersAction) -> None:
         epilog=INIT_EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    p.add_argument("folder", help="the folder holding the exported voltammograms")
+    p.add_argument(
+        "folder", metavar="FOLDER", help="the folder holding the exported voltammograms"
+    )
     p.add_argument(
         "--out",
         metavar="NAME.toml",
@@ -78,8 +88,6 @@ def _skip_reason(name: str) -> str | None:
         return "a batch summary cvfit wrote"
     if is_output_name(name):
         return "an output file name of cvfit run"
-    if name == TABLE_NAME:
-        return "a files table"
     return None
 
 

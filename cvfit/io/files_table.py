@@ -22,7 +22,7 @@ from cvfit.errors import InputError
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
 from cvfit.io.manifest_spec import Key, Table, clean_value
 
-__all__ = ["FilesTable", "read_files_table", "TABLE_KINDS"]
+__all__ = ["FilesTable", "read_files_table", "looks_like_files_table", "TABLE_KINDS"]
 
 #: Kinds of key a cell can hold (a list-valued key belongs in the manifest).
 TABLE_KINDS = frozenset({"number", "integer", "text", "flag", "choice", "column", "cycle"})
@@ -202,3 +202,16 @@ def read_files_table(path: Path, table: Table, *, name: str) -> FilesTable:
             "the files table lists no file; give one row per file", source=source, line=1
         )
     return FilesTable(path, tuple(rows), tuple(lines))
+
+
+def looks_like_files_table(path: Path) -> bool:
+    """Whether *path* starts like a files table (a header whose first cell is ``file``),
+    so that ``cvfit init`` does not take it for an export."""
+    try:
+        with open(path, "rb") as f:
+            head = f.read(256)
+    except OSError:
+        return False
+    first = head.decode("utf-8-sig", errors="replace").splitlines()[:1]
+    cell = first[0].replace(";", ",").split(",", 1)[0] if first else ""
+    return cell.strip().strip('"').casefold() == "file"

@@ -18,6 +18,7 @@ from pathlib import Path
 
 from cvfit.errors import InputError
 from cvfit.io.file_names import NameValues, natural_sorted, parse_name
+from cvfit.io.files_table import looks_like_files_table
 from cvfit.io.manifest_spec import PLACEHOLDER, toml_text
 from cvfit.io.reader import read_voltammogram
 
@@ -97,6 +98,8 @@ def find_exports(
             skipped.append((name, "not a regular file"))
         elif (why := skip(name)) is not None:
             skipped.append((name, why))
+        elif looks_like_files_table(entry):
+            skipped.append((name, "a files table (its first column is file)"))
         else:
             names.append(name)
     return natural_sorted(names), sorted(skipped)
@@ -164,10 +167,12 @@ def _entry(s: ExportSurvey, variable: str, to_fill: list[str]) -> tuple[list[str
     if value is not None:
         row[variable] = value
     elif nv.addition is not None:
-        notes.append(
-            f"addition {nv.addition}: fill in {variable}, the total volume of ligand stock "
-            "added up to this file, mL"
+        what = (
+            "the total volume of ligand stock added up to this file, mL"
+            if variable == "added_mL"
+            else "the total ligand concentration after it, mol/L"
         )
+        notes.append(f"addition {nv.addition}: fill in {variable}, {what}")
         to_fill.append(f"{s.name}: {variable} (addition {nv.addition})")
     else:
         unit = "mL of ligand stock added up to this file" if variable == "added_mL" else (
@@ -175,8 +180,7 @@ def _entry(s: ExportSurvey, variable: str, to_fill: list[str]) -> tuple[list[str
         notes.append(f"the name carries no {variable}: fill it in ({unit})")
         to_fill.append(f"{s.name}: {variable}")
     if s.file_rate_V_s is None and nv.scan_rate_V_s is not None:
-        row["scan_rate_V_s"] = nv.scan_rate_V_s
-        notes.append("scan_rate_V_s from the file name")
+        row["scan_rate_V_s"] = nv.scan_rate_V_s  # the name's words say so above
     elif s.file_rate_V_s is None:
         notes.append("no scan rate in the file or its name: give scan_rate_V_s (V/s) if known")
     return notes, row
