@@ -156,3 +156,22 @@ def test_cli_names_the_table_line_and_column(data_folder, tmp_path):
     _series(tmp_path, "file,ligand_M\nfree.csv,0\na_1.csv,1 mM\n")
     err = assert_clean_error(run_cli("run", "series.toml", cwd=tmp_path), "column ligand_M")
     assert err.startswith("cvfit: error: titration.csv:3: row 2 (a_1.csv)"), err
+
+
+def test_schema_takes_a_files_table_instead_of_voltammogram_tables():
+    """schemas/series.schema.json agrees with the loader: a files table stands for the
+    [[voltammogram]] tables, and both together are refused."""
+    import json
+    import tomllib
+
+    import jsonschema
+
+    root = Path(__file__).resolve().parents[1]
+    schema = json.loads((root / "schemas" / "series.schema.json").read_text(encoding="utf-8"))
+    validator = jsonschema.Draft202012Validator(schema)
+    table = '[series]\nelectrons = 1\nfiles_table = "t.csv"\n'
+    entry = '[[voltammogram]]\nfile = "a.csv"\nligand_M = 0.0\n'
+    assert validator.is_valid(tomllib.loads(table))
+    assert not validator.is_valid(tomllib.loads(table + entry))
+    assert not validator.is_valid(tomllib.loads("[series]\nelectrons = 1\n"))
+    assert not validator.is_valid(tomllib.loads(table.replace('"t.csv"', '""')))

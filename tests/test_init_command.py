@@ -270,3 +270,16 @@ def test_name_rate_against_file_rate(tmp_path):
         "scan_rate_V_s" not in manifest_texts([s], title="x").manifest.split("[[voltammogram]]")[1]
     )
     assert np.isfinite(s.file_rate_V_s)
+
+
+def test_odd_file_names_stay_inside_their_strings(simulated, tmp_path):
+    """A quote or a line break in a file name cannot break the manifest's TOML."""
+    import tomllib
+
+    for name in ('q"uote_5mM.csv', "new\nline.csv", "back\\slash.csv"):
+        shutil.copy(simulated / NAMES[0], tmp_path / name)
+    names, _ = find_exports(tmp_path)
+    text = manifest_texts([survey_export(tmp_path, n) for n in names], title='a "b"').manifest
+    data = tomllib.loads(text)
+    assert sorted(e["file"] for e in data["voltammogram"]) == sorted(names)
+    assert data["series"]["title"] == 'a "b"'

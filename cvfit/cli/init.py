@@ -12,7 +12,7 @@ import argparse
 import sys
 from pathlib import Path
 
-from cvfit.errors import InputError
+from cvfit.errors import InputError, printable
 
 _CMD = "<command line>"
 #: The files table ``--table`` writes beside the manifest.
@@ -158,12 +158,12 @@ def handle(args: argparse.Namespace) -> int:
     out = sys.stdout.write
     listed = f"{len(surveys) - len(refused)} file(s)"
     where = f" and {table}" if table is not None else ""
-    out(f"wrote {manifest}{where}: {listed} in natural order")
+    out(f"wrote {printable(manifest)}{printable(where)}: {listed} in natural order")
     out(f", {len(refused)} refused by the reader (commented out)\n" if refused else "\n")
     for name, why in skipped:
-        out(f"  left out {name}: {why}\n")
+        out(f"  left out {printable(name)}: {why}\n")
     out(f'still to fill in ({len(texts.to_fill)}), marked "FILL IN":\n')
     for item in texts.to_fill:
-        out(f"  {item}\n")
-    out(f"then: cvfit run {manifest}\n")
+        out(f"  {printable(item)}\n")
+    out(f"then: cvfit run {printable(manifest)}\n")
     return 0

@@ -16,7 +16,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
-from cvfit.errors import InputError
+from cvfit.errors import InputError, printable
 from cvfit.io.file_names import NameValues, natural_sorted, parse_name
 from cvfit.io.files_table import looks_like_files_table
 from cvfit.io.manifest_spec import PLACEHOLDER, toml_text
@@ -94,7 +94,9 @@ def find_exports(
         name = entry.name
         if name.startswith(".") or entry.suffix.lower() not in EXPORT_SUFFIXES:
             continue
-        if not entry.is_file():
+        if not _utf8(name):
+            skipped.append((printable(name), "its name is not UTF-8 text; rename the file"))
+        elif not entry.is_file():
             skipped.append((name, "not a regular file"))
         elif (why := skip(name)) is not None:
             skipped.append((name, why))
@@ -103,6 +105,14 @@ def find_exports(
         else:
             names.append(name)
     return natural_sorted(names), sorted(skipped)
+
+
+def _utf8(name: str) -> bool:
+    try:
+        name.encode("utf-8")
+    except UnicodeEncodeError:  # undecodable bytes of a file name (lone surrogates)
+        return False
+    return True
 
 
 def _read_as(metadata: dict[str, str]) -> tuple[str, ...]:
@@ -187,7 +197,7 @@ def _entry(s: ExportSurvey, variable: str, to_fill: list[str]) -> tuple[list[str
 
 
 def _toml_entry(notes: list[str], row: dict[str, object]) -> list[str]:
-    lines = [f"# {n}" for n in notes] + ["[[voltammogram]]"]
+    lines = [f"# {printable(n)}" for n in notes] + ["[[voltammogram]]"]
     keys = ("file", "ligand_M", "added_mL", "scan_rate_V_s")
     return lines + [f"{key} = {toml_text(row[key])}" for key in keys if key in row]
 
@@ -259,7 +269,8 @@ def manifest_texts(
     for s in surveys:
         lines.append("")
         if s.refused is not None and table_name is not None:
-            lines.append(f"# {s.name}: refused by the reader, not in the table: {s.refused}")
+            lines.append(f"# {printable(s.name)}: refused by the reader, not in the table: "
+                         f"{s.refused}")  # fmt: skip
             continue
         if s.refused is not None:
             lines += [f"# refused by the reader: {s.refused}", "# [[voltammogram]]",
@@ -270,7 +281,7 @@ def manifest_texts(
             row = {**row, variable: PLACEHOLDER}
         rows.append(row)
         if table_name is not None:
-            lines += [f"# {s.name}: {n}" for n in notes]
+            lines += [f"# {printable(s.name)}: {printable(n)}" for n in notes]
             continue
         lines += _toml_entry(notes, row)
     table = _table_text(rows, variable) if table_name is not None else None
