@@ -21,6 +21,7 @@ from pathlib import Path
 from cvfit.errors import InputError
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
 from cvfit.io.manifest_spec import Key, Table, clean_value
+from cvfit.io.text import decode_utf8
 
 __all__ = ["FilesTable", "read_files_table", "looks_like_files_table", "TABLE_KINDS"]
 
@@ -65,17 +66,6 @@ class FilesTable:
             line=self.lines[k],
             key=key or None,
         )
-
-
-def _decode(raw: bytes, source: str) -> str:
-    try:
-        return raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise InputError(
-            f"the files table is not UTF-8 text (byte {exc.start}); save it as UTF-8 CSV",
-            source=source,
-            line=raw.count(b"\n", 0, exc.start) + 1,
-        ) from None
 
 
 def _columns(header: list[str], table: Table, source: str) -> list[Key]:
@@ -171,7 +161,7 @@ def read_files_table(path: Path, table: Table, *, name: str) -> FilesTable:
         missing=f"files table {name!r} not found; paths are relative to the manifest's folder",
         folder="this is a folder; name the files table (.csv)",
     )
-    text = _decode(raw, source)
+    text = decode_utf8(raw, source=source, what="files table")
     first = text.split("\n", 1)[0]
     delimiter = ";" if first.count(";") > first.count(",") else ","
     reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)

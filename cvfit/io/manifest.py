@@ -25,7 +25,7 @@ from cvfit.io import manifest_variables as _variables
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
 from cvfit.io.manifest_spec import Table, bind, clean_record, clean_value, clean_values
 from cvfit.io.options import IMPORT_KEYS, ImportOptions
-from cvfit.io.text import split_lines
+from cvfit.io.text import decode_utf8, split_lines
 from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.units import celsius_to_kelvin
 
@@ -410,14 +410,7 @@ def _read(path: Path) -> tuple[str, dict[str, Any]]:
         missing="manifest not found; check the path",
         folder="this is a folder; name the manifest .toml file",
     )
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise InputError(
-            f"the manifest is not UTF-8 text (byte {exc.start}); save it as UTF-8",
-            source=source,
-            line=raw.count(b"\n", 0, exc.start) + 1,
-        ) from None
+    text = decode_utf8(raw, source=source, what="manifest")
     try:
         return text, tomllib.loads(text)
     except RecursionError:
