@@ -10,6 +10,7 @@ from __future__ import annotations
 import json
 import re
 import shutil
+import subprocess
 from pathlib import Path
 
 import numpy as np
@@ -18,6 +19,7 @@ from clirun import assert_clean_error, run_cli
 from dialects import triangle_wave, write_dialect
 from realistic_records import RealisticRecord, write_export
 
+from cvfit.cli import main
 from cvfit.io import load_manifest, manifest_keys
 from cvfit.io.init_manifest import find_exports, manifest_texts, survey_export
 from cvfit.io.manifest_spec import PLACEHOLDER
@@ -26,6 +28,22 @@ from cvfit.io.manifest_spec import PLACEHOLDER
 LIGANDS_M = (0.0, 0.005, 0.01, 0.02, 0.05)
 NAMES = ("M_blank.csv", "M_L_5mM.csv", "M_L_10mM.csv", "M_L_20mM.csv", "M_L_50mM.csv")
 LOG_BETA_OX = 4.0
+
+
+@pytest.fixture
+def cli(capsys, monkeypatch, tmp_path):
+    """``cvfit ARGS`` in this process, in *tmp_path* (faster than a subprocess)."""
+    monkeypatch.chdir(tmp_path)
+
+    def call(*args: str) -> subprocess.CompletedProcess:
+        try:
+            code = main(list(args))
+        except SystemExit as stop:
+            code = stop.code
+        out = capsys.readouterr()
+        return subprocess.CompletedProcess(args, code, out.out, out.err)
+
+    return call
 
 
 @pytest.fixture(scope="module")
@@ -56,10 +74,10 @@ def _blocks(text: str) -> dict[str, list[str]]:
     return out
 
 
-def test_simulated_series_from_init_to_constants(simulated, tmp_path):
+def test_simulated_series_from_init_to_constants(cli, simulated, tmp_path):
     folder = tmp_path / "series"
     shutil.copytree(simulated, folder)
-    proc = run_cli("init", "series", cwd=tmp_path)
+    proc = cli("init", "series")
     assert proc.returncode == 0, proc.stderr
     assert "series.toml" in proc.stdout and "[series] electrons" in proc.stdout
     text = (folder / "series.toml").read_text(encoding="utf-8")
@@ -107,10 +125,10 @@ def exports(tmp_path_factory) -> Path:
     return folder
 
 
-def test_init_on_realistic_exports(exports, tmp_path):
+def test_init_on_realistic_exports(cli, exports, tmp_path):
     folder = tmp_path / "exports"
     shutil.copytree(exports, folder)
-    proc = run_cli("init", "exports", cwd=tmp_path)
+    proc = cli("init", "exports")
     assert proc.returncode == 0, proc.stderr
     assert "left out batch_summary.csv" in proc.stdout
     assert "left out my_list.csv: a files table" in proc.stdout
@@ -148,21 +166,19 @@ def test_init_on_realistic_exports(exports, tmp_path):
     assert [e.ligand_M for e in m.voltammograms] == [0.0, 0.002, 0.005, 0.01, 0.02, 0.04]
 
 
-def test_init_never_overwrites(simulated, tmp_path):
+def test_init_never_overwrites(cli, simulated, tmp_path):
     folder = tmp_path / "s"
     shutil.copytree(simulated, folder)
     (folder / "series.toml").write_text("# mine\n", encoding="utf-8")
-    err = assert_clean_error(run_cli("init", "s", cwd=tmp_path), "series.toml", "--out")
+    err = assert_clean_error(cli("init", "s"), "series.toml", "--out")
     assert "never replaces" in err
     assert (folder / "series.toml").read_text(encoding="utf-8") == "# mine\n"
-    proc = run_cli("init", "s", "--out", "second.toml", cwd=tmp_path)
+    proc = cli("init", "s", "--out", "second.toml")
     assert proc.returncode == 0, proc.stderr
     assert (folder / "second.toml").is_file()
-    assert_clean_error(run_cli("init", "s", "--out", "second.toml", cwd=tmp_path), "second.toml")
+    assert_clean_error(cli("init", "s", "--out", "second.toml"), "second.toml")
     (folder / "titration.csv").write_text("file,ligand_M\n", encoding="utf-8")
-    assert_clean_error(
-        run_cli("init", "s", "--table", "--out", "third.toml", cwd=tmp_path), "titration.csv"
-    )
+    assert_clean_error(cli("init", "s", "--table", "--out", "third.toml"), "titration.csv")
     assert not (folder / "third.toml").exists()
 
 
@@ -177,21 +193,21 @@ def test_init_never_overwrites(simulated, tmp_path):
         (lambda p: None, "folder not found"),
     ],
 )
-def test_init_refusals(tmp_path, make, needle):
+def test_init_refusals(cli, tmp_path, make, needle):
     make(tmp_path / "f")
-    assert_clean_error(run_cli("init", "f", cwd=tmp_path), "f", needle)
+    assert_clean_error(cli("init", "f"), "f", needle)
 
 
-def test_init_out_must_be_a_toml_name(simulated, tmp_path):
+def test_init_out_must_be_a_toml_name(cli, simulated, tmp_path):
     shutil.copytree(simulated, tmp_path / "s")
-    assert_clean_error(run_cli("init", "s", "--out", "../x.toml", cwd=tmp_path), "--out")
+    assert_clean_error(cli("init", "s", "--out", "../x.toml"), "--out")
 
 
-def test_init_table(simulated, tmp_path):
+def test_init_table(cli, simulated, tmp_path):
     folder = tmp_path / "s"
     shutil.copytree(simulated, folder)
     (folder / "odd_sample.csv").write_bytes((simulated / NAMES[1]).read_bytes())
-    proc = run_cli("init", "s", "--table", cwd=tmp_path)
+    proc = cli("init", "s", "--table")
     assert proc.returncode == 0, proc.stderr
     table = (folder / "titration.csv").read_text(encoding="utf-8").splitlines()
     assert table[0] == "file,ligand_M"
@@ -250,8 +266,8 @@ def test_init_with_added_volumes(simulated, tmp_path):
     assert len(load_manifest(folder / "series.toml").voltammograms) == len(VOLUME_NAMES)
 
 
-def test_init_help_is_enough(tmp_path):
-    out = run_cli("init", "--help", cwd=tmp_path).stdout
+def test_init_help_is_enough(cli, tmp_path):
+    out = cli("init", "--help").stdout
     needles = ("5mM", "0.25uL", "add_3", "blank", "100mVs", "FILL IN", "--out", "--table",
                "natural", "never overwrites", "refuses", "files table", "semicolon")  # fmt: skip
     for needle in needles:
