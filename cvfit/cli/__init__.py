@@ -1,4 +1,4 @@
-"""Command line: ``cvfit run | demo | simulate | plan | guide``.
+"""Command line: ``cvfit run | init | demo | simulate | plan | guide``.
 
 This package is the only place in cvfit that prints or exits. Each sub-command lives in
 its own module with ``register(subparsers)`` and a handler returning the exit status.
@@ -65,9 +65,9 @@ def build_parser() -> argparse.ArgumentParser:
         "--debug", action="store_true", help="show the traceback of an internal error"
     )
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
-    from cvfit.cli import demo, guide, plan, run, simulate
+    from cvfit.cli import demo, guide, init, plan, run, simulate
 
-    for module in (run, demo, simulate, plan, guide):
+    for module in (run, init, demo, simulate, plan, guide):
         module.register(sub)
     return parser
 
@@ -92,7 +92,7 @@ def ignore_file_size_signal() -> None:
 #: Printed for ``cvfit`` without a command: the short usage and where the help is.
 NO_COMMAND = (
     "cvfit: error: <command line>: no command given; usage: cvfit [--version] [--debug] "
-    "{run,demo,simulate,plan,guide} ...; see 'cvfit --help', or 'cvfit COMMAND --help'\n"
+    "{run,init,demo,simulate,plan,guide} ...; see 'cvfit --help', or 'cvfit COMMAND --help'\n"
 )
 
 

@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import Any, Literal
 
 from cvfit.errors import InputError
+from cvfit.io import files_table as _files_table
 from cvfit.io import manifest_keys as _keys
 from cvfit.io import manifest_standard as _standard
 from cvfit.io import manifest_technique as _technique
@@ -24,7 +25,7 @@ from cvfit.io import manifest_variables as _variables
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
 from cvfit.io.manifest_spec import Table, bind, clean_record, clean_value, clean_values
 from cvfit.io.options import IMPORT_KEYS, ImportOptions
-from cvfit.io.text import split_lines
+from cvfit.io.text import decode_utf8, split_lines
 from cvfit.reversibility_criteria import ReversibilityCriteria
 from cvfit.units import celsius_to_kelvin
 
@@ -326,8 +327,12 @@ class _Loader:
         self.path = path
         self.source = str(path)
         self.where = _Locator(text)
+        #: The files table the entries come from (``[series] files_table``), if any.
+        self.files: _files_table.FilesTable | None = None
 
     def fail(self, message: str, keypath: str, line: int | None) -> InputError:
+        if self.files is not None and (told := self.files.error(message, keypath)):
+            return told  # about a row of the files table: its line and column
         return InputError(f"{keypath}: {message}", source=self.source, line=line, key=keypath)
 
     def check_keys(self, table: dict, valid: tuple[str, ...], name: str, index: int | None):
@@ -405,14 +410,7 @@ def _read(path: Path) -> tuple[str, dict[str, Any]]:
         missing="manifest not found; check the path",
         folder="this is a folder; name the manifest .toml file",
     )
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise InputError(
-            f"the manifest is not UTF-8 text (byte {exc.start}); save it as UTF-8",
-            source=source,
-            line=raw.count(b"\n", 0, exc.start) + 1,
-        ) from None
+    text = decode_utf8(raw, source=source, what="manifest")
     try:
         return text, tomllib.loads(text)
     except RecursionError:
@@ -476,6 +474,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         )
     series = dict(ld.section(data, _keys.SERIES))
     where = {"reference_at": series.pop("reference_at", None)}
+    files_table = series.pop("files_table", None)
     reference_at = ld.build(_reference_at, where, "series")
     series_settings = ld.build(SeriesSettings, {"title": p.stem, **series}, "series")
     imp = ld.section(data, _keys.IMPORT)
@@ -497,6 +496,9 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         ld, data, series_settings.technique, fit_settings.global_fit
     )
     entries_raw = data.get("voltammogram")
+    if files_table is not None:
+        ld.files = _read_files_table(ld, files_table, folder, entries_raw is not None)
+        entries_raw = list(ld.files.rows)
     if entries_raw is None and points:
         entries_raw = []  # a series of [[point]] tables only
     elif entries_raw is None or entries_raw == []:
@@ -583,6 +585,27 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         reference_at=reference_at,
         technique=technique,
     )
+
+
+def _read_files_table(
+    ld: _Loader, name: object, folder: Path, with_entries: bool
+) -> _files_table.FilesTable:
+    """``[series] files_table``: the rows of the table it names, as [[voltammogram]] tables."""
+    line = ld.where.line("series", "files_table")
+    try:
+        name = clean_value(_keys.SERIES.key("files_table"), name)
+    except InputError as exc:
+        raise ld.fail(exc.message, "series.files_table", line) from None
+    if with_entries:
+        raise ld.fail(
+            "give the files either in the table or as [[voltammogram]] tables, not both",
+            "series.files_table",
+            line,
+        )
+    # named as the manifest is named (relative stays relative); read from its folder
+    shown = Path(ld.source).parent / str(name)
+    path = shown if shown.resolve() == (folder / str(name)).resolve() else folder / str(name)
+    return _files_table.read_files_table(path, _keys.VOLTAMMOGRAM, name=str(name))
 
 
 def _reference_at(reference_at: object) -> str | None:

@@ -158,6 +158,10 @@ SERIES = Table("series", "The titration series as a whole.", required=True, keys
         "— \"constant_temperature\" (a non-isothermal cell: nF·dE½/dT is the reaction entropy "
         "ΔS°rc of the couple) or \"same_temperature\" (an isothermal cell: the entropy of the "
         "cell reaction)", choices=REFERENCE_AT, field=""),
+    Key("files_table", "text", "a CSV table listing the files instead of [[voltammogram]] "
+        "tables (path relative to the manifest's folder): a column file, and ligand_M or "
+        "added_mL, optional scan_rate_V_s, label, exclude and other [[voltammogram]] keys; "
+        "one row per file, in order; an empty cell is not given", nonempty=True, field=""),
 ))  # fmt: skip
 
 IMPORT = Table("import", "How to read the files (series-wide); every key may also be "

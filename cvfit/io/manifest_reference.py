@@ -41,10 +41,14 @@ _DESCRIPTION = (
 
 def schema() -> dict[str, Any]:
     """The JSON Schema (draft 2020-12) of the series manifest."""
-    # files or E½ tables (or both); the technique's settings as TECHNIQUE_SETTINGS says
+    # files (as tables or in a files table, not both) or E½ tables (or both); the
+    # technique's settings as TECHNIQUE_SETTINGS says
+    files_table = {"required": ["series"], "properties": {"series": {"required": ["files_table"]}}}
     across = {
-        "anyOf": [{"required": ["voltammogram"]}, {"required": ["point"]}],
-        "allOf": manifest_variables.schema_conditions() + manifest_technique.schema_conditions(),
+        "anyOf": [{"required": ["voltammogram"]}, {"required": ["point"]}, files_table],
+        "allOf": [{"not": {"allOf": [{"required": ["voltammogram"]}, files_table]}}]
+        + manifest_variables.schema_conditions()
+        + manifest_technique.schema_conditions(),
     }
     return json_schema(DEFINITION, title=_TITLE, description=_DESCRIPTION, across=across)
 

@@ -36,6 +36,7 @@ __all__ = [
     "toml_text",
     "phrase",
     "NO_DEFAULT",
+    "PLACEHOLDER",
 ]
 
 #: What a key holds. ``number``: a finite number (float); ``integer``: a whole number (an
@@ -57,6 +58,9 @@ class _NoDefault:
 
 #: What :attr:`Key.default` holds for a required key (and before :func:`bind`).
 NO_DEFAULT: Any = _NoDefault()
+#: The value ``cvfit init`` writes where the user must fill one in; refused by every key
+#: with its own message.
+PLACEHOLDER = "FILL IN"
 #: What a check returns for a value it refuses.
 _BAD: Any = object()
 #: Longest rendering of a wrong value in a message (a huge list is cut).
@@ -304,6 +308,10 @@ def clean_value(key: Key, value: object) -> object:
         if key.required:
             raise InputError(f"{key.name} is required: give {phrase(key)}", key=key.name)
         return None
+    if value == PLACEHOLDER:
+        raise InputError(
+            f"{key.name} is still {toml_text(PLACEHOLDER)}: give {phrase(key)}", key=key.name
+        )
     out = _checked(key, value)
     if out is _BAD:
         hint = f"; {key.hint}" if key.hint else ""

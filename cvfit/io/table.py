@@ -128,6 +128,8 @@ def _table(lines: list[str], lay: Layout, values: np.ndarray, numbers: np.ndarra
     header, header_idx = lay.header, lay.header_idx
     meta_lines = lines[:header_idx] if header is not None else lines[: lay.start]
     notes = {"import.delimiter": DELIMITER_NAMES[lay.delimiter], "import.decimal": lay.decimal}
+    if header is not None and header_idx is not None:
+        notes["import.header_line"] = str(header_idx + 1)
     if header is None and header_idx is not None:
         notes["import.header"] = (
             f"line {header_idx + 1} was not read as a header (its columns do not match the data)"
@@ -148,6 +150,7 @@ def _table(lines: list[str], lay: Layout, values: np.ndarray, numbers: np.ndarra
             f"{len(settings)} column(s) that the later rows leave empty: "
             + "; ".join(f"{k} = {v}" for k, v in settings.items())
         )
+    notes["import.first_data_line"] = str(int(numbers[0]))
     return NumericTable(
         values=values,
         line_numbers=numbers,

@@ -12,7 +12,14 @@ from dataclasses import dataclass
 
 from cvfit.errors import InputError
 
-__all__ = ["DecodedText", "decode_bytes", "head_lines", "split_lines", "utf8_clean"]
+__all__ = [
+    "DecodedText",
+    "decode_bytes",
+    "decode_utf8",
+    "head_lines",
+    "split_lines",
+    "utf8_clean",
+]
 
 _BOMS: tuple[tuple[bytes, str], ...] = (
     (b"\xef\xbb\xbf", "utf-8-sig"),
@@ -173,3 +180,22 @@ def split_lines(text: str) -> list[str]:
     if lines and lines[-1] == "":
         lines.pop()
     return lines
+
+
+def decode_utf8(raw: bytes, *, source: str, what: str) -> str:
+    """*raw* as UTF-8 text (a byte-order mark dropped), for files the user writes by hand
+    (a manifest, a files table).
+
+    Raises
+    ------
+    InputError
+        Not UTF-8: the byte and its line, and to save *what* as UTF-8.
+    """
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise InputError(
+            f"the {what} is not UTF-8 text (byte {exc.start}); save it as UTF-8",
+            source=source,
+            line=raw.count(b"\n", 0, exc.start) + 1,
+        ) from None
