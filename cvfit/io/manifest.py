@@ -670,9 +670,7 @@ DEFINITION: tuple[Table, ...] = (
     bind(_technique.TechniqueSettings, _keys.TECHNIQUE, extra=("name",)),
     bind(_titration.TitrationSettings, _keys.TITRATION),
     replace(
-        bind(
-            VoltammogramEntry, _keys.VOLTAMMOGRAM, extra=("file", "import_options", "volume_mL")
-        ),
+        bind(VoltammogramEntry, _keys.VOLTAMMOGRAM, extra=("file", "import_options", "volume_mL")),
         includes=(_IMPORT,),
     ),
     bind(_variables.PointEntry, _keys.POINT, extra=("name",)),

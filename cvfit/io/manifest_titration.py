@@ -36,6 +36,7 @@ __all__ = [
     "for_file",
 ]
 
+
 @dataclass(frozen=True, kw_only=True)
 class TitrationSettings:
     """The ``[titration]`` table: the cell before any addition and the stock.
@@ -123,9 +124,7 @@ def check_entry(
         ld.require(raw, "ligand_M", "voltammogram", index)
 
 
-def apply_additions(
-    entries: Sequence[Any], titration: TitrationSettings | None
-) -> list[Any]:
+def apply_additions(entries: Sequence[Any], titration: TitrationSettings | None) -> list[Any]:
     """*entries* with each solution's total ligand, metal and volume from the additions.
 
     A file with ``added_mL`` gets the diluted concentrations and V0 + added; a file giving
@@ -166,9 +165,7 @@ def file_analyte_M(entry: object, series: object) -> float | None:
     return own if own is not None else getattr(series, "analyte_M", None)
 
 
-def check_metal_given(
-    ld: Any, entries: Sequence[Any], series_metal_M: float | None
-) -> None:
+def check_metal_given(ld: Any, entries: Sequence[Any], series_metal_M: float | None) -> None:
     """A file's own ``metal_M`` without ``[titration]`` or ``[series] metal_total_M``
     leaves the others' metal unknown: then every file gives it."""
     if series_metal_M is not None or all(e.metal_M is None for e in entries):

@@ -51,7 +51,7 @@ def table_columns(result: SeriesResult) -> tuple[str, ...]:
     own: dict[str, None] = {}
     for f in result.files:
         own.update(dict.fromkeys(f.measurement.table_cells()))
-    head = GENERIC_HEAD
+    head: tuple[str, ...] = GENERIC_HEAD
     if any(f.metal_M is not None for f in result.files):
         at = head.index("free_ligand_M") + 1
         head = (*head[:at], *SOLUTION_COLUMNS, *head[at:])

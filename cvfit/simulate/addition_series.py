@@ -160,11 +160,17 @@ def simulate_addition_series(
     if seed is None:
         seeds: list[int | None] = [None] * len(adds)
     else:
-        seeds = [int(c.generate_state(1)[0]) for c in np.random.SeedSequence(seed).spawn(len(adds))]
+        children = np.random.SeedSequence(seed).spawn(len(adds))
+        seeds = [int(c.generate_state(1)[0]) for c in children]
     records = [
         simulate_cv(
-            E_half_V=s.E_half_V, electrons=electrons, noise_fraction=noise_fraction, seed=k,
-            source=name, concentration_M=s.dilution.metal_M, **cv_settings,
+            E_half_V=s.E_half_V,
+            electrons=electrons,
+            noise_fraction=noise_fraction,
+            seed=k,
+            source=name,
+            concentration_M=s.dilution.metal_M,
+            **cv_settings,
         )  # fmt: skip
         for s, k, name in zip(solutions, seeds, names, strict=True)
     ]
@@ -176,7 +182,8 @@ def simulate_addition_series(
         (start_volume_mL, metal_M, ligand_M, ligand_stock_M, metal_stock_M),
     )  # fmt: skip
     if all(s.dilution.ligand_M > 0 for s in solutions):
-        lines.insert(lines.index("[titration]") - 1, f"E_half_free_V = {_toml_float(E_half_free_V)}")
+        free = f"E_half_free_V = {_toml_float(E_half_free_V)}"  # no ligand-free file
+        lines.insert(lines.index("[titration]") - 1, free)
     for vg, name, s in zip(records, names, solutions, strict=True):
         lines += [
             "",

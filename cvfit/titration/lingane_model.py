@@ -2,12 +2,13 @@
 the line (:func:`cvfit.titration.lingane.fit_lingane`).
 
 With ``metal_total_M`` in the manifest (or each solution's own metal, a titration by
-additions) the free ligand of every point is [L] = c_L − n·c_M, n the ligands bound per metal in the bulk form: ``bound_ligand_number``
-when given, else the fitted p − q (the reduced form taken as binding none, so a bulk
-oxidised form binds p = p − q ligands and a bulk reduced form, oxidation first, none),
-iterated with the fit to self-consistency. A point is flagged when more than a tenth of
-its ligand is bound (n·c_M/c_L > 0.1; common practice: >= 10-fold excess per bound ligand)
-or when the correction moves it by more than its E½ standard error.
+additions) the free ligand of every point is [L] = c_L − n·c_M, n the ligands bound per
+metal in the bulk form: ``bound_ligand_number`` when given, else the fitted p − q (the
+reduced form taken as binding none, so a bulk oxidised form binds p = p − q ligands and a
+bulk reduced form, oxidation first, none), iterated with the fit to self-consistency. A
+point is flagged when more than a tenth of its ligand is bound (n·c_M/c_L > 0.1; common
+practice: >= 10-fold excess per bound ligand) or when the correction moves it by more
+than its E½ standard error.
 
 References
 ----------
