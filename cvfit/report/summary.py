@@ -122,10 +122,11 @@ def _solution_column(result: SeriesResult):
     with_volume = any(f.volume_mL is not None for f in result.files)
 
     def solution(f) -> str:  # noqa: ANN001 (a FileResult)
-        cells = [f"{f.ligand_M:.6g}", shown(f.metal_M, ".4g")]
-        return "  ".join([*cells, shown(f.volume_mL, ".4g")] if with_volume else cells)
+        cells = f"{f.ligand_M:>10.6g} {shown(f.metal_M, '.4g'):>10}"
+        return f"{cells} {shown(f.volume_mL, '.4g'):>6}" if with_volume else cells
 
-    return ("[L]/M  [M]/M  V/mL" if with_volume else "[L]/M  [M]/M"), solution
+    head = f"{'[L]/M':>10} {'[M]/M':>10}"
+    return (f"{head} {'V/mL':>6}" if with_volume else head), solution
 
 
 def _standard_lines(result: SeriesResult) -> list[str]:
