@@ -450,6 +450,7 @@ def handle(args: argparse.Namespace) -> int:
     from cvfit.simulate.voltammogram import simulate_cv
 
     out = _out_path(args)
+    wants_additions(args)  # refuses addition options that clash with the others
     if args.technique != "cv":
         return handle_technique(
             args, E_half, settings, noise, seed, out, _number, _list, _check_series_size,

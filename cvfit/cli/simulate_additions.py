@@ -33,8 +33,36 @@ def add_addition_options(a: Callable[..., object]) -> None:
 
 
 def wants_additions(args: argparse.Namespace) -> bool:
-    """Whether ``--series`` asks for a titration by additions."""
-    return args.added_mL is not None
+    """Whether ``--series`` asks for a titration by additions.
+
+    Raises
+    ------
+    InputError
+        ``--added-mL`` with options it does not go with (a single record, another kind of
+        series, another technique, an internal standard), or an addition option without it.
+    """
+    if args.added_mL is None:
+        for flag, given in (
+            ("--metal-M", args.metal_M),
+            ("--ligand-stock-M", args.ligand_stock_M),
+        ):
+            if given is not None:
+                raise InputError(f"{flag} describes a titration by additions: give --series "
+                                 "--added-mL LIST too", source=_CMD, key=flag)  # fmt: skip
+        return False
+    others = (
+        ("--series", not args.series), ("--ligand-M", args.ligand_M is not None),
+        ("--pH-values", args.pH_values is not None),
+        ("--temperatures-C", args.temperatures_C is not None),
+        ("--technique", args.technique != "cv"),
+        ("--standard-e-half", args.standard_e_half is not None),
+    )  # fmt: skip
+    for flag, clash in others:
+        if clash:
+            what = "needs --series" if flag == "--series" else f"does not go with {flag}"
+            raise InputError(f"--added-mL {what} (a cyclic-voltammetry titration by additions)",
+                             source=_CMD, key="--added-mL")  # fmt: skip
+    return True
 
 
 def handle_additions(
