@@ -81,6 +81,10 @@ _CATALOGUE = (
     # --- peak analysis -------------------------------------------------------------------
     FlagCode("NO_FORWARD_PEAK", _E, "No forward peak was found (or the forward sweep is too "
              "short to fit a baseline); E½, ΔEp and the screen are not determinable."),
+    FlagCode("CURRENT_SIGN_REVERSED", _W, "The file has no forward peak but its current "
+             "with the sign reversed has a clean peak pair: it is probably in the polarographic "
+             "convention (cathodic current positive); set anodic_current = \"negative\" in "
+             "[import] (or in the file's [[voltammogram]] table)."),
     FlagCode("NO_REVERSE_PEAK", _E, "No reverse peak was found (none above the noise, no "
              "reverse sweep, or no forward baseline to measure it against); ΔEp and ipa/ipc "
              "are not determinable."),

@@ -156,10 +156,15 @@ def test_screen_sentence_says_what_happened():
         "1 of 3 files could not be screened for reversibility and was left out of the fit: b."
     )
     kept = _files(("a", 0.0, False, False), ("b", 0.1, False, True), ("c", 0.2, True, True))
+    assert "still gave" not in screen_sentence(kept)  # a measured no E½: it gave nothing
+    kept["voltammograms"][0]["E_half_V"] = 0.0
+    kept["reference"] = {"E_half_V": 0.0, "files": ["a"]}
     text = screen_sentence(kept)
     assert text.startswith("2 of 3 files failed the reversibility screen: ")
     assert "b was kept in the fit (exclude_non_nernstian = false)" in text
     assert "a still gave E½(s)" in text
+    kept["reference"] = {"E_half_V": 0.0, "files": ["z"]}  # E½(s) came from another file
+    assert "still gave" not in screen_sentence(kept)
     assert screen_short(kept) == "2 of 3 failed, 1 kept"
     curve = _files(("a", 0.0, True, False), ("b", 0.1, False, True), ("c", 0.2, False, False))
     curve["voltammograms"][1]["E_half_source"] = "curve"

@@ -83,6 +83,21 @@ def test_cli_bad_values_raise_input_error(tmp_path, argv, key):
     assert not (tmp_path / "x.csv").exists()
 
 
+@pytest.mark.parametrize(
+    "argv",
+    [["--ligand-M", "0,0.1"], ["--log-beta-ox", "4"], ["--pH-values", "3,4"],
+     ["--temperatures-C", "20,30"], ["--drift-step", "0.001"], ["--title", "t"],
+     ["--technique", "dpv", "--log-beta-red", "2"]],
+)  # fmt: skip
+def test_series_options_without_series_are_refused_not_ignored(tmp_path, argv):
+    """Issue 27 item 7: `--log-beta-ox` on a single file was silently ignored."""
+    with pytest.raises(InputError) as err:
+        run(["--e-half", "0", "--out", str(tmp_path / "x.csv"), *argv])
+    flag = next(a for a in argv if a.startswith("--") and a != "--technique")
+    assert err.value.key == flag and "--series" in str(err.value)
+    assert not (tmp_path / "x.csv").exists()
+
+
 def test_cli_missing_required_and_simulator_refusal(tmp_path, capsys):
     from cvfit.cli import main
 

@@ -89,6 +89,18 @@ def test_cvfit_plan_of_a_pH_series_writes_a_plan_and_refuses_bad_keys(tmp_path, 
                     encoding="utf-8")  # fmt: skip
     assert main(["plan", str(plan), "--out", str(tmp_path / "o2")]) == 2
     assert "design.pH_max" in capsys.readouterr().err
+    # a misspelt key was ignored before (the plan then used nothing the user meant)
+    text = plan.read_text(encoding="utf-8").replace('pH_max = "x"', "pH_max = 12")
+    typos = {
+        "design.proposed_ph": text + "proposed_ph = [2, 3]\n",
+        "series.technique": text.replace("[series]", '[series]\ntechnique = "dpv"'),
+    }
+    for key, typo in typos.items():
+        plan.write_text(typo, encoding="utf-8")
+        assert main(["plan", str(plan), "--out", str(tmp_path / "o3")]) == 2
+        err = capsys.readouterr().err
+        section, name = key.split(".")
+        assert err.count("\n") == 1 and f"unknown key '{name}' in [{section}]" in err, err
 
 
 def test_cvfit_simulate_writes_a_pH_series_at_the_relation(tmp_path, capsys):

@@ -1,4 +1,4 @@
-"""Command line: ``cvfit run | demo | simulate | plan``.
+"""Command line: ``cvfit run | demo | simulate | plan | guide``.
 
 This package is the only place in cvfit that prints or exits. Each sub-command lives in
 its own module with ``register(subparsers)`` and a handler returning the exit status.
@@ -12,7 +12,7 @@ import os
 import signal
 import sys
 import traceback
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 
 from cvfit.cli.streams import guarded_streams, interrupt_in_this_process
 from cvfit.errors import CvfitError, InputError, OutputError, printable
@@ -40,6 +40,16 @@ EXIT_INTERRUPTED = 130
 class _Parser(argparse.ArgumentParser):
     """argparse that reports usage errors in cvfit's one-line form with status 2."""
 
+    #: Set on a sub-command's parser: more text after its epilog, made only when the help
+    #: is shown (the manifest's key list imports the io layer and its libraries).
+    epilog_more: Callable[[], str] | None = None
+
+    def format_help(self) -> str:
+        if self.epilog_more is not None:
+            self.epilog = (self.epilog or "") + "\n" + self.epilog_more()
+            self.epilog_more = None
+        return super().format_help()
+
     def error(self, message: str) -> None:  # type: ignore[override]
         sys.stderr.write(f"cvfit: error: <command line>: {message}; see 'cvfit --help'\n")
         raise SystemExit(EXIT_INPUT)
@@ -55,9 +65,9 @@ def build_parser() -> argparse.ArgumentParser:
         "--debug", action="store_true", help="show the traceback of an internal error"
     )
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
-    from cvfit.cli import demo, plan, run, simulate
+    from cvfit.cli import demo, guide, plan, run, simulate
 
-    for module in (run, demo, simulate, plan):
+    for module in (run, demo, simulate, plan, guide):
         module.register(sub)
     return parser
 
@@ -82,7 +92,7 @@ def ignore_file_size_signal() -> None:
 #: Printed for ``cvfit`` without a command: the short usage and where the help is.
 NO_COMMAND = (
     "cvfit: error: <command line>: no command given; usage: cvfit [--version] [--debug] "
-    "{run,demo,simulate,plan} ...; see 'cvfit --help', or 'cvfit COMMAND --help'\n"
+    "{run,demo,simulate,plan,guide} ...; see 'cvfit --help', or 'cvfit COMMAND --help'\n"
 )
 
 

@@ -42,7 +42,10 @@ def register(sub: argparse._SubParsersAction) -> None:
         epilog=PLAN_EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    p.add_argument("plan", help="the plan file (TOML; keys in docs/plan.md)")
+    from cvfit.cli.guide import plan_key_summary
+
+    p.epilog_more = plan_key_summary
+    p.add_argument("plan", help="the plan file (TOML; its keys are listed below)")
     p.add_argument("--out", metavar="DIR", help="output folder (default: PLAN-STEM_plan)")
     p.add_argument(
         "--simulate",

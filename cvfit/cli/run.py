@@ -17,9 +17,9 @@ from cvfit.cli.file_jobs import PARALLEL_MIN_FILES, available_cores, default_fil
 #: Shown under ``cvfit run --help``: where every manifest key is described, and what the
 #: exit status means (the values of :data:`cvfit.cli.EXIT_OK` and its neighbours).
 RUN_EPILOG = """\
-manifest: every key (series, import settings, fit, screen margins) with its unit and
-  default is described in docs/manifest.md of the cvfit source
-  (a [series] table and one [[voltammogram]] table per CSV file).
+manifest: a TOML file with a [series] table and one [[voltammogram]] table per CSV file
+  (or [[point]] tables of E½ measured elsewhere); 'cvfit guide manifest' prints the
+  manifest guide installed with cvfit: every key with its unit, default and meaning.
 
 exit status:
   0  success, also when no constants could be fitted (they are then null in
@@ -34,10 +34,15 @@ def register(sub: argparse._SubParsersAction) -> None:
     p = sub.add_parser(
         "run",
         help="analyse a titration series described by a TOML manifest",
-        description="Analyse a titration series: peaks, reversibility screen, Lingane fit.",
+        description="Analyse a titration series: E½ of every file (cyclic, pulse or "
+        "steady-state voltammetry), the reversibility screen, and the titration model's "
+        "constants with confidence intervals.",
         epilog=RUN_EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
+    from cvfit.cli.guide import manifest_key_summary
+
+    p.epilog_more = manifest_key_summary
     p.add_argument(
         "manifest",
         nargs="+",

@@ -216,7 +216,21 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="required: output CSV file (series: output folder)",
     )
     a("--force", action="store_true", help="replace existing output files")
-    p.set_defaults(handler=handle)
+    # options whose help starts with "series" describe a series: refused without --series
+    only = {x.dest: x.default for x in p._actions if (x.help or "").startswith("series")}
+    p.set_defaults(handler=handle, series_only=only)
+
+
+def _check_series_only(args: argparse.Namespace) -> None:
+    """A series option without --series would be silently ignored: refuse it."""
+    given = [d for d, default in args.series_only.items() if getattr(args, d) != default]
+    if given and not args.series:
+        flag = "--" + given[0].replace("_", "-")
+        raise InputError(
+            f"{flag} describes a titration series: add --series, or leave {flag} out",
+            source=_CMD,
+            key=flag,
+        )
 
 
 def _number(text: object, flag: str, *, minimum: float | None = None, strict: bool = False):
@@ -439,6 +453,7 @@ def handle(args: argparse.Namespace) -> int:
     """Run ``cvfit simulate``; returns the exit status."""
     if args.e_half is None:
         raise InputError("--e-half is required (V)", source=_CMD, key="--e-half")
+    _check_series_only(args)
     E_half = _number(args.e_half, "--e-half")
     settings = _settings(args)
     noise = _number(args.noise, "--noise", minimum=0.0)

@@ -119,6 +119,10 @@ def _study(
     return out, study.studies, study.flags
 
 
+def _sign_reversed(file: FileResult) -> bool:
+    return any(f.code == "CURRENT_SIGN_REVERSED" for f in file.flags)
+
+
 def _no_reference(reference: ReferenceHalfWave, files: Sequence[FileResult]) -> Flag:
     """Why E½(s) is missing, and what to do about it."""
     free = {f.file: f for f in files if f.file in reference.files}
@@ -129,6 +133,13 @@ def _no_reference(reference: ReferenceHalfWave, files: Sequence[FileResult]) -> 
             f"no ligand-free E½ was accepted ({why}); record the ligand-free solution again, "
             "give E_half_free_V in [series], or set exclude_non_nernstian = false in [fit] "
             "to use it all the same"
+        )
+    elif reversed_sign := [n for n, f in free.items() if _sign_reversed(f)]:
+        text = (
+            f"E½ of the ligand-free couple could not be measured: {', '.join(reversed_sign)} "
+            "has no forward peak but a clean one with the current's sign reversed; set "
+            'anodic_current = "negative" in [import] if the files give cathodic current '
+            "positive"
         )
     else:
         text = (

@@ -259,6 +259,29 @@ def _get(src: str, table: Mapping[str, Any], section: str, key: str, *, default=
     return value
 
 
+#: The keys a pH or temperature plan reads (a typo must not be ignored silently).
+_KEYS = {
+    "series": {"electrons", "temperature_C", "title"},
+    "expect": {"pKa_ox", "pKa_red"},
+    "design": {"points", "E_half_stderr_V", "pH_min", "pH_max", "proposed_pH",
+               "temperature_min_C", "temperature_max_C", "proposed_C"},
+}  # fmt: skip
+
+
+def _check_keys(src: str, data: Mapping[str, Any]) -> None:
+    for section, table in data.items():
+        if section not in _KEYS or not isinstance(table, Mapping):
+            raise InputError(f"[{section}] is not a table of a pH or temperature plan; use "
+                             "[series], [expect], [design]", source=src, key=section)  # fmt: skip
+        unknown = sorted(set(table) - _KEYS[section])
+        if unknown:
+            raise InputError(
+                f"unknown key {unknown[0]!r} in [{section}] of a pH or temperature plan; "
+                f"allowed: {', '.join(sorted(_KEYS[section]))}",
+                source=src, key=f"{section}.{unknown[0]}",
+            )  # fmt: skip
+
+
 def variable_plan_from_mapping(src: str, data: Mapping[str, Any]) -> VariablePlan:
     """A pH or temperature plan from a plan file's mapping (keys in docs/plan.md).
 
@@ -267,6 +290,7 @@ def variable_plan_from_mapping(src: str, data: Mapping[str, Any]) -> VariablePla
     InputError
         A missing or malformed key (named), or values out of range.
     """
+    _check_keys(src, data)
     series, expect, design = (data.get(k) or {} for k in ("series", "expect", "design"))
     n = int(_get(src, series, "series", "electrons", default=1))
     T = celsius_to_kelvin(float(_get(src, series, "series", "temperature_C", default=25.0)))

@@ -68,7 +68,7 @@ def screen_sentence(data: Mapping[str, Any]) -> str:
     tazine_07.csv."`` — or ``"All 8 files passed the reversibility screen."``
     """
     files, by_hand = _by_hand(data)
-    return _screen_of(files) + _by_hand_text(by_hand)
+    return _screen_of(files, data.get("reference")) + _by_hand_text(by_hand)
 
 
 def _by_hand(data: Mapping[str, Any]) -> tuple[list[Mapping[str, Any]], list[Mapping[str, Any]]]:
@@ -87,7 +87,9 @@ def _by_hand_text(files: Sequence[Mapping[str, Any]]) -> str:
     return f" Left out by hand ({len(files)}): {reasons}."
 
 
-def _screen_of(files: Sequence[Mapping[str, Any]]) -> str:
+def _screen_of(
+    files: Sequence[Mapping[str, Any]], data_reference: Mapping[str, Any] | None = None
+) -> str:
     n = len(files)
     failed = [f for f in files if f.get("reversible") is False]
     unknown = [f for f in files if f.get("reversible") is None]
@@ -106,7 +108,8 @@ def _screen_of(files: Sequence[Mapping[str, Any]]) -> str:
     approximate = [f for f in used if f.get("E_half_source") == "midpoint"]
     kept = [f for f in used if f not in recovered and f not in approximate]
     left = [f for f in bad if f not in reference and f not in used]
-    if left and not used and not reference and not (failed and unknown):
+    reversed_sign = [f for f in bad if _sign_reversed(f)]
+    if left and not used and not reference and not (failed and unknown) and not reversed_sign:
         return f"{what} and {_was(left)} left out of the fit: {_names(left)}."
     if (
         recovered
@@ -136,9 +139,31 @@ def _screen_of(files: Sequence[Mapping[str, Any]]) -> str:
         pieces.append(
             f"{_names(kept)} {_was(kept)} kept in the fit (exclude_non_nernstian = false)"
         )
-    if reference:
-        pieces.append(f"{_names(reference)} still gave E½(s), the ligand-free reference")
+    gave = [f for f in reference if _gave_reference(f, data_reference)]
+    if gave:
+        pieces.append(f"{_names(gave)} still gave E½(s), the ligand-free reference")
+    if reversed_sign:
+        pieces.append(
+            f"{_names(reversed_sign)} {'has' if len(reversed_sign) == 1 else 'have'} no "
+            "forward peak but a clean one with the current's sign reversed: set "
+            'anodic_current = "negative" in [import] if the files give cathodic current '
+            "positive"
+        )
     return f"{what}: " + "; ".join(pieces) + "."
+
+
+def _gave_reference(file: Mapping[str, Any], reference: Mapping[str, Any] | None) -> bool:
+    """Whether a ligand-free file that failed the screen still gave E½(s)."""
+    if file.get("E_half_V") is None:
+        return False
+    return reference is None or (
+        reference.get("E_half_V") is not None
+        and file.get("file") in (reference.get("files") or ())
+    )
+
+
+def _sign_reversed(file: Mapping[str, Any]) -> bool:
+    return any(f.get("code") == "CURRENT_SIGN_REVERSED" for f in file.get("flags") or ())
 
 
 def screen_short(data: Mapping[str, Any]) -> str:

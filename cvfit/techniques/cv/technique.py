@@ -95,14 +95,16 @@ def _sign_convention_hint(
     )
     if not clean:
         return flags
-    k = missing[0]
-    old = flags[k]
-    flags[k] = Flag(
-        old.code,
-        f"{old.message}; with the current's sign reversed the record has a clean peak pair "
-        f"(E½ {mirrored.E_half_V:.4f} V): the current may be in the polarographic "
-        "convention (cathodic positive); set anodic_current in [import]",
-        old.severity,
+    flags.insert(
+        missing[0] + 1,
+        Flag(
+            "CURRENT_SIGN_REVERSED",
+            "no forward peak, but with the current's sign reversed the record has a clean "
+            f"peak pair (E½ {mirrored.E_half_V:.4f} V): the current is probably in the "
+            "polarographic convention (cathodic positive); set anodic_current = "
+            '"negative" in [import]',
+            "warning",
+        ),
     )
     return flags
 
