@@ -289,6 +289,8 @@ def _manifest_with(table: str, key: str) -> tuple[str, int]:
         text += "[internal_standard]\nwindow_V = [0.6, 0.9]\n"
     if table == "point":
         text += "[[point]]\nE_half_V = 0.1\nligand_M = 0.0\n"
+    if table == "titration":
+        text += "[titration]\nstart_volume_mL = 10.0\nmetal_M = 0.001\nligand_stock_M = 0.1\n"
     header = f"[[{table}]]\n" if table in ("voltammogram", "point") else f"[{table}]\n"
     if header not in text:
         text += header

@@ -20,6 +20,7 @@ import os
 import sys
 from pathlib import Path
 
+from cvfit.cli.simulate_additions import add_addition_options, handle_additions, wants_additions
 from cvfit.cli.simulate_technique import (
     TECHNIQUE_BOUNDS,
     TECHNIQUE_EPILOG,
@@ -201,6 +202,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         "from one solution to the next, V (default 0)",
     )
     add_variable_options(a)
+    add_addition_options(a)
     add_technique_options(a)
     a(
         "--title",
@@ -463,6 +465,7 @@ def handle(args: argparse.Namespace) -> int:
     from cvfit.simulate.voltammogram import simulate_cv
 
     out = _out_path(args)
+    wants_additions(args)  # refuses addition options that clash with the others
     if args.technique != "cv":
         return handle_technique(
             args, E_half, settings, noise, seed, out, _number, _list, _check_series_size,
@@ -511,6 +514,15 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
 
         return handle_variable_series(
             args, E_half, settings, noise, seed, out, _number, _list, size
+        )
+    if wants_additions(args):  # a titration by additions, the metal diluted
+
+        def sized(ligands: list[float], start: float, switch: list[float]) -> None:
+            cycles, step = settings["cycles"], settings["step_V"]
+            _check_series_size(ligands, _check_samples(start, switch, cycles, step))
+
+        return handle_additions(
+            args, E_half, settings, noise, seed, out, _number, _list, _window, sized
         )
     if args.ligand_M is None:
         raise InputError("--series needs --ligand-M LIST", source=_CMD, key="--ligand-M")

@@ -21,6 +21,7 @@ from cvfit.io import files_table as _files_table
 from cvfit.io import manifest_keys as _keys
 from cvfit.io import manifest_standard as _standard
 from cvfit.io import manifest_technique as _technique
+from cvfit.io import manifest_titration as _titration
 from cvfit.io import manifest_variables as _variables
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
 from cvfit.io.manifest_spec import Table, bind, clean_record, clean_value, clean_values
@@ -230,6 +231,15 @@ class VoltammogramEntry:
         series); None: the series value.
     rotation_rate_rpm : float or None
         Rotation rate of a disc electrode, revolutions per minute (waves).
+    added_mL : float or None
+        Titration by additions: cumulative volume of stock added before this record, mL
+        (``ligand_M``, ``metal_M`` and ``volume_mL`` are then computed from it,
+        :mod:`cvfit.io.manifest_titration`).
+    metal_M : float or None
+        This solution's total metal concentration, mol/L: given, or computed from the
+        additions; None: the series value ``metal_total_M``.
+    volume_mL : float or None
+        Volume in the cell, mL (computed from ``added_mL``; not a manifest key).
     """
 
     file: Path
@@ -243,6 +253,9 @@ class VoltammogramEntry:
     resistance_ohm: float | None = None
     temperature_C: float | None = None
     rotation_rate_rpm: float | None = None
+    added_mL: float | None = None
+    metal_M: float | None = None
+    volume_mL: float | None = None
 
     def __post_init__(self) -> None:
         clean_record(self, _keys.VOLTAMMOGRAM)
@@ -260,7 +273,8 @@ class Manifest:
 
     ``points`` are the ``[[point]]`` tables (E½ given, no file); ``reference_at`` is
     ``[series] reference_at`` (kept beside the series settings: it concerns the
-    temperature model only).
+    temperature model only); ``titration`` the ``[titration]`` table of a titration by
+    additions (the entries already carry the concentrations it gives).
     """
 
     path: Path
@@ -274,6 +288,7 @@ class Manifest:
     points: tuple[_variables.PointEntry, ...] = ()
     reference_at: str | None = None
     technique: _technique.TechniqueSettings = _technique.TechniqueSettings()
+    titration: _titration.TitrationSettings | None = None
 
     def __post_init__(self) -> None:
         entries = tuple(self.voltammograms)
@@ -472,6 +487,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         raise ld.fail(
             "the manifest needs a [series] table with at least electrons = n", "series", None
         )
+    titration = _titration.load_titration(ld, data)
     series = dict(ld.section(data, _keys.SERIES))
     where = {"reference_at": series.pop("reference_at", None)}
     files_table = series.pop("files_table", None)
@@ -518,8 +534,8 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     seen: dict[tuple[Path, object], int] = {}
     for index, raw in enumerate(entries_raw, start=1):
         ld.keys_of(raw, _keys.VOLTAMMOGRAM, index)
-        if _variables.VARIABLE_OF_MODEL[fit_settings.model] == "ligand_M":
-            ld.require(raw, "ligand_M", "voltammogram", index)
+        needs_ligand = _variables.VARIABLE_OF_MODEL[fit_settings.model] == "ligand_M"
+        _titration.check_entry(ld, raw, index, titration, needs_ligand=needs_ligand)
         per_file = {k: raw[k] for k in IMPORT_KEYS if k in raw}
         options = ld.build(ImportOptions, {**imp, **per_file}, "voltammogram", index)
         name = raw["file"]
@@ -570,7 +586,8 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
             )
         seen[key] = index
         entries.append(entry)
-    entries = _name_cycles(entries)
+    entries = _titration.apply_additions(_name_cycles(entries), titration)
+    _titration.check_metal_given(ld, entries, series_settings.metal_total_M)
     _variables.check_variable_series(ld, tuple(entries), points, fit_settings.model)
     return Manifest(
         path=p.resolve(),
@@ -584,6 +601,7 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
         points=points,
         reference_at=reference_at,
         technique=technique,
+        titration=titration,
     )
 
 
@@ -673,8 +691,9 @@ DEFINITION: tuple[Table, ...] = (
     bind(ReversibilityCriteria, _keys.REVERSIBILITY),
     bind(_standard.InternalStandard, _keys.INTERNAL_STANDARD),
     bind(_technique.TechniqueSettings, _keys.TECHNIQUE, extra=("name",)),
+    bind(_titration.TitrationSettings, _keys.TITRATION),
     replace(
-        bind(VoltammogramEntry, _keys.VOLTAMMOGRAM, extra=("file", "import_options")),
+        bind(VoltammogramEntry, _keys.VOLTAMMOGRAM, extra=("file", "import_options", "volume_mL")),
         includes=(_IMPORT,),
     ),
     bind(_variables.PointEntry, _keys.POINT, extra=("name",)),

@@ -19,6 +19,7 @@ __all__ = [
     "REVERSIBILITY",
     "INTERNAL_STANDARD",
     "TECHNIQUE",
+    "TITRATION",
     "VOLTAMMOGRAM",
     "POINT",
     "TABLES",
@@ -244,6 +245,21 @@ INTERNAL_STANDARD = Table("internal_standard", "An inert reversible reference co
     Key("electrons", "integer", "n of the reference couple", low=1),
 ))  # fmt: skip
 
+TITRATION = Table("titration", "A titration by additions: the cell's starting solution and "
+    "the stock added to it; each [[voltammogram]] then gives added_mL and cvfit computes its "
+    "total ligand and metal with the dilution (volumes additive).", keys=(
+    Key("start_volume_mL", "number", "volume in the cell before any addition", unit="mL",
+        low=0, open_low=True, required=True),
+    Key("metal_M", "number", "the cell's initial total metal concentration", unit="mol/L",
+        low=0, open_low=True, required=True),
+    Key("ligand_M", "number", "the cell's initial total ligand concentration", unit="mol/L",
+        low=0),
+    Key("ligand_stock_M", "number", "ligand concentration of the stock added", unit="mol/L",
+        low=0, open_low=True, required=True),
+    Key("metal_stock_M", "number", "metal concentration of the stock added (equal to "
+        "metal_M keeps the metal constant)", unit="mol/L", low=0),
+))  # fmt: skip
+
 VOLTAMMOGRAM = Table("voltammogram", "One exported voltammogram: its file, the total "
     "ligand concentration and optional per-file settings.", array=True,
     includes=(IMPORT,), keys=(
@@ -252,6 +268,11 @@ VOLTAMMOGRAM = Table("voltammogram", "One exported voltammogram: its file, the t
     Key("ligand_M", "number", "total ligand concentration (required for lingane and "
         "stepwise; for proton and temperature the same in every solution)", unit="mol/L",
         low=0),
+    Key("added_mL", "number", "titration by additions: cumulative volume of stock added "
+        "before this record (needs [titration]; instead of ligand_M)", unit="mL", low=0),
+    Key("metal_M", "number", "this solution's total metal concentration, given directly "
+        "(it overrides the one [titration] computes and [series] metal_total_M)",
+        unit="mol/L", low=0, open_low=True),
     Key("scan_rate_V_s", "number", "scan rate; else derived from a time column, else a "
         "scan rate the file's metadata states (a stated rate more than 5 % from the one "
         "used is flagged SCAN_RATE_METADATA_DISAGREES)", unit="V/s", low=0, open_low=True),
@@ -313,5 +334,6 @@ POINT = Table("point", "An E½ measured elsewhere (another technique, another pr
 
 #: The tables, in the order of the docs and the schema.
 TABLES: tuple[Table, ...] = (
-    SERIES, IMPORT, FIT, REVERSIBILITY, INTERNAL_STANDARD, TECHNIQUE, VOLTAMMOGRAM, POINT,
+    SERIES, IMPORT, FIT, REVERSIBILITY, INTERNAL_STANDARD, TECHNIQUE, TITRATION, VOLTAMMOGRAM,
+    POINT,
 )  # fmt: skip

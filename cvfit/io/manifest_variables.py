@@ -132,11 +132,34 @@ def schema_conditions() -> list[dict[str, Any]]:
         return {"properties": {t: {"items": {"required": [key]}} for t in tables}}
 
     others = [m for m, v in VARIABLE_OF_MODEL.items() if v != "ligand_M"]
-    out: list[dict[str, Any]] = [
-        {"if": model_is(others), "else": items_need("ligand_M", ("voltammogram", "point"))}
-    ]
+    ligand = items_need("ligand_M", ("point",))
+    # a file gives its ligand directly or as a volume of stock added ([titration])
+    either = [{"required": ["ligand_M"]}, {"required": ["added_mL"]}]
+    ligand["properties"]["voltammogram"] = {"items": {"anyOf": either}}
+    out: list[dict[str, Any]] = [{"if": model_is(others), "else": ligand}]
     out += [{"if": model_is([m]), "then": items_need(VARIABLE_OF_MODEL[m], ("point",))}
             for m in others]  # fmt: skip
     no_global = {"properties": {"fit": {"properties": {"global": {"const": False}}}}}
     out.append({"if": {"required": ["point"]}, "then": no_global})
+    out += _titration_conditions()
     return out
+
+
+def _titration_conditions() -> list[dict[str, Any]]:
+    """A file gives ligand_M or added_mL, not both; added_mL needs [titration]; the series'
+    metal_total_M and bound_ligand_number do not go with it (cvfit.io.manifest_titration)."""
+    both = {"items": {"not": {"required": ["ligand_M", "added_mL"]}}}
+    added = {"contains": {"required": ["added_mL"]}}
+    series_metal = {"anyOf": [{"required": ["metal_total_M"]},
+                              {"required": ["bound_ligand_number"]}]}  # fmt: skip
+    return [
+        {"properties": {"voltammogram": both}},
+        {
+            "if": {"required": ["voltammogram"], "properties": {"voltammogram": added}},
+            "then": {"required": ["titration"]},
+        },
+        {
+            "if": {"required": ["titration"]},
+            "then": {"properties": {"series": {"not": series_metal}}},
+        },
+    ]

@@ -16,6 +16,7 @@ from functools import partial
 
 from cvfit.errors import InputError
 from cvfit.io import Manifest, VoltammogramEntry, read_voltammogram, resistance_for
+from cvfit.io.manifest_titration import for_file
 from cvfit.io.notes import imported_file
 from cvfit.techniques import technique_of
 from cvfit.techniques.base import FileSettings, Measurement
@@ -70,7 +71,8 @@ def analyse_file(
     """
     v = record if record is not None else read_entry(entry)
     technique = technique_of(manifest)
-    measurement = technique.analyse(v, FileSettings(entry, manifest))
+    # the solution's own metal is its analyte concentration (a titration by additions)
+    measurement = technique.analyse(v, FileSettings(entry, for_file(entry, manifest)))
     decision = decide_half_wave(
         measurement,
         internal_standard=manifest.internal_standard,
@@ -93,6 +95,9 @@ def analyse_file(
         temperature_K=entry.temperature_K,
         imported=imported_file(v.metadata),
         excluded_by_user=entry.exclude,
+        metal_M=entry.metal_M,
+        volume_mL=entry.volume_mL,
+        added_mL=entry.added_mL,
     )
 
 

@@ -98,6 +98,11 @@ class FileResult:
         (:func:`cvfit.io.notes.imported_file`); None for a record not read from a file.
     excluded_by_user : str or None
         The manifest's ``exclude`` of the file: why the user left it out of the fits.
+    metal_M : float or None
+        The solution's own total metal concentration, mol/L (given for the file, or
+        computed from a titration by additions); None: the series value.
+    volume_mL, added_mL : float or None
+        Titration by additions: volume in the cell and cumulative stock added, mL.
     """
 
     file: str
@@ -115,6 +120,9 @@ class FileResult:
     temperature_K: float | None = None
     imported: ImportedFile | None = field(default=None, compare=False)
     excluded_by_user: str | None = None
+    metal_M: float | None = None
+    volume_mL: float | None = None
+    added_mL: float | None = None
 
     @property
     def flags(self) -> tuple[Flag, ...]:
@@ -188,8 +196,15 @@ class FileResult:
 
     def _solution_keys(self) -> dict[str, float]:
         """pH and temperature_K of the file's record, written only when the manifest gives
-        them for the file (a pH or temperature series)."""
-        keys = {"pH": self.pH, "temperature_K": self.temperature_K}
+        them for the file (a pH or temperature series); likewise the total metal, the
+        volume and the stock added of a titration by additions."""
+        keys = {
+            "pH": self.pH,
+            "temperature_K": self.temperature_K,
+            "metal_M": self.metal_M,
+            "volume_mL": self.volume_mL,
+            "added_mL": self.added_mL,
+        }
         return {k: float(v) for k, v in keys.items() if v is not None}
 
 

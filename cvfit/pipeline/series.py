@@ -163,6 +163,7 @@ def _point(f: FileResult, x: float) -> TitrationPoint:
         diffusion_current_A=m.diffusion_current_A,
         scan_rate_V_s=f.scan_rate_V_s,
         pH=f.pH,
+        metal_M=f.metal_M,
     )
 
 

@@ -12,6 +12,7 @@ from cvfit.report.atomic import atomic_write_with
 __all__ = [
     "GENERIC_HEAD",
     "GENERIC_TAIL",
+    "SOLUTION_COLUMNS",
     "FORMULA_STARTS",
     "table_columns",
     "text_cell",
@@ -29,6 +30,9 @@ GENERIC_HEAD = (
     "E_half_stderr_V",
     "E_half_source",
 )
+#: Each solution's own metal, volume and stock added: columns only when a file gives its
+#: metal or the series is a titration by additions.
+SOLUTION_COLUMNS = ("metal_M", "volume_mL", "added_mL")
 #: The internal standard's columns (empty cells without a standard), then the verdicts.
 GENERIC_TAIL = (
     "standard_E_half_V",
@@ -47,7 +51,11 @@ def table_columns(result: SeriesResult) -> tuple[str, ...]:
     own: dict[str, None] = {}
     for f in result.files:
         own.update(dict.fromkeys(f.measurement.table_cells()))
-    return (*GENERIC_HEAD, *own, *GENERIC_TAIL)
+    head: tuple[str, ...] = GENERIC_HEAD
+    if any(f.metal_M is not None for f in result.files):
+        at = head.index("free_ligand_M") + 1
+        head = (*head[:at], *SOLUTION_COLUMNS, *head[at:])
+    return (*head, *own, *GENERIC_TAIL)
 
 
 def _row(f: FileResult) -> dict[str, object]:
@@ -58,6 +66,9 @@ def _row(f: FileResult) -> dict[str, object]:
         "label": f.label,
         "ligand_M": f.ligand_M,
         "free_ligand_M": f.free_ligand_M,
+        "metal_M": f.metal_M,
+        "volume_mL": f.volume_mL,
+        "added_mL": f.added_mL,
         "scan_rate_V_s": f.scan_rate_V_s,
         "E_half_V": f.E_half_V,
         "E_half_stderr_V": f.E_half_total_stderr_V,

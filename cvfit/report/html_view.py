@@ -275,6 +275,9 @@ EXTRA_HEADERS = {
     "E_half_midpoint_V": "E½ (midpoint) / mV",
     "switching_correction_V": "switching correction / mV",
     "resistance_ohm": "uncompensated resistance / Ω",
+    "metal_M": "total metal / mol L⁻¹",
+    "volume_mL": "volume / mL",
+    "added_mL": "stock added / mL",
 }
 #: Unit suffixes of results.json keys → (header unit, scale of the cell).
 _UNITS = {"_V": ("mV", 1e3), "_ohm": ("Ω", 1.0), "_A": ("µA", 1e6), "_M": ("mol L⁻¹", 1.0),

@@ -116,7 +116,17 @@ def _solution_column(result: SeriesResult):
     if variable == "temperature_K":
         return "T/°C", lambda f: shown(f.temperature_K, ".1f", ZERO_CELSIUS_K)
     # as many digits as the manifest gave (up to 6): 0.0125 and 0.01255 stay apart
-    return "[L]/M", lambda f: f"{f.ligand_M:.6g}"
+    if all(f.metal_M is None for f in result.files):
+        return "[L]/M", lambda f: f"{f.ligand_M:.6g}"
+    # each solution's own metal (and volume, with additions): the dilution shown
+    with_volume = any(f.volume_mL is not None for f in result.files)
+
+    def solution(f) -> str:  # noqa: ANN001 (a FileResult)
+        cells = f"{f.ligand_M:>10.6g} {shown(f.metal_M, '.4g'):>10}"
+        return f"{cells} {shown(f.volume_mL, '.4g'):>6}" if with_volume else cells
+
+    head = f"{'[L]/M':>10} {'[M]/M':>10}"
+    return (f"{head} {'V/mL':>6}" if with_volume else head), solution
 
 
 def _standard_lines(result: SeriesResult) -> list[str]:

@@ -91,6 +91,9 @@ class TitrationPoint:
         The scan rate the current was recorded at, V/s (None when unknown).
     pH : float or None
         The solution's pH, when given (ligand protonation).
+    metal_M : float or None
+        The solution's own total metal concentration, mol/L (a titration by additions
+        dilutes it); None: the series value ``metal_total_M`` (:meth:`metal_or`).
     """
 
     label: str
@@ -101,6 +104,7 @@ class TitrationPoint:
     diffusion_current_A: float | None = None
     scan_rate_V_s: float | None = None
     pH: float | None = None
+    metal_M: float | None = None
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "label", str(self.label))
@@ -118,6 +122,10 @@ class TitrationPoint:
     def ligand_M(self) -> float:
         """``x`` of a ligand titration: the free ligand concentration, mol/L."""
         return self.x
+
+    def metal_or(self, series_metal_M: float | None) -> float | None:
+        """Total metal of this solution: its own, else *series_metal_M*."""
+        return self.metal_M if self.metal_M is not None else series_metal_M
 
 
 @dataclass(frozen=True)

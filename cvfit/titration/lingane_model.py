@@ -1,13 +1,14 @@
 """The Lingane model behind the titration seam: free ligand corrected for bound ligand, then
 the line (:func:`cvfit.titration.lingane.fit_lingane`).
 
-With ``metal_total_M`` in the manifest the free ligand of every point is
-[L] = c_L − n·c_M, n the ligands bound per metal in the bulk form: ``bound_ligand_number``
-when given, else the fitted p − q (the reduced form taken as binding none, so a bulk
-oxidised form binds p = p − q ligands and a bulk reduced form, oxidation first, none),
-iterated with the fit to self-consistency. A point is flagged when more than a tenth of
-its ligand is bound (n·c_M/c_L > 0.1; common practice: >= 10-fold excess per bound ligand)
-or when the correction moves it by more than its E½ standard error.
+With ``metal_total_M`` in the manifest (or each solution's own metal, a titration by
+additions) the free ligand of every point is [L] = c_L − n·c_M, n the ligands bound per
+metal in the bulk form: ``bound_ligand_number`` when given, else the fitted p − q (the
+reduced form taken as binding none, so a bulk oxidised form binds p = p − q ligands and a
+bulk reduced form, oxidation first, none), iterated with the fit to self-consistency. A
+point is flagged when more than a tenth of its ligand is bound (n·c_M/c_L > 0.1; common
+practice: >= 10-fold excess per bound ligand) or when the correction moves it by more
+than its E½ standard error.
 
 References
 ----------
@@ -61,7 +62,7 @@ def _settle_free_ligand(
     p_fit = fit.delta_ligands.value
     corrected = list(points)
     for _ in range(_MAX_ROUNDS):
-        free = [p.x - bound(p, p_fit) * metal for p in points]
+        free = [p.x - bound(p, p_fit) * (p.metal_or(metal) or 0.0) for p in points]
         if any(x <= 0 for x in free):
             return fit, corrected, False
         corrected = [replace(p, x=x) for p, x in zip(points, free, strict=True)]
@@ -126,10 +127,11 @@ class LinganeModel:
         return x is not None and x > 0
 
     def fit(self, data: TitrationData, manifest: Manifest) -> ModelOutcome:
-        """The line; with ``metal_total_M``, on the free ligand (module docstring)."""
+        """The line; with the metal known, on the free ligand (module docstring)."""
         metal = manifest.series.metal_total_M
         fit = _line(data.points, data, manifest)
-        if metal is None or isinstance(fit, FitRefused):
+        known = any(p.metal_or(metal) is not None for p in data.points)
+        if not known or isinstance(fit, FitRefused):
             return ModelOutcome(fit)
         given = manifest.series.bound_ligand_number
 
@@ -152,7 +154,12 @@ class LinganeModel:
         scatter = math.sqrt(sum(r * r for r in res) / max(fit.dof, 1)) if res else None
         notes = {
             used.label: PointNote(
-                used.x, tuple(_depletion_flags(p, used, bound(p, p_fit), metal, slope, scatter))
+                used.x,
+                tuple(
+                    _depletion_flags(
+                        p, used, bound(p, p_fit), p.metal_or(metal) or 0.0, slope, scatter
+                    )
+                ),
             )
             for p, used in zip(data.points, corrected, strict=True)
         }

@@ -169,7 +169,7 @@ def fit_stepwise(
     )
     s = _solve(a, cond, model, state, max_complexes, alpha)
     flags = list(s.flags)
-    if cond.metal_total_M is not None:
+    if a.metal_total_M is not None:
         flags.extend(_ligand_flags(pts, a, cond, model, s))
     if not a.weighted:
         flags.append(sf.unweighted())
@@ -263,7 +263,7 @@ def _solve(
     (mass balance with the fitted constants) and the diffusion term (both forms complexed:
     the reduced form's D ratio from the shared complex-to-free ratio, see
     :func:`_diffusion_term`) stop changing."""
-    MT = cond.metal_total_M
+    MT = a.metal_total_M  # each solution's own (a titration by additions dilutes it)
     k = model.thermal_V
     y = a.E_half_V - k * a.ln_current_ratio
     L = a.alpha_L * a.ligand_total_M
@@ -291,8 +291,10 @@ def _solve(
         if self_consistent and MT is not None:  # (self_consistent says MT is given)
             new = np.array(
                 [
-                    free_ligand_M(lt, MT, red_b if r else ox_b, alpha_L=al)
-                    for lt, al, r in zip(a.ligand_total_M, a.alpha_L, a.bulk_red, strict=True)
+                    free_ligand_M(lt, mt, red_b if r else ox_b, alpha_L=al)
+                    for lt, mt, al, r in zip(
+                        a.ligand_total_M, MT, a.alpha_L, a.bulk_red, strict=True
+                    )
                 ]
             )
             change = float(np.max(np.abs(np.log(new / L))))

@@ -42,6 +42,9 @@ class StepwisePoint:
     bulk_form : {"ox", "red"}
         Form the metal is in the bulk solution (the one the first sweep consumes: "red"
         for an oxidation first); its constants enter the free-ligand mass balance.
+    metal_M : float or None
+        This solution's own total metal concentration, mol/L (a titration by additions);
+        None: ``SolutionConditions.metal_total_M``.
     """
 
     label: str
@@ -51,10 +54,13 @@ class StepwisePoint:
     ln_current_ratio: float | None = None
     pH: float | None = None
     bulk_form: str = "ox"
+    metal_M: float | None = None
 
     def __post_init__(self) -> None:
         if self.bulk_form not in ("ox", "red"):
             raise ValueError(f"{self.label}: bulk_form must be 'ox' or 'red'")
+        if self.metal_M is not None and not float(self.metal_M) > 0:
+            raise ValueError(f"{self.label}: metal_M must be > 0")
         for name in ("ligand_M", "E_half_V"):
             v = float(getattr(self, name))
             if not math.isfinite(v):
@@ -140,7 +146,8 @@ def sigmas(
 
 @dataclass(frozen=True)
 class Observations:
-    """The points as arrays: total ligand, E½, ln(Is/Ic), errors, α_L, bulk form."""
+    """The points as arrays: total ligand, E½, ln(Is/Ic), errors, α_L, bulk form, and
+    each solution's total metal (None when no point has one: no mass balance)."""
 
     ligand_total_M: np.ndarray
     E_half_V: np.ndarray
@@ -151,6 +158,16 @@ class Observations:
     weighted: bool
     alpha_L: np.ndarray
     bulk_red: np.ndarray
+    metal_total_M: np.ndarray | None = None
+
+
+def metal_totals(pts: Sequence[StepwisePoint], cond: SolutionConditions) -> np.ndarray | None:
+    """Each point's total metal, mol/L: its own, else the series value (0 for a point with
+    neither in a series where others have one); None when no point has any."""
+    metals = [p.metal_M if p.metal_M is not None else cond.metal_total_M for p in pts]
+    if all(m is None for m in metals):
+        return None
+    return np.array([0.0 if m is None else float(m) for m in metals])
 
 
 def observations(
@@ -169,4 +186,5 @@ def observations(
         weighted=weighted,
         alpha_L=alpha_L(pts, cond),
         bulk_red=np.array([p.bulk_form == "red" for p in pts]),
+        metal_total_M=metal_totals(pts, cond),
     )

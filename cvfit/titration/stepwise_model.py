@@ -96,8 +96,9 @@ def _check_inputs(points: Sequence[TitrationPoint], manifest: Manifest) -> None:
                 source=str(manifest.path),
                 key="series.pH",
             )
-    n_bound, metal = series.bound_ligand_number, series.metal_total_M
+    n_bound = series.bound_ligand_number
     for p in points:
+        metal = p.metal_or(series.metal_total_M)
         if n_bound is not None and metal is not None and p.x - n_bound * metal <= 0:
             raise InputError(
                 f"bound_ligand_number × metal_total_M ({n_bound * metal:.3g} M) is not below "
@@ -191,7 +192,14 @@ class StepwiseModel:
             ratios, flags = current_ratios(used, data.reference_points)
         points = [
             StepwisePoint(
-                p.label, p.x, p.E_half_V, p.E_half_stderr_V, r, p.pH, bulk_form=p.bulk_form or "ox"
+                p.label,
+                p.x,
+                p.E_half_V,
+                p.E_half_stderr_V,
+                r,
+                p.pH,
+                bulk_form=p.bulk_form or "ox",
+                metal_M=p.metal_M,
             )
             for p, r in zip(used, ratios, strict=True)
         ]
@@ -213,10 +221,10 @@ class StepwiseModel:
             fit = replace(fit, flags=tuple(flags) + fit.flags)
         free = dict(zip(fit.labels, fit.free_ligand_M, strict=True))
         alpha = dict(zip(fit.labels, fit.log10_alpha_L, strict=True))
-        metal = series.metal_total_M
         notes = {
             p.label: PointNote(
-                free[p.label], _excess_flag(p, free[p.label], alpha[p.label], metal)
+                free[p.label],
+                _excess_flag(p, free[p.label], alpha[p.label], p.metal_or(series.metal_total_M)),
             )
             for p in used
             if p.label in free

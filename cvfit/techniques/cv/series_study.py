@@ -21,6 +21,7 @@ import numpy as np
 
 from cvfit.flags import Flag
 from cvfit.io import resistance_for
+from cvfit.io.manifest_titration import file_analyte_M, for_file
 from cvfit.quantity import Quantity
 from cvfit.techniques.base import Reread, SeriesStudy, StudyItem
 from cvfit.techniques.cv.curve.stage import curve_fit_for, curve_fit_used, wants_curve_fit
@@ -130,15 +131,16 @@ def _file_D(f: _Row, n: int, T: float, area: float | None, conc: float | None) -
 
 
 def _D_from_reversible_files(
-    files: Sequence[_Row], n: int, T: float, area: float | None, conc: float | None
+    files: Sequence[_Row], n: int, T: float, area: float | None, concs: Sequence[float | None]
 ) -> Quantity | None:
-    """Mean Randles–Ševčík D of the reversible files, with the larger of the standard
-    error from their scatter and from their own errors; None without area and analyte_M."""
-    if area is None or conc is None:
+    """Mean Randles–Ševčík D of the reversible files (each at its own concentration),
+    with the larger of the standard error from their scatter and from their own errors;
+    None without area and analyte_M."""
+    if area is None:
         return None
     values = []
     errors = []
-    for f in files:
+    for f, conc in zip(files, concs, strict=True):
         q = _file_D(f, n, T, area, conc) if f.reversible is True else None
         if q is not None:
             values.append(q.value)
@@ -160,7 +162,11 @@ def _diagnose(
     series = manifest.series
     criteria = manifest.reversibility
     n, T = series.electrons, series.temperature_K
-    area, conc = series.electrode_area_cm2, series.analyte_M
+    area = series.electrode_area_cm2
+    # each solution's own analyte concentration (a titration by additions dilutes it)
+    concs = [file_analyte_M(e, series) for e in manifest.voltammograms]
+    if len(concs) != len(rows):  # rows not made from this manifest's files
+        concs = [series.analyte_M] * len(rows)
     out = list(rows)
     studies: list[ScanRateStudy] = []
     study_of: dict[int, ScanRateStudy] = {}
@@ -172,7 +178,7 @@ def _diagnose(
             electrons=n,
             temperature_K=T,
             area_cm2=area,
-            analyte_M=conc,
+            analyte_M=concs[idx[0]],
         )
         studies.append(st)
         for k in idx:
@@ -185,7 +191,7 @@ def _diagnose(
                 series_flags.append(Flag(fl.code, where + fl.message, fl.severity))
     D_manifest = _manifest_D(series)
     any_D = next((st for st in studies if st.D_cm2_s is not None and not st.delta_Ep_grows), None)
-    D_reversible = _D_from_reversible_files(out, n, T, area, conc)
+    D_reversible = _D_from_reversible_files(out, n, T, area, concs)
     for k, f in enumerate(out):
         extra: list[Flag] = []
         study = study_of.get(k)
@@ -221,7 +227,7 @@ def _diagnose(
                     "info",
                 )
             )
-        if D is None and (own := _file_D(f, n, T, area, conc)) is not None:
+        if D is None and (own := _file_D(f, n, T, area, concs[k])) is not None:
             D, source = own, "peak current"
             if f.reversible is not True:
                 extra.append(
@@ -269,7 +275,8 @@ def _fit_after_study(
         if wants_curve_fit(source, own) or not wants_curve_fit(source, f.reversible):
             continue
         resistance = resistance_for(entries[k], manifest.series)
-        fit, flags = curve_fit_for(reread(k), f.peaks, f.screen, manifest, resistance)
+        own_manifest = for_file(entries[k], manifest)
+        fit, flags = curve_fit_for(reread(k), f.peaks, f.screen, own_manifest, resistance)
         out[k] = f.with_flags(*flags, curve_fit=fit)
     return out
 
