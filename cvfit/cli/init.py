@@ -33,8 +33,8 @@ fill in); scan rates 100mVs, 50 mV_s, 0.1Vs -> scan_rate_V_s when the file gives
 A number is read only where it starts a word of the name and carries a unit; a name
 that says two things (1mM_5mM, 2_5mM, blank_5mM) gives nothing.
 
-Whatever the names do not give is written as "FILL IN": 'cvfit run' stops at the first
-one left with the file's line and the key. The command prints the list.
+Whatever the names do not give is written as "FILL IN": 'cvfit run' refuses the manifest
+while any is left, listing them with the line of the first. The command prints the list.
 """
 
 INIT_EPILOG = """\

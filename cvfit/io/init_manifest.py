@@ -205,17 +205,20 @@ def _toml_entry(notes: list[str], row: dict[str, object]) -> list[str]:
 def _head(title: str, variable: str, table_name: str | None) -> list[str]:
     lines = [
         "# Written by `cvfit init`. Replace every " + toml_text(PLACEHOLDER) + " (cvfit run "
-        "names the first one left),",
+        "lists those left),",
         "# check the values read from the file names, then: cvfit run series.toml",
-        "# Keys and their meaning: `cvfit run --help` and docs/manifest.md.",
+        "# Keys and their meaning: `cvfit run --help` and `cvfit guide manifest`.",
         "",
         "[series]",
         f"title = {toml_text(title)}",
         "# n, the electrons exchanged by the couple",
         f"electrons = {toml_text(PLACEHOLDER)}",
         "# temperature_C = 25.0     # cell temperature, °C (default 25)",
-        "# metal_total_M = 0.001    # analytical metal concentration, mol/L (optional)",
     ]
+    if variable != "added_mL":  # with additions the metal of each solution is computed
+        lines.append(
+            "# metal_total_M = 0.001    # analytical metal concentration, mol/L (optional)"
+        )
     if table_name is not None:
         lines += [f"# the files: one row each in {table_name} (columns file, {variable}, ...)",
                   f"files_table = {toml_text(table_name)}"]  # fmt: skip

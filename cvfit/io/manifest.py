@@ -24,7 +24,16 @@ from cvfit.io import manifest_technique as _technique
 from cvfit.io import manifest_titration as _titration
 from cvfit.io import manifest_variables as _variables
 from cvfit.io.limits import MAX_MANIFEST_BYTES, read_regular_file
-from cvfit.io.manifest_spec import Table, bind, clean_record, clean_value, clean_values
+from cvfit.io.manifest_spec import (
+    PLACEHOLDER,
+    Table,
+    bind,
+    clean_record,
+    clean_value,
+    clean_values,
+    placeholders,
+    toml_text,
+)
 from cvfit.io.options import IMPORT_KEYS, ImportOptions
 from cvfit.io.text import decode_utf8, split_lines
 from cvfit.reversibility_criteria import ReversibilityCriteria
@@ -483,6 +492,15 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     ld = _Loader(p, text)
     folder = p.resolve().parent
     ld.check_keys(data, TABLES, "", None)
+    if left := placeholders(data):
+        path, table, key, index = left[0]
+        raise ld.fail(
+            f"{len(left)} value(s) still {toml_text(PLACEHOLDER)}: "
+            f"{', '.join(p[0] for p in left)}; replace each with its value (the comment "
+            "beside it says what it is)",
+            path,
+            ld.where.line(table, key, index),
+        )
     if "series" not in data:
         raise ld.fail(
             "the manifest needs a [series] table with at least electrons = n", "series", None

@@ -61,6 +61,22 @@ NO_DEFAULT: Any = _NoDefault()
 #: The value ``cvfit init`` writes where the user must fill one in; refused by every key
 #: with its own message.
 PLACEHOLDER = "FILL IN"
+
+
+def placeholders(data: Mapping[str, Any]) -> list[tuple[str, str, str, int | None]]:
+    """Every value of a parsed manifest still :data:`PLACEHOLDER`, in the file's order:
+    (key path, table, key, 1-based index of an array table's entry or None)."""
+    out: list[tuple[str, str, str, int | None]] = []
+    for name, table in data.items():
+        entries = table if isinstance(table, list) else [table]
+        for k, entry in enumerate(entries, start=1):
+            if not isinstance(entry, Mapping):
+                continue
+            index = k if isinstance(table, list) else None
+            where = f"{name}[{k}]" if index else name
+            out += [(f"{where}.{key}", name, key, index)
+                    for key, value in entry.items() if value == PLACEHOLDER]  # fmt: skip
+    return out
 #: What a check returns for a value it refuses.
 _BAD: Any = object()
 #: Longest rendering of a wrong value in a message (a huge list is cut).
