@@ -12,7 +12,6 @@ metal is checked against the dilution worked out by hand in the test.
 from __future__ import annotations
 
 import json
-from pathlib import Path
 
 import numpy as np
 import pytest

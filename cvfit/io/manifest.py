@@ -493,12 +493,12 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     folder = p.resolve().parent
     ld.check_keys(data, TABLES, "", None)
     if left := placeholders(data):
-        path, table, key, index = left[0]
+        first, table, key, index = left[0]
         raise ld.fail(
             f"{len(left)} value(s) still {toml_text(PLACEHOLDER)}: "
             f"{', '.join(p[0] for p in left)}; replace each with its value (the comment "
             "beside it says what it is)",
-            path,
+            first,
             ld.where.line(table, key, index),
         )
     if "series" not in data:

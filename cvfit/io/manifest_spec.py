@@ -77,6 +77,8 @@ def placeholders(data: Mapping[str, Any]) -> list[tuple[str, str, str, int | Non
             out += [(f"{where}.{key}", name, key, index)
                     for key, value in entry.items() if value == PLACEHOLDER]  # fmt: skip
     return out
+
+
 #: What a check returns for a value it refuses.
 _BAD: Any = object()
 #: Longest rendering of a wrong value in a message (a huge list is cut).
