@@ -493,13 +493,13 @@ def _check(p: Path, text: str, data: dict[str, Any]) -> Manifest:
     folder = p.resolve().parent
     ld.check_keys(data, TABLES, "", None)
     if left := placeholders(data):
-        first, table, key, index = left[0]
+        first, in_table, first_key, at = left[0]
         raise ld.fail(
             f"{len(left)} value(s) still {toml_text(PLACEHOLDER)}: "
             f"{', '.join(p[0] for p in left)}; replace each with its value (the comment "
             "beside it says what it is)",
             first,
-            ld.where.line(table, key, index),
+            ld.where.line(in_table, first_key, at),
         )
     if "series" not in data:
         raise ld.fail(
