@@ -134,9 +134,7 @@ def test_legend_box_covers_no_data(drawn, name):
     assert legend is not None
     box = legend.get_window_extent()
     px = _data_display_points(ax)
-    inside = (
-        (px[:, 0] > box.x0) & (px[:, 0] < box.x1) & (px[:, 1] > box.y0) & (px[:, 1] < box.y1)
-    )
+    inside = (px[:, 0] > box.x0) & (px[:, 0] < box.x1) & (px[:, 1] > box.y0) & (px[:, 1] < box.y1)
     assert px.shape[0] > 200  # the traces themselves were found
     assert not inside.any(), f"{inside.sum()} data points under the legend"
 

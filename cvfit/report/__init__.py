@@ -109,7 +109,9 @@ def _write_set(
     data = json.loads(json_text)
     written: dict[str, Path] = {
         "table": write_file_table(result, out / OUTPUT_NAMES["table"]),
-        **write_si_tables(data, out / OUTPUT_NAMES["si_table_csv"], out / OUTPUT_NAMES["si_table_tex"]),
+        **write_si_tables(
+            data, out / OUTPUT_NAMES["si_table_csv"], out / OUTPUT_NAMES["si_table_tex"]
+        ),
     }
     with formats_context(figure_formats):
         for entry in figures_for(result):

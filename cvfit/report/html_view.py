@@ -103,7 +103,9 @@ def _quantity_row(
     }
 
 
-def fitted_constants(fit: Mapping[str, Any]) -> list[tuple[str, str, Mapping[str, Any], float, str]]:
+def fitted_constants(
+    fit: Mapping[str, Any],
+) -> list[tuple[str, str, Mapping[str, Any], float, str]]:
     """Every constant of a fit record as ``(key, label, quantity, scale, unit)``: the
     quantity a ``{value, stderr, ci95}`` mapping, shown times *scale* in *unit*."""
     found = []
@@ -365,7 +367,10 @@ def file_table_view(files: Sequence[Mapping[str, Any]], technique: str = "cv") -
             {
                 "file": text(f.get("file")),
                 "label": text(f.get("label")),
-                "cells": cells,
+                # a cell wraps between its parts, never inside "value ± error"
+                "cells": [
+                    c.replace(" ± ", "\u00a0±\u00a0").replace("> ", ">\u00a0") for c in cells
+                ],  # fmt: skip
                 "flags": flag_view(own),
                 "excluded": text(reason) if reason else "",
             }
@@ -381,25 +386,23 @@ def _nested_quantity(record: Mapping[str, Any], *path: str) -> Mapping[str, Any]
     return record
 
 
-def _curve_fit_e_half(f: Mapping[str, Any]) -> str:
-    q = _nested_quantity(f, "curve_fit", "E_half_V")
-    return format_pm(q.get("value"), q.get("stderr"), scale=1e3)
-
-
-def _curve_fit_k0(f: Mapping[str, Any]) -> str:
-    fit = _nested_quantity(f, "curve_fit")
-    bound = fit.get("k0_cm_s", {}).get("lower_bound") if fit else None
-    if isinstance(bound, (int, float)):
-        return f"> {bound:.2g}"
-    q = _nested_quantity(f, "curve_fit", "k0_cm_s")
-    return format_pm(q.get("value"), q.get("stderr"))
+def _curve_fit(f: Mapping[str, Any]) -> str:
+    """E½ ± σ (mV) and k0 ± σ (or its lower bound) of the whole-curve fit; "n/d" without."""
+    e = _nested_quantity(f, "curve_fit", "E_half_V")
+    if not e:
+        return "n/d"
+    k0 = _nested_quantity(f, "curve_fit", "k0_cm_s")
+    bound = k0.get("lower_bound")
+    shown_k0 = (
+        f"> {bound:.2g}"
+        if isinstance(bound, (int, float))
+        else format_pm(k0.get("value"), k0.get("stderr"))
+    )
+    return f"{format_pm(e.get('value'), e.get('stderr'), scale=1e3)}; {shown_k0}"
 
 
 #: Columns of values inside a nested record of a file (the whole-curve fit), formatted.
-_NESTED_COLUMNS = (
-    ("E½ (curve fit) / mV", _curve_fit_e_half),
-    ("k0 (curve fit) / cm s⁻¹", _curve_fit_k0),
-)
+_NESTED_COLUMNS = (("curve fit: E½ / mV; k0 / cm s⁻¹", _curve_fit),)
 #: Cells that say nothing: a column holding only these in every row is left out.
 _EMPTY_CELLS = frozenset({"", "n/d"})
 

@@ -46,7 +46,11 @@ CURVE_FITS_NAME = FIGURES["curve_fits"].file_name
 SERIES_OUTPUT_NAMES = frozenset(
     (
         *OUTPUT_NAMES.values(),
-        *(str(PurePath(n).with_suffix(f".{fmt}")) for n in figure_names() for fmt in FIGURE_FORMATS),
+        *(
+            str(PurePath(n).with_suffix(f".{fmt}"))
+            for n in figure_names()
+            for fmt in FIGURE_FORMATS
+        ),
     )
 )
 

@@ -75,12 +75,24 @@ _PER_L = r"mol\,L$^{-1}$"
 SI_FILE_COLUMNS = (
     _Column(("file",), "file", _plain("file"), "file"),
     _Column(("label",), "label", _plain("label"), "label"),
-    _Column(("[L] total / mol L⁻¹",), rf"$[\mathrm{{L}}]_\mathrm{{total}}$ / {_PER_L}",
-            _conc("ligand_M"), "ligand_M"),  # fmt: skip
-    _Column(("[L] free / mol L⁻¹",), rf"$[\mathrm{{L}}]_\mathrm{{free}}$ / {_PER_L}",
-            _conc("free_ligand_M"), "free_ligand_M"),  # fmt: skip
-    _Column(("[M] total / mol L⁻¹",), rf"$[\mathrm{{M}}]_\mathrm{{total}}$ / {_PER_L}",
-            _conc("metal_M"), "metal_M"),  # fmt: skip
+    _Column(
+        ("[L] total / mol L⁻¹",),
+        rf"$[\mathrm{{L}}]_\mathrm{{total}}$ / {_PER_L}",
+        _conc("ligand_M"),
+        "ligand_M",
+    ),  # fmt: skip
+    _Column(
+        ("[L] free / mol L⁻¹",),
+        rf"$[\mathrm{{L}}]_\mathrm{{free}}$ / {_PER_L}",
+        _conc("free_ligand_M"),
+        "free_ligand_M",
+    ),  # fmt: skip
+    _Column(
+        ("[M] total / mol L⁻¹",),
+        rf"$[\mathrm{{M}}]_\mathrm{{total}}$ / {_PER_L}",
+        _conc("metal_M"),
+        "metal_M",
+    ),  # fmt: skip
     _Column(("v / V s⁻¹",), r"$v$ / V\,s$^{-1}$", _conc("scan_rate_V_s"), "scan_rate_V_s"),
     _Column(("E½ / mV", "u(E½) / mV"), r"$E_{1/2}$ / mV", _e_half, "E_half_V"),
     _Column(("E½ from",), r"$E_{1/2}$ from", _plain("E_half_source"), "E_half_source"),

@@ -61,18 +61,18 @@ def legend_clear_of(ax: Axes, x: ArrayLike, y: ArrayLike, **legend_kw: Any) -> L
     the y range is raised by the legend's height, so that the data leave the top corners
     free. Call it with the axes at their final size and limits.
     """
-    x = np.asarray(x, dtype=float).ravel()
-    y = np.asarray(y, dtype=float).ravel()
-    keep = np.isfinite(x) & np.isfinite(y)
-    x, y = x[keep], y[keep]
+    xs = np.asarray(x, dtype=float).ravel()
+    ys = np.asarray(y, dtype=float).ravel()
+    keep = np.isfinite(xs) & np.isfinite(ys)
+    xs, ys = xs[keep], ys[keep]
     renderer = ax.figure.canvas.get_renderer()  # type: ignore[attr-defined]  # Agg canvas
-    first = quiet_corner(ax, x, y)
-    order = [first, *(c for c in CORNERS if c != first)]
+    first = quiet_corner(ax, xs, ys)
+    order: list[Corner] = [first, *(c for c in CORNERS if c != first)]
     legend = ax.legend(loc=first, **legend_kw)
     for _ in range(3):
         for corner in order:
             legend = ax.legend(loc=corner, **legend_kw)
-            if not _covers(legend.get_window_extent(renderer), ax, x, y):
+            if not _covers(legend.get_window_extent(renderer), ax, xs, ys):
                 return legend
         # every corner covers data: room above it, one legend height
         box = legend.get_window_extent(renderer)

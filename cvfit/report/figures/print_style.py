@@ -93,7 +93,7 @@ def printed_font_pt(fig: Figure, print_width_in: float) -> float:
 
     scale = print_width_in / float(fig.get_size_inches()[0])
     sizes = [
-        t.get_fontsize()
+        float(t.get_fontsize())
         for t in fig.findobj(Text)
         if isinstance(t, Text) and t.get_visible() and t.get_text().strip()
     ]

@@ -158,7 +158,10 @@ def apply_margins(fig: Figure, margins_in: tuple[float, float, float, float]) ->
     width, height = fig.get_size_inches()
     left, right, bottom, top = margins_in
     fig.subplots_adjust(
-        left=left / width, right=1.0 - right / width, bottom=bottom / height, top=1.0 - top / height
+        left=left / width,
+        right=1.0 - right / width,
+        bottom=bottom / height,
+        top=1.0 - top / height,
     )
 
 
@@ -489,6 +492,8 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         headline = constant_lines(fit.to_dict()) if fit is not None else []
         top = _set_title(ax, result.series.title or "half-wave shift", fontsize=8.0,
                          extra=headline)  # fmt: skip
-        apply_margins(fig, (*_LINGANE_MARGINS_IN, top))  # the legend is measured at the final layout
+        apply_margins(
+            fig, (*_LINGANE_MARGINS_IN, top)
+        )  # the legend is measured at the final layout
         legend_clear_of(ax, shown_x, shown_y, frameon=False, fontsize=7)
         return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
