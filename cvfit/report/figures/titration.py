@@ -318,7 +318,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                     "over [L]", transform=ax.transAxes, ha="right", va="bottom", fontsize=7,
                     color="0.3")  # fmt: skip
         top = _set_title(ax, result.series.title or "voltammograms", fontsize=8.0)
-        margins = (0.55, 0.6, 0.42, top)
+        margins = (0.55, 0.6 if norm is not None else 0.15, 0.42, top)  # room: colour bar
         if any(f.ligand_M == 0 for f in result.files) or handles:
             apply_margins(fig, margins)  # the legend is measured at the final layout
             xy = [*segments, *(ln.get_xydata() for ln in ax.get_lines())]
