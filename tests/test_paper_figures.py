@@ -82,6 +82,22 @@ def test_unknown_figure_format_is_one_line_error(tmp_path, capsys, value):
     assert not (tmp_path / "d").exists()  # refused before anything is written
 
 
+def test_batch_writes_each_series_figures_in_each_format(demo, tmp_path):
+    """Several manifests (a batch, run by worker processes) pass the formats on."""
+    manifests = []
+    for k in range(2):
+        shutil.copytree(demo / "inputs", tmp_path / f"s{k}")
+        manifests.append(str(tmp_path / f"s{k}" / "series.toml"))
+    out = tmp_path / "out"
+    assert main(["run", *manifests, "--out", str(out), "--jobs", "2",
+                 "--figure-format", "pdf"]) == 0  # fmt: skip
+    for k in range(2):
+        folder = next(p for p in out.iterdir() if p.is_dir() and p.name.startswith(f"s{k}"))
+        assert (folder / "voltammograms.pdf").read_bytes()[:5] == b"%PDF-"
+        assert (folder / "voltammograms.png").is_file()
+        assert not (folder / "voltammograms.svg").exists()
+
+
 def _printed_min_pt(fig, width_in: float) -> float:
     """The smallest visible text of *fig*, in points, once printed *width_in* wide:
     every text artist queried, independently of cvfit.report.figures.print_style."""

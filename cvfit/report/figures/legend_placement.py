@@ -1,4 +1,5 @@
-"""Where to put a legend: the corner of the axes holding the fewest data points.
+"""Where to put a legend: the corner of the axes holding the fewest data points, or (its
+box measured) a corner where it covers none.
 
 matplotlib's ``loc="best"`` tests nine places against every vertex of every line at
 drawing time, in Python: ~12 ms per legend with a 200-file series (a quarter of the time
