@@ -492,8 +492,8 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         headline = constant_lines(fit.to_dict()) if fit is not None else []
         top = _set_title(ax, result.series.title or "half-wave shift", fontsize=8.0,
                          extra=headline)  # fmt: skip
-        apply_margins(
-            fig, (*_LINGANE_MARGINS_IN, top)
-        )  # the legend is measured at the final layout
+        fig.set_size_inches(ONE_COLUMN_IN, 3.0 + top)  # the plot keeps its height
+        # the legend is measured at the final layout
+        apply_margins(fig, (*_LINGANE_MARGINS_IN, top))
         legend_clear_of(ax, shown_x, shown_y, frameon=False, fontsize=7)
         return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
