@@ -82,6 +82,13 @@ def test_unknown_figure_format_is_one_line_error(tmp_path, capsys, value):
     assert not (tmp_path / "d").exists()  # refused before anything is written
 
 
+def test_run_refuses_an_unknown_format_before_reading_the_manifest(tmp_path, capsys):
+    status = main(["run", str(tmp_path / "absent.toml"), "--figure-format", "gif"])
+    err = capsys.readouterr().err
+    assert status == 2 and err.count("\n") == 1
+    assert "--figure-format 'gif': 'gif' is not a figure format" in err
+
+
 def test_batch_writes_each_series_figures_in_each_format(demo, tmp_path):
     """Several manifests (a batch, run by worker processes) pass the formats on."""
     manifests = []
