@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING
 if TYPE_CHECKING:
     from cvfit.quantity import Quantity
 
-__all__ = ["format_pm", "format_q", "format_value"]
+__all__ = ["format_pm", "format_q", "format_value", "pm_parts"]
 
 
 def _digits_for(stderr: float) -> int:
@@ -16,6 +16,19 @@ def _digits_for(stderr: float) -> int:
     if not (math.isfinite(stderr) and stderr > 0):
         return 3
     return max(0, 1 - int(math.floor(math.log10(stderr))))
+
+
+def pm_parts(value: float, stderr: float, *, scale: float = 1.0) -> tuple[str, str]:
+    """*value* and *stderr* (both finite) scaled and rounded alike: the uncertainty to two
+    significant digits, the value to the same decimal place (``("5.412", "0.018")``).
+
+    References
+    ----------
+    JCGM 100:2008 (GUM), Evaluation of measurement data — Guide to the expression of
+    uncertainty in measurement, 7.2.6 (at most two significant digits; from memory).
+    """
+    d = _digits_for(stderr * scale)
+    return f"{value * scale:.{d}f}", f"{stderr * scale:.{d}f}"
 
 
 def format_pm(
@@ -28,9 +41,8 @@ def format_pm(
     tail = f" {unit}" if unit else ""
     if stderr is None or not math.isfinite(stderr):
         return f"{v:.4g}{tail} (uncertainty unknown)"
-    s = stderr * scale
-    d = _digits_for(s)
-    return f"{v:.{d}f} ± {s:.{d}f}{tail}"
+    shown, err = pm_parts(value, stderr, scale=scale)
+    return f"{shown} ± {err}{tail}"
 
 
 def format_value(

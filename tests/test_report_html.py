@@ -7,7 +7,9 @@ installed, in a real browser engine (headless, ``--dump-dom``).
 from __future__ import annotations
 
 import base64
+import html
 import json
+import re
 import subprocess
 import tempfile
 from html.parser import HTMLParser
@@ -262,3 +264,95 @@ def test_shown_manifest(manifest, folder, shown):
     from cvfit.report.html_view import shown_manifest
 
     assert shown_manifest(manifest, folder) == shown
+
+
+#: Injected into a copy of a report: measures, once laid out, every element whose content
+#: is wider than its box — cut (overflow hidden or clipped, or an ellipsis), spilling out
+#: of a table cell, or (the per-file table) behind a horizontal scroll bar — and writes the
+#: verdict as JSON. A wide table in a scroll box cuts nothing: its text is all reachable.
+_MEASURE = """<script>
+(function () {
+  var cut = [], scrolled = [], spilled = [];
+  var all = document.querySelectorAll('body *');
+  for (var k = 0; k < all.length; k++) {
+    var el = all[k], cs = getComputedStyle(el);
+    if (el.scrollWidth <= el.clientWidth + 1) continue;
+    var what = el.tagName + '.' + el.className + ': ' + el.textContent.slice(0, 80);
+    if (cs.overflowX === 'hidden' || cs.overflowX === 'clip' || cs.textOverflow === 'ellipsis') {
+      cut.push(what);
+    } else if (cs.overflowX === 'auto' || cs.overflowX === 'scroll') {
+      if (el.querySelector('table.files')) scrolled.push(what);
+    } else if (el.tagName === 'TD' || el.tagName === 'TH') {
+      spilled.push(what);
+    }
+  }
+  var text = document.body.innerText;
+  var out = document.createElement('pre');
+  out.id = 'layout-verdict';
+  out.textContent = JSON.stringify({
+    cut: cut, scrolled: scrolled, spilled: spilled,
+    dict_repr: text.indexOf("{'") >= 0 || text.indexOf("[{'") >= 0,
+    page_wider_than_window: document.documentElement.scrollWidth > window.innerWidth,
+    cells: document.querySelectorAll('table.files td').length,
+    heads: Array.prototype.map.call(document.querySelectorAll('table.files th'),
+                                    function (h) { return h.textContent; })
+  });
+  document.body.appendChild(out);
+})();
+</script>"""
+
+
+def _chromium(*args: str) -> subprocess.CompletedProcess:
+    with tempfile.TemporaryDirectory() as profile:
+        return subprocess.run(
+            [str(CHROMIUM), "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
+             "--no-first-run", "--disable-background-networking", "--disable-component-update",
+             "--disable-sync", "--hide-scrollbars", f"--user-data-dir={profile}",
+             "--window-size=1280,900", *args],
+            capture_output=True, text=True, timeout=90, check=False,
+        )  # fmt: skip
+
+
+@pytest.fixture(scope="module")
+def curve_fitted_report(tmp_path_factory) -> Path:
+    """The report of the demo series, some of whose files were curve-fitted."""
+    out = tmp_path_factory.mktemp("browser") / "demo"
+    assert main(["demo", "--out", str(out), "--quiet"]) == 0
+    return out / "results" / "report.html"
+
+
+def test_report_cuts_no_text_and_shows_no_dict_in_a_browser(curve_fitted_report, tmp_path):
+    """Issue 27 item 7: the per-file table printed a raw dict for curve-fitted files, had
+    columns empty in every row and cut flag text at the edge of a scroll box."""
+    if not CHROMIUM.exists():
+        pytest.skip("/usr/bin/chromium is not installed (apt-get install chromium)")
+    page = curve_fitted_report.read_text(encoding="utf-8")
+    assert "curve_fit" in (curve_fitted_report.parent / "results.json").read_text()
+    copy = tmp_path / "report.html"
+    # the copy's policy lets the one inline script run (the report itself allows none)
+    measured = page.replace(
+        "style-src 'unsafe-inline'", "style-src 'unsafe-inline'; script-src 'unsafe-inline'"
+    ).replace("</body>", _MEASURE + "</body>")
+    assert measured.count("script-src 'unsafe-inline'") == 1
+    copy.write_text(measured, encoding="utf-8")
+    proc = _chromium("--dump-dom", copy.as_uri())
+    assert proc.returncode == 0 and "</html>" in proc.stdout, proc.stderr[-2000:]
+    found = re.search(r'<pre id="layout-verdict">(.*?)</pre>', proc.stdout, re.S)
+    assert found, "the measuring script did not run"
+    verdict = json.loads(html.unescape(found.group(1)))
+    assert verdict["cells"] > 0
+    assert verdict["cut"] == [] and verdict["spilled"] == []
+    assert verdict["scrolled"] == []  # the per-file table fits a 1 280 px window
+    assert not verdict["page_wider_than_window"]
+    assert not verdict["dict_repr"] and "{&#39;" not in page
+    # the whole-curve fit shows as numbers; no column says nothing in every row
+    heads = verdict["heads"]
+    assert "curve fit: E½ / mV; k0 / cm s⁻¹" in heads and "curve fit" not in heads
+    assert "internal standard" not in heads and "uncompensated resistance / Ω" not in heads
+    assert re.search(
+        r"-142\.\d+\xa0±\xa00\.\d+; 0\.00\d+\xa0±\xa00\.0000\d+", html.unescape(proc.stdout)
+    )
+    shot = tmp_path / "report.png"
+    proc = _chromium(f"--screenshot={shot}", curve_fitted_report.as_uri())
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    assert shot.stat().st_size > 10_000 and shot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"

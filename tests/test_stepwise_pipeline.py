@@ -330,4 +330,31 @@ def test_stepwise_report_opens_with_the_beta_table(stepwise_run, tmp_path, monke
     monkeypatch.setattr(stepwise_figures, "_save", keep)
     result = analyse_series(load_manifest(data["manifest"]))
     stepwise_figures.plot_stepwise_shift(result, tmp_path / "shift.png")
-    assert titles[0].splitlines()[1:] == expected
+    # the constants' lines, each wrapped to the one-column figure's width
+    assert " ".join(titles[0].split()).endswith(" ".join(" ".join(expected).split()))
+
+
+def test_stepwise_figures_are_lettered_at_least_7_pt_printed(stepwise_run):
+    """Common practice of journals: lettering 7-9 pt at the printed size; the half-wave
+    shift is printed one column wide (8.5 cm), the three-panel figures two (17.8 cm)."""
+    from matplotlib.text import Text
+
+    from cvfit.io import load_manifest
+    from cvfit.pipeline.series import analyse_series
+    from cvfit.report.figures.registry import FIGURES, draw_figure
+    from cvfit.report.figures.titration import keep_figures
+
+    _, out, _, _ = stepwise_run
+    result = analyse_series(load_manifest(out.parent / "stepwise.toml"))
+    widths = {"stepwise_shift": 8.5 / 2.54, "stepwise_leden": 17.8 / 2.54,
+              "stepwise_species": 17.8 / 2.54}  # fmt: skip
+    for key, width_in in widths.items():
+        with keep_figures() as kept:
+            draw_figure(FIGURES[key], result, out)
+        (fig,) = kept
+        fig.canvas.draw()
+        sizes = [t.get_fontsize() for t in fig.findobj(Text)
+                 if t.get_visible() and t.get_text().strip()]  # fmt: skip
+        assert min(sizes) * width_in / fig.get_size_inches()[0] >= 7.0, key
+        if key == "stepwise_shift":
+            assert fig.axes[0].get_legend() is not None

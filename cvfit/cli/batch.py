@@ -124,7 +124,9 @@ def batch_out_dirs(manifests: Sequence[Path], out: Path | None) -> list[Path]:
     return dirs
 
 
-def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
+def run_series(
+    manifest_path: str | Path, out_dir: str | Path, figure_formats: Sequence[str] = ("png",)
+) -> SeriesOutcome:
     """Analyse one series into *out_dir*; never raises (failures become the outcome)."""
     from cvfit.cli.output_paths import check_outputs_spare_inputs
     from cvfit.io import load_manifest
@@ -145,7 +147,7 @@ def run_series(manifest_path: str | Path, out_dir: str | Path) -> SeriesOutcome:
         )
         check_output_folder(out_dir)
         result = analyse_series(manifest)
-        write_outputs(result, out_dir)
+        write_outputs(result, out_dir, figure_formats=figure_formats)
     except InputError as exc:
         return SeriesOutcome(
             str(manifest_path), str(out_dir), STATUS_INPUT, title, error=exc.one_line()
@@ -218,8 +220,8 @@ def _outcome(manifest: str, out_dir: str, title: str | None, result) -> SeriesOu
     )
 
 
-def _run_pair(pair: tuple[Path, Path]) -> SeriesOutcome:
-    """:func:`run_series` of one (manifest, output folder) pair, as a worker runs it."""
+def _run_pair(pair: tuple[Path, Path, tuple[str, ...]]) -> SeriesOutcome:
+    """:func:`run_series` of one (manifest, output folder, formats), as a worker runs it."""
     return run_series(*pair)
 
 
@@ -235,6 +237,7 @@ def run_batch(
     *,
     jobs: int | None = None,
     progress: bool = True,
+    figure_formats: Sequence[str] = ("png",),
 ) -> list[SeriesOutcome]:
     """Run every series; outcomes in the order of *manifests*.
 
@@ -261,12 +264,13 @@ def run_batch(
     if jobs == 1:
         with progress_bar() as bar:
             for k, (m, o) in enumerate(zip(manifests, out_dirs, strict=True)):
-                outcomes[k] = run_series(m, o)
+                outcomes[k] = run_series(m, o, figure_formats)
                 bar.update()
     else:
         from cvfit.pipeline.parallel import results_in_order
 
-        pairs = list(zip(manifests, out_dirs, strict=True))
+        formats = tuple(figure_formats)
+        pairs = [(m, o, formats) for m, o in zip(manifests, out_dirs, strict=True)]
         with progress_bar() as bar:
             outcomes[:] = results_in_order(_run_pair, pairs, jobs, done=bar.update)
     return [o for o in outcomes if o is not None]
@@ -347,13 +351,19 @@ def batch_exit_status(outcomes: Sequence[SeriesOutcome]) -> int:
     return 0
 
 
-def handle_batch(manifests: Sequence[Path], out: Path | None, *, jobs: int | None) -> int:
+def handle_batch(
+    manifests: Sequence[Path],
+    out: Path | None,
+    *,
+    jobs: int | None,
+    figure_formats: Sequence[str] = ("png",),
+) -> int:
     if out is not None and out.exists() and not out.is_dir():
         raise InputError(f"--out {out} exists and is not a folder", source="<command line>")
     if jobs is not None and jobs < 1:
         raise InputError(f"--jobs must be at least 1, got {jobs}", source="<command line>")
     dirs = batch_out_dirs(manifests, out)
-    outcomes = run_batch(manifests, dirs, jobs=jobs)
+    outcomes = run_batch(manifests, dirs, jobs=jobs, figure_formats=figure_formats)
     sys.stdout.write(format_batch_summary(outcomes) + "\n")
     folder = summary_folder(dirs, out)
     try:

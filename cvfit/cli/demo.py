@@ -14,7 +14,7 @@ import sys
 from importlib import resources
 from pathlib import Path
 
-from cvfit.cli.run import run_manifest
+from cvfit.cli.run import add_figure_format, run_manifest
 from cvfit.errors import InputError
 
 DEMO_PACKAGE = "cvfit.data.demo"
@@ -37,6 +37,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         default="cvfit_demo",
         help="folder for the demo (default: ./cvfit_demo)",
     )
+    add_figure_format(p)
     p.add_argument("--quiet", action="store_true", help="print only where results went")
     p.set_defaults(handler=handle)
 
@@ -98,8 +99,10 @@ def _check_truth(truth: Path, packaged: bytes) -> None:
 def handle(args: argparse.Namespace) -> int:
     from cvfit.report import check_output_folder
     from cvfit.report.atomic import atomic_path
+    from cvfit.report.figures.print_style import parse_figure_formats
     from cvfit.report.ownership import check_output_folder as check_folder
 
+    formats = parse_figure_formats(args.figure_format)
     out = Path(args.out)
     truth = out / SIMULATED_WITH
     packaged = (resources.files(DEMO_PACKAGE) / SIMULATED_WITH).read_bytes()
@@ -114,7 +117,11 @@ def handle(args: argparse.Namespace) -> int:
     simulated_with = read_simulated_with(truth)
     sys.stdout.write(f"demo series (simulated data) copied to {manifest.parent}/\n")
     status = run_manifest(
-        manifest, out / "results", quiet=args.quiet, simulated_with=simulated_with
+        manifest,
+        out / "results",
+        quiet=args.quiet,
+        simulated_with=simulated_with,
+        figure_formats=formats,
     )
     if not args.quiet:
         sys.stdout.write(

@@ -64,8 +64,20 @@ def register(sub: argparse._SubParsersAction) -> None:
         "none); 1 runs everything in this process; at most one per CPU core (a larger N is "
         "cut, with a note)",
     )
+    add_figure_format(p)
     p.add_argument("--quiet", action="store_true", help="print only where results went")
     p.set_defaults(handler=handle)
+
+
+def add_figure_format(p: argparse.ArgumentParser) -> None:
+    """The ``--figure-format`` option (``cvfit run``, ``cvfit demo``)."""
+    p.add_argument(
+        "--figure-format",
+        metavar="LIST",
+        default="png",
+        help="figure files to write, a comma list of png, svg, pdf (default: png; PNG is "
+        "always written, at 200 dpi, for the HTML report)",
+    )
 
 
 @contextlib.contextmanager
@@ -91,6 +103,7 @@ def run_manifest(
     quiet: bool = False,
     jobs: int | None = None,
     simulated_with: Sequence[str] = (),
+    figure_formats: Sequence[str] = ("png",),
 ) -> int:
     """Analyse the series of *manifest_path* into *out*, print the summary; exit status.
 
@@ -118,7 +131,9 @@ def run_manifest(
     file_jobs = default_file_jobs(n_files) if jobs is None else jobs
     with _progress(n_files, enabled=not quiet) as tick:
         result = analyse_series(manifest, jobs=file_jobs, progress=tick)
-    written = write_outputs(result, out_dir, simulated_with=simulated_with)
+    written = write_outputs(
+        result, out_dir, simulated_with=simulated_with, figure_formats=figure_formats
+    )
     if not quiet:
         sys.stdout.write(format_summary(result) + "\n\n")
     sys.stdout.write(
@@ -146,13 +161,20 @@ def capped_jobs(jobs: int | None) -> int | None:
 
 
 def handle(args: argparse.Namespace) -> int:
+    from cvfit.report.figures.print_style import parse_figure_formats
+
+    formats = parse_figure_formats(args.figure_format)
     args.jobs = capped_jobs(args.jobs)
     out = Path(args.out) if args.out else None
     if len(args.manifest) == 1 and not Path(args.manifest[0]).is_dir():
-        return run_manifest(Path(args.manifest[0]), out, quiet=args.quiet, jobs=args.jobs)
+        return run_manifest(
+            Path(args.manifest[0]), out, quiet=args.quiet, jobs=args.jobs, figure_formats=formats
+        )
     from cvfit.cli.batch import expand_manifests, handle_batch
 
     manifests = expand_manifests(args.manifest)
     if len(manifests) == 1:
-        return run_manifest(manifests[0], out, quiet=args.quiet, jobs=args.jobs)
-    return handle_batch(manifests, out, jobs=args.jobs)
+        return run_manifest(
+            manifests[0], out, quiet=args.quiet, jobs=args.jobs, figure_formats=formats
+        )
+    return handle_batch(manifests, out, jobs=args.jobs, figure_formats=formats)

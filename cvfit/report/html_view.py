@@ -31,6 +31,7 @@ __all__ = [
     "extra_header",
     "figure_view",
     "file_table_view",
+    "fitted_constants",
     "flag_view",
     "method_view",
     "series_notes",
@@ -102,22 +103,34 @@ def _quantity_row(
     }
 
 
-def constants_view(fit: Mapping[str, Any]) -> dict[str, Any]:
-    """The fitted constants: rows (value ± standard error, interval) and the fit's words."""
-    methods = fit.get("interval_methods") or {}
-    rows = []
+def fitted_constants(
+    fit: Mapping[str, Any],
+) -> list[tuple[str, str, Mapping[str, Any], float, str]]:
+    """Every constant of a fit record as ``(key, label, quantity, scale, unit)``: the
+    quantity a ``{value, stderr, ci95}`` mapping, shown times *scale* in *unit*."""
+    found = []
     for key, q in fit.items():
         if _is_quantity(q):
             label, scale, unit = _Q_LABELS.get(key, (key, 1.0, ""))
             label = label.format(integer=fit.get("delta_ligands_integer", "n/d"))
-            rows.append(_quantity_row(key, label, q, scale, unit, methods.get(key)))
+            found.append((key, label, q, scale, unit))
     for key, label_of in _LIST_LABELS.items():
         for k, q in enumerate(fit.get(key) or []):
             if _is_quantity(q):
                 label = label_of.format(j=q.get("j", k + 1))
                 if q.get("determined") is False:
                     label += " — not determined by these data"
-                rows.append(_quantity_row(f"{key}[{k}]", label, q, 1.0, "", q.get("method")))
+                found.append((f"{key}[{k}]", label, q, 1.0, ""))
+    return found
+
+
+def constants_view(fit: Mapping[str, Any]) -> dict[str, Any]:
+    """The fitted constants: rows (value ± standard error, interval) and the fit's words."""
+    methods = fit.get("interval_methods") or {}
+    rows = []
+    for key, label, q, scale, unit in fitted_constants(fit):
+        method = q.get("method") if "[" in key else methods.get(key)
+        rows.append(_quantity_row(key, label, q, scale, unit, method))
     weighted = fit.get("weighted")
     how = "weighted by the per-file E½ errors" if weighted else "unweighted"
     model = fit.get("model")
@@ -315,11 +328,14 @@ def file_table_view(files: Sequence[Mapping[str, Any]], technique: str = "cv") -
     shown = {*_FILE_COLUMNS, *technique_of_name(technique).hidden_keys}
     shown |= {key for _, key, _, _ in own_columns}
     extra: list[str] = []
+    nested: set[str] = set()  # a dict or list in some file: never shown as text
     for f in files:
         for k, v in f.items():
-            scalar = v is None or isinstance(v, (str, int, float, bool))
-            if k not in shown and scalar and k not in extra:
+            if not (v is None or isinstance(v, (str, int, float, bool))):
+                nested.add(k)
+            elif k not in shown and k not in extra:
                 extra.append(k)
+    extra = [k for k in extra if k not in nested]
     heads = [
         "file",
         "[L] / mol L⁻¹",
@@ -330,6 +346,7 @@ def file_table_view(files: Sequence[Mapping[str, Any]], technique: str = "cv") -
         "Nernstian",
         "in fit",
         *(extra_header(k) for k in extra),
+        *(head for head, _ in _NESTED_COLUMNS),
     ]
     rows = []
     for f in files:
@@ -345,6 +362,7 @@ def file_table_view(files: Sequence[Mapping[str, Any]], technique: str = "cv") -
             _yes_no(f.get("reversible")),
             _yes_no(f.get("used_in_fit")),
             *(_extra_cell(k, f.get(k)) for k in extra),
+            *(cell(f) for _, cell in _NESTED_COLUMNS),
         ]
         own = [fl for fl in f.get("flags") or [] if _severity(fl) != "info"]
         reason = f.get("excluded_by_user")
@@ -352,12 +370,58 @@ def file_table_view(files: Sequence[Mapping[str, Any]], technique: str = "cv") -
             {
                 "file": text(f.get("file")),
                 "label": text(f.get("label")),
-                "cells": cells,
+                # a cell wraps between its parts, never inside "value ± error"
+                "cells": [
+                    c.replace(" ± ", "\u00a0±\u00a0").replace("> ", ">\u00a0") for c in cells
+                ],  # fmt: skip
                 "flags": flag_view(own),
                 "excluded": text(reason) if reason else "",
             }
         )
+    heads, rows = _without_empty_columns(heads, rows)
     return {"heads": heads, "rows": rows, "notes": _notes(files)}
+
+
+def _nested_quantity(record: Mapping[str, Any], *path: str) -> Mapping[str, Any]:
+    for key in path:
+        inner = record.get(key) if isinstance(record, Mapping) else None
+        record = inner if isinstance(inner, Mapping) else {}
+    return record
+
+
+def _curve_fit(f: Mapping[str, Any]) -> str:
+    """E½ ± σ (mV) and k0 ± σ (or its lower bound) of the whole-curve fit; "n/d" without."""
+    e = _nested_quantity(f, "curve_fit", "E_half_V")
+    if not e:
+        return "n/d"
+    k0 = _nested_quantity(f, "curve_fit", "k0_cm_s")
+    bound = k0.get("lower_bound")
+    shown_k0 = (
+        f"> {bound:.2g}"
+        if isinstance(bound, (int, float))
+        else format_pm(k0.get("value"), k0.get("stderr"))
+    )
+    return f"{format_pm(e.get('value'), e.get('stderr'), scale=1e3)}; {shown_k0}"
+
+
+#: Columns of values inside a nested record of a file (the whole-curve fit), formatted.
+_NESTED_COLUMNS = (("curve fit: E½ / mV; k0 / cm s⁻¹", _curve_fit),)
+#: Cells that say nothing: a column holding only these in every row is left out.
+_EMPTY_CELLS = frozenset({"", "n/d"})
+
+
+def _without_empty_columns(
+    heads: list[str], rows: list[dict[str, Any]]
+) -> tuple[list[str], list[dict[str, Any]]]:
+    """*heads* and *rows* without the value columns that are empty in every row (the file
+    column, the first head, always stays)."""
+    keep = [
+        k for k in range(len(heads) - 1)
+        if not rows or any(row["cells"][k] not in _EMPTY_CELLS for row in rows)
+    ]  # fmt: skip
+    for row in rows:
+        row["cells"] = [row["cells"][k] for k in keep]
+    return [heads[0], *(heads[k + 1] for k in keep)], rows
 
 
 def series_notes(files: Sequence[Mapping[str, Any]]) -> list[tuple[str, str, list[str]]]:

@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+from pathlib import PurePath
+
+from cvfit.report.figures.print_style import FIGURE_FORMATS
 from cvfit.report.figures.registry import FIGURES, figure_names
 from cvfit.report.ownership import EarlierSet, cvfit_json
 
@@ -25,6 +28,8 @@ OUTPUT_NAMES = {
         for k in ("voltammograms", "lingane", "diagnostics")
     },
     "html_report": "report.html",
+    "si_table_csv": "si_table.csv",
+    "si_table_tex": "si_table.tex",
 }
 
 #: Figures written only for the stepwise model.
@@ -36,8 +41,18 @@ INTERNAL_STANDARD_NAME = FIGURES["internal_standard"].file_name
 #: The curve-fit figure, written only when some file was fitted as a whole curve.
 CURVE_FITS_NAME = FIGURES["curve_fits"].file_name
 
-#: Every file name a series analysis may write into its output folder.
-SERIES_OUTPUT_NAMES = frozenset((*OUTPUT_NAMES.values(), *figure_names()))
+#: Every file name a series analysis may write into its output folder (each figure in
+#: each of its formats, ``--figure-format``).
+SERIES_OUTPUT_NAMES = frozenset(
+    (
+        *OUTPUT_NAMES.values(),
+        *(
+            str(PurePath(n).with_suffix(f".{fmt}"))
+            for n in figure_names()
+            for fmt in FIGURE_FORMATS
+        ),
+    )
+)
 
 
 #: A series' output folder written before sets carried their record: only these names, and a

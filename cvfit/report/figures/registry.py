@@ -90,8 +90,9 @@ FIGURES: dict[str, FigureEntry] = {
         "curve_fits_figure",
         "curve_fits.png",
         "Curve fits: for each voltammogram whose E½ was sought from the whole curve, the data "
-        "(grey), the fitted model (dashed: refused) and the residuals in units of the noise σ "
-        "(band ±2).",
+        "(broad light-grey line) under the fitted model (thin line; dashed: refused), the "
+        "residuals in units of the noise σ (band ±2), and in the title the file, its [L] and "
+        "the fit's E½, k0, α and χ²ν.",
         f"{_F}.curve_fits:plot_curve_fits",
     ),
     "lingane": FigureEntry(

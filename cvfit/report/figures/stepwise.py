@@ -16,13 +16,16 @@ import numpy as np
 from cvfit.chemistry.complexation import log_leden_F0
 from cvfit.chemistry.speciation import leden_F_functions, mean_ligand_number, species_fractions
 from cvfit.pipeline.results import SeriesResult
+from cvfit.report.figures.legend_placement import legend_clear_of
+from cvfit.report.figures.print_style import ONE_COLUMN_IN, TWO_COLUMNS_IN
 from cvfit.report.figures.titration import (
     _STYLE,
     COLOUR_MAP,
     PER_LITRE,
     _save,
+    _set_title,
     _superscript,
-    figure_title,
+    apply_margins,
     plt,
 )
 from cvfit.report.headline import constant_lines
@@ -54,8 +57,8 @@ def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
     yerr = np.array(fit.ln_F0_stderr) * k * 1e3
     with plt.rc_context(_STYLE):
         fig, (ax, axr) = plt.subplots(
-            2, 1, figsize=(6.0, 5.2), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
-        )
+            2, 1, figsize=(ONE_COLUMN_IN, 3.9), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
+        )  # printed one column wide, as the Lingane line's figure
         ax.errorbar(
             np.log10(L),
             obs * 1e3,
@@ -85,19 +88,16 @@ def _shift(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
         )
         axr.set_ylabel("residual / mV")
         axr.set_xlabel(f"log10([L] / {PER_LITRE})")
-        ax.set_ylabel(f"E½(c) − E½(s) / mV  (E½(s) = {E0 * 1e3:.1f} mV)")
-        ax.legend(loc="best", frameon=False, fontsize=8)
+        ax.set_ylabel(f"E½(c) − E½(s) / mV\n(E½(s) = {E0 * 1e3:.1f} mV)")
         # the constants a reader looks for first, on the figure itself: under the title
-        ax.set_title(
-            "\n".join(
-                [
-                    figure_title(result.series.title or "half-wave shift"),
-                    *constant_lines(fit.to_dict()),
-                ]
-            ),
-            fontsize=9,
-        )
-        return _save(fig, path)
+        top = _set_title(ax, result.series.title or "half-wave shift", fontsize=8.0,
+                         extra=constant_lines(fit.to_dict()))  # fmt: skip
+        margins = (0.85, 0.1, 0.45, top)
+        fig.set_size_inches(ONE_COLUMN_IN, 3.0 + top)  # the plot keeps its height
+        apply_margins(fig, margins)  # the legend is measured at the final layout
+        legend_clear_of(ax, np.concatenate([np.log10(L), np.log10(xs)]),
+                        np.concatenate([obs, curve]) * 1e3, frameon=False, fontsize=7)  # fmt: skip
+        return _save(fig, path, margins_in=margins)
 
 
 def _leden(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
@@ -110,7 +110,10 @@ def _leden(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
     xs = np.linspace(0.0, L.max() * 1.05, 300)[1:]
     model = leden_F_functions(xs, np.exp(log_leden_F0(xs, betas)), betas, order=order)
     with plt.rc_context(_STYLE):
-        fig, axes = plt.subplots(1, order + 1, figsize=(3.2 * (order + 1), 3.4))
+        # three panels fill two journal columns (print_style): text stays >= 7 pt printed
+        fig, axes = plt.subplots(
+            1, order + 1, figsize=(TWO_COLUMNS_IN * (order + 1) / 3, 2.9), layout="constrained"
+        )
         axes = np.atleast_1d(axes)
         for j, ax in enumerate(axes):
             err = sF0 / L**j
@@ -136,7 +139,7 @@ def _species(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
     xs = 10.0 ** np.linspace(lo, hi, 400)
     cmap = plt.get_cmap(COLOUR_MAP)
     with plt.rc_context(_STYLE):
-        fig, axes = plt.subplots(1, 3, figsize=(10.5, 3.4))
+        fig, axes = plt.subplots(1, 3, figsize=(TWO_COLUMNS_IN, 2.9), layout="constrained")
         for ax, (name, betas) in zip(axes[:2], states.items(), strict=True):
             a = species_fractions(xs, betas)
             for j in range(a.shape[0]):
@@ -171,7 +174,7 @@ def _species(result: SeriesResult, fit: StepwiseFit, path: Path) -> Path:
             label="measured range",
         )
         ax.set_xlabel(f"log10([L] / {PER_LITRE})")
-        ax.set_ylabel("mean ligand number n̄ = d ln F0 / d ln[L]")
+        ax.set_ylabel("mean ligand number n̄\n= d ln F0 / d ln[L]")
         ax.legend(loc="upper left", frameon=False, fontsize=7)
         return _save(fig, path)
 

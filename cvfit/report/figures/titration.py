@@ -31,7 +31,8 @@ from cvfit.errors import printable  # noqa: E402
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
 from cvfit.quantity import t_quantile  # noqa: E402
 from cvfit.report.atomic import atomic_path  # noqa: E402
-from cvfit.report.figures.legend_placement import quiet_corner  # noqa: E402
+from cvfit.report.figures.legend_placement import legend_clear_of  # noqa: E402
+from cvfit.report.figures.print_style import ONE_COLUMN_IN, PNG_DPI, formats_in_force  # noqa: E402
 from cvfit.report.headline import constant_lines  # noqa: E402
 from cvfit.report.imported_columns import potential_kind  # noqa: E402
 from cvfit.techniques.curves import (
@@ -66,13 +67,22 @@ _STYLE: dict[RcKeyType, Any] = {
     "axes.spines.right": False,
     "axes.grid": True,
     "grid.alpha": 0.25,
-    "figure.dpi": 110,
+    "figure.dpi": 110,  # on screen (a notebook); the files: PNG_DPI
+    "savefig.dpi": PNG_DPI,
+    "pdf.fonttype": 42,  # TrueType in the PDF (editable text), not Type 3
     # no mathtext: a "$" in a user's title is shown as typed, and units are written with
     # Unicode superscripts (parsing mathtext cost ~50 ms per figure)
     "text.parse_math": False,
 }
 #: "mol L⁻¹" without mathtext.
 PER_LITRE = "mol L⁻¹"
+#: The current axis of every figure of voltammograms (one source: overlay, curve fits).
+CURRENT_LABEL = "i / µA  (anodic positive)"
+
+
+def potential_label(kind: str | None = None, reference: str | None = None) -> str:
+    """The potential axis of every figure of voltammograms: ``E / V vs Ag/AgCl``."""
+    return (f"E ({kind}) / V" if kind else "E / V") + (f" vs {reference}" if reference else "")
 
 
 _SUPERSCRIPT_DIGITS = str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹")
@@ -95,9 +105,18 @@ def _thin(
 PNG_COMPRESS_LEVEL = 1
 
 
+#: Options of each file format: no creation date in SVG and PDF (the same figure gives
+#: the same bytes).
+_FORMAT_OPTIONS: dict[str, dict[str, Any]] = {
+    "png": {"pil_kwargs": {"compress_level": PNG_COMPRESS_LEVEL}},
+    "svg": {"metadata": {"Date": None}},
+    "pdf": {"metadata": {"CreationDate": None}},
+}
+
+
 #: Average advance of a character as a fraction of the font size (DejaVu Sans, mixed
 #: text), to wrap titles to the figure width without measuring them.
-_CHAR_EM = 0.55
+_CHAR_EM = 0.6
 #: Height of one title line at 9 pt (font size and line spacing), inches.
 _TITLE_LINE_IN = 0.17
 
@@ -134,6 +153,18 @@ def _set_title(
     return 0.12 + _TITLE_LINE_IN * len(lines) * fontsize / 9.0
 
 
+def apply_margins(fig: Figure, margins_in: tuple[float, float, float, float]) -> None:
+    """Space around the axes of *fig*: ``(left, right, bottom, top)``, inches."""
+    width, height = fig.get_size_inches()
+    left, right, bottom, top = margins_in
+    fig.subplots_adjust(
+        left=left / width,
+        right=1.0 - right / width,
+        bottom=bottom / height,
+        top=1.0 - top / height,
+    )
+
+
 def _save(
     fig: plt.Figure, path: Path, *, margins_in: tuple[float, float, float, float] | None = None
 ) -> Path:
@@ -143,26 +174,21 @@ def _save(
     sized for our labels, so the figure is drawn once; without it the canvas is cropped
     to what was drawn (``bbox_inches="tight"``), which costs a second full drawing.
     """
-    fmt = path.suffix.lstrip(".") or "png"
-    extra: dict = {"pil_kwargs": {"compress_level": PNG_COMPRESS_LEVEL}} if fmt == "png" else {}
+    extra: dict[str, Any] = {}
     if margins_in is None:
         extra["bbox_inches"] = "tight"
     else:
-        width, height = fig.get_size_inches()
-        left, right, bottom, top = margins_in
-        fig.subplots_adjust(
-            left=left / width,
-            right=1.0 - right / width,
-            bottom=bottom / height,
-            top=1.0 - top / height,
-        )
+        apply_margins(fig, margins_in)
     kept = _KEPT.get()
     if kept is not None:  # a notebook asked for the Figure object, not a file
         kept.append(fig)
         plt.close(fig)  # detached from pyplot: shown once, where the caller shows it
         return path
-    with atomic_path(path) as tmp:
-        fig.savefig(tmp, format=fmt, **extra)
+    own = path.suffix.lstrip(".").lower() or "png"
+    for fmt in dict.fromkeys([own, *formats_in_force()]):
+        target = path if fmt == own else path.with_suffix(f".{fmt}")
+        with atomic_path(target) as tmp:
+            fig.savefig(tmp, format=fmt, **extra, **_FORMAT_OPTIONS.get(fmt, {}))
     plt.close(fig)
     return path
 
@@ -210,7 +236,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
     """Overlay the analysed cycle of every file, coloured by ligand concentration."""
     path = Path(path)
     with plt.rc_context(_STYLE):
-        fig, ax = plt.subplots(figsize=(6.4, 4.4))
+        fig, ax = plt.subplots(figsize=(ONE_COLUMN_IN, 3.0))  # printed one column wide
         positive = [f.ligand_M for f in result.files if f.ligand_M > 0]
         cmap = plt.get_cmap(COLOUR_MAP)
         norm: mcolors.LogNorm | None = None
@@ -239,7 +265,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             else:  # one legend entry for the ligand-free curves, however many
                 label = "no ligand" if f.ligand_M == 0 and not free_labelled else None
                 free_labelled = free_labelled or label is not None
-                ax.plot(E, i * 1e6, color="0.15", lw=1.1, ls="--", label=label)
+                ax.plot(E, i * 1e6, color="0.15", lw=1.0, ls="--", label=label)
         handles: list = []
         if segments and norm is not None:  # a titration curve is drawn only with a norm
             colours = cmap(norm(np.asarray(ligands)))  # one call for all curves
@@ -249,7 +275,7 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             if not flags.all():  # when every curve failed, the colours still tell [L] apart
                 colours[flags] = mcolors.to_rgba(FLAGGED_COLOUR)
             styles = [FLAGGED_STYLE if bad else "solid" for bad in flagged]
-            widths = [1.5 if bad else 1.1 for bad in flagged]
+            widths = [1.3 if bad else 1.0 for bad in flagged]
             ax.add_collection(
                 LineCollection(segments, colors=colours, linestyles=styles, linewidths=widths)
             )
@@ -268,20 +294,13 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
                         color="0.35" if flags.all() else FLAGGED_COLOUR,
                         ls=FLAGGED_STYLE,
                         lw=1.5,
-                        label=f"failed the screen,\n{fate} ({which} M)",
+                        label=f"failed the screen,\n{fate}\n({which} {PER_LITRE})",
                     )  # fmt: skip
                 )
         _draw_marks(ax, result.files, drawn, colours if segments else None)
         kind = potential_kind([f.imported_columns for f in result.files])
-        ax.set_xlabel(
-            (f"E ({kind}) / V" if kind else "E / V")
-            + (
-                f" vs {result.series.reference_electrode}"
-                if result.series.reference_electrode
-                else ""
-            )
-        )
-        ax.set_ylabel("i / µA  (anodic positive)")
+        ax.set_xlabel(potential_label(kind, result.series.reference_electrode))
+        ax.set_ylabel(CURRENT_LABEL)
         if norm is not None:
             sm = plt.cm.ScalarMappable(norm=norm, cmap=cmap)
             cb = fig.colorbar(sm, ax=ax, pad=0.02)
@@ -298,20 +317,18 @@ def plot_voltammograms(result: SeriesResult, path: str | Path) -> Path:
             ax.text(0.99, 0.01, f"{len(drawn)} of {titrating} titration curves drawn, evenly "
                     "over [L]", transform=ax.transAxes, ha="right", va="bottom", fontsize=7,
                     color="0.3")  # fmt: skip
+        top = _set_title(ax, result.series.title or "voltammograms", fontsize=8.0)
+        margins = (0.55, 0.6 if norm is not None else 0.15, 0.42, top)  # room: colour bar
         if any(f.ligand_M == 0 for f in result.files) or handles:
+            apply_margins(fig, margins)  # the legend is measured at the final layout
             xy = [*segments, *(ln.get_xydata() for ln in ax.get_lines())]
             if len(drawn) < titrating:  # keep clear of the note in the lower right
                 xy.append(np.array([[ax.get_xlim()[1], ax.get_ylim()[0]]]))
             drawn_xy = np.concatenate(xy) if xy else np.empty((0, 2))
             own, _ = ax.get_legend_handles_labels()
-            ax.legend(
-                handles=[*own, *handles],
-                loc=quiet_corner(ax, drawn_xy[:, 0], drawn_xy[:, 1]),
-                frameon=False,
-                fontsize=8,
-            )
-        top = _set_title(ax, result.series.title or "voltammograms")
-        return _save(fig, path, margins_in=(0.8, 0.35, 0.5, top))
+            legend_clear_of(ax, drawn_xy[:, 0], drawn_xy[:, 1], handles=[*own, *handles],
+                            frameon=False, fontsize=7, handlelength=1.6)  # fmt: skip
+        return _save(fig, path, margins_in=margins)
 
 
 #: Most curves whose baselines are drawn (beyond, only the peaks are marked).
@@ -402,7 +419,7 @@ def _points_with_bars(
 
 
 #: Left, right and bottom margins of the half-wave-shift figure, inches.
-_LINGANE_MARGINS_IN = (0.8, 0.2, 0.55)
+_LINGANE_MARGINS_IN = (0.75, 0.1, 0.45)
 
 
 def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
@@ -411,13 +428,13 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
     ref = result.reference.E_half_V
     with plt.rc_context(_STYLE):
         fig, (ax, axr) = plt.subplots(
-            2, 1, figsize=(6.0, 5.2), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
-        )
+            2, 1, figsize=(ONE_COLUMN_IN, 3.8), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
+        )  # printed one column wide
         pts = [f for f in result.files if f.ligand_M > 0 and f.E_half_V is not None]
         if ref is None or not pts:
             ax.text(0.5, 0.5, "no E½ shift could be measured", ha="center", transform=ax.transAxes)
             _pair_ticks(ax, axr)
-            top = _set_title(ax, result.series.title or "half-wave shift")
+            top = _set_title(ax, result.series.title or "half-wave shift", fontsize=8.0)
             return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
         x = np.log10([f.free_ligand_M for f in pts])
         y = np.array([(cast(float, f.E_half_V) - ref) * 1e3 for f in pts])  # not None: pts
@@ -471,8 +488,12 @@ def plot_lingane(result: SeriesResult, path: str | Path) -> Path:
         _pair_ticks(ax, axr, r_bins=3)
         shown_x = np.concatenate([x, xs]) if fit is not None else x
         shown_y = np.concatenate([y, line]) if fit is not None else y
-        ax.legend(loc=quiet_corner(ax, shown_x, shown_y), frameon=False, fontsize=8)
         # the result a reader looks for first, on the figure itself: under the title
         headline = constant_lines(fit.to_dict()) if fit is not None else []
-        top = _set_title(ax, result.series.title or "half-wave shift", extra=headline)
+        top = _set_title(ax, result.series.title or "half-wave shift", fontsize=8.0,
+                         extra=headline)  # fmt: skip
+        fig.set_size_inches(ONE_COLUMN_IN, 3.0 + top)  # the plot keeps its height
+        # the legend is measured at the final layout
+        apply_margins(fig, (*_LINGANE_MARGINS_IN, top))
+        legend_clear_of(ax, shown_x, shown_y, frameon=False, fontsize=7)
         return _save(fig, path, margins_in=(*_LINGANE_MARGINS_IN, top))
