@@ -212,6 +212,10 @@ def test_si_csv_numbers_are_those_of_results_json(demo):
         # two significant digits of the uncertainty (GUM 7.2.6, common practice)
         assert len(err.replace(".", "").lstrip("0")) == 2
         assert float(row["[L] total / mol L⁻¹"]) == pytest.approx(f["ligand_M"], rel=1e-3)
+        # the ligand-free file that gave E½(s) is marked so, not "no" (not left out)
+        gave = f["file"] in data["reference"]["files"]
+        expected = "E½(s)" if gave else ("yes" if f["used_in_fit"] else "no")
+        assert row["in fit"] == expected or row["in fit"].startswith("no:")
     constants = {r["constant"]: r for r in csv.DictReader(io.StringIO(constants_block))}
     ratio = constants["log10(βox/βred)"]
     q = data["fit"]["log10_beta_ratio"]

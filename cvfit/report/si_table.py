@@ -63,7 +63,18 @@ def _in_fit(f: Mapping[str, Any]) -> tuple[str, ...]:
     if reason:
         return (f"no: {reason}",)
     used = f.get("used_in_fit")
+    if not used and f.get("_gave_reference"):
+        return ("E½(s)",)  # the ligand-free reference: in the fit as its origin
     return ("" if used is None else ("yes" if used else "no"),)
+
+
+def _files(data: Mapping[str, Any]) -> list[Mapping[str, Any]]:
+    """The per-file records, each marked when it gave the reference E½(s)."""
+    ref = data.get("reference") or {}
+    gave = set(ref.get("files") or ()) if ref.get("E_half_V") is not None else set()
+    return [
+        {**f, "_gave_reference": f.get("file") in gave} for f in data.get("voltammograms") or []
+    ]
 
 
 def _plain(key: str) -> Callable[[Mapping[str, Any]], tuple[str, ...]]:
@@ -126,7 +137,7 @@ def _constant_rows(fit: Mapping[str, Any]) -> list[tuple[str, str, str, str, str
 
 def si_csv(data: Mapping[str, Any]) -> str:
     """The CSV text of the table of the results mapping *data*."""
-    files = list(data.get("voltammograms") or [])
+    files = _files(data)
     columns = _files_columns(files)
     out = io.StringIO()
     w = csv.writer(out, lineterminator="\n")
@@ -212,7 +223,7 @@ def _tabular(heads: Sequence[str], rows: Sequence[Sequence[str]], align: str) ->
 
 def si_latex(data: Mapping[str, Any]) -> str:
     """The LaTeX document of the table of the results mapping *data*."""
-    files = list(data.get("voltammograms") or [])
+    files = _files(data)
     columns = _files_columns(files)
     title = latex_text(str((data.get("series") or {}).get("title") or "untitled series"))
     file_rows = [[_tex_cell(c, f) for c in columns] for f in files]
