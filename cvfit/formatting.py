@@ -3,12 +3,13 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
     from cvfit.quantity import Quantity
 
-__all__ = ["format_pm", "format_q", "format_value", "pm_parts"]
+__all__ = ["additions_text", "format_pm", "format_q", "format_value", "pm_parts"]
 
 
 def _digits_for(stderr: float) -> int:
@@ -64,3 +65,16 @@ def format_q(q: Quantity, *, scale: float = 1.0, unit: str = "", digits: int | N
     if digits is None:
         digits = max(0, len(text.split(" ± ")[0].split(".")[-1])) if "." in text else 0
     return f"{text}   95 % CI [{lo * scale:.{digits}f}, {hi * scale:.{digits}f}]"
+
+
+def additions_text(table: Mapping[str, float]) -> str:
+    """The ``[titration]`` table of a titration by additions in words: ``"10 mL of
+    0.001 mol/L metal, ligand stock 0.1 mol/L added"`` (starting ligand and stock metal
+    named only when not 0)."""
+    cell = f"{table['start_volume_mL']:.4g} mL of {table['metal_M']:.4g} mol/L metal"
+    if table.get("ligand_M"):
+        cell += f" and {table['ligand_M']:.4g} mol/L ligand"
+    stock = f"ligand stock {table['ligand_stock_M']:.4g} mol/L"
+    if table.get("metal_stock_M"):
+        stock += f" (with {table['metal_stock_M']:.4g} mol/L metal)"
+    return f"{cell}; {stock} added"

@@ -95,6 +95,12 @@ def test_init_then_four_values_give_the_constants(bench, capsys):
     assert abs(ratio["value"] - TRUE_LOG10_RATIO) < 0.02
     assert abs(dl["value"] - TRUE_DELTA_LIGANDS) < 0.01
     assert all(v["reversible"] for v in data["voltammograms"])
+    assert data["series"]["titration"] == {
+        "start_volume_mL": START_ML, "metal_M": METAL_M, "ligand_M": 0.0,
+        "ligand_stock_M": STOCK_M, "metal_stock_M": 0.0,
+    }  # fmt: skip
+    report = (out / "report.html").read_text(encoding="utf-8")
+    assert "titration by additions" in report and "10 mL of 0.001 mol/L metal" in report
 
     # each solution by hand: V = 10 + a mL, c_M = 1e-3·10/V, c_L = 0.1·a/V
     by_name = {v["file"]: v for v in data["voltammograms"]}

@@ -36,3 +36,17 @@ def test_the_bundled_demo_validates_against_the_packaged_schemas():
     results = ROOT / "example_runs" / "demo" / "results" / "results.json"
     data = json.loads(results.read_text(encoding="utf-8"))
     jsonschema.Draft202012Validator(load_schema("results")).validate(data)
+
+
+def _no_duplicates(pairs):
+    keys = [k for k, _ in pairs]
+    repeated = sorted({k for k in keys if keys.count(k) > 1})
+    assert not repeated, f"keys given twice in one object: {repeated}"
+    return dict(pairs)
+
+
+@pytest.mark.parametrize("path", sorted((ROOT / "cvfit" / "schemas").glob("*.json")))
+def test_no_schema_gives_a_key_twice(path):
+    """A key written twice in one object is legal JSON, but the first copy is silently
+    lost (a merge once left results.schema.json with voltammogram keys twice)."""
+    json.loads(path.read_text(encoding="utf-8"), object_pairs_hook=_no_duplicates)

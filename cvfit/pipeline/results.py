@@ -25,6 +25,7 @@ from .half_wave import HalfWaveDecision
 
 if TYPE_CHECKING:  # imported for annotations only; keeps this module free of heavy imports
     from cvfit.io.manifest import SeriesSettings
+    from cvfit.io.manifest_titration import TitrationSettings
     from cvfit.techniques.curves import CycleCurve
     from cvfit.techniques.cv.curve.global_fit import GlobalCurveFit
     from cvfit.techniques.cv.screen.scan_rate import ScanRateStudy
@@ -218,11 +219,17 @@ class SeriesConditions:
         The ``[series]`` table of the manifest, as loaded (validated there).
     model : {"lingane", "stepwise", "proton", "temperature"}
         The titration model of ``[fit]``; the fit, when one could be made, is of its type.
+    technique : str
+        How the files were recorded (``[series] technique``).
+    titration : TitrationSettings or None
+        The ``[titration]`` table of a titration by additions (the cell before the first
+        addition and the stock), or None.
     """
 
     settings: SeriesSettings
     model: Literal["lingane", "stepwise", "proton", "temperature"]
     technique: str = "cv"
+    titration: TitrationSettings | None = None
 
     def __post_init__(self) -> None:
         if self.model not in MODEL_NAMES:
@@ -254,6 +261,7 @@ class SeriesConditions:
         record["temperature_K"] = self.temperature_K
         record["model"] = self.model
         record["technique"] = self.technique
+        record["titration"] = None if self.titration is None else asdict(self.titration)
         return record
 
 

@@ -334,7 +334,9 @@ def analyse_series(
     return SeriesResult(
         cvfit_version=__version__,
         manifest=str(manifest.path),
-        series=SeriesConditions(manifest.series, manifest.fit.model, technique_of(manifest).name),
+        series=SeriesConditions(
+            manifest.series, manifest.fit.model, technique_of(manifest).name, manifest.titration
+        ),
         files=tuple(final),
         reference=reference,
         fit=fit,

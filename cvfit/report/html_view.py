@@ -16,7 +16,7 @@ from pathlib import Path
 from typing import Any
 
 from cvfit.flag_codes import FLAG_CODES
-from cvfit.formatting import format_pm, format_value
+from cvfit.formatting import additions_text, format_pm, format_value
 from cvfit.record_json import record_json
 from cvfit.report.figures.registry import FIGURES
 from cvfit.report.methods_text import ASSUMPTIONS, METHOD_STEPS
@@ -212,6 +212,8 @@ def conditions_view(
         rows.append(("potentials vs", text(s["reference_electrode"])))
     if s.get("metal_total_M") is not None:
         rows.append(("total metal", f"{s['metal_total_M']:.4g} mol/L"))
+    if s.get("titration"):
+        rows.append(("titration by additions", additions_text(s["titration"])))
     src = ref.get("source")
     files = ", ".join(str(f) for f in ref.get("files") or [])
     if src != "none":  # a pH or temperature series needs no E½(s)

@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+from dataclasses import asdict
+
 from cvfit.errors import printable
-from cvfit.formatting import format_pm
+from cvfit.formatting import additions_text, format_pm
 from cvfit.pipeline.results import SeriesResult
 from cvfit.report.headline import headline_lines
 from cvfit.report.imported_columns import columns_lines
@@ -25,6 +27,8 @@ def format_summary(result: SeriesResult) -> str:
     if s.reference_electrode:
         cond += f", potentials vs {s.reference_electrode}"
     lines.append(cond)
+    if s.titration is not None:
+        lines.append("titration by additions: " + additions_text(asdict(s.titration)))
     ref = result.reference
     if ref.source != "none":  # a pH or temperature series needs no E½(s)
         lines.append(
