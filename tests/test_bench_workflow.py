@@ -12,6 +12,7 @@ metal is checked against the dilution worked out by hand in the test.
 from __future__ import annotations
 
 import json
+import re
 
 import numpy as np
 import pytest
@@ -101,6 +102,11 @@ def test_init_then_four_values_give_the_constants(bench, capsys):
     }  # fmt: skip
     report = (out / "report.html").read_text(encoding="utf-8")
     assert "titration by additions" in report and "10 mL of 0.001 mol/L metal" in report
+    heads = re.findall(r"<th>([^<]*)</th>", report)
+    first = heads.index("file")  # the per-file table: each solution's metal beside [L]
+    assert heads[first + 1 : first + 5] == [
+        "[L] / mol L⁻¹", "free [L] / mol L⁻¹", "total metal / mol L⁻¹", "volume / mL",
+    ]  # fmt: skip
 
     # each solution by hand: V = 10 + a mL, c_M = 1e-3·10/V, c_L = 0.1·a/V
     by_name = {v["file"]: v for v in data["voltammograms"]}
