@@ -63,6 +63,8 @@ def test_every_figure_in_every_format_and_valid(demo):
             assert min(im.info["dpi"]) >= 199.5  # written as 200 dpi (a float round-trip)
         svg = png.with_suffix(".svg")
         assert ET.parse(svg).getroot().tag.endswith("svg")
+        # text stays text (editable in a drawing program), not outlines
+        assert "<text" in svg.read_text(encoding="utf-8")
         assert png.with_suffix(".pdf").read_bytes()[:5] == b"%PDF-"
 
 
@@ -282,3 +284,34 @@ def test_si_csv_keeps_the_name_and_guards_formulas():
     assert rows[1][0] == "'=cmd|x.csv"
     assert rows[1][rows[0].index("E½ / mV")] == "-123.46"
     assert math.isclose(float(rows[1][rows[0].index("u(E½) / mV")]), 0.12)
+
+
+def _drawn_from(manifest: Path, folder: Path) -> dict[str, object]:
+    result = analyse_series(load_manifest(manifest))
+    figures = {}
+    for entry in figures_for(result):
+        with keep_figures() as kept:
+            draw_figure(entry, result, folder)
+        if kept:
+            figures[entry.file_name] = kept[0]
+    return figures
+
+
+@pytest.mark.parametrize(
+    "argv, name",
+    [
+        (["--temperatures-C", "15,25,35,45", "--entropy", "60"], "half_wave_temperature.png"),
+        (["--technique", "wave", "--ligand-M", "0,0.001,0.003,0.01", "--log-beta-ox", "4"],
+         "wave_log_plot.png"),
+        (["--pH-values", "2,3,4,5,6,7,8", "--pKa-ox", "4.5"], "half_wave_pH.png"),
+    ],
+)  # fmt: skip
+def test_single_plots_of_other_series_are_one_column_with_7_pt(tmp_path, argv, name):
+    """The pH, temperature and wave-log figures were 6.0–6.4 in wide (under 5 pt printed
+    one column wide): now drawn at one column, every text >= 7 pt."""
+    series = tmp_path / "s"
+    assert main(["simulate", "--series", "--e-half", "0.1", "--noise", "0.002",
+                 "--seed", "1", "--out", str(series), *argv]) == 0  # fmt: skip
+    fig = _drawn_from(series / "series.toml", tmp_path)[name]
+    assert fig.get_size_inches()[0] == pytest.approx(ONE_COLUMN_IN, abs=0.01)
+    assert _printed_min_pt(fig, ONE_COLUMN_IN) >= 7.0

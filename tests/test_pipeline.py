@@ -94,7 +94,7 @@ def test_round_trip_through_many_dialects(dialect_series):
 
 def test_series_conditions_and_criteria_are_records(dialect_series):
     """series and criteria are typed records; their JSON form is the [series] table as
-    given (plus T in K and the model) and the three screen margins."""
+    given (plus T in K, the model and the [titration] table) and the three screen margins."""
     from cvfit.pipeline.results import SeriesConditions
     from cvfit.reversibility_criteria import ReversibilityCriteria
     from cvfit.titration.lingane import LinganeFit
@@ -109,7 +109,8 @@ def test_series_conditions_and_criteria_are_records(dialect_series):
     data = result.to_dict()
     assert data["series"]["title"] == result.series.title == "simulated n=1"
     assert data["series"]["temperature_K"] == pytest.approx(298.15)
-    assert list(data["series"])[-2:] == ["temperature_K", "model"]
+    assert list(data["series"])[-3:] == ["temperature_K", "model", "titration"]
+    assert data["series"]["titration"] is None  # no [titration] table: not by additions
     assert data["series"]["technique"] == "cv"  # [series] technique, by default
     assert data["reversibility_criteria"] == {
         "n_delta_Ep_margin_V": 0.010,

@@ -15,6 +15,7 @@ import numpy as np
 from cvfit.chemistry.protonation import proton_half_wave_V, protonation_fractions
 from cvfit.pipeline.results import FileResult, SeriesResult
 from cvfit.report.figures.legend_placement import quiet_corner
+from cvfit.report.figures.print_style import ONE_COLUMN_IN
 from cvfit.report.figures.titration import _STYLE, _points_with_bars, _save, _set_title, plt
 from cvfit.report.headline import constant_lines
 from cvfit.titration.proton_result import ProtonFit
@@ -35,16 +36,15 @@ def _message(ax: plt.Axes, text: str) -> None:
 
 
 def _mark_pka(ax: plt.Axes, fit: ProtonFit) -> None:
-    """A vertical line at every pKa: oxidised form dashed, reduced form dotted."""
+    """A vertical line at every pKa (oxidised form dashed, reduced form dotted), named in
+    the legend: a label on the line itself collides with the slope labels at one column."""
     for pkas, style, colour, form in (
         (fit.pKa_ox, "--", _OX, "ox"),
         (fit.pKa_red, ":", _RED, "red"),
     ):
         for p in pkas:
             x = p.value.value
-            ax.axvline(x, color=colour, ls=style, lw=1.0)
-            ax.text(x, 0.98, f" pKa{p.j},{form} {x:.2f}", transform=ax.get_xaxis_transform(),
-                    rotation=90, va="top", ha="right", fontsize=7, color=colour)  # fmt: skip
+            ax.axvline(x, color=colour, ls=style, lw=1.0, label=f"pKa{p.j},{form} = {x:.2f}")
 
 
 def _label_slopes(ax: plt.Axes, fit: ProtonFit, E0: float) -> None:
@@ -61,7 +61,7 @@ def _label_slopes(ax: plt.Axes, fit: ProtonFit, E0: float) -> None:
         )
         flat = r.protons == 0  # a flat region: above the curve; a sloped one: beside it
         ax.annotate(
-            f"{1e3 * r.slope_V_per_pH:+.0f} mV/pH\n({r.protons:+d} H⁺/{fit.electrons} e⁻)",
+            f"{1e3 * r.slope_V_per_pH:+.0f} mV/pH\n{r.protons:+d} H⁺/{fit.electrons} e⁻",
             (mid, float(y) * 1e3),
             textcoords="offset points",
             xytext=(0, 8) if flat else (8, 4),
@@ -78,7 +78,7 @@ def plot_proton_half_wave(result: SeriesResult, path: str | Path) -> Path:
     fit = result.fit if isinstance(result.fit, ProtonFit) else None
     with plt.rc_context(_STYLE):
         fig, (ax, axr) = plt.subplots(
-            2, 1, figsize=(6.4, 5.4), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
+            2, 1, figsize=(ONE_COLUMN_IN, 4.0), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
         )
         pts = _points(result)
         if not pts:
@@ -123,7 +123,7 @@ def plot_proton_half_wave(result: SeriesResult, path: str | Path) -> Path:
         ax.set_ylabel(f"E½ / mV{ref}")
         axr.set_ylabel("residual / mV")
         axr.set_xlabel("pH  ([H⁺] = 10^−pH, an activity)")
-        ax.legend(loc=quiet_corner(ax, shown_x, shown_y), frameon=False, fontsize=8)
+        ax.legend(loc=quiet_corner(ax, shown_x, shown_y), frameon=False, fontsize=7)
         headline = constant_lines(fit.to_dict()) if fit is not None else []
         top = _set_title(ax, result.series.title or "E½ against pH", extra=headline)
         return _save(fig, path, margins_in=(*_MARGINS_IN, top))
@@ -134,7 +134,7 @@ def plot_proton_fractions(result: SeriesResult, path: str | Path) -> Path:
     path = Path(path)
     fit = result.fit if isinstance(result.fit, ProtonFit) else None
     with plt.rc_context(_STYLE):
-        fig, axes = plt.subplots(2, 1, figsize=(6.0, 5.0), sharex=True)
+        fig, axes = plt.subplots(2, 1, figsize=(ONE_COLUMN_IN, 3.8), sharex=True)
         if fit is None:
             _message(axes[0], "no fit: no protonation states to draw")
             top = _set_title(axes[0], result.series.title or "protonation states")

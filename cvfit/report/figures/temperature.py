@@ -15,6 +15,7 @@ import numpy as np
 from cvfit.pipeline.results import SeriesResult
 from cvfit.quantity import t_quantile
 from cvfit.report.figures.legend_placement import quiet_corner
+from cvfit.report.figures.print_style import ONE_COLUMN_IN
 from cvfit.report.figures.titration import _STYLE, _points_with_bars, _save, _set_title, plt
 from cvfit.report.headline import constant_lines
 from cvfit.titration.temperature_model import TemperatureFit
@@ -32,7 +33,7 @@ def plot_temperature_half_wave(result: SeriesResult, path: str | Path) -> Path:
     fit = result.fit if isinstance(result.fit, TemperatureFit) else None
     with plt.rc_context(_STYLE):
         fig, (ax, axr) = plt.subplots(
-            2, 1, figsize=(6.0, 5.2), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
+            2, 1, figsize=(ONE_COLUMN_IN, 3.9), sharex=True, gridspec_kw={"height_ratios": [3, 1]}
         )
         pts = [f for f in result.files if f.temperature_K is not None and f.E_half_V is not None]
         if not pts:

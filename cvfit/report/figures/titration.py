@@ -70,6 +70,7 @@ _STYLE: dict[RcKeyType, Any] = {
     "figure.dpi": 110,  # on screen (a notebook); the files: PNG_DPI
     "savefig.dpi": PNG_DPI,
     "pdf.fonttype": 42,  # TrueType in the PDF (editable text), not Type 3
+    "svg.fonttype": "none",  # text in the SVG stays text (editable), not outlines
     # no mathtext: a "$" in a user's title is shown as typed, and units are written with
     # Unicode superscripts (parsing mathtext cost ~50 ms per figure)
     "text.parse_math": False,
@@ -146,7 +147,11 @@ def _set_title(
         lines = lines[:MAX_TITLE_LINES]
         lines[-1] = lines[-1][: per_line - 1] + "…"
     for line in extra:
-        lines += textwrap.wrap(line, per_line, break_long_words=True)
+        # a constant too long for one line breaks before its interval, not inside it
+        head, sep, interval = line.partition(", 95 % CI ")
+        parts = [head + ",", "95 % CI " + interval] if sep and len(line) > per_line else [line]
+        for part in parts:
+            lines += textwrap.wrap(part, per_line, break_long_words=True)
     # an explicit y: matplotlib then skips measuring every tick label of the axes to
     # place the title (~20 % of drawing a figure); no axes here has labels on top
     ax.set_title("\n".join(lines), fontsize=fontsize, y=1.0)

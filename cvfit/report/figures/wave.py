@@ -20,6 +20,8 @@ import numpy as np  # noqa: E402
 from matplotlib import colors as mcolors  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
+from cvfit.report.figures.legend_placement import quiet_corner  # noqa: E402
+from cvfit.report.figures.print_style import ONE_COLUMN_IN  # noqa: E402
 from cvfit.report.figures.titration import (  # noqa: E402
     _STYLE,
     COLOUR_MAP,
@@ -48,7 +50,9 @@ def plot_wave_log(result: SeriesResult, path: str | Path) -> Path | None:
     norm = mcolors.Normalize(min(ligands), max(ligands) if max(ligands) > min(ligands) else 1.0)
     cmap = plt.get_cmap(COLOUR_MAP)
     with plt.rc_context(_STYLE):
-        fig, ax = plt.subplots(figsize=(6.4, 4.6))
+        fig, ax = plt.subplots(figsize=(ONE_COLUMN_IN, 3.2))
+        xs: list[np.ndarray] = []
+        ys: list[np.ndarray] = []
         for f, fit, curve in drawn:
             z = fit.fraction(curve.potential_V, curve.current_A)
             keep = (z > 0.05) & (z < 0.95)
@@ -56,6 +60,8 @@ def plot_wave_log(result: SeriesResult, path: str | Path) -> Path | None:
             E = 1e3 * curve.potential_V[keep]
             colour = cmap(norm(f.ligand_M)) if f.reversible else FLAGGED_COLOUR
             ax.plot(x, E, ".", ms=3, color=colour)
+            xs.append(x)
+            ys.append(E)
             line = np.array([-1.2, 1.2])
             ax.plot(line, 1e3 * (fit.E_half_V + fit.log_slope_V * line), "-", lw=0.8,
                     color=colour)  # fmt: skip
@@ -66,13 +72,14 @@ def plot_wave_log(result: SeriesResult, path: str | Path) -> Path | None:
             [],
             "-",
             color="0.3",
-            label=f"fitted lines (reversible: {slope:.1f} mV/decade, n = {n})",
+            label=f"fitted lines\n(reversible: {slope:.1f} mV/decade, n = {n})",
         )
         if not all(f.reversible for f in files):
             ax.plot([], [], ".", color=FLAGGED_COLOUR, label="failed the wave screen")
         ax.set_xlabel("log10((i_l − i)/i)")
         ax.set_ylabel("E / mV")
-        ax.legend(loc="best", fontsize=8)
+        corner = quiet_corner(ax, np.concatenate(xs), np.concatenate(ys))
+        ax.legend(loc=corner, fontsize=7, frameon=False)
         sm = plt.cm.ScalarMappable(norm=norm, cmap=cmap)
         fig.colorbar(sm, ax=ax, label="total ligand / mol L⁻¹")
         _set_title(ax, f"{result.series.title}: log plot of the waves")
