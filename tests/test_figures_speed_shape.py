@@ -112,7 +112,13 @@ def test_diagnostics_labels_at_most_the_cap(result, tmp_path, monkeypatch):
     # one scan rate for the whole series: named once in the axis label, not per file
     assert all(label.endswith(" M") for label in labels)
     assert "V/s" in bottom.get_xlabel()
-    assert fig.get_size_inches()[0] <= figures_diagnostics.MAX_WIDTH_IN
+    # two columns (17.8 cm, common journal practice) at most, every text >= 7 pt there
+    width = fig.get_size_inches()[0]
+    assert width <= 17.8 / 2.54 + 1e-9
+    from matplotlib.text import Text
+
+    sizes = [t.get_fontsize() for t in fig.findobj(Text) if t.get_visible() and t.get_text()]
+    assert min(sizes) * (17.8 / 2.54) / width >= 7.0
     # every file is still plotted: one marker per file with a measured ΔEp
     top = fig.axes[0]
     plotted = sum(len(ln.get_xdata()) for ln in top.get_lines() if ln.get_linestyle() == "None")

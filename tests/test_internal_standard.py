@@ -276,3 +276,27 @@ def test_summary_says_potentials_are_against_the_standard_and_its_drift(drifting
     spans = [f.internal_standard.E_half_V for f in result.files]
     assert f"spans {1e3 * (max(spans) - min(spans)):.2f} mV" in line
     assert abs((max(spans) - min(spans)) - np.ptp(series.drift_V)) < 1e-3
+
+
+def test_a_long_series_keeps_its_standard_figure_two_columns_wide(drifting_series, tmp_path):
+    """60 files: the figure was 0.45 in per file wide (29 in; lettering under 3 pt once
+    printed two columns wide, 17.8 cm — common journal practice); now at most two
+    columns, every text >= 7 pt there, and at most 20 files labelled."""
+    from dataclasses import replace
+
+    from matplotlib.text import Text
+
+    from cvfit.report.figures.internal_standard import plot_internal_standard
+    from cvfit.report.figures.titration import keep_figures
+
+    _, result, _ = drifting_series
+    many = replace(result, files=tuple(result.files) * 7)  # 63 files
+    with keep_figures() as kept:
+        plot_internal_standard(many, tmp_path / "i.png")
+    fig = kept[0]
+    width = fig.get_size_inches()[0]
+    assert width <= 17.8 / 2.54 + 1e-9
+    sizes = [t.get_fontsize() for t in fig.findobj(Text) if t.get_visible() and t.get_text()]
+    assert min(sizes) * (17.8 / 2.54) / width >= 7.0
+    labels = [t.get_text() for t in fig.axes[1].get_xticklabels() if t.get_text()]
+    assert 0 < len(labels) <= 20

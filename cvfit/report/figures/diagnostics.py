@@ -23,14 +23,15 @@ from matplotlib.ticker import FixedLocator, MaxNLocator  # noqa: E402
 
 from cvfit.pipeline.results import FileResult, SeriesResult  # noqa: E402
 from cvfit.report.figures.legend_placement import quiet_corner  # noqa: E402
+from cvfit.report.figures.print_style import TWO_COLUMNS_IN  # noqa: E402
 from cvfit.report.figures.titration import _STYLE, _save, _set_title  # noqa: E402
 from cvfit.techniques.cv.measurement import CVMeasurement  # noqa: E402
 
 __all__ = ["plot_diagnostics"]
 
-#: Widest figure, inches, and most files labelled on the axis (a large series labels
-#: every k-th file and keeps the figure readable in the report).
-MAX_WIDTH_IN = 14.0
+#: Widest figure, inches (two columns: lettering >= 7 pt printed), and most files labelled
+#: on the axis (a large series labels every k-th file and stays readable).
+MAX_WIDTH_IN = TWO_COLUMNS_IN
 MAX_TICK_LABELS = 20
 
 _MARKERS = {

@@ -19,6 +19,8 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
 from cvfit.pipeline.results import SeriesResult  # noqa: E402
+from cvfit.report.figures.diagnostics import MAX_TICK_LABELS  # noqa: E402
+from cvfit.report.figures.print_style import TWO_COLUMNS_IN  # noqa: E402
 from cvfit.report.figures.titration import _STYLE, _save, _set_title  # noqa: E402
 from cvfit.report.output_names import INTERNAL_STANDARD_NAME  # noqa: E402
 
@@ -57,7 +59,10 @@ def plot_internal_standard(result: SeriesResult, path: str | Path) -> Path:
     labels = [f"{f.ligand_M * 1e3:g}" for f in files]
     with plt.rc_context(_STYLE):
         fig, (ax, bx) = plt.subplots(
-            2, 1, figsize=(max(6.0, 0.45 * len(files) + 2.5), 5.6), sharex=True
+            2,
+            1,
+            figsize=(min(TWO_COLUMNS_IN, max(6.0, 0.45 * len(files) + 2.5)), 5.6),
+            sharex=True,
         )
         ax.errorbar(x, drift, yerr=1e3 * np.nan_to_num(se_std), fmt="none", ecolor="0.45")
         ax.plot(x, drift, color=_STD_COLOUR, lw=1.0)
@@ -98,6 +103,8 @@ def plot_internal_standard(result: SeriesResult, path: str | Path) -> Path:
             bx.text(0.5, 0.5, "fewer than three titration points", ha="center",
                     transform=bx.transAxes)  # fmt: skip
         bx.set_xlabel("total ligand / mmol L⁻¹ (files in series order)")
-        bx.set_xticks(x, labels, rotation=45 if len(files) > 10 else 0)
+        # at most MAX_TICK_LABELS labels: the figure stays two columns wide (lettering >= 7 pt)
+        step = max(1, -(-len(files) // MAX_TICK_LABELS))
+        bx.set_xticks(x[::step], labels[::step], rotation=45 if len(files) > 10 else 0)
         fig.subplots_adjust(top=1 - top / 5.6, hspace=0.12)
         return _save(fig, path)
