@@ -104,7 +104,7 @@ def _self_consistent(
     References
     ----------
     Brent, R. P. Algorithms for Minimization without Derivatives; Prentice-Hall, 1973,
-    ch. 4 (the bracketing root finder).
+    ch. 4 (the bracketing root finder; from memory).
     """
     metal = manifest.series.metal_total_M
     p_max = _most_bound(data, metal, bound)
@@ -143,7 +143,7 @@ def _feedback(
     References
     ----------
     Rudin, W. Principles of Mathematical Analysis, 3rd ed.; McGraw-Hill, 1976, theorem 9.28
-    (implicit functions).
+    (implicit functions; from memory).
     """
     metal = manifest.series.metal_total_M
     h = 1e-4 * max(p_star, 1.0)
