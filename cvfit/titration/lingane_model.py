@@ -191,6 +191,8 @@ def _settle_free_ligand(
     new = _line(points, data, manifest, jac)
     if isinstance(new, FitRefused) or jac is None:
         return fit, list(data.points), False
+    if abs(new.delta_ligands.value - p_star) > 1e-6 * max(p_star, 1.0):
+        return fit, list(data.points), False  # a jump of G (the weighting), not a root
     return _at_integer(new, data, manifest, bound), points, True
 
 
