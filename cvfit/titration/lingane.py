@@ -277,6 +277,7 @@ def fit_lingane(
     weighting: Literal["auto", "none", "stderr"] = "auto",
     curvature_alpha: float = 0.01,
     reference_count: int = 1,
+    feedback: tuple[tuple[float, float], tuple[float, float]] | None = None,
 ) -> LinganeFit | FitRefused:
     """Fit Lingane's line to E½ values of a titration and derive p − q and the β ratio.
 
@@ -305,6 +306,11 @@ def fit_lingane(
         Number of ligand-free files averaged into E½(s). When the reference takes the
         scatter of the points (see Notes), a mean of M files scatters M times less in
         variance; ``reference_stderr_V`` (which includes their own spread) stays a floor.
+    feedback : 2 x 2 matrix, optional
+        Jacobian J of the self-consistent (slope, intercept) on the line's own when [L]
+        depends on the fitted p − q (:mod:`cvfit.titration.lingane_model`): the fitted
+        and within-file covariances become J·Cov·Jᵀ before the intervals (the reference
+        term is added after). ``None``: [L] exact.
 
     Returns
     -------
@@ -390,6 +396,8 @@ def fit_lingane(
     dof = line.dof
     scale = line.reduced_chi_square
     cov = line.covariance * scale
+    jac = None if feedback is None else np.asarray(feedback, dtype=float)
+    cov = cov if jac is None else jac @ cov @ jac.T
     s_ref_given = s_ref
     if weighting == "auto" and have_sigma and not credible:
         # The reference stderr comes from the same per-file analysis whose errors were
@@ -409,6 +417,8 @@ def fit_lingane(
     design = np.column_stack([x, np.ones_like(x)])
     wts = np.ones_like(x) if w_sigma is None else 1.0 / w_sigma**2
     within = None if sigma is None else within_file_variance(design, wts, sigma)
+    if within is not None and jac is not None:
+        within = jac @ within @ jac.T
     noise = np.zeros_like(x) if sigma is None else sigma
     s2_extra = extra_scatter_variance(design, wts, line.residuals, noise)
 

@@ -26,13 +26,20 @@ __all__ = ["StepwiseModel", "STEPWISE", "current_ratios"]
 
 
 def current_ratios(
-    used: Sequence[TitrationPoint], references: Sequence[TitrationPoint]
+    used: Sequence[TitrationPoint],
+    references: Sequence[TitrationPoint],
+    *,
+    series_metal_M: float | None = None,
 ) -> tuple[list[float | None], list[Flag]]:
     """ln(Is/Ic) per used point, from the diffusion currents (DeFord & Hume 1951).
 
     Is is the mean of the ligand-free files' currents. When any current is missing (no
     ligand-free file, a first sweep that is an oxidation, a missing peak) no point is
     corrected and a flag says why: mixing corrected and uncorrected points would bias.
+    A diffusion current is proportional to the metal concentration (Randles–Ševčík), so
+    when every solution's metal is known (its own, a titration by additions, else
+    *series_metal_M*) each current is divided by it: the ratio then compares diffusion
+    coefficients only, not the dilution (which would add up to ln(V/V0) to the shift).
 
     References
     ----------
@@ -60,21 +67,31 @@ def current_ratios(
             )
         )
 
-    def per_root_v(p: TitrationPoint) -> float:
-        # v^½ normalises the Randles–Ševčík peak current
-        v = p.scan_rate_V_s
-        return float(p.diffusion_current_A) / (math.sqrt(v) if v else 1.0)  # type: ignore[arg-type]
+    metals = [p.metal_or(series_metal_M) for p in (*refs, *used)]
+    per_metal = all(m is not None and m > 0 for m in metals)
 
-    Is = [per_root_v(p) for p in refs]
-    Ic = [per_root_v(p) for p in used]
+    def normalised(p: TitrationPoint) -> float:
+        # v^½ and the metal concentration normalise the Randles–Ševčík peak current
+        v = p.scan_rate_V_s
+        c = (p.metal_or(series_metal_M) or 1.0) if per_metal else 1.0
+        current = float(p.diffusion_current_A or 0.0)  # every one > 0 (checked above)
+        return current / (math.sqrt(v) if v else 1.0) / c
+
+    Is = [normalised(p) for p in refs]
+    Ic = [normalised(p) for p in used]
     s = float(np.mean(Is))
     ratios = [math.log(s / x) for x in Ic]
+    basis = (
+        "each current divided by its solution's metal concentration"
+        if per_metal
+        else "this assumes the same metal concentration in every solution — give the "
+        "metal (metal_total_M or a [titration] table), or set current_ratio_correction "
+        "= false"
+    )
     flag = Flag(
         "CURRENT_RATIO_APPLIED",
         f"ln(Is/Ic) from the reduction peak currents, {min(ratios):+.3f} to "
-        f"{max(ratios):+.3f}, added to the shift (DeFord–Hume); this assumes the same "
-        "metal concentration in every solution — correct for dilution first, or set "
-        "current_ratio_correction = false",
+        f"{max(ratios):+.3f}, added to the shift (DeFord–Hume); {basis}",
         "info",
     )
     return list(ratios), [*flags, flag]
@@ -189,7 +206,9 @@ class StepwiseModel:
         flags: list[Flag] = []
         ratios: list[float | None] = [None] * len(used)
         if settings.current_ratio_correction:
-            ratios, flags = current_ratios(used, data.reference_points)
+            ratios, flags = current_ratios(
+                used, data.reference_points, series_metal_M=series.metal_total_M
+            )
         points = [
             StepwisePoint(
                 p.label,
