@@ -291,8 +291,10 @@ _CATALOGUE = (
              also=(_I,)),
     FlagCode("COMPLEX_BARELY_FORMED", _W, "A complex never reaches a notable fraction of the "
              "metal over the measured range; its β_j rests on a small effect."),
-    FlagCode("FREE_LIGAND_NOT_CONVERGED", _W, "Free ligand and constants did not settle in "
-             "the allowed number of mass-balance rounds."),
+    FlagCode("FREE_LIGAND_NOT_CONVERGED", _W, "No self-consistent free ligand was found: "
+             "the stepwise model's mass-balance rounds did not settle, or (Lingane) no p − q "
+             "reproduces itself at c_L − (p − q)·c_M; the last fit is reported — give "
+             "bound_ligand_number."),
     FlagCode("UNWEIGHTED_STEPWISE", _I, "No per-file E½ errors: equal weights, scale from "
              "the residual scatter."),
     FlagCode("CURRENT_RATIO_APPLIED", _I, "The DeFord–Hume term ln(Is/Ic) from the reduction "

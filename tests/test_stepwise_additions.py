@@ -67,3 +67,25 @@ def test_stepwise_on_a_titration_by_additions_finds_the_one_complex(tmp_path):
     assert [b["j"] for b in determined] == [2]
     lo, hi = determined[0]["ci95"]
     assert lo <= 10.0 <= hi and hi - lo < 0.05
+
+
+def test_the_global_stepwise_fit_compares_current_scales_per_unit_metal(tmp_path):
+    """The global curve fit's DeFord–Hume term (from each curve model's current scale
+    s = nFAC√D) read the dilution as a change of D as well: on this series it refused
+    itself (reduced χ² 11.6). Per unit metal the truth (ML2 alone, log10 β2 = 10) is
+    inside its interval."""
+    out = tmp_path / "s"
+    assert main([
+        "simulate", "--series", "--e-half", "-0.2", "--log-beta-ox=-5,10",
+        "--added-mL", "0,0.5,1,2,3,5", "--start-volume-mL", "10", "--metal-M", "1e-3",
+        "--ligand-stock-M", "0.1", "--noise", "0.003", "--seed", "3", "--out", str(out),
+    ]) == 0  # fmt: skip
+    text = (out / "series.toml").read_text(encoding="utf-8")
+    fit = '[fit]\nmodel = "stepwise"\ncurrent_ratio_correction = true\nglobal = true\n\n'
+    (out / "series.toml").write_text(text.replace("[titration]", fit + "[titration]"))
+    result = analyse_series(load_manifest(out / "series.toml"))
+    assert not any(f.code == "GLOBAL_FIT_REFUSED" for f in result.flags)
+    g = result.global_fit
+    assert g is not None
+    beta2 = next(b for b in g.to_dict()["log10_beta"] if b["j"] == 2)
+    assert beta2["ci95"][0] <= 10.0 <= beta2["ci95"][1]

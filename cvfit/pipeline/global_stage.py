@@ -65,7 +65,8 @@ def _current_terms(
 
     Only where the two-step fit applied the term with the reduced form not complexed (then
     the term is ln(Is/Ic) alone); the scale s = nFAC√D is solved in closed form at the
-    two-step E½ (and k0, α of a curve-fitted file), one simulation per file.
+    two-step E½ (and k0, α of a curve-fitted file), one simulation per file, and divided
+    by each solution's metal when all are known (as the two-step fit's currents are).
     """
     if fit.fixed_log10_beta or not any(f.code == "CURRENT_RATIO_APPLIED" for f in fit.flags):
         return None
@@ -75,6 +76,11 @@ def _current_terms(
         lk = math.inf if m.log10_k0 is None else m.log10_k0
         lin = m.model.evaluate(E[m.name], lk, m.alpha or 0.5, m.resistance_ohm, m.D_ratio)
         scale[m.name] = abs(float(lin.coefficients[0]))
+    # s ∝ C (Randles–Ševčík): with every solution's metal known, compare s/C, so that the
+    # dilution of a titration by additions is not read as a change of D
+    metal = {f.file: f.metal_M if f.metal_M is not None else series.metal_total_M for f in chosen}
+    if all((metal.get(m.name) or 0.0) > 0 for m in members):
+        scale = {name: s / cast(float, metal[name]) for name, s in scale.items()}
     refs = [scale[m.name] for m in members if m.ligand_M == 0.0]
     k = thermal_voltage(series.temperature_K, series.electrons)
     s_ref = sum(refs) / len(refs)
