@@ -15,69 +15,37 @@ Existing files are never replaced unless ``--force`` is given.
 from __future__ import annotations
 
 import argparse
-import math
 import os
 import sys
 from pathlib import Path
 
 from cvfit.cli.simulate_additions import add_addition_options, handle_additions, wants_additions
 from cvfit.cli.simulate_technique import (
-    TECHNIQUE_BOUNDS,
     TECHNIQUE_EPILOG,
     add_technique_options,
     handle_technique,
 )
+from cvfit.cli.simulate_values import CMD as _CMD
+from cvfit.cli.simulate_values import DEFAULT_MARGIN_V as _DEFAULT_MARGIN_V
+from cvfit.cli.simulate_values import (
+    GRID_POINTS,
+    MAX_SAMPLES,
+    MAX_SERIES_FILES,
+    MAX_SERIES_SAMPLES,
+    MIN_TITRATION_FILES,
+)
+from cvfit.cli.simulate_values import bounded as _bounded
+from cvfit.cli.simulate_values import concentration as _concentration
+from cvfit.cli.simulate_values import number as _number
+from cvfit.cli.simulate_values import number_list as _list
+from cvfit.cli.simulate_values import optional_positive as _optional_positive
+from cvfit.cli.simulate_values import whole as _whole
 from cvfit.cli.simulate_variables import (
     add_variable_options,
     handle_variable_series,
     wants_variable_series,
 )
 from cvfit.errors import InputError, OutputError, SimulationError
-
-_CMD = "<command line>"
-# half-width of the default potential window around the E½ values, V
-_DEFAULT_MARGIN_V = 0.3
-
-#: Most samples one voltammogram may have (cycles × path length / step): its CSV then stays
-#: under the 64 MiB cvfit reads per data file, and it takes some 20 s to write.
-MAX_SAMPLES = 1_000_000
-#: Most files of a series, and most samples of all its files together (some minutes).
-MAX_SERIES_FILES = 5_000
-MAX_SERIES_SAMPLES = 10_000_000
-#: Most points of the simulator's space grid (``cvfit.simulate.voltammogram.MAX_GRID_POINTS``,
-#: repeated here so that the help loads no numerical library; a test holds them equal).
-GRID_POINTS = 1_000
-#: Files with ligand that ``cvfit run`` needs (``cvfit.pipeline.series.MIN_FIT_POINTS``).
-MIN_TITRATION_FILES = 3
-
-#: flag -> (lowest, highest) accepted, in the flag's unit: values a cell can have, wide
-#: enough for any experiment and narrow enough that no number of the simulation overflows.
-BOUNDS = {
-    "--e-half": (-10.0, 10.0),
-    "--start": (-10.0, 10.0),
-    "--switch": (-10.0, 10.0),
-    "--standard-e-half": (-10.0, 10.0),
-    "--electrons": (1, 10),
-    "--scan-rate": (1e-6, 1e6),
-    "--step": (1e-6, 0.1),
-    "--k0": (1e-12, 1e6),
-    "--diffusion": (1e-12, 1.0),
-    "--diffusion-red": (1e-12, 1.0),
-    "--diffusion-ox-complexed": (1e-12, 1.0),
-    "--diffusion-red-complexed": (1e-12, 1.0),
-    "--area": (1e-8, 1e4),
-    "--temperature-C": (0.0, 100.0),
-    "--cdl": (0.0, 1.0),
-    "--slope": (-1.0, 1.0),
-    "--offset": (-1.0, 1.0),
-    "--resistance": (0.0, 1e9),
-    "--noise": (0.0, 10.0),
-    "--ligand-M": (0.0, 20.0),
-    "--log-beta-ox": (-100.0, 100.0),
-    "--log-beta-red": (-100.0, 100.0),
-    "--drift-step": (0.0, 0.1),
-    **TECHNIQUE_BOUNDS,
-}
 
 SIMULATE_EPILOG = (
     f"""\
@@ -231,78 +199,6 @@ def _check_series_only(args: argparse.Namespace) -> None:
             source=_CMD,
             key=flag,
         )
-
-
-def _number(text: object, flag: str, *, minimum: float | None = None, strict: bool = False):
-    try:
-        x = float(str(text).strip())
-    except ValueError:
-        raise InputError(f"{flag} needs a number, got {text!r}", source=_CMD, key=flag) from None
-    if not math.isfinite(x):
-        raise InputError(f"{flag} must be finite, got {text!r}", source=_CMD, key=flag)
-    if minimum is not None and (x < minimum or (strict and x == minimum)):
-        rel = ">" if strict else ">="
-        raise InputError(f"{flag} must be {rel} {minimum:g}, got {text!r}", source=_CMD, key=flag)
-    return _bounded(x, flag)
-
-
-def _bounded(x: float, flag: str) -> float:
-    """*x* when it lies within :data:`BOUNDS` of *flag* (a flag without bounds: any)."""
-    lo, hi = BOUNDS.get(flag, (-math.inf, math.inf))
-    if not lo <= x <= hi:
-        raise InputError(
-            f"{flag} {x:g} is outside what cvfit simulate takes ({lo:g} to {hi:g}); see "
-            "'cvfit simulate --help'",
-            source=_CMD,
-            key=flag,
-        )
-    return x
-
-
-#: Above this a --concentration is taken for a value in mM (the unit before mol/L).
-_MAX_CONCENTRATION_M = 1.0
-
-
-def _concentration(text: object) -> float:
-    """--concentration in mol/L; a value above 1 mol/L is refused as a likely mM value."""
-    c = _number(text, "--concentration", minimum=0, strict=True)
-    if c > _MAX_CONCENTRATION_M:
-        raise InputError(
-            f"--concentration is in mol/L, got {c:g} mol/L; for {c:g} mM give {c * 1e-3:g}",
-            source=_CMD,
-            key="--concentration",
-        )
-    return c
-
-
-def _optional_positive(text: object, flag: str) -> float | None:
-    return None if text is None else _number(text, flag, minimum=0.0, strict=True)
-
-
-def _whole(text: object, flag: str) -> int:
-    try:
-        k = int(str(text).strip())
-    except ValueError:
-        raise InputError(
-            f"{flag} needs a whole number, got {text!r}", source=_CMD, key=flag
-        ) from None
-    return k
-
-
-def _list(text: str | None, flag: str) -> list[float]:
-    """A comma list of numbers; an empty item (``,,11.3``) is an error, not skipped."""
-    if text is None or not str(text).strip():
-        return []
-    parts = str(text).split(",")
-    for k, part in enumerate(parts, start=1):
-        if not part.strip():
-            raise InputError(
-                f"{flag}: item {k} of the list {text!r} is empty; give numbers separated by "
-                "single commas",
-                source=_CMD,
-                key=flag,
-            )
-    return [_number(part, flag) for part in parts]
 
 
 def _settings(args: argparse.Namespace) -> dict:
