@@ -356,3 +356,54 @@ def test_report_cuts_no_text_and_shows_no_dict_in_a_browser(curve_fitted_report,
     proc = _chromium(f"--screenshot={shot}", curve_fitted_report.as_uri())
     assert proc.returncode == 0, proc.stderr[-2000:]
     assert shot.stat().st_size > 10_000 and shot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+_PINNED = """<script>
+(function () {
+  var out = [], boxes = document.querySelectorAll('.scroll');
+  for (var b = 0; b < boxes.length; b++) {
+    var box = boxes[b].getBoundingClientRect();
+    var notes = boxes[b].querySelectorAll('tr.flags .flag, tr.flags .excluded-reason');
+    for (var k = 0; k < notes.length; k++) {
+      var r = notes[k].getBoundingClientRect();
+      out.push({right: r.right, box_right: box.right, left: r.left, box_left: box.left,
+                table_wider: boxes[b].scrollWidth > boxes[b].clientWidth + 1});
+    }
+  }
+  var pre = document.createElement('pre');
+  pre.id = 'pinned-verdict';
+  pre.textContent = JSON.stringify(out);
+  document.body.appendChild(pre);
+})();
+</script>"""
+
+
+def test_a_file_messages_wrap_in_view_when_the_table_scrolls(tmp_path):
+    """A titration by additions adds three columns: the per-file table is wider than the
+    window and scrolls; each file's messages under its row must still wrap inside the
+    visible part of the box (before, they ran on behind the scroll edge)."""
+    if not CHROMIUM.exists():
+        pytest.skip("/usr/bin/chromium is not installed (apt-get install chromium)")
+    series = tmp_path / "s"
+    assert main([
+        "simulate", "--series", "--e-half", "-0.2", "--log-beta-ox=-5,10",
+        "--added-mL", "0,0.5,1,2,3", "--start-volume-mL", "10", "--metal-M", "1e-3",
+        "--ligand-stock-M", "0.1", "--noise", "0.003", "--seed", "2", "--out", str(series),
+    ]) == 0  # fmt: skip
+    assert main(["run", str(series / "series.toml"), "--out", str(tmp_path / "o"),
+                 "--quiet"]) == 0  # fmt: skip
+    page = (tmp_path / "o" / "report.html").read_text(encoding="utf-8")
+    copy = tmp_path / "measured.html"
+    copy.write_text(
+        page.replace("style-src 'unsafe-inline'",
+                     "style-src 'unsafe-inline'; script-src 'unsafe-inline'")
+        .replace("</body>", _PINNED + "</body>"),
+        encoding="utf-8",
+    )  # fmt: skip
+    proc = _chromium("--dump-dom", copy.as_uri())
+    found = re.search(r'<pre id="pinned-verdict">(.*?)</pre>', proc.stdout, re.S)
+    assert found, proc.stderr[-2000:]
+    notes = json.loads(html.unescape(found.group(1)))
+    assert notes and any(n["table_wider"] for n in notes)  # the case the test is about
+    for n in notes:
+        assert n["box_left"] - 1 <= n["left"] and n["right"] <= n["box_right"] + 1, n
