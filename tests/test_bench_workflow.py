@@ -139,3 +139,33 @@ def test_a_files_table_with_volumes_gives_the_same_solutions(bench, tmp_path):
     assert metals == pytest.approx([METAL_M * START_ML / (START_ML + a) for a in ADDED_ML])
     ratio = data["fit"]["log10_beta_ratio"]
     assert ratio["ci95"][0] <= TRUE_LOG10_RATIO <= ratio["ci95"][1]
+
+
+def test_init_on_numbered_additions_then_the_volumes_filled_in(bench, tmp_path, capsys):
+    """The same exports named by addition number (add_1 … add_6): `cvfit init` leaves each
+    volume to fill in, the chemist writes the pipetted volumes from the lab book, and the
+    run gives the constants."""
+    folder = tmp_path / "numbered"
+    folder.mkdir()
+    for k, added in enumerate(ADDED_ML, start=1):
+        (folder / f"tazine_add_{k}.csv").write_bytes(
+            (bench / f"tazine_{added:g}mL.csv").read_bytes()
+        )
+    assert main(["init", str(folder)]) == 0
+    text = (folder / "series.toml").read_text(encoding="utf-8")
+    assert text.count('added_mL = "FILL IN"') == len(ADDED_ML)
+    capsys.readouterr()
+    assert main(["run", str(folder / "series.toml"), "--out", str(tmp_path / "o1")]) == 2
+    assert f"{4 + len(ADDED_ML)} value(s) still" in capsys.readouterr().err
+    text = _filled(text)
+    for added in ADDED_ML:  # in file order, as the lab book lists them
+        text = text.replace('added_mL = "FILL IN"', f"added_mL = {added}", 1)
+    (folder / "series.toml").write_text(text, encoding="utf-8")
+    out = tmp_path / "o2"
+    assert main(["run", str(folder / "series.toml"), "--out", str(out), "--quiet"]) == 0
+    data = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    ratio, dl = data["fit"]["log10_beta_ratio"], data["fit"]["delta_ligands"]
+    assert ratio["ci95"][0] <= TRUE_LOG10_RATIO <= ratio["ci95"][1]
+    assert dl["ci95"][0] <= TRUE_DELTA_LIGANDS <= dl["ci95"][1]
+    metals = [v["metal_M"] for v in data["voltammograms"]]
+    assert metals == pytest.approx([METAL_M * START_ML / (START_ML + a) for a in ADDED_ML])
