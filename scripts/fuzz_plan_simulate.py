@@ -309,7 +309,8 @@ def interrupted_runs(root: Path, timeout: float, rounds: int = 16) -> tuple[list
             continue
         time.sleep(0.5)  # the workers see their parent gone within PARENT_POLL_S
         lines = err.splitlines()
-        staging = [q.name for q in folder.iterdir() if ".cvfit-" in q.name]
+        # this round's leftovers only (one left by an earlier round is counted there)
+        staging = [q.name for q in folder.iterdir() if q.name.startswith(f".{out.name}.cvfit-")]
         if p.returncode == 0:
             continue  # finished while the signal came
         if p.returncode != 130 or len(lines) != 1 or "Traceback" in err or staging:

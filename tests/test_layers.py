@@ -30,6 +30,7 @@ RANKS = {
     "voltammogram": 0,
     "version": 0,
     "formatting": 0,
+    "interrupts": 0,
     "record_json": 0,
     "data": 0,
     "chemistry": 1,

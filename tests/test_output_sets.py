@@ -325,3 +325,57 @@ def test_every_optional_figure_is_an_output_name_and_a_rerun_is_accepted(tmp_pat
     for _ in range(2):
         assert main(["run", str(demo), "--out", str(out), "--quiet"]) == 0
     assert (out / CURVE_FITS_FIGURE).is_file()
+
+
+@pytest.fixture
+def ctrl_c_raises():
+    """SIGINT as a terminal gives it (an xdist worker may have it ignored)."""
+    import signal
+
+    previous = signal.signal(signal.SIGINT, signal.default_int_handler)
+    yield
+    signal.signal(signal.SIGINT, previous)
+
+
+def test_ctrl_c_while_the_lock_is_taken_leaves_no_lock_file(tmp_path, monkeypatch, ctrl_c_raises):
+    """CI once found the hidden lock file of an interrupted run left beside its folder: a
+    Ctrl-C that lands between creating the lock file and owning it. It is now raised after
+    the lock is taken and removed again."""
+    import os
+    import signal
+
+    from cvfit.report import atomic
+
+    real = atomic._try_lock
+
+    def interrupted_inside(path):
+        fd = real(path)
+        os.kill(os.getpid(), signal.SIGINT)  # the Ctrl-C lands right after the lock
+        return fd
+
+    monkeypatch.setattr(atomic, "_try_lock", interrupted_inside)
+    target = tmp_path / "out"
+    with pytest.raises(KeyboardInterrupt), atomic.folder_lock(target):
+        pytest.fail("the block must not run after the Ctrl-C")
+    assert [p.name for p in tmp_path.iterdir()] == []
+
+
+def test_ctrl_c_while_the_lock_is_removed_leaves_no_lock_file(
+    tmp_path, monkeypatch, ctrl_c_raises
+):
+    import os
+    import signal
+
+    from cvfit.report import atomic
+
+    real_unlink = os.unlink
+
+    def interrupted_unlink(path, *a, **k):
+        os.kill(os.getpid(), signal.SIGINT)  # the Ctrl-C lands as the lock is removed
+        return real_unlink(path, *a, **k)
+
+    target = tmp_path / "out"
+    with pytest.raises(KeyboardInterrupt), atomic.folder_lock(target):
+        monkeypatch.setattr(atomic.os, "unlink", interrupted_unlink)
+    monkeypatch.undo()
+    assert [p.name for p in tmp_path.iterdir()] == []

@@ -15,12 +15,13 @@ from __future__ import annotations
 
 import contextlib
 import os
-import signal
 import threading
 import time
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Iterable
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 from typing import Any, TypeVar
+
+from cvfit.interrupts import interrupt_held_back
 
 __all__ = [
     "available_cpus",
@@ -77,33 +78,6 @@ def new_process_pool(workers: int) -> ProcessPoolExecutor:
     )
 
 
-@contextlib.contextmanager
-def _interrupt_held_back() -> Iterator[Callable[[], bool]]:
-    """Within the block SIGINT only sets a flag, which the yielded function reads; a block
-    that ends normally with the flag up raises KeyboardInterrupt.
-
-    Outside the main thread, or where SIGINT is ignored, nothing changes (the flag stays
-    down). Worker processes forked in the block inherit the handler: it sets a flag nobody
-    reads, so a terminal's Ctrl-C, which reaches every process, leaves them to finish or be
-    cancelled by the parent.
-    """
-    if threading.current_thread() is not threading.main_thread():
-        yield lambda: False
-        return
-    previous = signal.getsignal(signal.SIGINT)
-    if previous in (signal.SIG_IGN, None):
-        yield lambda: False
-        return
-    hit = threading.Event()
-    signal.signal(signal.SIGINT, lambda signum, frame: hit.set())
-    try:
-        yield hit.is_set
-    finally:
-        signal.signal(signal.SIGINT, previous)
-    if hit.is_set():  # a Ctrl-C after the block's last look at the flag is not lost
-        raise KeyboardInterrupt
-
-
 def results_in_order(
     call: Callable[[Any], T],
     items: Iterable[Any],
@@ -119,7 +93,7 @@ def results_in_order(
     would meet). Ctrl-C cancels every task not started, lets the running ones finish and
     raises KeyboardInterrupt.
     """
-    with _interrupt_held_back() as interrupted, new_process_pool(workers) as pool:
+    with interrupt_held_back() as interrupted, new_process_pool(workers) as pool:
         futures: list[Future[T]] = [pool.submit(call, x) for x in items]
         try:
             order = {fut: k for k, fut in enumerate(futures)}

@@ -24,6 +24,7 @@ from pathlib import Path
 from typing import IO
 
 from cvfit.errors import OutputError
+from cvfit.interrupts import interrupt_held_back
 from cvfit.report.ownership import (
     EarlierSet,
     check_output_folder,
@@ -153,7 +154,10 @@ def folder_lock(target: str | Path, *, wait_s: float | None = None) -> Iterator[
     path = _lock_path(target)
     wait = LOCK_WAIT_S if wait_s is None else wait_s
     deadline = time.monotonic() + wait
-    while (fd := _try_lock(path)) is None:
+    while True:
+        fd = _lock_held_back(path)
+        if fd is not None:
+            break
         if time.monotonic() >= deadline:
             raise OutputError(
                 str(target),
@@ -164,8 +168,29 @@ def folder_lock(target: str | Path, *, wait_s: float | None = None) -> Iterator[
     try:
         yield
     finally:
+        _unlock(path, fd)
+
+
+def _lock_held_back(path: Path) -> int | None:
+    """:func:`_try_lock` that a Ctrl-C cannot cut in two: one coming while the lock file is
+    created and locked is raised after it, once the lock is removed again."""
+    fd = None
+    try:
+        with interrupt_held_back():
+            fd = _try_lock(path)
+    except KeyboardInterrupt:
+        if fd is not None:
+            _unlock(path, fd)
+        raise
+    return fd
+
+
+def _unlock(path: Path, fd: int) -> None:
+    """Remove the lock file, then release it (a waiter then sees a new file); a Ctrl-C
+    meanwhile is raised after both."""
+    with interrupt_held_back():
         with contextlib.suppress(OSError):
-            os.unlink(path)  # before the lock is released: a waiter then sees a new file
+            os.unlink(path)
         os.close(fd)
 
 
