@@ -121,6 +121,13 @@ class InputError(CvfitError, ValueError):
         return f"{where}: {self.message}"
 
     @classmethod
+    def from_simulation(cls, exc: Exception, *, key: str | None = None) -> InputError:
+        """The simulator's refusal (a :class:`SimulationError`) as a command-line error,
+        with the way out when the files it would write exist (``--force``)."""
+        hint = "; use --force to replace" if "exists" in str(exc) else ""
+        return cls(f"{exc}{hint}", source="<command line>", key=key)
+
+    @classmethod
     def from_path_error(cls, exc: OSError) -> InputError | None:
         """The :class:`InputError` for a system error of a path given by the user — a name
         too long for the file system, a symbolic link loop — or None for any other error.

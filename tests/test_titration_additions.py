@@ -318,3 +318,15 @@ def test_simulate_refuses_addition_options_that_clash(tmp_path, capsys, extra, k
     err = capsys.readouterr().err
     assert code == 2 and err.count("\n") == 1 and key in err
     assert not (tmp_path / "s").exists()
+
+
+def test_simulating_into_existing_files_says_how_to_replace_them(tmp_path, capsys):
+    argv = ["simulate", "--series", "--e-half", "-0.2", "--log-beta-ox=-5,10",
+            "--added-mL", "0,1,2,3", "--start-volume-mL", "10", "--metal-M", "1e-3",
+            "--ligand-stock-M", "0.1", "--out", str(tmp_path / "s")]  # fmt: skip
+    assert main(argv) == 0
+    capsys.readouterr()
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "use --force to replace" in err
+    assert main([*argv, "--force"]) == 0

@@ -125,8 +125,7 @@ def handle(args: argparse.Namespace) -> int:
         try:
             manifest = simulate_plan(result, sim, overwrite=bool(args.force))
         except SimulationError as exc:
-            hint = "; use --force to replace" if "exists" in str(exc) else ""
-            raise InputError(f"{exc}{hint}", source=_CMD, key="--simulate") from None
+            raise InputError.from_simulation(exc, key="--simulate") from None
         sys.stdout.write(f"simulated series written to {manifest} (try: cvfit run {manifest})\n")
     return 0
 

@@ -65,7 +65,6 @@ def handle_variable_plan(
         try:
             manifest = simulate_variable_plan(plan, sim, overwrite=bool(args.force))
         except SimulationError as exc:
-            hint = "; use --force to replace" if "exists" in str(exc) else ""
-            raise InputError(f"{exc}{hint}", source=_CMD, key="--simulate") from None
+            raise InputError.from_simulation(exc, key="--simulate") from None
         sys.stdout.write(f"simulated series written to {manifest} (try: cvfit run {manifest})\n")
     return 0

@@ -481,7 +481,7 @@ def _handle_series(args, E_half, settings, noise, seed, out: Path) -> int:
             **settings,
         )
     except SimulationError as exc:
-        raise _refused(exc) from None
+        raise InputError.from_simulation(exc) from None
     except OSError as exc:
         raise OutputError.from_os_error(exc, str(out)) from None
     sys.stdout.write(
@@ -538,7 +538,7 @@ def _handle_standard_series(
             **settings,
         )
     except SimulationError as exc:
-        raise _refused(exc) from None
+        raise InputError.from_simulation(exc) from None
     except OSError as exc:
         raise OutputError.from_os_error(exc, str(out)) from None
     sys.stdout.write(
@@ -547,10 +547,3 @@ def _handle_standard_series(
         f"{1e3 * max(series.drift_V):+.2f} mV\n"
     )
     return 0
-
-
-def _refused(exc: SimulationError) -> InputError:
-    """The simulator's refusal of a series as a command-line error (with the way out when
-    the files exist)."""
-    hint = "; use --force to replace" if "exists" in str(exc) else ""
-    return InputError(f"{exc}{hint}", source=_CMD)

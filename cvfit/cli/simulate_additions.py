@@ -112,7 +112,7 @@ def handle_additions(
             switch_V=switch if len(switch) > 1 else switch[0], **settings,
         )  # fmt: skip
     except SimulationError as exc:
-        raise InputError(str(exc), source=_CMD) from None
+        raise InputError.from_simulation(exc) from None
     except OSError as exc:
         raise OutputError.from_os_error(exc, str(out)) from None
     first, last = solutions[0].dilution, solutions[-1].dilution

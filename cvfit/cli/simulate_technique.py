@@ -304,8 +304,7 @@ def _write_series(args, technique, E_half, ligands, beta_ox, beta_red, window, p
             seed=seed, overwrite=bool(args.force), **couple,
         )  # fmt: skip
     except SimulationError as exc:
-        hint = "; use --force to replace" if "exists" in str(exc) else ""
-        raise InputError(f"{exc}{hint}", source=_CMD) from None
+        raise InputError.from_simulation(exc) from None
     except OSError as exc:
         raise OutputError.from_os_error(exc, str(out)) from None
     sys.stdout.write(

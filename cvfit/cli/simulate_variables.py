@@ -109,8 +109,7 @@ def handle_variable_series(
             )  # fmt: skip
             what = f"{min(values):g}–{max(values):g} °C, ΔS°rc = {entropy:g} J/(mol K)"
     except SimulationError as exc:
-        hint = "; use --force to replace" if "exists" in str(exc) else ""
-        raise InputError(f"{exc}{hint}", source=_CMD) from None
+        raise InputError.from_simulation(exc) from None
     sys.stdout.write(f"wrote {manifest} and {len(values)} voltammograms: {what}\n")
     return 0
 
