@@ -52,6 +52,12 @@ TitrationFit: TypeAlias = "LinganeFit | StepwiseFit | ProtonFit | TemperatureFit
 InternalStandardResult = StandardMeasurement
 
 
+#: A solution's own total metal, the volume in the cell and the stock added (a titration
+#: by additions): fields of :class:`FileResult`, keys of its results.json record (written
+#: only when known), and the per-file tables' columns.
+SOLUTION_FIELDS = ("metal_M", "volume_mL", "added_mL")
+
+
 @dataclass(frozen=True)
 class FileResult:
     """Everything found for one file of the series.
@@ -202,9 +208,7 @@ class FileResult:
         keys = {
             "pH": self.pH,
             "temperature_K": self.temperature_K,
-            "metal_M": self.metal_M,
-            "volume_mL": self.volume_mL,
-            "added_mL": self.added_mL,
+            **{k: getattr(self, k) for k in SOLUTION_FIELDS},
         }
         return {k: float(v) for k, v in keys.items() if v is not None}
 

@@ -6,13 +6,12 @@ import csv
 from pathlib import Path
 from typing import IO
 
-from cvfit.pipeline.results import FileResult, SeriesResult
+from cvfit.pipeline.results import SOLUTION_FIELDS, FileResult, SeriesResult
 from cvfit.report.atomic import atomic_write_with
 
 __all__ = [
     "GENERIC_HEAD",
     "GENERIC_TAIL",
-    "SOLUTION_COLUMNS",
     "FORMULA_STARTS",
     "table_columns",
     "text_cell",
@@ -30,9 +29,6 @@ GENERIC_HEAD = (
     "E_half_stderr_V",
     "E_half_source",
 )
-#: Each solution's own metal, volume and stock added: columns only when a file gives its
-#: metal or the series is a titration by additions.
-SOLUTION_COLUMNS = ("metal_M", "volume_mL", "added_mL")
 #: The internal standard's columns (empty cells without a standard), then the verdicts.
 GENERIC_TAIL = (
     "standard_E_half_V",
@@ -54,7 +50,7 @@ def table_columns(result: SeriesResult) -> tuple[str, ...]:
     head: tuple[str, ...] = GENERIC_HEAD
     if any(f.metal_M is not None for f in result.files):
         at = head.index("free_ligand_M") + 1
-        head = (*head[:at], *SOLUTION_COLUMNS, *head[at:])
+        head = (*head[:at], *SOLUTION_FIELDS, *head[at:])
     return (*head, *own, *GENERIC_TAIL)
 
 
@@ -66,9 +62,7 @@ def _row(f: FileResult) -> dict[str, object]:
         "label": f.label,
         "ligand_M": f.ligand_M,
         "free_ligand_M": f.free_ligand_M,
-        "metal_M": f.metal_M,
-        "volume_mL": f.volume_mL,
-        "added_mL": f.added_mL,
+        **{k: getattr(f, k) for k in SOLUTION_FIELDS},
         "scan_rate_V_s": f.scan_rate_V_s,
         "E_half_V": f.E_half_V,
         "E_half_stderr_V": f.E_half_total_stderr_V,

@@ -17,6 +17,7 @@ from typing import Any
 
 from cvfit.flag_codes import FLAG_CODES
 from cvfit.formatting import additions_text, format_pm, format_value
+from cvfit.pipeline.results import SOLUTION_FIELDS
 from cvfit.record_json import record_json
 from cvfit.report.figures.registry import FIGURES
 from cvfit.report.methods_text import ASSUMPTIONS, METHOD_STEPS
@@ -252,17 +253,12 @@ def shown_manifest(manifest: object, folder: str | Path | None) -> str:
 
 #: Generic keys of a file record the per-file table shows in its fixed columns (the
 #: technique adds its own, :attr:`Technique.report_columns`).
-#: A solution's own metal and volume (a titration by additions): shown beside [L], and
-#: dropped with the other columns empty in every row when the series has none.
-SOLUTION_KEYS = ("metal_M", "volume_mL", "added_mL")
-
-
 _FILE_COLUMNS = (
     "file",
     "label",
     "ligand_M",
     "free_ligand_M",
-    *SOLUTION_KEYS,
+    *SOLUTION_FIELDS,  # a solution's own metal and volume, beside [L]
     "scan_rate_V_s",
     "E_half_V",
     "E_half_stderr_V",
@@ -348,7 +344,7 @@ def file_table_view(files: Sequence[Mapping[str, Any]], technique: str = "cv") -
         "file",
         "[L] / mol L⁻¹",
         "free [L] / mol L⁻¹",
-        *(EXTRA_HEADERS[k] for k in SOLUTION_KEYS),
+        *(EXTRA_HEADERS[k] for k in SOLUTION_FIELDS),
         "v / V s⁻¹",
         "E½ / mV",
         *(head for head, _, _, _ in own_columns),
@@ -362,7 +358,7 @@ def file_table_view(files: Sequence[Mapping[str, Any]], technique: str = "cv") -
         cells = [
             _number(f.get("ligand_M")),
             _number(f.get("free_ligand_M")),
-            *(_number(f.get(k)) for k in SOLUTION_KEYS),
+            *(_number(f.get(k)) for k in SOLUTION_FIELDS),
             _number(f.get("scan_rate_V_s")),
             format_pm(f.get("E_half_V"), f.get("E_half_stderr_V"), scale=1e3),
             *(
